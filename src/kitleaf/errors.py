@@ -1,0 +1,76 @@
+"""The error hierarchy: one base class, one subclass per pipeline stage, each carrying its source.
+
+A user error prints as one line, ``path:line: error: message``; the CLI turns any
+:class:`KitleafError` into that line and exit code 1, never a traceback.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class SourceSpan:
+    """Where something came from in a guide: the file and a 1-based line."""
+
+    path: str
+    line: int
+
+    def __str__(self) -> str:
+        return f"{self.path}:{self.line}"
+
+
+class KitleafError(Exception):
+    """Base of every error a user can cause; carries the guide location when known."""
+
+    kind = "error"
+
+    def __init__(self, message: str, span: SourceSpan | None = None) -> None:
+        super().__init__(message)
+        self.message = message
+        self.span = span
+
+    def __str__(self) -> str:
+        where = f"{self.span}: " if self.span else ""
+        return f"{where}{self.kind}: {self.message}"
+
+    def __reduce__(self):  # picklable across the build's process pool
+        return (self.__class__, (self.message, self.span))
+
+    def located(self, span: SourceSpan) -> KitleafError:
+        """The same error, placed at ``span`` if it has no location yet."""
+        if self.span is not None:
+            return self
+        return self.__class__(self.message, span)
+
+
+class ValueFormatError(KitleafError):
+    """A part value, tolerance or rating that cannot be read."""
+
+
+class GuideError(KitleafError):
+    """A guide's Markdown or one of its blocks is malformed."""
+
+
+class CircuitError(KitleafError):
+    """The parts of a stage do not make a circuit (missing role, wrong part type, unknown kind)."""
+
+
+class ModelError(KitleafError):
+    """An unknown device model or an invalid element value."""
+
+
+class SolveError(KitleafError):
+    """The engine could not find a trustworthy answer (singular circuit, no convergence)."""
+
+
+class SpecError(KitleafError):
+    """A claim the guide states does not hold, or a reference to a value that does not exist."""
+
+
+class RenderError(KitleafError):
+    """A theme template or drawing failed."""
+
+
+class BuildError(KitleafError):
+    """The site could not be written."""

@@ -1,0 +1,1 @@
+"""Themes shipped with kitleaf; `default` is the packaged theme a site's own themes override."""
