@@ -1,0 +1,56 @@
+"""Parts as the circuit model knows them: a designator, a type, an SI value and its attributes."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Mapping
+
+from kitleaf.errors import SourceSpan
+
+# Part types and the SI quantity their value is in (None: named by a device model instead).
+PART_QUANTITY: Mapping[str, str | None] = MappingProxyType(
+    {
+        "resistor": "resistance",
+        "capacitor": "capacitance",
+        "inductor": "inductance",
+        "pot": "resistance",
+        "diode": None,
+        "led": None,
+        "bjt": None,
+        "jfet": None,
+        "opamp": None,
+        "hardware": None,
+    }
+)
+
+
+@dataclass(frozen=True)
+class Part:
+    """One part of a stage, or one piece of off-board hardware from the kit block.
+
+    ``value`` is SI (ohms, farads, henries) for passives and None for semiconductors, which
+    are named by ``model`` instead. ``tolerance`` is a fraction (0.05 for 5 %). ``rating`` is the
+    stated voltage rating of a capacitor in volts or the power rating of a resistor in watts.
+    ``attrs`` keeps every other word written on the part line (dielectric, taper, package...).
+    """
+
+    designator: str
+    type: str
+    text: str
+    span: SourceSpan
+    value: float | None = None
+    model: str | None = None
+    tolerance: float | None = None
+    rating: float | None = None
+    attrs: Mapping[str, str] = field(default_factory=dict)
+    role: str = ""
+    stage_id: str = ""
+
+    @property
+    def dielectric(self) -> str | None:
+        return self.attrs.get("dielectric")
+
+    @property
+    def polarised(self) -> bool:
+        return self.type in ("diode", "led") or self.dielectric in ("electrolytic", "tantalum")
