@@ -1,0 +1,110 @@
+"""build_circuit: a parsed guide in, the kit's :class:`KitCircuit` out."""
+
+from __future__ import annotations
+
+from kitleaf.circuit.chain import DEFAULT_LOAD, LOW_Z, PICKUP, KitCircuit, KnobRef, SignalSource
+from kitleaf.circuit.kind import Stage
+from kitleaf.circuit.parts import Part
+from kitleaf.circuit.resolve import resolve_stage
+from kitleaf.circuit.stages import KINDS
+from kitleaf.errors import CircuitError, KitleafError
+from kitleaf.guide.model import Entry, Guide
+from kitleaf.values import parse_value
+
+
+def build_circuit(guide: Guide) -> KitCircuit:
+    """Resolve every stage of ``guide`` and check the kit holds together as one circuit."""
+    stages = _in_order(guide, [resolve_stage(b) for b in guide.stages])
+    hardware = tuple(Part(h.designator, "hardware", h.description, h.span)
+                     for h in guide.kit.hardware)
+    _check_designators(stages, hardware)
+    _check_power(stages)
+    return KitCircuit(
+        stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
+        source=_source(guide.kit.source), load=_load(guide.kit.load),
+        supply_v=_volts(guide.kit.supply, guide.kit.span),
+    )
+
+
+def _in_order(guide: Guide, stages: list[Stage]) -> list[Stage]:
+    if not stages:
+        raise CircuitError("the guide has no stage blocks; add one, like ```stage boost",
+                           guide.kit.span)
+    order = guide.kit.order
+    if order is None:
+        return stages
+    by_id = {s.id: s for s in stages}
+    ids = [w.strip() for w in order.value.split(",") if w.strip()]
+    unknown = [i for i in ids if i not in by_id]
+    if unknown or sorted(ids) != sorted(by_id):
+        raise CircuitError(
+            f"'order:' must list every stage id once ({', '.join(sorted(by_id))})"
+            + (f"; there is no stage '{unknown[0]}'" if unknown else ""),
+            order.span,
+        )
+    return [by_id[i] for i in ids]
+
+
+def _check_designators(stages: list[Stage], hardware: tuple[Part, ...]) -> None:
+    seen: dict[str, Part] = {}
+    for part in [p for s in stages for p in s.all_parts()] + list(hardware):
+        if part.designator in seen:
+            first = seen[part.designator]
+            raise CircuitError(
+                f"designator {part.designator} is used twice (first at line {first.span.line}"
+                f"{', stage ' + repr(first.stage_id) if first.stage_id else ''}); "
+                "give each part its own designator",
+                part.span,
+            )
+        seen[part.designator] = part
+
+
+def _check_power(stages: list[Stage]) -> None:
+    has_reference = any(KINDS[s.kind].provides_power for s in stages)
+    for stage in stages:
+        if KINDS[stage.kind].needs_reference and not has_reference:
+            raise CircuitError(
+                f"stage '{stage.id}' ({stage.kind}) needs the mid-rail reference; add a power "
+                "stage with a reference divider",
+                stage.span,
+            )
+
+
+def _knobs(guide: Guide, stages: list[Stage]) -> tuple[KnobRef, ...]:
+    pots = {p.designator: p for s in stages for p in s.all_parts() if p.type == "pot"}
+    knobs = []
+    for knob in guide.kit.knobs:
+        if knob.designator not in pots:
+            raise CircuitError(
+                f"knob '{knob.name}' turns {knob.designator}, but no stage has a pot "
+                f"{knob.designator}; pots: {', '.join(sorted(pots)) or 'none'}",
+                knob.span,
+            )
+        knobs.append(KnobRef(knob.name, knob.designator, pots[knob.designator].stage_id))
+    return tuple(knobs)
+
+
+def _source(entry: Entry | None) -> SignalSource:
+    if entry is None or entry.value.strip().lower() == "pickup":
+        return PICKUP
+    if entry.value.strip().lower() == "low-z":
+        return LOW_Z
+    ohms = _quantity(entry, "resistance", "'pickup', 'low-z' or a resistance such as 10k")
+    return SignalSource(f"{entry.value.strip()} source", ohms)
+
+
+def _load(entry: Entry | None) -> float:
+    if entry is None:
+        return DEFAULT_LOAD
+    return _quantity(entry, "resistance", "a resistance such as 1M")
+
+
+def _quantity(entry: Entry, quantity: str, expected: str) -> float:
+    try:
+        return parse_value(entry.value.strip(), quantity)
+    except KitleafError as exc:
+        raise CircuitError(f"'{entry.key}:' {exc.message}; expected {expected}", entry.span) from None
+
+
+def _volts(text: str, span) -> float:
+    return _quantity(Entry("supply", text, span), "voltage", "a voltage such as 9 V")

@@ -1,0 +1,162 @@
+"""The circuit model of a whole kit: stages in chain order between a signal source and a load."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from types import MappingProxyType
+from typing import Mapping
+
+from kitleaf.circuit.kind import Stage, StageKind
+from kitleaf.circuit.parts import Part
+from kitleaf.circuit.stages import KINDS
+from kitleaf.engine import Circuit
+
+GROUND = "0"
+SUPPLY = "supply"  # the battery or adapter terminal, before any protection
+INPUT = "input"  # the kit's input jack
+OUTPUT = "output"  # the kit's output jack
+SOURCE = "VIN"  # the engine's name for the signal source
+
+
+@dataclass(frozen=True)
+class SignalSource:
+    """What drives the kit's input: a guitar pickup or a source of some resistance.
+
+    The default pickup is a series resistance and inductance with a parallel capacitance
+    (pickup plus a few metres of cable): 6.5 kΩ, 2.5 H, 470 pF (common practice, values from
+    memory, no source).
+    """
+
+    name: str
+    resistance: float
+    inductance: float = 0.0
+    capacitance: float = 0.0
+
+    @property
+    def is_pickup(self) -> bool:
+        return self.inductance > 0
+
+
+PICKUP = SignalSource("passive guitar pickup", 6.5e3, 2.5, 470e-12)
+LOW_Z = SignalSource("low-impedance source", 100.0)
+DEFAULT_LOAD = 1e6  # an amplifier input (common practice, no source)
+
+
+@dataclass(frozen=True)
+class KnobRef:
+    """A knob of the kit: its name, its pot and the stage the pot sits in."""
+
+    name: str
+    designator: str
+    stage_id: str
+
+
+class Wiring:
+    """What a stage kind uses to add its parts to the engine circuit, in local node names."""
+
+    def __init__(self, circuit: Circuit, stage: Stage, nodes: Mapping[str, str],
+                 positions: Mapping[str, float]) -> None:
+        self.circuit = circuit
+        self.stage = stage
+        self._nodes = nodes
+        self._positions = positions
+
+    def node(self, local: str) -> str:
+        """The circuit node for a local name; private names get the stage id as prefix."""
+        return self._nodes.get(local) or f"{self.stage.id}.{local}"
+
+    def position(self, designator: str) -> float:
+        return self._positions.get(designator, 0.5)
+
+    def place(self, part: Part | None, *nodes: str) -> None:
+        """Add ``part`` between the local ``nodes`` (in the part type's pin order)."""
+        if part is None:
+            return
+        names = [self.node(n) for n in nodes]
+        c, d = self.circuit, part.designator
+        tol = part.tolerance or 0.0
+        if part.type == "resistor":
+            c.resistor(d, *names, part.value, tol=tol)
+        elif part.type == "capacitor":
+            c.capacitor(d, *names, part.value, tol=tol)
+        elif part.type == "inductor":
+            c.inductor(d, *names, part.value, tol=tol)
+        elif part.type == "pot":
+            c.pot(d, *names, part.value, position=self.position(d),
+                  taper=part.attrs["taper"], tol=tol)
+        else:
+            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.model)
+
+    def internal(self, method: str, name: str, *nodes: str, **kwargs) -> None:
+        """Add an element that is not a part (an ideal source, say), named within the stage."""
+        getattr(self.circuit, method)(f"{self.stage.id}.{name}", *map(self.node, nodes), **kwargs)
+
+
+_DEVICE_METHOD = {"diode": "diode", "led": "diode", "bjt": "bjt", "jfet": "jfet", "opamp": "opamp"}
+
+
+@dataclass(frozen=True)
+class KitCircuit:
+    """Every stage of a kit resolved, with what the chain needs to build engine circuits."""
+
+    stages: tuple[Stage, ...]
+    hardware: tuple[Part, ...]
+    knobs: tuple[KnobRef, ...]
+    source: SignalSource
+    load: float
+    supply_v: float
+
+    def kind(self, stage: Stage) -> StageKind:
+        return KINDS[stage.kind]
+
+    @property
+    def signal_stages(self) -> tuple[Stage, ...]:
+        return tuple(s for s in self.stages if KINDS[s.kind].signal)
+
+    @property
+    def has_power_stage(self) -> bool:
+        return any(KINDS[s.kind].provides_power for s in self.stages)
+
+    def parts(self) -> tuple[Part, ...]:
+        """Every part on the board, then the off-board hardware."""
+        return tuple(p for s in self.stages for p in s.all_parts()) + self.hardware
+
+    def stage_nodes(self, stage_id: str) -> tuple[str, str]:
+        """The circuit nodes of a signal stage's input and output."""
+        chain = self.signal_stages
+        ids = [s.id for s in chain]
+        i = ids.index(stage_id)
+        first = INPUT if i == 0 else f"{ids[i - 1]}.out"
+        last = OUTPUT if i == len(ids) - 1 else f"{stage_id}.out"
+        return first, last
+
+    def netlist(self, positions: Mapping[str, float] | None = None,
+                supply_v: float | None = None) -> Circuit:
+        """A fresh engine circuit of the whole kit at the given knob positions and supply."""
+        positions = MappingProxyType(dict(positions or {}))
+        circuit = Circuit()
+        circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=self.supply_v if supply_v is None else supply_v)
+        add_source(circuit, self.source)
+        for stage in self.stages:
+            KINDS[stage.kind].build(stage, Wiring(circuit, stage, self._nodes(stage), positions))
+        circuit.resistor("RLOAD", OUTPUT, GROUND, self.load)
+        return circuit
+
+    def _nodes(self, stage: Stage) -> dict[str, str]:
+        rails = {"0": GROUND, "vcc": "vcc" if self.has_power_stage else SUPPLY,
+                 "vref": "vref", "supply": SUPPLY}
+        if KINDS[stage.kind].signal:
+            rails["in"], rails["out"] = self.stage_nodes(stage.id)
+        return rails
+
+
+def add_source(circuit: Circuit, source: SignalSource) -> None:
+    """The signal source: an AC generator behind the source's own impedance."""
+    if source.is_pickup:
+        circuit.vsource(SOURCE, "src", GROUND, dc=0.0, ac=1.0)
+        circuit.resistor("RSRC", "src", "src.l", source.resistance)
+        circuit.inductor("LSRC", "src.l", INPUT, source.inductance)
+        circuit.capacitor("CSRC", INPUT, GROUND, source.capacitance)
+    else:
+        circuit.vsource(SOURCE, "src", GROUND, dc=0.0, ac=1.0)
+        circuit.resistor("RSRC", "src", INPUT, source.resistance)

@@ -1,0 +1,106 @@
+"""What a stage kind is: its roles, options, wiring into the engine, test points and drawing."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, ClassVar, Mapping
+
+from kitleaf.circuit.parts import Part
+from kitleaf.errors import SourceSpan
+
+if TYPE_CHECKING:  # the wiring context lives in chain.py, which imports this module
+    from kitleaf.circuit.chain import Wiring
+
+
+@dataclass(frozen=True)
+class Role:
+    """A job a part does in a stage kind, e.g. the collector resistor."""
+
+    name: str
+    part_types: tuple[str, ...]
+    required: bool = True
+    many: bool = False
+    help: str = ""
+
+
+@dataclass(frozen=True)
+class Option:
+    """A named choice a stage block can make, e.g. ``bypass: full``."""
+
+    name: str
+    choices: tuple[str, ...]
+    default: str
+    help: str = ""
+
+
+@dataclass(frozen=True)
+class TestPoint:
+    """A node a builder measures with a meter: its label, local node, device and pin."""
+
+    __test__ = False  # not a pytest class
+
+    label: str
+    node: str
+    device: str = ""
+    pin: str = ""
+
+
+@dataclass(frozen=True)
+class Stage:
+    """A stage block resolved against its kind: parts by role and the chosen options."""
+
+    id: str
+    kind: str
+    title: str
+    parts: Mapping[str, tuple[Part, ...]]
+    options: Mapping[str, str]
+    span: SourceSpan
+    extra: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+
+    def part(self, role: str) -> Part | None:
+        """The single part playing ``role``, or None if the optional role is empty."""
+        found = self.parts.get(role, ())
+        return found[0] if found else None
+
+    def all_parts(self) -> tuple[Part, ...]:
+        return tuple(p for group in self.parts.values() for p in group)
+
+
+class StageKind:
+    """Base of every stage kind; subclasses live one per module in ``kitleaf/circuit/stages``.
+
+    A kind is stateless: the methods receive the resolved :class:`Stage`.
+    Local node names ``in``, ``out``, ``vcc``, ``vref`` and ``0`` are the stage's connections
+    to the chain; every other local node name is private to the stage.
+    """
+
+    name: ClassVar[str] = ""
+    summary: ClassVar[str] = ""
+    roles: ClassVar[tuple[Role, ...]] = ()
+    options: ClassVar[tuple[Option, ...]] = ()
+    # Free-form keys the kind reads itself (the custom kind's netlist lines); kept in Stage.extra.
+    extra_keys: ClassVar[tuple[str, ...]] = ()
+    # False for stages off the signal path, such as the power section.
+    signal: ClassVar[bool] = True
+    # True for the stage that provides the supply rail and the mid-rail reference.
+    provides_power: ClassVar[bool] = False
+    needs_reference: ClassVar[bool] = False
+
+    def build(self, stage: Stage, wiring: Wiring) -> None:
+        """Add the stage's elements to the engine circuit through ``wiring``."""
+        raise NotImplementedError
+
+    def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
+        """The nodes a builder measures, pin by pin."""
+        return ()
+
+    def knob_roles(self) -> tuple[str, ...]:
+        """Roles whose pot is turned by the player (a knob), not set once on the bench."""
+        return ()
+
+    def draw(self, stage: Stage, sheet) -> None:
+        """Draw the stage on a schematic sheet from ``kitleaf.render.schematic``."""
+        raise NotImplementedError
+
+    def check(self, stage: Stage) -> None:
+        """Extra validation beyond roles and options; raise CircuitError naming the line."""

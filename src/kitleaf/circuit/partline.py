@@ -1,0 +1,125 @@
+"""Reading one part line, ``R3 10k 1% 0.25W``, into a :class:`Part` for the role it plays."""
+
+from __future__ import annotations
+
+import re
+import shlex
+from types import MappingProxyType
+
+from kitleaf.circuit.parts import PART_QUANTITY, Part
+from kitleaf.errors import CircuitError, KitleafError, SourceSpan
+from kitleaf.guide.model import Entry
+from kitleaf.values import parse_rating, parse_tolerance, parse_value
+
+# Designator prefixes of the trade (common practice, no source), longest first.
+PREFIX_TYPES = (
+    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp",)),
+    ("R", ("resistor",)), ("C", ("capacitor",)), ("L", ("inductor",)), ("P", ("pot",)),
+    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp",)),
+)
+EXAMPLES = {
+    "resistor": "R3 10k", "capacitor": "C2 100n film", "inductor": "L1 100mH",
+    "pot": "VR1 100k log", "diode": "D1 1N4148", "led": "LED1 red", "bjt": "Q1 2N3904",
+    "jfet": "Q1 J201", "opamp": "U1 TL072",
+}
+DIELECTRICS = {
+    "film", "polyester", "polypropylene", "ceramic", "c0g", "np0", "x7r", "mica",
+    "electrolytic", "tantalum",
+}
+TAPERS = {"lin": "lin", "log": "log", "rlog": "rlog"}
+# Pot value prefixes as marked on many pots: A audio (log), B linear, C reverse log.
+TAPER_LETTERS = {"A": "log", "B": "lin", "C": "rlog"}
+# Default tolerances where the line states none (common practice, no source).
+DEFAULT_TOLERANCE = {
+    "resistor": 0.05, "pot": 0.20, "inductor": 0.10,
+    "film": 0.05, "polyester": 0.05, "polypropylene": 0.05, "c0g": 0.05, "np0": 0.05,
+    "mica": 0.05, "ceramic": 0.10, "x7r": 0.10, "tantalum": 0.10, "electrolytic": 0.20,
+    "capacitor": 0.10,
+}
+_DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
+_KEYVALUE = re.compile(r"^([a-z][a-z0-9-]*)=(.+)$")
+
+
+def types_for_designator(designator: str) -> tuple[str, ...]:
+    for prefix, types in PREFIX_TYPES:
+        if designator.startswith(prefix):
+            return types
+    return ()
+
+
+def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
+    """The part written on ``entry`` for a role accepting ``accepted`` part types."""
+    try:
+        words = shlex.split(entry.value)
+    except ValueError:
+        raise CircuitError(f"{where}: unbalanced quotes in {entry.value!r}", entry.span) from None
+    if len(words) < 2 or not _DESIGNATOR.match(words[0]):
+        raise CircuitError(
+            f"{where}: cannot read {entry.value!r}; write a designator and a value, "
+            f"like '{EXAMPLES[accepted[0]]}'",
+            entry.span,
+        )
+    designator, value_text, rest = words[0], words[1], words[2:]
+    part_type = _choose_type(designator, accepted, entry.span, where)
+    try:
+        return _make_part(designator, part_type, value_text, rest, entry.span)
+    except KitleafError as exc:
+        raise CircuitError(f"{where}, {designator}: {exc.message}", entry.span) from None
+
+
+def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str) -> str:
+    by_prefix = types_for_designator(designator)
+    matching = [t for t in accepted if t in by_prefix]
+    if matching:
+        return matching[0]
+    wanted = " or ".join(accepted)
+    raise CircuitError(
+        f"{where} takes a {wanted}, but {designator} is "
+        f"{'a ' + by_prefix[0] if by_prefix else 'no known part type'} by its designator; "
+        f"write a {accepted[0]} such as '{EXAMPLES[accepted[0]]}'",
+        span,
+    )
+
+
+def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> Part:
+    attrs: dict[str, str] = {}
+    tolerance = rating = None
+    for word in rest:
+        tolerance, rating = _read_attribute(word, part_type, attrs, tolerance, rating)
+    quantity = PART_QUANTITY[part_type]
+    value = model = None
+    if part_type == "pot" and value_text[:1] in TAPER_LETTERS and len(value_text) > 1:
+        attrs.setdefault("taper", TAPER_LETTERS[value_text[0]])
+        value_text = value_text[1:]
+    if quantity is None:
+        model = value_text
+    else:
+        value = parse_value(value_text, quantity)
+    if part_type == "pot" and "taper" not in attrs:
+        raise CircuitError("a pot needs a taper: add 'lin', 'log' or 'rlog', or write A100k / B100k")
+    if tolerance is None and part_type in ("resistor", "pot", "inductor", "capacitor"):
+        tolerance = DEFAULT_TOLERANCE.get(attrs.get("dielectric", part_type), 0.10)
+    return Part(designator, part_type, value_text, span, value=value, model=model,
+                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs))
+
+
+def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):
+    low = word.lower()
+    if low.endswith("%"):
+        return parse_tolerance(word), rating
+    if low.endswith("v") and low[:1].isdigit():
+        return tolerance, parse_rating(word)
+    if low.endswith("w") and low[:1].isdigit():
+        return tolerance, parse_rating(word)
+    if low in DIELECTRICS and part_type == "capacitor":
+        attrs["dielectric"] = low
+    elif low in TAPERS and part_type == "pot":
+        attrs["taper"] = TAPERS[low]
+    elif (match := _KEYVALUE.match(word)) is not None:
+        attrs[match[1]] = match[2]
+    else:
+        raise CircuitError(
+            f"unknown attribute {word!r}; write a tolerance (1%), a rating (25V, 0.25W), "
+            "a dielectric (film, ceramic, electrolytic), a taper (lin, log) or key=value"
+        )
+    return tolerance, rating

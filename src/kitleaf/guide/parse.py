@@ -1,0 +1,139 @@
+"""Guide parsing: a Markdown file in, a :class:`Guide` with its kit and stage blocks out."""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from markdown_it import MarkdownIt
+
+from kitleaf.errors import GuideError, SourceSpan
+from kitleaf.guide.blocks import make_block, require_single
+from kitleaf.guide.model import Block, Guide, HardwareLine, KitBlock, Knob, StageBlock
+
+KIT_KEYS = {
+    "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
+    "source", "load", "order", "battery", "battery-life",
+}
+_ID = re.compile(r"^[a-z][a-z0-9-]*$")
+_DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
+
+
+def markdown_parser() -> MarkdownIt:
+    """The one Markdown configuration: CommonMark with tables, raw HTML off."""
+    return MarkdownIt("commonmark", {"html": False}).enable("table")
+
+
+def parse_guide(path: str | Path, text: str | None = None) -> Guide:
+    """Parse one guide file; raises :class:`GuideError` at the first malformed block."""
+    path = Path(path)
+    shown = str(path)
+    if text is None:
+        text = read_text(path)
+    blocks = list(find_blocks(text, shown))
+    kits = [b for b in blocks if b.name == "kit"]
+    if not kits:
+        raise GuideError(
+            "the guide has no kit block; start it with a ```kit block giving title, code and supply",
+            SourceSpan(shown, 1),
+        )
+    if len(kits) > 1:
+        raise GuideError(f"a second kit block (the first is at line {kits[0].span.line}); keep one",
+                         kits[1].span)
+    stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
+    check_unique_ids(stages)
+    return Guide(shown, path.stem, text, read_kit(kits[0]), stages)
+
+
+def read_text(path: Path) -> str:
+    try:
+        return path.read_text(encoding="utf-8")
+    except UnicodeDecodeError as exc:
+        raise GuideError(f"not UTF-8 text ({exc.reason}); save the guide as UTF-8",
+                         SourceSpan(str(path), 1)) from None
+    except OSError as exc:
+        raise GuideError(f"cannot read the guide: {exc.strerror}", SourceSpan(str(path), 1)) from None
+
+
+def find_blocks(text: str, path: str):
+    """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
+    for token in markdown_parser().parse(text):
+        if token.type != "fence" or token.map is None:
+            continue
+        name = token.info.strip().split(" ")[0]
+        if name in ("kit", "stage"):
+            # token.map is 0-based; the fence line itself is map[0] + 1 in 1-based lines.
+            yield make_block(token.info, token.content, path, token.map[0] + 1)
+
+
+def read_stage(block: Block) -> StageBlock:
+    stage_id = block.argument
+    if not stage_id:
+        raise GuideError("a stage block needs an id after 'stage', for example ```stage boost",
+                         block.span)
+    if not _ID.match(stage_id):
+        raise GuideError(
+            f"stage id {stage_id!r} must be lower-case letters, digits and hyphens, like 'boost'",
+            block.span,
+        )
+    what = f"stage '{stage_id}'"
+    kind = require_single(block, "kind", what)
+    title = block.first("title")
+    rest = tuple(e for e in block.entries if e.key not in ("kind", "title"))
+    return StageBlock(stage_id, kind.value.strip(), title.value if title else stage_id,
+                      rest, block.span, kind.span)
+
+
+def check_unique_ids(stages: tuple[StageBlock, ...]) -> None:
+    seen: dict[str, StageBlock] = {}
+    for stage in stages:
+        if stage.id in seen:
+            raise GuideError(
+                f"stage id '{stage.id}' is used twice (first at line {seen[stage.id].span.line}); "
+                "give each stage its own id",
+                stage.span,
+            )
+        seen[stage.id] = stage
+
+
+def read_kit(block: Block) -> KitBlock:
+    for entry in block.entries:
+        if entry.key not in KIT_KEYS:
+            raise GuideError(
+                f"the kit block has no key '{entry.key}'; known keys: {', '.join(sorted(KIT_KEYS))}",
+                entry.span,
+            )
+    value = {k: require_single(block, k, "the kit block").value for k in ("title", "code", "supply")}
+    optional = {k: (block.first(k).value if block.first(k) else "") for k in ("revision", "summary")}
+    return KitBlock(
+        title=value["title"], code=value["code"], supply=value["supply"],
+        revision=optional["revision"] or "A", summary=optional["summary"],
+        knobs=tuple(read_knob(e) for e in block.all("knob")),
+        hardware=tuple(read_hardware(e) for e in block.all("hardware")),
+        cautions=tuple(e.value for e in block.all("caution")),
+        source=block.first("source"), load=block.first("load"), order=block.first("order"),
+        extra=tuple(e for e in block.entries if e.key in ("battery", "battery-life")),
+        span=block.span,
+    )
+
+
+def read_knob(entry) -> Knob:
+    name, sep, designator = entry.value.partition("=")
+    designator = designator.strip()
+    if not sep or not name.strip() or not _DESIGNATOR.match(designator):
+        raise GuideError(
+            f"cannot read knob {entry.value!r}; write the knob's name and its pot, like 'Gain = VR1'",
+            entry.span,
+        )
+    return Knob(name.strip(), designator, entry.span)
+
+
+def read_hardware(entry) -> HardwareLine:
+    designator, _, description = entry.value.strip().partition(" ")
+    if not _DESIGNATOR.match(designator) or not description.strip():
+        raise GuideError(
+            f"cannot read hardware {entry.value!r}; write a designator and what it is, "
+            "like 'J1 input jack, 6.35 mm mono'",
+            entry.span,
+        )
+    return HardwareLine(designator, description.strip(), entry.span)
