@@ -256,22 +256,30 @@ def test_parse_tolerance_rejects(text):
 @pytest.mark.parametrize(
     ("text", "expected"),
     [
-        ("25V", (25.0, "voltage")),
-        ("50 V", (50.0, "voltage")),
-        ("16VDC", (16.0, "voltage")),
-        ("63 V DC", (63.0, "voltage")),
-        ("0.25W", (0.25, "power")),
-        ("1/4W", (0.25, "power")),
-        ("1/2 W", (0.5, "power")),
-        ("500mW", (0.5, "power")),
+        ("25V", 25.0),
+        ("50 V", 50.0),
+        ("16VDC", 16.0),
+        ("63 V DC", 63.0),
+        ("0.25W", 0.25),
+        ("1/4W", 0.25),
+        ("1/2 W", 0.5),
+        ("500mW", 0.5),
     ],
 )
 def test_parse_rating(text, expected):
-    value, quantity = parse_rating(text)
-    assert (value, quantity) == (pytest.approx(expected[0]), expected[1])
+    assert parse_rating(text) == pytest.approx(expected)
 
 
-@pytest.mark.parametrize("text", ["25", "100nF", "2mA", "-25V", "0V"])
+def test_parse_rating_checks_the_quantity():
+    assert parse_rating("25V", "voltage") == 25.0
+    assert parse_rating("1/4W", "power") == 0.25
+    with pytest.raises(ValueFormatError, match="expected a power rating such as 1/4W"):
+        parse_rating("25V", "power")
+    with pytest.raises(ValueFormatError, match="expected a voltage rating such as 25V"):
+        parse_rating("0.25W", "voltage")
+
+
+@pytest.mark.parametrize("text", ["25", "100nF", "2mA", "-25V", "0V", "V"])
 def test_parse_rating_rejects(text):
     with pytest.raises(ValueFormatError):
         parse_rating(text)

@@ -226,20 +226,23 @@ def parse_tolerance(text: str) -> float:
     return float(match.group(1)) / 100
 
 
-def parse_rating(text: str) -> tuple[float, str]:
-    """A voltage or power rating and its quantity: "25V" -> (25.0, "voltage"), "1/4W" -> power.
+def parse_rating(text: str, quantity: str | None = None) -> float:
+    """A voltage rating in volts or a power rating in watts: "25V" -> 25.0, "1/4W" -> 0.25.
 
-    The unit is required (a bare "25" could be either); a trailing "DC" is ignored.
+    The unit is required (a bare "25" could be either); a trailing "DC" is ignored. With
+    ``quantity`` ("voltage" for a capacitor, "power" for a resistor) the unit must match it.
     """
     clean = re.sub(r"\s*(?:DC|dc|Dc)$", "", _normalise(text))
-    unit = clean[-1:]
-    quantity = _UNITS.get(unit)
-    if quantity not in ("voltage", "power"):
+    found = _UNITS.get(clean[-1:])
+    wanted = (quantity,) if quantity else ("voltage", "power")
+    if found not in wanted:
+        example = {"voltage": "25V", "power": "1/4W"}
+        such = " or ".join(example[q] for q in wanted)
         raise ValueFormatError(
-            f"cannot read the rating {text!r}: expected a voltage or power rating "
-            "such as 25V or 1/4W"
+            f"cannot read the rating {text!r}: "
+            f"expected a {' or '.join(wanted)} rating such as {such}"
         )
-    return parse_value(clean, quantity), quantity
+    return parse_value(clean, found)
 
 
 def _engineering_exponent(x: float, quantity: str) -> int:
