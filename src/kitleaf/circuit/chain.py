@@ -138,7 +138,10 @@ class KitCircuit:
         circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=self.supply_v if supply_v is None else supply_v)
         add_source(circuit, self.source)
         for stage in self.stages:
-            KINDS[stage.kind].build(stage, Wiring(circuit, stage, self._nodes(stage), positions))
+            nodes = self._nodes(stage)
+            if KINDS[stage.kind].signal:
+                nodes = _with_meters(circuit, stage.id, nodes)
+            KINDS[stage.kind].build(stage, Wiring(circuit, stage, nodes, positions))
         circuit.resistor("RLOAD", OUTPUT, GROUND, self.load)
         return circuit
 
@@ -148,6 +151,25 @@ class KitCircuit:
         if KINDS[stage.kind].signal:
             rails["in"], rails["out"] = self.stage_nodes(stage.id)
         return rails
+
+
+def supply_meter(stage_id: str) -> str:
+    """The 0 V source whose current is what a signal stage draws from the supply rail."""
+    return f"{stage_id}.isupply"
+
+
+def input_meter(stage_id: str) -> str:
+    """The 0 V source whose current is what flows into a signal stage's input."""
+    return f"{stage_id}.iinput"
+
+
+def _with_meters(circuit: Circuit, stage_id: str, nodes: dict[str, str]) -> dict[str, str]:
+    """Feed the stage's supply and input through 0 V sources, so their currents can be read."""
+    fed = dict(nodes)
+    fed["vcc"], fed["in"] = f"{stage_id}.vcc", f"{stage_id}.in"
+    circuit.vsource(supply_meter(stage_id), nodes["vcc"], fed["vcc"], dc=0.0)
+    circuit.vsource(input_meter(stage_id), nodes["in"], fed["in"], dc=0.0)
+    return fed
 
 
 def add_source(circuit: Circuit, source: SignalSource) -> None:

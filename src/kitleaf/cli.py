@@ -1,0 +1,74 @@
+"""The command line: build, check, new, serve, specs and bom; every user error is one line."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+from typing import Callable, Sequence
+
+from kitleaf import __version__
+from kitleaf.errors import KitleafError
+
+COMMANDS: dict[str, Callable[[argparse.Namespace], int]] = {}
+
+
+def command(name: str):
+    def add(func):
+        COMMANDS[name] = func
+        return func
+
+    return add
+
+
+def parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="kitleaf", description="Build guides for DIY audio kits, "
+                                "with every number computed from the parts.")
+    p.add_argument("--version", action="version", version=f"kitleaf {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    b = sub.add_parser("build", help="build the static site from a folder of guides")
+    b.add_argument("guides", nargs="?", default="guides", type=Path)
+    b.add_argument("-o", "--out", default="site", type=Path, help="output folder (site/)")
+    b.add_argument("--strict", action="store_true", help="treat design-rule warnings as errors")
+    c = sub.add_parser("check", help="parse and solve every guide without rendering")
+    c.add_argument("guides", nargs="?", default="guides", type=Path)
+    c.add_argument("--strict", action="store_true", help="treat design-rule warnings as errors")
+    n = sub.add_parser("new", help="write a ready-to-edit guide")
+    n.add_argument("name")
+    n.add_argument("--dir", default="guides", type=Path, help="folder to write into (guides/)")
+    s = sub.add_parser("serve", help="build, serve on 127.0.0.1 and rebuild on change")
+    s.add_argument("guides", nargs="?", default="guides", type=Path)
+    s.add_argument("-o", "--out", default="site", type=Path)
+    s.add_argument("--port", default=8400, type=int)
+    s.add_argument("--host", default="127.0.0.1", help="address to listen on (127.0.0.1)")
+    sp = sub.add_parser("specs", help="print a guide's computed specs")
+    sp.add_argument("file", type=Path)
+    sp.add_argument("--json", action="store_true", help="as JSON (the documented schema)")
+    bo = sub.add_parser("bom", help="print a guide's bill of materials, or a batch order")
+    bo.add_argument("files", nargs="+", type=Path)
+    bo.add_argument("--csv", action="store_true", help="as CSV")
+    bo.add_argument("--kits", type=int, help="order for a batch of N kits")
+    bo.add_argument("--spares", default="0%", help="spares per line, e.g. 10%%")
+    return p
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    args = parser().parse_args(argv)
+    _load_commands()
+    try:
+        return COMMANDS[args.command](args)
+    except KitleafError as exc:
+        print(exc, file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("kitleaf: interrupted; the previous site is untouched", file=sys.stderr)
+        return 130
+
+
+def _load_commands() -> None:
+    # Each command lives in its own module under kitleaf.commands and registers itself.
+    import kitleaf.commands  # noqa: F401
+
+
+if __name__ == "__main__":
+    sys.exit(main())
