@@ -49,6 +49,8 @@ class StageSpecs:
     input_impedance: Range | None
     output_impedance: Range | None
     supply_current: Range | None
+    # Gain in dB over KitSpecs.freqs, one curve per knob position (label, values).
+    curves: tuple[tuple[str, tuple[float, ...]], ...] = ()
     extra: tuple[tuple[str, float], ...] = ()
 
 
@@ -68,6 +70,8 @@ class KitSpecs:
     input_impedance: Range
     output_impedance: Range
     supply_current: Range
+    freqs: tuple[float, ...] = ()
+    curves: tuple[tuple[str, tuple[float, ...]], ...] = ()
     notes: tuple[str, ...] = field(default=())
 
     def stage(self, stage_id: str) -> StageSpecs:

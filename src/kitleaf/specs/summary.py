@@ -1,0 +1,31 @@
+"""Headline numbers: the few specs a kit's card and the overview drawing show."""
+
+from __future__ import annotations
+
+from kitleaf.render.environment import range_text
+from kitleaf.specs.model import KitSpecs, StageSpecs
+from kitleaf.values import format_db, format_value
+
+
+def headline(specs: KitSpecs) -> tuple[tuple[str, str], ...]:
+    """Name-value pairs for the index card."""
+    rows = [("Gain at 1 kHz", range_text(specs.gain_db, "db"))]
+    gains = [p.gain_db.nominal for p in specs.knob_sweep]
+    if gains:
+        rows[0] = ("Gain range", f"{format_db(min(gains))} to {format_db(max(gains))}")
+    rows.append(("Input impedance", format_value(specs.input_impedance.nominal, "resistance")))
+    rows.append(("Current draw", format_value(specs.supply_current.nominal, "current")))
+    return tuple(rows)
+
+
+def stage_headline(stage: StageSpecs) -> str:
+    """One short line for a stage's block in the overview drawing."""
+    if not stage.signal:
+        current = stage.supply_current
+        return f"draws {format_value(current.nominal, 'current')}" if current else ""
+    parts = []
+    if stage.gain_db is not None:
+        parts.append(format_db(stage.gain_db.nominal))
+    if stage.input_impedance is not None:
+        parts.append(f"Zin {format_value(stage.input_impedance.nominal, 'resistance')}")
+    return ", ".join(parts)
