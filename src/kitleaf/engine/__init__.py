@@ -1,1 +1,14 @@
-"""engine"""
+"""The circuit engine: modified nodal analysis on numpy, a netlist in and solved figures out."""
+
+from kitleaf.engine.ac import AcResult, solve_ac
+from kitleaf.engine.circuit import Circuit
+from kitleaf.engine.dc import OperatingPoint, solve_dc
+from kitleaf.engine.elements import TAPERS, taper_fraction
+from kitleaf.engine.measure import band_gain_db, corners, gain_db_at, phase_deg_at
+from kitleaf.engine.models import DeviceModel, get_model, register_model, registered_models
+
+__all__ = [
+    "TAPERS", "AcResult", "Circuit", "DeviceModel", "OperatingPoint", "band_gain_db", "corners",
+    "gain_db_at", "get_model", "phase_deg_at", "register_model", "registered_models",
+    "solve_ac", "solve_dc", "taper_fraction",
+]

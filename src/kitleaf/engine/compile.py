@@ -1,0 +1,170 @@
+"""Compiles a Circuit into MNA stamp patterns: node rows, branch rows, value columns."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices import FAMILIES, Family
+from kitleaf.engine.stamps import Columns, Pattern, VectorPattern, apply
+from kitleaf.engine.topology import check_topology
+from kitleaf.errors import SolveError
+
+
+@dataclass(frozen=True)
+class Layout:
+    """Unknowns of the MNA system: node voltages, then branch currents. Ground is row ``size``."""
+
+    nodes: tuple[str, ...]
+    branches: tuple[str, ...]
+
+    @property
+    def size(self) -> int:
+        return len(self.nodes) + len(self.branches)
+
+    def row(self, node: str) -> int:
+        if node == el.GROUND:
+            return self.size
+        return self._rows[node]
+
+    def branch(self, name: str) -> int:
+        return len(self.nodes) + self.branches.index(name)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "_rows", {n: i for i, n in enumerate(self.nodes)})
+
+
+class Stamper:
+    """Collects linear stamps (G, C, source vector) while elements compile."""
+
+    def __init__(self, layout: Layout, owners: dict[str, int]) -> None:
+        self.layout, self.owners = layout, owners
+        size = layout.size
+        self.g_cols, self.g_pat = Columns(), Pattern(size)
+        self.c_cols, self.c_pat = Columns(), Pattern(size)
+        self.b_cols, self.b_pat = Columns(), VectorPattern(size)
+        self.source_cols: dict[str, int] = {}
+
+    def conductance(self, owner: str | None, a: int, b: int, siemens: float) -> None:
+        """A resistor; with an owner, its value scales with the owner's tolerance factor."""
+        power = -1 if owner else 0
+        col = self.g_cols.add(siemens, self.owners.get(owner, -1), power)
+        self.g_pat.conductance(col, a, b)
+
+    def transconductance(self, src: int, dst: int, cp: int, cn: int, siemens: float) -> None:
+        self.g_pat.transconductance(self.g_cols.add(siemens), src, dst, cp, cn)
+
+    def capacitance(self, owner: str | None, a: int, b: int, farads: float) -> None:
+        col = self.c_cols.add(farads, self.owners.get(owner, -1), 1 if owner else 0)
+        self.c_pat.conductance(col, a, b)
+
+    def branch(self, row: int, p: int, n: int) -> None:
+        """A branch current through row ``row`` from p to n; its row reads v_p - v_n."""
+        one = self.g_cols.add(1.0)
+        for i, j, sign in ((p, row, 1.0), (n, row, -1.0), (row, p, 1.0), (row, n, -1.0)):
+            self.g_pat.entry(one, i, j, sign)
+
+    def inductance(self, owner: str, row: int, henries: float) -> None:
+        col = self.c_cols.add(henries, self.owners[owner], 1)
+        self.c_pat.entry(col, row, row, -1.0)
+
+    def source(self, name: str, rows: tuple[tuple[int, float], ...], dc: float) -> None:
+        """An independent source: ``dc`` enters the right-hand side at ``rows`` with signs."""
+        col = self.b_cols.add(dc)
+        self.source_cols[name] = col
+        for row, sign in rows:
+            self.b_pat.entry(col, row, sign)
+
+
+@dataclass
+class System:
+    """A compiled circuit: layout, linear stamp patterns and device families."""
+
+    layout: Layout
+    elements: tuple[el.Element, ...]
+    owners: dict[str, int]
+    stamper: Stamper
+    families: list[Family]
+
+    def matrices(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """Batched linear G and C, shape (samples, n, n); ``factors`` scales toleranced parts."""
+        st, n = self.stamper, self.layout.size
+        g = apply(st.g_cols.values(factors), st.g_pat.matrix(len(st.g_cols.nominal)), (n, n))
+        c = apply(st.c_cols.values(factors), st.c_pat.matrix(len(st.c_cols.nominal)), (n, n))
+        return g, c
+
+    def rhs(self, only: str | None = None, amplitude: float = 1.0) -> np.ndarray:
+        """DC source vector (1, n); with ``only``, a unit excitation of that source instead."""
+        st = self.stamper
+        values = np.asarray(st.b_cols.values())
+        if only is not None:
+            values = np.zeros_like(values)
+            values[0, st.source_cols[only]] = amplitude
+        return apply(values, st.b_pat.matrix(len(st.b_cols.nominal)), (self.layout.size,))
+
+
+def compile_circuit(circuit) -> System:
+    """Check the topology, lay out the unknowns and stamp every element."""
+    elements = circuit.elements
+    if not elements:
+        raise SolveError("the circuit is empty")
+    check_topology(elements)
+    layout = _layout(circuit, elements)
+    owners = {e.name: i for i, e in enumerate(elements)}
+    stamper = Stamper(layout, owners)
+    for element in elements:
+        _LINEAR.get(type(element), _skip)(stamper, element)
+    families = [fam.build([e for e in elements if isinstance(e, fam.element_type)], stamper)
+                for fam in FAMILIES if any(isinstance(e, fam.element_type) for e in elements)]
+    return System(layout, elements, owners, stamper, families)
+
+
+def _layout(circuit, elements: tuple[el.Element, ...]) -> Layout:
+    internal = [n for e in elements for fam in FAMILIES if isinstance(e, fam.element_type)
+                for n in fam.internal_nodes(e)]
+    branches = tuple(e.name for e in elements if isinstance(e, el.VSource | el.Inductor))
+    return Layout(circuit.nodes() + tuple(internal), branches)
+
+
+def _skip(stamper: Stamper, element: el.Element) -> None:
+    """Devices stamp themselves through their family."""
+
+
+def _resistor(st: Stamper, e: el.Resistor) -> None:
+    st.conductance(e.name, st.layout.row(e.a), st.layout.row(e.b), 1.0 / e.value)
+
+
+def _pot(st: Stamper, e: el.Pot) -> None:
+    lower, upper = e.legs()
+    row = st.layout.row
+    st.conductance(e.name, row(e.ccw), row(e.w), 1.0 / lower)
+    st.conductance(e.name, row(e.w), row(e.cw), 1.0 / upper)
+
+
+def _capacitor(st: Stamper, e: el.Capacitor) -> None:
+    st.capacitance(e.name, st.layout.row(e.a), st.layout.row(e.b), e.value)
+
+
+def _inductor(st: Stamper, e: el.Inductor) -> None:
+    k = st.layout.branch(e.name)
+    st.branch(k, st.layout.row(e.a), st.layout.row(e.b))
+    st.inductance(e.name, k, e.value)
+
+
+def _vsource(st: Stamper, e: el.VSource) -> None:
+    k = st.layout.branch(e.name)
+    st.branch(k, st.layout.row(e.p), st.layout.row(e.n))
+    st.source(e.name, ((k, 1.0),), e.dc)
+
+
+def _isource(st: Stamper, e: el.ISource) -> None:
+    rows = ((st.layout.row(e.p), -1.0), (st.layout.row(e.n), 1.0))
+    st.source(e.name, rows, e.dc)
+
+
+_LINEAR = {
+    el.Resistor: _resistor, el.Pot: _pot, el.Capacitor: _capacitor, el.Inductor: _inductor,
+    el.VSource: _vsource, el.ISource: _isource,
+}

@@ -1,0 +1,107 @@
+"""The shared shape of a device family: arrays of junctions, currents and capacitances."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+BOLTZMANN = 1.380649e-23
+CHARGE = 1.602176634e-19
+TEMPERATURE = 300.15  # 27 degC, the SPICE nominal temperature
+VT = BOLTZMANN * TEMPERATURE / CHARGE
+GMIN = 1e-12  # conductance across every junction, as SPICE adds (keeps off devices non-singular)
+_EXP_CAP = 80.0
+
+
+def explin(arg: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """exp(arg) and its derivative, continued linearly above exp(80) so nothing overflows."""
+    capped = np.minimum(arg, _EXP_CAP)
+    value = np.exp(capped)
+    over = arg - capped
+    return value * (1.0 + over), value
+
+
+def pnjlim(vnew: np.ndarray, vold: np.ndarray, vt: np.ndarray, vcrit: np.ndarray) -> np.ndarray:
+    """SPICE's junction-voltage limiting: large forward steps become logarithmic."""
+    big = (vnew > vcrit) & (np.abs(vnew - vold) > 2.0 * vt)
+    arg = 1.0 + (vnew - vold) / vt
+    from_on = np.where(arg > 0, vold + vt * np.log(np.maximum(arg, 1e-300)), vcrit)
+    from_off = vt * np.log(np.maximum(vnew / vt, 1e-300))
+    limited = np.where(vold > 0, from_on, from_off)
+    return np.where(big, limited, vnew)
+
+
+def vcrit(n_vt: np.ndarray, i_sat: np.ndarray) -> np.ndarray:
+    """The junction voltage above which steps are limited."""
+    return n_vt * np.log(n_vt / (math.sqrt(2.0) * i_sat))
+
+
+def depletion(v: np.ndarray, cj0: np.ndarray, vj: np.ndarray, m: np.ndarray,
+              fc: np.ndarray) -> np.ndarray:
+    """Junction depletion capacitance, linearly extended above fc*vj (the SPICE form)."""
+    safe_v = np.minimum(v, fc * vj)
+    below = cj0 * (1.0 - safe_v / vj) ** (-m)
+    above = cj0 / (1.0 - fc) ** (1.0 + m) * (1.0 - fc * (1.0 + m) + m * v / vj)
+    return np.where(v < fc * vj, below, above)
+
+
+@dataclass
+class Bank:
+    """A family's devices as arrays: ``k`` junctions, ``t`` currents, ``c`` capacitances each.
+
+    Junction j of device d is v[jp] - v[jn] times ``polarity`` (the device frame: an NPN and a
+    PNP share equations). Term t is a current from row ``src`` through the device to ``dst``.
+    Rows equal to the system size mean ground. ``params`` are (samples or 1, devices) arrays.
+    """
+
+    names: tuple[str, ...]
+    polarity: np.ndarray
+    params: dict[str, np.ndarray]
+    jp: np.ndarray
+    jn: np.ndarray
+    src: np.ndarray
+    dst: np.ndarray
+    cap_a: np.ndarray
+    cap_b: np.ndarray
+
+    def junctions(self, xe: np.ndarray) -> np.ndarray:
+        """Device-frame junction voltages (samples, k, devices) from extended node voltages."""
+        return (xe[:, self.jp] - xe[:, self.jn]) * self.polarity
+
+    def with_params(self, **params: np.ndarray) -> Bank:
+        return dataclasses.replace(self, params={**self.params, **params})
+
+    def p(self, key: str) -> np.ndarray:
+        return self.params[key]
+
+    # Families override these four.
+    def initial(self) -> np.ndarray:
+        raise NotImplementedError
+
+    def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
+        raise NotImplementedError
+
+    def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Device-frame currents (samples, t, devices) and d current / d junction (s, t, k, d)."""
+        raise NotImplementedError
+
+    def capacitances(self, v: np.ndarray) -> np.ndarray:
+        """Small-signal capacitances (samples, c, devices) at junction voltages ``v``."""
+        raise NotImplementedError
+
+    def report(self, v: np.ndarray, xe: np.ndarray, index: int) -> dict[str, float | str]:
+        """Operating-point figures of device ``index`` (a single sample)."""
+        raise NotImplementedError
+
+
+def param_arrays(models: list, keys: tuple[str, ...]) -> dict[str, np.ndarray]:
+    """Model parameters as (1, devices) arrays, defaults filled in."""
+    return {k: np.array([[m.get(k) for m in models]], dtype=float) for k in keys}
+
+
+def internal(name: str, terminal: str) -> str:
+    """Name of a device's internal node (behind a series resistance)."""
+    return f"{name}:{terminal}"

@@ -1,0 +1,83 @@
+"""Shockley junction diode with series resistance, depletion/diffusion capacitance, breakdown."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices import Family, register_family
+from kitleaf.engine.devices.base import (
+    GMIN,
+    VT,
+    Bank,
+    depletion,
+    explin,
+    internal,
+    param_arrays,
+    pnjlim,
+    vcrit,
+)
+
+KEYS = ("IS", "N", "RS", "CJO", "VJ", "M", "FC", "TT", "BV", "IBV")
+
+
+class DiodeBank(Bank):
+    """One junction (anode to cathode), one current."""
+
+    def initial(self) -> np.ndarray:
+        return vcrit(self.p("N") * VT, self.p("IS"))[:, None, :]
+
+    def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
+        n_vt = (self.p("N") * VT)[:, None, :]
+        return pnjlim(vnew, vold, n_vt, vcrit(n_vt, self.p("IS")[:, None, :]))
+
+    def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        vd = v[:, 0, :]
+        i_sat, n_vt = self.p("IS"), self.p("N") * VT
+        e, de = explin(vd / n_vt)
+        current = i_sat * (e - 1.0) + GMIN * vd
+        slope = i_sat * de / n_vt + GMIN
+        bd_i, bd_g = self._breakdown(vd, n_vt)
+        return (current + bd_i)[:, None, :], (slope + bd_g)[:, None, None, :]
+
+    def _breakdown(self, vd: np.ndarray, n_vt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Reverse breakdown: -IBV * exp(-(vd + BV) / (N VT)), zero where BV is unset."""
+        bv, ibv = self.p("BV"), self.p("IBV")
+        finite = np.isfinite(bv)
+        e, de = explin(np.where(finite, -(vd + np.where(finite, bv, 0.0)) / n_vt, -1e3))
+        return np.where(finite, -ibv * e, 0.0), np.where(finite, ibv * de / n_vt, 0.0)
+
+    def capacitances(self, v: np.ndarray) -> np.ndarray:
+        vd = v[:, 0, :]
+        _, slope = self.evaluate(v)
+        cj = depletion(vd, self.p("CJO"), self.p("VJ"), self.p("M"), self.p("FC"))
+        return (cj + self.p("TT") * slope[:, 0, 0, :])[:, None, :]
+
+    def report(self, v: np.ndarray, xe: np.ndarray, index: int) -> dict[str, float | str]:
+        current, slope = self.evaluate(v[:1])
+        vd, i_d = float(v[0, 0, index]), float(current[0, 0, index])
+        bv = float(self.p("BV")[0, index])
+        region = "forward" if i_d > 1e-9 else "breakdown" if vd < -0.9 * bv else "reverse"
+        return {"id": i_d, "vd": vd, "gd": float(slope[0, 0, 0, index]), "region": region}
+
+
+def _internal_nodes(d: el.Diode) -> tuple[str, ...]:
+    return (internal(d.name, "a"),) if d.model.get("RS") > 0 else ()
+
+
+def _build(diodes: list[el.Diode], st) -> DiodeBank:
+    row = st.layout.row
+    anodes = []
+    for d in diodes:
+        a = row(d.a)
+        if d.model.get("RS") > 0:
+            a = row(internal(d.name, "a"))
+            st.conductance(None, row(d.a), a, 1.0 / d.model.get("RS"))
+        anodes.append(a)
+    jp, jn = np.array([anodes]), np.array([[row(d.k) for d in diodes]])
+    return DiodeBank(names=tuple(d.name for d in diodes), polarity=np.ones(len(diodes)),
+                     params=param_arrays([d.model for d in diodes], KEYS), jp=jp, jn=jn,
+                     src=jp.copy(), dst=jn.copy(), cap_a=jp.copy(), cap_b=jn.copy())
+
+
+register_family(Family("diode", el.Diode, _internal_nodes, _build))

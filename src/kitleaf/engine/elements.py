@@ -1,0 +1,175 @@
+"""Circuit elements as frozen values, with the pot taper curves they rely on."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from kitleaf.engine.models import DeviceModel
+
+GROUND = "0"
+
+# A carbon pot never reaches 0 ohm at its ends; this floor keeps both legs finite (from memory:
+# a few ohms of end resistance is typical).
+POT_END_RESISTANCE = 1.0
+
+# The audio ("log") taper is the exponential that passes through 10 % of the track at half
+# rotation: f(p) = (81**p - 1) / 80 (81 = (1 / 0.1 - 1) ** 2). Pot makers' catalogues describe
+# audio taper as 10 % (some 15 %) at the mid-point (common practice, no source).
+_AUDIO_BASE = 81.0
+
+
+def _lin(p: float) -> float:
+    return p
+
+
+def _log(p: float) -> float:
+    return (_AUDIO_BASE**p - 1.0) / (_AUDIO_BASE - 1.0)
+
+
+def _rlog(p: float) -> float:
+    return 1.0 - _log(1.0 - p)
+
+
+TAPERS: dict[str, Callable[[float], float]] = {"lin": _lin, "log": _log, "rlog": _rlog}
+
+
+def taper_fraction(taper: str, position: float) -> float:
+    """Fraction of the track between the ccw end and the wiper at a knob ``position`` (0..1)."""
+    return TAPERS[taper](position)
+
+
+@dataclass(frozen=True)
+class Resistor:
+    name: str
+    a: str
+    b: str
+    value: float
+    tol: float = 0.0
+
+
+@dataclass(frozen=True)
+class Capacitor:
+    name: str
+    a: str
+    b: str
+    value: float
+    tol: float = 0.0
+
+
+@dataclass(frozen=True)
+class Inductor:
+    name: str
+    a: str
+    b: str
+    value: float
+    tol: float = 0.0
+
+
+@dataclass(frozen=True)
+class Pot:
+    """A potentiometer: track ccw..cw of ``value`` ohms, wiper ``w`` at ``position`` (0..1)."""
+
+    name: str
+    ccw: str
+    w: str
+    cw: str
+    value: float
+    position: float = 0.5
+    taper: str = "lin"
+    tol: float = 0.0
+
+    def legs(self) -> tuple[float, float]:
+        """Resistances (ccw..w, w..cw) in ohms, each floored at the end resistance."""
+        lower = self.value * taper_fraction(self.taper, self.position)
+        upper = self.value - lower
+        return max(lower, POT_END_RESISTANCE), max(upper, POT_END_RESISTANCE)
+
+
+@dataclass(frozen=True)
+class VSource:
+    """Voltage source; its branch current flows into ``p``, through it, out of ``n`` (SPICE)."""
+
+    name: str
+    p: str
+    n: str
+    dc: float = 0.0
+    ac: float = 0.0
+
+
+@dataclass(frozen=True)
+class ISource:
+    """Current source; ``dc`` amperes flow from ``p`` through the source to ``n`` (SPICE)."""
+
+    name: str
+    p: str
+    n: str
+    dc: float = 0.0
+    ac: float = 0.0
+
+
+@dataclass(frozen=True)
+class Diode:
+    name: str
+    a: str
+    k: str
+    model: DeviceModel
+
+
+@dataclass(frozen=True)
+class Bjt:
+    name: str
+    c: str
+    b: str
+    e: str
+    model: DeviceModel
+
+
+@dataclass(frozen=True)
+class Jfet:
+    name: str
+    d: str
+    g: str
+    s: str
+    model: DeviceModel
+
+
+@dataclass(frozen=True)
+class OpAmp:
+    name: str
+    inp: str
+    inn: str
+    out: str
+    vpos: str
+    vneg: str
+    model: DeviceModel
+
+
+Element = (
+    Resistor | Capacitor | Inductor | Pot | VSource | ISource | Diode | Bjt | Jfet | OpAmp
+)
+
+
+def terminals(element: Element) -> tuple[str, ...]:
+    """The element's nodes in declaration order."""
+    names = _TERMINALS[type(element)]
+    return tuple(getattr(element, n) for n in names)
+
+
+_TERMINALS: dict[type, tuple[str, ...]] = {
+    Resistor: ("a", "b"),
+    Capacitor: ("a", "b"),
+    Inductor: ("a", "b"),
+    Pot: ("ccw", "w", "cw"),
+    VSource: ("p", "n"),
+    ISource: ("p", "n"),
+    Diode: ("a", "k"),
+    Bjt: ("c", "b", "e"),
+    Jfet: ("d", "g", "s"),
+    OpAmp: ("inp", "inn", "out", "vpos", "vneg"),
+}
+
+
+def is_finite(x: float) -> bool:
+    return isinstance(x, int | float) and math.isfinite(x)

@@ -1,0 +1,155 @@
+"""Batched Newton-Raphson for the DC operating point, with gmin and source stepping fallbacks."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from kitleaf.engine.nonlinear import Devices
+from kitleaf.errors import SolveError
+
+RELTOL = 1e-9
+VNTOL = 1e-9  # volts
+ABSTOL = 1e-14  # amperes, for branch-current unknowns
+MAX_ITER = 100
+
+
+@dataclass(frozen=True)
+class Problem:
+    """A batch of DC problems: G (s, n, n), b (s, n), and the devices (params per sample)."""
+
+    g: np.ndarray
+    b: np.ndarray
+    devices: Devices
+    node_count: int
+
+    def take(self, idx: np.ndarray) -> Problem:
+        banks = [bank.with_params(**{k: _rows(v, idx) for k, v in bank.params.items()})
+                 for bank in self.devices.banks]
+        devices = self.devices.with_banks(banks)
+        return replace(self, g=_rows(self.g, idx), b=_rows(self.b, idx), devices=devices)
+
+
+def _rows(a: np.ndarray, idx: np.ndarray) -> np.ndarray:
+    return a[idx] if a.shape[0] > 1 else a
+
+
+@dataclass
+class State:
+    x: np.ndarray
+    vstar: list[np.ndarray]
+    iterations: np.ndarray
+
+
+def extend(x: np.ndarray) -> np.ndarray:
+    """Append the ground column (index n) so device rows can point at it."""
+    return np.concatenate([x, np.zeros((x.shape[0], 1))], axis=1)
+
+
+def solve_batch(a: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    try:
+        out = np.linalg.solve(a, rhs[..., None])[..., 0]
+    except np.linalg.LinAlgError:
+        raise SolveError("the circuit matrix is singular (a floating node or a loop of "
+                         "sources); check the connections") from None
+    return out
+
+
+def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1.0,
+           max_iter: int = MAX_ITER) -> np.ndarray:
+    """Iterate ``state`` in place; return the per-sample convergence flags."""
+    size = problem.g.shape[-1]
+    shunt = np.zeros(size)
+    shunt[: problem.node_count] = gshunt
+    tol_abs = np.where(np.arange(size) < problem.node_count, VNTOL, ABSTOL)
+    done = np.zeros(state.x.shape[0], dtype=bool)
+    for _ in range(max_iter):
+        step, limited = _step(problem, state, shunt, scale)
+        with np.errstate(invalid="ignore"):
+            new_x = state.x + step
+            small = np.abs(step) <= RELTOL * np.maximum(np.abs(new_x), np.abs(state.x)) + tol_abs
+        done = np.all(small, axis=1) & ~limited & np.all(np.isfinite(new_x), axis=1)
+        state.iterations += ~done
+        state.x = np.where(np.isfinite(new_x), new_x, state.x)
+        if done.all():
+            break
+    return done
+
+
+def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
+          ) -> tuple[np.ndarray, np.ndarray]:
+    """One Newton step; also reports which samples had a junction voltage limited."""
+    x = state.x
+    residual = np.einsum("sij,sj->si", problem.g, x) + shunt * x - scale * problem.b
+    jac = problem.g + np.diag(shunt)
+    limited = np.zeros(x.shape[0], dtype=bool)
+    if problem.devices.banks:
+        vraw = problem.devices.junctions(extend(x))
+        vlim = [bank.limit(vr, vs) for bank, vr, vs in
+                zip(problem.devices.banks, vraw, state.vstar, strict=True)]
+        for vr, vl in zip(vraw, vlim, strict=True):
+            limited |= np.any(vr != vl, axis=(1, 2))
+        currents, dev_jac = problem.devices.linearise(vlim, vraw)
+        residual = residual + currents
+        jac = jac + dev_jac
+        state.vstar = vlim
+    return solve_batch(jac, -residual), limited
+
+
+def initial_state(problem: Problem, samples: int) -> State:
+    size = problem.g.shape[-1]
+    vstar = [np.broadcast_to(bank.initial(), (samples, *bank.jp.shape)).copy()
+             for bank in problem.devices.banks]
+    return State(np.zeros((samples, size)), vstar, np.zeros(samples, dtype=int))
+
+
+GMIN_STEPS = tuple(10.0 ** -k for k in range(2, 13))
+
+
+def solve_state(problem: Problem, state: State) -> str:
+    """Solve every sample, falling back per failing sample; returns the hardest method used."""
+    ok = newton(problem, state)
+    if ok.all():
+        return "newton"
+    bad = np.flatnonzero(~ok)
+    for method, strategy in (("gmin stepping", _gmin_stepping),
+                             ("source stepping", _source_stepping)):
+        sub = problem.take(bad)
+        trial = initial_state(sub, bad.size)
+        done = strategy(sub, trial)
+        _merge(state, trial, bad, done)
+        bad = bad[~done]
+        if bad.size == 0:
+            return method
+    raise SolveError(f"the DC operating point did not converge ({bad.size} of "
+                     f"{ok.size} samples), even with gmin and source stepping")
+
+
+def _gmin_stepping(problem: Problem, state: State) -> np.ndarray:
+    done = np.ones(state.x.shape[0], dtype=bool)
+    for gshunt in (*GMIN_STEPS, 0.0):
+        done &= newton(problem, state, gshunt=gshunt)
+    return done
+
+
+def _source_stepping(problem: Problem, state: State) -> np.ndarray:
+    newton(problem, state, scale=0.0)
+    scale, step = 0.0, 0.1
+    while scale < 1.0 and step > 1e-4:
+        saved = State(state.x.copy(), [v.copy() for v in state.vstar], state.iterations.copy())
+        target = min(1.0, scale + step)
+        if newton(problem, state, scale=target).all():
+            scale, step = target, step * 1.5
+        else:
+            state.x, state.vstar, step = saved.x, saved.vstar, step / 2.0
+    if scale < 1.0:
+        return np.zeros(state.x.shape[0], dtype=bool)
+    return newton(problem, state)
+
+
+def _merge(state: State, trial: State, idx: np.ndarray, done: np.ndarray) -> None:
+    state.x[idx] = trial.x
+    state.iterations[idx] += trial.iterations
+    for whole, part in zip(state.vstar, trial.vstar, strict=True):
+        whole[idx] = part
