@@ -1,1 +1,26 @@
-"""bom"""
+"""The bill of materials: lines to buy and find, build order, CSV, batch orders, rating checks."""
+
+from kitleaf.bom.batch import OrderLine, batch_order
+from kitleaf.bom.export import bom_csv, bom_text, order_csv, order_text
+from kitleaf.bom.lines import BomLine, bom_lines, natural_key
+from kitleaf.bom.order import BUILD_ORDER
+from kitleaf.bom.pinouts import PINOUTS, Pinout, pinout_for
+from kitleaf.bom.ratings import RatingWarning, rating_warnings
+
+__all__ = [
+    "BUILD_ORDER",
+    "PINOUTS",
+    "BomLine",
+    "OrderLine",
+    "Pinout",
+    "RatingWarning",
+    "batch_order",
+    "bom_csv",
+    "bom_lines",
+    "bom_text",
+    "natural_key",
+    "order_csv",
+    "order_text",
+    "pinout_for",
+    "rating_warnings",
+]

@@ -1,0 +1,150 @@
+"""What a builder needs to pick the right part from the bag and fit it the right way round.
+
+One finder per part type (a registry): the value as the trade writes it, the buying
+attributes, and the marks to look for (colour bands, capacitor code, pinout, polarity).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from types import MappingProxyType
+
+from kitleaf.bom.order import POLARISED_DIELECTRICS
+from kitleaf.bom.pinouts import DIODE_VIEW, Pinout, pinout_for
+from kitleaf.circuit.parts import Part
+from kitleaf.errors import ValueFormatError
+from kitleaf.marking import Band, capacitor_code, resistor_bands
+from kitleaf.values import format_rkm, format_value
+
+# Polarity notes (common practice, no source).
+POLARITY: Mapping[str, str] = MappingProxyType(
+    {
+        "electrolytic": "polarised: the stripe on the can marks the negative (-) lead, "
+        "the longer lead is positive (+)",
+        "tantalum": "polarised: the + mark on the body is the positive lead",
+        "diode": "the band marks the cathode: match it to the band on the board",
+        "led": "the longer lead is the anode (+); the flat on the rim marks the cathode",
+    }
+)
+
+CHECK_DATASHEET = "pinouts vary between makers: check the supplier's data sheet"
+
+# Resistor power ratings as the trade writes them (common practice, no source).
+_WATT_FRACTIONS: Mapping[float, str] = MappingProxyType(
+    {0.125: "1/8 W", 0.25: "1/4 W", 0.5: "1/2 W"}
+)
+
+
+@dataclass(frozen=True)
+class Finding:
+    """How one part is written, bought and recognised."""
+
+    value_text: str
+    value_display: str
+    attributes: tuple[str, ...] = ()
+    bands: tuple[Band, ...] = ()
+    code: str | None = None
+    pinout: Pinout | None = None
+    polarity: str | None = None
+    notes: tuple[str, ...] = ()
+
+
+def tolerance_text(tolerance: float | None) -> str | None:
+    return None if tolerance is None else f"{tolerance * 100:g}%"
+
+
+def power_text(watts: float) -> str:
+    return _WATT_FRACTIONS.get(watts) or format_value(watts, "power")
+
+
+def _words(*texts: str | None) -> tuple[str, ...]:
+    return tuple(t for t in texts if t)
+
+
+def _resistor(part: Part) -> Finding:
+    rating = power_text(part.rating) if part.rating else None
+    try:
+        bands = resistor_bands(part.value, part.tolerance or 0.05)
+        notes: tuple[str, ...] = ()
+    except ValueFormatError as exc:
+        bands, notes = (), (f"no colour code: {exc.message}",)
+    return Finding(format_rkm(part.value, "resistance"), format_value(part.value, "resistance"),
+                   _words(tolerance_text(part.tolerance), rating), bands=bands, notes=notes)
+
+
+def _capacitor(part: Part) -> Finding:
+    dielectric = part.dielectric
+    rating = format_value(part.rating, "voltage") if part.rating else None
+    attributes = _words(dielectric, tolerance_text(part.tolerance), rating)
+    rkm, shown = format_rkm(part.value, "capacitance"), format_value(part.value, "capacitance")
+    if dielectric in POLARISED_DIELECTRICS:
+        printed = f"printed {shown}" + (f", {rating}" if rating else "")
+        return Finding(rkm, shown, attributes, polarity=POLARITY[dielectric], notes=(printed,))
+    try:
+        code: str | None = capacitor_code(part.value)
+        notes = (f"marked {code}",)
+    except ValueFormatError:
+        code, notes = None, (f"printed {shown}",)
+    return Finding(rkm, shown, attributes, code=code, notes=notes)
+
+
+def _inductor(part: Part) -> Finding:
+    shown = format_value(part.value, "inductance")
+    return Finding(shown, shown, _words(tolerance_text(part.tolerance)))
+
+
+def _pot(part: Part) -> Finding:
+    taper = part.attrs.get("taper", "")
+    rkm = format_rkm(part.value, "resistance")
+    shown = format_value(part.value, "resistance")
+    return Finding(f"{rkm} {taper}".strip(), f"{shown} {taper}".strip(),
+                   _words(part.attrs.get("shaft"), part.attrs.get("size")))
+
+
+def _pinout_notes(model: str, pinout: Pinout | None) -> tuple[str, ...]:
+    if pinout is None:
+        return (f"{model} is not in kitleaf's pinout table: check the supplier's data sheet",)
+    if pinout.view == DIODE_VIEW:
+        return (f"{pinout.package} package",)
+    where = f"{pinout.package}: {pinout.labelled()} ({pinout.view}; {pinout.provenance})"
+    return (where, CHECK_DATASHEET)
+
+
+def _device(part: Part) -> Finding:
+    model = part.model or part.text
+    pinout = pinout_for(model)
+    notes = _pinout_notes(model, pinout)
+    package = part.attrs.get("package")
+    return Finding(model, model, _words(package), pinout=pinout,
+                   polarity=POLARITY.get(part.type), notes=notes)
+
+
+def _led(part: Part) -> Finding:
+    model = part.model or part.text
+    return Finding(model, model, _words(part.attrs.get("size")), polarity=POLARITY["led"])
+
+
+def _hardware(part: Part) -> Finding:
+    return Finding(part.text, part.text)
+
+
+_FINDERS: Mapping[str, Callable[[Part], Finding]] = MappingProxyType(
+    {
+        "resistor": _resistor,
+        "capacitor": _capacitor,
+        "inductor": _inductor,
+        "pot": _pot,
+        "diode": _device,
+        "led": _led,
+        "bjt": _device,
+        "jfet": _device,
+        "opamp": _device,
+        "hardware": _hardware,
+    }
+)
+
+
+def find(part: Part) -> Finding:
+    """The finding aids of ``part``; an unknown type is listed by its text alone."""
+    return _FINDERS.get(part.type, _hardware)(part)

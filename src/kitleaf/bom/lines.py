@@ -1,0 +1,141 @@
+"""The bill of materials: parts grouped into lines a builder can buy and find, in build order."""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+from kitleaf.bom.finding import Finding, find
+from kitleaf.bom.order import build_group, build_rank
+from kitleaf.bom.pinouts import Pinout
+from kitleaf.bom.ratings import RatingWarning
+from kitleaf.circuit.parts import Part
+from kitleaf.errors import SourceSpan
+from kitleaf.marking import Band
+
+# Attributes that change what is bought; any other word on a part line does not split a line.
+BUYING_ATTRS = ("dielectric", "taper", "package", "colour", "size", "shaft", "mount")
+
+
+@dataclass(frozen=True)
+class BomLine:
+    """One line of the bill of materials: every part of one kind, value and buying attributes.
+
+    ``value_text`` is the value the way the trade writes it (4k7, 100n, 100k log, 2N3904, or
+    the hardware's description); ``value_display`` is the same with SI prefix and unit
+    (4.7 kΩ). ``attributes`` are the buying attributes as display text (film, 5%, 50 V).
+    """
+
+    type: str
+    value_text: str
+    value_display: str
+    designators: tuple[str, ...]
+    attributes: tuple[str, ...]
+    value: float | None = None
+    model: str | None = None
+    tolerance: float | None = None
+    rating: float | None = None
+    attrs: tuple[tuple[str, str], ...] = ()
+    bands: tuple[Band, ...] = ()
+    code: str | None = None
+    pinout: Pinout | None = None
+    polarity: str | None = None
+    notes: tuple[str, ...] = ()
+    warnings: tuple[RatingWarning, ...] = ()
+    spans: tuple[SourceSpan, ...] = ()  # where each designator's part is written, in order
+
+    @property
+    def quantity(self) -> int:
+        return len(self.designators)
+
+    @property
+    def group(self) -> str:
+        """The build group (see :data:`kitleaf.bom.order.BUILD_ORDER`)."""
+        return build_group(self.type, self.designators[0], dict(self.attrs))
+
+    @property
+    def rank(self) -> int:
+        """Where the line falls in the build order (lower parts first)."""
+        return build_rank(self.type, self.designators[0], dict(self.attrs))
+
+    @property
+    def key(self) -> tuple:
+        """What makes two lines the same part to buy, in any guide."""
+        return (self.type, self.value, self.model, self.tolerance, self.rating, self.attrs,
+                self.value_text if self.type == "hardware" else "")
+
+
+def natural_key(designator: str) -> tuple:
+    """Sort key putting R2 before R10: letters, then the number, then any suffix."""
+    match = re.match(r"^([A-Za-z]*)(\d*)(.*)$", designator)
+    letters, number, rest = match.groups()  # type: ignore[union-attr]
+    return (letters.upper(), int(number) if number else -1, rest)
+
+
+def _group_key(part: Part) -> tuple:
+    attrs = tuple((k, part.attrs[k]) for k in BUYING_ATTRS if k in part.attrs)
+    text = part.text if part.type == "hardware" else ""
+    return (part.type, part.value, part.model, part.tolerance, part.rating, attrs, text)
+
+
+def _line(parts: list[Part]) -> BomLine:
+    parts = sorted(parts, key=lambda p: natural_key(p.designator))
+    first = parts[0]
+    designators = tuple(p.designator for p in parts)
+    found: Finding = find(first)
+    return BomLine(
+        type=first.type,
+        value_text=found.value_text,
+        value_display=found.value_display,
+        designators=designators,
+        attributes=found.attributes,
+        value=first.value,
+        model=first.model,
+        tolerance=first.tolerance,
+        rating=first.rating,
+        attrs=_group_key(first)[5],
+        bands=found.bands,
+        code=found.code,
+        pinout=found.pinout,
+        polarity=found.polarity,
+        notes=found.notes,
+        spans=tuple(p.span for p in parts),
+    )
+
+
+def _sockets(lines: list[BomLine]) -> list[BomLine]:
+    """One socket line per DIP size, for the chips that go in them."""
+    by_size: dict[int, list[str]] = {}
+    for line in lines:
+        if line.type == "opamp" and line.pinout and line.pinout.package.startswith("DIP"):
+            by_size.setdefault(line.pinout.pin_count, []).extend(line.designators)
+    return [
+        BomLine(
+            type="socket",
+            value_text=f"DIP-{size} socket",
+            value_display=f"DIP-{size} socket",
+            designators=tuple(sorted(chips, key=natural_key)),
+            attributes=(),
+            notes=(f"for {', '.join(sorted(chips, key=natural_key))}; "
+                   "match the notch to the board's outline",),
+        )
+        for size, chips in sorted(by_size.items())
+    ]
+
+
+def bom_lines(parts: Iterable[Part]) -> tuple[BomLine, ...]:
+    """The bill of materials of ``parts``: grouped, counted, and sorted in build order.
+
+    Lines of one build group keep the order of their first designator (R2 before R10); the
+    groups follow :data:`kitleaf.bom.order.BUILD_ORDER`. Chips in DIP packages add a socket
+    line.
+    """
+    groups: dict[tuple, list[Part]] = {}
+    for part in parts:
+        groups.setdefault(_group_key(part), []).append(part)
+    lines = [_line(group) for group in groups.values()]
+    lines += _sockets(lines)
+    lines.sort(key=lambda line: natural_key(line.designators[0]))
+    lines.sort(key=lambda line: line.rank)  # stable: designator order within a group
+    return tuple(lines)
