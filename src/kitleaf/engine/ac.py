@@ -61,6 +61,18 @@ class AcResult:
         """Node voltage per unit of the source's AC amplitude."""
         return self.voltage(node) / self.amplitude
 
+    def current(self, name: str) -> np.ndarray:
+        """Branch current of a voltage source or inductor (SPICE sign, as in OperatingPoint),
+        or a resistor's current from its first node to its second."""
+        system = self.linear.system
+        part = system.elements[system.owners[name]] if name in system.owners else None
+        if isinstance(part, el.Resistor):
+            return (self.voltage(part.a) - self.voltage(part.b)) / part.value
+        if name not in system.layout.branches:
+            raise SolveError(f"no AC current is recorded for {name!r} (voltage sources, "
+                             "inductors and resistors have one)")
+        return self.solution[:, system.layout.branch(name)]
+
     def at(self, freqs: np.ndarray) -> AcResult:
         """The same analysis re-solved at other frequencies (exact, no interpolation)."""
         return solve_linearised(self.linear, freqs, self.source)

@@ -65,12 +65,12 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
     tol_abs = np.where(np.arange(size) < problem.node_count, VNTOL, ABSTOL)
     done = np.zeros(state.x.shape[0], dtype=bool)
     for _ in range(max_iter):
+        state.iterations += ~done
         step, limited = _step(problem, state, shunt, scale)
         with np.errstate(invalid="ignore"):
             new_x = state.x + step
             small = np.abs(step) <= RELTOL * np.maximum(np.abs(new_x), np.abs(state.x)) + tol_abs
         done = np.all(small, axis=1) & ~limited & np.all(np.isfinite(new_x), axis=1)
-        state.iterations += ~done
         state.x = np.where(np.isfinite(new_x), new_x, state.x)
         if done.all():
             break

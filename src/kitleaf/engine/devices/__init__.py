@@ -27,6 +27,6 @@ def register_family(family: Family) -> Family:
 
 
 # The family modules register themselves; imported last because they use the names above.
-from kitleaf.engine.devices import diode  # noqa: E402, F401
+from kitleaf.engine.devices import bjt, diode, jfet, opamp  # noqa: E402, F401
 
 __all__ = ["FAMILIES", "Bank", "Family", "register_family"]

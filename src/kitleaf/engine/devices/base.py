@@ -66,10 +66,15 @@ class Bank:
     dst: np.ndarray
     cap_a: np.ndarray
     cap_b: np.ndarray
+    ext: np.ndarray  # rows of the external terminals (terminals, devices), for reports
 
     def junctions(self, xe: np.ndarray) -> np.ndarray:
         """Device-frame junction voltages (samples, k, devices) from extended node voltages."""
         return (xe[:, self.jp] - xe[:, self.jn]) * self.polarity
+
+    def terminal_voltages(self, xe: np.ndarray) -> np.ndarray:
+        """External terminal voltages of sample 0, shape (terminals, devices)."""
+        return xe[0, self.ext]
 
     def with_params(self, **params: np.ndarray) -> Bank:
         return dataclasses.replace(self, params={**self.params, **params})

@@ -77,7 +77,8 @@ def _build(diodes: list[el.Diode], st) -> DiodeBank:
     jp, jn = np.array([anodes]), np.array([[row(d.k) for d in diodes]])
     return DiodeBank(names=tuple(d.name for d in diodes), polarity=np.ones(len(diodes)),
                      params=param_arrays([d.model for d in diodes], KEYS), jp=jp, jn=jn,
-                     src=jp.copy(), dst=jn.copy(), cap_a=jp.copy(), cap_b=jn.copy())
+                     src=jp.copy(), dst=jn.copy(), cap_a=jp.copy(), cap_b=jn.copy(),
+                     ext=np.array([[row(d.a) for d in diodes], jn[0]]))
 
 
 register_family(Family("diode", el.Diode, _internal_nodes, _build))

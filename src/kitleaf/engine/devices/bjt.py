@@ -1,0 +1,139 @@
+"""NPN and PNP bipolar transistors: the Gummel-Poon model with SPICE parameter names."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices import Family, register_family
+from kitleaf.engine.devices.base import (
+    GMIN,
+    VT,
+    Bank,
+    depletion,
+    explin,
+    internal,
+    param_arrays,
+    pnjlim,
+    vcrit,
+)
+from kitleaf.engine.models import DEFAULTS
+
+KEYS = tuple(DEFAULTS["npn"])
+SATURATION_VCE = 0.25  # volts; below this (device frame) a BJT reports "saturated"
+CUTOFF_IC = 1e-8  # amperes; below this collector current it reports "cutoff"
+
+
+def _junction(v: np.ndarray, i_sat: np.ndarray, n_vt: np.ndarray):
+    e, de = explin(v / n_vt)
+    return i_sat * (e - 1.0), i_sat * de / n_vt
+
+
+class BjtBank(Bank):
+    """Junctions (vbe, vbc); currents b->e, b->c, c->e (transport); caps b-e, b-c."""
+
+    def initial(self) -> np.ndarray:
+        vbe = vcrit(self.p("NF") * VT, self.p("IS"))
+        return np.stack([vbe, np.zeros_like(vbe)], axis=1)
+
+    def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
+        out = np.empty_like(vnew)
+        for j, n in ((0, "NF"), (1, "NR")):
+            n_vt = self.p(n) * VT
+            out[:, j] = pnjlim(vnew[:, j], vold[:, j], n_vt, vcrit(n_vt, self.p("IS")))
+        return out
+
+    def _transport(self, vbe: np.ndarray, vbc: np.ndarray) -> dict[str, np.ndarray]:
+        """Forward/reverse diode currents and the base charge qb with its derivatives."""
+        p = self.p
+        ibf, gbf = _junction(vbe, p("IS"), p("NF") * VT)
+        ibr, gbr = _junction(vbc, p("IS"), p("NR") * VT)
+        q1 = 1.0 / np.maximum(1.0 - vbc / p("VAF") - vbe / p("VAR"), 1e-6)
+        q2 = ibf / p("IKF") + ibr / p("IKR")
+        sq = np.sqrt(np.maximum(1.0 + 4.0 * q2, 1e-12))
+        qb = q1 * (1.0 + sq) / 2.0
+        dqb_be = q1 * q1 / p("VAR") * (1.0 + sq) / 2.0 + q1 * gbf / p("IKF") / sq
+        dqb_bc = q1 * q1 / p("VAF") * (1.0 + sq) / 2.0 + q1 * gbr / p("IKR") / sq
+        return {"ibf": ibf, "gbf": gbf, "ibr": ibr, "gbr": gbr, "qb": qb,
+                "dqb_be": dqb_be, "dqb_bc": dqb_bc}
+
+    def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        p, vbe, vbc = self.p, v[:, 0], v[:, 1]
+        t = self._transport(vbe, vbc)
+        ile, gle = _junction(vbe, p("ISE"), p("NE") * VT)
+        ilc, glc = _junction(vbc, p("ISC"), p("NC") * VT)
+        ice = (t["ibf"] - t["ibr"]) / t["qb"]
+        dce_be = (t["gbf"] - ice * t["dqb_be"]) / t["qb"]
+        dce_bc = (-t["gbr"] - ice * t["dqb_bc"]) / t["qb"]
+        ibe = t["ibf"] / p("BF") + ile + GMIN * vbe
+        ibc = t["ibr"] / p("BR") + ilc + GMIN * vbc
+        dbe = t["gbf"] / p("BF") + gle + GMIN
+        dbc = t["gbr"] / p("BR") + glc + GMIN
+        zero = np.zeros_like(dbe)
+        slope = np.stack([np.stack([dbe, zero], 1), np.stack([zero, dbc], 1),
+                          np.stack([dce_be, dce_bc], 1)], axis=1)
+        return np.stack([ibe, ibc, ice], axis=1), slope
+
+    def capacitances(self, v: np.ndarray) -> np.ndarray:
+        p, vbe, vbc = self.p, v[:, 0], v[:, 1]
+        t = self._transport(vbe, vbc)
+        diffusion = p("TF") * (t["gbf"] - t["ibf"] / t["qb"] * t["dqb_be"]) / t["qb"]
+        cbe = depletion(vbe, p("CJE"), p("VJE"), p("MJE"), p("FC")) + diffusion
+        cbc = depletion(vbc, p("CJC"), p("VJC"), p("MJC"), p("FC"))
+        return np.stack([cbe, cbc], axis=1)
+
+    def report(self, v: np.ndarray, xe: np.ndarray, index: int) -> dict[str, float | str]:
+        current, slope = self.evaluate(v[:1])
+        ibe, ibc, ice = (float(x) for x in current[0, :, index])
+        d = slope[0, :, :, index]
+        pol = float(self.polarity[index])
+        vc, vb, ve = (float(x) for x in self.terminal_voltages(xe)[:, index])
+        ic, ib = pol * (ice - ibc), pol * (ibe + ibc)
+        go = -(d[2, 1] - d[1, 1])
+        return {
+            "ic": ic, "ib": ib, "ie": -(ic + ib), "vbe": vb - ve, "vce": vc - ve,
+            "vbc": vb - vc, "beta": ic / ib if ib else float("inf"), "gm": float(d[2, 0]),
+            "rpi": 1.0 / float(d[0, 0]), "ro": float(1.0 / go) if go > 0 else float("inf"),
+            "region": _region(pol * ic, pol * (vc - ve)),
+        }
+
+
+def _region(ic: float, vce: float) -> str:
+    """Device-frame region: cutoff, saturated or active (thresholds in docs/engine.md)."""
+    if ic < CUTOFF_IC:
+        return "cutoff"
+    return "saturated" if vce < SATURATION_VCE else "active"
+
+
+_RESISTORS = (("b", "RB"), ("c", "RC"), ("e", "RE"))
+
+
+def _internal_nodes(q: el.Bjt) -> tuple[str, ...]:
+    return tuple(internal(q.name, t) for t, key in _RESISTORS if q.model.get(key) > 0)
+
+
+def _inner_row(q: el.Bjt, terminal: str, key: str, st) -> int:
+    """The row behind the terminal's series resistance, stamping that resistance."""
+    outer = st.layout.row(getattr(q, terminal))
+    if q.model.get(key) <= 0:
+        return outer
+    inner = st.layout.row(internal(q.name, terminal))
+    st.conductance(None, outer, inner, 1.0 / q.model.get(key))
+    return inner
+
+
+def _build(parts: list[el.Bjt], st) -> BjtBank:
+    rows = {t: np.array([_inner_row(q, t, key, st) for q in parts]) for t, key in _RESISTORS}
+    b, c, e = rows["b"], rows["c"], rows["e"]
+    row = st.layout.row
+    ext = np.array([[row(q.c) for q in parts], [row(q.b) for q in parts],
+                    [row(q.e) for q in parts]])
+    polarity = np.array([1.0 if q.model.kind == "npn" else -1.0 for q in parts])
+    return BjtBank(names=tuple(q.name for q in parts), polarity=polarity,
+                   params=param_arrays([q.model for q in parts], KEYS),
+                   jp=np.stack([b, b]), jn=np.stack([e, c]), src=np.stack([b, b, c]),
+                   dst=np.stack([e, c, e]), cap_a=np.stack([b, b]), cap_b=np.stack([e, c]),
+                   ext=ext)
+
+
+register_family(Family("bjt", el.Bjt, _internal_nodes, _build))

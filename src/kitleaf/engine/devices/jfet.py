@@ -1,0 +1,119 @@
+"""N- and P-channel JFETs: the Shichman-Hodges square law with gate junctions (SPICE level 1)."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices import Family, register_family
+from kitleaf.engine.devices.base import (
+    GMIN,
+    VT,
+    Bank,
+    depletion,
+    explin,
+    internal,
+    param_arrays,
+    pnjlim,
+    vcrit,
+)
+from kitleaf.engine.models import DEFAULTS
+
+KEYS = tuple(DEFAULTS["njf"])
+GATE_GRADING = 0.5  # the level-1 gate junction is abrupt
+
+
+def _square_law(vg_s, vg_d, vto, beta, lam):
+    """Drain current for vds = vg_s - vg_d >= 0 and its partials on (vg_s, vg_d)."""
+    vds, vgst = vg_s - vg_d, vg_s - vto
+    on = vgst > 0
+    betap = beta * (1.0 + lam * vds)
+    sat = vgst <= vds
+    i_sat, i_lin = betap * vgst * vgst, betap * vds * (2.0 * vgst - vds)
+    gm = np.where(sat, 2.0 * betap * vgst, 2.0 * betap * vds)
+    gds = np.where(sat, lam * beta * vgst * vgst,
+                   beta * lam * vds * (2.0 * vgst - vds) + betap * 2.0 * (vgst - vds))
+    current = np.where(on, np.where(sat, i_sat, i_lin), 0.0)
+    gm, gds = np.where(on, gm, 0.0), np.where(on, gds, 0.0)
+    return current, gm + gds, -gds
+
+
+class JfetBank(Bank):
+    """Junctions (vgs, vgd); currents g->s, g->d, d->s (channel); caps g-s, g-d."""
+
+    def initial(self) -> np.ndarray:
+        vto = self.p("VTO")
+        return np.stack([np.zeros_like(vto) - 1.0, np.zeros_like(vto) - 1.0], axis=1)
+
+    def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
+        n_vt = (self.p("N") * VT)[:, None, :]
+        return pnjlim(vnew, vold, n_vt, vcrit(n_vt, self.p("IS")[:, None, :]))
+
+    def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        p, vgs, vgd = self.p, v[:, 0], v[:, 1]
+        n_vt = p("N") * VT
+        egs, degs = explin(vgs / n_vt)
+        egd, degd = explin(vgd / n_vt)
+        igs, ggs = p("IS") * (egs - 1.0) + GMIN * vgs, p("IS") * degs / n_vt + GMIN
+        igd, ggd = p("IS") * (egd - 1.0) + GMIN * vgd, p("IS") * degd / n_vt + GMIN
+        args = (p("VTO"), p("BETA"), p("LAMBDA"))
+        fwd, f_s, f_d = _square_law(vgs, vgd, *args)
+        rev, r_d, r_s = _square_law(vgd, vgs, *args)  # source and drain swap roles
+        normal = vgs >= vgd
+        ids = np.where(normal, fwd, -rev)
+        d_s, d_d = np.where(normal, f_s, -r_s), np.where(normal, f_d, -r_d)
+        zero = np.zeros_like(ggs)
+        slope = np.stack([np.stack([ggs, zero], 1), np.stack([zero, ggd], 1),
+                          np.stack([d_s, d_d], 1)], axis=1)
+        return np.stack([igs, igd, ids], axis=1), slope
+
+    def capacitances(self, v: np.ndarray) -> np.ndarray:
+        p = self.p
+        cgs = depletion(v[:, 0], p("CGS"), p("PB"), GATE_GRADING, p("FC"))
+        cgd = depletion(v[:, 1], p("CGD"), p("PB"), GATE_GRADING, p("FC"))
+        return np.stack([cgs, cgd], axis=1)
+
+    def report(self, v: np.ndarray, xe: np.ndarray, index: int) -> dict[str, float | str]:
+        current, slope = self.evaluate(v[:1])
+        pol = float(self.polarity[index])
+        vd, vg, vs = (float(x) for x in self.terminal_voltages(xe)[:, index])
+        d = slope[0, 2, :, index]
+        vgs, vgd = float(v[0, 0, index]), float(v[0, 1, index])
+        vgst = vgs - float(self.p("VTO")[0, index])
+        region = "cutoff" if vgst <= 0 else "saturation" if vgst <= vgs - vgd else "ohmic"
+        return {"id": pol * float(current[0, 2, index]), "ig": pol * float(
+            current[0, 0, index] + current[0, 1, index]), "vgs": vg - vs, "vds": vd - vs,
+            "gm": float(d[0] + d[1]), "gds": float(-d[1]), "region": region}
+
+
+_RESISTORS = (("d", "RD"), ("s", "RS"))
+
+
+def _internal_nodes(q: el.Jfet) -> tuple[str, ...]:
+    return tuple(internal(q.name, t) for t, key in _RESISTORS if q.model.get(key) > 0)
+
+
+def _inner_row(q: el.Jfet, terminal: str, key: str, st) -> int:
+    outer = st.layout.row(getattr(q, terminal))
+    if q.model.get(key) <= 0:
+        return outer
+    inner = st.layout.row(internal(q.name, terminal))
+    st.conductance(None, outer, inner, 1.0 / q.model.get(key))
+    return inner
+
+
+def _build(parts: list[el.Jfet], st) -> JfetBank:
+    d = np.array([_inner_row(q, "d", "RD", st) for q in parts])
+    s = np.array([_inner_row(q, "s", "RS", st) for q in parts])
+    g = np.array([st.layout.row(q.g) for q in parts])
+    row = st.layout.row
+    ext = np.array([[row(q.d) for q in parts], g, [row(q.s) for q in parts]])
+    polarity = np.array([1.0 if q.model.kind == "njf" else -1.0 for q in parts])
+    return JfetBank(names=tuple(q.name for q in parts), polarity=polarity,
+                    params=param_arrays([q.model for q in parts], KEYS),
+                    jp=np.stack([g, g]), jn=np.stack([s, d]), src=np.stack([g, g, d]),
+                    dst=np.stack([s, d, s]), cap_a=np.stack([g, g]), cap_b=np.stack([s, d]),
+                    ext=ext)
+
+
+register_family(Family("jfet", el.Jfet, _internal_nodes, _build))

@@ -1,0 +1,117 @@
+"""Op-amp macro-model: input resistance, one-pole gain stage, soft-limited output near its rails.
+
+Per amplifier: RIN between the inputs; a transconductance AOL/R1 into an internal node x,
+loaded by R1 || C1 to the negative rail (DC gain AOL, pole at GBW/AOL); the output is a
+Thevenin source f(x) behind ROUT, where f = vmid + h * tanh((x - vmid) / h) swings softly
+between vneg + SWING_LO and vpos - SWING_HI (vmid their middle, h half their distance), so
+clipping follows the op-amp's own rails; IQ flows from vpos to vneg.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices import Family, register_family
+from kitleaf.engine.devices.base import Bank, internal, param_arrays
+from kitleaf.engine.models import DEFAULTS
+
+KEYS = tuple(DEFAULTS["opamp"])
+R1 = 1e3  # ohms; sets the scale of the internal node, which carries AOL * (v+ - v-)
+H_MIN = 0.1  # volts; floor of the half-swing while the rails are still coming up
+LINEAR_U = 2.0  # |(x - vmid) / h| beyond this the output reports saturated
+
+
+def swing(x, vpos, vneg, p) -> tuple[np.ndarray, ...]:
+    """(f, df/dx, df/dvpos, df/dvneg, u): the soft-limited output and its partials."""
+    vhi, vlo = vpos - p("SWING_HI"), vneg + p("SWING_LO")
+    vmid, h_raw = (vhi + vlo) / 2.0, (vhi - vlo) / 2.0
+    h = np.maximum(h_raw, H_MIN)
+    u = (x - vmid) / h
+    t = np.tanh(u)
+    s = 1.0 - t * t
+    d_h = np.where(h_raw > H_MIN, t - u * s, 0.0) / 2.0
+    return vmid + h * t, s, (1.0 - s) / 2.0 + d_h, (1.0 - s) / 2.0 - d_h, u
+
+
+class OpAmpBank(Bank):
+    """Junctions (x, vpos, vneg) against ground; one current, ground -> out, f / ROUT."""
+
+    def initial(self) -> np.ndarray:
+        zero = np.zeros_like(self.p("AOL"))
+        return np.stack([zero, zero, zero], axis=1)
+
+    def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
+        """Outside the linear range, x may move at most by doubling its distance per step."""
+        *_, u_new = swing(vnew[:, 0], vnew[:, 1], vnew[:, 2], self.p)
+        *_, u_old = swing(vold[:, 0], vnew[:, 1], vnew[:, 2], self.p)
+        room = np.maximum(LINEAR_U, 2.0 * np.abs(u_old))
+        step = np.clip(u_new - u_old, -room, room)
+        h = np.maximum((vnew[:, 1] - vnew[:, 2] - self.p("SWING_HI") - self.p("SWING_LO")) / 2,
+                       H_MIN)
+        x = np.where(np.abs(u_new) > LINEAR_U, vnew[:, 0] + (u_old + step - u_new) * h,
+                     vnew[:, 0])
+        out = vnew.copy()
+        out[:, 0] = x
+        return out
+
+    def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        f, d_x, d_pos, d_neg, _ = swing(v[:, 0], v[:, 1], v[:, 2], self.p)
+        g = 1.0 / self.p("ROUT")
+        slope = np.stack([d_x * g, d_pos * g, d_neg * g], axis=1)[:, None]
+        return (f * g)[:, None], slope
+
+    def capacitances(self, v: np.ndarray) -> np.ndarray:
+        return np.zeros((v.shape[0], 0, v.shape[2]))
+
+    def report(self, v: np.ndarray, xe: np.ndarray, index: int) -> dict[str, float | str]:
+        inp, inn, out, vpos, vneg = (float(a) for a in self.terminal_voltages(xe)[:, index])
+        p = {k: float(a[0, index]) for k, a in self.params.items()}
+        *_, u = swing(v[0, 0, index], v[0, 1, index], v[0, 2, index], lambda k: p[k])
+        out_max, out_min = vpos - p["SWING_HI"], vneg + p["SWING_LO"]
+        vcm = (inp + inn) / 2.0
+        cm_min, cm_max = vneg + p["CM_LO"], vpos - p["CM_HI"]
+        region = "linear" if abs(u) < LINEAR_U else "saturated_high" if u > 0 else "saturated_low"
+        return {"vout": out, "vpos": vpos, "vneg": vneg, "out_max": out_max,
+                "out_min": out_min, "headroom_hi": out_max - out, "headroom_lo": out - out_min,
+                "headroom": min(out_max - out, out - out_min), "vcm": vcm, "cm_min": cm_min,
+                "cm_max": cm_max, "cm_ok": cm_min <= vcm <= cm_max, "vdiff": inp - inn,
+                "region": region}
+
+
+def _internal_nodes(u: el.OpAmp) -> tuple[str, ...]:
+    return (internal(u.name, "x"),)
+
+
+def _stamp_linear(u: el.OpAmp, st) -> int:
+    """Input resistance, gain stage and quiescent current; returns the row of x."""
+    row, m = st.layout.row, u.model
+    x, vneg = row(internal(u.name, "x")), row(u.vneg)
+    st.conductance(None, row(u.inp), row(u.inn), 1.0 / m.get("RIN"))
+    st.transconductance(vneg, x, row(u.inp), row(u.inn), m.get("AOL") / R1)
+    st.conductance(None, x, vneg, 1.0 / R1)
+    pole = m.get("GBW") / m.get("AOL")
+    st.capacitance(None, x, vneg, 1.0 / (2.0 * math.pi * pole * R1))
+    st.conductance(None, row(u.out), row(el.GROUND), 1.0 / m.get("ROUT"))
+    st.source(internal(u.name, "iq"), ((row(u.vpos), -1.0), (vneg, 1.0)), m.get("IQ"))
+    return x
+
+
+def _build(parts: list[el.OpAmp], st) -> OpAmpBank:
+    row = st.layout.row
+    x = np.array([_stamp_linear(u, st) for u in parts])
+    vpos, vneg = np.array([row(u.vpos) for u in parts]), np.array([row(u.vneg) for u in parts])
+    ground = np.full(len(parts), st.layout.size)
+    ext = np.array([[row(getattr(u, t)) for u in parts]
+                    for t in ("inp", "inn", "out", "vpos", "vneg")])
+    return OpAmpBank(names=tuple(u.name for u in parts), polarity=np.ones(len(parts)),
+                     params=param_arrays([u.model for u in parts], KEYS),
+                     jp=np.stack([x, vpos, vneg]), jn=np.stack([ground] * 3),
+                     src=ground[None].copy(), dst=np.array([[row(u.out) for u in parts]]),
+                     cap_a=np.zeros((0, len(parts)), int), cap_b=np.zeros((0, len(parts)), int),
+                     ext=ext)
+
+
+register_family(Family("opamp", el.OpAmp, _internal_nodes, _build))
