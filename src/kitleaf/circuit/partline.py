@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import re
 import shlex
+from dataclasses import replace
 from types import MappingProxyType
 
 from kitleaf.circuit.parts import PART_QUANTITY, Part
@@ -36,6 +37,8 @@ DEFAULT_TOLERANCE = {
     "mica": 0.05, "ceramic": 0.10, "x7r": 0.10, "tantalum": 0.10, "electrolytic": 0.20,
     "capacitor": 0.10,
 }
+# What a rating on a part line means: a capacitor's voltage or a resistor's power.
+RATING_QUANTITY = {"capacitor": "voltage", "resistor": "power", "pot": "power"}
 _DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
 _KEYVALUE = re.compile(r"^([a-z][a-z0-9-]*)=(.+)$")
 
@@ -53,6 +56,7 @@ def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
         words = shlex.split(entry.value)
     except ValueError:
         raise CircuitError(f"{where}: unbalanced quotes in {entry.value!r}", entry.span) from None
+    words, nodes = split_nodes(words)
     if len(words) < 2 or not _DESIGNATOR.match(words[0]):
         raise CircuitError(
             f"{where}: cannot read {entry.value!r}; write a designator and a value, "
@@ -60,16 +64,52 @@ def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
             entry.span,
         )
     designator, value_text, rest = words[0], words[1], words[2:]
-    part_type = _choose_type(designator, accepted, entry.span, where)
+    part_type = _choose_type(designator, accepted, entry.span, where, value_text)
     try:
-        return _make_part(designator, part_type, value_text, rest, entry.span)
+        part = _make_part(designator, part_type, value_text, rest, entry.span)
     except KitleafError as exc:
         raise CircuitError(f"{where}, {designator}: {exc.message}", entry.span) from None
+    if nodes is None:
+        return part
+    return replace(part, attrs=MappingProxyType({**part.attrs, "nodes": " ".join(nodes)}))
 
 
-def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str) -> str:
+def split_nodes(words: list[str]) -> tuple[list[str], list[str] | None]:
+    """A part line's words, and the node names after a lone ``@`` (None when there is none)."""
+    if "@" not in words:
+        return words, None
+    at = words.index("@")
+    return words[:at], words[at + 1:]
+
+
+def device_model(part_type: str, value_text: str) -> str:
+    """The engine model a semiconductor's value names; an LED is written by its colour."""
+    if part_type == "led" and not value_text.upper().startswith("LED"):
+        return f"LED-{value_text.upper()}"
+    return value_text
+
+
+def _by_model(matching: list[str], value_text: str) -> str:
+    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+    from kitleaf.engine.models import get_model  # the model library loads on first use
+
+    try:
+        kind = get_model(value_text).kind
+    except KitleafError:
+        return matching[0]
+    found = _MODEL_TYPES.get(kind)
+    return found if found in matching else matching[0]
+
+
+_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet"}
+
+
+def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str,
+                 value_text: str = "") -> str:
     by_prefix = types_for_designator(designator)
     matching = [t for t in accepted if t in by_prefix]
+    if len(matching) > 1:
+        return _by_model(matching, value_text)
     if matching:
         return matching[0]
     wanted = " or ".join(accepted)
@@ -92,7 +132,7 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
         attrs.setdefault("taper", TAPER_LETTERS[value_text[0]])
         value_text = value_text[1:]
     if quantity is None:
-        model = value_text
+        model = device_model(part_type, value_text)
     else:
         value = parse_value(value_text, quantity)
     if part_type == "pot" and "taper" not in attrs:
@@ -107,10 +147,8 @@ def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):
     low = word.lower()
     if low.endswith("%"):
         return parse_tolerance(word), rating
-    if low.endswith("v") and low[:1].isdigit():
-        return tolerance, parse_rating(word)
-    if low.endswith("w") and low[:1].isdigit():
-        return tolerance, parse_rating(word)
+    if low[-1:] in ("v", "w") and low[:1].isdigit():
+        return tolerance, parse_rating(word, RATING_QUANTITY.get(part_type))
     if low in DIELECTRICS and part_type == "capacitor":
         attrs["dielectric"] = low
     elif low in TAPERS and part_type == "pot":

@@ -18,7 +18,7 @@ def lines_for(path):
 def run(args) -> int:
     boms = [lines_for(path) for path in args.files]
     if args.kits is not None:
-        spares = parse_tolerance(args.spares) if args.spares else 0.0
+        spares = 0.0 if args.spares.strip() in ("", "0", "0%") else parse_tolerance(args.spares)
         print(order_text(batch_order(boms, args.kits, spares)), end="")
         return 0
     if len(boms) > 1:
