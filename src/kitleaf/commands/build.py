@@ -1,27 +1,53 @@
-"""``kitleaf build``: the whole site, written only if every guide succeeds."""
+"""``kitleaf build``: the whole site, written only if every guide succeeds, then a summary."""
 
 from __future__ import annotations
 
 import sys
 
 from kitleaf.cli import command
-from kitleaf.site.build import BuildFailed, build_site
+from kitleaf.site.build import BuildFailed, BuildReport, build_site
+from kitleaf.site.changes import summary_lines
 
 
 def report_failure(failed: BuildFailed) -> int:
     for error in failed.errors:
         print(error, file=sys.stderr)
-    print(f"kitleaf: {len(failed.errors)} guide(s) failed; nothing was written",
+    print(f"kitleaf: {len(failed.errors)} guide(s) failed; the published site is untouched",
           file=sys.stderr)
     return 1
+
+
+def summary(report: BuildReport, out) -> str:
+    """The one line a build ends with: guides, pages, what was written, seconds, warnings."""
+    if report.written or report.removed:
+        wrote = f"{len(report.written)} file(s) written, {len(report.removed)} removed"
+    else:
+        wrote = "nothing changed on disk"
+    return (f"built {report.guides} guide(s), {report.pages} page(s) into {out}/ "
+            f"({report.rebuilt} guide(s) rebuilt, {wrote}) in {report.seconds:.1f} s, "
+            f"{len(report.warnings)} warning(s)")
+
+
+def print_report(report: BuildReport, out) -> None:
+    for warning in report.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
+    if report.written:  # a site that moved: say what changed for the errata
+        for line in summary_lines(report.changes):
+            print(f"changed: {line}")
+    print(summary(report, out), flush=True)
+
+
+def build_options(args) -> dict:
+    """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``)."""
+    return {"jobs": getattr(args, "jobs", None),
+            "use_cache": not getattr(args, "no_cache", False)}
 
 
 @command("build")
 def run(args) -> int:
     try:
-        report = build_site(args.guides, args.out)
+        report = build_site(args.guides, args.out, **build_options(args))
     except BuildFailed as failed:
         return report_failure(failed)
-    print(f"built {report.guides} guide(s), {report.files} files into {args.out}/ "
-          f"in {report.seconds:.1f} s")
+    print_report(report, args.out)
     return 0

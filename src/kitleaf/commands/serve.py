@@ -1,47 +1,70 @@
-"""``kitleaf serve``: build, serve the site on 127.0.0.1, rebuild when a guide changes."""
+"""``kitleaf serve``: build, serve on 127.0.0.1, rebuild and reload pages when a source changes."""
 
 from __future__ import annotations
 
-import functools
-import http.server
 import sys
 import threading
+from pathlib import Path
 
 from kitleaf.cli import command
-from kitleaf.commands.build import report_failure
+from kitleaf.commands.build import build_options, print_report
 from kitleaf.errors import KitleafError
 from kitleaf.site.build import BuildFailed, build_site
+from kitleaf.site.cache import CACHE_DIR_NAME
+from kitleaf.site.discover import site_root_for
+from kitleaf.site.live import LOOPBACK, LiveState, make_server, start
+
+# Folders beside guides/ whose files change what a build makes.
+WATCHED_SIBLINGS = ("themes", "models")
 
 
-def rebuild(args) -> None:
+def rebuild(args, state: LiveState) -> None:
+    """One build; a failure is printed and shown in the open pages, never raised."""
     try:
-        report = build_site(args.guides, args.out)
-        print(f"built {report.guides} guide(s) in {report.seconds:.1f} s", flush=True)
+        print_report(build_site(args.guides, args.out, **build_options(args)), args.out)
+        state.finished()
     except BuildFailed as failed:
-        report_failure(failed)
+        errors = tuple(str(e) for e in failed.errors)
+        print("\n".join(errors), file=sys.stderr, flush=True)
+        state.finished(errors)
     except KitleafError as exc:
-        print(exc, file=sys.stderr)
+        print(exc, file=sys.stderr, flush=True)
+        state.finished((str(exc),))
 
 
-def serve_folder(args) -> http.server.ThreadingHTTPServer:
-    handler = functools.partial(http.server.SimpleHTTPRequestHandler,
-                                directory=str(args.out.resolve()))
-    server = http.server.ThreadingHTTPServer((args.host, args.port), handler)
-    threading.Thread(target=server.serve_forever, daemon=True).start()
-    return server
+def watched_paths(guides: Path) -> list[Path]:
+    """The guides, and the site's own themes and models where it has them."""
+    root = site_root_for(guides)
+    return [guides] + [root / name for name in WATCHED_SIBLINGS if (root / name).is_dir()]
+
+
+def ignores(out: Path):
+    """A watch filter that skips what a build writes: the site, its staging and the cache."""
+    out = out.resolve()
+    own = (str(out), str(out.parent / f".{out.name}."), str(out.parent / CACHE_DIR_NAME))
+
+    def wanted(_change, path: str) -> bool:
+        return not path.startswith(own) and not Path(path).name.startswith((".", "~"))
+
+    return wanted
 
 
 @command("serve")
-def run(args) -> int:
+def run(args, stop: threading.Event | None = None) -> int:
     from watchfiles import watch
 
-    rebuild(args)
+    state = LiveState()
+    rebuild(args, state)
     args.out.mkdir(parents=True, exist_ok=True)
-    server = serve_folder(args)
-    print(f"serving {args.out}/ on http://{args.host}:{args.port}/ (Ctrl-C stops)", flush=True)
+    server = make_server(args.out.resolve(), state, getattr(args, "host", LOOPBACK), args.port)
+    start(server)
+    host, port = server.server_address[:2]
+    print(f"serving {args.out}/ on http://{host}:{port}/ (Ctrl-C stops)", flush=True)
     try:
-        for _changes in watch(args.guides):
-            rebuild(args)
+        for _changes in watch(*watched_paths(args.guides), watch_filter=ignores(args.out),
+                              stop_event=stop, yield_on_timeout=False):
+            rebuild(args, state)
     finally:
         server.shutdown()
+        server.server_close()
     return 0

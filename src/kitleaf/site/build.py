@@ -1,17 +1,29 @@
-"""build_site: a folder of guides in, a whole static site out, or nothing written at all."""
+"""build_site: a folder of guides in, a whole static site out, or nothing written at all.
+
+A guide whose text, theme and kitleaf code are unchanged is taken whole from the cache; the
+rest are built across the cores. The index, the manifest and the changes page are made here,
+and :func:`publish` writes only the files whose bytes changed.
+"""
 
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
-from kitleaf.errors import KitleafError
+from kitleaf.errors import BuildError, KitleafError, SourceSpan
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
+from kitleaf.site.cache import Cache, default_cache_dir
+from kitleaf.site.changes import compare
 from kitleaf.site.discover import find_guides, site_root_for
-from kitleaf.site.guide_output import GuideOutput, process_guide
+from kitleaf.site.fingerprint import theme_fingerprint
+from kitleaf.site.manifest import MANIFEST_NAME, dump_manifest, make_manifest, read_manifest
+from kitleaf.site.pool import default_jobs, run_guides
+from kitleaf.site.progress import Progress
 from kitleaf.site.publish import publish
+
+CHANGES_PAGE = "changes.html"
 
 
 class BuildFailed(Exception):
@@ -24,26 +36,71 @@ class BuildFailed(Exception):
 
 @dataclass(frozen=True)
 class BuildReport:
+    """What a build did: guides, files in the site, seconds, and what changed on disk."""
+
     guides: int
     files: int
     seconds: float
+    written: tuple[str, ...] = ()
+    removed: tuple[str, ...] = ()
+    rebuilt: int = 0  # guides solved and rendered, not taken whole from the cache
+    warnings: tuple[str, ...] = ()
+    changes: dict = field(default_factory=dict)
+    pages: int = 0
 
 
-def collect(target: Path, themes: list[Path]) -> list[GuideOutput]:
-    """Process every guide; gather every guide's error instead of stopping at the first."""
-    outputs, errors = [], []
-    for path in find_guides(target):
-        try:
-            outputs.append(process_guide(path, themes))
-        except KitleafError as exc:
-            errors.append(exc)
+def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
+               cache_dir: Path | None = None, use_cache: bool = True,
+               progress=None) -> BuildReport:
+    """Build every guide under ``target`` into ``out_dir``; on any error nothing is written."""
+    started = time.perf_counter()
+    themes = theme_dirs(site_root_for(target))
+    paths = find_guides(target)
+    cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
+    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress)
+    files, changes = site_files(outputs, themes, Path(out_dir))
+    result = publish(Path(out_dir), files)
+    warnings = tuple(w for o in outputs for w in o.warnings)
+    pages = sum(1 for name in files if name.endswith(".html"))
+    return BuildReport(len(paths), len(files), time.perf_counter() - started, result.written,
+                       result.removed, rebuilt, warnings, changes, pages)
+
+
+def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: int,
+            stream=None) -> tuple[list, int]:
+    """Every guide's output, from the cache or built; every guide's error, not just the first."""
+    theme_key = theme_fingerprint(themes)
+    keys = [cache.key("guide", theme_key, str(p), p.read_bytes()) if cache else "" for p in paths]
+    outputs = [cache.load("guide", k) if cache else None for k in keys]
+    todo = [i for i, o in enumerate(outputs) if o is None]
+    progress = Progress(len(paths), stream)
+    progress.advance(len(paths) - len(todo))
+    built = run_guides([paths[i] for i in todo], themes, cache.root if cache else None, jobs,
+                       progress.advance, progress.tick)
+    progress.done()
+    errors = [r for r in built if isinstance(r, KitleafError)]
     if errors:
         raise BuildFailed(errors)
-    return outputs
+    for i, output in zip(todo, built, strict=True):
+        outputs[i] = output
+        if cache:
+            cache.store("guide", keys[i], output)
+    check_slugs(paths, outputs)
+    return outputs, len(todo)
 
 
-def site_files(outputs: list[GuideOutput], themes: list[Path]) -> dict[str, bytes]:
-    """Every file of the site: the guides' own, the index and the theme's static assets."""
+def check_slugs(paths: list[Path], outputs: list) -> None:
+    seen: dict[str, Path] = {}
+    for path, output in zip(paths, outputs, strict=True):
+        slug = output.card.slug
+        if slug in seen:
+            raise BuildError(f"{path.name} and {seen[slug].name} both make the pages '{slug}/'; "
+                             "rename one of the files", SourceSpan(str(path), 1))
+        seen[slug] = path
+
+
+def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, dict]:
+    """Every file of the site, and the change record against the published manifest."""
     files: dict[str, bytes] = {}
     for output in outputs:
         files.update(output.files)
@@ -51,7 +108,12 @@ def site_files(outputs: list[GuideOutput], themes: list[Path]) -> dict[str, byte
     cards = sorted((o.card for o in outputs), key=lambda c: (c.code, c.slug))
     files["index.html"] = render_page(env, "index.html", {"cards": cards, "root": ""}, "index")
     files.update(static_files(themes))
-    return files
+    guides = {o.card.slug: o.record for o in outputs}
+    changes = compare(read_manifest(out_dir), {"guides": guides})
+    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes))
+    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {"changes": changes, "root": ""},
+                                      CHANGES_PAGE)
+    return files, changes
 
 
 def static_files(themes: list[Path]) -> dict[str, bytes]:
@@ -62,12 +124,3 @@ def static_files(themes: list[Path]) -> dict[str, bytes]:
         for path in sorted(p for p in static.rglob("*") if p.is_file()):
             files[f"static/{path.relative_to(static).as_posix()}"] = path.read_bytes()
     return files
-
-
-def build_site(target: Path, out_dir: Path) -> BuildReport:
-    """Build every guide under ``target`` into ``out_dir``; on any error nothing is written."""
-    started = time.perf_counter()
-    themes = theme_dirs(site_root_for(target))
-    files = site_files(collect(target, themes), themes)
-    publish(out_dir, files)
-    return BuildReport(len(find_guides(target)), len(files), time.perf_counter() - started)

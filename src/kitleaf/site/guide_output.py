@@ -1,4 +1,9 @@
-"""Everything one guide contributes to the site: its pages, drawings and plots, as bytes."""
+"""Everything one guide contributes to the site: its pages, drawings and plots, as bytes.
+
+Each costly result is cached by the hash of exactly what it depends on: the specs by the kit's
+circuit, a stage's schematic by that stage's parts and the supply, a plot by the curves it
+draws. Pages are cheap and always rendered; publishing writes them only if their bytes moved.
+"""
 
 from __future__ import annotations
 
@@ -7,44 +12,44 @@ from pathlib import Path
 
 from kitleaf.bom import bom_lines
 from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.chain import KitCircuit
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.pages import Card, render_page
-from kitleaf.render.plot import render_response_svg
+from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import render_overview_svg, render_stage_svg
+from kitleaf.site.cache import Cache, NoCache
+from kitleaf.site.fingerprint import canonical, contains_span
+from kitleaf.site.manifest import guide_record
 from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.plots import kit_plot, stage_plot
 from kitleaf.specs.summary import headline, stage_headline
 
 
 @dataclass(frozen=True)
 class GuideOutput:
-    """The files of one guide (site-relative path -> bytes) and its index card."""
+    """The files of one guide (site-relative path -> bytes), its index card and manifest entry."""
 
     card: Card
     files: tuple[tuple[str, bytes], ...]
+    record: dict | None = None
+    warnings: tuple[str, ...] = ()
 
 
-def process_guide(path: Path, themes: list[Path]) -> GuideOutput:
+def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:
     """Parse, solve and render one guide; raises a located KitleafError on any problem."""
+    cache = cache or NoCache()
     guide = parse_guide(path)
     kit = build_circuit(guide)
-    specs = derive_specs(guide, kit)
+    specs = cached_specs(cache, guide, kit)
     slug = guide.slug
-    files: dict[str, bytes] = {}
-    assets = {}
-    for stage in kit.stages:
-        schematic = f"{slug}/{stage.id}-schematic.svg"
-        files[schematic] = render_stage_svg(kit, stage).encode()
-        entry = {"schematic": f"{stage.id}-schematic.svg", "plot": None}
-        plot = stage_plot(specs, stage.id)
-        if plot is not None:
-            files[f"{slug}/{stage.id}-response.svg"] = render_response_svg(plot).encode()
-            entry["plot"] = f"{stage.id}-response.svg"
-        assets[stage.id] = entry
-    files[f"{slug}/overview.svg"] = render_overview_svg(kit, headline_by_stage(specs)).encode()
-    files[f"{slug}/response.svg"] = render_response_svg(kit_plot(specs)).encode()
+    files, assets = stage_files(cache, kit, specs, slug)
+    overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
+                          lambda: render_overview_svg(kit, headline_by_stage(specs)))
+    files[f"{slug}/overview.svg"] = overview
+    files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
     env = make_environment(themes)
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
@@ -54,7 +59,53 @@ def process_guide(path: Path, themes: list[Path]) -> GuideOutput:
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), f"{slug}/index.html")
-    return GuideOutput(card, tuple(sorted(files.items())))
+    record = guide_record(Path(path).name, kit.parts(), specs)
+    warnings = tuple(f"{guide.path}: {note}" for note in specs.notes)
+    return GuideOutput(card, tuple(sorted(files.items())), record, warnings)
+
+
+def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
+    """Each stage's schematic and, for a signal stage, its response plot."""
+    files: dict[str, bytes] = {}
+    assets = {}
+    for stage in kit.stages:
+        # A stage's drawing depends on its own parts and the supply label, nothing else.
+        files[f"{slug}/{stage.id}-schematic.svg"] = cached_svg(
+            cache, "schematic", (stage, kit.supply_v), lambda s=stage: render_stage_svg(kit, s))
+        entry = {"schematic": f"{stage.id}-schematic.svg", "plot": None}
+        plot = stage_plot(specs, stage.id)
+        if plot is not None:
+            files[f"{slug}/{stage.id}-response.svg"] = plot_svg(cache, plot)
+            entry["plot"] = f"{stage.id}-response.svg"
+        assets[stage.id] = entry
+    return files, assets
+
+
+def cached_svg(cache: Cache, kind: str, inputs: object, draw) -> bytes:
+    key = cache.key(kind, canonical(inputs))
+    return cache.bytes_for(kind, key, lambda: draw().encode())
+
+
+def plot_svg(cache: Cache, plot: ResponsePlot) -> bytes:
+    return cached_svg(cache, "plot", plot, lambda: render_response_svg(plot))
+
+
+def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
+    """The solved specs, re-solved only when a block of the guide or the kit's circuit changed.
+
+    Prose is not part of the key, nor are line numbers; specs that carry a location are stored
+    under a key with the lines, so a located finding never shows a stale line.
+    """
+    inputs = (guide.kit, guide.stages, kit)
+    plain = cache.key("specs", canonical(inputs))
+    located = cache.key("specs", canonical(inputs, spans=True))
+    for key in (plain, located):
+        found = cache.load("specs", key)
+        if isinstance(found, KitSpecs):
+            return found
+    specs = derive_specs(guide, kit)
+    cache.store("specs", located if contains_span(specs) else plain, specs)
+    return specs
 
 
 def headline_by_stage(specs) -> dict[str, str]:

@@ -1,41 +1,156 @@
-"""Writing a built site atomically: into a temporary folder beside the output, then swapped in."""
+"""Publishing a built site: only changed files are written, and the swap is all or nothing.
+
+A staging folder beside the output receives the changed files and hard links to the unchanged
+ones (same inode, so their modification times stay); the staging folder and the output are
+then exchanged in one ``renameat2(RENAME_EXCHANGE)`` call where the system has it, else in two
+renames. Until that moment the published site is untouched; a build killed earlier leaves only
+a stale staging folder, removed by the next publish. A site with no changed file is not touched
+at all.
+"""
 
 from __future__ import annotations
 
+import contextlib
+import ctypes
 import os
 import shutil
 import tempfile
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Mapping
+
+try:
+    import fcntl
+except ImportError:  # not POSIX: no lock, publishes must not overlap
+    fcntl = None
+
+STAGING, RETIRED = "new", "old"
 
 
-def write_tree(root: Path, files: Mapping[str, bytes]) -> None:
-    """Write ``files`` (relative posix path -> bytes) under ``root``."""
-    for rel in sorted(files):
-        path = root / rel
-        path.parent.mkdir(parents=True, exist_ok=True)
-        path.write_bytes(files[rel])
+@dataclass(frozen=True)
+class PublishResult:
+    """What publishing did: files written (new or changed), files removed, files kept."""
+
+    written: tuple[str, ...]
+    removed: tuple[str, ...]
+    kept: int
+
+    @property
+    def touched(self) -> bool:
+        return bool(self.written or self.removed)
 
 
-def publish(out_dir: Path, files: Mapping[str, bytes]) -> None:
-    """Replace ``out_dir`` with exactly ``files``; the old site stays whole until the swap."""
+def plan(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
+    """Compare the new site with the published one, file by file."""
+    written = tuple(rel for rel in sorted(files) if not same_bytes(out_dir / rel, files[rel]))
+    present = published_files(out_dir)
+    removed = tuple(sorted(present - files.keys()))
+    return PublishResult(written, removed, len(files) - len(written))
+
+
+def same_bytes(path: Path, data: bytes) -> bool:
+    try:
+        return path.stat().st_size == len(data) and path.read_bytes() == data
+    except OSError:
+        return False
+
+
+def published_files(out_dir: Path) -> set[str]:
+    if not out_dir.is_dir():
+        return set()
+    return {p.relative_to(out_dir).as_posix() for p in out_dir.rglob("*") if not p.is_dir()}
+
+
+def publish(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
+    """Make ``out_dir`` hold exactly ``files``, writing only what changed; all or nothing."""
     out_dir = out_dir.resolve()
     out_dir.parent.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.new-", dir=out_dir.parent))
+    with locked(out_dir):
+        recover(out_dir)
+        result = plan(out_dir, files)
+        if not result.touched and out_dir.is_dir():
+            return result
+        staging = Path(tempfile.mkdtemp(prefix=_prefix(out_dir, STAGING), dir=out_dir.parent))
+        try:
+            fill(staging, out_dir, files, set(result.written))
+            swap(staging, out_dir)
+        finally:
+            shutil.rmtree(staging, ignore_errors=True)  # after the swap: the retired site
+    return result
+
+
+@contextlib.contextmanager
+def locked(out_dir: Path) -> Iterator[None]:
+    """One publish at a time per output (a ``build`` beside a running ``serve``)."""
+    if fcntl is None:
+        yield
+        return
+    with open(out_dir.parent / f".{out_dir.name}.lock", "a+b") as handle:
+        fcntl.flock(handle, fcntl.LOCK_EX)
+        try:
+            yield
+        finally:
+            fcntl.flock(handle, fcntl.LOCK_UN)
+
+
+def fill(staging: Path, out_dir: Path, files: Mapping[str, bytes], changed: set[str]) -> None:
+    """Changed files written afresh, unchanged ones linked from the published site."""
+    for rel in sorted(files):
+        target = staging / rel
+        target.parent.mkdir(parents=True, exist_ok=True)
+        if rel in changed:
+            target.write_bytes(files[rel])
+        else:
+            link_or_copy(out_dir / rel, target)
+
+
+def link_or_copy(source: Path, target: Path) -> None:
+    """A hard link keeps the file's inode and time; a copy with its times where links fail."""
     try:
-        write_tree(staging, files)
-        _swap(staging, out_dir)
-    finally:
-        if staging.exists():
-            shutil.rmtree(staging, ignore_errors=True)
+        os.link(source, target)
+    except OSError:
+        shutil.copy2(source, target)
 
 
-def _swap(staging: Path, out_dir: Path) -> None:
+def swap(staging: Path, out_dir: Path) -> None:
+    """Put ``staging`` in place of ``out_dir``; the old site ends up at ``staging``."""
     if not out_dir.exists():
         os.replace(staging, out_dir)
         return
-    retired = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.old-", dir=out_dir.parent))
+    if exchange(staging, out_dir):
+        return
+    retired = Path(tempfile.mkdtemp(prefix=_prefix(out_dir, RETIRED), dir=out_dir.parent))
     os.rmdir(retired)
-    os.replace(out_dir, retired)  # two renames: the window without a site is one syscall wide
+    os.replace(out_dir, retired)  # the window without a site is one syscall wide
     os.replace(staging, out_dir)
-    shutil.rmtree(retired, ignore_errors=True)
+    os.replace(retired, staging)
+
+
+def exchange(a: Path, b: Path) -> bool:
+    """Swap two paths in one atomic step (Linux ``renameat2``); False where unsupported."""
+    rename = getattr(_libc(), "renameat2", None)
+    if rename is None:
+        return False
+    at_fdcwd, rename_exchange = -100, 2
+    done = rename(at_fdcwd, os.fsencode(a), at_fdcwd, os.fsencode(b), rename_exchange)
+    return done == 0
+
+
+def _libc():
+    try:
+        return ctypes.CDLL(None, use_errno=True)
+    except OSError:
+        return None
+
+
+def recover(out_dir: Path) -> None:
+    """Undo what an interrupted publish left: restore a retired site, drop stale staging."""
+    retired = sorted(out_dir.parent.glob(_prefix(out_dir, RETIRED) + "*"))
+    if retired and not out_dir.exists():
+        os.replace(retired.pop(), out_dir)
+    for stale in retired + sorted(out_dir.parent.glob(_prefix(out_dir, STAGING) + "*")):
+        shutil.rmtree(stale, ignore_errors=True)
+
+
+def _prefix(out_dir: Path, role: str) -> str:
+    return f".{out_dir.name}.{role}-"

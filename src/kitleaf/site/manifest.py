@@ -1,0 +1,53 @@
+"""The build manifest: each guide's parts and computed specs, kept in the output as JSON.
+
+``manifest.json`` (schema ``kitleaf-manifest/1``) is what the next build compares against to
+report which parts changed value and which specs moved. It holds no timestamps and sorts its
+keys, so an unchanged site gives an unchanged manifest.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+from kitleaf.circuit.parts import Part
+from kitleaf.specs.export import specs_to_json
+from kitleaf.specs.model import KitSpecs
+
+SCHEMA = "kitleaf-manifest/1"
+MANIFEST_NAME = "manifest.json"
+
+
+def part_record(part: Part) -> dict[str, Any]:
+    """What the change report needs of a part: its SI value or model, tolerance and line."""
+    return {"designator": part.designator, "type": part.type, "stage": part.stage_id,
+            "role": part.role, "value": part.value, "model": part.model,
+            "tolerance": part.tolerance, "text": part.text}
+
+
+def guide_record(source: str, parts: tuple[Part, ...], specs: KitSpecs) -> dict[str, Any]:
+    """One guide's entry: its file name, parts in designator order and the specs JSON."""
+    return {"source": source,
+            "parts": sorted((part_record(p) for p in parts), key=lambda r: r["designator"]),
+            "specs": specs_to_json(specs)}
+
+
+def make_manifest(guides: dict[str, dict], changes: dict) -> dict[str, Any]:
+    """The whole manifest: guides by slug and the change record of this publish."""
+    return {"schema": SCHEMA, "guides": dict(sorted(guides.items())), "changes": changes}
+
+
+def dump_manifest(manifest: dict[str, Any]) -> bytes:
+    return (json.dumps(manifest, sort_keys=True, indent=1, ensure_ascii=False) + "\n").encode()
+
+
+def read_manifest(out_dir: Path) -> dict[str, Any] | None:
+    """The manifest of the site now published in ``out_dir``, or None (first build, or foreign)."""
+    try:
+        manifest = json.loads((out_dir / MANIFEST_NAME).read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+    if not isinstance(manifest, dict) or manifest.get("schema") != SCHEMA:
+        return None
+    return manifest

@@ -1,0 +1,87 @@
+"""Solving and rendering guides across all cores: a process pool whose result equals a serial run.
+
+Each worker builds whole guides and returns a :class:`GuideOutput` or the guide's
+:class:`KitleafError` (picklable, so it crosses the process boundary with its location).
+Results are put back in guide order, so the site never depends on which worker finished first.
+Workers start from a fork server that has imported the pipeline once.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as futures
+import multiprocessing
+import os
+from collections.abc import Callable
+from pathlib import Path
+
+from kitleaf.errors import KitleafError
+
+PIPELINE_MODULE = "kitleaf.site.guide_output"
+Result = object  # a GuideOutput, or the KitleafError that stopped the guide
+
+
+def default_jobs() -> int:
+    """Every core this process may run on."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:
+        return max(1, os.cpu_count() or 1)
+
+
+def build_one(path: Path, themes: list[Path], cache_root: Path | None) -> Result:
+    """One guide, start to finish; a user error is returned, not raised, to keep the others."""
+    from kitleaf.site.cache import Cache, NoCache
+    from kitleaf.site.guide_output import process_guide
+
+    cache = Cache(cache_root) if cache_root is not None else NoCache()
+    try:
+        return process_guide(path, themes, cache=cache)
+    except KitleafError as exc:
+        return exc
+    except Exception as exc:  # a kitleaf bug: keep the traceback, but say which guide
+        exc.add_note(f"while building {path}")
+        raise
+
+
+def run_guides(paths: list[Path], themes: list[Path], cache_root: Path | None, jobs: int,
+               advance: Callable[[], None] = lambda: None,
+               tick: Callable[[], None] = lambda: None) -> list[Result]:
+    """Build ``paths`` with up to ``jobs`` processes; results in the order of ``paths``."""
+    workers = min(jobs, len(paths))
+    if workers <= 1:
+        return [_serial(path, themes, cache_root, advance) for path in paths]
+    with futures.ProcessPoolExecutor(workers, mp_context=_context()) as pool:
+        try:
+            return _parallel(pool, paths, themes, cache_root, advance, tick)
+        except BaseException:
+            pool.shutdown(wait=False, cancel_futures=True)
+            raise
+
+
+def _serial(path: Path, themes: list[Path], cache_root: Path | None, advance) -> Result:
+    result = build_one(path, themes, cache_root)
+    advance()
+    return result
+
+
+def _parallel(pool, paths, themes, cache_root, advance, tick) -> list[Result]:
+    pending = {pool.submit(build_one, p, themes, cache_root): i for i, p in enumerate(paths)}
+    results: list[Result] = [None] * len(paths)
+    waiting = set(pending)
+    while waiting:
+        finished, waiting = futures.wait(waiting, timeout=0.5,
+                                         return_when=futures.FIRST_COMPLETED)
+        for future in finished:
+            results[pending[future]] = future.result()
+            advance()
+        tick()
+    return results
+
+
+def _context():
+    """A fork server where the platform has one (fast, and safe beside threads), else spawn."""
+    if "forkserver" in multiprocessing.get_all_start_methods():
+        context = multiprocessing.get_context("forkserver")
+        context.set_forkserver_preload([PIPELINE_MODULE])
+        return context
+    return multiprocessing.get_context("spawn")
