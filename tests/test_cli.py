@@ -1,0 +1,79 @@
+"""The command line: one-line located errors, exit codes, and every broken guide reported."""
+
+import json
+import re
+from pathlib import Path
+
+import pytest
+
+from kitleaf.cli import main
+
+BAD = sorted((Path(__file__).parent / "fixtures" / "bad").glob("*.md"))
+DEMO = Path(__file__).parent.parent / "guides"
+EXPECT = re.compile(r"<!-- expect: (\d+): (.*) -->")
+
+
+def expectation(path: Path) -> tuple[int, str]:
+    """Each broken guide declares, on its first line, the line and words its error must have."""
+    match = EXPECT.match(path.read_text(encoding="utf-8").splitlines()[0])
+    assert match, f"{path.name} lacks its expect line"
+    return int(match[1]), match[2]
+
+
+@pytest.mark.parametrize("path", BAD, ids=[p.stem for p in BAD])
+def test_bad_guide_gives_one_located_line(path, capsys):
+    line, words = expectation(path)
+    assert main(["check", str(path)]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1, err
+    assert err[0].startswith(f"{path}:{line}: error: "), err[0]
+    assert words in err[0]
+    assert "Traceback" not in err[0]
+
+
+def test_check_reports_every_broken_guide(tmp_path, capsys):
+    for path in BAD[:3]:
+        (tmp_path / path.name).write_text(path.read_text(encoding="utf-8"), encoding="utf-8")
+    assert main(["check", str(tmp_path)]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 3
+    assert {e.split(":")[0] for e in err} == {str(tmp_path / p.name) for p in BAD[:3]}
+
+
+def test_check_passes_the_demo(capsys):
+    assert main(["check", str(DEMO)]) == 0
+
+
+def test_failed_build_keeps_the_previous_site(tmp_path, capsys):
+    guides = tmp_path / "guides"
+    guides.mkdir()
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    (guides / "a.md").write_text(good, encoding="utf-8")
+    out = tmp_path / "site"
+    assert main(["build", str(guides), "-o", str(out)]) == 0
+    before = {p: p.read_bytes() for p in out.rglob("*") if p.is_file()}
+    (guides / "a.md").write_text(good.replace("R3 8k2", "R3 8q2"), encoding="utf-8")
+    assert main(["build", str(guides), "-o", str(out)]) == 1
+    after = {p: p.read_bytes() for p in out.rglob("*") if p.is_file()}
+    assert after == before
+    assert "a.md" in capsys.readouterr().err
+
+
+def test_specs_json_has_the_documented_fields(capsys):
+    assert main(["specs", str(DEMO / "heron-opamp-boost.md"), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["schema"].startswith("kitleaf-specs/")
+    gain = next(s for s in data["stages"] if s["id"] == "gain")
+    for key in ("dc_voltages", "gain_db_1khz_by_knob", "low_corner_hz", "high_corner_hz",
+                "input_impedance_ohm_1khz", "output_impedance_ohm_1khz", "supply_current_ma"):
+        assert key in gain
+    knobs = [p["knobs"] for p in gain["gain_db_1khz_by_knob"]]
+    assert {"Gain": 0.0} in knobs and {"Gain": 1.0} in knobs
+
+
+def test_new_guide_checks_clean(tmp_path, capsys):
+    assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 0
+    written = tmp_path / "moss-drive.md"
+    assert written.is_file()
+    assert main(["check", str(written)]) == 0
+    assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 1
