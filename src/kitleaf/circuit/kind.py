@@ -7,6 +7,7 @@ from typing import TYPE_CHECKING, ClassVar, Mapping
 
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
+from kitleaf.guide.model import Entry
 
 if TYPE_CHECKING:  # the wiring context lives in chain.py, which imports this module
     from kitleaf.circuit.chain import Wiring
@@ -21,6 +22,8 @@ class Role:
     required: bool = True
     many: bool = False
     help: str = ""
+    # True when each part line also names the nodes it joins after an '@' (the custom kind).
+    nodes: bool = False
 
 
 @dataclass(frozen=True)
@@ -55,7 +58,11 @@ class Stage:
     parts: Mapping[str, tuple[Part, ...]]
     options: Mapping[str, str]
     span: SourceSpan
-    extra: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+    # Lines under the kind's own keys (``extra_keys``), kept whole so errors can name the line.
+    extra: Mapping[str, tuple[Entry, ...]] = field(default_factory=dict)
+    # ``claim:`` and ``allow:`` lines, which every kind takes (kitleaf.specs.claims and .rules).
+    claims: tuple[Entry, ...] = ()
+    allows: tuple[Entry, ...] = ()
 
     def part(self, role: str) -> Part | None:
         """The single part playing ``role``, or None if the optional role is empty."""

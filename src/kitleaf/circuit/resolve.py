@@ -11,7 +11,10 @@ from kitleaf.circuit.partline import read_part
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.stages import KINDS
 from kitleaf.errors import CircuitError
-from kitleaf.guide.model import StageBlock
+from kitleaf.guide.model import Entry, StageBlock
+
+# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules.
+GENERIC_KEYS = ("claim", "allow")
 
 
 def kind_of(block: StageBlock) -> StageKind:
@@ -37,7 +40,7 @@ def resolve_stage(block: StageBlock) -> Stage:
     options = {o.name: o for o in kind.options}
     parts: dict[str, list[Part]] = {}
     chosen: dict[str, str] = {}
-    extra: dict[str, list[str]] = {}
+    extra: dict[str, list[Entry]] = {}
     for entry in block.entries:
         where = f"stage '{block.id}', role '{entry.key}'"
         if entry.key in roles:
@@ -45,14 +48,17 @@ def resolve_stage(block: StageBlock) -> Stage:
             if parts.get(role.name) and not role.many:
                 raise CircuitError(f"{where} takes one part; it is given twice", entry.span)
             part = read_part(entry, role.part_types, where)
+            _check_nodes(part, role, where)
             parts.setdefault(role.name, []).append(
                 _placed(part, role.name, block.id))
         elif entry.key in options:
             chosen[entry.key] = _option(entry, options[entry.key], block.id)
         elif entry.key in kind.extra_keys:
-            extra.setdefault(entry.key, []).append(entry.value)
+            extra.setdefault(entry.key, []).append(entry)
+        elif entry.key in GENERIC_KEYS:
+            extra.setdefault(entry.key, []).append(entry)
         else:
-            known = sorted([*roles, *options, *kind.extra_keys])
+            known = sorted([*roles, *options, *kind.extra_keys, *GENERIC_KEYS])
             raise CircuitError(
                 f"stage '{block.id}' ({kind.name}) has no role or option '{entry.key}'"
                 f"{did_you_mean(entry.key, known)}; it takes: {', '.join(known)}",
@@ -64,9 +70,21 @@ def resolve_stage(block: StageBlock) -> Stage:
     stage = Stage(block.id, kind.name, block.title,
                   MappingProxyType({k: tuple(v) for k, v in parts.items()}),
                   MappingProxyType(chosen), block.span,
-                  MappingProxyType({k: tuple(v) for k, v in extra.items()}))
+                  MappingProxyType({k: tuple(v) for k, v in extra.items()
+                                    if k not in GENERIC_KEYS}),
+                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())))
     kind.check(stage)
     return stage
+
+
+def _check_nodes(part: Part, role, where: str) -> None:
+    """Nodes after '@' belong on the custom kind's part lines, and only there."""
+    if role.nodes and "nodes" not in part.attrs:
+        raise CircuitError(f"{where}: name the nodes {part.designator} joins after '@', "
+                           f"like '{part.designator} {part.text} @ in b'", part.span)
+    if not role.nodes and "nodes" in part.attrs:
+        raise CircuitError(f"{where}: this kind wires its parts itself; drop the '@ ...' "
+                           "nodes (only custom stages name nodes)", part.span)
 
 
 def _placed(part: Part, role: str, stage_id: str) -> Part:

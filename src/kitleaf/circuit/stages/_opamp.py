@@ -1,0 +1,88 @@
+"""What the two op-amp kinds share: the output network and the feedback-loop drawing."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from kitleaf.circuit.kind import Stage
+from kitleaf.circuit.parts import Part
+from kitleaf.circuit.stages._shared import opamp_pins
+
+PLUS_Y = 8.0  # the + input's row; the - input sits 1.25 below it
+ROW_GAP = 1.6  # between the parallel rows of the feedback network
+
+
+def feedback_rows(stage: Stage, with_gain: bool) -> list[list[Part]]:
+    """The feedback resistor (and the gain pot in series, if asked), then the feedback cap."""
+    gain = stage.part("gain") if with_gain else None
+    rows = [[p for p in (stage.part("feedback"), gain) if p]]
+    if stage.part("feedback-cap"):
+        rows.append([stage.part("feedback-cap")])
+    return rows
+
+
+def draw_opamp_core(sheet, stage: Stage, rows: list[list[Part]], leg: Sequence[Part]
+                    ) -> tuple[dict, tuple]:
+    """The op-amp, its feedback ``rows`` below it, and the ``leg`` from the - input to ground.
+
+    Returns the op-amp pins and the output node, where the output network starts.
+    """
+    from kitleaf.render.schematic import GROUND_Y
+
+    opamp = stage.part("opamp")
+    pins = sheet.opamp(opamp, (4.6, PLUS_Y), _shown_pins(opamp))
+    minus = pins["inv"]
+    width = max(2.4, 2.2 * max(len(r) for r in rows))
+    right = max(pins["out"][0] + 0.6, minus[0] + width)
+    top_y = minus[1] - 1.7
+    for i, row in enumerate(rows):
+        y = top_y - ROW_GAP * i
+        _row(sheet, row, (minus[0], y), (right, y))
+    bottom_y = top_y - ROW_GAP * (len(rows) - 1)
+    sheet.wire(minus, (minus[0], bottom_y))
+    sheet.wire(pins["out"], (right, pins["out"][1]), (right, bottom_y))
+    for i in range(len(rows) - 1):
+        sheet.dot((minus[0], top_y - ROW_GAP * i))
+        sheet.dot((right, top_y - ROW_GAP * i))
+    if leg:
+        sheet.dot((minus[0], bottom_y))
+        draw_leg(sheet, leg, (minus[0], bottom_y), (minus[0], GROUND_Y))
+    node = (right, pins["out"][1])
+    sheet.dot(node)
+    return pins, node
+
+
+def _shown_pins(opamp: Part) -> dict[str, str]:
+    return dict(opamp_pins(opamp))
+
+
+def _row(sheet, row: Sequence[Part], start, end) -> None:
+    """Parts in series along one feedback row, labelled below so the op-amp stays clear."""
+    step = (end[0] - start[0]) / len(row)
+    for i, part in enumerate(row):
+        a, b = (start[0] + step * i, start[1]), (start[0] + step * (i + 1), start[1])
+        if part.type == "pot":
+            sheet.rheostat(part, a, b, side="below")
+        else:
+            sheet.part(part, a, b, side="below")
+
+
+def draw_leg(sheet, leg: Sequence[Part], top, bottom) -> None:
+    """Parts in series down a vertical leg to ground, labelled on the right."""
+    step = (top[1] - bottom[1]) / len(leg)
+    for i, part in enumerate(leg):
+        a, b = (top[0], top[1] - step * i), (top[0], top[1] - step * (i + 1))
+        if part.type == "pot":
+            sheet.rheostat(part, a, b, side="right")
+        else:
+            sheet.part(part, a, b, side="right")
+    sheet.ground(bottom)
+
+
+def draw_output(sheet, stage: Stage, node) -> None:
+    """Output cap from the op-amp's output node, then the volume pot or the OUT port."""
+    from kitleaf.circuit.stages._drawing import draw_volume_out
+
+    x, y = node
+    sheet.part(stage.part("output-cap"), (x, y), (x + 2.2, y))
+    draw_volume_out(sheet, stage.part("volume"), (x + 2.2, y), x + 4.0, stage.part("pulldown"))

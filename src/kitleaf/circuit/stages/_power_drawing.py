@@ -1,0 +1,84 @@
+"""Drawing the power section: the supply entering on the left along the top rail, every
+filter, reference and indicator branch dropping from the rail to ground."""
+
+from __future__ import annotations
+
+from kitleaf.circuit.kind import Stage
+
+RAIL = 8.0
+STEP = 2.4  # between the branches hanging off the rail
+
+
+def draw_power(stage: Stage, sheet) -> None:
+    part = stage.part
+    sheet.net_label((0.0, RAIL), "supply", "above")
+    x = _draw_protection(stage, sheet)
+    if part("supply-resistor"):
+        sheet.part(part("supply-resistor"), (x, RAIL), (x + STEP, RAIL))
+        x += STEP
+    vcc = (x + 0.8, RAIL)
+    sheet.wire((x, RAIL), vcc, (vcc[0], RAIL + 0.7))
+    sheet.dot(vcc)
+    sheet.rail((vcc[0], RAIL + 0.7))
+    rail_end = free_x = vcc[0]
+    for cap in (part("bulk-cap"), part("filter-cap")):
+        if cap is not None:
+            rail_end = free_x = _branch(sheet, rail_end, free_x + STEP, [cap])
+    if part("vref-top"):
+        rail_end, free_x = _draw_reference(stage, sheet, rail_end, free_x + STEP)
+    if part("led"):
+        _branch(sheet, rail_end, free_x + STEP, [part("led-resistor"), part("led")])
+
+
+def _draw_protection(stage: Stage, sheet) -> float:
+    from kitleaf.render.schematic import GROUND_Y
+
+    diode = stage.part("reverse-diode")
+    if diode is None:
+        return 0.0
+    if stage.options["reverse-protection"] == "series":
+        sheet.part(diode, (0.0, RAIL), (STEP, RAIL))
+        return STEP
+    sheet.wire((0.0, RAIL), (1.2, RAIL))
+    sheet.dot((1.2, RAIL))
+    sheet.part(diode, (1.2, GROUND_Y), (1.2, RAIL), side="right")  # cathode to the supply
+    sheet.ground((1.2, GROUND_Y))
+    return 1.2
+
+
+def _branch(sheet, rail_end: float, x_new: float, parts) -> float:
+    """Parts in series from the rail at ``x_new`` down to ground; returns ``x_new``."""
+    from kitleaf.render.schematic import GROUND_Y
+
+    sheet.wire((rail_end, RAIL), (x_new, RAIL))
+    sheet.dot((x_new, RAIL))
+    step = (RAIL - GROUND_Y) / len(parts)
+    for i, part in enumerate(parts):
+        sheet.part(part, (x_new, RAIL - step * i), (x_new, RAIL - step * (i + 1)), side="right")
+    sheet.ground((x_new, GROUND_Y))
+    return x_new
+
+
+def _draw_reference(stage: Stage, sheet, rail_end: float, x: float) -> tuple[float, float]:
+    """The divider down column ``x``, VREF taken from its middle, its cap beside it.
+
+    Returns where the rail now ends and the next free column."""
+    from kitleaf.render.schematic import GROUND_Y
+
+    sheet.wire((rail_end, RAIL), (x, RAIL))
+    sheet.dot((x, RAIL))
+    middle = (x, (RAIL + GROUND_Y) / 2)
+    sheet.part(stage.part("vref-top"), (x, RAIL), middle, side="right")
+    sheet.part(stage.part("vref-bottom"), middle, (x, GROUND_Y), side="right")
+    sheet.ground((x, GROUND_Y))
+    sheet.dot(middle)
+    tap = (x + STEP, middle[1])
+    sheet.wire(middle, tap)
+    cap = stage.part("vref-cap")
+    if cap is not None:
+        sheet.dot(tap)
+        sheet.part(cap, tap, (tap[0], GROUND_Y), side="right")
+        sheet.ground((tap[0], GROUND_Y))
+    sheet.wire(tap, (tap[0] + 1.2, middle[1]))
+    sheet.net_label((tap[0] + 1.2, middle[1]), "vref", "right")
+    return x, tap[0] + 1.2

@@ -1,0 +1,138 @@
+"""What several stage kinds share: device families, pot wiring, op-amp pins, test points."""
+
+from __future__ import annotations
+
+from kitleaf.circuit.kind import Role, Stage, TestPoint
+from kitleaf.circuit.parts import Part
+from kitleaf.errors import CircuitError, KitleafError
+
+# Engine model kinds by the part type a role takes (see kitleaf.engine.models).
+FAMILIES = {"bjt": ("npn", "pnp"), "jfet": ("njf", "pjf"), "opamp": ("opamp",),
+            "diode": ("diode",), "led": ("diode",)}
+FAMILY_NAMES = {"npn": "NPN BJT", "pnp": "PNP BJT", "njf": "N-channel JFET",
+                "pjf": "P-channel JFET", "diode": "diode", "opamp": "op-amp"}
+# Pins of one section of an 8-pin dual op-amp (TL072, NE5532, LM358 share the pinout;
+# datasheet pin diagrams, from memory): section A, section B, then the supply pins.
+DUAL_PINS = {
+    "A": {"out": "1", "inv": "2", "non_inv": "3"},
+    "B": {"out": "7", "inv": "6", "non_inv": "5"},
+}
+SUPPLY_PINS = {"vpos": "8", "vneg": "4"}
+
+
+def family(part: Part) -> str:
+    """The engine's kind of a semiconductor's model (npn, pnp, njf, pjf, diode, opamp)."""
+    from kitleaf.engine.models import get_model  # the model library loads on first use
+
+    try:
+        return get_model(part.model).kind
+    except KitleafError as exc:
+        raise CircuitError(f"{part.designator}: {exc.message}", part.span) from None
+
+
+def check_family(stage: Stage, role: str, allowed: tuple[str, ...]) -> None:
+    """The part in ``role`` must be a model of one of the ``allowed`` engine kinds."""
+    check_part_family(stage, role, stage.part(role), allowed)
+
+
+def check_part_family(stage: Stage, role: str, part: Part | None, allowed: tuple[str, ...]
+                      ) -> None:
+    if part is None or part.model is None:
+        return
+    found = family(part)
+    if found not in allowed:
+        wanted = " or ".join(FAMILY_NAMES[a] for a in allowed)
+        raise CircuitError(
+            f"stage '{stage.id}', role '{role}': {part.designator} {part.model} is a "
+            f"{FAMILY_NAMES.get(found, found)}; this kind takes a {wanted}", part.span)
+
+
+def is_flipped(stage: Stage, role: str) -> bool:
+    """True for a PNP or P-channel part, which this project wires mirror-image on the same
+    positive rail (emitter or source towards VCC, the load towards ground)."""
+    part = stage.part(role)
+    return part is not None and family(part) in ("pnp", "pjf")
+
+
+def require_together(stage: Stage, needs: str, needed: str) -> None:
+    """A part in role ``needs`` only makes sense with a part in role ``needed``."""
+    part = stage.part(needs)
+    if part is not None and stage.part(needed) is None:
+        raise CircuitError(
+            f"stage '{stage.id}', role '{needs}': {part.designator} needs a '{needed}' part "
+            f"beside it; add a line '{needed}: ...' or drop {part.designator}", part.span)
+
+
+def rheostat(wiring, part: Part | None, a: str, b: str, grows: bool = True) -> None:
+    """A pot as a variable resistor from ``a`` to ``b``, its wiper tied to one end.
+
+    With ``grows`` the resistance is the track from ccw to the wiper, so it rises as the knob
+    turns clockwise; otherwise it is the track from the wiper to cw, and falls.
+    """
+    if part is None:
+        return
+    if grows:
+        wiring.place(part, a, b, b)
+    else:
+        wiring.place(part, b, b, a)
+
+
+def series(wiring, chain: list[tuple[Part | None, bool]], start: str, end: str, prefix: str
+           ) -> None:
+    """The parts of ``chain`` that are present, in series from ``start`` to ``end``.
+
+    Each item is (part, grows): pots are rheostats whose resistance grows clockwise when
+    ``grows``. Nodes between the parts are named ``prefix1``, ``prefix2``...
+    """
+    present = [(p, grows) for p, grows in chain if p is not None]
+    nodes = [start] + [f"{prefix}{i}" for i in range(1, len(present))] + [end]
+    for (part, grows), a, b in zip(present, nodes[:-1], nodes[1:], strict=True):
+        if part.type == "pot":
+            rheostat(wiring, part, a, b, grows)
+        else:
+            wiring.place(part, a, b)
+
+
+def section(part: Part) -> str:
+    """Which half of a dual op-amp: the designator's letter suffix (U1B), A when none."""
+    last = part.designator[-1]
+    return last if last in DUAL_PINS else "A"
+
+
+def opamp_pins(part: Part) -> dict[str, str]:
+    """Package pin numbers of the section ``part`` uses, by our pin names."""
+    return {**DUAL_PINS[section(part)], **SUPPLY_PINS}
+
+
+def opamp_test_points(part: Part, plus: str, minus: str, out: str) -> tuple[TestPoint, ...]:
+    pins = opamp_pins(part)
+    d = part.designator.rstrip("AB") if part.designator[-1] in DUAL_PINS else part.designator
+    return (
+        TestPoint(f"{d} pin {pins['non_inv']} (+ input)", plus, part.designator, pins["non_inv"]),
+        TestPoint(f"{d} pin {pins['inv']} (− input)", minus, part.designator, pins["inv"]),
+        TestPoint(f"{d} pin {pins['out']} (output)", out, part.designator, pins["out"]),
+        TestPoint(f"{d} pin {pins['vpos']} (V+)", "vcc", part.designator, pins["vpos"]),
+    )
+
+
+def transistor_test_points(part: Part, pins: dict[str, str]) -> tuple[TestPoint, ...]:
+    """One test point per pin: ``pins`` maps a pin name (base, drain...) to its local node."""
+    return tuple(TestPoint(f"{part.designator} {name}", node, part.designator, name)
+                 for name, node in pins.items())
+
+
+def capacitor_role(name: str, help: str, required: bool = True) -> Role:
+    return Role(name, ("capacitor",), required, help=help)
+
+
+def resistor_role(name: str, help: str, required: bool = True) -> Role:
+    return Role(name, ("resistor",), required, help=help)
+
+
+def place_output(stage: Stage, wiring, node: str) -> None:
+    """Output cap from ``node``, its pulldown, then the volume pot (cw to the cap, wiper out)."""
+    volume = stage.part("volume")
+    after = "v" if volume else "out"
+    wiring.place(stage.part("output-cap"), node, after)
+    wiring.place(stage.part("pulldown"), after, "0")
+    wiring.place(volume, "0", "out", "v")

@@ -1,0 +1,71 @@
+"""The JFET common-source amplifier: self bias through the source resistor, optional bypass.
+
+A P-channel part is wired mirror-image on the same positive rail: its source resistor goes to
+VCC and its drain resistor to ground.
+"""
+
+from __future__ import annotations
+
+from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
+from kitleaf.circuit.stages import register
+from kitleaf.circuit.stages._shared import (
+    capacitor_role,
+    check_family,
+    is_flipped,
+    place_output,
+    resistor_role,
+    transistor_test_points,
+)
+from kitleaf.circuit.stages.common_emitter import transistor_rails
+
+ROLES = (
+    capacitor_role("input-cap", "coupling capacitor from the stage input to the gate"),
+    resistor_role("gate", "gate resistor to ground, which sets the input impedance"),
+    Role("transistor", ("jfet",), help="the N- or P-channel JFET, e.g. Q1 J201"),
+    resistor_role("drain", "drain load resistor"),
+    resistor_role("source", "source resistor (self bias)"),
+    capacitor_role("source-bypass", "source bypass capacitor: raises the gain", required=False),
+    capacitor_role("output-cap", "coupling capacitor from the drain to the output"),
+    resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
+                  required=False),
+    Role("volume", ("pot",), required=False,
+         help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+)
+
+
+@register
+class JfetCommonSource(StageKind):
+    name = "jfet-common-source"
+    summary = "JFET gain stage: self-biased, optional source bypass and volume"
+    roles = ROLES
+
+    def build(self, stage: Stage, wiring) -> None:
+        drain_rail, source_rail = transistor_rails(is_flipped(stage, "transistor"))
+        part = stage.part
+        wiring.place(part("input-cap"), "in", "g")
+        wiring.place(part("gate"), "g", "0")
+        wiring.place(part("transistor"), "d", "g", "s")
+        wiring.place(part("drain"), drain_rail, "d")
+        wiring.place(part("source"), "s", source_rail)
+        wiring.place(part("source-bypass"), "s", source_rail)
+        place_output(stage, wiring, "d")
+
+    def check(self, stage: Stage) -> None:
+        check_family(stage, "transistor", ("njf", "pjf"))
+
+    def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
+        return transistor_test_points(stage.part("transistor"),
+                                      {"gate": "g", "drain": "d", "source": "s"})
+
+    def knob_roles(self) -> tuple[str, ...]:
+        return ("volume",)
+
+    def draw(self, stage: Stage, sheet) -> None:
+        from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
+
+        part = stage.part
+        bypass = (part("source-bypass"),) if part("source-bypass") else ()
+        draw_transistor_stage(sheet, TransistorDrawing(
+            "pjf" if is_flipped(stage, "transistor") else "njf", part("transistor"),
+            part("input-cap"), None, part("gate"), part("drain"),
+            part("source"), bypass, "upper", part("output-cap"), part("volume"), part("pulldown")))

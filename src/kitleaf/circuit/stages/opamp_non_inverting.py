@@ -1,0 +1,83 @@
+"""The non-inverting op-amp on a single supply: the + input biased to the mid-rail reference.
+
+Gain at mid band is 1 + Rf / (Rg + pot); the gain cap in the ground leg keeps the DC gain at
+one, so the output sits at the reference.
+"""
+
+from __future__ import annotations
+
+from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
+from kitleaf.circuit.stages import register
+from kitleaf.circuit.stages._shared import (
+    capacitor_role,
+    check_family,
+    opamp_test_points,
+    place_output,
+    resistor_role,
+    series,
+)
+
+ROLES = (
+    capacitor_role("input-cap", "coupling capacitor from the stage input to the + input"),
+    resistor_role("bias", "from the + input to the reference VREF; sets the input impedance"),
+    Role("opamp", ("opamp",), help="one section of the op-amp: U1A TL072 (pins 1-3) or U1B"),
+    resistor_role("feedback", "feedback resistor Rf, output to - input"),
+    capacitor_role("feedback-cap", "across Rf: rolls off the highs", required=False),
+    resistor_role("gain-resistor", "Rg, from the - input towards ground; sets the top gain"),
+    Role("gain", ("pot",), required=False,
+         help="pot in series with Rg, wired so clockwise gives more gain"),
+    capacitor_role("gain-cap", "in series with Rg to ground: unity gain at DC"),
+    capacitor_role("output-cap", "coupling capacitor from the op-amp output"),
+    resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
+                  required=False),
+    Role("volume", ("pot",), required=False,
+         help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+)
+
+
+@register
+class OpampNonInverting(StageKind):
+    name = "opamp-non-inverting"
+    summary = "op-amp gain stage, gain 1 + Rf/Rg, on a single supply with a mid-rail reference"
+    roles = ROLES
+    needs_reference = True
+
+    def build(self, stage: Stage, wiring) -> None:
+        part = stage.part
+        wiring.place(part("input-cap"), "in", "p")
+        wiring.place(part("bias"), "p", "vref")
+        wiring.place(part("opamp"), "p", "m", "o", "vcc", "0")
+        wiring.place(part("feedback"), "o", "m")
+        wiring.place(part("feedback-cap"), "o", "m")
+        chain = [(part("gain-resistor"), True), (part("gain"), False), (part("gain-cap"), True)]
+        series(wiring, chain, "m", "0", "leg")  # the gain pot: less resistance clockwise
+        place_output(stage, wiring, "o")
+
+    def check(self, stage: Stage) -> None:
+        check_family(stage, "opamp", ("opamp",))
+
+    def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
+        return opamp_test_points(stage.part("opamp"), "p", "m", "o")
+
+    def knob_roles(self) -> tuple[str, ...]:
+        return ("gain", "volume")
+
+    def draw(self, stage: Stage, sheet) -> None:
+        from kitleaf.circuit.stages._opamp import (
+            PLUS_Y,
+            draw_opamp_core,
+            draw_output,
+            feedback_rows,
+        )
+
+        part = stage.part
+        sheet.port((0.0, PLUS_Y), "IN", "left")
+        sheet.part(part("input-cap"), (0.0, PLUS_Y), (2.2, PLUS_Y))
+        node = (3.2, PLUS_Y)
+        sheet.wire((2.2, PLUS_Y), node, (4.6, PLUS_Y))
+        sheet.dot(node)
+        sheet.part(part("bias"), node, (3.2, PLUS_Y - 2.6), side="left")
+        sheet.net_label((3.2, PLUS_Y - 2.6), "vref", "below")
+        leg = [p for p in (part("gain-resistor"), part("gain"), part("gain-cap")) if p]
+        _, out = draw_opamp_core(sheet, stage, feedback_rows(stage, False), leg)
+        draw_output(sheet, stage, out)

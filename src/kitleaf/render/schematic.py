@@ -1,0 +1,305 @@
+"""Schematic drawing: the one place that speaks schemdraw, behind a small sheet of our own.
+
+A :class:`Sheet` is the canvas a stage kind draws on. Coordinates are grid units (one unit is
+half an inch at print size); y grows upwards, so a kind puts ground low, the supply high and
+the signal on a row between them, flowing left to right. Every element is added explicitly to
+the sheet's own drawing: no drawing stack, no global configuration. Pins have our semantic names
+and are mapped to schemdraw anchors in :data:`ANCHORS` alone.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+
+import schemdraw
+import schemdraw.elements as elm
+
+from kitleaf.circuit.parts import Part
+
+Point = tuple[float, float]
+
+FONT_SIZE = 11.0
+FONT = "DejaVu Sans, Arial, Helvetica, sans-serif"
+GROUND_Y = 0.0
+SIGNAL_Y = 5.0
+RAIL_Y = 10.0
+
+# Our pin names -> schemdraw anchor names, one table for every drawn element.
+ANCHORS: Mapping[str, Mapping[str, str]] = {
+    "npn": {"base": "base", "collector": "collector", "emitter": "emitter"},
+    "pnp": {"base": "base", "collector": "collector", "emitter": "emitter"},
+    "njf": {"gate": "gate", "drain": "drain", "source": "source"},
+    "pjf": {"gate": "gate", "drain": "drain", "source": "source"},
+    # drawn flipped, + input above - input, so schemdraw's "vs" pin is the upper one
+    "opamp": {"non_inv": "in2", "inv": "in1", "out": "out", "vpos": "vs", "vneg": "vd"},
+    "pot": {"ccw": "start", "cw": "end", "wiper": "tap"},
+}
+# How far a label sits from the axis of a two-terminal part (half the body's width plus air).
+_LABEL_GAP = {"resistor": 0.45, "capacitor": 0.55, "inductor": 0.5, "diode": 0.5, "led": 1.0,
+              "pot": 0.5, "block": 0.3}
+_TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
+                 "diode": elm.Diode, "led": elm.LED}
+_TRANSISTOR = {"npn": elm.BjtNpn, "pnp": elm.BjtPnp, "njf": elm.JFetN, "pjf": elm.JFetP}
+_ALIGN = {"right": ("left", "center"), "left": ("right", "center"),
+          "above": ("center", "bottom"), "below": ("center", "top")}
+
+
+def part_label(part: Part) -> str:
+    """Designator over value, as printed beside a part: ``R3`` / ``10k``."""
+    value = part.text
+    if part.type == "pot":
+        value = f"{part.text} {part.attrs.get('taper', '')}".strip()
+    elif part.polarised and part.type == "capacitor":
+        value = f"{part.text} {part.dielectric[:4]}."
+    return f"{part.designator}\n{value}"
+
+
+class Sheet:
+    """One schematic: parts, wires, rails and labels added explicitly, then written as SVG."""
+
+    def __init__(self, title: str = "", nets: Mapping[str, str] | None = None) -> None:
+        self.title = title
+        self.nets = {"vcc": "VCC", "vref": "VREF", "supply": "+V IN", **(nets or {})}
+        self._drawing = schemdraw.Drawing(canvas="svg", show=False)
+        self._drawing.config(unit=3, fontsize=FONT_SIZE, font=FONT, lw=1.4, margin=0.4,
+                             color="black")
+
+    # -- parts ---------------------------------------------------------------------------------
+    def part(self, part: Part | None, a: Point, b: Point, side: str | None = None) -> None:
+        """A two-terminal part from ``a`` to ``b`` (a diode's anode at ``a``), labelled."""
+        if part is None:
+            return
+        polar = part.type == "capacitor" and part.polarised
+        kwargs = {"polar": True} if polar else {}
+        self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
+        self.label(part_label(part), _label_point(a, b, side, _LABEL_GAP[part.type]),
+                   side or _default_side(a, b))
+
+    def pot(self, part: Part, ccw: Point, cw: Point, side: str | None = None,
+            wiper_right: bool = False) -> Point:
+        """A pot from ``ccw`` to ``cw``; returns where its wiper arrow starts.
+
+        The wiper is drawn on the left of the ccw-to-cw direction, or the right if asked.
+        """
+        drawn = elm.Potentiometer().endpoints(ccw, cw)
+        self._add(drawn.flip() if wiper_right else drawn)
+        side = side or _default_side(ccw, cw)
+        self.label(part_label(part), _label_point(ccw, cw, side, _LABEL_GAP["pot"]), side)
+        return self.pin(drawn, "pot", "wiper")
+
+    def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None) -> None:
+        """A pot used as a variable resistor: its wiper tied to the ``b`` end."""
+        side = side or _default_side(a, b)
+        wiper = self.pot(part, a, b, side, wiper_right=_default_tap(a, b) == side)
+        bend = (b[0], wiper[1]) if abs(a[1] - b[1]) < 1e-9 else (wiper[0], b[1])
+        self.wire(wiper, bend, b)
+
+    def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
+                   ) -> dict[str, Point]:
+        """A BJT (npn/pnp) or JFET (njf/pjf) with its base or gate at ``base``; pins by name.
+
+        ``mirror`` flips it top to bottom, for a PNP or P-channel part whose emitter or source
+        faces the supply above.
+        """
+        drawn = _TRANSISTOR[family](circle=True) if family in ("npn", "pnp") \
+            else _TRANSISTOR[family]().reverse()
+        if mirror:
+            drawn = drawn.flip()
+        first = next(iter(ANCHORS[family]))
+        self._add(drawn.anchor(ANCHORS[family][first]).at(base))
+        pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
+        centre = drawn.absanchors["center"]
+        self.label(part_label(part), (max(p[0] for p in pins.values()) + 0.5, centre.y), "right")
+        return pins
+
+    def opamp(self, part: Part, non_inv: Point, pin_numbers: Mapping[str, str]
+              ) -> dict[str, Point]:
+        """An op-amp with its + input at ``non_inv``, the - input below; pins by name.
+
+        Its supply pins are drawn to VCC and ground; ``pin_numbers`` gives the package pin
+        shown beside each named pin.
+        """
+        drawn = self._add(elm.Opamp(leads=True).flip().anchor("in2").at(non_inv))
+        pins = {name: self.pin(drawn, "opamp", name) for name in ANCHORS["opamp"]}
+        top, bottom = pins["vpos"], pins["vneg"]
+        self.wire(top, (top[0], top[1] + 0.5))
+        self.rail((top[0], top[1] + 0.5))
+        self.wire(bottom, (bottom[0], bottom[1] - 0.5))
+        self.ground((bottom[0], bottom[1] - 0.5))
+        self.label(part_label(part), (pins["out"][0] - 0.3, top[1] + 0.2), "right")
+        for name, number in pin_numbers.items():
+            self._pin_number(pins[name], name, number)
+        return pins
+
+    def _pin_number(self, at: Point, name: str, number: str) -> None:
+        x, y = at
+        place = {"non_inv": ((x + 0.25, y + 0.05), "above"), "inv": ((x + 0.25, y - 0.05), "below"),
+                 "out": ((x - 0.25, y + 0.05), "above"), "vpos": ((x + 0.12, y + 0.25), "right"),
+                 "vneg": ((x + 0.12, y - 0.25), "right")}
+        point, side = place[name]
+        self.text(number, point, size=FONT_SIZE * 0.8, side=side)
+
+    def block(self, lower_left: Point, width: float, height: float, lines: Sequence[str]) -> None:
+        """A labelled rectangle (a custom stage, or one stage of the kit overview)."""
+        x, y = lower_left
+        self._add(elm.Rect(corner1=(0, 0), corner2=(width, height)).at((x, y)))
+        self.label("\n".join(lines), (x + width / 2, y + height / 2), "centre")
+
+    # -- connections ---------------------------------------------------------------------------
+    def wire(self, *points: Point) -> None:
+        """A wire through ``points``, drawn as straight segments."""
+        for a, b in zip(points, points[1:], strict=False):
+            if a != b:
+                self._add(elm.Line().endpoints(a, b))
+
+    def dot(self, at: Point) -> None:
+        """A junction dot where three or more wires meet."""
+        self._add(elm.Dot(radius=0.09).at(at))
+
+    def terminal(self, at: Point) -> None:
+        """A ground symbol at the bottom of the sheet, a VCC rail at the top, else nothing."""
+        if at[1] <= GROUND_Y:
+            self.ground(at)
+        elif at[1] >= RAIL_Y:
+            self.rail(at)
+
+    def ground(self, at: Point) -> None:
+        self._add(elm.Ground(lead=False).at(at))
+
+    def rail(self, at: Point, net: str = "vcc") -> None:
+        """A supply connection pointing up, labelled with the net's name (VCC, VREF...)."""
+        self._add(elm.Vdd(lead=False).at(at))
+        self.label(self.nets.get(net, net.upper()), (at[0], at[1] + 0.35), "above")
+
+    def net_label(self, at: Point, net: str, side: str = "below") -> None:
+        """A net named at a wire's end without a symbol (a reference fed from elsewhere)."""
+        self._add(elm.Dot(radius=0.09).at(at))
+        self.label(self.nets.get(net, net.upper()), _nudge(at, side, 0.25), side)
+
+    def port(self, at: Point, name: str, side: str = "left") -> None:
+        """A connection to the next or previous stage: an open circle with its name."""
+        self._add(elm.Dot(open=True, radius=0.12).at(at))
+        self.label(name, _nudge(at, side, 0.3), side)
+
+    # -- text ----------------------------------------------------------------------------------
+    def label(self, text: str, at: Point, side: str) -> None:
+        self.text(text, at, side=side)
+
+    def text(self, text: str, at: Point, size: float = FONT_SIZE, side: str = "right") -> None:
+        """Text whose ``side`` says where it lies from ``at`` (right: starts at ``at``)."""
+        halign, valign = _ALIGN.get(side, ("center", "center"))
+        self._add(elm.Label().at(at).label(text, halign=halign, valign=valign, fontsize=size))
+
+    # -- output --------------------------------------------------------------------------------
+    def pin(self, drawn: elm.Element, family: str, name: str) -> Point:
+        anchor = drawn.absanchors[ANCHORS[family][name]]
+        return (round(anchor.x, 4), round(anchor.y, 4))
+
+    def svg(self) -> str:
+        """The sheet as an SVG document, byte-identical for the same drawing."""
+        raw = self._drawing.get_imagedata("svg").decode("utf-8")
+        return normalise_svg(raw, self.title)
+
+    def _add(self, element: elm.Element) -> elm.Element:
+        # Every element gets its own direction: schemdraw would otherwise turn it the way the
+        # previously added element pointed. Two-terminal parts are set by their endpoints.
+        if not isinstance(element, elm.Element2Term):
+            element.theta(0)
+        return self._drawing.add(element)
+
+
+def _default_side(a: Point, b: Point) -> str:
+    return "above" if abs(a[1] - b[1]) < 1e-9 else "right"
+
+
+def _default_tap(a: Point, b: Point) -> str:
+    """The side schemdraw draws a pot's wiper on, for a pot drawn from ``a`` to ``b``."""
+    if abs(a[1] - b[1]) < 1e-9:
+        return "above" if b[0] > a[0] else "below"
+    return "right" if b[1] < a[1] else "left"
+
+
+def _label_point(a: Point, b: Point, side: str | None, gap: float) -> Point:
+    middle = ((a[0] + b[0]) / 2, (a[1] + b[1]) / 2)
+    return _nudge(middle, side or _default_side(a, b), gap)
+
+
+def _nudge(at: Point, side: str, gap: float) -> Point:
+    dx, dy = {"right": (gap, 0), "left": (-gap, 0), "above": (0, gap), "below": (0, -gap)}.get(
+        side, (0, 0))
+    return (at[0] + dx, at[1] + dy)
+
+
+_NUMBER = re.compile(r"-?\d+\.\d{4,}")
+
+
+def normalise_svg(raw: str, title: str) -> str:
+    """Round long decimals (float noise differs across platforms), fix the dash style, add a title.
+
+    schemdraw writes ``stroke-dasharray:-`` for solid lines, which is not valid CSS; solid is
+    the default, so the declaration is dropped.
+    """
+    text = _NUMBER.sub(lambda m: _short(float(m.group())), raw)
+    text = text.replace("stroke-dasharray:-;", "")
+    if title:
+        escaped = title.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+        text = re.sub(r"(<svg[^>]*>)", lambda m: f"{m.group(1)}<title>{escaped}</title>", text,
+                      count=1)
+    return text if text.endswith("\n") else text + "\n"
+
+
+def _short(x: float) -> str:
+    out = f"{x:.3f}".rstrip("0").rstrip(".")
+    return "0" if out in ("-0", "") else out
+
+
+def render_stage_svg(kit_circuit, stage) -> str:
+    """The schematic of one stage, drawn by its kind."""
+    sheet = Sheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"})
+    kit_circuit.kind(stage).draw(stage, sheet)
+    return sheet.svg()
+
+
+PER_ROW = 4  # overview blocks per row, so a long chain still fits a printed page
+
+
+def render_overview_svg(kit_circuit, headline: Mapping[str, str]) -> str:
+    """The kit at a glance: signal stages as blocks with their headline numbers, in chain order
+    left to right (several rows for a long chain), the power section below them."""
+    sheet = Sheet("Kit overview")
+    width, gap, height, row_step = 4.8, 1.4, 2.2, 4.0
+    chain = kit_circuit.signal_stages
+    rows = max(1, -(-len(chain) // PER_ROW))
+    top = row_step * rows
+    sheet.port((0.0, top + height / 2), "IN", "left")
+    end = (0.0, top + height / 2)
+    for i, stage in enumerate(chain):
+        x, y = 1.0 + (width + gap) * (i % PER_ROW), top - row_step * (i // PER_ROW)
+        start = (x, y + height / 2)
+        _overview_link(sheet, end, start, y + height + 0.6)
+        _overview_block(sheet, stage, headline, (x, y), width, height)
+        end = (x + width, y + height / 2)
+    sheet.wire(end, (end[0] + gap, end[1]))
+    sheet.port((end[0] + gap, end[1]), "OUT", "right")
+    others = [s for s in kit_circuit.stages if not kit_circuit.kind(s).signal]
+    for i, stage in enumerate(others):
+        _overview_block(sheet, stage, headline, (1.0 + (width + gap) * i, 0.0), width, height)
+    return sheet.svg()
+
+
+def _overview_link(sheet: Sheet, end: Point, start: Point, over: float) -> None:
+    """A wire from one block's output to the next block's input, up and over on a new row."""
+    if abs(end[1] - start[1]) < 1e-9:
+        sheet.wire(end, start)
+        return
+    sheet.wire(end, (end[0] + 0.7, end[1]), (end[0] + 0.7, over), (start[0] - 0.7, over),
+               (start[0] - 0.7, start[1]), start)
+
+
+def _overview_block(sheet: Sheet, stage, headline: Mapping[str, str], at: Point,
+                    width: float, height: float) -> None:
+    lines = [stage.title, f"({stage.kind})"]
+    if headline.get(stage.id):
+        lines.append(headline[stage.id])
+    sheet.block(at, width, height, lines)

@@ -1,0 +1,151 @@
+"""Helpers for the stage tests: invented Fernbrook Circuitworks guides built into kits."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.chain import KitCircuit
+from kitleaf.engine import solve_ac, solve_dc
+from kitleaf.guide.parse import parse_guide
+
+POWER = """\
+```stage power
+kind: power
+title: Power
+reverse-diode: D90 1N5817
+bulk-cap: C90 100u electrolytic 25V
+vref-top: R90 10k
+vref-bottom: R91 10k
+vref-cap: C91 10u electrolytic 25V
+led: LED90 red
+led-resistor: R92 4k7
+```
+"""
+
+
+def guide_text(*blocks: str, supply: str = "9V", source: str = "low-z", load: str = "") -> str:
+    """A whole guide: the kit block, then ``blocks`` (each a stage block's text)."""
+    kit = ["```kit", "title: Fernbrook Test Kit", "code: FB-T1", f"supply: {supply}",
+           f"source: {source}"] + ([f"load: {load}"] if load else []) + ["```", ""]
+    return "\n".join(kit) + "\n".join(blocks)
+
+
+def stage_block(stage_id: str, kind: str, *lines: str) -> str:
+    return "\n".join([f"```stage {stage_id}", f"kind: {kind}", *lines, "```", ""])
+
+
+def make_kit(*blocks: str, **kit) -> KitCircuit:
+    return build_circuit(parse_guide("test.md", guide_text(*blocks, **kit)))
+
+
+def gain_at(kit: KitCircuit, freq: float, node: str = "output", positions=None) -> complex:
+    """Transfer from the source's open-circuit voltage to ``node`` at ``freq``."""
+    circuit = kit.netlist(positions)
+    ac = solve_ac(circuit, solve_dc(circuit), np.array([freq]), source="VIN")
+    return complex(ac.transfer(node)[0])
+
+
+def dc_at(kit: KitCircuit, node: str, positions=None) -> float:
+    return solve_dc(kit.netlist(positions)).voltage(node)
+
+
+# One stage of every kind, wired into a chain (coupling caps between stages get pulldowns).
+EVERY_KIND = (POWER,) + tuple(f"```stage {b.strip()}\n```\n" for b in """
+boost
+kind: common-emitter
+input-cap: C1 100n film
+bias-top: R1 470k
+bias-bottom: R2 100k
+transistor: Q1 2N5089
+collector: R3 10k
+emitter: R4 1k
+bypass-resistor: R5 100R
+gain: VR2 B1k
+bypass-cap: C3 22u electrolytic
+output-cap: C2 1u film
+volume: VR1 A100k
+===
+buffer
+kind: emitter-follower
+input-cap: C4 100n
+bias-top: R6 1M
+bias-bottom: R7 1M
+transistor: Q2 2N3904
+emitter: R8 10k
+output-cap: C5 1u
+pulldown: R30 1M
+===
+jfet
+kind: jfet-common-source
+input-cap: C6 47n
+gate: R9 1M
+transistor: Q3 J201
+drain: R10 6k8
+source: R11 1k5
+source-bypass: C7 10u electrolytic
+output-cap: C8 100n
+pulldown: R31 1M
+===
+drive
+kind: opamp-non-inverting
+input-cap: C9 100n
+bias: R12 1M
+opamp: U1A TL072
+feedback: R13 100k
+feedback-cap: C10 100p
+gain-resistor: R14 4k7
+gain: VR3 C100k
+gain-cap: C11 1u
+output-cap: C12 1u
+pulldown: R32 1M
+===
+inv
+kind: opamp-inverting
+input-cap: C13 100n
+input: R15 10k
+opamp: U1B TL072
+feedback: R16 100k
+feedback-cap: C14 220p
+output-cap: C15 1u
+pulldown: R33 1M
+===
+hp
+kind: high-pass
+series-cap: C16 10n
+shunt-resistor: R17 1M
+===
+lp
+kind: low-pass
+series-resistor: R18 10k
+shunt-cap: C17 10n
+===
+tone
+kind: tone-cut
+series: R19 10k
+tone: VR4 A25k
+cap: C18 22n
+===
+clip
+kind: diode-clipper
+input-cap: C19 100n
+series: R20 2k2
+clip-positive: D1 1N4148
+clip-negative: D2 1N4148
+clip-negative: D3 1N4148
+===
+custom
+kind: custom
+title: Fernbrook fuzz core
+nodes: b c
+part: C20 100n @ in b
+part: R21 100k @ c b
+part: Q4 2N5089 @ c b 0
+part: R22 10k @ vcc c
+part: C21 100n @ c out
+test-point: Q4 collector = c
+===
+vol
+kind: volume
+volume: VR5 A100k
+""".split("===\n"))
