@@ -10,7 +10,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from kitleaf.bom import bom_lines
+from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
+from kitleaf.bom.stresses import part_stresses
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.guide import parse_guide
@@ -35,7 +36,7 @@ class GuideOutput:
     card: Card
     files: tuple[tuple[str, bytes], ...]
     record: dict | None = None
-    warnings: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = ()  # findings that do not stop the build, without the path
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:
@@ -53,15 +54,16 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     env = make_environment(themes)
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": render_prose(guide.text), "bom": bom_lines(kit.parts()),
+        "pieces": render_prose(guide.text),
+        "bom": rating_warnings(bom_lines(kit.parts()), part_stresses(kit)),
+        "bom_headings": dict(BUILD_ORDER),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), f"{slug}/index.html")
     record = guide_record(Path(path).name, kit.parts(), specs)
-    warnings = tuple(f"{guide.path}: {note}" for note in specs.notes)
-    return GuideOutput(card, tuple(sorted(files.items())), record, warnings)
+    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes)
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
