@@ -60,7 +60,7 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
     outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress)
     files, changes = site_files(outputs, themes, Path(out_dir))
     result = publish(Path(out_dir), files)
-    warnings = tuple(w for o in outputs for w in o.warnings)
+    warnings = tuple(f"{p}: {w}" for p, o in zip(paths, outputs, strict=True) for w in o.warnings)
     pages = sum(1 for name in files if name.endswith(".html"))
     return BuildReport(len(paths), len(files), time.perf_counter() - started, result.written,
                        result.removed, rebuilt, warnings, changes, pages)
@@ -70,7 +70,8 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
             stream=None) -> tuple[list, int]:
     """Every guide's output, from the cache or built; every guide's error, not just the first."""
     theme_key = theme_fingerprint(themes)
-    keys = [cache.key("guide", theme_key, str(p), p.read_bytes()) if cache else "" for p in paths]
+    # Keyed by file name, not path: the same folder moved or copied elsewhere stays cached.
+    keys = [cache.key("guide", theme_key, p.name, p.read_bytes()) if cache else "" for p in paths]
     outputs = [cache.load("guide", k) if cache else None for k in keys]
     todo = [i for i, o in enumerate(outputs) if o is None]
     progress = Progress(len(paths), stream)

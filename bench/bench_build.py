@@ -1,0 +1,157 @@
+"""Site build speed: cold build, no-change rebuild and one-value rebuild of 100 four-stage guides.
+
+The guides are made in a temporary folder from the demo guides in guides/: each takes one demo
+guide, appends signal stages of the others (designators renumbered, stage ids suffixed) until
+it has four stages, and moves every resistor and capacitor one E12 step up or down at random
+(seeded, so every run builds the same site). Printed side by side with the targets:
+
+    python bench/bench_build.py [--guides 100] [--jobs N] [--keep DIR]
+"""
+
+from __future__ import annotations
+
+import argparse
+import random
+import re
+import resource
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from kitleaf.eseries import nearest_in_series, series
+from kitleaf.site.build import build_site
+from kitleaf.site.pool import default_jobs
+from kitleaf.values import format_rkm, parse_value
+
+DEMO = Path(__file__).resolve().parents[1] / "guides"
+STAGES = 4
+FENCE = re.compile(r"^```stage (\S+)\n(.*?)^```\n", re.S | re.M)
+PART = re.compile(r"^([a-z-]+: )([A-Z]+)(\d+)([A-Z]?)( +)(\S+)", re.M)
+QUANTITY = {"R": "resistance", "C": "capacitance"}
+
+
+def stage_blocks(text: str) -> list[tuple[str, str]]:
+    """(stage id, whole fenced block) of a guide, in document order."""
+    return [(m.group(1), m.group(0)) for m in FENCE.finditer(text)]
+
+
+def renumbered(block: str, stage_id: str, offset: int) -> str:
+    """A stage block under a new id, its designators moved up by ``offset``."""
+    block = block.replace(f"```stage {stage_id}\n", f"```stage {stage_id}{offset}\n", 1)
+    return PART.sub(lambda m: f"{m[1]}{m[2]}{int(m[3]) + offset}{m[4]}{m[5]}{m[6]}", block)
+
+
+def vary(text: str, rng: random.Random) -> str:
+    """Every resistor and capacitor of the stage blocks one E12 step up, down, or kept."""
+    def step(m: re.Match) -> str:
+        quantity = QUANTITY.get(m[2])
+        if quantity is None:
+            return m[0]
+        value = nearest_in_series(parse_value(m[6], quantity), "E12")[0]
+        e12 = series("E12")
+        mantissa = value / 10 ** int(f"{value:e}".split("e")[1])
+        i = min(range(len(e12)), key=lambda k: abs(e12[k] - mantissa))
+        j = min(max(i + rng.choice((-1, 0, 1)), 0), len(e12) - 1)
+        new = value * e12[j] / e12[i]
+        return f"{m[1]}{m[2]}{m[3]}{m[4]}{m[5]}{format_rkm(new, quantity)}"
+
+    return FENCE.sub(lambda b: PART.sub(step, b[0]), text)
+
+
+def four_stage_guide(base: str, donors: list[str], number: int, rng: random.Random) -> str:
+    """A demo guide grown to four stages from the others' signal stages, values varied."""
+    text = base
+    spares = [(sid, block) for d in donors for sid, block in stage_blocks(d) if sid != "power"]
+    k = 1
+    while len(stage_blocks(text)) < STAGES:
+        sid, block = spares[(number + k) % len(spares)]
+        text += "\n" + renumbered(block, sid, 100 * k)
+        k += 1
+    text = re.sub(r"^code: (\S+)", lambda m: f"code: {m[1]}-{number:03d}", text, count=1,
+                  flags=re.M)
+    text = re.sub(r"^title: (.+)$", lambda m: f"title: {m[1]} {number:03d}", text, count=1,
+                  flags=re.M)
+    return vary(text, rng)
+
+
+def make_site(root: Path, count: int) -> Path:
+    demos = [p.read_text() for p in sorted(DEMO.glob("*.md"))]
+    guides = root / "guides"
+    guides.mkdir(parents=True)
+    rng = random.Random(2024)
+    for n in range(count):
+        base = demos[n % len(demos)]
+        donors = [d for d in demos if d is not base]
+        (guides / f"kit-{n:03d}.md").write_text(four_stage_guide(base, donors, n, rng))
+    return guides
+
+
+def change_one_value(guides: Path) -> str:
+    """One resistor of one guide one E12 step up: the edit a kit maker makes for an erratum."""
+    path = sorted(guides.glob("*.md"))[len(list(guides.glob("*.md"))) // 2]
+    text = path.read_text()
+    m = next(m for m in PART.finditer(text) if m[2] == "R")
+    value = parse_value(m[6], "resistance")
+    new = format_rkm(value * 1.2, "resistance")
+    path.write_text(text[:m.start(6)] + new + text[m.end(6):])
+    return f"{path.name}: {m[2]}{m[3]} {m[6]} to {new}"
+
+
+def timed(func, *args, **kwargs):
+    started = time.perf_counter()
+    result = func(*args, **kwargs)
+    return time.perf_counter() - started, result
+
+
+def cli_seconds(guides: Path, out: Path) -> float:
+    """A no-change rebuild through the command line, interpreter start-up included."""
+    started = time.perf_counter()
+    subprocess.run([sys.executable, "-m", "kitleaf", "build", str(guides), "-o", str(out)],
+                   check=True, capture_output=True)
+    return time.perf_counter() - started
+
+
+def main() -> int:
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--guides", type=int, default=100)
+    p.add_argument("--jobs", type=int, default=None)
+    p.add_argument("--keep", type=Path, help="build here and keep it, instead of a temp dir")
+    args = p.parse_args()
+    root = args.keep or Path(tempfile.mkdtemp(prefix="kitleaf-bench-"))
+    jobs = args.jobs or default_jobs()
+    try:
+        run(root, args.guides, jobs)
+    finally:
+        if args.keep is None:
+            shutil.rmtree(root, ignore_errors=True)
+    return 0
+
+
+def run(root: Path, count: int, jobs: int) -> None:
+    guides, out = make_site(root, count), root / "site"
+    cold, report = timed(build_site, guides, out, jobs=jobs)
+    same, again = timed(build_site, guides, out, jobs=jobs)
+    cli = cli_seconds(guides, out)
+    edit = change_one_value(guides)
+    one, changed = timed(build_site, guides, out, jobs=jobs)
+    parent = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    child = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+    peak = parent + min(jobs, count) * child  # every worker at the largest one's peak
+    print(f"{count} guides of {STAGES} stages, {report.files} files, {jobs} process(es)")
+    print(f"{'':24}{'measured':>12}{'target':>12}")
+    print(f"{'cold build':24}{cold:>10.2f} s{'<= 30 s':>12}")
+    print(f"{'no-change rebuild':24}{same:>10.3f} s{'<= 1 s':>12}"
+          f"   ({len(again.written)} files written; CLI with start-up {cli:.2f} s)")
+    print(f"{'one-value rebuild':24}{one:>10.2f} s{'':>12}   {edit}; "
+          f"{changed.rebuilt} guide(s) rebuilt, {len(changed.written)} files written")
+    print(f"{'one-value / cold':24}{one / cold * 100:>10.1f} %{'<= 5 %':>12}")
+    print(f"{'no-change / cold':24}{same / cold * 100:>10.2f} %")
+    print(f"{'peak memory':24}{peak:>9.0f} MB{'<= 600 MB':>12}"
+          f"   (this process {parent:.0f} MB, largest worker {child:.0f} MB)")
+
+
+if __name__ == "__main__":
+    sys.exit(main())
