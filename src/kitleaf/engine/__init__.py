@@ -6,9 +6,10 @@ from kitleaf.engine.dc import OperatingPoint, solve_dc
 from kitleaf.engine.elements import TAPERS, taper_fraction
 from kitleaf.engine.measure import band_gain_db, corners, gain_db_at, phase_deg_at
 from kitleaf.engine.models import DeviceModel, get_model, register_model, registered_models
+from kitleaf.engine.montecarlo import McResult, Spread, monte_carlo
 
 __all__ = [
-    "TAPERS", "AcResult", "Circuit", "DeviceModel", "OperatingPoint", "band_gain_db", "corners",
-    "gain_db_at", "get_model", "phase_deg_at", "register_model", "registered_models",
-    "solve_ac", "solve_dc", "taper_fraction",
+    "TAPERS", "AcResult", "Circuit", "DeviceModel", "McResult", "OperatingPoint", "Spread",
+    "band_gain_db", "corners", "gain_db_at", "get_model", "monte_carlo", "phase_deg_at",
+    "register_model", "registered_models", "solve_ac", "solve_dc", "taper_fraction",
 ]

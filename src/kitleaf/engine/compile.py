@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
+import scipy.sparse as sp
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices import FAMILIES, Family
@@ -44,6 +46,7 @@ class Stamper:
         size = layout.size
         self.g_cols, self.g_pat = Columns(), Pattern(size)
         self.c_cols, self.c_pat = Columns(), Pattern(size)
+        self.c_terminals: list[tuple[int, int, float]] = []  # (a, b, sign) per C column
         self.b_cols, self.b_pat = Columns(), VectorPattern(size)
         self.source_cols: dict[str, int] = {}
 
@@ -59,6 +62,7 @@ class Stamper:
     def capacitance(self, owner: str | None, a: int, b: int, farads: float) -> None:
         col = self.c_cols.add(farads, self.owners.get(owner, -1), 1 if owner else 0)
         self.c_pat.conductance(col, a, b)
+        self.c_terminals.append((a, b, 1.0))
 
     def branch(self, row: int, p: int, n: int) -> None:
         """A branch current through row ``row`` from p to n; its row reads v_p - v_n."""
@@ -69,6 +73,7 @@ class Stamper:
     def inductance(self, owner: str, row: int, henries: float) -> None:
         col = self.c_cols.add(henries, self.owners[owner], 1)
         self.c_pat.entry(col, row, row, -1.0)
+        self.c_terminals.append((row, self.layout.size, -1.0))
 
     def source(self, name: str, rows: tuple[tuple[int, float], ...], dc: float) -> None:
         """An independent source: ``dc`` enters the right-hand side at ``rows`` with signs."""
@@ -88,21 +93,42 @@ class System:
     stamper: Stamper
     families: list[Family]
 
+    @cached_property
+    def _patterns(self) -> tuple[sp.csr_matrix, sp.csr_matrix, sp.csr_matrix]:
+        st = self.stamper
+        return (st.g_pat.matrix(len(st.g_cols.nominal)), st.c_pat.matrix(len(st.c_cols.nominal)),
+                st.b_pat.matrix(len(st.b_cols.nominal)))
+
     def matrices(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """Batched linear G and C, shape (samples, n, n); ``factors`` scales toleranced parts."""
         st, n = self.stamper, self.layout.size
-        g = apply(st.g_cols.values(factors), st.g_pat.matrix(len(st.g_cols.nominal)), (n, n))
-        c = apply(st.c_cols.values(factors), st.c_pat.matrix(len(st.c_cols.nominal)), (n, n))
-        return g, c
+        g_pat, c_pat, _ = self._patterns
+        return (apply(st.g_cols.values(factors), g_pat, (n, n)),
+                apply(st.c_cols.values(factors), c_pat, (n, n)))
+
+    def cap_columns(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """C as A diag(d) A^T: incidence A (n, m) and values d (samples, m)."""
+        terminals = self.stamper.c_terminals
+        values = self.stamper.c_cols.values(factors) * np.array([t[2] for t in terminals])
+        return incidence(self.layout.size, [(a, b) for a, b, _ in terminals]), values
 
     def rhs(self, only: str | None = None, amplitude: float = 1.0) -> np.ndarray:
-        """DC source vector (1, n); with ``only``, a unit excitation of that source instead."""
+        """DC source vector (1, n); with ``only``, that source alone at ``amplitude``."""
         st = self.stamper
         values = np.asarray(st.b_cols.values())
         if only is not None:
             values = np.zeros_like(values)
             values[0, st.source_cols[only]] = amplitude
-        return apply(values, st.b_pat.matrix(len(st.b_cols.nominal)), (self.layout.size,))
+        return apply(values, self._patterns[2], (self.layout.size,))
+
+
+def incidence(size: int, pairs: list[tuple[int, int]]) -> np.ndarray:
+    """Columns +1 at a, -1 at b (ground rows dropped), shape (size, len(pairs))."""
+    out = np.zeros((size + 1, len(pairs)))
+    for col, (a, b) in enumerate(pairs):
+        out[a, col] += 1.0
+        out[b, col] -= 1.0
+    return out[:size]
 
 
 def compile_circuit(circuit) -> System:

@@ -82,7 +82,7 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
     """One Newton step; also reports which samples had a junction voltage limited."""
     x = state.x
     residual = np.einsum("sij,sj->si", problem.g, x) + shunt * x - scale * problem.b
-    jac = problem.g + np.diag(shunt)
+    jac = problem.g + np.diag(shunt) if shunt.any() else problem.g
     limited = np.zeros(x.shape[0], dtype=bool)
     if problem.devices.banks:
         vraw = problem.devices.junctions(extend(x))

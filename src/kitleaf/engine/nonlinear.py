@@ -48,12 +48,21 @@ class Devices:
         return (apply(np.concatenate(i_cols, axis=1), self._q, (n,)),
                 apply(np.concatenate(d_cols, axis=1), self._pj, (n, n)))
 
-    def capacitance(self, v: list[np.ndarray]) -> np.ndarray:
-        """Device capacitance matrix (s, n, n) at junction voltages ``v``."""
+    def cap_values(self, v: list[np.ndarray]) -> np.ndarray:
+        """Every device capacitance (s, m) at junction voltages ``v``."""
         samples = v[0].shape[0]
         cols = [np.broadcast_to(b.capacitances(vb), (samples, *b.cap_a.shape)).reshape(samples, -1)
                 for b, vb in zip(self.banks, v, strict=True)]
-        return apply(np.concatenate(cols, axis=1), self._pc, (self.size, self.size))
+        return np.concatenate(cols, axis=1)
+
+    def cap_pairs(self) -> list[tuple[int, int]]:
+        """(a, b) rows of each capacitance, in cap_values order."""
+        return [(int(a), int(b)) for bank in self.banks
+                for a, b in zip(bank.cap_a.ravel(), bank.cap_b.ravel(), strict=True)]
+
+    def capacitance(self, v: list[np.ndarray]) -> np.ndarray:
+        """Device capacitance matrix (s, n, n) at junction voltages ``v``."""
+        return apply(self.cap_values(v), self._pc, (self.size, self.size))
 
 
 def _stamp_currents(pattern: VectorPattern, bank: Bank, offset: int) -> int:

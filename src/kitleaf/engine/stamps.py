@@ -59,9 +59,9 @@ class Pattern:
         self.entry(col, dst, cn, 1.0)
 
     def matrix(self, columns: int) -> sp.csr_matrix:
-        """The sparse (columns, size*size) map; values @ it gives flattened matrices."""
-        shape = (columns, self.size * self.size)
-        return sp.csr_matrix((self._sign, (self._cols, self._flat)), shape=shape)
+        """The sparse (size*size, columns) map; it @ values.T gives flattened matrices."""
+        shape = (self.size * self.size, columns)
+        return sp.csr_matrix((self._sign, (self._flat, self._cols)), shape=shape)
 
 
 class VectorPattern:
@@ -80,11 +80,11 @@ class VectorPattern:
             self._sign.append(sign)
 
     def matrix(self, columns: int) -> sp.csr_matrix:
-        shape = (columns, self.size)
-        return sp.csr_matrix((self._sign, (self._cols, self._rows)), shape=shape)
+        shape = (self.size, columns)
+        return sp.csr_matrix((self._sign, (self._rows, self._cols)), shape=shape)
 
 
 def apply(values: np.ndarray, pattern: sp.csr_matrix, shape: tuple[int, ...]) -> np.ndarray:
     """Batched dense result of ``values`` (samples, columns) through a sparse pattern."""
-    flat = np.asarray((pattern.T @ values.T).T)
+    flat = np.asarray(pattern @ values.T).T
     return flat.reshape((values.shape[0], *shape))

@@ -22,6 +22,7 @@ KEYS = tuple(DEFAULTS["opamp"])
 R1 = 1e3  # ohms; sets the scale of the internal node, which carries AOL * (v+ - v-)
 H_MIN = 0.1  # volts; floor of the half-swing while the rails are still coming up
 LINEAR_U = 2.0  # |(x - vmid) / h| beyond this the output reports saturated
+DEEP_U = 20.0  # beyond this tanh is flat to double precision
 
 
 def swing(x, vpos, vneg, p) -> tuple[np.ndarray, ...]:
@@ -44,17 +45,21 @@ class OpAmpBank(Bank):
         return np.stack([zero, zero, zero], axis=1)
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
-        """Outside the linear range, x may move at most by doubling its distance per step."""
-        *_, u_new = swing(vnew[:, 0], vnew[:, 1], vnew[:, 2], self.p)
-        *_, u_old = swing(vold[:, 0], vnew[:, 1], vnew[:, 2], self.p)
-        room = np.maximum(LINEAR_U, 2.0 * np.abs(u_old))
-        step = np.clip(u_new - u_old, -room, room)
-        h = np.maximum((vnew[:, 1] - vnew[:, 2] - self.p("SWING_HI") - self.p("SWING_LO")) / 2,
-                       H_MIN)
-        x = np.where(np.abs(u_new) > LINEAR_U, vnew[:, 0] + (u_old + step - u_new) * h,
-                     vnew[:, 0])
+        """Keep Newton off the flat of the tanh: entering saturation stops at its edge, then
+        the evaluation point may double its distance per step until it is deep (|u| > 20)."""
+        vpos, vneg = vnew[:, 1], vnew[:, 2]
+        *_, u_new = swing(vnew[:, 0], vpos, vneg, self.p)
+        *_, u_old = swing(vold[:, 0], vpos, vneg, self.p)
+        same_side = np.sign(u_new) == np.sign(u_old)
+        entering = ~same_side | (np.abs(u_old) < LINEAR_U)
+        reach = np.where(entering, LINEAR_U,
+                         np.where(np.abs(u_old) > DEEP_U, np.inf, 2.0 * np.abs(u_old)))
+        u = np.where(np.abs(u_new) > LINEAR_U,
+                     np.sign(u_new) * np.minimum(np.abs(u_new), reach), u_new)
+        vhi, vlo = vpos - self.p("SWING_HI"), vneg + self.p("SWING_LO")
+        h = np.maximum((vhi - vlo) / 2.0, H_MIN)
         out = vnew.copy()
-        out[:, 0] = x
+        out[:, 0] = np.where(u == u_new, vnew[:, 0], (vhi + vlo) / 2.0 + u * h)
         return out
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

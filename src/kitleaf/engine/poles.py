@@ -1,0 +1,87 @@
+"""Pole-residue form of batched small-signal responses, for cheap evaluation at any frequency.
+
+With the capacitances written C = A diag(d) A^T, the response needs only an eigendecomposition
+of an m x m matrix (m capacitances), after which any frequency costs a few multiplications,
+for every sample at once.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class PoleResidue:
+    """v(f) = alpha + s * sum_k residues[k] / (1 + s lambdas[k]), s = j 2 pi f, per sample."""
+
+    alpha: np.ndarray
+    residues: np.ndarray
+    lambdas: np.ndarray
+
+    def __call__(self, freqs: np.ndarray) -> np.ndarray:
+        """Response (samples, frequencies) for frequencies (frequencies,) or (samples, f)."""
+        f = np.asarray(freqs, dtype=float)
+        f = f[None, :] if f.ndim == 1 else f
+        s = (2j * np.pi * f)[..., None]
+        terms = self.residues[:, None, :] / (1.0 + s * self.lambdas[:, None, :])
+        return self.alpha[:, None] + s[..., 0] * terms.sum(axis=-1)
+
+
+def pole_residue(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
+                 out_rows: list[int]) -> list[PoleResidue]:
+    """One PoleResidue per output row of (G + s A diag(d) A^T) x = b, batched over samples.
+
+    By the Woodbury identity x = x0 - s W (I + s D M)^-1 D A^T x0, with x0 = G^-1 b,
+    W = G^-1 A and M = A^T W: only the m x m matrix D M (m capacitances) is diagonalised.
+    """
+    used = np.any(cap_d != 0, axis=0)
+    a, d = cap_a[:, used], cap_d[:, used]
+    samples = g.shape[0]
+    b = np.broadcast_to(rhs[None, :, None], (samples, rhs.size, 1))
+    solved = np.linalg.solve(g, np.concatenate([b, np.broadcast_to(a, (samples, *a.shape))], 2))
+    x0, w = solved[:, :, 0], solved[:, :, 1:]
+    dm = d[:, :, None] * np.einsum("nm,snk->smk", a, w)
+    lambdas, vecs = np.linalg.eig(dm)
+    weights = np.linalg.solve(vecs, (d * (x0 @ a))[..., None].astype(complex))[..., 0]
+    return [PoleResidue(x0[:, row].astype(complex),
+                        -np.einsum("sm,smk->sk", w[:, row, :], vecs) * weights, lambdas)
+            for row in out_rows]
+
+
+def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.ndarray,
+                         start: np.ndarray, upward: bool) -> np.ndarray:
+    """Per sample, the first frequency from ``start`` along ``grid`` where |response| falls
+    below ref / sqrt(2) (``mags`` is |response| on the grid), refined by the Illinois variant
+    of regula falsi in log f; NaN when there is none."""
+    target = ref / np.sqrt(2.0)
+    side = grid[None, :] > start[:, None] if upward else grid[None, :] < start[:, None]
+    below = (mags < target[:, None]) & side
+    walk = below if upward else below[:, ::-1]
+    first = np.argmax(walk, axis=1)
+    rows = np.arange(first.size)
+    found = walk[rows, first]
+    idx = first if upward else grid.size - 1 - first
+    nb = np.clip(idx - 1 if upward else idx + 1, 0, grid.size - 1)
+    inside = grid[nb] > start if upward else grid[nb] < start
+    a = np.log(np.where(inside, grid[nb], start))
+    b = np.log(grid[idx])
+    fa = np.where(inside, mags[rows, nb], ref) / target - 1.0
+    fb = mags[rows, idx] / target - 1.0
+    return np.where(found, np.exp(_illinois(response, target, a, b, fa, fb)), np.nan)
+
+
+def _illinois(response, target, a, b, fa, fb, iterations: int = 40) -> np.ndarray:
+    """Vectorised Illinois root-finding of |response(e^x)| / target - 1 on brackets [a, b]."""
+    for _ in range(iterations):
+        with np.errstate(invalid="ignore", divide="ignore"):
+            c = np.where(fb != fa, (a * fb - b * fa) / (fb - fa), (a + b) / 2.0)
+        c = np.where(np.isfinite(c), c, (a + b) / 2.0)
+        fc = np.abs(response(np.exp(c)[:, None]))[:, 0] / target - 1.0
+        flip = fc * fb < 0
+        a, fa = np.where(flip, b, a), np.where(flip, fb, fa / 2.0)
+        b, fb = c, fc
+        if np.all((np.abs(fb) < 1e-12) | (np.abs(b - a) < 1e-12)):
+            break
+    return b

@@ -1,0 +1,125 @@
+"""Writes a Circuit as a SPICE netlist, so an outside simulator can check the engine's answers."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices.opamp import H_MIN, R1
+from kitleaf.engine.models import DeviceModel
+
+_SPICE_KIND = {"diode": "D", "npn": "NPN", "pnp": "PNP", "njf": "NJF", "pjf": "PJF"}
+
+
+@dataclass(frozen=True)
+class SpiceNetlist:
+    """Netlist text (no analysis or .end) and the names each part and node got in it."""
+
+    text: str
+    nodes: dict[str, str]
+    parts: dict[str, str]
+
+    def node(self, name: str) -> str:
+        return "0" if name == el.GROUND else self.nodes[name]
+
+
+def to_spice(circuit) -> SpiceNetlist:
+    """Element lines, model cards and op-amp subcircuits for every part of ``circuit``."""
+    nodes = {n: f"n{i + 1}" for i, n in enumerate(circuit.nodes())}
+    writer = _Writer(nodes)
+    for element in circuit.elements:
+        _WRITERS[type(element)](writer, element)
+    lines = [f"* {circuit.title or 'kitleaf circuit'}", *writer.lines, *writer.cards]
+    return SpiceNetlist("\n".join(lines) + "\n", nodes, writer.parts)
+
+
+class _Writer:
+    def __init__(self, nodes: dict[str, str]) -> None:
+        self.nodes, self.lines, self.cards = nodes, [], []
+        self.parts: dict[str, str] = {}
+        self.models: dict[int, str] = {}
+
+    def n(self, node: str) -> str:
+        return "0" if node == el.GROUND else self.nodes[node]
+
+    def line(self, prefix: str, part: str, nodes: tuple[str, ...], rest: str) -> str:
+        name = f"{prefix}{len(self.parts) + 1}"
+        self.parts[part] = name
+        self.lines.append(f"{name} {' '.join(self.n(x) for x in nodes)} {rest}")
+        return name
+
+    def model(self, model: DeviceModel, card: Callable[[str, DeviceModel], list[str]]) -> str:
+        if id(model) not in self.models:
+            name = f"m{len(self.models) + 1}"
+            self.models[id(model)] = name
+            self.cards.extend(card(name, model))
+        return self.models[id(model)]
+
+
+def _num(x: float) -> str:
+    return f"{x:.12g}"
+
+
+def _model_card(name: str, model: DeviceModel) -> list[str]:
+    params = " ".join(f"{k}={_num(v)}" for k, v in sorted(model.params.items())
+                      if math.isfinite(v))
+    return [f".model {name} {_SPICE_KIND[model.kind]}({params})"]
+
+
+def _opamp_card(name: str, model: DeviceModel) -> list[str]:
+    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit with a B source."""
+    p = model.get
+    vhi, vlo = f"(v(vpos)-{_num(p('SWING_HI'))})", f"(v(vneg)+{_num(p('SWING_LO'))})"
+    mid, half = f"(({vhi}+{vlo})/2)", f"max(({vhi}-{vlo})/2,{_num(H_MIN)})"
+    f = f"({mid}+{half}*tanh((v(x)-{mid})/{half}))"
+    cap = 1.0 / (2 * math.pi * p("GBW") / p("AOL") * R1)
+    return [
+        f".subckt {name} inp inn out vpos vneg",
+        f"rin inp inn {_num(p('RIN'))}",
+        f"g1 vneg x inp inn {_num(p('AOL') / R1)}",
+        f"r1 x vneg {_num(R1)}",
+        f"c1 x vneg {_num(cap)}",
+        f"b1 0 out i={f}/{_num(p('ROUT'))}",
+        f"rout out 0 {_num(p('ROUT'))}",
+        f"iq vpos vneg dc {_num(p('IQ'))}",
+        ".ends",
+    ]
+
+
+def _passive(prefix: str):
+    def write(w: _Writer, e) -> None:
+        w.line(prefix, e.name, (e.a, e.b), _num(e.value))
+    return write
+
+
+def _pot(w: _Writer, e: el.Pot) -> None:
+    lower, upper = e.legs()
+    w.line("r", e.name + ":ccw", (e.ccw, e.w), _num(lower))
+    w.line("r", e.name + ":cw", (e.w, e.cw), _num(upper))
+
+
+def _source(prefix: str):
+    def write(w: _Writer, e) -> None:
+        w.line(prefix, e.name, (e.p, e.n), f"dc {_num(e.dc)} ac {_num(e.ac)}")
+    return write
+
+
+def _device(prefix: str, pins: tuple[str, ...]):
+    def write(w: _Writer, e) -> None:
+        w.line(prefix, e.name, tuple(getattr(e, p) for p in pins), w.model(e.model, _model_card))
+    return write
+
+
+def _opamp(w: _Writer, e: el.OpAmp) -> None:
+    pins = (e.inp, e.inn, e.out, e.vpos, e.vneg)
+    w.line("x", e.name, pins, w.model(e.model, _opamp_card))
+
+
+_WRITERS = {
+    el.Resistor: _passive("r"), el.Capacitor: _passive("c"), el.Inductor: _passive("l"),
+    el.Pot: _pot, el.VSource: _source("v"), el.ISource: _source("i"),
+    el.Diode: _device("d", ("a", "k")), el.Bjt: _device("q", ("c", "b", "e")),
+    el.Jfet: _device("j", ("d", "g", "s")), el.OpAmp: _opamp,
+}
