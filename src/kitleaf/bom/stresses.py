@@ -12,7 +12,8 @@ from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.engine import elements as el
-from kitleaf.specs.solve import nominal_positions, solve_kit
+from kitleaf.engine import solve_dc
+from kitleaf.specs.solve import nominal_positions
 
 
 def _across(op, a: str, b: str) -> float:
@@ -42,10 +43,11 @@ STRESS: Mapping[type, Callable] = MappingProxyType(
 
 def part_stresses(kit: KitCircuit) -> dict[str, float]:
     """Designator -> DC stress of every capacitor, resistor and pot the kit lists."""
-    solution = solve_kit(kit, nominal_positions(kit))
+    circuit = kit.netlist(nominal_positions(kit))
+    op = solve_dc(circuit)
     designators = {part.designator for part in kit.parts()}
     return {
-        element.name: STRESS[type(element)](solution.op, element)
-        for element in solution.circuit.elements
+        element.name: STRESS[type(element)](op, element)
+        for element in circuit.elements
         if element.name in designators and type(element) in STRESS
     }
