@@ -1,7 +1,7 @@
 """The JFET common-source amplifier: self bias through the source resistor, optional bypass.
 
-A P-channel part is wired mirror-image on the same positive rail: its source resistor goes to
-VCC and its drain resistor to ground.
+A P-channel part is wired mirror-image on the same positive rail: its source resistor and its
+gate resistor go to VCC and its drain resistor to ground.
 """
 
 from __future__ import annotations
@@ -20,7 +20,8 @@ from kitleaf.circuit.stages.common_emitter import transistor_rails
 
 ROLES = (
     capacitor_role("input-cap", "coupling capacitor from the stage input to the gate"),
-    resistor_role("gate", "gate resistor to ground, which sets the input impedance"),
+    resistor_role("gate", "gate resistor to ground (to VCC for P-channel); sets the input "
+                  "impedance"),
     Role("transistor", ("jfet",), help="the N- or P-channel JFET, e.g. Q1 J201"),
     resistor_role("drain", "drain load resistor"),
     resistor_role("source", "source resistor (self bias)"),
@@ -43,7 +44,7 @@ class JfetCommonSource(StageKind):
         drain_rail, source_rail = transistor_rails(is_flipped(stage, "transistor"))
         part = stage.part
         wiring.place(part("input-cap"), "in", "g")
-        wiring.place(part("gate"), "g", "0")
+        wiring.place(part("gate"), "g", source_rail)  # the gate returns to the source's rail
         wiring.place(part("transistor"), "d", "g", "s")
         wiring.place(part("drain"), drain_rail, "d")
         wiring.place(part("source"), "s", source_rail)
@@ -65,7 +66,9 @@ class JfetCommonSource(StageKind):
 
         part = stage.part
         bypass = (part("source-bypass"),) if part("source-bypass") else ()
+        flipped = is_flipped(stage, "transistor")
+        gate_up, gate_down = (part("gate"), None) if flipped else (None, part("gate"))
         draw_transistor_stage(sheet, TransistorDrawing(
-            "pjf" if is_flipped(stage, "transistor") else "njf", part("transistor"),
-            part("input-cap"), None, part("gate"), part("drain"),
+            "pjf" if flipped else "njf", part("transistor"),
+            part("input-cap"), gate_up, gate_down, part("drain"),
             part("source"), bypass, "upper", part("output-cap"), part("volume"), part("pulldown")))
