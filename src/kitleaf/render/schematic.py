@@ -66,11 +66,18 @@ class Sheet:
                              color="black")
 
     # -- parts ---------------------------------------------------------------------------------
-    def part(self, part: Part | None, a: Point, b: Point, side: str | None = None) -> None:
-        """A two-terminal part from ``a`` to ``b`` (a diode's anode at ``a``), labelled."""
+    def part(self, part: Part | None, a: Point, b: Point, side: str | None = None,
+             plus: Point | None = None) -> None:
+        """A two-terminal part from ``a`` to ``b`` (a diode's anode at ``a``), labelled.
+
+        An electrolytic's + lead is at ``a`` unless ``plus`` names ``b``, the end that sits at
+        the higher DC voltage.
+        """
         if part is None:
             return
         polar = part.type == "capacitor" and part.polarised
+        if polar and plus == b:
+            a, b = b, a
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
         self.label(part_label(part), _label_point(a, b, side, _LABEL_GAP[part.type]),

@@ -70,7 +70,7 @@ def _column_pins(d: TransistorDrawing, pins: dict[str, Point]) -> tuple[Point, P
 
 def _draw_input(sheet: Sheet, d: TransistorDrawing) -> None:
     sheet.port((0.0, SIGNAL_Y), "IN", "left")
-    sheet.part(d.input_cap, (0.0, SIGNAL_Y), (2.2, SIGNAL_Y))
+    sheet.part(d.input_cap, (0.0, SIGNAL_Y), (2.2, SIGNAL_Y), plus=(2.2, SIGNAL_Y))  # biased side
     node = (BASE_X, SIGNAL_Y)
     sheet.wire((2.2, SIGNAL_Y), node, (DEVICE_X, SIGNAL_Y))
     if d.bias_top is not None:
@@ -104,15 +104,17 @@ def _draw_bypass(sheet: Sheet, d: TransistorDrawing, lower: Point) -> None:
     corner = (x + 1.6, y)
     sheet.wire((x, y), corner)
     end = (corner[0], d.y(GROUND_Y))
-    _chain_part(sheet, d.bypass[-1], corner, end, side="right")
+    _chain_part(sheet, d.bypass[-1], corner, end, side="right",
+                plus=end if d.mirrored else corner)  # mirrored: the cap's + faces VCC
     sheet.terminal(end)
 
 
-def _chain_part(sheet: Sheet, part: Part, a: Point, b: Point, side: str | None = None) -> None:
+def _chain_part(sheet: Sheet, part: Part, a: Point, b: Point, side: str | None = None,
+                plus: Point | None = None) -> None:
     if part.type == "pot":
         sheet.rheostat(part, a, b, side=side)
     else:
-        sheet.part(part, a, b, side=side)
+        sheet.part(part, a, b, side=side, plus=plus)
 
 
 def _draw_output(sheet: Sheet, d: TransistorDrawing, node: Point) -> None:

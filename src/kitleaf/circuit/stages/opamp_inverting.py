@@ -71,7 +71,7 @@ class OpampInverting(StageKind):
         _, out = draw_opamp_core(sheet, stage, feedback_rows(stage, True), ())
         minus_y = PLUS_Y - 1.25
         sheet.port((-2.2, minus_y), "IN", "left")
-        sheet.part(part("input-cap"), (-2.2, minus_y), (0.0, minus_y))
+        sheet.part(part("input-cap"), (-2.2, minus_y), (0.0, minus_y), plus=(0.0, minus_y))
         sheet.part(part("input"), (0.0, minus_y), (2.6, minus_y), side="below")
         sheet.wire((2.6, minus_y), (4.6, minus_y))
         draw_output(sheet, stage, out)

@@ -72,7 +72,7 @@ class OpampNonInverting(StageKind):
 
         part = stage.part
         sheet.port((0.0, PLUS_Y), "IN", "left")
-        sheet.part(part("input-cap"), (0.0, PLUS_Y), (2.2, PLUS_Y))
+        sheet.part(part("input-cap"), (0.0, PLUS_Y), (2.2, PLUS_Y), plus=(2.2, PLUS_Y))
         node = (3.2, PLUS_Y)
         sheet.wire((2.2, PLUS_Y), node, (4.6, PLUS_Y))
         sheet.dot(node)
