@@ -5,7 +5,16 @@ import math
 import numpy as np
 import pytest
 
-from kitleaf.engine import Circuit, corners, gain_db_at, solve_ac, solve_dc, taper_fraction
+from kitleaf.engine import (
+    Circuit,
+    band_gain_db,
+    corners,
+    gain_db_at,
+    phase_deg_at,
+    solve_ac,
+    solve_dc,
+    taper_fraction,
+)
 
 FREQS = np.geomspace(1.0, 1e6, 61)
 
@@ -88,3 +97,30 @@ class TestPot:
         ac = solve_ac(c, solve_dc(c), [1000.0], "V1")
         # Thevenin resistance of a 50k/50k divider is 25k (circuits textbook)
         assert ac.output_impedance("w")[0] == pytest.approx(25e3, rel=1e-6)
+
+
+class TestMeasurements:
+    def test_phase_at_corner(self):
+        c = Circuit().vsource("VIN", "in", "0", ac=1.0)
+        c.capacitor("C1", "in", "out", 100e-9).resistor("R1", "out", "0", 100e3)
+        ac = solve_ac(c, solve_dc(c), FREQS, "VIN")
+        # a first-order high-pass leads by 45 degrees at its corner (filter textbook)
+        assert phase_deg_at(ac, "out", 1 / (2 * math.pi * 1e-2)) == pytest.approx(45.0, abs=1e-6)
+
+    def test_band_pass_corners(self):
+        c = Circuit().vsource("VIN", "in", "0", ac=1.0).inductor("L1", "in", "a", 0.1)
+        c.capacitor("C1", "a", "out", 100e-9).resistor("R1", "out", "0", 200.0)
+        ac = solve_ac(c, solve_dc(c), FREQS, "VIN")
+        low, high = corners(ac, "out")
+        # series RLC band-pass: f_low f_high = f0^2 = 1 / (4 pi^2 L C) and bandwidth
+        # f_high - f_low = R / (2 pi L) (circuits textbook)
+        assert low * high == pytest.approx(1 / (4 * math.pi**2 * 0.1 * 100e-9), rel=1e-8)
+        assert high - low == pytest.approx(200.0 / (2 * math.pi * 0.1), rel=1e-8)
+
+    def test_band_gain_of_a_divider_is_flat(self):
+        c = Circuit().vsource("VIN", "in", "0", ac=1.0)
+        c.resistor("R1", "in", "out", 1e3).resistor("R2", "out", "0", 1e3)
+        ac = solve_ac(c, solve_dc(c), FREQS, "VIN")
+        low, high = band_gain_db(ac, "out", 20.0, 20e3)
+        # a 1:1 divider halves the voltage, -6.02 dB at every frequency (textbook)
+        assert low == pytest.approx(-6.0206, abs=1e-4) and high == pytest.approx(low, abs=1e-12)

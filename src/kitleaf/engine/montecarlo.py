@@ -50,6 +50,13 @@ class McResult:
     factors: np.ndarray = field(repr=False, compare=False)
     draws: Mapping[str, Mapping[str, np.ndarray]] = field(repr=False, compare=False)
 
+    def factor(self, part: str) -> np.ndarray:
+        """The multipliers drawn for one part's value, one per sample."""
+        names = [e.name for e in self.circuit.elements]
+        if part not in names:
+            raise SolveError(f"no part named {part!r} in the circuit")
+        return self.factors[:, names.index(part)]
+
     def sample(self, index: int):
         """Sample ``index`` as an ordinary Circuit (its drawn values written in), e.g. to solve
         the worst case alone or to check the batch against the single-circuit solvers."""

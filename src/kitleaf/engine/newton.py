@@ -57,8 +57,9 @@ def solve_batch(a: np.ndarray, rhs: np.ndarray) -> np.ndarray:
 
 
 def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1.0,
-           max_iter: int = MAX_ITER) -> np.ndarray:
+           max_iter: int | None = None) -> np.ndarray:
     """Iterate ``state`` in place; return the per-sample convergence flags."""
+    max_iter = MAX_ITER if max_iter is None else max_iter
     size = problem.g.shape[-1]
     shunt = np.zeros(size)
     shunt[: problem.node_count] = gshunt
@@ -105,6 +106,7 @@ def initial_state(problem: Problem, samples: int) -> State:
 
 
 GMIN_STEPS = tuple(10.0 ** -k for k in range(2, 13))
+MAX_SOURCE_STEPS = 100
 
 
 def solve_state(problem: Problem, state: State) -> str:
@@ -135,8 +137,9 @@ def _gmin_stepping(problem: Problem, state: State) -> np.ndarray:
 
 def _source_stepping(problem: Problem, state: State) -> np.ndarray:
     newton(problem, state, scale=0.0)
-    scale, step = 0.0, 0.1
-    while scale < 1.0 and step > 1e-4:
+    scale, step, budget = 0.0, 0.1, MAX_SOURCE_STEPS
+    while scale < 1.0 and step > 1e-4 and budget > 0:
+        budget -= 1
         saved = State(state.x.copy(), [v.copy() for v in state.vstar], state.iterations.copy())
         target = min(1.0, scale + step)
         if newton(problem, state, scale=target).all():

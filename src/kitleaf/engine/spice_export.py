@@ -79,6 +79,7 @@ def _opamp_card(name: str, model: DeviceModel) -> list[str]:
         f".subckt {name} inp inn out vpos vneg",
         f"rin inp inn {_num(p('RIN'))}",
         f"g1 vneg x inp inn {_num(p('AOL') / R1)}",
+        f"g2 vneg x vpos vneg {_num(0.5 / R1)}",
         f"r1 x vneg {_num(R1)}",
         f"c1 x vneg {_num(cap)}",
         f"b1 0 out i={f}/{_num(p('ROUT'))}",

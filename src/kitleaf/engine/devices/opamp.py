@@ -1,7 +1,8 @@
 """Op-amp macro-model: input resistance, one-pole gain stage, soft-limited output near its rails.
 
 Per amplifier: RIN between the inputs; a transconductance AOL/R1 into an internal node x,
-loaded by R1 || C1 to the negative rail (DC gain AOL, pole at GBW/AOL); the output is a
+loaded by R1 || C1 to the negative rail (DC gain AOL, pole at GBW/AOL) and offset so x rests
+at mid-supply for zero input; the output is a
 Thevenin source f(x) behind ROUT, where f = vmid + h * tanh((x - vmid) / h) swings softly
 between vneg + SWING_LO and vpos - SWING_HI (vmid their middle, h half their distance), so
 clipping follows the op-amp's own rails; IQ flows from vpos to vneg.
@@ -45,17 +46,17 @@ class OpAmpBank(Bank):
         return np.stack([zero, zero, zero], axis=1)
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
-        """Keep Newton off the flat of the tanh: entering saturation stops at its edge, then
-        the evaluation point may double its distance per step until it is deep (|u| > 20)."""
+        """Keep Newton off the flat of the tanh: outside |u| < 1 the evaluation point moves
+        at most one unit of u per step, except that once saturated (|u| >= 2) it may double
+        its distance per step on the same side, and is free when deep (|u| > 20)."""
         vpos, vneg = vnew[:, 1], vnew[:, 2]
         *_, u_new = swing(vnew[:, 0], vpos, vneg, self.p)
         *_, u_old = swing(vold[:, 0], vpos, vneg, self.p)
-        same_side = np.sign(u_new) == np.sign(u_old)
-        entering = ~same_side | (np.abs(u_old) < LINEAR_U)
-        reach = np.where(entering, LINEAR_U,
-                         np.where(np.abs(u_old) > DEEP_U, np.inf, 2.0 * np.abs(u_old)))
-        u = np.where(np.abs(u_new) > LINEAR_U,
-                     np.sign(u_new) * np.minimum(np.abs(u_new), reach), u_new)
+        stepped = u_old + np.clip(u_new - u_old, -1.0, 1.0)
+        saturated = (np.sign(u_new) == np.sign(u_old)) & (np.abs(u_old) >= LINEAR_U)
+        reach = np.where(np.abs(u_old) > DEEP_U, np.inf, 2.0 * np.abs(u_old))
+        doubled = np.sign(u_new) * np.minimum(np.abs(u_new), reach)
+        u = np.where(np.abs(u_new) <= 1.0, u_new, np.where(saturated, doubled, stepped))
         vhi, vlo = vpos - self.p("SWING_HI"), vneg + self.p("SWING_LO")
         h = np.maximum((vhi - vlo) / 2.0, H_MIN)
         out = vnew.copy()
@@ -96,6 +97,8 @@ def _stamp_linear(u: el.OpAmp, st) -> int:
     x, vneg = row(internal(u.name, "x")), row(u.vneg)
     st.conductance(None, row(u.inp), row(u.inn), 1.0 / m.get("RIN"))
     st.transconductance(vneg, x, row(u.inp), row(u.inn), m.get("AOL") / R1)
+    # x rests at mid-supply for zero input: x - vneg = AOL (v+ - v-) + (vpos - vneg) / 2
+    st.transconductance(vneg, x, row(u.vpos), vneg, 0.5 / R1)
     st.conductance(None, x, vneg, 1.0 / R1)
     pole = m.get("GBW") / m.get("AOL")
     st.capacitance(None, x, vneg, 1.0 / (2.0 * math.pi * pole * R1))

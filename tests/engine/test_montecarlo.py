@@ -1,0 +1,114 @@
+"""Monte Carlo: seeded draws within the stated tolerances, and every sample solved exactly."""
+
+import math
+
+import numpy as np
+import pytest
+
+from kitleaf.engine import (
+    Circuit,
+    corners,
+    gain_db_at,
+    get_model,
+    monte_carlo,
+    solve_ac,
+    solve_dc,
+)
+
+from . import reference_circuits as rc
+
+FREQS = np.geomspace(1.0, 1e6, 121)
+
+
+def toleranced_rc() -> Circuit:
+    c = Circuit().vsource("VIN", "in", "0", ac=1.0)
+    return c.capacitor("C1", "in", "out", 100e-9, tol=0.10).resistor("R1", "out", "0", 100e3,
+                                                                     tol=0.05)
+
+
+class TestRcCornerSpread:
+    def test_each_corner_is_one_over_two_pi_rc(self):
+        mc = monte_carlo(toleranced_rc(), samples=400, seed=7, freqs=[1000.0], source="VIN",
+                         outputs=["out"])
+        r = 100e3 * mc.factor("R1")
+        cap = 100e-9 * mc.factor("C1")
+        low, high = mc.response.corners["out"]
+        # first-order RC corner f = 1 / (2 pi R C) for every drawn R and C (filter textbook)
+        np.testing.assert_allclose(low, 1 / (2 * math.pi * r * cap), rtol=1e-6)
+        assert np.all(np.isnan(high))
+
+    def test_uniform_draws_stay_inside_the_tolerance(self):
+        mc = monte_carlo(toleranced_rc(), samples=2000, seed=3)
+        assert np.all(np.abs(mc.factor("C1") - 1) <= 0.10)
+        assert np.all(np.abs(mc.factor("R1") - 1) <= 0.05)
+        assert np.all(mc.factor("VIN") == 1.0)
+        # a uniform draw over +-10 % has its 5th and 95th percentiles at +-9 %
+        assert np.percentile(mc.factor("C1"), 5) == pytest.approx(0.91, abs=0.005)
+
+    def test_normal_draws_are_clipped_at_the_tolerance(self):
+        mc = monte_carlo(toleranced_rc(), samples=2000, seed=3, distribution="normal")
+        assert np.all(np.abs(mc.factor("C1") - 1) <= 0.10 + 1e-12)
+        # sigma = tol / 3: the 5th percentile sits near 1 - 1.645 sigma
+        assert np.percentile(mc.factor("C1"), 5) == pytest.approx(1 - 1.645 * 0.1 / 3,
+                                                                   abs=0.005)
+
+
+class TestReproducible:
+    def test_same_seed_same_numbers(self):
+        a = monte_carlo(rc.boost(), samples=64, seed=11, freqs=[1000.0], source="VIN",
+                        nodes=["c"], outputs=["out"])
+        b = monte_carlo(rc.boost(), samples=64, seed=11, freqs=[1000.0], source="VIN",
+                        nodes=["c"], outputs=["out"])
+        c = monte_carlo(rc.boost(), samples=64, seed=12, nodes=["c"])
+        assert np.array_equal(a.dc["c"], b.dc["c"])
+        assert a.gain_db("out", 1000.0) == b.gain_db("out", 1000.0)
+        assert not np.array_equal(a.dc["c"], c.dc["c"])
+
+    def test_no_tolerance_no_spread(self):
+        c = Circuit().vsource("V1", "a", "0", dc=9.0).resistor("R1", "a", "b", 1e3)
+        c.resistor("R2", "b", "0", 1e3)
+        spread = monte_carlo(c, samples=32, nodes=["b"]).voltage("b")
+        assert spread.p5 == spread.p95 == pytest.approx(4.5, rel=1e-12)
+
+
+class TestBatchMatchesSingleSolves:
+    @pytest.mark.parametrize("build", [rc.boost, rc.jfet_common_source, rc.non_inverting])
+    def test_samples_solved_alone_agree(self, build):
+        mc = monte_carlo(build(), samples=40, seed=5, freqs=[1000.0], source="VIN",
+                         nodes=["out"], outputs=["out"], ref_hz=1000.0)
+        for i in (0, 17, 39):
+            sample = mc.sample(i)
+            op = solve_dc(sample)
+            ac = solve_ac(sample, op, FREQS, "VIN")
+            assert mc.dc["out"][i] == pytest.approx(op.voltage("out"), abs=1e-9)
+            assert mc.response.gain_db[("out", 1000.0)][i] == pytest.approx(
+                gain_db_at(ac, "out", 1000.0), abs=1e-6)
+            for mine, single in zip((c[i] for c in mc.response.corners["out"]),
+                                    corners(ac, "out", ref_hz=1000.0), strict=True):
+                if single is None:
+                    assert math.isnan(mine) or mine > FREQS[-1] * 0.5
+                else:
+                    assert mine == pytest.approx(single, rel=1e-6)
+
+
+class TestDeviceSpreads:
+    def test_hfe_spread_moves_the_collector(self):
+        c = rc.boost("2N5089")
+        for name in ("R1", "R2", "RC", "RE"):
+            c = c.replaced(name, tol=0.0)
+        mc = monte_carlo(c, samples=300, seed=2, nodes=["c"])
+        low, high = get_model("2N5089").spread["BF"]
+        bf = mc.draws["Q1"]["BF"]
+        assert bf.min() >= low and bf.max() <= high
+        # more current gain pulls the base up, more collector current, a lower collector
+        assert np.corrcoef(bf, mc.dc["c"])[0, 1] < -0.9
+        spread = mc.voltage("c")
+        assert spread.p5 < solve_dc(rc.boost("2N5089")).voltage("c") < spread.p95
+
+    def test_jfet_idss_within_its_range(self):
+        mc = monte_carlo(rc.jfet_common_source("2N5457"), samples=300, seed=4, nodes=["d"])
+        draws = mc.draws["Q1"]
+        idss = draws["BETA"] * draws["VTO"] ** 2
+        # IDSS = BETA VTO^2 (Shichman-Hodges at VGS = 0) stays inside the datasheet range
+        assert idss.min() >= 1e-3 * (1 - 1e-12) and idss.max() <= 5e-3 * (1 + 1e-12)
+        assert np.all((draws["VTO"] >= -6.0) & (draws["VTO"] <= -0.5))
