@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Mapping
@@ -10,6 +11,7 @@ from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.stages import KINDS
 from kitleaf.engine import Circuit
+from kitleaf.errors import KitleafError
 
 GROUND = "0"
 SUPPLY = "supply"  # the battery or adapter terminal, before any protection
@@ -120,6 +122,21 @@ class KitCircuit:
     def parts(self) -> tuple[Part, ...]:
         """Every part on the board, then the off-board hardware."""
         return tuple(p for s in self.stages for p in s.all_parts()) + self.hardware
+
+    def locate(self, error: KitleafError) -> KitleafError:
+        """The engine's error placed at the guide line of the part or stage it names."""
+        if error.span is not None:
+            return error
+        parts = {p.designator: p for p in self.parts()}
+        names = re.findall(r"[\w.-]+", error.message)
+        part = next((parts[n] for n in names if n in parts), None)
+        if part is not None:
+            return error.located(part.span)
+        for name in names:
+            stage = next((s for s in self.stages if name.startswith(f"{s.id}.")), None)
+            if stage is not None:
+                return error.located(stage.span)
+        return error
 
     def stage_nodes(self, stage_id: str) -> tuple[str, str]:
         """The circuit nodes of a signal stage's input and output."""
