@@ -1,117 +1,160 @@
-"""derive_specs: the kit solved at every knob position, measured into :class:`KitSpecs`."""
+"""derive_specs: the kit solved at every knob position, measured into :class:`KitSpecs`.
+
+Every figure comes with its 5th-95th percentile spread over seeded tolerance samples, solved
+as one batch per kit state (knob positions and supply), never as a loop of single solves.
+"""
 
 from __future__ import annotations
-
-import numpy as np
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
 from kitleaf.guide.model import Guide
-from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs, Voltage
-from kitleaf.specs.response import FREQS, REFERENCE_HZ, corners, to_db
-from kitleaf.specs.solve import Solution, nominal_positions, solve_kit
+from kitleaf.specs import measures as m
+from kitleaf.specs.batch import SAMPLES, SEED
+from kitleaf.specs.headroom import MARGINS, margins
+from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint, StageSpecs, Supply, Voltage
+from kitleaf.specs.plotdata import band, curves
+from kitleaf.specs.response import FREQS
+from kitleaf.specs.solve import KitState, nominal_positions
 
 KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
+# A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
+FRESH_BATTERY_V = 9.6
+
+
+class Kit:
+    """The kit's solved states: nominal knobs, each knob's sweep, and the battery supply."""
+
+    def __init__(self, kit: KitCircuit) -> None:
+        self.kit = kit
+        self.nominal = nominal_positions(kit)
+        self.base = KitState(kit, self.nominal)
+        self.sweeps = {k.designator: tuple(self._state(k.designator, p) for p in KNOB_STEPS)
+                       for k in kit.knobs}
+        self.supplies = supplies(kit.supply_v)
+        self.by_supply = (self.base, *(KitState(kit, self.nominal, s.volts, self.base)
+                                       for s in self.supplies[1:]))
+
+    def _state(self, designator: str, position: float) -> KitState:
+        if position == self.nominal[designator]:
+            return self.base
+        return KitState(self.kit, {**self.nominal, designator: position}, near=self.base)
+
+
+def supplies(rated_v: float) -> tuple[Supply, ...]:
+    """The rated supply (an adapter), and a fresh battery when the kit runs on a 9 V battery."""
+    if rated_v == 9.0:
+        return (Supply("adapter", rated_v), Supply("fresh battery", FRESH_BATTERY_V))
+    return (Supply("adapter", rated_v),)
 
 
 def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
     """Every spec of the kit and its stages, computed from the parts."""
-    nominal = nominal_positions(kit)
-    base = solve_kit(kit, nominal)
-    sweeps = {k.designator: [solve_kit(kit, {**nominal, k.designator: p}) for p in KNOB_STEPS]
-              for k in kit.knobs}
-    stages = tuple(stage_specs(kit, s, base, sweeps) for s in kit.stages)
-    kit_gain = _ratio(base, None, OUTPUT)
-    low, high = _corners(base, None, OUTPUT)
+    solved = Kit(kit)
+    base = solved.base
+    stages = tuple(stage_specs(solved, s) for s in kit.stages)
+    chain = kit.signal_stages
+    first, last = chain[0].id, chain[-1].id
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
-        knob_sweep=_sweep(kit, sweeps, None, OUTPUT),
-        gain_db=Range(_db_at(kit_gain)), low_corner_hz=_opt(low), high_corner_hz=_opt(high),
-        input_impedance=Range(abs(base.ac.input_impedance()[_ref_index()])),
-        output_impedance=Range(abs(np.asarray(base.ac.output_impedance(OUTPUT))[_ref_index()])),
-        supply_current=Range(abs(base.op.current("VSUPPLY"))),
+        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs),
+        gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
+        low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
+        high_corner_hz=base.range(m.corner(INPUT, OUTPUT, 1)),
+        input_impedance=stage(stages, first).input_impedance,
+        output_impedance=stage(stages, last).output_impedance,
+        supply_current=base.range(m.supply_current(None)),
         freqs=tuple(float(f) for f in FREQS),
-        curves=_curves(kit, base, sweeps, None, OUTPUT),
+        curves=curves(solved, INPUT, OUTPUT, kit.knobs),
+        notes=notes(stages),
+        band_gain_db=base.range(m.band_gain_db(INPUT, OUTPUT)),
+        headroom=kit_headroom(solved),
+        band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
+        supplies=solved.supplies,
+        knobs=tuple((k.name, k.designator) for k in kit.knobs),
+        samples=SAMPLES, seed=SEED,
     )
 
 
-def stage_specs(kit: KitCircuit, stage: Stage, base: Solution, sweeps) -> StageSpecs:
-    kind = kit.kind(stage)
-    voltages = tuple(
-        Voltage(tp.label, tp.node, tp.device, tp.pin,
-                Range(base.op.voltage(_node(kit, stage, tp.node))))
-        for tp in kind.test_points(stage)
-    )
-    if not kind.signal:
+def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:
+    return next(s for s in stages if s.id == stage_id)
+
+
+def stage_specs(solved: Kit, stage: Stage) -> StageSpecs:
+    kit, base = solved.kit, solved.base
+    voltages = stage_voltages(solved, stage)
+    if not kit.kind(stage).signal:
+        meters = tuple(supply_meter(s.id) for s in kit.signal_stages)
         return StageSpecs(stage.id, stage.kind, stage.title, False, voltages, (), None, None,
-                          None, None, None, Range(abs(base.op.current("VSUPPLY"))))
+                          None, None, None, base.range(m.supply_current(None, meters)))
     node_in, node_out = kit.stage_nodes(stage.id)
-    gain = _ratio(base, node_in, node_out)
-    low, high = _corners(base, node_in, node_out)
-    i = _ref_index()
-    z_in = base.h(node_in)[i] / np.asarray(base.ac.current(input_meter(stage.id)))[i]
+    knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
     return StageSpecs(
         stage.id, stage.kind, stage.title, True, voltages,
-        _sweep(kit, sweeps, node_in, node_out, stage.id), Range(_db_at(gain)),
-        _opt(low), _opt(high), Range(abs(z_in)), None,
-        Range(abs(base.op.current(supply_meter(stage.id)))),
-        curves=_curves(kit, base, sweeps, node_in, node_out, stage.id),
+        knob_sweep(solved, node_in, node_out, knobs),
+        base.range(m.gain_db(node_in, node_out)),
+        base.range(m.corner(node_in, node_out, 0)), base.range(m.corner(node_in, node_out, 1)),
+        base.range(m.input_impedance(stage.id, node_in)),
+        base.range(output_measure(kit, stage.id, node_out)),
+        base.range(m.supply_current(supply_meter(stage.id))),
+        curves=curves(solved, node_in, node_out, knobs),
+        band_gain_db=base.range(m.band_gain_db(node_in, node_out)),
+        headroom=stage_headroom(solved, (stage,), node_out),
+        band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
     )
 
 
-def _node(kit: KitCircuit, stage: Stage, local: str) -> str:
-    rails = kit._nodes(stage)
-    return rails.get(local) or f"{stage.id}.{local}"
+def output_measure(kit: KitCircuit, stage_id: str, node_out: str) -> m.Measure:
+    """Open the next stage's input meter, or take the load off at the kit output."""
+    ids = [s.id for s in kit.signal_stages]
+    i = ids.index(stage_id)
+    if i + 1 < len(ids):
+        return m.output_impedance(node_out, input_meter(ids[i + 1]), None)
+    return m.output_impedance(node_out, None, kit.load)
 
 
-def _ratio(sol: Solution, node_in: str | None, node_out: str) -> np.ndarray:
-    h = sol.h(node_out)
-    return h if node_in is None else h / sol.h(node_in)
+def knob_sweep(solved: Kit, node_in: str, node_out: str, knobs) -> tuple[KnobPoint, ...]:
+    """Gain at 1 kHz at each step of each knob, the other knobs at half way."""
+    return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)))
+                 for k in knobs
+                 for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
 
 
-def _corners(sol: Solution, node_in: str | None, node_out: str):
-    def evaluate(f: float) -> complex:
-        one = sol.at(f)
-        out = np.asarray(one.transfer(node_out))[0]
-        return out if node_in is None else out / np.asarray(one.transfer(node_in))[0]
-
-    return corners(FREQS, _ratio(sol, node_in, node_out), evaluate)
-
-
-def _ref_index() -> int:
-    return int(np.argmin(np.abs(FREQS - REFERENCE_HZ)))
+def stage_voltages(solved: Kit, stage: Stage) -> tuple[Voltage, ...]:
+    """Each test point's voltage to ground at every supply of the table."""
+    nodes = solved.kit._nodes(stage)
+    out = []
+    for tp in solved.kit.kind(stage).test_points(stage):
+        node = nodes.get(tp.node) or f"{stage.id}.{tp.node}"
+        readings = tuple(s.range(m.node_voltage(node)) for s in solved.by_supply)
+        out.append(Voltage(tp.label, node, tp.device, tp.pin, readings[0], readings))
+    return tuple(out)
 
 
-def _db_at(h: np.ndarray, freq: float = REFERENCE_HZ) -> float:
-    db = to_db(h)
-    return float(np.interp(np.log10(freq), np.log10(FREQS), db))
+def stage_headroom(solved: Kit, stages: tuple[Stage, ...], node: str) -> Headroom | None:
+    names = {p.designator for s in stages for p in s.all_parts()}
+    circuit = solved.base.circuit
+    devices = tuple(e for e in circuit.elements if type(e) in MARGINS and e.name in names)
+    if not devices:
+        return None
+    vcc = {d.name: f"{s.id}.vcc" for s in stages for d in devices
+           if d.name in {p.designator for p in s.all_parts()}}
+
+    def find(v):
+        return [x for d in devices for x in margins(v.batch, (d,), vcc[d.name])]
+
+    volts = solved.base.range(m.swing(find, node))
+    return None if volts is None else Headroom(volts, m.swing_limit(find, node,
+                                                                    solved.base.nominal))
 
 
-def _opt(value: float | None) -> Range | None:
-    return None if value is None else Range(float(value))
+def kit_headroom(solved: Kit) -> Headroom | None:
+    return stage_headroom(solved, solved.kit.signal_stages, OUTPUT)
 
 
-def _sweep(kit, sweeps, node_in, node_out, stage_id: str | None = None):
-    points = []
-    for knob in kit.knobs:
-        if stage_id is not None and knob.stage_id != stage_id:
-            continue
-        for pos, sol in zip(KNOB_STEPS, sweeps[knob.designator]):
-            points.append(KnobPoint(((knob.name, pos),), Range(_db_at(_ratio(sol, node_in, node_out)))))
-    return tuple(points)
+def notes(stages: tuple[StageSpecs, ...]) -> tuple[str, ...]:
+    """Findings a builder should hear about: a device with no room to swing at its bias."""
+    return tuple(f"stage '{s.id}': {s.headroom.limit} leaves no room to swing at this bias"
+                 for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 
-
-def _curves(kit, base, sweeps, node_in, node_out, stage_id: str | None = None):
-    """One curve per position of each knob that acts here; the nominal curve if none does."""
-    curves = []
-    for knob in kit.knobs:
-        if stage_id is not None and knob.stage_id != stage_id:
-            continue
-        for pos, sol in zip(KNOB_STEPS, sweeps[knob.designator]):
-            db = to_db(_ratio(sol, node_in, node_out))
-            curves.append((f"{knob.name} {round(pos * 100)} %", tuple(float(x) for x in db)))
-    if not curves:
-        db = to_db(_ratio(base, node_in, node_out))
-        curves.append(("nominal", tuple(float(x) for x in db)))
-    return tuple(curves)

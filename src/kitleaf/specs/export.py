@@ -3,7 +3,8 @@
 from __future__ import annotations
 
 from kitleaf.render.environment import range_text
-from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
+from kitleaf.specs.batch import SAMPLES
+from kitleaf.specs.model import Curve, Headroom, KitSpecs, KnobPoint, Range, StageSpecs, Voltage
 
 SCHEMA = "kitleaf-specs/1"
 
@@ -26,18 +27,40 @@ def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
             for p in points]
 
 
-def _stage(s: StageSpecs) -> dict:
+def _headroom(h: Headroom | None) -> dict | None:
+    return None if h is None else {**_range(h.volts), "limit": h.limit}
+
+
+def _voltage(v: Voltage, specs: KitSpecs) -> dict:
+    return {"label": v.label, "node": v.node, "device": v.device, "pin": v.pin,
+            "volts": _range(v.volts),
+            "readings": [{"supply": s.name, "supply_v": _num(s.volts), "volts": _range(r)}
+                         for s, r in zip(specs.supplies, v.readings, strict=True)]}
+
+
+def _response(freqs, curves: tuple[Curve, ...], low, high) -> dict:
+    return {"freqs_hz": [_num(f) for f in freqs],
+            "curves": [{"knob": c.knob or None, "position": c.position,
+                        "gain_db": [_num(x, 4) for x in c.gain_db]} for c in curves],
+            "tolerance_db": {"low": [_num(x, 4) for x in low],
+                             "high": [_num(x, 4) for x in high]}}
+
+
+def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
     return {
         "id": s.id, "kind": s.kind, "title": s.title, "signal_path": s.signal,
-        "dc_voltages": [{"label": v.label, "node": v.node, "device": v.device, "pin": v.pin,
-                         "volts": _range(v.volts)} for v in s.voltages],
+        "dc_voltages": [_voltage(v, specs) for v in s.voltages],
         "gain_db_1khz": _range(s.gain_db),
+        "band_gain_db": _range(s.band_gain_db),
         "gain_db_1khz_by_knob": _sweep(s.knob_sweep),
         "low_corner_hz": _range(s.low_corner_hz),
         "high_corner_hz": _range(s.high_corner_hz),
         "input_impedance_ohm_1khz": _range(s.input_impedance),
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
+        "headroom_v_peak": _headroom(s.headroom),
+        "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
+        if s.signal else None,
     }
 
 
@@ -46,15 +69,22 @@ def specs_to_json(specs: KitSpecs) -> dict:
     return {
         "schema": SCHEMA,
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
-                "supply_v": _num(specs.supply_v)},
+                "supply_v": _num(specs.supply_v),
+                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs]},
+        "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
+                      "distribution": "uniform", "percentiles": [5, 95]},
+        "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
         "gain_db_1khz": _range(specs.gain_db),
+        "band_gain_db": _range(specs.band_gain_db),
         "gain_db_1khz_by_knob": _sweep(specs.knob_sweep),
         "low_corner_hz": _range(specs.low_corner_hz),
         "high_corner_hz": _range(specs.high_corner_hz),
         "input_impedance_ohm_1khz": _range(specs.input_impedance),
         "output_impedance_ohm_1khz": _range(specs.output_impedance),
         "supply_current_ma": _range(specs.supply_current, 1e3),
-        "stages": [_stage(s) for s in specs.stages],
+        "headroom_v_peak": _headroom(specs.headroom),
+        "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
+        "stages": [_stage(s, specs) for s in specs.stages],
     }
 
 
@@ -62,14 +92,28 @@ def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
              f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
+             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
              f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
              f"  input impedance    {range_text(specs.input_impedance, 'resistance')}",
-             f"  current draw       {range_text(specs.supply_current, 'current')}"]
+             f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
+             f"  current draw       {range_text(specs.supply_current, 'current')}",
+             f"  output headroom    {_swing(specs.headroom)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
             lines.append(f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}")
         for v in s.voltages:
-            lines.append(f"    {v.label:<16} {range_text(v.volts, 'voltage')}")
+            readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
+                                 for sup, r in zip(specs.supplies, v.readings, strict=True))
+            lines.append(f"    {v.label:<16} {readings}")
     return "\n".join(lines)
+
+
+def _knobs(point: KnobPoint) -> str:
+    return ", ".join(f"{name} {round(pos * 100)} %" for name, pos in point.positions)
+
+
+def _swing(h: Headroom | None) -> str:
+    return "–" if h is None else f"{range_text(h.volts, 'voltage')} peak ({h.limit})"

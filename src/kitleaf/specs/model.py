@@ -1,4 +1,9 @@
-"""The computed specs of a kit: frozen records that pages, claims and JSON all read."""
+"""The computed specs of a kit: frozen records that pages, claims and JSON all read.
+
+Values are SI floats (dB for gains); a :class:`Range` carries the nominal value and the 5th and
+95th percentiles over the part-tolerance samples. Field names are stable: docs/specs-json.md
+maps each one to its JSON key.
+"""
 
 from __future__ import annotations
 
@@ -23,19 +28,50 @@ class KnobPoint:
 
 
 @dataclass(frozen=True)
+class Supply:
+    """A supply the voltage table is read at: "adapter" at 9.0 V, "fresh battery" at 9.6 V."""
+
+    name: str
+    volts: float
+
+
+@dataclass(frozen=True)
 class Voltage:
-    """A test point's DC voltage to ground, as a builder measures it."""
+    """A test point's DC voltage to ground, as a builder measures it.
+
+    ``volts`` is the reading at the kit's rated supply (the first of ``KitSpecs.supplies``);
+    ``readings`` has one Range per supply, in the same order.
+    """
 
     label: str
     node: str
     device: str
     pin: str
     volts: Range
+    readings: tuple[Range, ...] = ()
+
+
+@dataclass(frozen=True)
+class Curve:
+    """Gain in dB over ``KitSpecs.freqs`` with one knob at one position (others at half way);
+    ``knob`` is empty for the single curve of a stage no knob acts on."""
+
+    knob: str
+    position: float | None
+    gain_db: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class Headroom:
+    """Peak output swing before a device leaves its linear region, and what limits it."""
+
+    volts: Range
+    limit: str
 
 
 @dataclass(frozen=True)
 class StageSpecs:
-    """What one stage does, measured in the chain it sits in."""
+    """What one stage does, measured in the chain it sits in (loaded by the stage after it)."""
 
     id: str
     kind: str
@@ -49,9 +85,13 @@ class StageSpecs:
     input_impedance: Range | None
     output_impedance: Range | None
     supply_current: Range | None
-    # Gain in dB over KitSpecs.freqs, one curve per knob position (label, values).
-    curves: tuple[tuple[str, tuple[float, ...]], ...] = ()
+    curves: tuple[Curve, ...] = ()
     extra: tuple[tuple[str, float], ...] = ()
+    band_gain_db: Range | None = None
+    headroom: Headroom | None = None
+    # 5th and 95th percentile gain (dB) over ``KitSpecs.freqs``, knobs at half way.
+    band_low: tuple[float, ...] = ()
+    band_high: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -71,8 +111,16 @@ class KitSpecs:
     output_impedance: Range
     supply_current: Range
     freqs: tuple[float, ...] = ()
-    curves: tuple[tuple[str, tuple[float, ...]], ...] = ()
+    curves: tuple[Curve, ...] = ()
     notes: tuple[str, ...] = field(default=())
+    band_gain_db: Range | None = None
+    headroom: Headroom | None = None
+    band_low: tuple[float, ...] = ()
+    band_high: tuple[float, ...] = ()
+    supplies: tuple[Supply, ...] = ()
+    knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
+    samples: int = 0
+    seed: int = 0
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

@@ -2,24 +2,56 @@
 
 from __future__ import annotations
 
-from kitleaf.render.plot import Curve, ResponsePlot
-from kitleaf.specs.model import KitSpecs
+from kitleaf.render.environment import percent
+from kitleaf.render.plot import Curve, Panel, ResponsePlot
+from kitleaf.specs.model import Curve as SpecCurve
+from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.values import format_value
 
 
 def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
     stage = specs.stage(stage_id)
     if not stage.signal or not stage.curves:
         return None
-    return ResponsePlot(
-        f"{stage.title}: gain against frequency", specs.freqs,
-        tuple(Curve(label, tuple(db)) for label, db in stage.curves),
-        corners=tuple(c.nominal for c in (stage.low_corner_hz, stage.high_corner_hz) if c),
-    )
+    corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
+    return ResponsePlot(f"{stage.title}: gain from its input to its output", specs.freqs,
+                        _panels(specs, stage.curves, stage.band_low, stage.band_high, corners))
 
 
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
-    return ResponsePlot(
-        f"{specs.title}: whole kit, source to load", specs.freqs,
-        tuple(Curve(label, tuple(db)) for label, db in specs.curves),
-        corners=tuple(c.nominal for c in (specs.low_corner_hz, specs.high_corner_hz) if c),
-    )
+    corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
+    return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
+                        specs.freqs,
+                        _panels(specs, specs.curves, specs.band_low, specs.band_high, corners))
+
+
+def _panels(specs: KitSpecs, curves: tuple[SpecCurve, ...], low, high, corners
+            ) -> tuple[Panel, ...]:
+    """One panel per knob, in the kit block's order; one unnamed panel when no knob acts."""
+    knobs = list(dict.fromkeys(c.knob for c in curves))
+    panels = []
+    for knob in knobs:
+        mine = tuple(Curve(_label(c), c.gain_db) for c in curves if c.knob == knob)
+        panels.append(Panel(_title(specs, knob, len(knobs)), mine, low, high, corners))
+    return tuple(panels)
+
+
+def _label(curve: SpecCurve) -> str:
+    if not curve.knob:
+        return "nominal parts"
+    return f"{curve.knob} {percent(curve.position)}"
+
+
+def _title(specs: KitSpecs, knob: str, count: int) -> str:
+    others = [name for name, _ in specs.knobs if name != knob]
+    if not knob:
+        return ""
+    if not others:
+        return f"{knob} knob turned"
+    return f"{knob} knob turned, {' and '.join(others)} at 50 %"
+
+
+def _corners(low: Range | None, high: Range | None) -> tuple[tuple[float, str], ...]:
+    """The nominal -3 dB corners with their labels, knobs at half way."""
+    return tuple((r.nominal, f"−3 dB {format_value(r.nominal, 'frequency')}")
+                 for r in (low, high) if r is not None)

@@ -1,39 +1,73 @@
-"""One solved state of a kit: the DC operating point and the AC response over the band."""
+"""One state of a kit (knob positions, supply) solved nominally and over tolerance samples."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import Mapping
+from collections.abc import Callable, Mapping
+from functools import cached_property
 
 import numpy as np
 
 from kitleaf.circuit.chain import SOURCE, KitCircuit
-from kitleaf.engine import solve_ac, solve_dc
-from kitleaf.specs.response import FREQS
+from kitleaf.specs.batch import Batch, solve_nominal, solve_samples
+from kitleaf.specs.model import Range
+from kitleaf.specs.response import REFERENCE_HZ, Sweep
 
 
-@dataclass
-class Solution:
-    """A kit solved at given knob positions and supply voltage."""
+class View:
+    """One batch (nominal or samples) with its AC solutions, each solved on first use."""
 
-    circuit: object
-    op: object
-    ac: object
+    def __init__(self, batch: Batch) -> None:
+        self.batch = batch
+        self.memo: dict = {}
 
-    def h(self, node: str) -> np.ndarray:
-        """Voltage at ``node`` per volt of source, over :data:`FREQS`."""
-        return np.asarray(self.ac.transfer(node))
+    @cached_property
+    def sweep(self) -> Sweep:
+        """Node voltages over the plotted band."""
+        return Sweep(self.batch, SOURCE)
 
-    def at(self, freq: float):
-        """The AC solution at one frequency, solved afresh."""
-        return solve_ac(self.circuit, self.op, np.array([freq]), source=SOURCE)
+    @cached_property
+    def ref(self) -> np.ndarray:
+        """Complex node voltages and branch currents at 1 kHz, (samples, n)."""
+        return self.batch.solve(np.array([REFERENCE_HZ]), self.batch.excitation(SOURCE))[:, 0]
+
+    def at_ref(self, node: str) -> np.ndarray:
+        row = self.batch.row(node)
+        return np.zeros(self.batch.size, complex) if row is None else self.ref[:, row]
+
+    def once(self, key, compute: Callable[[], object]):
+        """``compute()`` cached under ``key`` (corners are asked for twice, low and high)."""
+        if key not in self.memo:
+            self.memo[key] = compute()
+        return self.memo[key]
 
 
-def solve_kit(kit: KitCircuit, positions: Mapping[str, float],
-              supply_v: float | None = None) -> Solution:
-    circuit = kit.netlist(positions, supply_v)
-    op = solve_dc(circuit)
-    return Solution(circuit, op, solve_ac(circuit, op, FREQS, source=SOURCE))
+class KitState:
+    """The kit at given knob positions and supply: a nominal view and a samples view."""
+
+    def __init__(self, kit: KitCircuit, positions: Mapping[str, float],
+                 supply_v: float | None = None, near: KitState | None = None) -> None:
+        self.circuit = kit.netlist(positions, supply_v)
+        self.nominal = View(solve_nominal(self.circuit))
+        self.near = near
+
+    @cached_property
+    def samples(self) -> View:
+        """The tolerance samples, Newton started from the nearby state's samples if given."""
+        start = None if self.near is None else self.near.samples.batch.x
+        return View(solve_samples(self.circuit, start=start))
+
+    def range(self, measure: Callable[[View], np.ndarray]) -> Range | None:
+        """``measure`` nominally and its 5th-95th percentiles over the samples; None when the
+        nominal value does not exist (a corner beyond the band)."""
+        nominal = float(measure(self.nominal)[0])
+        if not np.isfinite(nominal):
+            return None
+        spread = np.asarray(measure(self.samples), float)
+        finite = spread[np.isfinite(spread)]
+        if finite.size == 0:
+            return Range(nominal)
+        low, high = np.percentile(finite, [5.0, 95.0])
+        return Range(nominal, float(low), float(high))
 
 
 def nominal_positions(kit: KitCircuit) -> dict[str, float]:
