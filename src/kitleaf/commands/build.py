@@ -30,11 +30,24 @@ def summary(report: BuildReport, out) -> str:
 
 def print_report(report: BuildReport, out) -> None:
     for warning in report.warnings:
-        print(f"warning: {warning}", file=sys.stderr)
+        print(warning_line(warning), file=sys.stderr)
     if report.written:  # a site that moved: say what changed for the errata
         for line in summary_lines(report.changes):
             print(f"changed: {line}")
     print(summary(report, out), flush=True)
+
+
+def warning_line(warning: str) -> str:
+    """A design-rule finding is already ``path:line: warning: ...``; other notes get the prefix."""
+    path, _, rest = warning.partition(": ")
+    return rest if rest.startswith(f"{path}:") else f"warning: {warning}"
+
+
+def strict_failures(args) -> int:
+    """With ``--strict``, every guide checked first: design-rule findings stop the build."""
+    from kitleaf.commands.check import run as check
+
+    return check(args) if getattr(args, "strict", False) else 0
 
 
 def build_options(args) -> dict:
@@ -45,6 +58,10 @@ def build_options(args) -> dict:
 
 @command("build")
 def run(args) -> int:
+    if strict_failures(args):
+        print("kitleaf: --strict: the check above failed; the published site is untouched",
+              file=sys.stderr)
+        return 1
     try:
         report = build_site(args.guides, args.out, **build_options(args))
     except BuildFailed as failed:

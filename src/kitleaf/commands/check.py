@@ -1,4 +1,8 @@
-"""``kitleaf check``: parse and solve every guide without rendering; exit 1 if any fails."""
+"""``kitleaf check``: parse, solve and verify every guide without rendering; exit 1 if any fails.
+
+Claims and names in the prose are checked; design-rule findings print as warnings (errors with
+``--strict``), each on one line ``path:line: warning: message [rule]``.
+"""
 
 from __future__ import annotations
 
@@ -8,13 +12,26 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.cli import command
 from kitleaf.errors import KitleafError
 from kitleaf.guide import parse_guide
+from kitleaf.render.inline import prose_env
+from kitleaf.render.prose import render_prose
 from kitleaf.site.discover import find_guides
+from kitleaf.specs.claims import Checks, verify
 from kitleaf.specs.derive import derive_specs
 
 
-def check_guide(path) -> None:
+def check_guide(path) -> Checks:
     guide = parse_guide(path)
-    derive_specs(guide, build_circuit(guide))
+    kit = build_circuit(guide)
+    checks = verify(guide, kit, derive_specs(guide, kit))
+    render_prose(guide.text, prose_env(guide.path, checks.values))  # names in the prose
+    return checks
+
+
+def report(checks: Checks, strict: bool) -> int:
+    """Print the unsilenced findings; the number that count as errors."""
+    for finding in checks.warnings:
+        print(finding.line("error" if strict else "warning"), file=sys.stderr)
+    return len(checks.warnings) if strict else 0
 
 
 @command("check")
@@ -23,7 +40,7 @@ def run(args) -> int:
     guides = find_guides(args.guides)
     for path in guides:
         try:
-            check_guide(path)
+            failed += report(check_guide(path), getattr(args, "strict", False)) > 0
         except KitleafError as exc:
             failed += 1
             print(exc, file=sys.stderr)

@@ -13,8 +13,10 @@ from kitleaf.guide.model import Block, Guide, HardwareLine, KitBlock, Knob, Stag
 
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
-    "source", "load", "order", "battery", "battery-life",
+    "source", "load", "order", "battery", "battery-life", "claim", "allow",
 }
+# Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
+EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
 _ID = re.compile(r"^[a-z][a-z0-9-]*$")
 _DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
 
@@ -112,7 +114,7 @@ def read_kit(block: Block) -> KitBlock:
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
         source=block.first("source"), load=block.first("load"), order=block.first("order"),
-        extra=tuple(e for e in block.entries if e.key in ("battery", "battery-life")),
+        extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
         span=block.span,
     )
 

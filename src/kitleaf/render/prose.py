@@ -36,13 +36,23 @@ def prose_renderer() -> MarkdownIt:
         return default_fence(tokens, idx, options, env)
 
     md.add_render_rule("fence", fence)
+    _load_plugins()
     for plugin in PLUGINS.values():
         md.use(plugin)
     return md
 
 
+def _load_plugins() -> None:
+    # Our own plugins register themselves in PLUGINS when their module is imported.
+    import kitleaf.render.inline  # noqa: F401
+
+
 def render_prose(text: str, env: dict | None = None) -> tuple[Piece, ...]:
-    """The guide's text as prose pieces and block places, in document order."""
+    """The guide's text as prose pieces and block places, in document order.
+
+    ``env`` carries what plugins read, such as the computed values that ``{=name}`` shows
+    (:func:`kitleaf.render.inline.prose_env`); without it references stay as written.
+    """
     html = prose_renderer().render(text, env if env is not None else {})
     pieces: list[Piece] = []
     at = 0

@@ -16,6 +16,7 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
+from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.prose import render_prose
@@ -23,6 +24,7 @@ from kitleaf.render.schematic import render_overview_svg, render_stage_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, contains_span
 from kitleaf.site.manifest import guide_record
+from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.plots import kit_plot, stage_plot
@@ -51,10 +53,12 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
     files[f"{slug}/overview.svg"] = overview
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
+    checks = verify(guide, kit, specs)  # a broken claim stops the guide here
     env = make_environment(themes)
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": render_prose(guide.text),
+        "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
+        "checks": checks,
         "bom": rating_warnings(bom_lines(kit.parts()), part_stresses(kit)),
         "bom_headings": dict(BUILD_ORDER),
     }
@@ -63,7 +67,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), f"{slug}/index.html")
     record = guide_record(Path(path).name, kit.parts(), specs)
-    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes)
+    warnings = specs.notes + tuple(f.line() for f in checks.warnings)
+    return GuideOutput(card, tuple(sorted(files.items())), record, warnings)
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):

@@ -1,0 +1,173 @@
+"""Claims: what a guide states its numbers must be, checked against the computed values.
+
+A claim is a ``claim:`` line in the kit block or a stage block::
+
+    claim: gain.level-100 between 22 dB and 28 dB
+    claim: low-corner below 20 Hz
+    claim: q1.collector between 4 V and 6 V
+
+A claim holds only if the whole tolerance range of the value (its 5th to 95th percentile
+spread, or the nominal value where no spread was computed) lies inside the stated limits: a
+claim speaks for every kit built from parts within tolerance, not for the one on the bench.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
+from types import MappingProxyType
+
+from kitleaf.circuit.chain import KitCircuit
+from kitleaf.errors import KitleafError, SpecError
+from kitleaf.guide.model import Entry, Guide
+from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
+from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.rules import Finding, check_rules
+from kitleaf.values import format_db, format_value, parse_value
+
+_CLAIM = re.compile(r"^(?P<name>[A-Za-z0-9][A-Za-z0-9._-]*)\s+(?:(?P<op>below|above)\s+"
+                    r"(?P<limit>.+)|between\s+(?P<low>.+?)\s+and\s+(?P<high>.+))$")
+_DB = re.compile(r"^([-+−]?\d+(?:\.\d*)?)\s*dB$")
+
+
+@dataclass(frozen=True)
+class Claim:
+    """A stated bound on one computed value: ``low``/``high`` in SI (None: unbounded)."""
+
+    entry: Entry
+    scope: str
+    name: str
+    low: float | None
+    high: float | None
+
+
+@dataclass(frozen=True)
+class Verified:
+    """A claim that holds, with the value that verified it."""
+
+    claim: Claim
+    computed: Computed
+
+    @property
+    def scope(self) -> str:
+        return self.claim.scope
+
+    @property
+    def text(self) -> str:
+        return self.claim.entry.value
+
+    @property
+    def label(self) -> str:
+        return self.computed.label
+
+    @property
+    def value_text(self) -> str:
+        return self.computed.text()
+
+
+def claim_entries(guide: Guide, kit: KitCircuit) -> list[tuple[str, Entry]]:
+    """Every ``claim:`` line with its scope (``kit`` or the stage id), in document order."""
+    found = [(KIT, e) for e in guide.kit.extra if e.key == "claim"]
+    found += [(s.id, e) for s in kit.stages for e in s.claims]
+    return sorted(found, key=lambda pair: pair[1].span.line)
+
+
+def read_claim(entry: Entry, scope: str, values: Mapping[str, Computed]) -> Claim:
+    match = _CLAIM.match(entry.value.strip())
+    if match is None:
+        raise SpecError(f"cannot read the claim {entry.value!r}; write a name and a bound, like "
+                        "'gain.level-100 between 22 dB and 28 dB' or 'current below 5 mA'",
+                        entry.span)
+    computed = lookup(values, match["name"], entry.span, scope)
+    read = _reader(computed.quantity, entry)
+    low, high = (read(match["low"]), read(match["high"])) if match["low"] else (None, None)
+    if match["op"] == "below":
+        high = read(match["limit"])
+    elif match["op"] == "above":
+        low = read(match["limit"])
+    if low is not None and high is not None and low > high:
+        raise SpecError(f"claim {entry.value!r}: the lower bound is above the upper", entry.span)
+    return Claim(entry, scope, computed.name, low, high)
+
+
+def _reader(quantity: str, entry: Entry):
+    def read(text: str) -> float:
+        text = text.strip()
+        if quantity == "db":
+            match = _DB.match(text)
+            if match is None:
+                raise SpecError(f"claim {entry.value!r}: cannot read {text!r}; a gain is "
+                                "written in decibels, like '24 dB' or '-3 dB'", entry.span)
+            return float(match[1].replace("−", "-"))
+        try:
+            return parse_value(text, quantity)
+        except KitleafError as exc:
+            raise SpecError(f"claim {entry.value!r}: {exc.message}", entry.span) from None
+
+    return read
+
+
+def holds(claim: Claim, computed: Computed) -> bool:
+    """True if the whole tolerance range of ``computed`` lies within the claim's bounds."""
+    value = computed.value
+    low = value.nominal if value.low is None else min(value.low, value.nominal)
+    high = value.nominal if value.high is None else max(value.high, value.nominal)
+    return ((claim.low is None or low >= claim.low)
+            and (claim.high is None or high <= claim.high))
+
+
+def broken(claim: Claim, computed: Computed) -> SpecError:
+    value = computed.value
+    nominal = _show(value.nominal, computed.quantity)
+    if value.low is None or value.high is None:
+        spread = "range not computed: nominal only"
+    else:
+        spread = (f"range {_show(value.low, computed.quantity)}–"
+                  f"{_show(value.high, computed.quantity)}")
+    return SpecError(f"claim '{claim.entry.value}' ({computed.label}) does not hold: computed "
+                     f"{nominal} ({spread}); correct the parts or the claim", claim.entry.span)
+
+
+def _show(x: float, quantity: str) -> str:
+    return format_db(x) if quantity == "db" else format_value(x, quantity)
+
+
+def check_claims(guide: Guide, kit: KitCircuit,
+                 values: Mapping[str, Computed]) -> tuple[Verified, ...]:
+    """Every claim of ``guide`` verified; raises SpecError at the first one that does not hold."""
+    verified = []
+    for scope, entry in claim_entries(guide, kit):
+        claim = read_claim(entry, scope, values)
+        computed = values[claim.name]
+        if not holds(claim, computed):
+            raise broken(claim, computed)
+        verified.append(Verified(claim, computed))
+    return tuple(verified)
+
+
+@dataclass(frozen=True)
+class Checks:
+    """A guide's verified claims and design-rule findings, for its page and the CLI."""
+
+    values: Mapping[str, Computed]
+    claims: tuple[Verified, ...]
+    findings: tuple[Finding, ...]
+
+    def claims_for(self, scope: str) -> tuple[Verified, ...]:
+        return tuple(c for c in self.claims if c.scope == scope)
+
+    def findings_for(self, scope: str) -> tuple[Finding, ...]:
+        return tuple(f for f in self.findings if f.scope == scope)
+
+    @property
+    def warnings(self) -> tuple[Finding, ...]:
+        """Findings no ``allow:`` line silences."""
+        return tuple(f for f in self.findings if not f.allowed)
+
+
+def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> Checks:
+    """Claims checked (a broken one raises SpecError) and every design rule run."""
+    values = computed_values(specs, kit)
+    claims = check_claims(guide, kit, values)
+    return Checks(MappingProxyType(values), claims, check_rules(guide, kit, specs))

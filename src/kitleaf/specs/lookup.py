@@ -1,0 +1,124 @@
+"""Names for every computed value of a kit, so prose and claims can refer to them.
+
+A name is dotted and lower-case: ``kit.gain``, ``boost.low-corner``, ``boost.gain.level-100``
+(the gain with the Level knob fully clockwise), ``boost.q1.collector`` (a test point),
+``power.vref``, ``r3`` (a part's value). docs/claims-and-rules.md lists them all.
+"""
+
+from __future__ import annotations
+
+import difflib
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.parts import PART_QUANTITY
+from kitleaf.errors import SourceSpan, SpecError
+from kitleaf.render.environment import range_text
+from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
+
+KIT = "kit"
+# Spec field -> (name, quantity, what it is); the same for the kit and each stage.
+FIELDS = (
+    ("gain_db", "gain", "db", "gain at 1 kHz"),
+    ("low_corner_hz", "low-corner", "frequency", "low corner (−3 dB)"),
+    ("high_corner_hz", "high-corner", "frequency", "high corner (−3 dB)"),
+    ("input_impedance", "input-impedance", "resistance", "input impedance at 1 kHz"),
+    ("output_impedance", "output-impedance", "resistance", "output impedance at 1 kHz"),
+    ("supply_current", "current", "current", "current draw"),
+)
+
+
+@dataclass(frozen=True)
+class Computed:
+    """One named computed value: its range, the quantity it is in and what it is."""
+
+    name: str
+    value: Range
+    quantity: str
+    label: str
+
+    def text(self) -> str:
+        """As the trade writes it, with its tolerance spread when one was computed."""
+        return range_text(self.value, self.quantity)
+
+
+def slug(text: str) -> str:
+    """A knob name or test-point word as a name part: "Mid Boost" -> "mid-boost"."""
+    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")
+
+
+def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
+    """Every name a guide may use, in a stable order."""
+    found: dict[str, Computed] = {}
+    _add_specs(found, KIT, specs, "the kit")
+    found[f"{KIT}.supply"] = Computed(f"{KIT}.supply", Range(specs.supply_v), "voltage",
+                                      "supply voltage")
+    for stage in specs.stages:
+        _add_specs(found, stage.id, stage, stage.title)
+        for v in stage.voltages:
+            name = f"{stage.id}.{_point_name(v.device, v.pin, v.node)}"
+            found[name] = Computed(name, v.volts, "voltage", f"{v.label}, DC to ground")
+    for part in kit.parts():
+        quantity = PART_QUANTITY.get(part.type)
+        if quantity is not None and part.value is not None:
+            name = part.designator.lower()
+            found[name] = Computed(name, Range(part.value), quantity, f"value of {part.designator}")
+    return found
+
+
+def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: str) -> None:
+    for field, name, quantity, label in FIELDS:
+        value = getattr(specs, field)
+        if value is not None:
+            full = f"{prefix}.{name}"
+            found[full] = Computed(full, value, quantity, f"{label}, {title}")
+    for point in specs.knob_sweep:
+        full = f"{prefix}.gain.{_knob_suffix(point)}"
+        found[full] = Computed(full, point.gain_db, "db",
+                               f"gain at 1 kHz, {title}, {_knob_words(point)}")
+
+
+def _knob_suffix(point: KnobPoint) -> str:
+    return ".".join(f"{slug(name)}-{round(pos * 100)}" for name, pos in point.positions)
+
+
+def _knob_words(point: KnobPoint) -> str:
+    return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in point.positions)
+
+
+def _point_name(device: str, pin: str, node: str) -> str:
+    if not device:
+        return slug(node)
+    pin = f"pin{pin}" if pin.isdigit() else slug(pin)
+    return f"{device.lower()}.{pin}"
+
+
+def candidates(name: str, scope: str | None) -> tuple[str, ...]:
+    """Where a name may point: inside its stage first, then as written, then the kit's."""
+    name = name.strip().lower()
+    found = [f"{scope}.{name}"] if scope and scope != KIT else []
+    return tuple(found + [name, f"{KIT}.{name}"])
+
+
+def lookup(values: Mapping[str, Computed], name: str, span: SourceSpan | None,
+           scope: str | None = None) -> Computed:
+    """The value ``name`` refers to; a SpecError naming the line and the nearest name if none."""
+    for candidate in candidates(name, scope):
+        if candidate in values:
+            return values[candidate]
+    raise SpecError(f"there is no computed value '{name}'{_nearest(values, name, scope)}; "
+                    "docs/claims-and-rules.md lists the names", span)
+
+
+def _nearest(values: Mapping[str, Computed], name: str, scope: str | None) -> str:
+    prefixes = tuple(f"{p}." for p in (scope, KIT) if p)
+    short = {}
+    for full in values:
+        short[full] = full
+        for prefix in prefixes:
+            if full.startswith(prefix):
+                short[full.removeprefix(prefix)] = full
+    close = difflib.get_close_matches(name.strip().lower(), list(short), n=1, cutoff=0.6)
+    return f" (did you mean '{close[0]}'?)" if close else ""

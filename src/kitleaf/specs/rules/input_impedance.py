@@ -1,0 +1,25 @@
+"""Rule input-impedance: a kit driven by a passive pickup that loads it below about 500 kΩ.
+
+A passive pickup loses treble into less than about 500 kΩ (common practice, no source); the
+rule applies only where the kit block's ``source:`` is a pickup (the default).
+"""
+
+from __future__ import annotations
+
+from kitleaf.specs.rules import register
+from kitleaf.specs.rules._context import RuleContext
+from kitleaf.values import format_value
+
+RULE = "input-impedance"
+LIMIT_OHM = 500e3  # common practice, no source
+
+
+@register(RULE, "a kit input impedance below about 500 kΩ behind a passive pickup")
+def check(ctx: RuleContext):
+    z = ctx.specs.input_impedance.nominal
+    if ctx.kit.source.is_pickup and z < LIMIT_OHM:
+        source = ctx.guide.kit.source
+        yield ctx.kit_finding(RULE, (
+            f"the kit's input impedance is {format_value(z, 'resistance')}, below "
+            f"{format_value(LIMIT_OHM, 'resistance')}: it dulls a passive pickup; raise the "
+            "input bias resistors or put a buffer first"), source.span if source else None)

@@ -1,0 +1,68 @@
+"""Invented Fernbrook Circuitworks test kits for the claims and design-rule tests."""
+
+from __future__ import annotations
+
+from kitleaf.circuit.build import build_circuit
+from kitleaf.guide.parse import parse_guide
+from kitleaf.specs.claims import Checks, verify
+from kitleaf.specs.derive import derive_specs
+
+KIT = """\
+```kit
+title: Fernbrook Test Boost
+code: FB-T9
+supply: 9 V
+source: low-z
+knob: Level = VR1
+```
+"""
+
+POWER = """\
+```stage power
+kind: power
+reverse-diode: D1 1N5817
+bulk-cap: C10 100u electrolytic 16V
+vref-top: R11 22k
+vref-bottom: R12 22k
+vref-cap: C12 22u electrolytic 16V
+led: LED1 red
+led-resistor: R10 4k7
+```
+"""
+
+BOOST = """\
+```stage boost
+kind: common-emitter
+input-cap: C1 1u film 63V
+bias-top: R1 680k
+bias-bottom: R2 150k
+transistor: Q1 2N5088
+collector: R3 8k2
+emitter: R4 1k5
+bypass-cap: C3 100u electrolytic 16V
+bypass-resistor: R5 470
+output-cap: C2 10u film 63V
+volume: VR1 A100k
+```
+"""
+
+GUIDE = KIT + "\n# Test boost\n\n" + POWER + "\n" + BOOST
+
+
+def swapped(*pairs: tuple[str, str]) -> str:
+    """The test guide with each (old, new) text swap made; each old text occurs once."""
+    text = GUIDE
+    for old, new in pairs:
+        assert text.count(old) == 1, old
+        text = text.replace(old, new)
+    return text
+
+
+def checks_of(text: str, path: str = "test.md") -> Checks:
+    g = parse_guide(path, text)
+    kit = build_circuit(g)
+    return verify(g, kit, derive_specs(g, kit))
+
+
+def findings(text: str, rule: str) -> list:
+    return [f for f in checks_of(text).findings if f.rule == rule]

@@ -1,0 +1,119 @@
+"""Design rules about the solved circuit: corners on the signal path, transistor regions,
+op-amp headroom, input impedance behind a pickup and battery life. Each rule: a guide that
+trips it and one that does not."""
+
+from __future__ import annotations
+
+from rules_kits import GUIDE, KIT, POWER, findings, swapped
+
+
+def filter_guide(block: str, source: str = "low-z") -> str:
+    kit = KIT.replace("knob: Level = VR1\n", "").replace("source: low-z", f"source: {source}")
+    return kit + "\n" + POWER + "\n" + block
+
+
+def high_pass(cap: str, resistor: str) -> str:
+    return ("```stage cut\nkind: high-pass\n"
+            f"series-cap: {cap}\nshunt-resistor: {resistor}\n```\n")
+
+
+def low_pass(resistor: str, cap: str) -> str:
+    return ("```stage cut\nkind: low-pass\n"
+            f"series-resistor: {resistor}\nshunt-cap: {cap}\n```\n")
+
+
+class TestCouplingCorner:
+    def test_1n_into_100k_cuts_at_1_6_khz(self):
+        # R = 100 kΩ ∥ the 1 MΩ load = 90.9 kΩ; f = 1 / (2π · 90.9 kΩ · 1 nF) = 1.75 kHz
+        # (first-order RC high-pass, hand calculation).
+        found = findings(filter_guide(high_pass("C1 1n film", "R1 100k")), "coupling-corner")
+        assert [f.subject for f in found] == ["cut"]
+        assert "1.75 kHz" in found[0].message
+
+    def test_100n_into_1m_cuts_at_1_6_hz(self):
+        # 1 / (2π · 1 MΩ · 100 nF) = 1.59 Hz, under 20 Hz.
+        assert findings(filter_guide(high_pass("C1 100n film", "R1 1M")), "coupling-corner") == []
+
+
+class TestTrebleCorner:
+    def test_10k_and_10n_cut_at_1_6_khz(self):
+        # 1 / (2π · 10 kΩ · 10 nF) = 1.59 kHz, unloaded by the 1 MΩ load (first-order RC).
+        found = findings(filter_guide(low_pass("R1 10k", "C1 10n film")), "treble-corner")
+        assert [f.subject for f in found] == ["cut"]
+
+    def test_1k_and_1n_cut_at_159_khz(self):
+        assert findings(filter_guide(low_pass("R1 1k", "C1 1n film")), "treble-corner") == []
+
+
+class TestTransistorRegion:
+    def test_a_base_held_at_0_1_v_is_cut_off(self):
+        # 9 V · 10k / (1M + 10k) is about 0.09 V at the base, far below a junction's 0.6 V.
+        found = findings(swapped(("R2 150k", "R2 10k")), "transistor-region")
+        assert [f.subject for f in found] == ["Q1"]
+        assert "cut off" in found[0].message
+
+    def test_a_base_driven_hard_saturates(self):
+        # 150k/47k divider: base near 6.7 V, emitter current near 4 mA, far more than the
+        # 8k2 collector resistor can pass without the collector falling to the emitter.
+        found = findings(swapped(("R1 680k", "R1 47k")), "transistor-region")
+        assert "saturated" in found[0].message
+
+    def test_the_plain_bias_is_active(self):
+        assert findings(GUIDE, "transistor-region") == []
+
+
+OPAMP = """\
+```stage gain
+kind: opamp-non-inverting
+input-cap: C1 100n film 63V
+bias: R1 1M
+opamp: U1A TL072
+feedback: R3 82k
+gain-resistor: R4 2k7
+gain-cap: C4 10u electrolytic 16V
+output-cap: C2 1u film 63V
+```
+"""
+
+
+class TestOpampHeadroom:
+    def test_a_reference_0_8_v_above_ground_leaves_no_room(self):
+        # VREF = 9 V · 10k / 110k, about 0.8 V: the output sits there, within 1 V of ground.
+        text = filter_guide(OPAMP).replace("R11 22k", "R11 100k").replace("R12 22k", "R12 10k")
+        found = findings(text, "opamp-headroom")
+        assert [f.subject for f in found] == ["U1A"]
+
+    def test_a_mid_rail_reference_passes(self):
+        assert findings(filter_guide(OPAMP), "opamp-headroom") == []
+
+
+class TestInputImpedance:
+    def test_83k_behind_a_pickup_is_found(self):
+        text = swapped(("source: low-z", "source: pickup"))
+        found = findings(text, "input-impedance")
+        assert [f.subject for f in found] == ["kit"]
+        assert found[0].span.line == text.splitlines().index("source: pickup") + 1
+
+    def test_83k_behind_a_low_impedance_source_is_fine(self):
+        assert findings(GUIDE, "input-impedance") == []
+
+    def test_1m_behind_a_pickup_is_fine(self):
+        text = filter_guide(high_pass("C1 100n film", "R1 1M"), source="pickup")
+        assert findings(text, "input-impedance") == []
+
+
+class TestBatteryLife:
+    def test_2_3_ma_for_1000_h_outruns_a_500_mah_battery(self):
+        # 2.31 mA · 1000 h = 2310 mAh > 500 mAh (the assumed 9 V alkaline, from memory).
+        text = swapped(("source: low-z", "source: low-z\nbattery-life: 1000 h"))
+        found = findings(text, "battery-life")
+        assert [f.subject for f in found] == ["kit"]
+
+    def test_a_stated_capacity_is_used(self):
+        # 2.31 mA · 1000 h = 2310 mAh < 2500 mAh.
+        text = swapped(("source: low-z", "source: low-z\nbattery: 2500 mAh\nbattery-life: 1000 h"))
+        assert findings(text, "battery-life") == []
+
+    def test_100_h_is_within_reach(self):
+        text = swapped(("source: low-z", "source: low-z\nbattery-life: 100 h"))
+        assert findings(text, "battery-life") == []

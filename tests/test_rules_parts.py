@@ -1,0 +1,103 @@
+"""Design rules about single parts: capacitor polarity and voltage, resistor power, LED
+current, E-series values. Each rule: a guide that trips it and the plain test guide that does
+not."""
+
+from __future__ import annotations
+
+import pytest
+
+from rules_kits import GUIDE, checks_of, findings, swapped
+
+# A custom stage whose electrolytic sits between a trimmer's wiper and VREF: the wiper swings
+# from ground to VCC, so the capacitor's voltage changes sign across the knob's travel.
+SWING = """\
+```stage swing
+kind: custom
+nodes: w
+part: VR5 B100k @ 0 w vcc
+part: C5 10u electrolytic 25V @ w vref
+part: R6 100k @ in out
+```
+"""
+
+
+def test_plain_guide_trips_no_rule():
+    assert checks_of(GUIDE).findings == ()
+
+
+class TestCapPolarity:
+    def test_a_capacitor_reversed_by_a_knob_is_found(self):
+        text = swapped(("knob: Level = VR1", "knob: Level = VR1\nknob: Set = VR5")) + SWING
+        found = findings(text, "cap-polarity")
+        assert [f.subject for f in found] == ["C5"]
+        # The wiper swings 0..8.85 V around VREF (4.42 V): about 4.4 V reversed at one end.
+        assert "Set at 0 %" in found[0].message or "Set at 100 %" in found[0].message
+
+    def test_a_capacitor_held_one_way_is_not(self):
+        fixed = SWING.replace("@ w vref", "@ vcc 0")
+        text = swapped(("knob: Level = VR1", "knob: Level = VR1\nknob: Set = VR5")) + fixed
+        assert findings(text, "cap-polarity") == []
+
+
+class TestCapVoltage:
+    def test_a_10_v_can_on_a_9_v_rail_is_over_80_percent(self):
+        # 8.85 V is over 80 % of 10 V (8 V); 80 % derating is common practice, no source.
+        text = swapped(("C10 100u electrolytic 16V", "C10 100u electrolytic 10V"))
+        found = findings(text, "cap-voltage")
+        assert [f.subject for f in found] == ["C10"]
+        line = text.splitlines().index("bulk-cap: C10 100u electrolytic 10V") + 1
+        assert found[0].span.line == line
+
+    def test_a_polarised_cap_without_rating_is_found(self):
+        text = swapped(("C12 22u electrolytic 16V", "C12 22u electrolytic"))
+        assert [f.subject for f in findings(text, "cap-voltage")] == ["C12"]
+
+    def test_16_v_cans_pass(self):
+        assert findings(GUIDE, "cap-voltage") == []
+
+
+class TestResistorPower:
+    def test_a_100_ohm_divider_across_9_v_overheats_quarter_watt_parts(self):
+        # Each 100 Ω leg drops 4.42 V: 4.42² / 100 = 195 mW, over half of 1/4 W (hand calc).
+        text = swapped(("R11 22k", "R11 100"), ("R12 22k", "R12 100"))
+        found = findings(text, "resistor-power")
+        assert sorted(f.subject for f in found) == ["R11", "R12"]
+        assert "assumed" in found[0].message
+
+    def test_a_stated_one_watt_rating_passes(self):
+        text = swapped(("R11 22k", "R11 100 1W"), ("R12 22k", "R12 100 1W"))
+        assert findings(text, "resistor-power") == []
+
+
+class TestLedCurrent:
+    def test_a_100k_resistor_leaves_the_led_dark(self):
+        # (8.85 V - about 1.6 V) / 100 kΩ is about 0.07 mA, under 1 mA (hand calc).
+        found = findings(swapped(("R10 4k7", "R10 100k")), "led-current")
+        assert [f.subject for f in found] == ["LED1"]
+
+    def test_a_150_ohm_resistor_overdrives_it(self):
+        # (8.85 - about 2) V / 150 Ω is about 45 mA, over 20 mA (hand calc).
+        assert [f.subject for f in findings(swapped(("R10 4k7", "R10 150")), "led-current")] \
+            == ["LED1"]
+
+    def test_4k7_gives_about_1_5_ma(self):
+        assert findings(GUIDE, "led-current") == []
+
+
+class TestESeries:
+    @pytest.mark.parametrize("line, nearest", [
+        ("R3 8k2", None),  # E24 8.2 (IEC 60063)
+        ("R3 8k", ("7.5 kΩ", "8.2 kΩ")),  # 8.0 is not in E24; 7.5 and 8.2 are (IEC 60063)
+        ("R3 8k2 1%", ("8.06 kΩ", "8.25 kΩ")),  # E96 has 806 and 825, not 820 (IEC 60063)
+        ("R3 8k2 10%", None),  # E12 has 8.2 (IEC 60063)
+    ])
+    def test_values_against_the_series_of_their_tolerance(self, line, nearest):
+        found = findings(swapped(("R3 8k2", line)), "e-series")
+        if nearest is None:
+            assert found == []
+        else:
+            assert [f.subject for f in found] == ["R3"]
+            assert nearest[0] in found[0].message and nearest[1] in found[0].message
+
+    def test_pots_are_exempt(self):
+        assert findings(swapped(("VR1 A100k", "VR1 A25k")), "e-series") == []
