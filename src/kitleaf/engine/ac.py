@@ -7,20 +7,25 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kitleaf.engine import elements as el
-from kitleaf.engine.compile import System
+from kitleaf.engine.compile import System, incidence
 from kitleaf.engine.dc import OperatingPoint
 from kitleaf.engine.newton import extend, solve_batch
 from kitleaf.engine.nonlinear import Devices
+from kitleaf.engine.poles import decompose, evaluate
+from kitleaf.engine.stamps import apply
 from kitleaf.errors import SolveError
 
 
 @dataclass(frozen=True)
 class Linearised:
-    """The small-signal system at an operating point: (G + j w C) x = b."""
+    """The small-signal system at an operating point: (G + j w C) x = b, C = A diag(d) A^T."""
 
     system: System
     g: np.ndarray
     c: np.ndarray
+    cap_a: np.ndarray
+    cap_d: np.ndarray
+    _forms: dict = field(default_factory=dict, repr=False, compare=False)
 
     def solve(self, freqs: np.ndarray, rhs: np.ndarray) -> np.ndarray:
         """Solutions (frequencies, n) for one right-hand side, in one batched solve."""
@@ -28,18 +33,50 @@ class Linearised:
         a = self.g[None, :, :] + s[:, None, None] * self.c[None, :, :]
         return solve_batch(a, np.broadcast_to(rhs.astype(complex), (s.size, rhs.size)))
 
+    def response(self, source: str, rhs: np.ndarray, freqs: np.ndarray) -> np.ndarray:
+        """Solutions (frequencies, n) for a source's excitation: from the pole-residue form
+        when it reproduces the direct solve at the check frequencies, else solved directly."""
+        if source not in self._forms:
+            self._forms[source] = self._checked_form(rhs)
+        form = self._forms[source]
+        if form is None:
+            return self.solve(freqs, rhs)
+        return evaluate(*form, np.asarray(freqs, dtype=float))[0]
 
-def linearise(op: OperatingPoint) -> Linearised:
-    """Jacobian and capacitance matrix of the circuit at ``op`` (junction capacitances included)."""
-    system = op.system
-    g, c = system.matrices()
-    x = op.x[None, :]
-    if system.families:
-        devices = Devices(system.families, system.layout.size)
+    def _checked_form(self, rhs: np.ndarray):
+        form = decompose(self.g[None], self.cap_a, self.cap_d[None], rhs)
+        direct = self.solve(CHECK_HZ, rhs)
+        fast = evaluate(*form, CHECK_HZ)[0]
+        scale = np.max(np.abs(direct), axis=1, keepdims=True)
+        return form if np.all(np.abs(fast - direct) <= AGREEMENT * scale) else None
+
+
+CHECK_HZ = np.array([1.0, 1e3, 1e6])
+AGREEMENT = 1e-9  # relative to the largest unknown at each check frequency
+
+
+def small_signal(system: System, devices: Devices, x: np.ndarray,
+                 factors: np.ndarray | None = None) -> tuple[np.ndarray, ...]:
+    """Batched G, C (s, n, n) linearised at operating points ``x`` (s, n), with C's factors:
+    incidence A (n, m) and values d (s, m). Junction capacitances are included."""
+    g, c = system.matrices(factors)
+    g = np.broadcast_to(g, (x.shape[0], *g.shape[1:]))
+    cap_a, cap_d = system.cap_columns(factors)
+    cap_d = np.broadcast_to(cap_d, (x.shape[0], cap_d.shape[1]))
+    if devices.banks:
         v = devices.junctions(extend(x))
         _, dev_g = devices.linearise(v, v)
-        g, c = g + dev_g, c + devices.capacitance(v)
-    return Linearised(system, g[0], c[0])
+        dev_d = devices.cap_values(v)
+        g, c = g + dev_g, c + apply(dev_d, devices.cap_map, c.shape[1:])
+        cap_a = np.concatenate([cap_a, incidence(system.layout.size, devices.cap_pairs())], 1)
+        cap_d = np.concatenate([cap_d, dev_d], axis=1)
+    return g, c, cap_a, cap_d
+
+
+def linearise(op: OperatingPoint) -> Linearised:
+    """The circuit's small-signal system at ``op``."""
+    g, c, cap_a, cap_d = small_signal(op.system, op.system.devices, op.x[None, :])
+    return Linearised(op.system, g[0], c[0], cap_a, cap_d[0])
 
 
 @dataclass(frozen=True)
@@ -104,7 +141,7 @@ def solve_linearised(linear: Linearised, freqs, source: str) -> AcResult:
     part = _source(linear.system, source)
     amplitude = part.ac if part.ac != 0.0 else 1.0
     rhs = linear.system.rhs(only=source, amplitude=amplitude)[0]
-    return AcResult(freqs, source, amplitude, linear.solve(freqs, rhs), linear)
+    return AcResult(freqs, source, amplitude, linear.response(source, rhs, freqs), linear)
 
 
 def solve_ac(circuit, op: OperatingPoint, freqs, source: str) -> AcResult:

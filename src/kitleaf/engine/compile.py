@@ -6,11 +6,11 @@ from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
-import scipy.sparse as sp
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices import FAMILIES, Family
-from kitleaf.engine.stamps import Columns, Pattern, VectorPattern, apply
+from kitleaf.engine.nonlinear import Devices
+from kitleaf.engine.stamps import Columns, Pattern, StampMap, VectorPattern, apply
 from kitleaf.engine.topology import check_topology
 from kitleaf.errors import SolveError
 
@@ -94,7 +94,12 @@ class System:
     families: list[Family]
 
     @cached_property
-    def _patterns(self) -> tuple[sp.csr_matrix, sp.csr_matrix, sp.csr_matrix]:
+    def devices(self) -> Devices:
+        """The nominal device banks with their stamp maps (built once)."""
+        return Devices(self.families, self.layout.size)
+
+    @cached_property
+    def _patterns(self) -> tuple[StampMap, StampMap, StampMap]:
         st = self.stamper
         return (st.g_pat.matrix(len(st.g_cols.nominal)), st.c_pat.matrix(len(st.c_cols.nominal)),
                 st.b_pat.matrix(len(st.b_cols.nominal)))

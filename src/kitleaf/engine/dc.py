@@ -10,7 +10,6 @@ import numpy as np
 from kitleaf.engine import elements as el
 from kitleaf.engine.compile import System, compile_circuit
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_state
-from kitleaf.engine.nonlinear import Devices
 from kitleaf.errors import SolveError
 
 
@@ -58,7 +57,7 @@ def problem_for(system: System, factors: np.ndarray | None = None,
                 banks: list | None = None) -> Problem:
     """The DC problem of ``system``, optionally with per-sample part factors and device banks."""
     g, _ = system.matrices(factors)
-    devices = Devices(system.families if banks is None else banks, system.layout.size)
+    devices = system.devices if banks is None else system.devices.with_banks(banks)
     return Problem(g, system.rhs(), devices, len(system.layout.nodes))
 
 

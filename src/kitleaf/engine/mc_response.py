@@ -6,12 +6,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from kitleaf.engine.compile import System, incidence
-from kitleaf.engine.newton import Problem, extend, solve_batch
+from kitleaf.engine.ac import small_signal
+from kitleaf.engine.compile import System
+from kitleaf.engine.newton import Problem, solve_batch
 from kitleaf.engine.poles import PoleResidue, half_power_crossings, pole_residue
 from kitleaf.errors import SolveError
 
 GRID_PER_DECADE = 8
+DEFAULT_BAND = (1.0, 1e6)
 AGREEMENT = 1e-6  # pole-residue vs direct solve, relative; beyond it a sample is re-solved
 
 
@@ -19,23 +21,6 @@ AGREEMENT = 1e-6  # pole-residue vs direct solve, relative; beyond it a sample i
 class McResponse:
     gain_db: dict[tuple[str, float], np.ndarray]
     corners: dict[str, tuple[np.ndarray, np.ndarray]]
-
-
-def _linearised(system: System, problem: Problem, x: np.ndarray, factors: np.ndarray):
-    """G, C (s, n, n) at the operating points, and C's factors: incidence A and values d."""
-    g, c = system.matrices(factors)
-    g = np.broadcast_to(g, (x.shape[0], *g.shape[1:]))
-    cap_a, cap_d = system.cap_columns(factors)
-    cap_d = np.broadcast_to(cap_d, (x.shape[0], cap_d.shape[1]))
-    if problem.devices.banks:
-        v = problem.devices.junctions(extend(x))
-        _, dev_g = problem.devices.linearise(v, v)
-        dev_d = problem.devices.cap_values(v)
-        g, c = g + dev_g, c + problem.devices.capacitance(v)
-        cap_a = np.concatenate([cap_a, incidence(system.layout.size,
-                                                 problem.devices.cap_pairs())], axis=1)
-        cap_d = np.concatenate([cap_d, dev_d], axis=1)
-    return g, c, cap_a, cap_d
 
 
 def direct(g: np.ndarray, c: np.ndarray, rhs: np.ndarray, freqs: np.ndarray) -> np.ndarray:
@@ -48,24 +33,25 @@ def direct(g: np.ndarray, c: np.ndarray, rhs: np.ndarray, freqs: np.ndarray) -> 
 
 def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.ndarray,
                 source: str, freqs: np.ndarray, outputs: list[str],
-                band: tuple[float, float], ref_hz: float | None) -> McResponse:
+                band: tuple[float, float] | None, ref_hz: float | None) -> McResponse:
     if source not in system.stamper.source_cols:
         raise SolveError(f"{source!r} is not a source of the circuit")
-    g, c, cap_a, cap_d = _linearised(system, problem, x, factors)
+    g, c, cap_a, cap_d = small_signal(system, problem.devices, x, factors)
     rhs = system.rhs(only=source)[0]
     rows = [system.layout.row(n) for n in outputs]
     check = direct(g, c, rhs, freqs[:1])[:, 0, rows]  # the pole-residue form is checked here
-    decades = np.log10(band[1] / band[0])
-    grid = np.geomspace(band[0], band[1], int(GRID_PER_DECADE * decades) + 1)
+    grid = corner_grid(freqs, band)
     gain, corners = {}, {}
     models = pole_residue(g, cap_a, cap_d, rhs, rows)
     for k, (node, model) in enumerate(zip(outputs, models, strict=True)):
         bad = ~np.isclose(model(freqs[:1])[:, 0], check[:, k], rtol=AGREEMENT, atol=0)
         response = _Exact(model, g, c, rhs, rows[k], bad)
+        mags = np.abs(response(freqs))
         with np.errstate(divide="ignore"):
-            db = 20 * np.log10(np.abs(response(freqs)))
+            db = 20 * np.log10(mags)
         gain.update({(node, float(f)): db[:, i] for i, f in enumerate(freqs)})
-        corners[node] = _corners(response, grid, ref_hz)
+        grid_mags = mags if grid is freqs else np.abs(response(grid))
+        corners[node] = _corners(response, grid, grid_mags, ref_hz)
     return McResponse(gain, corners)
 
 
@@ -85,8 +71,21 @@ class _Exact:
         return out
 
 
-def _corners(response, grid: np.ndarray, ref_hz: float | None):
-    mags = np.abs(response(grid))
+def corner_grid(freqs: np.ndarray, band: tuple[float, float] | None) -> np.ndarray:
+    """The bracketing grid: ``band`` at GRID_PER_DECADE, or ``freqs`` if that dense."""
+    if band is None:
+        span = np.log10(freqs[-1] / freqs[0]) if freqs.size > 1 else 0.0
+        increasing = freqs.size > 1 and bool(np.all(np.diff(freqs) > 0))
+        if increasing and freqs.size >= GRID_PER_DECADE * span:
+            return freqs
+        band = DEFAULT_BAND
+    if not 0 < band[0] < band[1]:
+        raise SolveError(f"corner band {band!r} must be two increasing frequencies")
+    decades = np.log10(band[1] / band[0])
+    return np.geomspace(band[0], band[1], int(GRID_PER_DECADE * decades) + 1)
+
+
+def _corners(response, grid: np.ndarray, mags: np.ndarray, ref_hz: float | None):
     samples = mags.shape[0]
     if ref_hz is None:
         peak = np.argmax(mags, axis=1)

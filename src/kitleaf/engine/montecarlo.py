@@ -134,9 +134,15 @@ def device_banks(system: System, rng: np.random.Generator, samples: int,
 def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[float] = (),
                 source: str | None = None, nodes: Sequence[str] = (),
                 outputs: Sequence[str] = (), distribution: str = "uniform",
-                corner_band: tuple[float, float] = (1.0, 1e6),
+                corner_band: tuple[float, float] | None = None,
                 ref_hz: float | None = None) -> McResult:
-    """Solve ``samples`` variants of ``circuit`` at once; seeded, so reproducible."""
+    """Solve ``samples`` variants of ``circuit`` at once; seeded, so reproducible.
+
+    DC voltages are kept for ``nodes``; for ``outputs``, the gain at every one of ``freqs``
+    and the -3 dB corners (relative to the gain at ``ref_hz``, or to the peak). Corners are
+    searched on ``corner_band`` at 8 points per decade; without one, on ``freqs`` when they
+    are that dense already, else on 1 Hz..1 MHz. See docs/engine.md for the draws.
+    """
     if distribution not in DISTRIBUTIONS or samples < 1:
         raise SolveError(f"Monte Carlo needs samples >= 1 and a distribution in {DISTRIBUTIONS}")
     system = compile_circuit(circuit)
@@ -165,6 +171,7 @@ def _from_nominal(system: System, problem, samples: int) -> State:
     state.x[:] = start.x
     for whole, v in zip(state.vstar, start.vstar, strict=True):
         whole[:] = v
+    state.fresh = False
     return state
 
 

@@ -6,6 +6,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from kitleaf.engine.batch_lu import solve_many
 from kitleaf.engine.nonlinear import Devices
 from kitleaf.errors import SolveError
 
@@ -37,9 +38,15 @@ def _rows(a: np.ndarray, idx: np.ndarray) -> np.ndarray:
 
 @dataclass
 class State:
+    """Unknowns, the junction voltages devices were last evaluated at, iteration counts.
+
+    A fresh state evaluates devices at its initial junction voltages (not at x = 0), as
+    SPICE does on its first iteration."""
+
     x: np.ndarray
     vstar: list[np.ndarray]
     iterations: np.ndarray
+    fresh: bool = True
 
 
 def extend(x: np.ndarray) -> np.ndarray:
@@ -49,7 +56,7 @@ def extend(x: np.ndarray) -> np.ndarray:
 
 def solve_batch(a: np.ndarray, rhs: np.ndarray) -> np.ndarray:
     try:
-        out = np.linalg.solve(a, rhs[..., None])[..., 0]
+        out = solve_many(a, rhs[..., None])[..., 0]
     except np.linalg.LinAlgError:
         raise SolveError("the circuit matrix is singular (a floating node or a loop of "
                          "sources); check the connections") from None
@@ -58,23 +65,33 @@ def solve_batch(a: np.ndarray, rhs: np.ndarray) -> np.ndarray:
 
 def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1.0,
            max_iter: int | None = None) -> np.ndarray:
-    """Iterate ``state`` in place; return the per-sample convergence flags."""
+    """Iterate ``state`` in place; return the per-sample convergence flags. A converged
+    sample stops iterating, so the batch costs what its unsettled samples cost."""
     max_iter = MAX_ITER if max_iter is None else max_iter
     size = problem.g.shape[-1]
     shunt = np.zeros(size)
     shunt[: problem.node_count] = gshunt
     tol_abs = np.where(np.arange(size) < problem.node_count, VNTOL, ABSTOL)
     done = np.zeros(state.x.shape[0], dtype=bool)
+    active, sub = np.arange(done.size), problem
     for _ in range(max_iter):
-        state.iterations += ~done
-        step, limited = _step(problem, state, shunt, scale)
+        part = State(state.x[active], [v[active] for v in state.vstar], active, state.fresh)
+        step, limited = _step(sub, part, shunt, scale)
         with np.errstate(invalid="ignore"):
-            new_x = state.x + step
-            small = np.abs(step) <= RELTOL * np.maximum(np.abs(new_x), np.abs(state.x)) + tol_abs
-        done = np.all(small, axis=1) & ~limited & np.all(np.isfinite(new_x), axis=1)
-        state.x = np.where(np.isfinite(new_x), new_x, state.x)
+            new_x = part.x + step
+            small = np.abs(step) <= RELTOL * np.maximum(np.abs(new_x), np.abs(part.x)) + tol_abs
+        finite = np.all(np.isfinite(new_x), axis=1)
+        state.x[active] = np.where(finite[:, None], new_x, part.x)
+        for whole, v in zip(state.vstar, part.vstar, strict=True):
+            whole[active] = v
+        state.iterations[active] += 1
+        state.fresh = False
+        done[active] = np.all(small, axis=1) & ~limited & finite
         if done.all():
             break
+        if np.count_nonzero(~done) < active.size:
+            active = np.flatnonzero(~done)
+            sub = problem.take(active)
     return done
 
 
@@ -87,8 +104,10 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
     limited = np.zeros(x.shape[0], dtype=bool)
     if problem.devices.banks:
         vraw = problem.devices.junctions(extend(x))
-        vlim = [bank.limit(vr, vs) for bank, vr, vs in
-                zip(problem.devices.banks, vraw, state.vstar, strict=True)]
+        vlim = state.vstar if state.fresh else [
+            bank.limit(vr, vs) for bank, vr, vs in
+            zip(problem.devices.banks, vraw, state.vstar, strict=True)]
+        state.fresh = False
         for vr, vl in zip(vraw, vlim, strict=True):
             limited |= np.any(vr != vl, axis=(1, 2))
         currents, dev_jac = problem.devices.linearise(vlim, vraw)

@@ -21,7 +21,7 @@ class Devices:
             n_c = _stamp_caps(caps, bank, n_c)
         self._q = currents.matrix(n_i)
         self._pj = jacobian.matrix(n_d)
-        self._pc = caps.matrix(n_c)
+        self.cap_map = caps.matrix(n_c)
 
     def with_banks(self, banks: list[Bank]) -> Devices:
         """The same maps over banks holding other parameter values."""
@@ -62,7 +62,7 @@ class Devices:
 
     def capacitance(self, v: list[np.ndarray]) -> np.ndarray:
         """Device capacitance matrix (s, n, n) at junction voltages ``v``."""
-        return apply(self.cap_values(v), self._pc, (self.size, self.size))
+        return apply(self.cap_values(v), self.cap_map, (self.size, self.size))
 
 
 def _stamp_currents(pattern: VectorPattern, bank: Bank, offset: int) -> int:

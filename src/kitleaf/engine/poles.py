@@ -11,10 +11,28 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from kitleaf.engine.batch_lu import solve_many
+
+
+def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
+             freqs: np.ndarray) -> np.ndarray:
+    """alpha + s * sum_k residues[..., k] / (1 + s lambdas[k]) with s = j 2 pi f.
+
+    alpha (samples, rows), residues (samples, rows, m), lambdas (samples, m); frequencies
+    (f,) or per sample (samples, f); returns (samples, f, rows).
+    """
+    f = np.asarray(freqs, dtype=float)
+    f = f[None, :] if f.ndim == 1 else f
+    s = 2j * np.pi * f  # (samples or 1, f)
+    inverse = s[..., None] * lambdas[:, None, :]  # becomes 1 / (1 + s lambda), in place
+    inverse += 1.0
+    np.reciprocal(inverse, out=inverse)
+    return alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues.transpose(0, 2, 1))
+
 
 @dataclass(frozen=True)
 class PoleResidue:
-    """v(f) = alpha + s * sum_k residues[k] / (1 + s lambdas[k]), s = j 2 pi f, per sample."""
+    """One output row: v(f) = alpha + s * sum_k residues[k] / (1 + s lambdas[k]), per sample."""
 
     alpha: np.ndarray
     residues: np.ndarray
@@ -22,16 +40,14 @@ class PoleResidue:
 
     def __call__(self, freqs: np.ndarray) -> np.ndarray:
         """Response (samples, frequencies) for frequencies (frequencies,) or (samples, f)."""
-        f = np.asarray(freqs, dtype=float)
-        f = f[None, :] if f.ndim == 1 else f
-        s = (2j * np.pi * f)[..., None]
-        terms = self.residues[:, None, :] / (1.0 + s * self.lambdas[:, None, :])
-        return self.alpha[:, None] + s[..., 0] * terms.sum(axis=-1)
+        return evaluate(self.alpha[:, None], self.residues[:, None, :], self.lambdas,
+                        freqs)[..., 0]
 
 
-def pole_residue(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
-                 out_rows: list[int]) -> list[PoleResidue]:
-    """One PoleResidue per output row of (G + s A diag(d) A^T) x = b, batched over samples.
+def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
+              rows: list[int] | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(alpha, residues, lambdas) of (G + s A diag(d) A^T) x = b for ``rows`` (default all),
+    batched over samples.
 
     By the Woodbury identity x = x0 - s W (I + s D M)^-1 D A^T x0, with x0 = G^-1 b,
     W = G^-1 A and M = A^T W: only the m x m matrix D M (m capacitances) is diagonalised.
@@ -40,14 +56,21 @@ def pole_residue(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.nd
     a, d = cap_a[:, used], cap_d[:, used]
     samples = g.shape[0]
     b = np.broadcast_to(rhs[None, :, None], (samples, rhs.size, 1))
-    solved = np.linalg.solve(g, np.concatenate([b, np.broadcast_to(a, (samples, *a.shape))], 2))
+    solved = solve_many(g, np.concatenate([b, np.broadcast_to(a, (samples, *a.shape))], 2))
     x0, w = solved[:, :, 0], solved[:, :, 1:]
     dm = d[:, :, None] * np.einsum("nm,snk->smk", a, w)
     lambdas, vecs = np.linalg.eig(dm)
     weights = np.linalg.solve(vecs, (d * (x0 @ a))[..., None].astype(complex))[..., 0]
-    return [PoleResidue(x0[:, row].astype(complex),
-                        -np.einsum("sm,smk->sk", w[:, row, :], vecs) * weights, lambdas)
-            for row in out_rows]
+    rows = slice(None) if rows is None else rows
+    residues = -np.einsum("srm,smk->srk", w[:, rows, :], vecs) * weights[:, None, :]
+    return x0[:, rows].astype(complex), residues, lambdas
+
+
+def pole_residue(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
+                 out_rows: list[int]) -> list[PoleResidue]:
+    """One PoleResidue per output row, batched over samples."""
+    alpha, residues, lambdas = decompose(g, cap_a, cap_d, rhs, out_rows)
+    return [PoleResidue(alpha[:, k], residues[:, k], lambdas) for k in range(len(out_rows))]
 
 
 def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.ndarray,

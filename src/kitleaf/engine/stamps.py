@@ -58,10 +58,9 @@ class Pattern:
         self.entry(col, dst, cp, -1.0)
         self.entry(col, dst, cn, 1.0)
 
-    def matrix(self, columns: int) -> sp.csr_matrix:
-        """The sparse (size*size, columns) map; it @ values.T gives flattened matrices."""
-        shape = (self.size * self.size, columns)
-        return sp.csr_matrix((self._sign, (self._flat, self._cols)), shape=shape)
+    def matrix(self, columns: int) -> StampMap:
+        """The (size*size, columns) map from value columns to flattened matrices."""
+        return StampMap(self._flat, self._cols, self._sign, (self.size * self.size, columns))
 
 
 class VectorPattern:
@@ -79,12 +78,34 @@ class VectorPattern:
             self._rows.append(row)
             self._sign.append(sign)
 
-    def matrix(self, columns: int) -> sp.csr_matrix:
-        shape = (self.size, columns)
-        return sp.csr_matrix((self._sign, (self._rows, self._cols)), shape=shape)
+    def matrix(self, columns: int) -> StampMap:
+        return StampMap(self._rows, self._cols, self._sign, (self.size, columns))
 
 
-def apply(values: np.ndarray, pattern: sp.csr_matrix, shape: tuple[int, ...]) -> np.ndarray:
-    """Batched dense result of ``values`` (samples, columns) through a sparse pattern."""
-    flat = np.asarray(pattern @ values.T).T
-    return flat.reshape((values.shape[0], *shape))
+class StampMap:
+    """A stamp pattern (entries, columns), applied sparsely to batches and densely to a
+    single sample, where scipy's per-call cost would dominate; each form is built on demand."""
+
+    def __init__(self, rows: list[int], cols: list[int], signs: list[float],
+                 shape: tuple[int, int]) -> None:
+        self._coords = (np.asarray(rows, dtype=int), np.asarray(cols, dtype=int),
+                        np.asarray(signs, dtype=float))
+        self.shape = shape
+        self._dense_t: np.ndarray | None = None
+        self._sparse: sp.csr_matrix | None = None
+
+    def apply(self, values: np.ndarray) -> np.ndarray:
+        rows, cols, signs = self._coords
+        if values.shape[0] == 1:
+            if self._dense_t is None:
+                self._dense_t = np.zeros(self.shape[::-1])
+                np.add.at(self._dense_t, (cols, rows), signs)
+            return values @ self._dense_t
+        if self._sparse is None:
+            self._sparse = sp.csr_matrix((signs, (rows, cols)), shape=self.shape)
+        return np.asarray(self._sparse @ values.T).T
+
+
+def apply(values: np.ndarray, pattern: StampMap, shape: tuple[int, ...]) -> np.ndarray:
+    """Batched dense result of ``values`` (samples, columns) through a stamp pattern."""
+    return pattern.apply(values).reshape((values.shape[0], *shape))

@@ -1,0 +1,163 @@
+"""Benchmark of the circuit engine against ngspice: prints figures, asserts nothing.
+
+Run: python bench/bench_engine.py [--samples 1000] [--repeat 20]
+
+For a one-transistor stage and a three-stage chain it times the engine's DC operating point
+plus a 200-point AC sweep, and a Monte Carlo of N samples (DC, then the same 200 points and
+both corners per sample); then ngspice does the same work in its own .control loop
+(alter / altermod with its random functions, op, ac) and the ratios are printed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import shutil
+import subprocess
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+from kitleaf.engine import Circuit, monte_carlo, solve_ac, solve_dc
+from kitleaf.engine.spice_export import to_spice
+
+FREQS = np.geomspace(10.0, 100e3, 200)
+
+
+def one_transistor() -> Circuit:
+    c = Circuit("one-transistor boost")
+    c.vsource("VCC", "vcc", "0", dc=9.0).vsource("VIN", "in", "0", ac=1.0)
+    c.capacitor("C1", "in", "b", 100e-9, tol=0.10)
+    c.resistor("R1", "vcc", "b", 1e6, tol=0.05).resistor("R2", "b", "0", 100e3, tol=0.05)
+    c.bjt("Q1", "c", "b", "e", "2N5089")
+    c.resistor("RC", "vcc", "c", 10e3, tol=0.05).resistor("RE", "e", "0", 390.0, tol=0.05)
+    return c.capacitor("C2", "c", "out", 1e-6, tol=0.10).resistor("RL", "out", "0", 100e3)
+
+
+def three_stage() -> Circuit:
+    """JFET buffer, BJT boost, op-amp gain stage with a tone roll-off."""
+    c = Circuit("three-stage chain")
+    c.vsource("VCC", "vcc", "0", dc=9.0).vsource("VIN", "in", "0", ac=1.0)
+    c.resistor("RA", "vcc", "vref", 10e3, tol=0.05).resistor("RB", "vref", "0", 10e3, tol=0.05)
+    c.capacitor("CREF", "vref", "0", 47e-6, tol=0.2)
+    c.capacitor("C1", "in", "g1", 22e-9, tol=0.1).resistor("RG1", "g1", "vref", 1e6, tol=0.05)
+    c.jfet("Q1", "vcc", "g1", "s1", "2N5457").resistor("RS1", "s1", "0", 10e3, tol=0.05)
+    c.capacitor("C2", "s1", "b2", 100e-9, tol=0.1)
+    c.resistor("R21", "vcc", "b2", 1e6, tol=0.05).resistor("R22", "b2", "0", 100e3, tol=0.05)
+    c.bjt("Q2", "c2", "b2", "e2", "2N5089").resistor("RC2", "vcc", "c2", 10e3, tol=0.05)
+    c.resistor("RE2", "e2", "0", 390.0, tol=0.05)
+    c.capacitor("C3", "c2", "p3", 100e-9, tol=0.1).resistor("RB3", "p3", "vref", 1e6, tol=0.05)
+    c.opamp("U1A", "p3", "n3", "o3", "vcc", "0", "TL072")
+    c.resistor("RF3", "o3", "n3", 47e3, tol=0.05).capacitor("CF3", "o3", "n3", 1e-9, tol=0.1)
+    c.resistor("RG3", "n3", "g3", 4.7e3, tol=0.05).capacitor("CG3", "g3", "0", 10e-6, tol=0.2)
+    c.capacitor("C4", "o3", "t", 1e-6, tol=0.1).resistor("RT", "t", "out", 10e3, tol=0.05)
+    c.capacitor("CT", "out", "0", 10e-9, tol=0.1)
+    return c.pot("VR1", "out", "vol", "0", 100e3, position=0.5, taper="log", tol=0.2)
+
+
+def best_of(fn, repeat: int) -> float:
+    times = []
+    for _ in range(repeat):
+        start = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - start)
+    return min(times)
+
+
+def engine_dc_ac(c: Circuit) -> None:
+    op = solve_dc(c)
+    solve_ac(c, op, FREQS, "VIN").transfer("out")
+
+
+def engine_mc(c: Circuit, samples: int):
+    return monte_carlo(c, samples=samples, seed=1, freqs=FREQS, source="VIN", nodes=["out"],
+                       outputs=["out"])
+
+
+def ngspice_deck(c: Circuit, runs: int, vary: bool) -> str:
+    """The circuit with a .control loop doing ``runs`` x (alter, op, 200-point ac)."""
+    netlist = to_spice(c)
+    alters = []
+    if vary:
+        for part in c.elements:
+            name = netlist.parts.get(part.name)
+            tol = getattr(part, "tol", 0.0)
+            if name and tol and name[0] in "rcl":
+                alters.append(f"alter {name} = {part.value!r} * (1 + {tol!r} * sunif(0))")
+        for model, card in _model_names(netlist.text).items():
+            spread = _spread_of(c, model)
+            for key, (low, high) in spread.items():
+                if key != "IDSS":
+                    mid, half = (low + high) / 2, (high - low) / 2
+                    alters.append(f"altermod {card} {key.lower()} = {mid!r} + {half!r} * sunif(0)")
+    points = FREQS.size // 4  # ngspice counts points per decade: 4 decades, 200 points
+    loop = ["let k = 0", f"while k < {runs}", *alters, "op",
+            f"ac dec {points} {FREQS[0]!r} {FREQS[-1]!r}", "destroy all", "let k = k + 1",
+            "end"]
+    return netlist.text + ".control\n" + "\n".join(loop) + "\n.endc\n.end\n"
+
+
+def _model_names(text: str) -> dict[str, str]:
+    """Library model name -> card name, from the comment-free netlist (by order of use)."""
+    cards = [line.split()[1] for line in text.splitlines() if line.startswith(".model")]
+    return dict(zip(cards, cards, strict=True))
+
+
+def _spread_of(c: Circuit, card: str) -> dict:
+    netlist = to_spice(c)
+    for part in c.elements:
+        name = netlist.parts.get(part.name, "")
+        if hasattr(part, "model") and name[0] in "dqj":
+            line = next(ln for ln in netlist.text.splitlines() if ln.startswith(name + " "))
+            if line.split()[-1] == card:
+                return dict(part.model.spread)
+    return {}
+
+
+def ngspice_seconds(deck: str, repeat: int = 3) -> float:
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "deck.cir"
+        path.write_text(deck)
+
+        def run() -> None:
+            subprocess.run(["ngspice", "-b", str(path)], capture_output=True, check=False)
+
+        return best_of(run, repeat)
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--samples", type=int, default=1000)
+    parser.add_argument("--repeat", type=int, default=20)
+    args = parser.parse_args()
+    have_ngspice = shutil.which("ngspice") is not None
+    print(f"kitleaf engine benchmark: DC + {FREQS.size}-point AC, Monte Carlo of "
+          f"{args.samples} samples (best of repeats, wall clock)")
+    for label, build, stages in (("one-transistor stage", one_transistor, 1),
+                                 ("three-stage chain", three_stage, 3)):
+        c = build()
+        engine_dc_ac(c)  # warm-up (model library, imports)
+        ours = best_of(lambda c=c: engine_dc_ac(c), args.repeat)
+        mc = best_of(lambda c=c: engine_mc(c, args.samples), max(3, args.repeat // 5))
+        print(f"\n{label}:")
+        print(f"  engine DC+AC          {ours * 1e3:8.2f} ms  ({ours * 1e3 / stages:.2f} ms "
+              "per stage, target <= 5)")
+        print(f"  engine Monte Carlo    {mc * 1e3:8.1f} ms  ({mc / args.samples * 1e6:.1f} us "
+              "per sample)")
+        if not have_ngspice:
+            print("  ngspice not installed: no comparison")
+            continue
+        base = ngspice_seconds(ngspice_deck(c, 0, False))
+        runs = 100
+        single = (ngspice_seconds(ngspice_deck(c, runs, False)) - base) / runs
+        spice_mc = ngspice_seconds(ngspice_deck(c, args.samples, True)) - base
+        print(f"  ngspice DC+AC         {single * 1e3:8.2f} ms  (start-up {base * 1e3:.0f} ms "
+              "excluded)")
+        print(f"  ngspice Monte Carlo   {spice_mc * 1e3:8.1f} ms")
+        print(f"  ratio DC+AC           {single / ours:8.3f} x  (ngspice time / engine time)")
+        print(f"  ratio Monte Carlo     {spice_mc / mc:8.2f} x  (target >= 10)")
+
+
+if __name__ == "__main__":
+    main()
