@@ -73,7 +73,9 @@ def range_text(value, quantity: str) -> str:
     unit = nominal.partition(" ")[2]
     if low.endswith(" " + unit) and high.endswith(" " + unit):
         low, high = low.partition(" ")[0], high.partition(" ")[0]
-    return f"{nominal} ({low}–{high})"
+    # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
+    joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
+    return f"{nominal} ({low}{joiner}{high})"
 
 
 @register_filter("percent")
