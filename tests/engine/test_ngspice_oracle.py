@@ -81,6 +81,7 @@ class TestDiodeStrings(OracleCase):
         c.diode("D2", "b", "c", "1N4148").diode("D3", "c", "d", "1N4001")
         c.diode("D4", "d", "e", "GE-SIGNAL").diode("D5", "e", "0", "1N5817")
         c.resistor("R2", "vcc", "g", 2.2e3).diode("D6", "g", "0", "LED-GREEN")
+        c.isource("I1", "0", "k", dc=2e-3).diode("D8", "k", "0", "1N4148")
         return c.diode("D7", "h", "vcc", "1N4148").resistor("R3", "h", "0", 1e3)  # reverse
 
 

@@ -67,7 +67,7 @@ def small_signal(system: System, devices: Devices, x: np.ndarray,
         v = devices.junctions(extend(x))
         _, dev_g = devices.linearise(v, v)
         dev_d = devices.cap_values(v)
-        g, c = g + dev_g, c + apply(dev_d, devices.cap_map, c.shape[1:])
+        g, c = g + dev_g, c + apply(dev_d, devices.cap_map, c.shape[1:])  # dense C as well
         cap_a = np.concatenate([cap_a, incidence(system.layout.size, devices.cap_pairs())], 1)
         cap_d = np.concatenate([cap_d, dev_d], axis=1)
     return g, c, cap_a, cap_d

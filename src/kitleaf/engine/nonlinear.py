@@ -60,10 +60,6 @@ class Devices:
         return [(int(a), int(b)) for bank in self.banks
                 for a, b in zip(bank.cap_a.ravel(), bank.cap_b.ravel(), strict=True)]
 
-    def capacitance(self, v: list[np.ndarray]) -> np.ndarray:
-        """Device capacitance matrix (s, n, n) at junction voltages ``v``."""
-        return apply(self.cap_values(v), self.cap_map, (self.size, self.size))
-
 
 def _stamp_currents(pattern: VectorPattern, bank: Bank, offset: int) -> int:
     for col, (s, d) in enumerate(zip(bank.src.ravel(), bank.dst.ravel(), strict=True)):
