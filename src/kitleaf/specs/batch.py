@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from kitleaf.engine.ac import small_signal
 from kitleaf.engine.compile import System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import device_banks, part_factors
@@ -153,11 +154,7 @@ def solve_samples(circuit, samples: int = SAMPLES, seed: int = SEED,
 
 
 def _batch(system: System, problem, x: np.ndarray, factors, samples: int) -> Batch:
-    g, c = system.matrices(factors)
-    if problem.devices.banks:
-        v = problem.devices.junctions(extend(x))
-        _, dev_g = problem.devices.linearise(v, v)
-        g, c = g + dev_g, c + problem.devices.capacitance(v)
+    g, c, _, _ = small_signal(system, problem.devices, x, factors)
     g = np.broadcast_to(g, (samples, *g.shape[1:])).copy()
     c = np.broadcast_to(c, (samples, *c.shape[1:])).copy()
     return Batch(system, x, g, c, _device_params(problem, samples))
