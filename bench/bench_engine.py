@@ -11,6 +11,7 @@ both corners per sample); then ngspice does the same work in its own .control lo
 from __future__ import annotations
 
 import argparse
+import os
 import shutil
 import subprocess
 import tempfile
@@ -133,7 +134,8 @@ def main() -> None:
     args = parser.parse_args()
     have_ngspice = shutil.which("ngspice") is not None
     print(f"kitleaf engine benchmark: DC + {FREQS.size}-point AC, Monte Carlo of "
-          f"{args.samples} samples (best of repeats, wall clock)")
+          f"{args.samples} samples (best of repeats, wall clock; {os.cpu_count()} CPUs, "
+          f"load average {os.getloadavg()[0]:.1f})")
     for label, build, stages in (("one-transistor stage", one_transistor, 1),
                                  ("three-stage chain", three_stage, 3)):
         c = build()

@@ -75,15 +75,21 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
     done = np.zeros(state.x.shape[0], dtype=bool)
     active, sub = np.arange(done.size), problem
     for _ in range(max_iter):
-        part = State(state.x[active], [v[active] for v in state.vstar], active, state.fresh)
+        full = active.size == done.size  # then the state itself is stepped, no copies
+        part = state if full else State(state.x[active], [v[active] for v in state.vstar],
+                                        active, state.fresh)
         step, limited = _step(sub, part, shunt, scale)
         with np.errstate(invalid="ignore"):
             new_x = part.x + step
             small = np.abs(step) <= RELTOL * np.maximum(np.abs(new_x), np.abs(part.x)) + tol_abs
         finite = np.all(np.isfinite(new_x), axis=1)
-        state.x[active] = np.where(finite[:, None], new_x, part.x)
-        for whole, v in zip(state.vstar, part.vstar, strict=True):
-            whole[active] = v
+        new_x = np.where(finite[:, None], new_x, part.x)
+        if full:
+            state.x = new_x
+        else:
+            state.x[active] = new_x
+            for whole, v in zip(state.vstar, part.vstar, strict=True):
+                whole[active] = v
         state.iterations[active] += 1
         state.fresh = False
         done[active] = np.all(small, axis=1) & ~limited & finite

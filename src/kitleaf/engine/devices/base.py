@@ -27,6 +27,8 @@ def explin(arg: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def pnjlim(vnew: np.ndarray, vold: np.ndarray, vt: np.ndarray, vcrit: np.ndarray) -> np.ndarray:
     """SPICE's junction-voltage limiting: large forward steps become logarithmic."""
     big = (vnew > vcrit) & (np.abs(vnew - vold) > 2.0 * vt)
+    if not big.any():
+        return vnew
     arg = 1.0 + (vnew - vold) / vt
     from_on = np.where(arg > 0, vold + vt * np.log(np.maximum(arg, 1e-300)), vcrit)
     from_off = vt * np.log(np.maximum(vnew / vt, 1e-300))

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from functools import cached_property
+
 import numpy as np
 
 from kitleaf.engine import elements as el
@@ -36,12 +38,14 @@ class BjtBank(Bank):
         vbe = vcrit(self.p("NF") * VT, self.p("IS"))
         return np.stack([vbe, np.zeros_like(vbe)], axis=1)
 
+    @cached_property
+    def _limits(self) -> tuple[np.ndarray, np.ndarray]:
+        """N VT and the critical voltage of both junctions, (samples or 1, 2, devices)."""
+        n_vt = np.stack([self.p("NF"), self.p("NR")], axis=1) * VT
+        return n_vt, vcrit(n_vt, self.p("IS")[:, None, :])
+
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
-        out = np.empty_like(vnew)
-        for j, n in ((0, "NF"), (1, "NR")):
-            n_vt = self.p(n) * VT
-            out[:, j] = pnjlim(vnew[:, j], vold[:, j], n_vt, vcrit(n_vt, self.p("IS")))
-        return out
+        return pnjlim(vnew, vold, *self._limits)
 
     def _transport(self, vbe: np.ndarray, vbc: np.ndarray) -> dict[str, np.ndarray]:
         """Forward/reverse diode currents and the base charge qb with its derivatives."""
@@ -69,10 +73,11 @@ class BjtBank(Bank):
         ibc = t["ibr"] / p("BR") + ilc + GMIN * vbc
         dbe = t["gbf"] / p("BF") + gle + GMIN
         dbc = t["gbr"] / p("BR") + glc + GMIN
-        zero = np.zeros_like(dbe)
-        slope = np.stack([np.stack([dbe, zero], 1), np.stack([zero, dbc], 1),
-                          np.stack([dce_be, dce_bc], 1)], axis=1)
-        return np.stack([ibe, ibc, ice], axis=1), slope
+        slope = np.zeros((vbe.shape[0], 3, 2, vbe.shape[1]))
+        slope[:, 0, 0], slope[:, 1, 1], slope[:, 2, 0], slope[:, 2, 1] = dbe, dbc, dce_be, dce_bc
+        current = np.empty((vbe.shape[0], 3, vbe.shape[1]))
+        current[:, 0], current[:, 1], current[:, 2] = ibe, ibc, ice
+        return current, slope
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:
         p, vbe, vbc = self.p, v[:, 0], v[:, 1]

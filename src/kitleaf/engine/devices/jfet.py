@@ -62,10 +62,11 @@ class JfetBank(Bank):
         normal = vgs >= vgd
         ids = np.where(normal, fwd, -rev)
         d_s, d_d = np.where(normal, f_s, -r_s), np.where(normal, f_d, -r_d)
-        zero = np.zeros_like(ggs)
-        slope = np.stack([np.stack([ggs, zero], 1), np.stack([zero, ggd], 1),
-                          np.stack([d_s, d_d], 1)], axis=1)
-        return np.stack([igs, igd, ids], axis=1), slope
+        slope = np.zeros((vgs.shape[0], 3, 2, vgs.shape[1]))
+        slope[:, 0, 0], slope[:, 1, 1], slope[:, 2, 0], slope[:, 2, 1] = ggs, ggd, d_s, d_d
+        current = np.empty((vgs.shape[0], 3, vgs.shape[1]))
+        current[:, 0], current[:, 1], current[:, 2] = igs, igd, ids
+        return current, slope
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:
         p = self.p
