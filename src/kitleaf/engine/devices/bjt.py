@@ -24,6 +24,7 @@ from kitleaf.engine.models import DEFAULTS
 KEYS = tuple(DEFAULTS["npn"])
 SATURATION_VCE = 0.25  # volts; below this (device frame) a BJT reports "saturated"
 CUTOFF_IC = 1e-8  # amperes; below this collector current it reports "cutoff"
+START_AMPS = 1e-4  # small-signal stages in pedals mostly run near 100 uA .. 1 mA
 
 
 def _junction(v: np.ndarray, i_sat: np.ndarray, n_vt: np.ndarray):
@@ -35,7 +36,8 @@ class BjtBank(Bank):
     """Junctions (vbe, vbc); currents b->e, b->c, c->e (transport); caps b-e, b-c."""
 
     def initial(self) -> np.ndarray:
-        vbe = vcrit(self.p("NF") * VT, self.p("IS"))
+        """Newton's first guess: VBE passing START_AMPS, the collector junction at zero."""
+        vbe = self.p("NF") * VT * np.log(START_AMPS / self.p("IS"))
         return np.stack([vbe, np.zeros_like(vbe)], axis=1)
 
     @cached_property

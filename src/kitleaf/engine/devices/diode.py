@@ -19,13 +19,15 @@ from kitleaf.engine.devices.base import (
 )
 
 KEYS = ("IS", "N", "RS", "CJO", "VJ", "M", "FC", "TT", "BV", "IBV")
+START_AMPS = 1e-3  # diodes in pedals (clippers, LEDs) mostly run near a milliampere
 
 
 class DiodeBank(Bank):
     """One junction (anode to cathode), one current."""
 
     def initial(self) -> np.ndarray:
-        return vcrit(self.p("N") * VT, self.p("IS"))[:, None, :]
+        """Newton's first guess: the voltage that passes START_AMPS."""
+        return (self.p("N") * VT * np.log(START_AMPS / self.p("IS")))[:, None, :]
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
         n_vt = (self.p("N") * VT)[:, None, :]
