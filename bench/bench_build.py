@@ -31,6 +31,8 @@ STAGES = 4
 FENCE = re.compile(r"^```stage (\S+)\n(.*?)^```\n", re.S | re.M)
 PART = re.compile(r"^([a-z-]+: )([A-Z]+)(\d+)([A-Z]?)( +)(\S+)", re.M)
 QUANTITY = {"R": "resistance", "C": "capacitance"}
+CLAIM = re.compile(r"^claim: .*\n", re.M)  # a stated claim would not hold for varied values
+ALLOW = re.compile(r"^allow: .*\n", re.M)  # names the stage by its first id
 
 
 def stage_blocks(text: str) -> list[tuple[str, str]]:
@@ -41,6 +43,7 @@ def stage_blocks(text: str) -> list[tuple[str, str]]:
 def renumbered(block: str, stage_id: str, offset: int) -> str:
     """A stage block under a new id, its designators moved up by ``offset``."""
     block = block.replace(f"```stage {stage_id}\n", f"```stage {stage_id}{offset}\n", 1)
+    block = ALLOW.sub("", block)
     return PART.sub(lambda m: f"{m[1]}{m[2]}{int(m[3]) + offset}{m[4]}{m[5]}{m[6]}", block)
 
 
@@ -74,11 +77,12 @@ def four_stage_guide(base: str, donors: list[str], number: int, rng: random.Rand
                   flags=re.M)
     text = re.sub(r"^title: (.+)$", lambda m: f"title: {m[1]} {number:03d}", text, count=1,
                   flags=re.M)
-    return vary(text, rng)
+    return vary(CLAIM.sub("", text), rng)
 
 
 def make_site(root: Path, count: int) -> Path:
     demos = [p.read_text() for p in sorted(DEMO.glob("*.md"))]
+    """``count`` guides of four stages under ``root/guides``."""
     guides = root / "guides"
     guides.mkdir(parents=True)
     rng = random.Random(2024)

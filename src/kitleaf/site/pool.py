@@ -11,6 +11,7 @@ from __future__ import annotations
 import concurrent.futures as futures
 import multiprocessing
 import os
+import sys
 from collections.abc import Callable
 from pathlib import Path
 
@@ -47,7 +48,7 @@ def run_guides(paths: list[Path], themes: list[Path], cache_root: Path | None, j
                advance: Callable[[], None] = lambda: None,
                tick: Callable[[], None] = lambda: None) -> list[Result]:
     """Build ``paths`` with up to ``jobs`` processes; results in the order of ``paths``."""
-    workers = min(jobs, len(paths))
+    workers = min(jobs, len(paths)) if _main_importable() else 1
     if workers <= 1:
         return [_serial(path, themes, cache_root, advance) for path in paths]
     with futures.ProcessPoolExecutor(workers, mp_context=_context()) as pool:
@@ -76,6 +77,12 @@ def _parallel(pool, paths, themes, cache_root, advance, tick) -> list[Result]:
             advance()
         tick()
     return results
+
+
+def _main_importable() -> bool:
+    """Whether workers can re-import ``__main__`` as they start (not so for a script on stdin)."""
+    main = getattr(sys.modules.get("__main__"), "__file__", None)
+    return main is None or os.path.exists(main)
 
 
 def _context():
