@@ -139,3 +139,20 @@ def test_dip_chips_get_a_socket_line():
 @pytest.mark.parametrize("empty", [[], ()])
 def test_no_parts_no_lines(empty):
     assert bom_lines(empty) == ()
+
+
+class TestOpAmpPackages:
+    # Common practice, no source: the sections A and B of a dual op-amp are one chip on the BOM.
+    def test_two_sections_are_one_chip_and_one_socket(self):
+        from kitleaf.bom import bom_lines
+        from kitleaf.circuit.parts import Part
+        from kitleaf.errors import SourceSpan
+
+        span = SourceSpan("guides/x.md", 3)
+        parts = [Part("U1A", "opamp", "TL072", span, model="TL072"),
+                 Part("U1B", "opamp", "TL072", span, model="TL072")]
+        lines = bom_lines(parts)
+        chips = [line for line in lines if line.type == "opamp"]
+        sockets = [line for line in lines if line.type == "socket"]
+        assert [c.designators for c in chips] == [("U1",)]
+        assert [s.designators for s in sockets] == [("U1",)]

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from kitleaf.bom.finding import Finding, find
 from kitleaf.bom.order import build_group, build_rank
@@ -124,6 +124,24 @@ def _sockets(lines: list[BomLine]) -> list[BomLine]:
     ]
 
 
+_SECTION = re.compile(r"^([A-Z]+\d+)[A-H]$")
+
+
+def packages(parts: Iterable[Part]) -> list[Part]:
+    """Parts as bought: the sections U1A and U1B of one dual op-amp are the one chip U1."""
+    seen: set[tuple] = set()
+    out = []
+    for part in parts:
+        match = _SECTION.match(part.designator) if part.type == "opamp" else None
+        if match is not None:
+            if (match[1], part.model) in seen:
+                continue
+            seen.add((match[1], part.model))
+            part = replace(part, designator=match[1])
+        out.append(part)
+    return out
+
+
 def bom_lines(parts: Iterable[Part]) -> tuple[BomLine, ...]:
     """The bill of materials of ``parts``: grouped, counted, and sorted in build order.
 
@@ -132,7 +150,7 @@ def bom_lines(parts: Iterable[Part]) -> tuple[BomLine, ...]:
     line.
     """
     groups: dict[tuple, list[Part]] = {}
-    for part in parts:
+    for part in packages(parts):
         groups.setdefault(_group_key(part), []).append(part)
     lines = [_line(group) for group in groups.values()]
     lines += _sockets(lines)
