@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from kitleaf.errors import SpecError
+from kitleaf.errors import KitleafError, SpecError
 from kitleaf.specs.claims import Claim, holds
 from kitleaf.specs.lookup import Computed
 from kitleaf.specs.model import Range
@@ -58,6 +58,17 @@ class TestClaims:
         message = str(err.value)
         assert message.startswith(f"guides/fb-t9.md:{line}: error: claim 'q1.collector")
         assert "computed 4.31 V (range " in message and "–" in message
+
+    def test_every_broken_claim_is_reported_on_its_own_line(self):
+        text = with_stage_line("claim: q1.collector between 5 V and 6 V\n"
+                               "claim: q1.base above 3 V")
+        with pytest.raises(KitleafError) as err:
+            checks_of(text, "guides/fb-t9.md")
+        lines = str(err.value).splitlines()
+        assert [ln.split(": error: ")[0] for ln in lines] == [
+            f"guides/fb-t9.md:{line_of(text, 'claim: q1.collector')}",
+            f"guides/fb-t9.md:{line_of(text, 'claim: q1.base')}",
+        ]
 
     def test_an_unknown_name_suggests_the_nearest(self):
         text = with_stage_line("claim: q1.colector below 5 V")

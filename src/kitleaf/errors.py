@@ -74,3 +74,26 @@ class RenderError(KitleafError):
 
 class BuildError(KitleafError):
     """The site could not be written."""
+
+
+class ErrorList(KitleafError):
+    """Several errors of one guide, reported together: one ``path:line: error:`` line each."""
+
+    def __init__(self, errors: list[KitleafError] | tuple[KitleafError, ...]) -> None:
+        self.errors = tuple(errors)
+        first = self.errors[0]
+        super().__init__(first.message, first.span)
+
+    def __str__(self) -> str:
+        return "\n".join(str(e) for e in self.errors)
+
+    def __reduce__(self):
+        return (self.__class__, (self.errors,))
+
+
+def raise_all(errors: list[KitleafError]) -> None:
+    """Raise nothing, the one error, or an :class:`ErrorList` of them all."""
+    if len(errors) == 1:
+        raise errors[0]
+    if errors:
+        raise ErrorList(errors)

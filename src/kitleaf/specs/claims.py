@@ -19,7 +19,7 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
-from kitleaf.errors import KitleafError, SpecError
+from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
@@ -135,14 +135,20 @@ def _show(x: float, quantity: str) -> str:
 
 def check_claims(guide: Guide, kit: KitCircuit,
                  values: Mapping[str, Computed]) -> tuple[Verified, ...]:
-    """Every claim of ``guide`` verified; raises SpecError at the first one that does not hold."""
-    verified = []
+    """Every claim of ``guide`` verified; raises every one that does not hold, in one error."""
+    verified, failures = [], []
     for scope, entry in claim_entries(guide, kit):
-        claim = read_claim(entry, scope, values)
+        try:
+            claim = read_claim(entry, scope, values)
+        except SpecError as exc:
+            failures.append(exc)
+            continue
         computed = values[claim.name]
-        if not holds(claim, computed):
-            raise broken(claim, computed)
-        verified.append(Verified(claim, computed))
+        if holds(claim, computed):
+            verified.append(Verified(claim, computed))
+        else:
+            failures.append(broken(claim, computed))
+    raise_all(failures)
     return tuple(verified)
 
 
