@@ -77,3 +77,11 @@ def test_new_guide_checks_clean(tmp_path, capsys):
     assert written.is_file()
     assert main(["check", str(written)]) == 0
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 1
+
+
+def test_specs_names_lists_what_prose_can_use(capsys):
+    assert main(["specs", str(DEMO / "brookside-boost.md"), "--names"]) == 0
+    rows = capsys.readouterr().out.splitlines()
+    names = {row.split()[0] for row in rows}
+    assert {"kit.gain", "kit.current", "boost.q1.collector", "r3"} <= names
+    assert all(("dB" in r or "Hz" in r or "Ω" in r or "A" in r or "V" in r) for r in rows)

@@ -44,6 +44,8 @@ def parser() -> argparse.ArgumentParser:
     sp = sub.add_parser("specs", help="print a guide's computed specs")
     sp.add_argument("file", type=Path)
     sp.add_argument("--json", action="store_true", help="as JSON (the documented schema)")
+    sp.add_argument("--names", action="store_true",
+                    help="list the names prose and claims can use, with their values")
     bo = sub.add_parser("bom", help="print a guide's bill of materials, or a batch order")
     bo.add_argument("files", nargs="+", type=Path)
     bo.add_argument("--csv", action="store_true", help="as CSV")

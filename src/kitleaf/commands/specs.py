@@ -9,13 +9,23 @@ from kitleaf.cli import command
 from kitleaf.guide import parse_guide
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json, specs_to_text
+from kitleaf.specs.lookup import computed_values
+
+
+def names_text(values) -> str:
+    """Every name a guide's prose and claims may use, with its value and what it is."""
+    width = max(len(name) for name in values)
+    return "\n".join(f"{name:<{width}}  {c.text():<28}  {c.label}" for name, c in values.items())
 
 
 @command("specs")
 def run(args) -> int:
     guide = parse_guide(args.file)
-    specs = derive_specs(guide, build_circuit(guide))
-    if args.json:
+    kit = build_circuit(guide)
+    specs = derive_specs(guide, kit)
+    if args.names:
+        print(names_text(computed_values(specs, kit)))
+    elif args.json:
         print(json.dumps(specs_to_json(specs), indent=2, sort_keys=False, ensure_ascii=False))
     else:
         print(specs_to_text(specs))
