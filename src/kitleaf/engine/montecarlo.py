@@ -14,6 +14,7 @@ from kitleaf.engine.dc import problem_for
 from kitleaf.engine.devices.base import Bank
 from kitleaf.engine.mc_response import McResponse, mc_response
 from kitleaf.engine.newton import State, initial_state, solve_state
+from kitleaf.engine.reduce import partition, solve_reduced
 from kitleaf.errors import SolveError
 
 DISTRIBUTIONS = ("uniform", "normal")
@@ -151,7 +152,7 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
     draws: dict = {}
     problem = problem_for(system, factors, device_banks(system, rng, samples, draws))
     state = _from_nominal(system, problem, samples)
-    solve_state(problem, state)
+    solve_reduced(problem, state, partition(system))
     dc = {n: state.x[:, _row(system, n)].copy() for n in nodes}
     response = None
     if outputs:

@@ -18,12 +18,23 @@ MAX_ITER = 100
 
 @dataclass(frozen=True)
 class Problem:
-    """A batch of DC problems: G (s, n, n), b (s, n), and the devices (params per sample)."""
+    """A batch of DC problems: G (s, n, n), b (s, n), and the devices (params per sample).
+
+    ``fixed`` holds voltages (1, f) the devices may read beyond ground (index n + 1 on): the
+    nodes a reduced problem keeps fixed by their sources (see reduce.py)."""
 
     g: np.ndarray
     b: np.ndarray
     devices: Devices
     node_count: int
+    fixed: np.ndarray | None = None
+
+    def extend(self, x: np.ndarray) -> np.ndarray:
+        """``x`` with ground and the fixed voltages appended, for the device rows."""
+        if self.fixed is None:
+            return extend(x)
+        fixed = np.broadcast_to(self.fixed, (x.shape[0], self.fixed.shape[1]))
+        return np.concatenate([x, np.zeros((x.shape[0], 1)), fixed], axis=1)
 
     def take(self, idx: np.ndarray) -> Problem:
         banks = [bank.with_params(**{k: _rows(v, idx) for k, v in bank.params.items()})
@@ -109,7 +120,7 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
     jac = problem.g + np.diag(shunt) if shunt.any() else problem.g
     limited = np.zeros(x.shape[0], dtype=bool)
     if problem.devices.banks:
-        vraw = problem.devices.junctions(extend(x))
+        vraw = problem.devices.junctions(problem.extend(x))
         vlim = state.vstar if state.fresh else [
             bank.limit(vr, vs) for bank, vr, vs in
             zip(problem.devices.banks, vraw, state.vstar, strict=True)]

@@ -1,0 +1,166 @@
+"""Batched DC problems reduced to the device terminals: the linear rest eliminated once.
+
+A node tied to ground by a voltage source is known (F). The device rows (T) keep their
+unknowns; every other unknown (L) is a linear function of them, eliminated once per sample
+by a Schur complement, so Newton iterates on a t x t system instead of n x n:
+
+    (G_TT - G_TL G_LL^-1 G_LT) x_T = r_T - G_TL G_LL^-1 r_L,   r = b - G_:F v_F,
+
+and afterwards x_L = G_LL^-1 (r_L - G_LT x_T). A source's branch current at a fixed node
+follows from that node's current balance.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.batch_lu import solve_many
+from kitleaf.engine.newton import Problem, State, initial_state, newton, solve_state
+from kitleaf.engine.nonlinear import Devices
+from kitleaf.errors import SolveError
+
+_INDEX_FIELDS = ("jp", "jn", "src", "dst", "cap_a", "cap_b", "ext")
+
+
+@dataclass(frozen=True)
+class Partition:
+    """Rows kept for Newton (nodes first), rows fixed by grounded sources, and the rest."""
+
+    size: int
+    keep: np.ndarray
+    node_count: int
+    fixed: np.ndarray  # node rows fixed by a source to ground
+    fixed_branch: np.ndarray  # that source's branch row
+    fixed_sign: np.ndarray  # v_node = sign * b[branch]
+    rest: np.ndarray
+    devices: Devices  # the device banks re-indexed into [x_T, ground, v_F]
+
+    def values(self, b: np.ndarray) -> np.ndarray:
+        """Fixed node voltages (1, f) from a right-hand side (1, n)."""
+        return self.fixed_sign[None, :] * b[:, self.fixed_branch]
+
+    def remap(self, banks: list) -> Devices:
+        """The reduced device maps over ``banks`` (per-sample parameters kept)."""
+        index = self._index()
+        moved = [dataclasses.replace(b, **{k: index[getattr(b, k)] for k in _INDEX_FIELDS})
+                 for b in banks]
+        return self.devices.with_banks(moved)
+
+    def _index(self) -> np.ndarray:
+        index = np.full(self.size + 1, -1)
+        index[self.keep] = np.arange(self.keep.size)
+        index[self.size] = self.keep.size
+        index[self.fixed] = self.keep.size + 1 + np.arange(self.fixed.size)
+        return index
+
+
+def partition(system) -> Partition | None:
+    """The partition of a compiled system, cached on it; None without devices."""
+    if "_partition" not in system.__dict__:
+        system.__dict__["_partition"] = _partition(system) if system.families else None
+    return system.__dict__["_partition"]
+
+
+def _partition(system) -> Partition:
+    layout, n = system.layout, system.layout.size
+    fixed, branch, sign = [], [], []
+    for e in system.elements:
+        if isinstance(e, el.VSource) and (e.p == el.GROUND) != (e.n == el.GROUND):
+            node, s = (e.p, 1.0) if e.n == el.GROUND else (e.n, -1.0)
+            fixed.append(layout.row(node)), branch.append(layout.branch(e.name)), sign.append(s)
+    touched = {int(r) for b in system.families for k in ("jp", "jn", "src", "dst")
+               for r in getattr(b, k).ravel()}
+    nodes = sorted(touched - set(fixed) - {n})
+    known = set(nodes) | set(fixed) | {n}
+    # a branch whose both ends are kept or known has nothing left to eliminate it by
+    extra = [layout.branch(e.name) for e in system.elements
+             if isinstance(e, el.VSource | el.Inductor) and layout.branch(e.name) not in branch
+             and {layout.row(t) for t in el.terminals(e)} <= known]
+    keep = np.array(nodes + extra, dtype=int)
+    rest = np.setdiff1d(np.arange(n), np.concatenate([keep, fixed, branch]).astype(int))
+    part = Partition(n, keep, len(nodes), np.array(fixed, int), np.array(branch, int),
+                     np.array(sign), rest, system.devices)
+    index = part._index()
+    moved = [dataclasses.replace(b, **{k: index[getattr(b, k)] for k in _INDEX_FIELDS})
+             for b in system.families]
+    return dataclasses.replace(part, devices=Devices(moved, keep.size))
+
+
+@dataclass(frozen=True)
+class Reduced:
+    """A reduced problem and what rebuilds the full unknowns from its solution."""
+
+    problem: Problem
+    part: Partition
+    back: np.ndarray  # G_LL^-1 G_LT (s, l, t)
+    base: np.ndarray  # G_LL^-1 r_L (s, l)
+
+    def expand(self, x_keep: np.ndarray, full: Problem) -> np.ndarray:
+        """Full unknowns (s, n) from the kept ones; fixed sources' currents by balance."""
+        part = self.part
+        x = np.zeros((x_keep.shape[0], part.size))
+        x[:, part.keep] = x_keep
+        x[:, part.rest] = self.base - np.einsum("slt,st->sl", self.back, x_keep)
+        x[:, part.fixed] = self.problem.fixed
+        v = full.devices.junctions(full.extend(x))
+        currents, _ = full.devices.linearise(v, v)
+        residual = np.einsum("sij,sj->si", full.g[:, part.fixed, :], x) + currents[
+            :, part.fixed] - full.b[:, part.fixed]
+        coeff = full.g[0, part.fixed, part.fixed_branch]
+        x[:, part.fixed_branch] = -residual / coeff
+        return x
+
+
+def reduce_problem(problem: Problem, part: Partition) -> Reduced:
+    """The Schur complement of ``problem`` on the kept rows; SolveError if G_LL is singular."""
+    g, keep, rest = problem.g, part.keep, part.rest
+    vf = part.values(problem.b)
+    r = problem.b - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
+    g_kr = g[:, keep][:, :, rest]
+    if rest.size:
+        lhs = g[:, rest][:, :, rest]
+        rhs = np.concatenate([g[:, rest][:, :, keep], r[:, rest, None]], axis=2)
+        solved = _solve(lhs, rhs)
+        back, base = solved[:, :, :-1], solved[:, :, -1]
+    else:
+        back = np.zeros((g.shape[0], 0, keep.size))
+        base = np.zeros((g.shape[0], 0))
+    g_red = g[:, keep][:, :, keep] - g_kr @ back
+    b_red = r[:, keep] - np.einsum("skl,sl->sk", g_kr, base)
+    banks = problem.devices.banks
+    reduced = Problem(g_red, b_red, part.remap(banks), part.node_count, vf)
+    return Reduced(reduced, part, back, base)
+
+
+def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    try:
+        return solve_many(a, b)
+    except np.linalg.LinAlgError:
+        raise SolveError("the linear part of the circuit is singular") from None
+
+
+def solve_reduced(problem: Problem, state: State, part: Partition | None) -> str:
+    """Solve ``state`` in place by Newton on the device rows; samples it does not settle (and
+    circuits it cannot reduce) take the full solver with its fallbacks."""
+    if part is None:
+        return solve_state(problem, state)
+    try:
+        red = reduce_problem(problem, part)
+    except SolveError:
+        return solve_state(problem, state)
+    sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh)
+    ok = newton(red.problem, sub)
+    state.x, state.vstar, state.fresh = red.expand(sub.x, problem), sub.vstar, False
+    if ok.all():
+        return "newton"
+    bad = np.flatnonzero(~ok)
+    retry = initial_state(problem, bad.size)
+    method = solve_state(problem.take(bad), retry)
+    state.x[bad] = retry.x
+    for whole, v in zip(state.vstar, retry.vstar, strict=True):
+        whole[bad] = v
+    return method
