@@ -6,9 +6,10 @@ import re
 import xml.etree.ElementTree as ET
 
 import pytest
-from tests.stages.kits import EVERY_KIND, make_kit
+from tests.stages.kits import EVERY_KIND, make_kit, stage_block
 
-from kitleaf.render.schematic import render_overview_svg, render_stage_svg
+from kitleaf.bom import bom_lines
+from kitleaf.render.schematic import part_value, render_overview_svg, render_stage_svg
 
 SVG = "{http://www.w3.org/2000/svg}"
 KIT = make_kit(*EVERY_KIND)
@@ -47,7 +48,7 @@ class TestStageSchematic:
         words = " ".join(t for t, _ in texts(svg))
         for part in stage.all_parts():
             assert re.search(rf"\b{part.designator}\b", words), part.designator
-            assert part.text in words, (part.designator, part.text)
+            assert part_value(part) in words, (part.designator, part_value(part))
 
     def test_no_two_labels_overlap(self, stage):
         boxes = [(t, b) for t, b in texts(render_stage_svg(KIT, stage)) if t.strip()]
@@ -61,6 +62,25 @@ class TestStageSchematic:
     def test_no_ids_or_timestamps(self, stage):
         svg = render_stage_svg(KIT, stage)
         assert " id=" not in svg and "Date" not in svg
+
+
+def test_values_are_written_as_on_the_bill_of_materials():
+    # one writing of a value across sheet and BOM: each BOM line's value beside its parts
+    for stage in KIT.stages:
+        words = " ".join(t for t, _ in texts(render_stage_svg(KIT, stage)))
+        for line in bom_lines(stage.all_parts()):
+            if line.type == "socket":  # bought with the chip, not drawn
+                continue
+            assert re.search(rf"(^|\s){re.escape(line.value_text)}(\s|$)", words), line.value_text
+
+
+def test_a_bare_ohm_value_gets_its_rkm_letter():
+    # IEC 60062 RKM code: 470 ohms is written 470R, 4.7 kilohms 4k7
+    kit = make_kit(stage_block("lp", "low-pass", "series-resistor: R7 470",
+                               "shunt-cap: C7 4.7n"), stage_block("hp", "high-pass",
+                               "series-cap: C8 100n", "shunt-resistor: R8 4.7k"))
+    words = [t for s in kit.stages for t, _ in texts(render_stage_svg(kit, s))]
+    assert {"470R", "4n7", "4k7"} <= set(words) and "470" not in words
 
 
 def test_supply_and_reference_are_net_labels():

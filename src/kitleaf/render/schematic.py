@@ -15,6 +15,7 @@ from collections.abc import Mapping, Sequence
 import schemdraw
 import schemdraw.elements as elm
 
+from kitleaf.bom.finding import find
 from kitleaf.circuit.parts import Part
 
 Point = tuple[float, float]
@@ -45,13 +46,18 @@ _ALIGN = {"right": ("left", "center"), "left": ("right", "center"),
           "above": ("center", "bottom"), "below": ("center", "top")}
 
 
+def part_value(part: Part) -> str:
+    """The value as the bill of materials writes it, so sheet and BOM agree: the RKM code for
+    resistors, capacitors and pots (``470R``, ``4k7``, ``100n``, ``100k log``), the model for
+    semiconductors."""
+    return find(part).value_text
+
+
 def part_label(part: Part) -> str:
     """Designator over value, as printed beside a part: ``R3`` / ``10k``."""
-    value = part.text
-    if part.type == "pot":
-        value = f"{part.text} {part.attrs.get('taper', '')}".strip()
-    elif part.polarised and part.type == "capacitor":
-        value = f"{part.text} {part.dielectric[:4]}."
+    value = part_value(part)
+    if part.polarised and part.type == "capacitor":
+        value = f"{value} {part.dielectric[:4]}."
     return f"{part.designator}\n{value}"
 
 
