@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 import pytest
-from tests.stages.kits import POWER, gain_at, make_kit, stage_block
+from tests.stages.kits import EVERY_KIND, POWER, gain_at, make_kit, stage_block
 
 from kitleaf.circuit.chain import LOW_Z, PICKUP
 from kitleaf.engine import corners, solve_ac, solve_dc
@@ -80,3 +80,21 @@ class TestSource:
         ratio = abs(gain_at(kit, 5e3, positions={"VR1": 1.0})) / abs(
             gain_at(kit, 100, positions={"VR1": 1.0}))
         assert ratio == pytest.approx(1.0, abs=1e-3)
+
+
+class TestNodeOf:
+    def test_chain_connections_and_private_nodes(self):
+        kit = make_kit(POWER, HIGH_PASS, LOW_PASS)
+        hp, lp = (s for s in kit.signal_stages)
+        assert kit.node_of(hp, "in") == "input" and kit.node_of(hp, "out") == "hp.out"
+        assert kit.node_of(lp, "in") == "hp.out" and kit.node_of(lp, "out") == "output"
+        assert kit.node_of(lp, "vcc") == "vcc" and kit.node_of(lp, "0") == "0"
+        assert kit.node_of(lp, "mid") == "lp.mid"
+
+    def test_every_test_point_names_a_node_of_the_solved_circuit(self):
+        # a node_of name the engine does not know would read as no voltage at all
+        kit = make_kit(*EVERY_KIND)
+        op = solve_dc(kit.netlist())
+        for stage in kit.stages:
+            for tp in kit.kind(stage).test_points(stage):
+                assert math.isfinite(op.voltage(kit.node_of(stage, tp.node))), tp.label

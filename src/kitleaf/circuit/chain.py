@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
-from typing import Mapping
 
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.parts import Part
@@ -152,7 +152,8 @@ class KitCircuit:
         """A fresh engine circuit of the whole kit at the given knob positions and supply."""
         positions = MappingProxyType(dict(positions or {}))
         circuit = Circuit()
-        circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=self.supply_v if supply_v is None else supply_v)
+        volts = self.supply_v if supply_v is None else supply_v
+        circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=volts)
         add_source(circuit, self.source)
         for stage in self.stages:
             nodes = self._nodes(stage)
@@ -161,6 +162,14 @@ class KitCircuit:
             KINDS[stage.kind].build(stage, Wiring(circuit, stage, nodes, positions))
         circuit.resistor("RLOAD", OUTPUT, GROUND, self.load)
         return circuit
+
+    def node_of(self, stage: Stage, local: str) -> str:
+        """The circuit node a stage's local node name stands for (``vcc``, ``in``, ``c``...).
+
+        Chain connections give the shared node (the rail itself, not the stage's 0 V meter
+        behind it, which reads the same voltage); private names get the stage id as prefix.
+        """
+        return self._nodes(stage).get(local) or f"{stage.id}.{local}"
 
     def _nodes(self, stage: Stage) -> dict[str, str]:
         rails = {"0": GROUND, "vcc": "vcc" if self.has_power_stage else SUPPLY,
