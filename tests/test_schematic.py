@@ -41,6 +41,41 @@ def overlaps(a, b) -> bool:
     return a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]
 
 
+def segments(svg: str) -> list[tuple[tuple[float, float], tuple[float, float]]]:
+    """Every straight stroke: wires and symbol outlines (path M/L runs, polygon edges)."""
+    found = []
+    root = ET.fromstring(svg)
+    for node in root.iter(f"{SVG}path"):
+        points = []
+        for cmd, x, y in re.findall(r"([ML])\s*(-?[\d.]+)[ ,](-?[\d.]+)", node.get("d")):
+            points = [] if cmd == "M" else points
+            points.append((float(x), float(y)))
+            found += [(points[-2], points[-1])] if len(points) > 1 else []
+    for node in root.iter(f"{SVG}polygon"):
+        p = [tuple(map(float, q.split(","))) for q in node.get("points").split()]
+        found += list(zip(p, p[1:] + p[:1], strict=True))
+    return found
+
+
+def crosses(segment, box, air: float = 0.5) -> bool:
+    """Does the segment pass through the box shrunk by ``air``? (Liang-Barsky clipping)"""
+    (x0, y0), (x1, y1) = segment
+    dx, dy = x1 - x0, y1 - y0
+    lo, hi = 0.0, 1.0
+    for p, q in ((-dx, x0 - box[0] - air), (dx, box[2] - air - x0),
+                 (-dy, y0 - box[1] - air), (dy, box[3] - air - y0)):
+        if p == 0 and q < 0:
+            return False
+        if p != 0:
+            lo, hi = (max(lo, q / p), hi) if p < 0 else (lo, min(hi, q / p))
+    return lo <= hi
+
+
+def text_on_lines(svg: str) -> list[str]:
+    lines = segments(svg)
+    return [t for t, box in texts(svg) if t.strip() and any(crosses(s, box) for s in lines)]
+
+
 @pytest.mark.parametrize("stage", KIT.stages, ids=lambda s: s.kind)
 class TestStageSchematic:
     def test_parses_and_names_every_part(self, stage):
@@ -55,6 +90,9 @@ class TestStageSchematic:
         clashes = [(a[0], b[0]) for i, a in enumerate(boxes) for b in boxes[i + 1:]
                    if overlaps(a[1], b[1])]
         assert clashes == []
+
+    def test_no_label_touches_a_wire_or_part(self, stage):
+        assert text_on_lines(render_stage_svg(KIT, stage)) == []
 
     def test_byte_identical(self, stage):
         assert render_stage_svg(KIT, stage) == render_stage_svg(KIT, stage)
@@ -118,3 +156,13 @@ def test_overlap_check_sees_a_clash():
     sheet.text("C1 100n", (0.1, 0.0))
     boxes = [b for _, b in texts(sheet.svg())]
     assert overlaps(boxes[0], boxes[1])
+
+
+def test_line_check_sees_a_label_on_a_wire():
+    from kitleaf.render.schematic import Sheet
+
+    sheet = Sheet()
+    sheet.wire((0.0, 0.0), (0.0, 3.0))
+    sheet.text("100u elec.", (-0.5, 1.5))
+    sheet.text("clear", (2.0, 1.5))
+    assert text_on_lines(sheet.svg()) == ["100u elec."]

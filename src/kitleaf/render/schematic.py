@@ -25,6 +25,8 @@ FONT = "DejaVu Sans, Arial, Helvetica, sans-serif"
 GROUND_Y = 0.0
 SIGNAL_Y = 5.0
 RAIL_Y = 10.0
+POINTS_PER_UNIT = 36.0  # one grid unit is half an inch: 36 pt in the SVG
+CHAR_WIDTH = 0.62  # a sans-serif character's average advance, in font sizes (common practice)
 
 # Our pin names -> schemdraw anchor names, one table for every drawn element.
 ANCHORS: Mapping[str, Mapping[str, str]] = {
@@ -59,6 +61,16 @@ def part_label(part: Part) -> str:
     if part.polarised and part.type == "capacitor":
         value = f"{value} {part.dielectric[:4]}."
     return f"{part.designator}\n{value}"
+
+
+def text_width(text: str, size: float = FONT_SIZE) -> float:
+    """The width of the longest line of ``text`` in grid units (a generous estimate)."""
+    return max(map(len, text.split("\n"))) * size * CHAR_WIDTH / POINTS_PER_UNIT
+
+
+def label_room(part: Part) -> float:
+    """How far a part's label reaches from the part's axis when written beside it."""
+    return _LABEL_GAP[part.type] + text_width(part_label(part))
 
 
 class Sheet:
@@ -147,7 +159,7 @@ class Sheet:
 
     def _pin_number(self, at: Point, name: str, number: str) -> None:
         x, y = at
-        place = {"non_inv": ((x + 0.25, y + 0.05), "above"), "inv": ((x + 0.25, y - 0.05), "below"),
+        place = {"non_inv": ((x + 0.25, y + 0.05), "above"), "inv": ((x + 0.25, y - 0.15), "below"),
                  "out": ((x - 0.25, y + 0.05), "above"), "vpos": ((x + 0.12, y + 0.25), "right"),
                  "vneg": ((x + 0.12, y - 0.25), "right")}
         point, side = place[name]

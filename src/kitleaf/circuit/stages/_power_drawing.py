@@ -6,7 +6,8 @@ from __future__ import annotations
 from kitleaf.circuit.kind import Stage
 
 RAIL = 8.0
-STEP = 2.4  # between the branches hanging off the rail
+STEP = 2.4  # between the branches hanging off the rail, at least
+AIR = 0.4  # between a label's end and the next branch's wire
 
 
 def draw_power(stage: Stage, sheet) -> None:
@@ -20,14 +21,21 @@ def draw_power(stage: Stage, sheet) -> None:
     sheet.wire((x, RAIL), vcc, (vcc[0], RAIL + 0.7))
     sheet.dot(vcc)
     sheet.rail((vcc[0], RAIL + 0.7))
-    rail_end = free_x = vcc[0]
+    rail_end, free_x = vcc[0], vcc[0] + STEP
     for cap in (part("bulk-cap"), part("filter-cap")):
         if cap is not None:
-            rail_end = free_x = _branch(sheet, rail_end, free_x + STEP, [cap])
+            rail_end, free_x = _branch(sheet, rail_end, free_x, [cap])
     if part("vref-top"):
-        rail_end, free_x = _draw_reference(stage, sheet, rail_end, free_x + STEP)
+        rail_end, free_x = _draw_reference(stage, sheet, rail_end, free_x)
     if part("led"):
-        _branch(sheet, rail_end, free_x + STEP, [part("led-resistor"), part("led")])
+        _branch(sheet, rail_end, free_x, [part("led-resistor"), part("led")])
+
+
+def _next_column(x: float, parts) -> float:
+    """The first column right of ``x`` clear of the labels written right of its parts."""
+    from kitleaf.render.schematic import label_room
+
+    return x + max(STEP, max(label_room(p) for p in parts if p is not None) + AIR)
 
 
 def _draw_protection(stage: Stage, sheet) -> float:
@@ -46,8 +54,10 @@ def _draw_protection(stage: Stage, sheet) -> float:
     return 1.2
 
 
-def _branch(sheet, rail_end: float, x_new: float, parts) -> float:
-    """Parts in series from the rail at ``x_new`` down to ground; returns ``x_new``."""
+def _branch(sheet, rail_end: float, x_new: float, parts) -> tuple[float, float]:
+    """Parts in series from the rail at ``x_new`` down to ground.
+
+    Returns where the rail now ends and the next free column."""
     from kitleaf.render.schematic import GROUND_Y
 
     sheet.wire((rail_end, RAIL), (x_new, RAIL))
@@ -56,7 +66,7 @@ def _branch(sheet, rail_end: float, x_new: float, parts) -> float:
     for i, part in enumerate(parts):
         sheet.part(part, (x_new, RAIL - step * i), (x_new, RAIL - step * (i + 1)), side="right")
     sheet.ground((x_new, GROUND_Y))
-    return x_new
+    return x_new, _next_column(x_new, parts)
 
 
 def _draw_reference(stage: Stage, sheet, rail_end: float, x: float) -> tuple[float, float]:
@@ -72,13 +82,14 @@ def _draw_reference(stage: Stage, sheet, rail_end: float, x: float) -> tuple[flo
     sheet.part(stage.part("vref-bottom"), middle, (x, GROUND_Y), side="right")
     sheet.ground((x, GROUND_Y))
     sheet.dot(middle)
-    tap = (x + STEP, middle[1])
+    tap = (_next_column(x, [stage.part("vref-top"), stage.part("vref-bottom")]), middle[1])
     sheet.wire(middle, tap)
     cap = stage.part("vref-cap")
     if cap is not None:
         sheet.dot(tap)
         sheet.part(cap, tap, (tap[0], GROUND_Y), side="right")
         sheet.ground((tap[0], GROUND_Y))
-    sheet.wire(tap, (tap[0] + 1.2, middle[1]))
-    sheet.net_label((tap[0] + 1.2, middle[1]), "vref", "right")
-    return x, tap[0] + 1.2
+    end = (_next_column(tap[0], [cap]) - 1.0 if cap is not None else tap[0] + 1.2, middle[1])
+    sheet.wire(tap, end)
+    sheet.net_label(end, "vref", "right")
+    return x, end[0] + STEP
