@@ -1,4 +1,4 @@
-"""The AC half of Monte Carlo: per-sample gains by direct solve, corners by pole-residue search."""
+"""The AC half of Monte Carlo: per-sample gains and corners from the batched pole-residue form."""
 
 from __future__ import annotations
 
@@ -6,15 +6,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from kitleaf.engine.ac import small_signal
 from kitleaf.engine.compile import System
-from kitleaf.engine.newton import Problem, solve_batch
-from kitleaf.engine.poles import PoleResidue, half_power_crossings, pole_residue
+from kitleaf.engine.newton import Problem
+from kitleaf.engine.poles import half_power_crossings
+from kitleaf.engine.ports import Modal, modal, port_form
+from kitleaf.engine.reduce import partition
 from kitleaf.errors import SolveError
 
 GRID_PER_DECADE = 8
 DEFAULT_BAND = (1.0, 1e6)
-AGREEMENT = 1e-6  # pole-residue vs direct solve, relative; beyond it a sample is re-solved
 
 
 @dataclass(frozen=True)
@@ -23,29 +23,19 @@ class McResponse:
     corners: dict[str, tuple[np.ndarray, np.ndarray]]
 
 
-def direct(g: np.ndarray, c: np.ndarray, rhs: np.ndarray, freqs: np.ndarray) -> np.ndarray:
-    """Solutions (samples, frequencies, n) by one batched solve."""
-    s = 2j * np.pi * freqs
-    a = g[:, None] + s[None, :, None, None] * c[:, None]
-    b = np.broadcast_to(rhs.astype(complex), a.shape[:-1])
-    return solve_batch(a, b)
-
-
 def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.ndarray,
                 source: str, freqs: np.ndarray, outputs: list[str],
                 band: tuple[float, float] | None, ref_hz: float | None) -> McResponse:
     if source not in system.stamper.source_cols:
         raise SolveError(f"{source!r} is not a source of the circuit")
-    g, c, cap_a, cap_d = small_signal(system, problem.devices, x, factors)
-    rhs = system.rhs(only=source)[0]
     rows = [system.layout.row(n) for n in outputs]
-    check = direct(g, c, rhs, freqs[:1])[:, 0, rows]  # the pole-residue form is checked here
+    ports = port_form(system, partition(system), problem, x, factors,
+                      system.rhs(only=source), rows)
+    form = modal(ports, float(freqs[0]))
     grid = corner_grid(freqs, band)
     gain, corners = {}, {}
-    models = pole_residue(g, cap_a, cap_d, rhs, rows)
-    for k, (node, model) in enumerate(zip(outputs, models, strict=True)):
-        bad = ~np.isclose(model(freqs[:1])[:, 0], check[:, k], rtol=AGREEMENT, atol=0)
-        response = _Exact(model, g, c, rhs, rows[k], bad)
+    for k, node in enumerate(outputs):
+        response = _Row(form.row(k))
         mags = np.abs(response(freqs))
         with np.errstate(divide="ignore"):
             db = 20 * np.log10(mags)
@@ -55,20 +45,14 @@ def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.nda
     return McResponse(gain, corners)
 
 
-class _Exact:
-    """Pole-residue response, with samples that disagree with the direct solve re-solved."""
+class _Row:
+    """One output's response (samples, frequencies)."""
 
-    def __init__(self, model: PoleResidue, g, c, rhs, row: int, bad: np.ndarray) -> None:
-        self.model, self.g, self.c, self.rhs, self.row, self.bad = model, g, c, rhs, row, bad
+    def __init__(self, form: Modal) -> None:
+        self.form = form
 
     def __call__(self, freqs: np.ndarray) -> np.ndarray:
-        out = self.model(freqs)
-        if self.bad.any():
-            f = np.asarray(freqs, float)
-            for i in np.flatnonzero(self.bad):
-                fi = f if f.ndim == 1 else f[i]
-                out[i] = direct(self.g[i:i + 1], self.c[i:i + 1], self.rhs, fi)[0, :, self.row]
-        return out
+        return self.form(freqs)[..., 0]
 
 
 def corner_grid(freqs: np.ndarray, band: tuple[float, float] | None) -> np.ndarray:

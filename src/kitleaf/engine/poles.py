@@ -7,8 +7,6 @@ for every sample at once.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from kitleaf.engine.batch_lu import solve_many
@@ -28,20 +26,6 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     inverse += 1.0
     np.reciprocal(inverse, out=inverse)
     return alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues.transpose(0, 2, 1))
-
-
-@dataclass(frozen=True)
-class PoleResidue:
-    """One output row: v(f) = alpha + s * sum_k residues[k] / (1 + s lambdas[k]), per sample."""
-
-    alpha: np.ndarray
-    residues: np.ndarray
-    lambdas: np.ndarray
-
-    def __call__(self, freqs: np.ndarray) -> np.ndarray:
-        """Response (samples, frequencies) for frequencies (frequencies,) or (samples, f)."""
-        return evaluate(self.alpha[:, None], self.residues[:, None, :], self.lambdas,
-                        freqs)[..., 0]
 
 
 def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
@@ -64,13 +48,6 @@ def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarr
     rows = slice(None) if rows is None else rows
     residues = -np.einsum("srm,smk->srk", w[:, rows, :], vecs) * weights[:, None, :]
     return x0[:, rows].astype(complex), residues, lambdas
-
-
-def pole_residue(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
-                 out_rows: list[int]) -> list[PoleResidue]:
-    """One PoleResidue per output row, batched over samples."""
-    alpha, residues, lambdas = decompose(g, cap_a, cap_d, rhs, out_rows)
-    return [PoleResidue(alpha[:, k], residues[:, k], lambdas) for k in range(len(out_rows))]
 
 
 def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.ndarray,

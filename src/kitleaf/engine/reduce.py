@@ -59,9 +59,9 @@ class Partition:
 
 
 def partition(system) -> Partition | None:
-    """The partition of a compiled system, cached on it; None without devices."""
+    """The partition of a compiled system, cached on it."""
     if "_partition" not in system.__dict__:
-        system.__dict__["_partition"] = _partition(system) if system.families else None
+        system.__dict__["_partition"] = _partition(system)
     return system.__dict__["_partition"]
 
 
@@ -146,7 +146,7 @@ def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 def solve_reduced(problem: Problem, state: State, part: Partition | None) -> str:
     """Solve ``state`` in place by Newton on the device rows; samples it does not settle (and
     circuits it cannot reduce) take the full solver with its fallbacks."""
-    if part is None:
+    if part is None or not problem.devices.banks:
         return solve_state(problem, state)
     try:
         red = reduce_problem(problem, part)

@@ -1,0 +1,156 @@
+"""Batched small-signal responses through the capacitor ports of a reduced circuit.
+
+The nodes fixed by grounded sources leave the system (their AC values are known), and the
+linear rest is eliminated by a Schur complement onto the device rows, as for DC. With the
+capacitances written C = A diag(d) A^T the response is, by the Woodbury identity,
+
+    x(s) = x0 - s W (I + s D M)^-1 D (A^T x0 + A_F^T v_F),   x0 = G^-1 r, W = G^-1 A,
+    M = A^T W, r = b - G_:F v_F,
+
+so only the m x m matrix D M (m capacitances) is diagonalised, and any frequency costs a few
+multiplications for every sample at once. The same port system, solved directly, checks
+the diagonalisation at one frequency and answers for samples whose check fails.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from kitleaf.engine.compile import System, incidence
+from kitleaf.engine.newton import Problem, extend
+from kitleaf.engine.poles import evaluate
+from kitleaf.engine.reduce import Partition
+
+AGREEMENT = 1e-6  # modal against direct port solve, relative; beyond it a sample is re-solved
+
+
+@dataclass(frozen=True)
+class PortForm:
+    """Rows ``rows`` of the response: x0 (s, r), W (s, r, m), D M (s, m, m), z (s, m)."""
+
+    x0: np.ndarray
+    w: np.ndarray
+    dm: np.ndarray
+    z: np.ndarray
+
+    def direct(self, freqs: np.ndarray, idx: np.ndarray | None = None) -> np.ndarray:
+        """Exact responses (samples, F, r) by a direct solve of the m x m port system."""
+        sel = slice(None) if idx is None else idx
+        f = np.asarray(freqs, float)
+        f = np.broadcast_to(f, (self.x0[sel].shape[0], f.shape[-1]))
+        s = 2j * np.pi * f
+        eye = np.eye(self.dm.shape[-1])
+        a = eye + s[:, :, None, None] * self.dm[sel][:, None]
+        b = np.broadcast_to(self.z[sel][:, None, :, None], (*a.shape[:-1], 1))
+        y = np.linalg.solve(a, b.astype(complex))[..., 0]
+        return self.x0[sel][:, None, :] - s[..., None] * np.einsum("srm,sfm->sfr",
+                                                                    self.w[sel], y)
+
+
+@dataclass(frozen=True)
+class Modal:
+    """x(f) = alpha + s sum_k residues[..., k] / (1 + s lambdas[k]) per sample, with the
+    samples whose diagonalisation failed the check answered by the port solve."""
+
+    alpha: np.ndarray  # (s, r)
+    residues: np.ndarray  # (s, r, m)
+    lambdas: np.ndarray  # (s, m)
+    ports: PortForm
+    bad: np.ndarray  # sample indices answered directly
+
+    def __call__(self, freqs: np.ndarray) -> np.ndarray:
+        """Responses (samples, F, r) at ``freqs`` (F,) or per sample (samples, F)."""
+        out = evaluate(self.alpha, self.residues, self.lambdas, freqs)
+        if self.bad.size:
+            f = np.asarray(freqs, float)
+            out[self.bad] = self.ports.direct(f if f.ndim == 1 else f[self.bad], self.bad)
+        return out
+
+    def row(self, k: int) -> Modal:
+        """The same form for output row ``k`` alone."""
+        return Modal(self.alpha[:, k:k + 1], self.residues[:, k:k + 1], self.lambdas,
+                     PortForm(self.ports.x0[:, k:k + 1], self.ports.w[:, k:k + 1],
+                              self.ports.dm, self.ports.z), self.bad)
+
+
+def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
+              factors: np.ndarray | None, rhs: np.ndarray, rows: list[int]) -> PortForm:
+    """The port system of ``rows`` for excitation ``rhs`` (1, n) at operating points ``x``."""
+    g, a, d = _linearised(system, problem, x, factors)
+    vf = part.values(rhs)
+    r = rhs - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
+    x0, w = _schur_solve(g, part, np.concatenate([r[:, :, None],
+                                                  np.broadcast_to(a, (g.shape[0], *a.shape))], 2))
+    x0, w = x0[..., 0], w
+    unknown = np.concatenate([part.keep, part.rest])
+    a_u, a_f = a[unknown], a[part.fixed]
+    dm = d[:, :, None] * (a_u.T @ w)
+    z = d * (x0 @ a_u + vf @ a_f)
+    x0_rows, w_rows = _pick(x0, w, vf, part, unknown, rows)
+    return PortForm(x0_rows, w_rows, dm, z)
+
+
+def modal(ports: PortForm, check_hz: float) -> Modal:
+    """Diagonalise D M, checked against the direct port solve at ``check_hz``."""
+    lambdas, vecs = np.linalg.eig(ports.dm)
+    weights = np.linalg.solve(vecs, ports.z[..., None].astype(complex))[..., 0]
+    residues = -np.einsum("srm,smk->srk", ports.w, vecs) * weights[:, None, :]
+    form = Modal(ports.x0.astype(complex), residues, lambdas, ports, np.zeros(0, int))
+    f = np.array([check_hz])
+    fast, exact = form(f)[:, 0], ports.direct(f)[:, 0]
+    scale = np.max(np.abs(exact), axis=1)
+    with np.errstate(invalid="ignore"):
+        ok = np.max(np.abs(fast - exact), axis=1) <= AGREEMENT * scale
+    return Modal(form.alpha, residues, lambdas, ports, np.flatnonzero(~ok))
+
+
+def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
+    """Small-signal G (s, n, n) and the capacitances as incidence A (n + 1 rows dropped to
+    n, m) and values d (s, m), unused capacitances left out."""
+    samples = x.shape[0]
+    g = np.broadcast_to(problem.g, (samples, *problem.g.shape[1:]))
+    cap_a, cap_d = system.cap_columns(factors)
+    cap_d = np.broadcast_to(cap_d, (samples, cap_d.shape[1]))
+    devices = problem.devices
+    if devices.banks:
+        v = devices.junctions(extend(x))
+        _, dev_g = devices.linearise(v, v)
+        g = g + dev_g
+        cap_a = np.concatenate([cap_a, incidence(system.layout.size, devices.cap_pairs())], 1)
+        cap_d = np.concatenate([cap_d, devices.cap_values(v)], axis=1)
+    used = np.any(cap_d != 0, axis=0) & np.any(cap_a != 0, axis=0)
+    return g, cap_a[:, used], cap_d[:, used]
+
+
+def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.ndarray, ...]:
+    """Solutions over the unknown rows (keep, then rest) of G_UU y = rhs_U, split as
+    (first column, the others)."""
+    keep, rest = part.keep, part.rest
+    g_kk, g_kr = g[:, keep][:, :, keep], g[:, keep][:, :, rest]
+    g_rk, g_rr = g[:, rest][:, :, keep], g[:, rest][:, :, rest]
+    if not keep.size:
+        y = np.linalg.solve(g_rr, rhs[:, rest])
+    elif not rest.size:
+        y = np.linalg.solve(g_kk, rhs[:, keep])
+    else:
+        z = np.linalg.solve(g_rr, np.concatenate([g_rk, rhs[:, rest]], axis=2))
+        back, z_rhs = z[:, :, :keep.size], z[:, :, keep.size:]
+        y_keep = np.linalg.solve(g_kk - g_kr @ back, rhs[:, keep] - g_kr @ z_rhs)
+        y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
+    return y[:, :, :1], y[:, :, 1:]
+
+
+def _pick(x0, w, vf, part: Partition, unknown: np.ndarray, rows: list[int]):
+    """Output rows of x0 and W; a fixed node reads its source's value and no residue."""
+    where = {int(u): i for i, u in enumerate(unknown)}
+    fixed = {int(f): k for k, f in enumerate(part.fixed)}
+    samples, m = w.shape[0], w.shape[2]
+    x0_rows, w_rows = np.zeros((samples, len(rows))), np.zeros((samples, len(rows), m))
+    for j, row in enumerate(rows):
+        if row in where:
+            x0_rows[:, j], w_rows[:, j] = x0[:, where[row]], w[:, where[row]]
+        elif row in fixed:
+            x0_rows[:, j] = vf[0, fixed[row]]
+    return x0_rows, w_rows
