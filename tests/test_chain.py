@@ -6,10 +6,18 @@ import math
 
 import numpy as np
 import pytest
-from tests.stages.kits import EVERY_KIND, POWER, gain_at, make_kit, stage_block
+from tests.stages.kits import (
+    EVERY_KIND,
+    POWER,
+    gain_at,
+    guide_text,
+    make_kit,
+    stage_block,
+)
 
 from kitleaf.circuit.chain import LOW_Z, PICKUP
 from kitleaf.engine import corners, solve_ac, solve_dc
+from kitleaf.errors import CircuitError, KitleafError
 
 HIGH_PASS = stage_block("hp", "high-pass", "series-cap: C1 10n", "shunt-resistor: R1 100k")
 LOW_PASS = stage_block("lp", "low-pass", "series-resistor: R2 10k", "shunt-cap: C2 1n")
@@ -98,3 +106,40 @@ class TestNodeOf:
         for stage in kit.stages:
             for tp in kit.kind(stage).test_points(stage):
                 assert math.isfinite(op.voltage(kit.node_of(stage, tp.node))), tp.label
+
+
+# An output cap straight into the next stage's input cap: a node only capacitors reach, whose DC
+# voltage nothing sets (nodal analysis needs a DC path from every node to ground; common
+# practice, no source).
+BOOST = stage_block("boost", "common-emitter", "input-cap: C5 100n", "bias-top: R5 470k",
+                    "bias-bottom: R6 100k", "transistor: Q1 2N5089", "collector: R7 10k",
+                    "emitter: R8 1k", "output-cap: C6 1u film")
+
+
+def line_of(start: str, *blocks: str) -> int:
+    """The 1-based line of the guide made of ``blocks`` that starts with ``start``."""
+    lines = guide_text(*blocks).splitlines()
+    return 1 + next(i for i, line in enumerate(lines) if line.startswith(start))
+
+
+class TestDcPaths:
+    def test_coupling_caps_in_a_row_name_the_output_cap_and_the_remedy(self):
+        with pytest.raises(CircuitError) as caught:
+            make_kit(POWER, BOOST, HIGH_PASS)
+        error = caught.value
+        assert error.span.line == line_of("output-cap: C6", POWER, BOOST, HIGH_PASS)
+        assert "C6 (output-cap of stage 'boost') meets C1 (series-cap of stage 'hp')" \
+            in error.message
+        assert "pulldown: R93 1M" in error.message
+
+    def test_a_pulldown_gives_the_junction_its_path(self):
+        fixed = BOOST.replace("output-cap: C6 1u film", "output-cap: C6 1u film\npulldown: R9 1M")
+        assert len(make_kit(POWER, fixed, HIGH_PASS).signal_stages) == 2
+
+    def test_a_floating_node_inside_a_stage_is_located_at_its_part(self):
+        core = stage_block("core", "custom", "nodes: b", "part: C20 100n @ in b",
+                           "part: C21 100n @ b out", "part: R20 100k @ out 0")
+        with pytest.raises(KitleafError) as caught:
+            make_kit(core)
+        assert caught.value.span is not None and "'core.b'" in caught.value.message
+        assert caught.value.span.line == line_of("part: C20", core)

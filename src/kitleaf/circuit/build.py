@@ -2,11 +2,23 @@
 
 from __future__ import annotations
 
-from kitleaf.circuit.chain import DEFAULT_LOAD, LOW_Z, PICKUP, KitCircuit, KnobRef, SignalSource
+import re
+
+from kitleaf.circuit.chain import (
+    DEFAULT_LOAD,
+    LOW_Z,
+    PICKUP,
+    KitCircuit,
+    KnobRef,
+    SignalSource,
+    input_meter,
+)
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.resolve import resolve_stage
 from kitleaf.circuit.stages import KINDS
+from kitleaf.engine.elements import Capacitor, terminals
+from kitleaf.engine.topology import check_topology
 from kitleaf.errors import CircuitError, KitleafError
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.values import parse_value
@@ -19,11 +31,13 @@ def build_circuit(guide: Guide) -> KitCircuit:
                      for h in guide.kit.hardware)
     _check_designators(stages, hardware)
     _check_power(stages)
-    return KitCircuit(
+    kit = KitCircuit(
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),
         supply_v=_volts(guide.kit.supply, guide.kit.span),
     )
+    _check_dc_paths(kit)
+    return kit
 
 
 def _in_order(guide: Guide, stages: list[Stage]) -> list[Stage]:
@@ -70,6 +84,51 @@ def _check_power(stages: list[Stage]) -> None:
             )
 
 
+def _check_dc_paths(kit: KitCircuit) -> None:
+    """Every node needs a DC path to ground before any solver runs; the usual miss, coupling
+    caps in a row between two stages, is named with its remedy, any other at its part's line."""
+    try:
+        circuit = kit.netlist()
+        chain = kit.signal_stages
+        for left, right in zip(chain, chain[1:], strict=False):
+            _check_joint(kit, circuit, left, right)
+        check_topology(circuit.elements)
+    except CircuitError:
+        raise
+    except KitleafError as exc:
+        raise kit.locate(exc) from None
+
+
+def _check_joint(kit: KitCircuit, circuit, left: Stage, right: Stage) -> None:
+    """The node joining two stages (either side of the input meter) must reach more than caps."""
+    meter = circuit.element(input_meter(right.id))
+    joint = set(terminals(meter))
+    touching = [e for e in circuit.elements if e is not meter and joint & set(terminals(e))]
+    parts = {p.designator: p for p in left.all_parts() + right.all_parts()}
+    caps = [parts[e.name] for e in touching if e.name in parts]
+    if len(caps) < 2 or len(caps) < len(touching) or not all(
+            isinstance(e, Capacitor) for e in touching):
+        return
+    first, others = caps[0], " and ".join(_named(c) for c in caps[1:])
+    raise CircuitError(
+        f"{_named(first)} meets {others} with no DC path to ground between them; add a "
+        f"pulldown resistor to stage '{left.id}', like '{_pulldown_hint(kit, left)}', so "
+        "the caps' junction sits at 0 V",
+        first.span,
+    )
+
+
+def _named(part: Part) -> str:
+    return f"{part.designator} ({part.role} of stage '{part.stage_id}')"
+
+
+def _pulldown_hint(kit: KitCircuit, stage: Stage) -> str:
+    numbers = [int(m[1]) for p in kit.parts() if (m := re.fullmatch(r"R(\d+)", p.designator))]
+    role = "pulldown" if any(r.name == "pulldown" for r in KINDS[stage.kind].roles) else "part"
+    resistor = f"R{max(numbers, default=0) + 1} 1M"
+    return f"{role}: {resistor}" if role == "pulldown" else f"{role}: {resistor} @ out 0"
+
+
 def _knobs(guide: Guide, stages: list[Stage]) -> tuple[KnobRef, ...]:
     pots = {p.designator: p for s in stages for p in s.all_parts() if p.type == "pot"}
     knobs = []
@@ -103,7 +162,8 @@ def _quantity(entry: Entry, quantity: str, expected: str) -> float:
     try:
         return parse_value(entry.value.strip(), quantity)
     except KitleafError as exc:
-        raise CircuitError(f"'{entry.key}:' {exc.message}; expected {expected}", entry.span) from None
+        raise CircuitError(f"'{entry.key}:' {exc.message}; expected {expected}",
+                           entry.span) from None
 
 
 def _volts(text: str, span) -> float:
