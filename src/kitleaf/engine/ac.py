@@ -9,7 +9,7 @@ import numpy as np
 from kitleaf.engine import elements as el
 from kitleaf.engine.compile import System, incidence
 from kitleaf.engine.dc import OperatingPoint
-from kitleaf.engine.newton import extend, solve_batch
+from kitleaf.engine.newton import extend, solve_stack
 from kitleaf.engine.nonlinear import Devices
 from kitleaf.engine.poles import decompose, evaluate
 from kitleaf.engine.stamps import apply
@@ -31,7 +31,7 @@ class Linearised:
         """Solutions (frequencies, n) for one right-hand side, in one batched solve."""
         s = 2j * np.pi * np.asarray(freqs, dtype=float)
         a = self.g[None, :, :] + s[:, None, None] * self.c[None, :, :]
-        return solve_batch(a, np.broadcast_to(rhs.astype(complex), (s.size, rhs.size)))
+        return solve_stack(a, np.broadcast_to(rhs.astype(complex), (s.size, rhs.size)))
 
     def response(self, source: str, rhs: np.ndarray, freqs: np.ndarray) -> np.ndarray:
         """Solutions (frequencies, n) for a source's excitation: from the pole-residue form

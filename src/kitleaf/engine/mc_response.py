@@ -9,7 +9,7 @@ import numpy as np
 from kitleaf.engine.compile import System
 from kitleaf.engine.newton import Problem
 from kitleaf.engine.poles import half_power_crossings
-from kitleaf.engine.ports import Modal, modal, port_form
+from kitleaf.engine.ports import PoleResidue, modal, port_form
 from kitleaf.engine.reduce import partition
 from kitleaf.errors import SolveError
 
@@ -35,7 +35,7 @@ def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.nda
     grid = corner_grid(freqs, band)
     gain, corners = {}, {}
     for k, node in enumerate(outputs):
-        response = _Row(form.row(k))
+        response = _Row(form.take([k]))
         mags = np.abs(response(freqs))
         with np.errstate(divide="ignore"):
             db = 20 * np.log10(mags)
@@ -48,7 +48,7 @@ def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.nda
 class _Row:
     """One output's response (samples, frequencies)."""
 
-    def __init__(self, form: Modal) -> None:
+    def __init__(self, form: PoleResidue) -> None:
         self.form = form
 
     def __call__(self, freqs: np.ndarray) -> np.ndarray:

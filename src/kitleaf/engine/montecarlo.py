@@ -147,11 +147,8 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
     if distribution not in DISTRIBUTIONS or samples < 1:
         raise SolveError(f"Monte Carlo needs samples >= 1 and a distribution in {DISTRIBUTIONS}")
     system = compile_circuit(circuit)
-    rng = np.random.default_rng(seed)
-    factors = part_factors(system, rng, samples, distribution)
-    draws: dict = {}
-    problem = problem_for(system, factors, device_banks(system, rng, samples, draws))
-    state = _from_nominal(system, problem, samples)
+    problem, factors, draws = draw_problem(system, samples, seed, distribution)
+    state = nominal_state(system, problem, samples)
     solve_reduced(problem, state, partition(system))
     dc = {n: state.x[:, _row(system, n)].copy() for n in nodes}
     response = None
@@ -163,7 +160,19 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
     return McResult(samples, seed, distribution, dc, response, circuit, factors, draws)
 
 
-def _from_nominal(system: System, problem, samples: int) -> State:
+def draw_problem(system: System, samples: int | None, seed: int, distribution: str):
+    """The DC problem of ``samples`` seeded draws (None: the nominal parts), with the part
+    factors (None when nominal) and the drawn device parameters."""
+    if samples is None:
+        return problem_for(system), None, {}
+    rng = np.random.default_rng(seed)
+    factors = part_factors(system, rng, samples, distribution)
+    draws: dict = {}
+    problem = problem_for(system, factors, device_banks(system, rng, samples, draws))
+    return problem, factors, draws
+
+
+def nominal_state(system: System, problem, samples: int) -> State:
     """Start every sample at the nominal operating point: a few Newton steps each."""
     nominal = problem_for(system)
     start = initial_state(nominal, 1)

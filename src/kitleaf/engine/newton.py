@@ -65,7 +65,7 @@ def extend(x: np.ndarray) -> np.ndarray:
     return np.concatenate([x, np.zeros((x.shape[0], 1))], axis=1)
 
 
-def solve_batch(a: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+def solve_stack(a: np.ndarray, rhs: np.ndarray) -> np.ndarray:
     try:
         out = solve_many(a, rhs[..., None])[..., 0]
     except np.linalg.LinAlgError:
@@ -131,7 +131,7 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
         residual = residual + currents
         jac = jac + dev_jac
         state.vstar = vlim
-    return solve_batch(jac, -residual), limited
+    return solve_stack(jac, -residual), limited
 
 
 def initial_state(problem: Problem, samples: int) -> State:

@@ -17,10 +17,25 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     """alpha + s * sum_k residues[..., k] / (1 + s lambdas[k]) with s = j 2 pi f.
 
     alpha (samples, rows), residues (samples, rows, m), lambdas (samples, m); frequencies
-    (f,) or per sample (samples, f); returns (samples, f, rows).
+    (f,) or per sample (samples, f); returns (samples, f, rows). Worked through in blocks of
+    samples small enough to stay in cache.
     """
     f = np.asarray(freqs, dtype=float)
     f = f[None, :] if f.ndim == 1 else f
+    samples, width = alpha.shape[0], f.shape[1] * max(lambdas.shape[1], 1)
+    out = np.empty((samples, f.shape[1], alpha.shape[1]), complex)
+    step = max(1, CHUNK // width)
+    for start in range(0, samples, step):
+        block = slice(start, start + step)
+        out[block] = _evaluate(alpha[block], residues[block], lambdas[block],
+                               f if f.shape[0] == 1 else f[block])
+    return out
+
+
+CHUNK = 1 << 16  # complex terms per block
+
+
+def _evaluate(alpha, residues, lambdas, f):
     s = 2j * np.pi * f  # (samples or 1, f)
     inverse = s[..., None] * lambdas[:, None, :]  # becomes 1 / (1 + s lambda), in place
     inverse += 1.0

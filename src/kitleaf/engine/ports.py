@@ -50,7 +50,7 @@ class PortForm:
 
 
 @dataclass(frozen=True)
-class Modal:
+class PoleResidue:
     """x(f) = alpha + s sum_k residues[..., k] / (1 + s lambdas[k]) per sample, with the
     samples whose diagonalisation failed the check answered by the port solve."""
 
@@ -68,42 +68,57 @@ class Modal:
             out[self.bad] = self.ports.direct(f if f.ndim == 1 else f[self.bad], self.bad)
         return out
 
-    def row(self, k: int) -> Modal:
-        """The same form for output row ``k`` alone."""
-        return Modal(self.alpha[:, k:k + 1], self.residues[:, k:k + 1], self.lambdas,
-                     PortForm(self.ports.x0[:, k:k + 1], self.ports.w[:, k:k + 1],
-                              self.ports.dm, self.ports.z), self.bad)
+    def take(self, rows: list[int]) -> PoleResidue:
+        """The same form for some of its rows (positions in this form)."""
+        return PoleResidue(self.alpha[:, rows], self.residues[:, rows], self.lambdas,
+                           PortForm(self.ports.x0[:, rows], self.ports.w[:, rows],
+                                    self.ports.dm, self.ports.z), self.bad)
 
 
 def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
               factors: np.ndarray | None, rhs: np.ndarray, rows: list[int]) -> PortForm:
-    """The port system of ``rows`` for excitation ``rhs`` (1, n) at operating points ``x``."""
+    """The port system of unknowns ``rows`` for excitation ``rhs`` (1, n) at operating
+    points ``x``."""
     g, a, d = _linearised(system, problem, x, factors)
     vf = part.values(rhs)
     r = rhs - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
     x0, w = _schur_solve(g, part, np.concatenate([r[:, :, None],
                                                   np.broadcast_to(a, (g.shape[0], *a.shape))], 2))
-    x0, w = x0[..., 0], w
     unknown = np.concatenate([part.keep, part.rest])
     a_u, a_f = a[unknown], a[part.fixed]
     dm = d[:, :, None] * (a_u.T @ w)
-    z = d * (x0 @ a_u + vf @ a_f)
-    x0_rows, w_rows = _pick(x0, w, vf, part, unknown, rows)
-    return PortForm(x0_rows, w_rows, dm, z)
+    z = d * (x0[..., 0] @ a_u + vf @ a_f)
+    full = np.zeros((g.shape[0], part.size, 1 + a.shape[1]))
+    full[:, unknown] = np.concatenate([x0, w], axis=2)
+    full[:, part.fixed, 0] = vf
+    _fixed_currents(full, g, a, rhs, part)
+    return PortForm(full[:, rows, 0], full[:, rows, 1:], dm, z)
 
 
-def modal(ports: PortForm, check_hz: float) -> Modal:
+def _fixed_currents(full: np.ndarray, g: np.ndarray, a: np.ndarray, rhs: np.ndarray,
+                    part: Partition) -> None:
+    """Branch currents of the fixing sources, from their nodes' current balance:
+    i = (b_p - G_p x(s) - s A_p y(s)) / G_pk, with the capacitor currents s y(s)."""
+    coeff = g[:, part.fixed, part.fixed_branch]  # (s, f)
+    balance = np.einsum("sfn,snk->sfk", g[:, part.fixed, :], full)
+    balance[:, :, 0] -= rhs[:, part.fixed]
+    balance[:, :, 1:] -= a[part.fixed][None]
+    full[:, part.fixed_branch] = -balance / coeff[..., None]
+
+
+def modal(ports: PortForm, check_hz: float) -> PoleResidue:
     """Diagonalise D M, checked against the direct port solve at ``check_hz``."""
     lambdas, vecs = np.linalg.eig(ports.dm)
-    weights = np.linalg.solve(vecs, ports.z[..., None].astype(complex))[..., 0]
-    residues = -np.einsum("srm,smk->srk", ports.w, vecs) * weights[:, None, :]
-    form = Modal(ports.x0.astype(complex), residues, lambdas, ports, np.zeros(0, int))
+    # real when every pole is (numpy keeps the eigenvectors real then), which halves the work
+    weights = np.linalg.solve(vecs, ports.z[..., None].astype(vecs.dtype))[..., 0]
+    residues = -(ports.w @ vecs) * weights[:, None, :]
+    form = PoleResidue(ports.x0, residues, lambdas, ports, np.zeros(0, int))
     f = np.array([check_hz])
     fast, exact = form(f)[:, 0], ports.direct(f)[:, 0]
     scale = np.max(np.abs(exact), axis=1)
     with np.errstate(invalid="ignore"):
         ok = np.max(np.abs(fast - exact), axis=1) <= AGREEMENT * scale
-    return Modal(form.alpha, residues, lambdas, ports, np.flatnonzero(~ok))
+    return PoleResidue(form.alpha, residues, lambdas, ports, np.flatnonzero(~ok))
 
 
 def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
@@ -140,17 +155,3 @@ def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.nd
         y_keep = np.linalg.solve(g_kk - g_kr @ back, rhs[:, keep] - g_kr @ z_rhs)
         y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
     return y[:, :, :1], y[:, :, 1:]
-
-
-def _pick(x0, w, vf, part: Partition, unknown: np.ndarray, rows: list[int]):
-    """Output rows of x0 and W; a fixed node reads its source's value and no residue."""
-    where = {int(u): i for i, u in enumerate(unknown)}
-    fixed = {int(f): k for k, f in enumerate(part.fixed)}
-    samples, m = w.shape[0], w.shape[2]
-    x0_rows, w_rows = np.zeros((samples, len(rows))), np.zeros((samples, len(rows), m))
-    for j, row in enumerate(rows):
-        if row in where:
-            x0_rows[:, j], w_rows[:, j] = x0[:, where[row]], w[:, where[row]]
-        elif row in fixed:
-            x0_rows[:, j] = vf[0, fixed[row]]
-    return x0_rows, w_rows

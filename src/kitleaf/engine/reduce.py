@@ -13,9 +13,11 @@ follows from that node's current balance.
 from __future__ import annotations
 
 import dataclasses
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.linalg import LinAlgWarning
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.batch_lu import solve_many
@@ -75,11 +77,7 @@ def _partition(system) -> Partition:
     touched = {int(r) for b in system.families for k in ("jp", "jn", "src", "dst")
                for r in getattr(b, k).ravel()}
     nodes = sorted(touched - set(fixed) - {n})
-    known = set(nodes) | set(fixed) | {n}
-    # a branch whose both ends are kept or known has nothing left to eliminate it by
-    extra = [layout.branch(e.name) for e in system.elements
-             if isinstance(e, el.VSource | el.Inductor) and layout.branch(e.name) not in branch
-             and {layout.row(t) for t in el.terminals(e)} <= known]
+    extra = _looped_branches(system, set(nodes) | set(fixed) | {n}, set(branch))
     keep = np.array(nodes + extra, dtype=int)
     rest = np.setdiff1d(np.arange(n), np.concatenate([keep, fixed, branch]).astype(int))
     part = Partition(n, keep, len(nodes), np.array(fixed, int), np.array(branch, int),
@@ -88,6 +86,31 @@ def _partition(system) -> Partition:
     moved = [dataclasses.replace(b, **{k: index[getattr(b, k)] for k in _INDEX_FIELDS})
              for b in system.families]
     return dataclasses.replace(part, devices=Devices(moved, keep.size))
+
+
+def _looped_branches(system, known: set[int], fixed_branches: set[int]) -> list[int]:
+    """Branches (sources, inductors) that close a loop through the kept and fixed nodes:
+    eliminating them would leave G_LL singular, so they are kept for Newton."""
+    layout, parent = system.layout, {r: -1 for r in known}
+
+    def find(r: int) -> int:
+        while parent.get(r, r) != r:
+            r = parent[r]
+        return r
+
+    out = []
+    for e in system.elements:
+        if not isinstance(e, el.VSource | el.Inductor):
+            continue
+        k = layout.branch(e.name)
+        a, b = (find(layout.row(t)) for t in el.terminals(e))
+        if k in fixed_branches:
+            continue
+        if a == b:
+            out.append(k)
+        else:
+            parent[a] = b
+    return out
 
 
 @dataclass(frozen=True)
@@ -137,10 +160,13 @@ def reduce_problem(problem: Problem, part: Partition) -> Reduced:
 
 
 def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    try:
-        return solve_many(a, b)
-    except np.linalg.LinAlgError:
-        raise SolveError("the linear part of the circuit is singular") from None
+    """G_LL^-1 b; SolveError (so the caller solves unreduced) when G_LL is singular."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", LinAlgWarning)
+        try:
+            return solve_many(a, b)
+        except (np.linalg.LinAlgError, LinAlgWarning):
+            raise SolveError("the linear part of the circuit is singular") from None
 
 
 def solve_reduced(problem: Problem, state: State, part: Partition | None) -> str:
