@@ -145,6 +145,60 @@ def test_overview_lists_stages_in_order_with_headlines():
     assert "gain 24 dB" in words and "Power" in words
     boxes = [b for t, b in texts(svg) if t.strip()]
     assert not any(overlaps(a, b) for i, a in enumerate(boxes) for b in boxes[i + 1:])
+    assert text_on_lines(svg) == []
+
+
+def rects(svg: str) -> list[tuple[float, float, float, float]]:
+    """The blocks: closed four-sided paths, as (x0, y0, x1, y1)."""
+    found = []
+    for node in ET.fromstring(svg).iter(f"{SVG}path"):
+        pts = [(float(x), float(y)) for x, y in re.findall(r"(-?[\d.]+),(-?[\d.]+)", node.get("d"))]
+        if len(pts) == 5 and pts[0] == pts[-1]:
+            xs, ys = [p[0] for p in pts], [p[1] for p in pts]
+            found.append((min(xs), min(ys), max(xs), max(ys)))
+    return found
+
+
+def on(point, segment, tol: float = 0.01) -> bool:
+    (x0, y0), (x1, y1) = segment
+    return (min(x0, x1) - tol <= point[0] <= max(x0, x1) + tol
+            and min(y0, y1) - tol <= point[1] <= max(y0, y1) + tol
+            and abs((x1 - x0) * (point[1] - y0) - (y1 - y0) * (point[0] - x0)) < tol * 100)
+
+
+def wired_to(svg: str, box) -> set[int]:
+    """Indices of the blocks whose edges the wires touching ``box`` reach (through junctions)."""
+    blocks = rects(svg)
+    edges = {e for b in blocks for e in _edges(b)}
+    wires = [s for s in segments(svg) if s not in edges and (s[1], s[0]) not in edges]
+    net = [w for w in wires if any(on(p, e) for p in w for e in _edges(box))]
+    while more := [w for w in wires if w not in net and any(
+            on(p, n) or on(q, w) for n in net for p in w for q in n)]:
+        net += more
+    return {i for i, b in enumerate(blocks) for w in net for p in w
+            if any(on(p, e) for e in _edges(b))}
+
+
+def _edges(b):
+    x0, y0, x1, y1 = b
+    return [((x0, y0), (x1, y0)), ((x1, y0), (x1, y1)), ((x1, y1), (x0, y1)), ((x0, y1), (x0, y0))]
+
+
+def test_overview_power_feeds_exactly_the_stages_that_use_its_rails():
+    svg = render_overview_svg(KIT, {})
+    blocks = rects(svg)
+    power = blocks[-1]  # drawn last, below the chain
+    fed = {i for i, s in enumerate(KIT.signal_stages) if KIT.rails_used(s)}
+    assert fed == {0, 1, 2, 3, 4, 9}  # the transistor, op-amp and custom stages
+    assert wired_to(svg, power) == fed | {len(blocks) - 1}
+    words = [t for t, _ in texts(svg)]
+    assert "VCC, VREF" in words
+
+
+def test_overview_keeps_the_power_block_close():
+    svg = render_overview_svg(make_kit(EVERY_KIND[0], EVERY_KIND[1]), {})
+    (chain, power) = rects(svg)
+    assert 0 < power[1] - chain[3] <= 72  # two grid units (72 pt) at most between them
 
 
 def test_overlap_check_sees_a_clash():

@@ -11,6 +11,7 @@ from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.stages import KINDS
 from kitleaf.engine import Circuit
+from kitleaf.engine.elements import terminals
 from kitleaf.errors import KitleafError
 
 GROUND = "0"
@@ -162,6 +163,14 @@ class KitCircuit:
             KINDS[stage.kind].build(stage, Wiring(circuit, stage, nodes, positions))
         circuit.resistor("RLOAD", OUTPUT, GROUND, self.load)
         return circuit
+
+    def rails_used(self, stage: Stage) -> tuple[str, ...]:
+        """Which of the power section's rails, ``vcc`` and ``vref``, the stage's parts join."""
+        circuit = Circuit()
+        KINDS[stage.kind].build(stage, Wiring(circuit, stage, {**self._nodes(stage),
+                                                               "vcc": "vcc", "vref": "vref"}, {}))
+        joined = {n for e in circuit.elements for n in terminals(e)}
+        return tuple(r for r in ("vcc", "vref") if r in joined)
 
     def node_of(self, stage: Stage, local: str) -> str:
         """The circuit node a stage's local node name stands for (``vcc``, ``in``, ``c``...).

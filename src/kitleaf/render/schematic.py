@@ -286,45 +286,11 @@ def render_stage_svg(kit_circuit, stage) -> str:
     return sheet.svg()
 
 
-PER_ROW = 4  # overview blocks per row, so a long chain still fits a printed page
-
-
 def render_overview_svg(kit_circuit, headline: Mapping[str, str]) -> str:
-    """The kit at a glance: signal stages as blocks with their headline numbers, in chain order
-    left to right (several rows for a long chain), the power section below them."""
+    """The kit at a glance: signal stages as blocks with their headline numbers, in chain order,
+    the power section below them feeding every stage that draws on it."""
+    from kitleaf.render.schematic_overview import draw_overview  # it draws on a Sheet
+
     sheet = Sheet("Kit overview")
-    width, gap, height, row_step = 4.8, 1.4, 2.2, 4.0
-    chain = kit_circuit.signal_stages
-    rows = max(1, -(-len(chain) // PER_ROW))
-    top = row_step * rows
-    sheet.port((0.0, top + height / 2), "IN", "left")
-    end = (0.0, top + height / 2)
-    for i, stage in enumerate(chain):
-        x, y = 1.0 + (width + gap) * (i % PER_ROW), top - row_step * (i // PER_ROW)
-        start = (x, y + height / 2)
-        _overview_link(sheet, end, start, y + height + 0.6)
-        _overview_block(sheet, stage, headline, (x, y), width, height)
-        end = (x + width, y + height / 2)
-    sheet.wire(end, (end[0] + gap, end[1]))
-    sheet.port((end[0] + gap, end[1]), "OUT", "right")
-    others = [s for s in kit_circuit.stages if not kit_circuit.kind(s).signal]
-    for i, stage in enumerate(others):
-        _overview_block(sheet, stage, headline, (1.0 + (width + gap) * i, 0.0), width, height)
+    draw_overview(sheet, kit_circuit, headline)
     return sheet.svg()
-
-
-def _overview_link(sheet: Sheet, end: Point, start: Point, over: float) -> None:
-    """A wire from one block's output to the next block's input, up and over on a new row."""
-    if abs(end[1] - start[1]) < 1e-9:
-        sheet.wire(end, start)
-        return
-    sheet.wire(end, (end[0] + 0.7, end[1]), (end[0] + 0.7, over), (start[0] - 0.7, over),
-               (start[0] - 0.7, start[1]), start)
-
-
-def _overview_block(sheet: Sheet, stage, headline: Mapping[str, str], at: Point,
-                    width: float, height: float) -> None:
-    lines = [stage.title, f"({stage.kind})"]
-    if headline.get(stage.id):
-        lines.append(headline[stage.id])
-    sheet.block(at, width, height, lines)
