@@ -1,0 +1,110 @@
+"""The public batch API: each sample equals the single-circuit solvers on the rebuilt sample.
+
+The single-circuit solvers are the ones checked against hand analysis and ngspice
+(test_linear, test_amplifiers, test_ngspice_oracle); here the batch must reproduce them
+sample by sample, including what Monte Carlo does not report (branch currents, complex
+responses of every unknown, impedances with a source taken out).
+"""
+
+import numpy as np
+import pytest
+
+from kitleaf.engine import Circuit, monte_carlo, solve_ac, solve_batch, solve_dc
+from kitleaf.errors import SolveError
+
+from . import reference_circuits as rc
+
+FREQS = np.array([20.0, 1000.0, 50e3])
+BUILDS = [rc.boost, rc.jfet_common_source, rc.non_inverting, rc.inverting]
+
+
+def metered_chain() -> Circuit:
+    """0 V meters in series with a stage's supply and input, as kits measure currents: a
+    loop of sources through the device nodes that the reduction must keep."""
+    c = rc.non_inverting()
+    c.vsource("VLINK", "vcc_in", "vcc", dc=0.0).vsource("IMETER", "vcc", "vcc_stage", dc=0.0)
+    c.resistor("RFEED", "vcc_stage", "0", 47e3).diode("D1", "vcc_in", "vcc_stage", "1N4148")
+    return c
+
+
+class TestSamplesMatchSingleSolves:
+    @pytest.mark.parametrize("build", [*BUILDS, metered_chain])
+    def test_dc_unknowns_and_branch_currents(self, build):
+        batch = solve_batch(build(), samples=24, seed=3)
+        mc = monte_carlo(build(), samples=24, seed=3)
+        for i in (0, 11, 23):
+            op = solve_dc(mc.sample(i))
+            for node, volts in op.voltages.items():
+                assert batch.voltage(node)[i] == pytest.approx(volts, abs=1e-9)
+            for name in batch.layout.branches:
+                assert batch.current(name)[i] == pytest.approx(op.current(name), rel=1e-7,
+                                                                abs=1e-12)
+
+    @pytest.mark.parametrize("build", [*BUILDS, metered_chain])
+    def test_pole_residue_response_of_every_unknown(self, build):
+        batch = solve_batch(build(), samples=16, seed=4)
+        form = batch.response(batch.excitation("VIN"), list(range(batch.layout.size)))
+        fast = form(FREQS)
+        mc = monte_carlo(build(), samples=16, seed=4)
+        for i in (0, 15):
+            sample = mc.sample(i)
+            ac = solve_ac(sample, solve_dc(sample), FREQS, "VIN")
+            scale = np.max(np.abs(ac.solution), axis=1)
+            np.testing.assert_allclose(np.abs(fast[i] - ac.solution).max(axis=1) / scale, 0.0,
+                                       atol=1e-9)
+
+    def test_direct_solve_agrees_with_the_pole_residue_form(self):
+        batch = solve_batch(rc.boost(), samples=32, seed=9)
+        rhs = batch.excitation("VIN")
+        direct = batch.solve_ac(FREQS, rhs)
+        fast = batch.response(rhs, list(range(batch.layout.size)))(FREQS)
+        np.testing.assert_allclose(fast, direct, rtol=1e-9, atol=1e-12)
+
+    def test_the_same_draws_as_monte_carlo(self):
+        batch = solve_batch(rc.boost(), samples=50, seed=2)
+        mc = monte_carlo(rc.boost(), samples=50, seed=2, nodes=["c"])
+        np.testing.assert_allclose(batch.voltage("c"), mc.dc["c"], atol=1e-9)
+        np.testing.assert_array_equal(batch.factors, mc.factors)
+        np.testing.assert_array_equal(batch.params["Q1"]["BF"], mc.draws["Q1"]["BF"])
+
+
+class TestNominalAndImpedances:
+    def test_nominal_batch_is_the_operating_point(self):
+        op = solve_dc(rc.non_inverting())
+        batch = solve_batch(rc.non_inverting())
+        assert batch.size == 1 and batch.factors is None
+        assert batch.voltage("o")[0] == pytest.approx(op.voltage("o"), abs=1e-12)
+        assert batch.current("VCC")[0] == pytest.approx(op.current("VCC"), rel=1e-9)
+
+    def test_input_impedance_of_a_resistor_is_its_value(self):
+        # a bare resistor across the source: Z = R at every frequency (Ohm's law)
+        c = Circuit().vsource("VIN", "in", "0", ac=1.0).resistor("R1", "in", "0", 4.7e3)
+        batch = solve_batch(c, samples=4)
+        form = batch.response(batch.excitation("VIN"), [batch.layout.branch("VIN")])
+        np.testing.assert_allclose(-1.0 / form(FREQS)[..., 0], 4.7e3, rtol=1e-12)
+
+    def test_opened_source_leaves_the_rest(self):
+        # 10k to ground behind a meter, 22k straight to ground: with the meter opened the
+        # node sees 22k alone, with it closed 10k || 22k (Ohm's law)
+        c = Circuit().vsource("VM", "a", "b", dc=0.0).resistor("R1", "b", "0", 10e3)
+        c.resistor("R2", "a", "0", 22e3)
+        batch = solve_batch(c)
+        closed = batch.impedance("a", [1000.0])[0, 0]
+        opened = batch.impedance("a", [1000.0], opened="VM")[0, 0]
+        assert closed.real == pytest.approx(1 / (1 / 10e3 + 1 / 22e3), rel=1e-12)
+        assert opened.real == pytest.approx(22e3, rel=1e-12)
+
+
+class TestBadRequests:
+    def test_unknown_names(self):
+        batch = solve_batch(rc.boost())
+        with pytest.raises(SolveError, match="no node"):
+            batch.voltage("nowhere")
+        with pytest.raises(SolveError, match="not a voltage source"):
+            batch.current("R1")
+        with pytest.raises(SolveError, match="not a source"):
+            batch.excitation("R1")
+
+    def test_bad_sample_count(self):
+        with pytest.raises(SolveError, match="samples"):
+            solve_batch(rc.boost(), samples=0)
