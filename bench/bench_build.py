@@ -110,12 +110,16 @@ def timed(func, *args, **kwargs):
     return time.perf_counter() - started, result
 
 
-def cli_seconds(guides: Path, out: Path) -> float:
-    """A no-change rebuild through the command line, interpreter start-up included."""
+def cli_run(guides: Path, out: Path) -> tuple[float, str]:
+    """A no-change rebuild through the command line, interpreter start-up included.
+
+    Run last: kitleaf's code is part of every cache key, so if the source changed while the
+    bench ran, this rebuild is a cold one and its summary line says so.
+    """
     started = time.perf_counter()
-    subprocess.run([sys.executable, "-m", "kitleaf", "build", str(guides), "-o", str(out)],
-                   check=True, capture_output=True)
-    return time.perf_counter() - started
+    run = subprocess.run([sys.executable, "-m", "kitleaf", "build", str(guides), "-o", str(out)],
+                         check=True, capture_output=True, text=True)
+    return time.perf_counter() - started, run.stdout.strip().splitlines()[-1]
 
 
 def main() -> int:
@@ -138,9 +142,9 @@ def run(root: Path, count: int, jobs: int) -> None:
     guides, out = make_site(root, count), root / "site"
     cold, report = timed(build_site, guides, out, jobs=jobs)
     same, again = timed(build_site, guides, out, jobs=jobs)
-    cli = cli_seconds(guides, out)
     edit = change_one_value(guides)
     one, changed = timed(build_site, guides, out, jobs=jobs)
+    cli, cli_summary = cli_run(guides, out)
     parent = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     child = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
     peak = parent + min(jobs, count) * child  # every worker at the largest one's peak
@@ -148,7 +152,8 @@ def run(root: Path, count: int, jobs: int) -> None:
     print(f"{'':24}{'measured':>12}{'target':>12}")
     print(f"{'cold build':24}{cold:>10.2f} s{'<= 30 s':>12}")
     print(f"{'no-change rebuild':24}{same:>10.3f} s{'<= 1 s':>12}"
-          f"   ({len(again.written)} files written; CLI with start-up {cli:.2f} s)")
+          f"   ({again.rebuilt} guides rebuilt, {len(again.written)} files written)")
+    print(f"{'  same, through the CLI':24}{cli:>10.2f} s{'':>12}   {cli_summary}")
     print(f"{'one-value rebuild':24}{one:>10.2f} s{'':>12}   {edit}; "
           f"{changed.rebuilt} guide(s) rebuilt, {len(changed.written)} files written")
     print(f"{'one-value / cold':24}{one / cold * 100:>10.1f} %{'<= 5 %':>12}")

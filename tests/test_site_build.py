@@ -15,6 +15,7 @@ from pathlib import Path
 import pytest
 
 import kitleaf.site.publish as publish_module
+from kitleaf.cli import main
 from kitleaf.site.build import BuildFailed, build_site
 from kitleaf.site.cache import CACHE_DIR_NAME
 
@@ -171,3 +172,13 @@ def test_build_killed_halfway_leaves_the_previous_site(site: Path):
     build_site(site / "guides", site / "site")
     assert not list(site.glob(".site.new-*"))
     assert contents(site / "site") != {k: v[0] for k, v in before.items()}
+
+
+def test_cli_ends_with_the_summary_and_names_the_change(site: Path, capsys):
+    change_r4(site / "guides")
+    assert main(["build", str(site / "guides"), "-o", str(site / "site")]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out[-1].startswith(f"built {len(GUIDES)} guide(s), ")
+    assert "(1 guide(s) rebuilt, " in out[-1]
+    assert any(line.startswith("changed: FB-101 ") and "R4 1.5 kΩ to 1.8 kΩ" in line
+               for line in out)

@@ -7,6 +7,7 @@ import sys
 from kitleaf.cli import command
 from kitleaf.site.build import BuildFailed, BuildReport, build_site
 from kitleaf.site.changes import summary_lines
+from kitleaf.site.manifest import MANIFEST_NAME
 
 
 def report_failure(failed: BuildFailed) -> int:
@@ -31,7 +32,7 @@ def summary(report: BuildReport, out) -> str:
 def print_report(report: BuildReport, out) -> None:
     for warning in report.warnings:
         print(warning_line(warning), file=sys.stderr)
-    if report.written:  # a site that moved: say what changed for the errata
+    if MANIFEST_NAME in report.written:  # parts or specs moved: say what, for the errata
         for line in summary_lines(report.changes):
             print(f"changed: {line}")
     print(summary(report, out), flush=True)

@@ -7,6 +7,7 @@ draws. Pages are cheap and always rendered; publishing writes them only if their
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -54,7 +55,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     files[f"{slug}/overview.svg"] = overview
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
     checks = verify(guide, kit, specs)  # a broken claim stops the guide here
-    env = make_environment(themes)
+    env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
@@ -113,6 +114,13 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
     specs = derive_specs(guide, kit)
     cache.store("specs", located if contains_span(specs) else plain, specs)
     return specs
+
+
+@functools.lru_cache(maxsize=4)
+def theme_environment(themes: tuple[Path, ...]):
+    """One Jinja environment per process and theme: templates compile once per worker, not
+    once per guide, and Jinja still reloads a template whose file changed (``kitleaf serve``)."""
+    return make_environment(list(themes))
 
 
 def headline_by_stage(specs) -> dict[str, str]:
