@@ -82,6 +82,9 @@ class VectorPattern:
         return StampMap(self._rows, self._cols, self._sign, (self.size, columns))
 
 
+DENSE_ENTRIES = 4096  # a map this small is quicker applied as a dense product
+
+
 class StampMap:
     """A stamp pattern (entries, columns), applied sparsely to batches and densely to a
     single sample, where scipy's per-call cost would dominate; each form is built on demand."""
@@ -96,7 +99,7 @@ class StampMap:
 
     def apply(self, values: np.ndarray) -> np.ndarray:
         rows, cols, signs = self._coords
-        if values.shape[0] == 1:
+        if values.shape[0] == 1 or self.shape[0] * self.shape[1] <= DENSE_ENTRIES:
             if self._dense_t is None:
                 self._dense_t = np.zeros(self.shape[::-1])
                 np.add.at(self._dense_t, (cols, rows), signs)
