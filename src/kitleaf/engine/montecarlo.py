@@ -13,7 +13,7 @@ from kitleaf.engine.compile import System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.devices.base import Bank
 from kitleaf.engine.mc_response import McResponse, mc_response
-from kitleaf.engine.newton import State, initial_state, solve_state
+from kitleaf.engine.newton import State, initial_state
 from kitleaf.engine.reduce import partition, solve_reduced
 from kitleaf.errors import SolveError
 
@@ -176,7 +176,7 @@ def nominal_state(system: System, problem, samples: int) -> State:
     """Start every sample at the nominal operating point: a few Newton steps each."""
     nominal = problem_for(system)
     start = initial_state(nominal, 1)
-    solve_state(nominal, start)
+    solve_reduced(nominal, start, partition(system))
     state = initial_state(problem, samples)
     state.x[:] = start.x
     for whole, v in zip(state.vstar, start.vstar, strict=True):

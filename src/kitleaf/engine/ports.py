@@ -100,7 +100,7 @@ def _fixed_currents(full: np.ndarray, g: np.ndarray, a: np.ndarray, rhs: np.ndar
     """Branch currents of the fixing sources, from their nodes' current balance:
     i = (b_p - G_p x(s) - s A_p y(s)) / G_pk, with the capacitor currents s y(s)."""
     coeff = g[:, part.fixed, part.fixed_branch]  # (s, f)
-    balance = np.einsum("sfn,snk->sfk", g[:, part.fixed, :], full)
+    balance = g[:, part.fixed, :] @ full
     balance[:, :, 0] -= rhs[:, part.fixed]
     balance[:, :, 1:] -= a[part.fixed][None]
     full[:, part.fixed_branch] = -balance / coeff[..., None]
@@ -142,16 +142,15 @@ def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
 def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.ndarray, ...]:
     """Solutions over the unknown rows (keep, then rest) of G_UU y = rhs_U, split as
     (first column, the others)."""
-    keep, rest = part.keep, part.rest
-    g_kk, g_kr = g[:, keep][:, :, keep], g[:, keep][:, :, rest]
-    g_rk, g_rr = g[:, rest][:, :, keep], g[:, rest][:, :, rest]
-    if not keep.size:
-        y = np.linalg.solve(g_rr, rhs[:, rest])
-    elif not rest.size:
-        y = np.linalg.solve(g_kk, rhs[:, keep])
+    t, order = part.keep.size, np.concatenate([part.keep, part.rest])
+    g_uu = g[:, order][:, :, order]  # one copy; the blocks below are views
+    rhs_u = rhs[:, order]
+    if not t or t == order.size:
+        y = np.linalg.solve(g_uu, rhs_u)
     else:
-        z = np.linalg.solve(g_rr, np.concatenate([g_rk, rhs[:, rest]], axis=2))
-        back, z_rhs = z[:, :, :keep.size], z[:, :, keep.size:]
-        y_keep = np.linalg.solve(g_kk - g_kr @ back, rhs[:, keep] - g_kr @ z_rhs)
+        g_kr, g_rk = g_uu[:, :t, t:], g_uu[:, t:, :t]
+        z = np.linalg.solve(g_uu[:, t:, t:], np.concatenate([g_rk, rhs_u[:, t:]], axis=2))
+        back, z_rhs = z[:, :, :t], z[:, :, t:]
+        y_keep = np.linalg.solve(g_uu[:, :t, :t] - g_kr @ back, rhs_u[:, :t] - g_kr @ z_rhs)
         y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
     return y[:, :, :1], y[:, :, 1:]
