@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import importlib.resources
+from collections.abc import Callable
 from pathlib import Path
-from typing import Callable
 
 import jinja2
 
@@ -82,3 +82,9 @@ def range_text(value, quantity: str) -> str:
 def percent(fraction: float) -> str:
     """A knob position as a share of its rotation: "25 %"."""
     return f"{round(fraction * 100):d} %"
+
+
+@register_filter("figure")
+def figure(value: float | None, quantity: str) -> str:
+    """One plain value in its unit ("db" for decibels); a dash where there is none."""
+    return "–" if value is None else _one(value, quantity)

@@ -1,10 +1,10 @@
-"""The guide's prose as HTML, split where the kit and stage blocks stand so pages can fill them in."""
+"""The guide's prose as HTML, split where the kit and stage blocks stand, for pages to fill in."""
 
 from __future__ import annotations
 
 import re
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 from markdown_it import MarkdownIt
 

@@ -12,6 +12,7 @@ from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.batch import SAMPLES, SEED
 from kitleaf.specs.headroom import MARGINS, margins
+from kitleaf.specs.loading import source_loading, stage_loading
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint, StageSpecs, Supply, Voltage
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
@@ -74,6 +75,7 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
         supplies=solved.supplies,
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
         samples=SAMPLES, seed=SEED,
+        source_loading=source_loading(kit, base),
     )
 
 
@@ -102,6 +104,7 @@ def stage_specs(solved: Kit, stage: Stage) -> StageSpecs:
         band_gain_db=base.range(m.band_gain_db(node_in, node_out)),
         headroom=stage_headroom(solved, (stage,), node_out),
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
+        loading=stage_loading(kit, stage, base),
     )
 
 

@@ -8,6 +8,10 @@ maps each one to its JSON key.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # loading.py solves circuits, which in turn build these records
+    from kitleaf.specs.loading import Comparison
 
 
 @dataclass(frozen=True)
@@ -92,6 +96,8 @@ class StageSpecs:
     # 5th and 95th percentile gain (dB) over ``KitSpecs.freqs``, knobs at half way.
     band_low: tuple[float, ...] = ()
     band_high: tuple[float, ...] = ()
+    # The stage alone (low-Z source, 1 MΩ load) against in its place: see specs/loading.py.
+    loading: Comparison | None = None
 
 
 @dataclass(frozen=True)
@@ -113,6 +119,8 @@ class KitSpecs:
     freqs: tuple[float, ...] = ()
     curves: tuple[Curve, ...] = ()
     notes: tuple[str, ...] = field(default=())
+    # The kit from its input jack against from the source's own voltage: specs/loading.py.
+    source_loading: Comparison | None = None
     band_gain_db: Range | None = None
     headroom: Headroom | None = None
     band_low: tuple[float, ...] = ()
