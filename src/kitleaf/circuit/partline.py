@@ -136,7 +136,8 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
     else:
         value = parse_value(value_text, quantity)
     if part_type == "pot" and "taper" not in attrs:
-        raise CircuitError("a pot needs a taper: add 'lin', 'log' or 'rlog', or write A100k / B100k")
+        raise CircuitError(
+            "a pot needs a taper: add 'lin', 'log' or 'rlog', or write A100k / B100k")
     if tolerance is None and part_type in ("resistor", "pot", "inductor", "capacitor"):
         tolerance = DEFAULT_TOLERANCE.get(attrs.get("dielectric", part_type), 0.10)
     return Part(designator, part_type, value_text, span, value=value, model=model,

@@ -51,7 +51,8 @@ def require_single(block: Block, key: str, what: str) -> Entry:
     """The one entry ``key`` of ``block``; an error naming the block if missing or repeated."""
     found = block.all(key)
     if not found:
-        raise GuideError(f"{what} has no '{key}:' line; add one, for example '{key}: ...'", block.span)
+        raise GuideError(f"{what} has no '{key}:' line; add one, for example '{key}: ...'",
+                         block.span)
     if len(found) > 1:
         raise GuideError(
             f"{what} gives '{key}:' twice (first at line {found[0].span.line}); keep one",

@@ -36,7 +36,8 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
     kits = [b for b in blocks if b.name == "kit"]
     if not kits:
         raise GuideError(
-            "the guide has no kit block; start it with a ```kit block giving title, code and supply",
+            "the guide has no kit block; start it with a ```kit block giving title, code and "
+            "supply",
             SourceSpan(shown, 1),
         )
     if len(kits) > 1:
@@ -54,7 +55,8 @@ def read_text(path: Path) -> str:
         raise GuideError(f"not UTF-8 text ({exc.reason}); save the guide as UTF-8",
                          SourceSpan(str(path), 1)) from None
     except OSError as exc:
-        raise GuideError(f"cannot read the guide: {exc.strerror}", SourceSpan(str(path), 1)) from None
+        raise GuideError(f"cannot read the guide: {exc.strerror}",
+                         SourceSpan(str(path), 1)) from None
 
 
 def find_blocks(text: str, path: str):
@@ -102,11 +104,14 @@ def read_kit(block: Block) -> KitBlock:
     for entry in block.entries:
         if entry.key not in KIT_KEYS:
             raise GuideError(
-                f"the kit block has no key '{entry.key}'; known keys: {', '.join(sorted(KIT_KEYS))}",
+                f"the kit block has no key '{entry.key}'; "
+                f"known keys: {', '.join(sorted(KIT_KEYS))}",
                 entry.span,
             )
-    value = {k: require_single(block, k, "the kit block").value for k in ("title", "code", "supply")}
-    optional = {k: (block.first(k).value if block.first(k) else "") for k in ("revision", "summary")}
+    value = {k: require_single(block, k, "the kit block").value
+             for k in ("title", "code", "supply")}
+    optional = {k: (block.first(k).value if block.first(k) else "")
+                for k in ("revision", "summary")}
     return KitBlock(
         title=value["title"], code=value["code"], supply=value["supply"],
         revision=optional["revision"] or "A", summary=optional["summary"],
@@ -124,7 +129,8 @@ def read_knob(entry) -> Knob:
     designator = designator.strip()
     if not sep or not name.strip() or not _DESIGNATOR.match(designator):
         raise GuideError(
-            f"cannot read knob {entry.value!r}; write the knob's name and its pot, like 'Gain = VR1'",
+            f"cannot read knob {entry.value!r}; write the knob's name and its pot, "
+            "like 'Gain = VR1'",
             entry.span,
         )
     return Knob(name.strip(), designator, entry.span)
