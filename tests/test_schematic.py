@@ -13,6 +13,7 @@ from kitleaf.render.schematic import part_value, render_overview_svg, render_sta
 
 SVG = "{http://www.w3.org/2000/svg}"
 KIT = make_kit(*EVERY_KIND)
+RING_PT = 0.17 * 36  # a test point's ring: 0.17 grid units of 36 pt
 CHAR_WIDTH = 0.62  # of the font size, a wide sans-serif average (common practice, no source)
 
 
@@ -93,6 +94,22 @@ class TestStageSchematic:
 
     def test_no_label_touches_a_wire_or_part(self, stage):
         assert text_on_lines(render_stage_svg(KIT, stage)) == []
+
+    def test_every_test_point_is_numbered_on_the_drawing_and_in_the_legend(self, stage):
+        svg = render_stage_svg(KIT, stage)
+        points = KIT.kind(stage).test_points(stage)
+        words = [t for t, _ in texts(svg)]
+        if not points:
+            assert not any(w.startswith("Test points") for w in words)
+            return
+        legend = " · ".join(words[words.index(next(w for w in words if w.startswith("Test "))):])
+        for number, tp in enumerate(points, 1):
+            assert f"{number} {tp.label}" in legend, tp.label  # the voltage table's wording
+        rings = [c for c in ET.fromstring(svg).iter(f"{SVG}circle")
+                 if abs(float(c.get("r")) - RING_PT) < 0.01]
+        drawn = 0 if stage.kind == "custom" else len(points)  # a custom block shows no nodes
+        assert len(rings) == drawn
+        assert all(str(n) in words for n in range(1, drawn + 1))
 
     def test_byte_identical(self, stage):
         assert render_stage_svg(KIT, stage) == render_stage_svg(KIT, stage)

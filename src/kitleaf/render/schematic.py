@@ -41,11 +41,12 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
 # How far a label sits from the axis of a two-terminal part (half the body's width plus air).
 _LABEL_GAP = {"resistor": 0.45, "capacitor": 0.55, "inductor": 0.5, "diode": 0.5, "led": 1.0,
               "pot": 0.5, "block": 0.3}
+_LABEL_NUDGE = 0.1  # schemdraw writes a label this far right of and above its point
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
                  "diode": elm.Diode, "led": elm.LED}
 _TRANSISTOR = {"npn": elm.BjtNpn, "pnp": elm.BjtPnp, "njf": elm.JFetN, "pjf": elm.JFetP}
 _ALIGN = {"right": ("left", "center"), "left": ("right", "center"),
-          "above": ("center", "bottom"), "below": ("center", "top")}
+          "above": ("center", "bottom"), "below": ("center", "top"), "below right": ("left", "top")}
 
 
 def part_value(part: Part) -> str:
@@ -79,6 +80,9 @@ class Sheet:
     def __init__(self, title: str = "", nets: Mapping[str, str] | None = None) -> None:
         self.title = title
         self.nets = {"vcc": "VCC", "vref": "VREF", "supply": "+V IN", **(nets or {})}
+        # Where a builder could probe: (device, pin) for device pins, ("", net) for nets.
+        self.spots: dict[tuple[str, str], Point] = {}
+        self._text_boxes: list[tuple[float, float, float, float]] = []
         self._drawing = schemdraw.Drawing(canvas="svg", show=False)
         self._drawing.config(unit=3, fontsize=FONT_SIZE, font=FONT, lw=1.4, margin=0.4,
                              color="black")
@@ -93,6 +97,9 @@ class Sheet:
         """
         if part is None:
             return
+        if part.type in ("diode", "led"):
+            self.spots.setdefault((part.designator, "anode"), a)
+            self.spots.setdefault((part.designator, "cathode"), b)
         polar = part.type == "capacitor" and part.polarised
         if polar and plus == b:
             a, b = b, a
@@ -134,6 +141,7 @@ class Sheet:
         first = next(iter(ANCHORS[family]))
         self._add(drawn.anchor(ANCHORS[family][first]).at(base))
         pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
+        self.spots.update({(part.designator, name): at for name, at in pins.items()})
         centre = drawn.absanchors["center"]
         self.label(part_label(part), (max(p[0] for p in pins.values()) + 0.5, centre.y), "right")
         return pins
@@ -155,6 +163,9 @@ class Sheet:
         self.label(part_label(part), (pins["out"][0] - 0.3, top[1] + 0.2), "right")
         for name, number in pin_numbers.items():
             self._pin_number(pins[name], name, number)
+            self.spots[(part.designator, number)] = pins[name]
+        # the supply pin is probed on its lead to the rail, clear of the op-amp's body
+        self.spots[(part.designator, pin_numbers.get("vpos", ""))] = (top[0], top[1] + 0.25)
         return pins
 
     def _pin_number(self, at: Point, name: str, number: str) -> None:
@@ -195,26 +206,52 @@ class Sheet:
     def rail(self, at: Point, net: str = "vcc") -> None:
         """A supply connection pointing up, labelled with the net's name (VCC, VREF...)."""
         self._add(elm.Vdd(lead=False).at(at))
+        self.spots.setdefault(("", net), at)
         self.label(self.nets.get(net, net.upper()), (at[0], at[1] + 0.35), "above")
 
     def net_label(self, at: Point, net: str, side: str = "below") -> None:
         """A net named at a wire's end without a symbol (a reference fed from elsewhere)."""
         self._add(elm.Dot(radius=0.09).at(at))
+        self.spots.setdefault(("", net), at)
         self.label(self.nets.get(net, net.upper()), _nudge(at, side, 0.25), side)
 
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the next or previous stage: an open circle with its name."""
         self._add(elm.Dot(open=True, radius=0.12).at(at))
+        self.spots.setdefault(("", name.lower()), at)
         self.label(name, _nudge(at, side, 0.3), side)
+
+    def ring(self, centre: Point, radius: float) -> None:
+        """An open circle (a test point's marker)."""
+        self._add(elm.Dot(open=True, radius=radius).at(centre).zorder(1))  # under its number
 
     # -- text ----------------------------------------------------------------------------------
     def label(self, text: str, at: Point, side: str) -> None:
         self.text(text, at, side=side)
 
-    def text(self, text: str, at: Point, size: float = FONT_SIZE, side: str = "right") -> None:
-        """Text whose ``side`` says where it lies from ``at`` (right: starts at ``at``)."""
+    def text(self, text: str, at: Point, size: float = FONT_SIZE, side: str = "right",
+             exact: bool = False) -> None:
+        """Text whose ``side`` says where it lies from ``at`` (right: starts at ``at``).
+
+        schemdraw nudges a label a little off its point; ``exact`` keeps it on the point.
+        """
         halign, valign = _ALIGN.get(side, ("center", "center"))
+        if exact:
+            at = (at[0] - _LABEL_NUDGE, at[1] - _LABEL_NUDGE)
         self._add(elm.Label().at(at).label(text, halign=halign, valign=valign, fontsize=size))
+        self._text_boxes.append(_text_box(text, at, size, halign, valign))
+
+    # -- what is drawn ------------------------------------------------------------------------
+    def occupied(self) -> list[tuple[float, float, float, float]]:
+        """The box of every element and label drawn so far, in grid units."""
+        boxes = [e.get_bbox(transform=True, includetext=False) for e in self._drawing.elements]
+        return [(b.xmin, b.ymin, b.xmax, b.ymax) for b in boxes] + self._text_boxes
+
+    def extent(self) -> tuple[float, float, float, float]:
+        """The box around everything drawn so far (x0, y0, x1, y1)."""
+        boxes = self.occupied()
+        return (min(b[0] for b in boxes), min(b[1] for b in boxes),
+                max(b[2] for b in boxes), max(b[3] for b in boxes))
 
     # -- output --------------------------------------------------------------------------------
     def pin(self, drawn: elm.Element, family: str, name: str) -> Point:
@@ -232,6 +269,17 @@ class Sheet:
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
         return self._drawing.add(element)
+
+
+def _text_box(text: str, at: Point, size: float, halign: str, valign: str
+              ) -> tuple[float, float, float, float]:
+    """Where a label's text lies, in grid units (an estimate, as wide as :func:`text_width`)."""
+    width = text_width(text, size)
+    height = (text.count("\n") + 1) * size / POINTS_PER_UNIT
+    x, y = at[0] + _LABEL_NUDGE, at[1] + _LABEL_NUDGE
+    x0 = {"left": x, "center": x - width / 2, "right": x - width}[halign]
+    y0 = {"bottom": y, "center": y - height / 2, "top": y - height}[valign]
+    return (x0, y0, x0 + width, y0 + height)
 
 
 def _default_side(a: Point, b: Point) -> str:
@@ -283,6 +331,9 @@ def render_stage_svg(kit_circuit, stage) -> str:
     """The schematic of one stage, drawn by its kind."""
     sheet = Sheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"})
     kit_circuit.kind(stage).draw(stage, sheet)
+    from kitleaf.render.schematic_probes import mark_test_points  # it draws on a Sheet
+
+    mark_test_points(sheet, kit_circuit.kind(stage).test_points(stage))
     return sheet.svg()
 
 
