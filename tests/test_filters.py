@@ -23,3 +23,15 @@ class TestRangeText:
 
 def test_percent_of_rotation():
     assert percent(0.25) == "25 %"
+
+
+class TestMeterVolts:
+    # A 3.5-digit meter on its 20 V range shows two decimals (common practice, no source).
+    def test_two_decimals_in_volts(self):
+        assert range_text(Range(6.8712, 5.671, 7.70), "meter") == "6.87 V (5.67–7.70)"
+
+    def test_microvolts_read_as_zero(self):
+        assert range_text(Range(15.7e-6, 13.4e-6, 17.4e-6), "meter") == "0.00 V"
+
+    def test_no_negative_zero(self):
+        assert range_text(Range(-1e-4), "meter") == "0.00 V"

@@ -58,7 +58,21 @@ def _si(value: float | None, quantity: str, digits: int = 3) -> str:
 
 
 def _one(value: float, quantity: str) -> str:
-    return format_db(value) if quantity == "db" else format_value(value, quantity)
+    if quantity == "db":
+        return format_db(value)
+    if quantity == "meter":
+        return meter_volts(value)
+    return format_value(value, quantity)
+
+
+def meter_volts(volts: float) -> str:
+    """A DC voltage as a multimeter on its 20 V range shows it: "6.87 V", "0.00 V".
+
+    A builder compares the table with the meter's display, so the voltage table keeps one unit
+    and two decimals instead of switching to mV or µV (common practice, no source).
+    """
+    text = f"{volts:.2f}"
+    return f"{'0.00' if text == '-0.00' else text} V"
 
 
 @register_filter("range_text")
@@ -70,6 +84,8 @@ def range_text(value, quantity: str) -> str:
     if value.low is None or value.high is None:
         return nominal
     low, high = _one(value.low, quantity), _one(value.high, quantity)
+    if low == high == nominal:  # no spread at this precision
+        return nominal
     unit = nominal.partition(" ")[2]
     if low.endswith(" " + unit) and high.endswith(" " + unit):
         low, high = low.partition(" ")[0], high.partition(" ")[0]
