@@ -126,10 +126,9 @@ def knob_sweep(solved: Kit, node_in: str, node_out: str, knobs) -> tuple[KnobPoi
 
 def stage_voltages(solved: Kit, stage: Stage) -> tuple[Voltage, ...]:
     """Each test point's voltage to ground at every supply of the table."""
-    nodes = solved.kit._nodes(stage)
     out = []
     for tp in solved.kit.kind(stage).test_points(stage):
-        node = nodes.get(tp.node) or f"{stage.id}.{tp.node}"
+        node = solved.kit.node_of(stage, tp.node)
         readings = tuple(s.range(m.node_voltage(node)) for s in solved.by_supply)
         out.append(Voltage(tp.label, node, tp.device, tp.pin, readings[0], readings))
     return tuple(out)
