@@ -154,3 +154,25 @@ def test_text_uses_the_trade_units():
     text = specs_to_text(specs)
     assert "kΩ" in text and "mA" in text and "Hz" in text and " dB (" in text
     assert "e-0" not in text  # no raw floats
+
+
+def test_an_engine_error_is_placed_at_the_part_it_names(monkeypatch):
+    # A solve that fails inside derive_specs must still point at the guide line of its part.
+    from pathlib import Path
+
+    from kitleaf.circuit.build import build_circuit
+    from kitleaf.errors import SolveError
+    from kitleaf.guide import parse_guide
+    from kitleaf.specs import derive as derive_module
+
+    guide = parse_guide(Path(__file__).parent.parent / "guides" / "brookside-boost.md")
+    kit = build_circuit(guide)
+
+    def fail(*_args):
+        raise SolveError("the DC operating point did not converge near Q1")
+
+    monkeypatch.setattr(derive_module, "_derive", fail)
+    with pytest.raises(SolveError) as err:
+        derive_module.derive_specs(guide, kit)
+    q1 = next(p for p in kit.parts() if p.designator == "Q1")
+    assert err.value.span == q1.span

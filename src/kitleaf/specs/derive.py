@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
+from kitleaf.errors import KitleafError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.batch import SAMPLES, SEED
@@ -50,7 +51,18 @@ def supplies(rated_v: float) -> tuple[Supply, ...]:
 
 
 def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    """Every spec of the kit and its stages, computed from the parts."""
+    """Every spec of the kit and its stages, computed from the parts.
+
+    An engine error (a solve that did not converge, say) is placed at the guide line of the
+    part or stage it names, so the maker sees where to look.
+    """
+    try:
+        return _derive(guide, kit)
+    except KitleafError as exc:
+        raise kit.locate(exc) from None
+
+
+def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
     solved = Kit(kit)
     base = solved.base
     stages = tuple(stage_specs(solved, s) for s in kit.stages)
