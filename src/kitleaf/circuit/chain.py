@@ -26,21 +26,23 @@ class SignalSource:
     """What drives the kit's input: a guitar pickup or a source of some resistance.
 
     The default pickup is a series resistance and inductance with a parallel capacitance
-    (pickup plus a few metres of cable): 6.5 kΩ, 2.5 H, 470 pF (common practice, values from
-    memory, no source).
+    (pickup plus a few metres of cable), loaded inside the guitar by its own volume and tone
+    pots: 6.5 kΩ, 2.5 H, 470 pF and 250 kΩ (common practice, values from memory, no source).
+    The pots are what keeps a real pickup's resonance to a modest peak.
     """
 
     name: str
     resistance: float
     inductance: float = 0.0
     capacitance: float = 0.0
+    shunt: float = 0.0  # resistance across the source's output (the guitar's pots); 0: none
 
     @property
     def is_pickup(self) -> bool:
         return self.inductance > 0
 
 
-PICKUP = SignalSource("passive guitar pickup", 6.5e3, 2.5, 470e-12)
+PICKUP = SignalSource("passive guitar pickup", 6.5e3, 2.5, 470e-12, 250e3)
 LOW_Z = SignalSource("low-impedance source", 100.0)
 DEFAULT_LOAD = 1e6  # an amplifier input (common practice, no source)
 
@@ -214,6 +216,8 @@ def add_source(circuit: Circuit, source: SignalSource) -> None:
         circuit.resistor("RSRC", "src", "src.l", source.resistance)
         circuit.inductor("LSRC", "src.l", INPUT, source.inductance)
         circuit.capacitor("CSRC", INPUT, GROUND, source.capacitance)
+        if source.shunt > 0:
+            circuit.resistor("RPOTS", INPUT, GROUND, source.shunt)
     else:
         circuit.vsource(SOURCE, "src", GROUND, dc=0.0, ac=1.0)
         circuit.resistor("RSRC", "src", INPUT, source.resistance)
