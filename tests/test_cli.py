@@ -86,3 +86,10 @@ def test_specs_names_lists_what_prose_can_use(capsys):
     assert {"kit.gain", "kit.current", "boost.q1.collector", "r3"} <= names
     units = ("dB", "Hz", "Ω", "A", "V", "F", "H")
     assert all(any(u in row for u in units) for row in rows)
+
+
+def test_a_zero_kit_batch_is_a_clear_error(capsys):
+    assert main(["bom", str(DEMO / "brookside-boost.md"), "--kits", "0"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err == ["kitleaf bom: error: the number of kits must be a whole number of 1 or more, "
+                   "got 0"]

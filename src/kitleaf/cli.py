@@ -60,7 +60,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return COMMANDS[args.command](args)
     except KitleafError as exc:
-        print(exc, file=sys.stderr)
+        # An error with no guide line (a command-line value) still says who is speaking.
+        print(exc if exc.span else f"kitleaf {args.command}: {exc}", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
         print("kitleaf: interrupted; the previous site is untouched", file=sys.stderr)
