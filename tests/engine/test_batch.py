@@ -53,6 +53,23 @@ class TestSamplesMatchSingleSolves:
             np.testing.assert_allclose(np.abs(fast[i] - ac.solution).max(axis=1) / scale, 0.0,
                                        atol=1e-9)
 
+    def test_complex_poles_of_a_resonant_circuit(self):
+        # a series RLC driven from the source (Q about 10) rings: complex poles take the
+        # complex evaluation path, the real poles of the other circuits the real one; both
+        # must equal solve_ac
+        c = rc.boost()
+        c.resistor("RR", "in", "rl", 100.0).inductor("LT", "rl", "ring", 0.1, tol=0.1)
+        c.capacitor("CTR", "ring", "0", 100e-9)
+        batch = solve_batch(c, samples=8, seed=5)
+        form = batch.response(batch.excitation("VIN"), [batch.layout.row("ring")])
+        assert np.iscomplexobj(form.lambdas)
+        mc = monte_carlo(c, samples=8, seed=5)
+        freqs = np.geomspace(100.0, 10e3, 7)
+        for i in (0, 7):
+            sample = mc.sample(i)
+            ac = solve_ac(sample, solve_dc(sample), freqs, "VIN")
+            np.testing.assert_allclose(form(freqs)[i, :, 0], ac.voltage("ring"), rtol=1e-9)
+
     def test_direct_solve_agrees_with_the_pole_residue_form(self):
         batch = solve_batch(rc.boost(), samples=32, seed=9)
         rhs = batch.excitation("VIN")

@@ -24,23 +24,46 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     f = f[None, :] if f.ndim == 1 else f
     samples, width = alpha.shape[0], f.shape[1] * max(lambdas.shape[1], 1)
     out = np.empty((samples, f.shape[1], alpha.shape[1]), complex)
-    step = max(1, CHUNK // width)
+    real = not (np.iscomplexobj(lambdas) or np.iscomplexobj(residues))
+    kernel, terms = (_evaluate_real, CHUNK_REAL) if real else (_evaluate, CHUNK)
+    weights = _real_weights(residues, lambdas) if real else residues.transpose(0, 2, 1)
+    step = max(1, terms // width)
     for start in range(0, samples, step):
         block = slice(start, start + step)
-        out[block] = _evaluate(alpha[block], residues[block], lambdas[block],
-                               f if f.shape[0] == 1 else f[block])
+        kernel(out[block], alpha[block], weights[block], lambdas[block],
+               f if f.shape[0] == 1 else f[block])
     return out
 
 
 CHUNK = 1 << 16  # complex terms per block
+CHUNK_REAL = 1 << 16  # real terms per block
 
 
-def _evaluate(alpha, residues, lambdas, f):
+def _evaluate(out, alpha, residues_t, lambdas, f) -> None:
     s = 2j * np.pi * f  # (samples or 1, f)
     inverse = s[..., None] * lambdas[:, None, :]  # becomes 1 / (1 + s lambda), in place
     inverse += 1.0
     np.reciprocal(inverse, out=inverse)
-    return alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues.transpose(0, 2, 1))
+    out[:] = alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues_t)
+
+
+def _real_weights(residues: np.ndarray, lambdas: np.ndarray) -> np.ndarray:
+    """(samples, m, 2 rows): residues times lambdas, then residues, for _evaluate_real."""
+    return np.concatenate([residues * lambdas[:, None, :], residues], axis=1).transpose(0, 2, 1)
+
+
+def _evaluate_real(out, alpha, weights, lambdas, f) -> None:
+    """Real poles and residues: s r / (1 + s l) = (w^2 r l + j w r) / (1 + w^2 l^2), so one
+    real reciprocal per term and one real product for both parts (about twice as quick)."""
+    w = 2 * np.pi * f  # (samples or 1, f)
+    q = w[..., None] * lambdas[:, None, :]
+    np.square(q, out=q)
+    q += 1.0
+    np.reciprocal(q, out=q)
+    parts = np.matmul(q, weights)  # (samples, f, 2 rows)
+    rows = alpha.shape[1]
+    out.real = alpha.real[:, None, :] + (w * w)[..., None] * parts[..., :rows]
+    out.imag = alpha.imag[:, None, :] + w[..., None] * parts[..., rows:]
 
 
 def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
