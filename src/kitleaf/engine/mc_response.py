@@ -10,7 +10,7 @@ from kitleaf.engine.compile import System
 from kitleaf.engine.newton import Problem
 from kitleaf.engine.poles import half_power_crossings
 from kitleaf.engine.ports import PoleResidue, modal, port_form
-from kitleaf.engine.reduce import partition
+from kitleaf.engine.reduce import Reduced, partition
 from kitleaf.errors import SolveError
 
 GRID_PER_DECADE = 8
@@ -25,12 +25,13 @@ class McResponse:
 
 def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.ndarray,
                 source: str, freqs: np.ndarray, outputs: list[str],
-                band: tuple[float, float] | None, ref_hz: float | None) -> McResponse:
+                band: tuple[float, float] | None, ref_hz: float | None,
+                reduced: Reduced | None = None) -> McResponse:
     if source not in system.stamper.source_cols:
         raise SolveError(f"{source!r} is not a source of the circuit")
     rows = [system.layout.row(n) for n in outputs]
     ports = port_form(system, partition(system), problem, x, factors,
-                      system.rhs(only=source), rows)
+                      system.rhs(only=source), rows, reduced)
     form = modal(ports, float(freqs[0]))
     grid = corner_grid(freqs, band)
     gain, corners = {}, {}

@@ -149,14 +149,15 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
     system = compile_circuit(circuit)
     problem, factors, draws = draw_problem(system, samples, seed, distribution)
     state = nominal_state(system, problem, samples)
-    solve_reduced(problem, state, partition(system))
+    reduced = solve_reduced(problem, state, partition(system))
     dc = {n: state.x[:, _row(system, n)].copy() for n in nodes}
     response = None
     if outputs:
         if source is None or not len(freqs):
             raise SolveError("AC outputs need a source and at least one frequency")
         response = mc_response(system, problem, state.x, factors, source,
-                               np.asarray(freqs, float), list(outputs), corner_band, ref_hz)
+                               np.asarray(freqs, float), list(outputs), corner_band, ref_hz,
+                               reduced)
     return McResult(samples, seed, distribution, dc, response, circuit, factors, draws)
 
 

@@ -21,7 +21,7 @@ import numpy as np
 from kitleaf.engine.compile import System, incidence
 from kitleaf.engine.newton import Problem, extend
 from kitleaf.engine.poles import evaluate
-from kitleaf.engine.reduce import Partition
+from kitleaf.engine.reduce import Partition, Reduced
 
 AGREEMENT = 1e-6  # modal against direct port solve, relative; beyond it a sample is re-solved
 
@@ -76,14 +76,19 @@ class PoleResidue:
 
 
 def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
-              factors: np.ndarray | None, rhs: np.ndarray, rows: list[int]) -> PortForm:
+              factors: np.ndarray | None, rhs: np.ndarray, rows: list[int],
+              reduced: Reduced | None = None) -> PortForm:
     """The port system of unknowns ``rows`` for excitation ``rhs`` (1, n) at operating
-    points ``x``."""
-    g, a, d = _linearised(system, problem, x, factors)
+    points ``x``; ``reduced``, the DC reduction of the same ``problem``, saves eliminating
+    the linear rows again."""
+    g, a, d, used = _linearised(system, problem, x, factors)
     vf = part.values(rhs)
     r = rhs - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
-    x0, w = _schur_solve(g, part, np.concatenate([r[:, :, None],
-                                                  np.broadcast_to(a, (g.shape[0], *a.shape))], 2))
+    if reduced is not None and not rhs[:, part.rest].any():
+        x0, w = _reused_schur(g, part, reduced, r, a, vf, used)
+    else:
+        x0, w = _schur_solve(g, part, np.concatenate(
+            [r[:, :, None], np.broadcast_to(a, (g.shape[0], *a.shape))], 2))
     unknown = np.concatenate([part.keep, part.rest])
     a_u, a_f = a[unknown], a[part.fixed]
     dm = d[:, :, None] * (a_u.T @ w)
@@ -136,7 +141,7 @@ def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
         cap_a = np.concatenate([cap_a, incidence(system.layout.size, devices.cap_pairs())], 1)
         cap_d = np.concatenate([cap_d, devices.cap_values(v)], axis=1)
     used = np.any(cap_d != 0, axis=0) & np.any(cap_a != 0, axis=0)
-    return g, cap_a[:, used], cap_d[:, used]
+    return g, cap_a[:, used], cap_d[:, used], used
 
 
 def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.ndarray, ...]:
@@ -153,4 +158,22 @@ def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.nd
         back, z_rhs = z[:, :, :t], z[:, :, t:]
         y_keep = np.linalg.solve(g_uu[:, :t, :t] - g_kr @ back, rhs_u[:, :t] - g_kr @ z_rhs)
         y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
+    return y[:, :, :1], y[:, :, 1:]
+
+
+def _reused_schur(g: np.ndarray, part: Partition, reduced: Reduced, r: np.ndarray,
+                  a: np.ndarray, vf: np.ndarray, used: np.ndarray) -> tuple[np.ndarray, ...]:
+    """As _schur_solve, with G_LL^-1 G_LK, G_LL^-1 G_LF and G_LL^-1 A_L taken from the DC
+    reduction (the linear rows do not depend on the operating point); the excitation has
+    no entry on those rows, so r_L = -G_LF v_F."""
+    keep, rest, f = part.keep, part.rest, part.fixed.size
+    ports = reduced.ports
+    z_rhs = np.concatenate([-(ports[:, :, :f] @ vf[0])[:, :, None], ports[:, :, f:][:, :, used]],
+                           axis=2)
+    g_kr = g[:, keep][:, :, rest]
+    rhs_k = np.concatenate([r[:, keep, None], np.broadcast_to(a[keep], (g.shape[0], keep.size,
+                                                                           a.shape[1]))], 2)
+    back = reduced.back
+    y_keep = np.linalg.solve(g[:, keep][:, :, keep] - g_kr @ back, rhs_k - g_kr @ z_rhs)
+    y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
     return y[:, :, :1], y[:, :, 1:]

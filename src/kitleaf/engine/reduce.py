@@ -21,6 +21,7 @@ from scipy.linalg import LinAlgWarning
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.batch_lu import solve_many
+from kitleaf.engine.compile import incidence
 from kitleaf.engine.newton import Problem, State, initial_state, newton, solve_state
 from kitleaf.engine.nonlinear import Devices
 from kitleaf.errors import SolveError
@@ -40,6 +41,7 @@ class Partition:
     fixed_sign: np.ndarray  # v_node = sign * b[branch]
     rest: np.ndarray
     devices: Devices  # the device banks re-indexed into [x_T, ground, v_F]
+    cap_rest: np.ndarray | None = None  # the capacitances' incidence on the rest rows
 
     def values(self, b: np.ndarray) -> np.ndarray:
         """Fixed node voltages (1, f) from a right-hand side (1, n)."""
@@ -85,7 +87,9 @@ def _partition(system) -> Partition:
     index = part._index()
     moved = [dataclasses.replace(b, **{k: index[getattr(b, k)] for k in _INDEX_FIELDS})
              for b in system.families]
-    return dataclasses.replace(part, devices=Devices(moved, keep.size))
+    caps = np.concatenate([system.cap_columns()[0],
+                           incidence(n, system.devices.cap_pairs())], axis=1)
+    return dataclasses.replace(part, devices=Devices(moved, keep.size), cap_rest=caps[rest])
 
 
 def _looped_branches(system, known: set[int], fixed_branches: set[int]) -> list[int]:
@@ -121,6 +125,7 @@ class Reduced:
     part: Partition
     back: np.ndarray  # G_LL^-1 G_LT (s, l, t)
     base: np.ndarray  # G_LL^-1 r_L (s, l)
+    ports: np.ndarray  # G_LL^-1 [G_LF, A_L] (s, l, f + m), for the small-signal port system
 
     def expand(self, x_keep: np.ndarray, full: Problem) -> np.ndarray:
         """Full unknowns (s, n) from the kept ones; fixed sources' currents by balance."""
@@ -144,19 +149,18 @@ def reduce_problem(problem: Problem, part: Partition) -> Reduced:
     vf = part.values(problem.b)
     r = problem.b - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
     g_kr = g[:, keep][:, :, rest]
-    if rest.size:
-        lhs = g[:, rest][:, :, rest]
-        rhs = np.concatenate([g[:, rest][:, :, keep], r[:, rest, None]], axis=2)
-        solved = _solve(lhs, rhs)
-        back, base = solved[:, :, :-1], solved[:, :, -1]
-    else:
-        back = np.zeros((g.shape[0], 0, keep.size))
-        base = np.zeros((g.shape[0], 0))
+    g_r = g[:, rest]
+    caps = np.broadcast_to(part.cap_rest, (g.shape[0], *part.cap_rest.shape))
+    rhs = np.concatenate([g_r[:, :, keep], r[:, rest, None], g_r[:, :, part.fixed], caps], 2)
+    # one factorisation of G_LL serves Newton and, through ``ports``, the AC response
+    solved = _solve(g_r[:, :, rest], rhs) if rest.size else rhs
+    t = keep.size
+    back, base, ports = solved[:, :, :t], solved[:, :, t], solved[:, :, t + 1:]
     g_red = g[:, keep][:, :, keep] - g_kr @ back
     b_red = r[:, keep] - np.einsum("skl,sl->sk", g_kr, base)
     banks = problem.devices.banks
     reduced = Problem(g_red, b_red, part.remap(banks), part.node_count, vf)
-    return Reduced(reduced, part, back, base)
+    return Reduced(reduced, part, back, base, ports)
 
 
 def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -169,24 +173,27 @@ def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
             raise SolveError("the linear part of the circuit is singular") from None
 
 
-def solve_reduced(problem: Problem, state: State, part: Partition | None) -> str:
+def solve_reduced(problem: Problem, state: State, part: Partition | None) -> Reduced | None:
     """Solve ``state`` in place by Newton on the device rows; samples it does not settle (and
-    circuits it cannot reduce) take the full solver with its fallbacks."""
+    circuits it cannot reduce) take the full solver with its fallbacks. Returns the
+    reduction (None when there was none), whose elimination the AC response reuses."""
     if part is None or not problem.devices.banks:
-        return solve_state(problem, state)
+        solve_state(problem, state)
+        return None
     try:
         red = reduce_problem(problem, part)
     except SolveError:
-        return solve_state(problem, state)
+        solve_state(problem, state)
+        return None
     sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh)
     ok = newton(red.problem, sub)
     state.x, state.vstar, state.fresh = red.expand(sub.x, problem), sub.vstar, False
     if ok.all():
-        return "newton"
+        return red
     bad = np.flatnonzero(~ok)
     retry = initial_state(problem, bad.size)
-    method = solve_state(problem.take(bad), retry)
+    solve_state(problem.take(bad), retry)
     state.x[bad] = retry.x
     for whole, v in zip(state.vstar, retry.vstar, strict=True):
         whole[bad] = v
-    return method
+    return red
