@@ -19,6 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from kitleaf.engine.compile import System, incidence
+from kitleaf.engine.eigen import eig_batch
 from kitleaf.engine.newton import Problem, extend
 from kitleaf.engine.poles import evaluate
 from kitleaf.engine.reduce import Partition, Reduced
@@ -113,9 +114,9 @@ def _fixed_currents(full: np.ndarray, g: np.ndarray, a: np.ndarray, rhs: np.ndar
 
 def modal(ports: PortForm, check_hz: float) -> PoleResidue:
     """Diagonalise D M, checked against the direct port solve at ``check_hz``."""
-    lambdas, vecs = np.linalg.eig(ports.dm)
+    lambdas, vecs, inv = eig_batch(ports.dm)
     # real when every pole is (numpy keeps the eigenvectors real then), which halves the work
-    weights = np.linalg.solve(vecs, ports.z[..., None].astype(vecs.dtype))[..., 0]
+    weights = (inv @ ports.z[..., None].astype(vecs.dtype))[..., 0]
     residues = -(ports.w @ vecs) * weights[:, None, :]
     form = PoleResidue(ports.x0, residues, lambdas, ports, np.zeros(0, int))
     f = np.array([check_hz])
