@@ -22,7 +22,7 @@ import time
 from pathlib import Path
 
 from kitleaf.eseries import nearest_in_series, series
-from kitleaf.site.build import build_site
+from kitleaf.site.build import BuildFailed, build_site
 from kitleaf.site.pool import default_jobs
 from kitleaf.values import format_rkm, parse_value
 
@@ -132,6 +132,9 @@ def main() -> int:
     jobs = args.jobs or default_jobs()
     try:
         run(root, args.guides, jobs)
+    except BuildFailed as failed:
+        print("\n".join(str(e) for e in failed.errors[:5]), file=sys.stderr)
+        raise
     finally:
         if args.keep is None:
             shutil.rmtree(root, ignore_errors=True)
