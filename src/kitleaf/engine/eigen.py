@@ -85,12 +85,16 @@ def _off_diagonal(a: np.ndarray, vecs: np.ndarray, inv: np.ndarray):
 
 def _sweep(off: np.ndarray, values: np.ndarray, vecs: np.ndarray, inv: np.ndarray):
     """One Newton step on the eigenvectors, and one Newton-Schulz step on their inverse."""
-    gaps = values[:, None, :] - values[:, :, None]
-    gaps[:, np.eye(values.shape[1], dtype=bool)] = 1.0  # the diagonal of ``off`` is zero
-    p = off / gaps
-    vecs = vecs + vecs @ p
-    inv = inv - p @ inv
-    return vecs, inv @ (2 * np.eye(values.shape[1]) - vecs @ inv)
+    eye = np.eye(values.shape[1])
+    p = values[:, None, :] - values[:, :, None]
+    p += eye  # the diagonal of ``off`` is zero: any non-zero divisor there
+    np.divide(off, p, out=p)
+    vecs = vecs @ (p + eye)
+    p -= eye
+    inv = -(p @ inv)  # (I - P) W, the first-order inverse ...
+    ns = vecs @ inv
+    np.subtract(2 * eye, ns, out=ns)
+    return vecs, inv @ ns  # ... made exact again by a Newton-Schulz step
 
 
 def _settled(off: np.ndarray, values: np.ndarray, product: np.ndarray) -> np.ndarray:

@@ -48,22 +48,23 @@ def _evaluate(out, alpha, residues_t, lambdas, f) -> None:
 
 
 def _real_weights(residues: np.ndarray, lambdas: np.ndarray) -> np.ndarray:
-    """(samples, m, 2 rows): residues times lambdas, then residues, for _evaluate_real."""
-    return np.concatenate([residues * lambdas[:, None, :], residues], axis=1).transpose(0, 2, 1)
+    """(samples, 2 rows, m): residues times lambdas, then residues, for _evaluate_real."""
+    return np.concatenate([residues * lambdas[:, None, :], residues], axis=1)
 
 
 def _evaluate_real(out, alpha, weights, lambdas, f) -> None:
     """Real poles and residues: s r / (1 + s l) = (w^2 r l + j w r) / (1 + w^2 l^2), so one
-    real reciprocal per term and one real product for both parts (about twice as quick)."""
+    real reciprocal per term and one real product for both parts (about twice as quick).
+    Laid out (samples, m, f) so the long frequency axis is the inner one."""
     w = 2 * np.pi * f  # (samples or 1, f)
-    q = w[..., None] * lambdas[:, None, :]
+    q = lambdas[:, :, None] * w[:, None, :]
     np.square(q, out=q)
     q += 1.0
     np.reciprocal(q, out=q)
-    parts = np.matmul(q, weights)  # (samples, f, 2 rows)
+    parts = np.matmul(weights, q)  # (samples, 2 rows, f)
     rows = alpha.shape[1]
-    out.real = alpha.real[:, None, :] + (w * w)[..., None] * parts[..., :rows]
-    out.imag = alpha.imag[:, None, :] + w[..., None] * parts[..., rows:]
+    out.real = alpha.real[:, None, :] + ((w * w)[:, None, :] * parts[:, :rows]).transpose(0, 2, 1)
+    out.imag = alpha.imag[:, None, :] + (w[:, None, :] * parts[:, rows:]).transpose(0, 2, 1)
 
 
 def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,

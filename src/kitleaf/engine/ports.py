@@ -97,7 +97,8 @@ def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
     full = np.zeros((g.shape[0], part.size, 1 + a.shape[1]))
     full[:, unknown] = np.concatenate([x0, w], axis=2)
     full[:, part.fixed, 0] = vf
-    _fixed_currents(full, g, a, rhs, part)
+    if np.isin(rows, part.fixed_branch).any():  # Monte Carlo's outputs are nodes: skipped
+        _fixed_currents(full, g, a, rhs, part)
     return PortForm(full[:, rows, 0], full[:, rows, 1:], dm, z)
 
 
