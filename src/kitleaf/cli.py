@@ -30,6 +30,7 @@ def parser() -> argparse.ArgumentParser:
     b.add_argument("guides", nargs="?", default="guides", type=Path)
     b.add_argument("-o", "--out", default="site", type=Path, help="output folder (site/)")
     b.add_argument("--strict", action="store_true", help="treat design-rule warnings as errors")
+    _add_build_options(b)
     c = sub.add_parser("check", help="parse and solve every guide without rendering")
     c.add_argument("guides", nargs="?", default="guides", type=Path)
     c.add_argument("--strict", action="store_true", help="treat design-rule warnings as errors")
@@ -41,6 +42,7 @@ def parser() -> argparse.ArgumentParser:
     s.add_argument("-o", "--out", default="site", type=Path)
     s.add_argument("--port", default=8400, type=int)
     s.add_argument("--host", default="127.0.0.1", help="address to listen on (127.0.0.1)")
+    _add_build_options(s)
     sp = sub.add_parser("specs", help="print a guide's computed specs")
     sp.add_argument("file", type=Path)
     sp.add_argument("--json", action="store_true", help="as JSON (the documented schema)")
@@ -52,6 +54,12 @@ def parser() -> argparse.ArgumentParser:
     bo.add_argument("--kits", type=int, help="order for a batch of N kits")
     bo.add_argument("--spares", default="0%", help="spares per line, e.g. 10%%")
     return p
+
+
+def _add_build_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("-j", "--jobs", type=int, default=None,
+                   help="processes to build with (default: every core)")
+    p.add_argument("--no-cache", action="store_true", help="build everything afresh")
 
 
 def main(argv: Sequence[str] | None = None) -> int:
