@@ -78,6 +78,4 @@ def _corners(response, grid: np.ndarray, mags: np.ndarray, ref_hz: float | None)
     else:
         start = np.full(samples, float(ref_hz))
         ref = np.abs(response(np.array([ref_hz])))[:, 0]
-    low = half_power_crossings(response, ref, grid, mags, start, upward=False)
-    high = half_power_crossings(response, ref, grid, mags, start, upward=True)
-    return low, high
+    return half_power_crossings(response, ref, grid, mags, start)

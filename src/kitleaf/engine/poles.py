@@ -90,11 +90,20 @@ def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarr
 
 
 def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.ndarray,
-                         start: np.ndarray, upward: bool) -> np.ndarray:
-    """Per sample, the first frequency from ``start`` along ``grid`` where |response| falls
-    below ref / sqrt(2) (``mags`` is |response| on the grid), refined by the Illinois variant
-    of regula falsi in log f; NaN when there is none."""
+                         start: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per sample, the first frequencies below and above ``start`` along ``grid`` where
+    |response| falls below ref / sqrt(2) (``mags`` is |response| on the grid), refined by
+    the Illinois variant of regula falsi in log f, both sides at once; NaN where there is
+    none. ``response`` takes per-sample frequencies (samples, 2)."""
     target = ref / np.sqrt(2.0)
+    sides = [_bracket(ref, target, grid, mags, start, upward) for upward in (False, True)]
+    found, a, b, fa, fb = (np.stack(parts, axis=1) for parts in zip(*sides, strict=True))
+    roots = np.where(found, np.exp(_illinois(response, target[:, None], a, b, fa, fb)), np.nan)
+    return roots[:, 0], roots[:, 1]
+
+
+def _bracket(ref, target, grid, mags, start, upward: bool):
+    """(found, a, b, f(a), f(b)): the grid interval in log f holding the first crossing."""
     side = grid[None, :] > start[:, None] if upward else grid[None, :] < start[:, None]
     below = (mags < target[:, None]) & side
     walk = below if upward else below[:, ::-1]
@@ -108,16 +117,17 @@ def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.n
     b = np.log(grid[idx])
     fa = np.where(inside, mags[rows, nb], ref) / target - 1.0
     fb = mags[rows, idx] / target - 1.0
-    return np.where(found, np.exp(_illinois(response, target, a, b, fa, fb)), np.nan)
+    return found, a, b, fa, fb
 
 
 def _illinois(response, target, a, b, fa, fb, iterations: int = 40) -> np.ndarray:
-    """Vectorised Illinois root-finding of |response(e^x)| / target - 1 on brackets [a, b]."""
+    """Vectorised Illinois root-finding of |response(e^x)| / target - 1 on brackets [a, b],
+    each (samples, k)."""
     for _ in range(iterations):
         with np.errstate(invalid="ignore", divide="ignore"):
             c = np.where(fb != fa, (a * fb - b * fa) / (fb - fa), (a + b) / 2.0)
         c = np.where(np.isfinite(c), c, (a + b) / 2.0)
-        fc = np.abs(response(np.exp(c)[:, None]))[:, 0] / target - 1.0
+        fc = np.abs(response(np.exp(c))) / target - 1.0
         flip = fc * fb < 0
         a, fa = np.where(flip, b, a), np.where(flip, fb, fa / 2.0)
         b, fb = c, fc
