@@ -1,1 +1,1 @@
-"""render"""
+"""Rendering: schematics (schemdraw), response plots (matplotlib), prose and HTML pages."""

@@ -1,1 +1,1 @@
-"""site"""
+"""The site: every guide built (cached, in parallel), published atomically, served for preview."""
