@@ -3,17 +3,29 @@
 One panel per knob (one curve per knob position), the part-tolerance band shaded behind, the
 -3 dB corners marked. Curves differ in line style as well as colour, so the plot reads the same
 in greyscale print. Every figure gets its own canvas and rc_context; nothing global is touched.
+
+The frame, grid, ticks, their labels and the legend are drawn here as a few plain artists in a
+fixed layout rather than by matplotlib's axis and legend machinery: that machinery builds a
+dozen artists per tick and measures every label for placement, and cost about two thirds of a
+plot's time.
 """
 
 from __future__ import annotations
 
+import functools
 import io
 from dataclasses import dataclass
 
 import matplotlib
 from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.collections import LineCollection
 from matplotlib.figure import Figure
-from matplotlib.ticker import FixedLocator, FuncFormatter, NullLocator
+from matplotlib.font_manager import FontProperties
+from matplotlib.lines import TICKDOWN, TICKLEFT, Line2D
+from matplotlib.patches import Rectangle
+from matplotlib.textpath import text_to_path
+from matplotlib.ticker import MaxNLocator
+from matplotlib.transforms import Affine2D, ScaledTranslation, offset_copy
 
 from kitleaf.values import format_value
 
@@ -28,15 +40,19 @@ RC = {
     "svg.fonttype": "none",
     "font.family": "DejaVu Sans",
     "font.size": 9,
-    "axes.grid": True,
-    "axes.edgecolor": "#444444",
-    "grid.color": "#d5d8dc",
-    "grid.linewidth": 0.6,
-    "legend.frameon": False,
 }
+FRAME_COLOUR = "#444444"
+GRID_COLOUR = "#d5d8dc"
+FONT = FontProperties(family="DejaVu Sans", size=9)
+LEGEND_PT = 7.5  # legend and corner labels
+TICK_PT, PAD_PT = 3.5, 3.5  # tick length and the gap to its label, in points
+LABEL_PAD_PT = 5.0  # from the tick labels to the axis label
+LINE_EM = 1.17  # DejaVu Sans's line height in font sizes
 DECADES = (10.0, 100.0, 1e3, 1e4)
+DECADE_LABELS = tuple(format_value(d, "frequency") for d in DECADES)
 MINOR = tuple(m * d for d in (10.0, 100.0, 1e3, 1e4) for m in (2, 3, 4, 5, 6, 7, 8, 9))
 WIDTH_IN = 7.2
+PANEL_IN, TOP_IN, BOTTOM_IN, LEFT_IN, RIGHT_IN = 2.45, 0.42, 0.5, 0.62, 1.95
 SPAN_DB = 60.0  # dB shown below the highest curve; quieter curves leave the bottom edge
 
 
@@ -91,13 +107,14 @@ def render_response_png(plot: ResponsePlot, dpi: int = 110) -> bytes:
 
 def draw_figure(plot: ResponsePlot) -> Figure:
     rows = max(len(plot.panels), 1)
-    height = 0.75 + 2.45 * rows
+    height = 0.75 + PANEL_IN * rows
     fig = Figure(figsize=(WIDTH_IN, height), dpi=100)
     FigureCanvasSVG(fig)
     # Fixed margins in inches (a layout engine costs more than the drawing itself).
-    fig.subplots_adjust(left=0.62 / WIDTH_IN, right=1 - 1.95 / WIDTH_IN, top=1 - 0.42 / height,
-                        bottom=0.5 / height, hspace=0.55 / 2.45 * rows)
-    fig.suptitle(plot.title, fontsize=10, fontweight="bold", x=0.02, ha="left")
+    fig.subplots_adjust(left=LEFT_IN / WIDTH_IN, right=1 - RIGHT_IN / WIDTH_IN,
+                        top=1 - TOP_IN / height, bottom=BOTTOM_IN / height,
+                        hspace=0.55 / PANEL_IN * rows)
+    fig.text(0.02, 0.98, plot.title, fontsize=10, fontweight="bold", ha="left", va="top")
     for i, panel in enumerate(plot.panels):
         ax = fig.add_subplot(rows, 1, i + 1)
         _draw(ax, plot.freqs, panel, last=i == rows - 1)
@@ -107,19 +124,20 @@ def draw_figure(plot: ResponsePlot) -> Figure:
 def _draw(ax, freqs: tuple[float, ...], panel: Panel, last: bool) -> None:
     top = max(max(c.gain_db) for c in panel.curves)
     floor = max(min(min(c.gain_db) for c in panel.curves), top - SPAN_DB)
+    entries = []  # (handle, label) for the legend, in drawing order
     if panel.band_low:
         ax.fill_between(freqs, panel.band_low, panel.band_high, color=BAND_COLOUR,
-                        linewidth=0, label="part tolerances (5–95 %)", zorder=1)
+                        linewidth=0, zorder=1)
+        entries.append((None, "part tolerances (5–95 %)"))
     for i, curve in enumerate(panel.curves):
         colour, dashes, width = STYLES[_style(i, len(panel.curves))]
         below = max(curve.gain_db) < floor
-        ax.plot(freqs, curve.gain_db, color=colour, linestyle=dashes, linewidth=width, zorder=3,
-                label=curve.label + (" (below the plot)" if below else ""))
-    for hz, label in panel.corners:
-        ax.axvline(hz, color=CORNER_COLOUR, linestyle=(0, (2, 2)), linewidth=0.9, zorder=2)
-        ax.annotate(label, (hz, 1.0), xycoords=("data", "axes fraction"), xytext=(3, -3),
-                    textcoords="offset points", va="top", fontsize=7.5, color="#333333")
+        ax.plot(freqs, curve.gain_db, color=colour, linestyle=dashes, linewidth=width, zorder=3)
+        entries.append(((colour, dashes, width), curve.label + (" (below the plot)" if below
+                                                                else "")))
+    _corners(ax, panel.corners)
     _axes(ax, freqs, floor - 3.0, top + 6.0, panel.title, last)
+    _legend(ax, entries)
 
 
 def _style(i: int, count: int) -> int:
@@ -127,19 +145,117 @@ def _style(i: int, count: int) -> int:
     return 2 if count == 1 else i % len(STYLES)
 
 
+def _corners(ax, corners: tuple[tuple[float, str], ...]) -> None:
+    if not corners:
+        return
+    _rules(ax, [hz for hz, _ in corners], ax.get_xaxis_transform(), color=CORNER_COLOUR,
+           linestyle=(0, (2, 2)), linewidth=0.9, zorder=2)
+    at = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, x=3, y=-3, units="points")
+    for hz, label in corners:
+        ax.figure.text(hz, 1.0, label, transform=at, va="top", fontsize=LEGEND_PT,
+                       color="#333333")
+
+
+def _rules(ax, values, transform, **style) -> None:
+    """Lines across the panel at ``values`` (x in a blended x transform, or y), one collection
+    added as is: ``vlines`` would also work out data limits we set by hand anyway."""
+    flip = transform is ax.get_yaxis_transform()
+    segments = [((0, v), (1, v)) if flip else ((v, 0), (v, 1)) for v in values]
+    ax.add_collection(LineCollection(segments, transform=transform, **style), autolim=False)
+
+
 def _axes(ax, freqs, low: float, high: float, title: str, last: bool) -> None:
+    """Limits, frame, grid, ticks and labels as a few plain artists (see the module note)."""
     ax.set_xscale("log")
     ax.set_xlim(freqs[0], freqs[-1])
     ax.set_ylim(low, high)
-    ax.xaxis.set_major_locator(FixedLocator(DECADES))
-    ax.xaxis.set_minor_locator(NullLocator())
-    ax.xaxis.set_major_formatter(FuncFormatter(lambda x, _: format_value(x, "frequency")))
+    ax.set_axis_off()
+    fig = ax.figure
+    ax.add_artist(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False, clip_on=False,
+                            edgecolor=FRAME_COLOUR, linewidth=0.8, zorder=2.5))
     # The in-between lines as one collection: far cheaper to draw than minor ticks.
-    ax.vlines(MINOR, 0, 1, transform=ax.get_xaxis_transform(), linewidth=0.3,
-              color="#e5e8e8", zorder=0)
-    ax.set_ylabel("Gain (dB)")
+    _rules(ax, MINOR, ax.get_xaxis_transform(), linewidth=0.3, color="#e5e8e8", zorder=0)
+    values = _y_ticks(ax, low, high)
+    _rules(ax, DECADES, ax.get_xaxis_transform(), color=GRID_COLOUR, linewidth=0.6,
+           zorder=1.5)
+    _rules(ax, values, ax.get_yaxis_transform(), color=GRID_COLOUR, linewidth=0.6, zorder=1.5)
+    _x_labels(ax)
+    width = _y_labels(ax, values)
+    fig.text(0, 0.5, "Gain (dB)", rotation=90, ha="right", va="center", fontproperties=FONT,
+             transform=offset_copy(ax.transAxes, fig=fig, units="points",
+                                   x=-(TICK_PT + PAD_PT + width + LABEL_PAD_PT)))
     if last:
-        ax.set_xlabel("Frequency")
+        fig.text(0.5, 0, "Frequency", ha="center", va="top", fontproperties=FONT,
+                 transform=offset_copy(ax.transAxes, fig=fig, units="points",
+                                       y=-(TICK_PT + PAD_PT + LINE_EM * FONT.get_size()
+                                          + LABEL_PAD_PT)))
     if title:
-        ax.set_title(title, fontsize=9, loc="left")
-    ax.legend(loc="center left", bbox_to_anchor=(1.01, 0.5), fontsize=7.5, handlelength=3.2)
+        ax.set_title(title, fontsize=9, loc="left", y=1.0)  # a fixed y skips a layout pass
+
+
+def _y_ticks(ax, low: float, high: float) -> list[float]:
+    """Round steps as matplotlib's own locator picks them, one per two label heights."""
+    height_pt = ax.get_position().height * ax.figure.get_figheight() * 72
+    locator = MaxNLocator(nbins=max(int(height_pt // (2 * FONT.get_size())), 1),
+                          steps=[1, 2, 2.5, 5, 10])
+    span = (high - low) * 1e-9
+    return [float(v) for v in locator.tick_values(low, high) if low - span <= v <= high + span]
+
+
+def _x_labels(ax) -> None:
+    ax.figure.add_artist(Line2D(DECADES, [0] * len(DECADES), transform=ax.get_xaxis_transform(),
+                                linestyle="none", marker=TICKDOWN, markersize=TICK_PT,
+                                markeredgewidth=0.8, color="black"))
+    at = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, y=-(TICK_PT + PAD_PT),
+                     units="points")
+    for hz, label in zip(DECADES, DECADE_LABELS, strict=True):
+        ax.figure.text(hz, 0, label, transform=at, ha="center", va="top", fontproperties=FONT)
+
+
+def _y_labels(ax, values: list[float]) -> float:
+    """Tick marks and labels on the left edge; returns the widest label's width in points."""
+    ax.figure.add_artist(Line2D([0] * len(values), values, transform=ax.get_yaxis_transform(),
+                                linestyle="none", marker=TICKLEFT, markersize=TICK_PT,
+                                markeredgewidth=0.8, color="black"))
+    at = offset_copy(ax.get_yaxis_transform(), fig=ax.figure, x=-(TICK_PT + PAD_PT),
+                     units="points")
+    labels = _number_labels(values)
+    for value, label in zip(values, labels, strict=True):
+        ax.figure.text(0, value, label, transform=at, ha="right", va="center_baseline",
+                       fontproperties=FONT)
+    return max(map(_width_pt, labels), default=0.0)
+
+
+@functools.lru_cache(maxsize=256)
+def _width_pt(text: str) -> float:
+    """A label's width in points (font metrics only, so the same in every figure)."""
+    return text_to_path.get_text_width_height_descent(text, FONT, ismath=False)[0]
+
+
+def _number_labels(values: list[float]) -> list[str]:
+    """As few decimals as tell the ticks apart exactly, the same for all; a true minus sign."""
+    decimals = next((d for d in range(4)
+                     if all(abs(round(v, d) - v) < 1e-9 for v in values)), 3)
+    return [f"{v:.{decimals}f}".replace("-", "\u2212") if round(v, decimals) else
+            f"{0:.{decimals}f}" for v in values]
+
+
+def _legend(ax, entries: list) -> None:
+    """Handles and labels in a column centred beside the panel, in points from its anchor."""
+    row = LEGEND_PT * (LINE_EM + 0.5)  # a line and half a font size between lines
+    handle, gap = 3.2 * LEGEND_PT, 0.8 * LEGEND_PT
+    anchor = Affine2D().scale(1 / 72) + ax.figure.dpi_scale_trans + ScaledTranslation(
+        1.01, 0.5, ax.transAxes)
+    x0 = 0.9 * LEGEND_PT  # matplotlib's border padding and the gap to the axes
+    for k, (style, label) in enumerate(entries):
+        y = row * ((len(entries) - 1) / 2 - k)
+        if style is None:
+            ax.figure.add_artist(Rectangle((x0, y - 0.35 * LEGEND_PT), handle,
+                                           0.7 * LEGEND_PT, transform=anchor,
+                                           color=BAND_COLOUR, linewidth=0))
+        else:
+            colour, dashes, width = style
+            ax.figure.add_artist(Line2D([x0, x0 + handle], [y, y], transform=anchor,
+                                        color=colour, linestyle=dashes, linewidth=width))
+        ax.figure.text(x0 + handle + gap, y, label, transform=anchor, va="center", ha="left",
+                       fontsize=LEGEND_PT)
