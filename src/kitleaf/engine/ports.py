@@ -19,7 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from kitleaf.engine.compile import System, incidence
-from kitleaf.engine.eigen import eig_batch
+from kitleaf.engine.deflate import eig_split
 from kitleaf.engine.newton import Problem, extend
 from kitleaf.engine.poles import evaluate
 from kitleaf.engine.reduce import Partition, Reduced
@@ -124,8 +124,9 @@ def _fixed_currents(full: np.ndarray, g: np.ndarray, a: np.ndarray, rhs: np.ndar
 
 
 def modal(ports: PortForm, check_hz: float) -> PoleResidue:
-    """Diagonalise D M, checked against the direct port solve at ``check_hz``."""
-    lambdas, vecs, inv = eig_batch(ports.dm)
+    """Diagonalise D M (very slow ports split off first, see deflate), checked against the
+    direct port solve at ``check_hz``."""
+    lambdas, vecs, inv = eig_split(ports.dm)
     # real when every pole is (numpy keeps the eigenvectors real then), which halves the work
     weights = (inv @ ports.z[..., None].astype(vecs.dtype))[..., 0]
     residues = -(ports.w @ vecs) * weights[:, None, :]
