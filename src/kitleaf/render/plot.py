@@ -17,6 +17,7 @@ import io
 from dataclasses import dataclass
 
 import matplotlib
+import numpy as np
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.collections import LineCollection
 from matplotlib.figure import Figure
@@ -48,9 +49,11 @@ LEGEND_PT = 7.5  # legend and corner labels
 TICK_PT, PAD_PT = 3.5, 3.5  # tick length and the gap to its label, in points
 LABEL_PAD_PT = 5.0  # from the tick labels to the axis label
 LINE_EM = 1.17  # DejaVu Sans's line height in font sizes
-DECADES = (10.0, 100.0, 1e3, 1e4)
-DECADE_LABELS = tuple(format_value(d, "frequency") for d in DECADES)
-MINOR = tuple(m * d for d in (10.0, 100.0, 1e3, 1e4) for m in (2, 3, 4, 5, 6, 7, 8, 9))
+# The x axis is linear in log10(f): the same picture as a log scale, without the scale
+# object and the non-affine transform matplotlib builds and applies for one on every draw.
+DECADES = (1.0, 2.0, 3.0, 4.0)
+DECADE_LABELS = tuple(format_value(10**d, "frequency") for d in DECADES)
+MINOR = tuple(float(np.log10(m)) + d for d in DECADES for m in (2, 3, 4, 5, 6, 7, 8, 9))
 WIDTH_IN = 7.2
 PANEL_IN, TOP_IN, BOTTOM_IN, LEFT_IN, RIGHT_IN = 2.45, 0.42, 0.5, 0.62, 1.95
 SPAN_DB = 60.0  # dB shown below the highest curve; quieter curves leave the bottom edge
@@ -117,26 +120,26 @@ def draw_figure(plot: ResponsePlot) -> Figure:
     fig.text(0.02, 0.98, plot.title, fontsize=10, fontweight="bold", ha="left", va="top")
     for i, panel in enumerate(plot.panels):
         ax = fig.add_subplot(rows, 1, i + 1)
-        _draw(ax, plot.freqs, panel, last=i == rows - 1)
+        _draw(ax, np.log10(plot.freqs), panel, last=i == rows - 1)
     return fig
 
 
-def _draw(ax, freqs: tuple[float, ...], panel: Panel, last: bool) -> None:
+def _draw(ax, log_f: np.ndarray, panel: Panel, last: bool) -> None:
     top = max(max(c.gain_db) for c in panel.curves)
     floor = max(min(min(c.gain_db) for c in panel.curves), top - SPAN_DB)
     entries = []  # (handle, label) for the legend, in drawing order
     if panel.band_low:
-        ax.fill_between(freqs, panel.band_low, panel.band_high, color=BAND_COLOUR,
+        ax.fill_between(log_f, panel.band_low, panel.band_high, color=BAND_COLOUR,
                         linewidth=0, zorder=1)
         entries.append((None, "part tolerances (5–95 %)"))
     for i, curve in enumerate(panel.curves):
         colour, dashes, width = STYLES[_style(i, len(panel.curves))]
         below = max(curve.gain_db) < floor
-        ax.plot(freqs, curve.gain_db, color=colour, linestyle=dashes, linewidth=width, zorder=3)
+        ax.plot(log_f, curve.gain_db, color=colour, linestyle=dashes, linewidth=width, zorder=3)
         entries.append(((colour, dashes, width), curve.label + (" (below the plot)" if below
                                                                 else "")))
     _corners(ax, panel.corners)
-    _axes(ax, freqs, floor - 3.0, top + 6.0, panel.title, last)
+    _axes(ax, log_f, floor - 3.0, top + 6.0, panel.title, last)
     _legend(ax, entries)
 
 
@@ -148,11 +151,11 @@ def _style(i: int, count: int) -> int:
 def _corners(ax, corners: tuple[tuple[float, str], ...]) -> None:
     if not corners:
         return
-    _rules(ax, [hz for hz, _ in corners], ax.get_xaxis_transform(), color=CORNER_COLOUR,
+    _rules(ax, [np.log10(hz) for hz, _ in corners], ax.get_xaxis_transform(), color=CORNER_COLOUR,
            linestyle=(0, (2, 2)), linewidth=0.9, zorder=2)
     at = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, x=3, y=-3, units="points")
     for hz, label in corners:
-        ax.figure.text(hz, 1.0, label, transform=at, va="top", fontsize=LEGEND_PT,
+        ax.figure.text(np.log10(hz), 1.0, label, transform=at, va="top", fontsize=LEGEND_PT,
                        color="#333333")
 
 
@@ -164,10 +167,9 @@ def _rules(ax, values, transform, **style) -> None:
     ax.add_collection(LineCollection(segments, transform=transform, **style), autolim=False)
 
 
-def _axes(ax, freqs, low: float, high: float, title: str, last: bool) -> None:
+def _axes(ax, log_f: np.ndarray, low: float, high: float, title: str, last: bool) -> None:
     """Limits, frame, grid, ticks and labels as a few plain artists (see the module note)."""
-    ax.set_xscale("log")
-    ax.set_xlim(freqs[0], freqs[-1])
+    ax.set_xlim(log_f[0], log_f[-1])
     ax.set_ylim(low, high)
     ax.set_axis_off()
     fig = ax.figure
@@ -208,8 +210,8 @@ def _x_labels(ax) -> None:
                                 markeredgewidth=0.8, color="black"))
     at = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, y=-(TICK_PT + PAD_PT),
                      units="points")
-    for hz, label in zip(DECADES, DECADE_LABELS, strict=True):
-        ax.figure.text(hz, 0, label, transform=at, ha="center", va="top", fontproperties=FONT)
+    for decade, label in zip(DECADES, DECADE_LABELS, strict=True):
+        ax.figure.text(decade, 0, label, transform=at, ha="center", va="top", fontproperties=FONT)
 
 
 def _y_labels(ax, values: list[float]) -> float:
