@@ -14,6 +14,10 @@ RELTOL = 1e-9
 VNTOL = 1e-9  # volts
 ABSTOL = 1e-14  # amperes, for branch-current unknowns
 MAX_ITER = 100
+# A step this far inside the tolerance (in units of it) whose size predicts the next one
+# below PREDICTED (quadratic convergence: next ~ step**3 / previous**2) ends the iteration.
+PREDICTED = 1e-2
+QUADRATIC_REACH = RELTOL ** -0.5 * 0.1  # the step's relative size squared <= 1e-2 RELTOL
 
 
 @dataclass(frozen=True)
@@ -84,6 +88,7 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
     shunt[: problem.node_count] = gshunt
     tol_abs = np.where(np.arange(size) < problem.node_count, VNTOL, ABSTOL)
     done = np.zeros(state.x.shape[0], dtype=bool)
+    previous = np.full(done.size, np.inf)  # the last unlimited step, in tolerance units
     active, sub = np.arange(done.size), problem
     for _ in range(max_iter):
         full = active.size == done.size  # then the state itself is stepped, no copies
@@ -92,8 +97,9 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
         step, limited = _step(sub, part, shunt, scale)
         with np.errstate(invalid="ignore"):
             new_x = part.x + step
-            small = np.abs(step) <= RELTOL * np.maximum(np.abs(new_x), np.abs(part.x)) + tol_abs
-        finite = np.all(np.isfinite(new_x), axis=1)
+            norm = np.max(np.abs(step) / (RELTOL * np.maximum(np.abs(new_x), np.abs(part.x))
+                                          + tol_abs), axis=1)
+        finite = np.isfinite(norm)
         new_x = np.where(finite[:, None], new_x, part.x)
         if full:
             state.x = new_x
@@ -103,13 +109,26 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
                 whole[active] = v
         state.iterations[active] += 1
         state.fresh = False
-        done[active] = np.all(small, axis=1) & ~limited & finite
+        done[active] = _converged(norm, previous[active]) & ~limited & finite
+        previous[active] = np.where(limited, np.inf, norm)
         if done.all():
             break
         if np.count_nonzero(~done) < active.size:
             active = np.flatnonzero(~done)
             sub = problem.take(active)
     return done
+
+
+def _converged(norm: np.ndarray, previous: np.ndarray) -> np.ndarray:
+    """Steps within tolerance (``norm`` <= 1, in units of it), or steps that predict the
+    next one far inside it: Newton's error squares each step, so after steps of sizes p and
+    n the next is about n**3 / p**2. Accepting those saves the step that would only
+    confirm convergence; the step must be well inside the quadratic regime (its relative
+    size squared far under RELTOL) and smaller than the step before (an unlimited one)."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        predicted = norm ** 3 / previous ** 2
+    return (norm <= 1.0) | ((norm < previous) & (norm <= QUADRATIC_REACH)
+                            & (predicted <= PREDICTED))
 
 
 def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
