@@ -59,48 +59,78 @@ def _refine(a: np.ndarray, vecs0: np.ndarray, inv0: np.ndarray):
     vecs = np.broadcast_to(vecs0, a.shape).copy()
     inv = np.broadcast_to(inv0, a.shape).copy()
     settled = np.zeros(a.shape[0], dtype=bool)
-    active = np.arange(a.shape[0])
+    active, work = np.arange(a.shape[0]), _Work(a, vecs, inv)
     with np.errstate(all="ignore"):  # a diverging sample is caught below and re-solved
         for sweep in range(MAX_SWEEPS + 1):
-            whole = active.size == a.shape[0]
-            sub = (a, vecs, inv) if whole else (a[active], vecs[active], inv[active])
-            off, values[active] = _off_diagonal(*sub)
+            off, values[active] = work.off_diagonal()
             if sweep >= MIN_SWEEPS:
-                now = _settled(off, values[active], sub[1] @ sub[2])
+                now = work.settled(off, values[active])
                 settled[active] = now
                 if now.all() or (not now.any() and sweep > MIN_SWEEPS) or sweep == MAX_SWEEPS:
                     break
-                active, off, sub = active[~now], off[~now], tuple(x[~now] for x in sub)
-            vecs[active], inv[active] = _sweep(off, values[active], sub[1], sub[2])
+                if now.any():
+                    work.store(vecs, inv, active)
+                    active = active[~now]
+                    work = work.take(~now)
+            work.sweep(values[active])
+        work.store(vecs, inv, active)
     return values, vecs, inv, settled
 
 
-def _off_diagonal(a: np.ndarray, vecs: np.ndarray, inv: np.ndarray):
-    """W A V with its diagonal (the eigenvalue estimates) taken out."""
-    t = inv @ a @ vecs
-    values = np.diagonal(t, axis1=1, axis2=2).copy()
-    t[:, np.eye(a.shape[-1], dtype=bool)] = 0.0
-    return t, values
+class _Work:
+    """The unsettled samples' A, V and W with preallocated products: a sweep is six matrix
+    products into buffers and a few elementwise steps, no fresh (s, m, m) arrays."""
 
+    def __init__(self, a: np.ndarray, vecs: np.ndarray, inv: np.ndarray) -> None:
+        self.a, self.vecs, self.inv = a, vecs, inv
+        self.t, self.p, self.q = (np.empty_like(a) for _ in range(3))
+        self.diag = np.s_[:, :: a.shape[-1] + 1]  # the diagonal of each flattened matrix
 
-def _sweep(off: np.ndarray, values: np.ndarray, vecs: np.ndarray, inv: np.ndarray):
-    """One Newton step on the eigenvectors, and one Newton-Schulz step on their inverse."""
-    eye = np.eye(values.shape[1])
-    p = values[:, None, :] - values[:, :, None]
-    p += eye  # the diagonal of ``off`` is zero: any non-zero divisor there
-    np.divide(off, p, out=p)
-    vecs = vecs @ (p + eye)
-    p -= eye
-    inv = -(p @ inv)  # (I - P) W, the first-order inverse ...
-    ns = vecs @ inv
-    np.subtract(2 * eye, ns, out=ns)
-    return vecs, inv @ ns  # ... made exact again by a Newton-Schulz step
+    def take(self, keep: np.ndarray) -> _Work:
+        """The samples ``keep`` (a mask), their last W A V carried along for the sweep."""
+        work = _Work(self.a[keep], self.vecs[keep], self.inv[keep])
+        work.t[:] = self.t[keep]
+        return work
 
+    def store(self, vecs: np.ndarray, inv: np.ndarray, active: np.ndarray) -> None:
+        if self.vecs is not vecs:
+            vecs[active], inv[active] = self.vecs, self.inv
 
-def _settled(off: np.ndarray, values: np.ndarray, product: np.ndarray) -> np.ndarray:
-    """Samples whose off-diagonal W A V (the backward error in the eigenvector basis) is
-    within LAPACK's own and whose W is V's inverse (``product`` = V W)."""
-    scale = np.max(np.abs(values), axis=1)
-    drift = np.abs(product - np.eye(values.shape[1])).max(axis=(1, 2))
-    return ((np.max(np.abs(off), axis=(1, 2)) <= BACKWARD * scale) & (drift <= DRIFT)
-            & np.all(np.isfinite(values), axis=1))
+    def flat(self, x: np.ndarray) -> np.ndarray:
+        return x.reshape(x.shape[0], x.shape[1] * x.shape[2])
+
+    def off_diagonal(self) -> tuple[np.ndarray, np.ndarray]:
+        """W A V with its diagonal (the eigenvalue estimates) taken out."""
+        np.matmul(self.inv, self.a, out=self.p)
+        t = np.matmul(self.p, self.vecs, out=self.t)
+        values = self.flat(t)[self.diag].copy()
+        self.flat(t)[self.diag] = 0.0
+        return t, values
+
+    def sweep(self, values: np.ndarray) -> None:
+        """One Newton step on the eigenvectors, V <- V (I + P), W <- (I - P) W, and one
+        Newton-Schulz step W <- W (2 I - V W) that makes W the inverse again."""
+        p, q, vecs, inv = self.p, self.q, self.vecs, self.inv
+        np.subtract(values[:, None, :], values[:, :, None], out=p)
+        self.flat(p)[self.diag] = 1.0  # the diagonal of ``t`` is zero: any non-zero divisor
+        np.divide(self.t, p, out=p)
+        vecs += np.matmul(vecs, p, out=q)
+        inv -= np.matmul(p, inv, out=q)
+        ns = np.matmul(vecs, inv, out=p)
+        np.negative(ns, out=ns)
+        self.flat(ns)[self.diag] += 2.0
+        np.matmul(inv, ns, out=q)
+        self.inv, self.q = q, inv
+
+    def settled(self, off: np.ndarray, values: np.ndarray) -> np.ndarray:
+        """Samples whose off-diagonal W A V (the backward error in the eigenvector basis)
+        is within LAPACK's own and whose W is V's inverse (V W = I, checked only for the
+        samples that pass the first test)."""
+        scale = np.max(np.abs(values), axis=1)
+        now = (np.max(np.abs(off), axis=(1, 2)) <= BACKWARD * scale) & np.all(
+            np.isfinite(values), axis=1)
+        idx = np.flatnonzero(now)
+        product = self.vecs[idx] @ self.inv[idx]
+        self.flat(product)[self.diag] -= 1.0
+        now[idx] = np.abs(product).max(axis=(1, 2), initial=0.0) <= DRIFT
+        return now
