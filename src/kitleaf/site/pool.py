@@ -3,7 +3,7 @@
 Each worker builds whole guides and returns a :class:`GuideOutput` or the guide's
 :class:`KitleafError` (picklable, so it crosses the process boundary with its location).
 Results are put back in guide order, so the site never depends on which worker finished first.
-Workers start from a fork server that has imported the pipeline once.
+Workers start from a fork server that has imported the pipeline once and frozen it.
 """
 
 from __future__ import annotations
@@ -18,6 +18,7 @@ from pathlib import Path
 from kitleaf.errors import KitleafError
 
 PIPELINE_MODULE = "kitleaf.site.guide_output"
+FREEZE_MODULE = "kitleaf.site.fork_ready"  # preloaded last: the workers share the imports' pages
 Result = object  # a GuideOutput, or the KitleafError that stopped the guide
 
 
@@ -89,6 +90,6 @@ def _context():
     """A fork server where the platform has one (fast, and safe beside threads), else spawn."""
     if "forkserver" in multiprocessing.get_all_start_methods():
         context = multiprocessing.get_context("forkserver")
-        context.set_forkserver_preload([PIPELINE_MODULE])
+        context.set_forkserver_preload([PIPELINE_MODULE, FREEZE_MODULE])
         return context
     return multiprocessing.get_context("spawn")

@@ -1,0 +1,12 @@
+"""Imported by the build's fork server after the pipeline, to freeze what those imports made.
+
+Only :mod:`kitleaf.site.pool` names this module, as the fork server's last preload. Frozen
+objects are left out of every later garbage collection, so the workers forked from the server
+do not write to (and so copy) the pages that hold the imported modules' objects: about 13 MB
+less private memory per worker in a build of the generated guides.
+"""
+
+import gc
+
+gc.collect()
+gc.freeze()
