@@ -13,7 +13,8 @@ import numpy as np
 import scipy.linalg
 
 MIN_BATCH = 32  # below this LAPACK's per-matrix cost does not matter
-MIN_SIZE = 14  # below this LAPACK's small dense solves are as quick
+MIN_SIZE = 14  # below this LAPACK's small dense solves are as quick ...
+MIN_RHS = 8  # ... unless there are this many right-hand sides (an elimination's columns)
 RESIDUAL = 1e-11  # relative residual above which a sample is re-solved densely
 
 
@@ -58,7 +59,8 @@ def _eliminate(a: np.ndarray, b: np.ndarray, plan) -> np.ndarray:
 
 def solve_many(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Solutions of a[s] x[s] = b[s] for a batch (samples, n, n) and b (samples, n, rhs)."""
-    if b.shape[0] < MIN_BATCH or a.shape[-1] < MIN_SIZE or np.iscomplexobj(a):
+    small = a.shape[-1] < MIN_SIZE and b.shape[-1] < MIN_RHS
+    if b.shape[0] < MIN_BATCH or small or np.iscomplexobj(a):
         return np.linalg.solve(a, b)
     a_full = np.broadcast_to(a, (b.shape[0], *a.shape[1:])) if a.shape[0] == 1 else a
     with np.errstate(divide="ignore", invalid="ignore"):

@@ -57,8 +57,7 @@ def _evaluate_real(out, alpha, weights, lambdas, f) -> None:
     real reciprocal per term and one real product for both parts (about twice as quick).
     Laid out (samples, m, f) so the long frequency axis is the inner one."""
     w = 2 * np.pi * f  # (samples or 1, f)
-    q = lambdas[:, :, None] * w[:, None, :]
-    np.square(q, out=q)
+    q = np.square(lambdas)[:, :, None] * (w * w)[:, None, :]  # squared first: one pass less
     q += 1.0
     np.reciprocal(q, out=q)
     parts = np.matmul(weights, q)  # (samples, 2 rows, f)

@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from kitleaf.engine.batch_lu import solve_many
 from kitleaf.engine.compile import System, incidence
 from kitleaf.engine.deflate import eig_split
 from kitleaf.engine.newton import Problem, extend
@@ -187,6 +188,6 @@ def _reused_schur(g: np.ndarray, part: Partition, reduced: Reduced, r: np.ndarra
     rhs_k = np.concatenate([r[:, keep, None], np.broadcast_to(a[keep], (g.shape[0], keep.size,
                                                                            a.shape[1]))], 2)
     back = reduced.back
-    y_keep = np.linalg.solve(g[:, keep][:, :, keep] - g_kr @ back, rhs_k - g_kr @ z_rhs)
+    y_keep = solve_many(g[:, keep][:, :, keep] - g_kr @ back, rhs_k - g_kr @ z_rhs)
     y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
     return y[:, :, :1], y[:, :, 1:]
