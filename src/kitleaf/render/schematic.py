@@ -9,16 +9,20 @@ and are mapped to schemdraw anchors in :data:`ANCHORS` alone.
 
 from __future__ import annotations
 
+import math
 import re
 from collections.abc import Mapping, Sequence
 
 import schemdraw
 import schemdraw.elements as elm
+from schemdraw.segments import SegmentText
+from schemdraw.types import BBox
 
 from kitleaf.bom.finding import find
 from kitleaf.circuit.parts import Part
 
 Point = tuple[float, float]
+Box = tuple[float, float, float, float]  # x0, y0, x1, y1
 
 FONT_SIZE = 11.0
 FONT = "DejaVu Sans, Arial, Helvetica, sans-serif"
@@ -82,8 +86,9 @@ class Sheet:
         self.nets = {"vcc": "VCC", "vref": "VREF", "supply": "+V IN", **(nets or {})}
         # Where a builder could probe: (device, pin) for device pins, ("", net) for nets.
         self.spots: dict[tuple[str, str], Point] = {}
-        self._text_boxes: list[tuple[float, float, float, float]] = []
-        self._drawing = schemdraw.Drawing(canvas="svg", show=False)
+        self._text_boxes: list[Box] = []
+        self._element_boxes: list[Box] = []  # each element's, without its text, once placed
+        self._drawing = _Drawing(canvas="svg", show=False)
         self._drawing.config(unit=3, fontsize=FONT_SIZE, font=FONT, lw=1.4, margin=0.4,
                              color="black")
 
@@ -242,10 +247,9 @@ class Sheet:
         self._text_boxes.append(_text_box(text, at, size, halign, valign))
 
     # -- what is drawn ------------------------------------------------------------------------
-    def occupied(self) -> list[tuple[float, float, float, float]]:
+    def occupied(self) -> list[Box]:
         """The box of every element and label drawn so far, in grid units."""
-        boxes = [e.get_bbox(transform=True, includetext=False) for e in self._drawing.elements]
-        return [(b.xmin, b.ymin, b.xmax, b.ymax) for b in boxes] + self._text_boxes
+        return self._element_boxes + self._text_boxes
 
     def extent(self) -> tuple[float, float, float, float]:
         """The box around everything drawn so far (x0, y0, x1, y1)."""
@@ -268,11 +272,44 @@ class Sheet:
         # previously added element pointed. Two-terminal parts are set by their endpoints.
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
-        return self._drawing.add(element)
+        self._drawing.add(element)
+        # A placed element never moves, so its boxes are measured here once, not per query.
+        bare, whole = _placed_boxes(element)
+        self._element_boxes.append(bare)
+        self._drawing.note(whole)
+        return element
 
 
-def _text_box(text: str, at: Point, size: float, halign: str, valign: str
-              ) -> tuple[float, float, float, float]:
+class _Drawing(schemdraw.Drawing):
+    """A drawing that keeps the union of its elements' boxes as they are added, so writing the
+    SVG does not measure every element again."""
+
+    def note(self, box: Box) -> None:
+        known = getattr(self, "_known", None) or box
+        self._known = (min(known[0], box[0]), min(known[1], box[1]),
+                       max(known[2], box[2]), max(known[3], box[3]))
+
+    def get_bbox(self) -> BBox:
+        return BBox(*self._known)
+
+
+def _placed_boxes(element: elm.Element) -> tuple[Box, Box]:
+    """An element's box in sheet coordinates without and with its text, in one pass (the same
+    numbers as schemdraw's ``get_bbox(transform=True)``)."""
+    bare = whole = (math.inf, math.inf, -math.inf, -math.inf)
+    for segment in element.segments:
+        b = segment.xform(element.transform).get_bbox()
+        whole = _union(whole, b)
+        if not isinstance(segment, SegmentText):
+            bare = _union(bare, b)
+    return bare, whole
+
+
+def _union(a: Box, b) -> Box:
+    return (min(a[0], b[0]), min(a[1], b[1]), max(a[2], b[2]), max(a[3], b[3]))
+
+
+def _text_box(text: str, at: Point, size: float, halign: str, valign: str) -> Box:
     """Where a label's text lies, in grid units (an estimate, as wide as :func:`text_width`)."""
     width = text_width(text, size)
     height = (text.count("\n") + 1) * size / POINTS_PER_UNIT
