@@ -11,12 +11,15 @@ from __future__ import annotations
 
 import math
 import re
+from collections import ChainMap
 from collections.abc import Mapping, Sequence
 
 import schemdraw
 import schemdraw.elements as elm
 from schemdraw.segments import SegmentText
+from schemdraw.transform import Transform
 from schemdraw.types import BBox
+from schemdraw.util import Point as SdPoint
 
 from kitleaf.bom.finding import find
 from kitleaf.circuit.parts import Part
@@ -272,7 +275,9 @@ class Sheet:
         # previously added element pointed. Two-terminal parts are set by their endpoints.
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
+        _flatten_defaults(element)
         self._drawing.add(element)
+        _settle(element)
         # A placed element never moves, so its boxes are measured here once, not per query.
         bare, whole = _placed_boxes(element)
         self._element_boxes.append(bare)
@@ -284,13 +289,52 @@ class _Drawing(schemdraw.Drawing):
     """A drawing that keeps the union of its elements' boxes as they are added, so writing the
     SVG does not measure every element again."""
 
+    _known: Box = (math.inf, math.inf, -math.inf, -math.inf)  # schemdraw's box of nothing
+
     def note(self, box: Box) -> None:
-        known = getattr(self, "_known", None) or box
-        self._known = (min(known[0], box[0]), min(known[1], box[1]),
-                       max(known[2], box[2]), max(known[3], box[3]))
+        self._known = _union(self._known, box)
 
     def get_bbox(self) -> BBox:
         return BBox(*self._known)
+
+
+_FLAT_DEFAULTS: dict[type, dict] = {}  # per element class, read once per process
+
+
+def _flatten_defaults(element: elm.Element) -> None:
+    """Look the class defaults up in one dict instead of a chain with a link per base class.
+
+    The element's own maps stay live in the chain, so placing it reads the same values.
+    """
+    flat = _FLAT_DEFAULTS.get(type(element))
+    if flat is None:
+        flat = _FLAT_DEFAULTS[type(element)] = dict(type(element).defaults)
+    element.params = ChainMap(element._userparams, element.elmparams, flat, element._dwgparams)
+
+
+def _settle(element: elm.Element) -> None:
+    """Freeze a placed element for the writer: its parameters as one flat dict (schemdraw looks
+    them up through a deep chain for every segment) and its transform as plain float arithmetic.
+    Neither changes once the element is placed; the output is the same."""
+    element.params = dict(element.params)
+    element.transform = _Transform(element.transform)
+
+
+class _Transform(Transform):
+    """schemdraw's transform with the same float operations in the same order, minus the
+    per-step point objects: scale about the local shift, rotate, then shift."""
+
+    def __init__(self, of: Transform) -> None:
+        super().__init__(of.theta, of.shift, of.localshift, of.zoom)
+        radians = math.radians(of.theta)
+        self._cos, self._sin = math.cos(radians), math.sin(radians)
+
+    def transform(self, pt) -> SdPoint:
+        x = (pt[0] + self.localshift[0]) * self.zoom[0]
+        y = (pt[1] + self.localshift[1]) * self.zoom[1]
+        co, so = self._cos, self._sin
+        return SdPoint((0 + x * co + y * -so + 0 + self.shift[0],
+                        0 + x * so + y * co + 0 + self.shift[1]))
 
 
 def _placed_boxes(element: elm.Element) -> tuple[Box, Box]:
