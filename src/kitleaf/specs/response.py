@@ -29,11 +29,13 @@ class Sweep:
     sample against a direct solve at 1 kHz; a sample that disagrees is solved directly.
     """
 
-    def __init__(self, batch: Batch, source: str) -> None:
+    def __init__(self, batch: Batch, source: str, direct: np.ndarray | None = None) -> None:
+        """``direct``: the batch's direct solution at 1 kHz, if the caller already has it."""
         self.batch = batch
         self.rhs = batch.excitation(source)
         self.modal = batch.modal(self.rhs)
-        direct = batch.solve(np.array([REFERENCE_HZ]), self.rhs)[:, 0]
+        if direct is None:
+            direct = batch.solve(np.array([REFERENCE_HZ]), self.rhs)[:, 0]
         modal = self.modal(np.array([REFERENCE_HZ]), list(range(direct.shape[1])))[:, 0]
         scale = np.max(np.abs(direct), axis=1, keepdims=True)
         self.bad = np.flatnonzero(np.max(np.abs(modal - direct) / scale, axis=1) > AGREEMENT)

@@ -22,8 +22,8 @@ class View:
 
     @cached_property
     def sweep(self) -> Sweep:
-        """Node voltages over the plotted band."""
-        return Sweep(self.batch, SOURCE)
+        """Node voltages over the plotted band; its 1 kHz check reuses :attr:`ref`."""
+        return Sweep(self.batch, SOURCE, self.ref)
 
     @cached_property
     def ref(self) -> np.ndarray:
