@@ -23,18 +23,27 @@ RENDERING_LIBRARIES = ("jinja2", "markdown-it-py", "matplotlib", "numpy", "schem
 
 def canonical(value: object, spans: bool = False) -> str:
     """A stable text form of a frozen value; ``spans=False`` leaves source locations out."""
+    return canonical_pair(value)[spans]
+
+
+def canonical_pair(value: object) -> tuple[str, str]:
+    """:func:`canonical` without and with source locations, from one walk of the value."""
     if isinstance(value, SourceSpan):
-        return repr((value.path, value.line)) if spans else "~"
+        return "~", repr((value.path, value.line))
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        inner = ",".join(f"{f.name}={canonical(getattr(value, f.name), spans)}"
-                         for f in dataclasses.fields(value))
-        return f"{type(value).__name__}({inner})"
+        inner = [(f.name, canonical_pair(getattr(value, f.name)))
+                 for f in dataclasses.fields(value)]
+        return tuple(f"{type(value).__name__}(" + ",".join(f"{n}={p[i]}" for n, p in inner)
+                     + ")" for i in (0, 1))
     if isinstance(value, Mapping):
-        items = sorted((canonical(k, spans), canonical(v, spans)) for k, v in value.items())
-        return "{" + ",".join(f"{k}:{v}" for k, v in items) + "}"
+        pairs = [(canonical_pair(k), canonical_pair(v)) for k, v in value.items()]
+        return tuple("{" + ",".join(f"{k}:{v}" for k, v in sorted((k[i], v[i]) for k, v in pairs))
+                     + "}" for i in (0, 1))
     if isinstance(value, (list, tuple)):
-        return "[" + ",".join(canonical(v, spans) for v in value) + "]"
-    return repr(value)  # str, float (repr round-trips), int, bool, None
+        inner = [canonical_pair(v) for v in value]
+        return tuple("[" + ",".join(p[i] for p in inner) + "]" for i in (0, 1))
+    text = repr(value)  # str, float (repr round-trips), int, bool, None
+    return text, text
 
 
 def contains_span(value: object) -> bool:

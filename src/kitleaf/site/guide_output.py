@@ -23,7 +23,7 @@ from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import render_overview_svg, render_stage_svg
 from kitleaf.site.cache import Cache, NoCache
-from kitleaf.site.fingerprint import canonical, contains_span
+from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
@@ -104,9 +104,8 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
     Prose is not part of the key, nor are line numbers; specs that carry a location are stored
     under a key with the lines, so a located finding never shows a stale line.
     """
-    inputs = (guide.kit, guide.stages, kit)
-    plain = cache.key("specs", canonical(inputs))
-    located = cache.key("specs", canonical(inputs, spans=True))
+    plain, located = (cache.key("specs", form)
+                      for form in canonical_pair((guide.kit, guide.stages, kit)))
     for key in (plain, located):
         found = cache.load("specs", key)
         if isinstance(found, KitSpecs):
