@@ -123,7 +123,7 @@ class Sheet:
         The wiper is drawn on the left of the ccw-to-cw direction, or the right if asked.
         """
         drawn = elm.Potentiometer().endpoints(ccw, cw)
-        self._add(drawn.flip() if wiper_right else drawn)
+        drawn = self._add(drawn.flip() if wiper_right else drawn)
         side = side or _default_side(ccw, cw)
         self.label(part_label(part), _label_point(ccw, cw, side, _LABEL_GAP["pot"]), side)
         return self.pin(drawn, "pot", "wiper")
@@ -147,7 +147,7 @@ class Sheet:
         if mirror:
             drawn = drawn.flip()
         first = next(iter(ANCHORS[family]))
-        self._add(drawn.anchor(ANCHORS[family][first]).at(base))
+        drawn = self._add(drawn.anchor(ANCHORS[family][first]).at(base))
         pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
         self.spots.update({(part.designator, name): at for name, at in pins.items()})
         centre = drawn.absanchors["center"]
@@ -271,15 +271,23 @@ class Sheet:
         return normalise_svg(raw, self.title)
 
     def _add(self, element: elm.Element) -> elm.Element:
+        """Add ``element`` and return it placed: use the returned one, which may be an equal
+        element placed earlier in this process (see :func:`_placement_key`)."""
         # Every element gets its own direction: schemdraw would otherwise turn it the way the
         # previously added element pointed. Two-terminal parts are set by their endpoints.
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
-        _flatten_defaults(element)
-        self._drawing.add(element)
-        _settle(element)
-        # A placed element never moves, so its boxes are measured here once, not per query.
-        bare, whole = _placed_boxes(element)
+        key = _placement_key(element)
+        placed = _PLACED.get(key) if key else None
+        if placed is None:
+            _flatten_defaults(element)
+            self._drawing.add(element)
+            placed = (element, *_placed_boxes(_settle(element)))
+            if key and len(_PLACED) < _PLACED_LIMIT:
+                _PLACED[key] = placed
+        else:
+            self._drawing.elements.append(placed[0])
+        element, bare, whole = placed
         self._element_boxes.append(bare)
         self._drawing.note(whole)
         return element
@@ -299,6 +307,22 @@ class _Drawing(schemdraw.Drawing):
 
 
 _FLAT_DEFAULTS: dict[type, dict] = {}  # per element class, read once per process
+# Placed elements with their boxes (without, with text) by what they were asked to be, kept for
+# the life of the process: the same kind draws the same wires and symbols in every guide.
+_PLACED: dict[str, tuple[elm.Element, Box, Box]] = {}
+_PLACED_LIMIT = 2048  # about 4.5 kB each: at most some 9 MB a process
+
+
+def _placement_key(element: elm.Element) -> str | None:
+    """What fixes an element's placed geometry: its class, the parameters and labels it was
+    given, and the sheet's drawing settings (the same for every sheet). None when it would be
+    placed relative to the previous element, or when a value has no faithful text form."""
+    given = element._userparams
+    if "at" not in given and "endpts" not in given:
+        return None
+    key = repr((type(element).__module__, type(element).__qualname__, sorted(given.items()),
+                element._userlabels))
+    return None if " at 0x" in key else key
 
 
 def _flatten_defaults(element: elm.Element) -> None:
@@ -312,12 +336,13 @@ def _flatten_defaults(element: elm.Element) -> None:
     element.params = ChainMap(element._userparams, element.elmparams, flat, element._dwgparams)
 
 
-def _settle(element: elm.Element) -> None:
+def _settle(element: elm.Element) -> elm.Element:
     """Freeze a placed element for the writer: its parameters as one flat dict (schemdraw looks
     them up through a deep chain for every segment) and its transform as plain float arithmetic.
     Neither changes once the element is placed; the output is the same."""
     element.params = dict(element.params)
     element.transform = _Transform(element.transform)
+    return element
 
 
 class _Transform(Transform):
