@@ -13,6 +13,7 @@ import math
 import re
 from collections import ChainMap
 from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
 
 import schemdraw
 import schemdraw.elements as elm
@@ -280,37 +281,73 @@ class Sheet:
         key = _placement_key(element)
         placed = _PLACED.get(key) if key else None
         if placed is None:
-            _flatten_defaults(element)
-            self._drawing.add(element)
-            placed = (element, *_placed_boxes(_settle(element)))
+            placed = self._drawing.place(element)
             if key and len(_PLACED) < _PLACED_LIMIT:
                 _PLACED[key] = placed
-        else:
-            self._drawing.elements.append(placed[0])
-        element, bare, whole = placed
-        self._element_boxes.append(bare)
-        self._drawing.note(whole)
-        return element
+        self._drawing.put(placed)
+        self._element_boxes.append(placed.bare)
+        return placed.element
+
+
+@dataclass(frozen=True)
+class _Placed:
+    """A placed element, its boxes in sheet coordinates (without and with its text), and what
+    drawing it gave the SVG writer, (z-order, XML element) pairs, once it has been drawn."""
+
+    element: elm.Element
+    bare: Box
+    whole: Box
+    drawn: list = field(default_factory=list)
 
 
 class _Drawing(schemdraw.Drawing):
-    """A drawing that keeps the union of its elements' boxes as they are added, so writing the
-    SVG does not measure every element again."""
+    """A drawing that measures each element once, when placed, and draws each placed element
+    once per process: the SVG writer's output for an element depends on the element alone (no
+    clipping, gradients or hatching here), so later sheets reuse it."""
 
     _known: Box = (math.inf, math.inf, -math.inf, -math.inf)  # schemdraw's box of nothing
 
-    def note(self, box: Box) -> None:
-        self._known = _union(self._known, box)
+    def __init__(self, **kwargs) -> None:
+        super().__init__(**kwargs)
+        self._placed: list[_Placed] = []
+
+    def place(self, element: elm.Element) -> _Placed:
+        """``element`` placed as :meth:`add` would, but not added."""
+        _flatten_defaults(element)
+        self._here, self._theta = element._place(self._here, self._theta, **self.dwgparams)
+        _settle(element)
+        return _Placed(element, *_placed_boxes(element))
+
+    def put(self, placed: _Placed) -> None:
+        self.elements.append(placed.element)
+        self._placed.append(placed)
+        self._known = _union(self._known, placed.whole)
 
     def get_bbox(self) -> BBox:
         return BBox(*self._known)
+
+    def _drawelements(self) -> None:
+        out = self.fig.svgelements
+        for placed in self._placed:
+            if placed.drawn:
+                out.extend(placed.drawn)
+                continue
+            start, extras = len(out), _extras(self.fig)
+            placed.element._draw(self.fig)
+            if _extras(self.fig) == extras:  # nothing beside its own elements: reusable
+                placed.drawn.extend(out[start:])
+
+
+def _extras(fig) -> tuple[int, int, int]:
+    """What an element may add to a figure outside its own elements."""
+    return len(fig.svgdefs), len(fig.gradients), len(fig.clips)
 
 
 _FLAT_DEFAULTS: dict[type, dict] = {}  # per element class, read once per process
 # Placed elements with their boxes (without, with text) by what they were asked to be, kept for
 # the life of the process: the same kind draws the same wires and symbols in every guide.
-_PLACED: dict[str, tuple[elm.Element, Box, Box]] = {}
-_PLACED_LIMIT = 2048  # about 4.5 kB each: at most some 9 MB a process
+_PLACED: dict[str, _Placed] = {}
+_PLACED_LIMIT = 1536  # about 6 kB each, placed and drawn: at most some 9 MB a process
 
 
 def _placement_key(element: elm.Element) -> str | None:
