@@ -4,7 +4,8 @@ The engine's :func:`~kitleaf.engine.solve_batch` draws the samples exactly as it
 does (same generator, same order), so a figure here and the engine's Monte Carlo agree sample
 for sample. This module only narrows that result to what the specs read: voltages and branch
 currents, complex unknowns at chosen frequencies, driving-point impedances with a branch
-opened, and device parameters.
+opened, and device parameters. A state that differs only in parts idle at DC shares its
+neighbour's operating point (:func:`solve_alike`) instead of solving it again.
 """
 
 from __future__ import annotations
@@ -14,6 +15,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kitleaf.engine import BatchResult, PoleResidue, solve_batch
+from kitleaf.engine.compile import compile_circuit
+from kitleaf.engine.dc import problem_for
 
 SAMPLES = 200  # enough for stable 5th and 95th percentiles at the shown precision
 SEED = 1
@@ -112,3 +115,21 @@ def solve_samples(circuit, samples: int = SAMPLES, seed: int = SEED,
     the same samples solved in a nearby state, such as another knob position.
     """
     return Batch(solve_batch(circuit, samples, seed, "uniform", start))
+
+
+def solve_alike(circuit, like: Batch) -> Batch:
+    """``circuit`` at ``like``'s operating point, with ``like``'s drawn parts and devices.
+
+    Exact only when ``circuit`` differs from ``like``'s circuit in parts that carry no DC
+    current there (a pot's position, both legs at zero volts): the same unknowns then satisfy
+    both circuits' DC equations, so no Newton solve is needed. The caller checks that.
+    """
+    if like.index is not None:
+        raise ValueError("an operating point is shared by a whole batch only")
+    src = like.system
+    system = compile_circuit(circuit)
+    if system.layout != src.layout:
+        raise ValueError("the circuits' unknowns differ; their operating points cannot be shared")
+    banks = None if src.factors is None else src.problem.devices.banks
+    problem = problem_for(system, src.factors, banks)
+    return Batch(BatchResult(system.layout, src.x, src.params, src.factors, system, problem))

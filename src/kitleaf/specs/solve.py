@@ -8,7 +8,8 @@ from functools import cached_property
 import numpy as np
 
 from kitleaf.circuit.chain import SOURCE, KitCircuit
-from kitleaf.specs.batch import Batch, solve_nominal, solve_samples
+from kitleaf.engine.elements import Pot
+from kitleaf.specs.batch import Batch, solve_alike, solve_nominal, solve_samples
 from kitleaf.specs.model import Range
 from kitleaf.specs.response import REFERENCE_HZ, Sweep
 
@@ -47,12 +48,20 @@ class KitState:
     def __init__(self, kit: KitCircuit, positions: Mapping[str, float],
                  supply_v: float | None = None, near: KitState | None = None) -> None:
         self.circuit = kit.netlist(positions, supply_v)
-        self.nominal = View(solve_nominal(self.circuit))
         self.near = near
+        # Same supply, and every moved pot idle at DC: the nearby state's operating point holds.
+        self.same_dc = (near is not None and near.supply_v == supply_v
+                        and idle_at_dc(near, moved_pots(near.positions, positions)))
+        self.positions, self.supply_v = dict(positions), supply_v
+        self.nominal = View(solve_alike(self.circuit, near.nominal.batch) if self.same_dc
+                            else solve_nominal(self.circuit))
 
     @cached_property
     def samples(self) -> View:
-        """The tolerance samples, Newton started from the nearby state's samples if given."""
+        """The tolerance samples: the nearby state's operating point when it holds here,
+        otherwise solved with Newton started from the nearby state's samples (if any)."""
+        if self.same_dc:
+            return View(solve_alike(self.circuit, self.near.samples.batch))
         start = None if self.near is None else self.near.samples.batch.x
         return View(solve_samples(self.circuit, start=start))
 
@@ -68,6 +77,24 @@ class KitState:
             return Range(nominal)
         low, high = np.percentile(finite, [5.0, 95.0])
         return Range(nominal, float(low), float(high))
+
+
+def moved_pots(before: Mapping[str, float], after: Mapping[str, float]) -> set[str]:
+    return {name for name in after if before.get(name) != after[name]}
+
+
+def idle_at_dc(state: KitState, pots: set[str]) -> bool:
+    """Whether every pot in ``pots`` has exactly zero volts across both legs (so no current),
+    nominally and in every sample of ``state``: its position then cannot move the bias."""
+    found = [e for e in state.circuit.elements if isinstance(e, Pot) and e.name in pots]
+    if len(found) != len(pots):
+        return False
+    for batch in (state.nominal.batch, state.samples.batch):
+        for pot in found:
+            w = batch.voltage(pot.w)
+            if np.any(batch.voltage(pot.ccw) != w) or np.any(batch.voltage(pot.cw) != w):
+                return False
+    return True
 
 
 def nominal_positions(kit: KitCircuit) -> dict[str, float]:
