@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import re
+import xml.etree.ElementTree as ET
 from collections import ChainMap
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -268,8 +269,7 @@ class Sheet:
 
     def svg(self) -> str:
         """The sheet as an SVG document, byte-identical for the same drawing."""
-        raw = self._drawing.get_imagedata("svg").decode("utf-8")
-        return normalise_svg(raw, self.title)
+        return self._drawing.document(self.title)
 
     def _add(self, element: elm.Element) -> elm.Element:
         """Add ``element`` and return it placed: use the returned one, which may be an equal
@@ -326,16 +326,34 @@ class _Drawing(schemdraw.Drawing):
     def get_bbox(self) -> BBox:
         return BBox(*self._known)
 
+    def document(self, title: str) -> str:
+        """schemdraw's SVG root around each element's own tidied text, in z-order as schemdraw
+        orders them: the same document schemdraw writes."""
+        head = self.draw(show=False).getimage("svg").decode("utf-8")
+        body = "".join(text for _, text in sorted(self._parts, key=lambda part: part[0]))
+        if not body:
+            return normalise_svg(head, title)
+        if not head.endswith(" />"):  # the root alone, as an empty element
+            raise RuntimeError("schemdraw wrote more than the SVG root around the elements")
+        return normalise_svg(f"{head[:-3]}>{body}</svg>", title, tidy=(0, len(head) - 3))
+
     def _drawelements(self) -> None:
-        out = self.fig.svgelements
-        for placed in self._placed:
-            if placed.drawn:
-                out.extend(placed.drawn)
-                continue
-            start, extras = len(out), _extras(self.fig)
-            placed.element._draw(self.fig)
-            if _extras(self.fig) == extras:  # nothing beside its own elements: reusable
-                placed.drawn.extend(out[start:])
+        self._parts = [part for placed in self._placed for part in self._drawn(placed)]
+
+    def _drawn(self, placed: _Placed) -> list[tuple[int, str]]:
+        """What the element writes, as (z-order, tidied SVG text), drawn once per process."""
+        if placed.drawn:
+            return placed.drawn
+        fig, extras = self.fig, _extras(self.fig)
+        start = len(fig.svgelements)
+        placed.element._draw(fig)
+        if _extras(fig) != extras:
+            raise RuntimeError(f"{type(placed.element).__name__}: a sheet draws no clipped, "
+                               "gradient or hatched elements (they write shared definitions)")
+        placed.drawn.extend((z, _tidy(ET.tostring(xml, encoding="unicode")))
+                            for z, xml in fig.svgelements[start:])
+        del fig.svgelements[start:]
+        return placed.drawn
 
 
 def _extras(fig) -> tuple[int, int, int]:
@@ -450,19 +468,26 @@ def _nudge(at: Point, side: str, gap: float) -> Point:
 _NUMBER = re.compile(r"-?\d+\.\d{4,}")
 
 
-def normalise_svg(raw: str, title: str) -> str:
-    """Round long decimals (float noise differs across platforms), fix the dash style, add a title.
-
-    schemdraw writes ``stroke-dasharray:-`` for solid lines, which is not valid CSS; solid is
-    the default, so the declaration is dropped.
-    """
-    text = _NUMBER.sub(lambda m: _short(float(m.group())), raw)
-    text = text.replace("stroke-dasharray:-;", "")
+def normalise_svg(raw: str, title: str, tidy: tuple[int, int] | None = None) -> str:
+    """Tidy the text (:func:`_tidy`), or only its ``tidy`` slice if the rest is tidy already,
+    and add a title."""
+    start, end = tidy or (0, len(raw))
+    text = raw[:start] + _tidy(raw[start:end]) + raw[end:]
     if title:
         escaped = title.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
         text = re.sub(r"(<svg[^>]*>)", lambda m: f"{m.group(1)}<title>{escaped}</title>", text,
                       count=1)
     return text if text.endswith("\n") else text + "\n"
+
+
+def _tidy(text: str) -> str:
+    """Round long decimals (float noise differs across platforms) and fix the dash style.
+
+    schemdraw writes ``stroke-dasharray:-`` for solid lines, which is not valid CSS; solid is
+    the default, so the declaration is dropped.
+    """
+    return _NUMBER.sub(lambda m: _short(float(m.group())), text).replace(
+        "stroke-dasharray:-;", "")
 
 
 def _short(x: float) -> str:
