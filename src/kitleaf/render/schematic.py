@@ -10,7 +10,6 @@ and are mapped to schemdraw anchors in :data:`ANCHORS` alone.
 from __future__ import annotations
 
 import math
-import re
 import xml.etree.ElementTree as ET
 from collections import ChainMap
 from collections.abc import Mapping, Sequence
@@ -23,19 +22,31 @@ from schemdraw.transform import Transform
 from schemdraw.types import BBox
 from schemdraw.util import Point as SdPoint
 
-from kitleaf.bom.finding import find
 from kitleaf.circuit.parts import Part
+from kitleaf.render.schematic_text import (
+    FONT_SIZE,
+    LABEL_GAP,
+    LABEL_NUDGE,
+    Box,
+    Point,
+    label_room,
+    normalise_svg,
+    part_label,
+    part_value,
+    text_box,
+    text_width,
+    tidy_svg,
+)
 
-Point = tuple[float, float]
-Box = tuple[float, float, float, float]  # x0, y0, x1, y1
+# Words and their room are measured in schematic_text; kinds and tests find them here too.
+__all__ = ["ANCHORS", "FONT_SIZE", "GROUND_Y", "RAIL_Y", "SIGNAL_Y", "Point", "Sheet",
+           "label_room", "part_label", "part_value", "render_overview_svg", "render_stage_svg",
+           "text_width"]
 
-FONT_SIZE = 11.0
 FONT = "DejaVu Sans, Arial, Helvetica, sans-serif"
 GROUND_Y = 0.0
 SIGNAL_Y = 5.0
 RAIL_Y = 10.0
-POINTS_PER_UNIT = 36.0  # one grid unit is half an inch: 36 pt in the SVG
-CHAR_WIDTH = 0.62  # a sans-serif character's average advance, in font sizes (common practice)
 
 # Our pin names -> schemdraw anchor names, one table for every drawn element.
 ANCHORS: Mapping[str, Mapping[str, str]] = {
@@ -47,40 +58,11 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
     "opamp": {"non_inv": "in2", "inv": "in1", "out": "out", "vpos": "vs", "vneg": "vd"},
     "pot": {"ccw": "start", "cw": "end", "wiper": "tap"},
 }
-# How far a label sits from the axis of a two-terminal part (half the body's width plus air).
-_LABEL_GAP = {"resistor": 0.45, "capacitor": 0.55, "inductor": 0.5, "diode": 0.5, "led": 1.0,
-              "pot": 0.5, "block": 0.3}
-_LABEL_NUDGE = 0.1  # schemdraw writes a label this far right of and above its point
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
                  "diode": elm.Diode, "led": elm.LED}
 _TRANSISTOR = {"npn": elm.BjtNpn, "pnp": elm.BjtPnp, "njf": elm.JFetN, "pjf": elm.JFetP}
 _ALIGN = {"right": ("left", "center"), "left": ("right", "center"),
           "above": ("center", "bottom"), "below": ("center", "top"), "below right": ("left", "top")}
-
-
-def part_value(part: Part) -> str:
-    """The value as the bill of materials writes it, so sheet and BOM agree: the RKM code for
-    resistors, capacitors and pots (``470R``, ``4k7``, ``100n``, ``100k log``), the model for
-    semiconductors."""
-    return find(part).value_text
-
-
-def part_label(part: Part) -> str:
-    """Designator over value, as printed beside a part: ``R3`` / ``10k``."""
-    value = part_value(part)
-    if part.polarised and part.type == "capacitor":
-        value = f"{value} {part.dielectric[:4]}."
-    return f"{part.designator}\n{value}"
-
-
-def text_width(text: str, size: float = FONT_SIZE) -> float:
-    """The width of the longest line of ``text`` in grid units (a generous estimate)."""
-    return max(map(len, text.split("\n"))) * size * CHAR_WIDTH / POINTS_PER_UNIT
-
-
-def label_room(part: Part) -> float:
-    """How far a part's label reaches from the part's axis when written beside it."""
-    return _LABEL_GAP[part.type] + text_width(part_label(part))
 
 
 class Sheet:
@@ -115,7 +97,7 @@ class Sheet:
             a, b = b, a
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
-        self.label(part_label(part), _label_point(a, b, side, _LABEL_GAP[part.type]),
+        self.label(part_label(part), _label_point(a, b, side, LABEL_GAP[part.type]),
                    side or _default_side(a, b))
 
     def pot(self, part: Part, ccw: Point, cw: Point, side: str | None = None,
@@ -127,7 +109,7 @@ class Sheet:
         drawn = elm.Potentiometer().endpoints(ccw, cw)
         drawn = self._add(drawn.flip() if wiper_right else drawn)
         side = side or _default_side(ccw, cw)
-        self.label(part_label(part), _label_point(ccw, cw, side, _LABEL_GAP["pot"]), side)
+        self.label(part_label(part), _label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
         return self.pin(drawn, "pot", "wiper")
 
     def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None) -> None:
@@ -247,9 +229,9 @@ class Sheet:
         """
         halign, valign = _ALIGN.get(side, ("center", "center"))
         if exact:
-            at = (at[0] - _LABEL_NUDGE, at[1] - _LABEL_NUDGE)
+            at = (at[0] - LABEL_NUDGE, at[1] - LABEL_NUDGE)
         self._add(elm.Label().at(at).label(text, halign=halign, valign=valign, fontsize=size))
-        self._text_boxes.append(_text_box(text, at, size, halign, valign))
+        self._text_boxes.append(text_box(text, at, size, halign, valign))
 
     # -- what is drawn ------------------------------------------------------------------------
     def occupied(self) -> list[Box]:
@@ -350,7 +332,7 @@ class _Drawing(schemdraw.Drawing):
         if _extras(fig) != extras:
             raise RuntimeError(f"{type(placed.element).__name__}: a sheet draws no clipped, "
                                "gradient or hatched elements (they write shared definitions)")
-        placed.drawn.extend((z, _tidy(ET.tostring(xml, encoding="unicode")))
+        placed.drawn.extend((z, tidy_svg(ET.tostring(xml, encoding="unicode")))
                             for z, xml in fig.svgelements[start:])
         del fig.svgelements[start:]
         return placed.drawn
@@ -433,16 +415,6 @@ def _union(a: Box, b) -> Box:
     return (min(a[0], b[0]), min(a[1], b[1]), max(a[2], b[2]), max(a[3], b[3]))
 
 
-def _text_box(text: str, at: Point, size: float, halign: str, valign: str) -> Box:
-    """Where a label's text lies, in grid units (an estimate, as wide as :func:`text_width`)."""
-    width = text_width(text, size)
-    height = (text.count("\n") + 1) * size / POINTS_PER_UNIT
-    x, y = at[0] + _LABEL_NUDGE, at[1] + _LABEL_NUDGE
-    x0 = {"left": x, "center": x - width / 2, "right": x - width}[halign]
-    y0 = {"bottom": y, "center": y - height / 2, "top": y - height}[valign]
-    return (x0, y0, x0 + width, y0 + height)
-
-
 def _default_side(a: Point, b: Point) -> str:
     return "above" if abs(a[1] - b[1]) < 1e-9 else "right"
 
@@ -463,36 +435,6 @@ def _nudge(at: Point, side: str, gap: float) -> Point:
     dx, dy = {"right": (gap, 0), "left": (-gap, 0), "above": (0, gap), "below": (0, -gap)}.get(
         side, (0, 0))
     return (at[0] + dx, at[1] + dy)
-
-
-_NUMBER = re.compile(r"-?\d+\.\d{4,}")
-
-
-def normalise_svg(raw: str, title: str, tidy: tuple[int, int] | None = None) -> str:
-    """Tidy the text (:func:`_tidy`), or only its ``tidy`` slice if the rest is tidy already,
-    and add a title."""
-    start, end = tidy or (0, len(raw))
-    text = raw[:start] + _tidy(raw[start:end]) + raw[end:]
-    if title:
-        escaped = title.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-        text = re.sub(r"(<svg[^>]*>)", lambda m: f"{m.group(1)}<title>{escaped}</title>", text,
-                      count=1)
-    return text if text.endswith("\n") else text + "\n"
-
-
-def _tidy(text: str) -> str:
-    """Round long decimals (float noise differs across platforms) and fix the dash style.
-
-    schemdraw writes ``stroke-dasharray:-`` for solid lines, which is not valid CSS; solid is
-    the default, so the declaration is dropped.
-    """
-    return _NUMBER.sub(lambda m: _short(float(m.group())), text).replace(
-        "stroke-dasharray:-;", "")
-
-
-def _short(x: float) -> str:
-    out = f"{x:.3f}".rstrip("0").rstrip(".")
-    return "0" if out in ("-0", "") else out
 
 
 def render_stage_svg(kit_circuit, stage) -> str:
