@@ -274,7 +274,7 @@ class Sheet:
 @dataclass(frozen=True)
 class _Placed:
     """A placed element, its boxes in sheet coordinates (without and with its text), and what
-    drawing it gave the SVG writer, (z-order, XML element) pairs, once it has been drawn."""
+    it writes into the SVG, (z-order, tidied text) pairs, once it has been drawn."""
 
     element: elm.Element
     bare: Box
