@@ -2,32 +2,27 @@
 
 One panel per knob (one curve per knob position), the part-tolerance band shaded behind, the
 -3 dB corners marked. Curves differ in line style as well as colour, so the plot reads the same
-in greyscale print. Every figure gets its own canvas and rc_context; nothing global is touched.
+in greyscale print.
 
-The frame, grid, ticks, their labels and the legend are drawn here as a few plain artists in a
-fixed layout rather than by matplotlib's axis and legend machinery: that machinery builds a
-dozen artists per tick and measures every label for placement, and cost about two thirds of a
-plot's time.
+The layout is fixed (margins, panel heights, tick and label offsets in points) and every label
+is written as SVG text with explicit alignment, so nothing is measured but the widest tick
+label, once per string. The SVG is written directly (``plot_svg``): a matplotlib figure cost
+about 50 ms per plot, mostly creating axes and measuring text it did not need to measure; the
+picture is the one that figure drew, to a fraction of a pixel.
 """
 
 from __future__ import annotations
 
 import functools
-import io
+import hashlib
 from dataclasses import dataclass
 
-import matplotlib
 import numpy as np
-from matplotlib.backends.backend_svg import FigureCanvasSVG
-from matplotlib.collections import LineCollection
-from matplotlib.figure import Figure
 from matplotlib.font_manager import FontProperties
-from matplotlib.lines import TICKDOWN, TICKLEFT, Line2D
-from matplotlib.patches import Rectangle
 from matplotlib.textpath import text_to_path
 from matplotlib.ticker import MaxNLocator
-from matplotlib.transforms import Affine2D, ScaledTranslation, offset_copy
 
+from kitleaf.render.plot_svg import Sheet, dash_array, num, polyline
 from kitleaf.values import format_value
 
 # (colour, dash pattern, width) per curve: dark to light and distinct dashes, so curves stay
@@ -36,26 +31,22 @@ STYLES = (("#0b3c5d", (0, (1, 1.5)), 1.7), ("#b35806", (0, (6, 1.5, 1, 1.5)), 1.
           ("#111111", "-", 2.2), ("#1b7837", (0, (5, 2)), 1.5), ("#762a83", (0, (9, 2.5)), 1.5))
 BAND_COLOUR = "#c9ced6"
 CORNER_COLOUR = "#5d6d7e"
-RC = {
-    "svg.hashsalt": "kitleaf",  # fixed ids: the same input gives the same bytes
-    "svg.fonttype": "none",
-    "font.family": "DejaVu Sans",
-    "font.size": 9,
-}
 FRAME_COLOUR = "#444444"
 GRID_COLOUR = "#d5d8dc"
+MINOR_COLOUR = "#e5e8e8"
 FONT = FontProperties(family="DejaVu Sans", size=9)
-LEGEND_PT = 7.5  # legend and corner labels
+FONT_PT, TITLE_PT, LEGEND_PT = 9.0, 10.0, 7.5  # axis text; the plot's title; legend, corners
 TICK_PT, PAD_PT = 3.5, 3.5  # tick length and the gap to its label, in points
 LABEL_PAD_PT = 5.0  # from the tick labels to the axis label
+TITLE_PAD_PT = 6.0  # from a panel's top edge to its title's baseline
 LINE_EM = 1.17  # DejaVu Sans's line height in font sizes
-# The x axis is linear in log10(f): the same picture as a log scale, without the scale
-# object and the non-affine transform matplotlib builds and applies for one on every draw.
+# The x axis is linear in log10(f), decades labelled and the steps between them ruled faintly.
 DECADES = (1.0, 2.0, 3.0, 4.0)
 DECADE_LABELS = tuple(format_value(10**d, "frequency") for d in DECADES)
 MINOR = tuple(float(np.log10(m)) + d for d in DECADES for m in (2, 3, 4, 5, 6, 7, 8, 9))
 WIDTH_IN = 7.2
 PANEL_IN, TOP_IN, BOTTOM_IN, LEFT_IN, RIGHT_IN = 2.45, 0.42, 0.5, 0.62, 1.95
+PANEL_GAP_IN = 0.55  # between panels, as a share of a panel's nominal height per row
 SPAN_DB = 60.0  # dB shown below the highest curve; quieter curves leave the bottom edge
 
 
@@ -87,60 +78,82 @@ class ResponsePlot:
     panels: tuple[Panel, ...]
 
 
+@dataclass(frozen=True)
+class Frame:
+    """A panel's rectangle on the sheet in points (y down) and the data ranges it shows."""
+
+    left: float
+    top: float
+    width: float
+    height: float
+    x_range: tuple[float, float]
+    y_range: tuple[float, float]
+
+    def x(self, value):
+        low, high = self.x_range
+        return self.left + (np.asarray(value, float) - low) * (self.width / (high - low))
+
+    def y(self, value):
+        low, high = self.y_range
+        return self.top + (high - np.asarray(value, float)) * (self.height / (high - low))
+
+    @property
+    def right(self) -> float:
+        return self.left + self.width
+
+    @property
+    def bottom(self) -> float:
+        return self.top + self.height
+
+
 def render_response_svg(plot: ResponsePlot) -> str:
     """The plot as SVG text; the same plot always gives the same bytes."""
-    with matplotlib.rc_context(RC):
-        fig = draw_figure(plot)
-        out = io.StringIO()
-        fig.savefig(out, format="svg", metadata={"Date": None, "Creator": "kitleaf"})
-    return out.getvalue()
-
-
-def render_response_png(plot: ResponsePlot, dpi: int = 110) -> bytes:
-    """The same figure as PNG, for looking at a plot while working on it."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-
-    with matplotlib.rc_context(RC):
-        fig = draw_figure(plot)
-        FigureCanvasAgg(fig)
-        out = io.BytesIO()
-        fig.savefig(out, format="png", dpi=dpi, metadata={"Software": None})
-    return out.getvalue()
-
-
-def draw_figure(plot: ResponsePlot) -> Figure:
     rows = max(len(plot.panels), 1)
-    height = 0.75 + PANEL_IN * rows
-    fig = Figure(figsize=(WIDTH_IN, height), dpi=100)
-    FigureCanvasSVG(fig)
-    # Fixed margins in inches (a layout engine costs more than the drawing itself).
-    fig.subplots_adjust(left=LEFT_IN / WIDTH_IN, right=1 - RIGHT_IN / WIDTH_IN,
-                        top=1 - TOP_IN / height, bottom=BOTTOM_IN / height,
-                        hspace=0.55 / PANEL_IN * rows)
-    fig.text(0.02, 0.98, plot.title, fontsize=10, fontweight="bold", ha="left", va="top")
-    for i, panel in enumerate(plot.panels):
-        ax = fig.add_subplot(rows, 1, i + 1)
-        _draw(ax, np.log10(plot.freqs), panel, last=i == rows - 1)
-    return fig
+    height = (0.75 + PANEL_IN * rows) * 72
+    sheet = Sheet(WIDTH_IN * 72, height, title=plot.title)
+    sheet.rect(0, 0, sheet.width, height, "fill: #ffffff")
+    sheet.text(0.02 * sheet.width, 0.02 * height, plot.title, TITLE_PT, va="top",
+               extra="; font-weight: 700")
+    log_f = np.log10(plot.freqs)
+    prefix = "k" + hashlib.sha256(plot.title.encode()).hexdigest()[:8]  # clip ids, if inlined
+    for i, (panel, box) in enumerate(zip(plot.panels, panel_boxes(rows, height), strict=False)):
+        _draw(sheet, f"{prefix}-{i + 1}", box, log_f, panel, last=i == rows - 1)
+    return sheet.svg()
 
 
-def _draw(ax, log_f: np.ndarray, panel: Panel, last: bool) -> None:
+def panel_boxes(rows: int, height: float) -> list[tuple[float, float, float, float]]:
+    """(left, top, width, height) of each panel in points: fixed margins, equal panels."""
+    gap = PANEL_GAP_IN / PANEL_IN * rows  # as a share of a panel's height
+    inner = height - (TOP_IN + BOTTOM_IN) * 72
+    each = inner / (rows + gap * (rows - 1))
+    width = (WIDTH_IN - LEFT_IN - RIGHT_IN) * 72
+    return [(LEFT_IN * 72, TOP_IN * 72 + i * each * (1 + gap), width, each) for i in range(rows)]
+
+
+def _draw(sheet: Sheet, name: str, box, log_f: np.ndarray, panel: Panel, last: bool) -> None:
     top = max(max(c.gain_db) for c in panel.curves)
     floor = max(min(min(c.gain_db) for c in panel.curves), top - SPAN_DB)
-    entries = []  # (handle, label) for the legend, in drawing order
+    frame = Frame(*box, x_range=(log_f[0], log_f[-1]), y_range=(floor - 3.0, top + 6.0))
+    clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
+    values = _y_ticks(frame)
+    _rules(sheet, frame, x=MINOR, style=f"stroke: {MINOR_COLOUR}; stroke-width: 0.3", clip=clip)
+    entries = []  # (style, label) for the legend, in drawing order
     if panel.band_low:
-        ax.fill_between(log_f, panel.band_low, panel.band_high, color=BAND_COLOUR,
-                        linewidth=0, zorder=1)
+        _band(sheet, frame, log_f, panel, clip)
         entries.append((None, "part tolerances (5–95 %)"))
+    grid = f"stroke: {GRID_COLOUR}; stroke-width: 0.6"
+    _rules(sheet, frame, x=DECADES, style=grid, clip=clip)
+    _rules(sheet, frame, y=values, style=grid, clip=clip)
+    _corners(sheet, frame, panel.corners, clip)
+    sheet.rect(frame.left, frame.top, frame.width, frame.height,
+               f"fill: none; stroke: {FRAME_COLOUR}; stroke-width: 0.8; stroke-linejoin: miter")
     for i, curve in enumerate(panel.curves):
-        colour, dashes, width = STYLES[_style(i, len(panel.curves))]
-        below = max(curve.gain_db) < floor
-        ax.plot(log_f, curve.gain_db, color=colour, linestyle=dashes, linewidth=width, zorder=3)
-        entries.append(((colour, dashes, width), curve.label + (" (below the plot)" if below
-                                                                else "")))
-    _corners(ax, panel.corners)
-    _axes(ax, log_f, floor - 3.0, top + 6.0, panel.title, last)
-    _legend(ax, entries)
+        style = STYLES[_style(i, len(panel.curves))]
+        sheet.path(polyline(frame.x(log_f), frame.y(curve.gain_db)), _line(*style), clip)
+        below = " (below the plot)" if max(curve.gain_db) < floor else ""
+        entries.append((style, curve.label + below))
+    _axes(sheet, frame, values, panel.title, last)
+    _legend(sheet, frame, entries)
 
 
 def _style(i: int, count: int) -> int:
@@ -148,84 +161,71 @@ def _style(i: int, count: int) -> int:
     return 2 if count == 1 else i % len(STYLES)
 
 
-def _corners(ax, corners: tuple[tuple[float, str], ...]) -> None:
+def _stroke(colour: str, dashes, width: float) -> str:
+    # matplotlib's caps: a solid line's ends project by half its width, dashes end flat
+    cap = "; stroke-linecap: square" if dashes == "-" else ""
+    return f"stroke: {colour}; stroke-width: {num(width)}{dash_array(dashes, width)}{cap}"
+
+
+def _line(colour: str, dashes, width: float) -> str:
+    return "fill: none; " + _stroke(colour, dashes, width)
+
+
+def _band(sheet: Sheet, frame: Frame, log_f: np.ndarray, panel: Panel, clip: str) -> None:
+    """The tolerance band as one closed outline: along the high edge, back along the low."""
+    xs = frame.x(np.concatenate([log_f, log_f[::-1]]))
+    ys = frame.y(np.concatenate([panel.band_high, panel.band_low[::-1]]))
+    sheet.path(polyline(xs, ys) + "Z", f"fill: {BAND_COLOUR}", clip)
+
+
+def _rules(sheet: Sheet, frame: Frame, style: str, clip: str, x=(), y=()) -> None:
+    """Lines across the panel at data values ``x`` (vertical) or ``y`` (horizontal), one path."""
+    top, bottom, left, right = (num(v) for v in (frame.top, frame.bottom, frame.left, frame.right))
+    segments = [f"M{num(v)} {bottom}V{top}" for v in frame.x(x).tolist()]
+    segments += [f"M{left} {num(v)}H{right}" for v in frame.y(y).tolist()]
+    if segments:
+        sheet.path("".join(segments), "fill: none; " + style, clip)
+
+
+def _corners(sheet: Sheet, frame: Frame, corners, clip: str) -> None:
     if not corners:
         return
-    _rules(ax, [np.log10(hz) for hz, _ in corners], ax.get_xaxis_transform(), color=CORNER_COLOUR,
-           linestyle=(0, (2, 2)), linewidth=0.9, zorder=2)
-    at = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, x=3, y=-3, units="points")
-    for hz, label in corners:
-        ax.figure.text(np.log10(hz), 1.0, label, transform=at, va="top", fontsize=LEGEND_PT,
-                       color="#333333")
+    x = [float(np.log10(hz)) for hz, _ in corners]
+    _rules(sheet, frame, x=x, clip=clip, style=_stroke(CORNER_COLOUR, (0, (2, 2)), 0.9))
+    for at, (_, label) in zip(frame.x(x).tolist(), corners, strict=True):
+        sheet.text(at + 3, frame.top + 3, label, LEGEND_PT, va="top", extra="; fill: #333333")
 
 
-def _rules(ax, values, transform, **style) -> None:
-    """Lines across the panel at ``values`` (x in a blended x transform, or y), one collection
-    added as is: ``vlines`` would also work out data limits we set by hand anyway."""
-    flip = transform is ax.get_yaxis_transform()
-    segments = [((0, v), (1, v)) if flip else ((v, 0), (v, 1)) for v in values]
-    ax.add_collection(LineCollection(segments, transform=transform, **style), autolim=False)
-
-
-def _axes(ax, log_f: np.ndarray, low: float, high: float, title: str, last: bool) -> None:
-    """Limits, frame, grid, ticks and labels as a few plain artists (see the module note)."""
-    ax.set_xlim(log_f[0], log_f[-1])
-    ax.set_ylim(low, high)
-    ax.set_axis_off()
-    fig = ax.figure
-    ax.add_artist(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False, clip_on=False,
-                            edgecolor=FRAME_COLOUR, linewidth=0.8, zorder=2.5))
-    # The in-between lines as one collection: far cheaper to draw than minor ticks.
-    _rules(ax, MINOR, ax.get_xaxis_transform(), linewidth=0.3, color="#e5e8e8", zorder=0)
-    values = _y_ticks(ax, low, high)
-    _rules(ax, DECADES, ax.get_xaxis_transform(), color=GRID_COLOUR, linewidth=0.6,
-           zorder=1.5)
-    _rules(ax, values, ax.get_yaxis_transform(), color=GRID_COLOUR, linewidth=0.6, zorder=1.5)
-    _x_labels(ax)
-    width = _y_labels(ax, values)
-    fig.text(0, 0.5, "Gain (dB)", rotation=90, ha="right", va="center", fontproperties=FONT,
-             transform=offset_copy(ax.transAxes, fig=fig, units="points",
-                                   x=-(TICK_PT + PAD_PT + width + LABEL_PAD_PT)))
+def _axes(sheet: Sheet, frame: Frame, values: list[float], title: str, last: bool) -> None:
+    """Ticks and their labels on the bottom and left edges, the axis labels, the title."""
+    xs, ys = frame.x(DECADES).tolist(), frame.y(values).tolist()
+    ticks = [f"M{num(x)} {num(frame.bottom)}v{num(TICK_PT)}" for x in xs]
+    ticks += [f"M{num(frame.left)} {num(y)}h{num(-TICK_PT)}" for y in ys]
+    sheet.path("".join(ticks), "fill: none; stroke: #000000; stroke-width: 0.8")
+    for x, label in zip(xs, DECADE_LABELS, strict=True):
+        sheet.text(x, frame.bottom + TICK_PT + PAD_PT, label, FONT_PT, ha="center", va="top")
+    labels = _number_labels(values)
+    for y, label in zip(ys, labels, strict=True):
+        sheet.text(frame.left - TICK_PT - PAD_PT, y, label, FONT_PT, ha="right",
+                   va="center_baseline")
+    width = max(map(_width_pt, labels), default=0.0)
+    sheet.upright_text(frame.left - (TICK_PT + PAD_PT + width + LABEL_PAD_PT),
+                       frame.top + frame.height / 2, "Gain (dB)", FONT_PT)
     if last:
-        fig.text(0.5, 0, "Frequency", ha="center", va="top", fontproperties=FONT,
-                 transform=offset_copy(ax.transAxes, fig=fig, units="points",
-                                       y=-(TICK_PT + PAD_PT + LINE_EM * FONT.get_size()
-                                          + LABEL_PAD_PT)))
+        sheet.text(frame.left + frame.width / 2, frame.bottom + TICK_PT + PAD_PT
+                   + LINE_EM * FONT_PT + LABEL_PAD_PT, "Frequency", FONT_PT, ha="center",
+                   va="top")
     if title:
-        ax.set_title(title, fontsize=9, loc="left", y=1.0)  # a fixed y skips a layout pass
+        sheet.text(frame.left, frame.top - TITLE_PAD_PT, title, FONT_PT)
 
 
-def _y_ticks(ax, low: float, high: float) -> list[float]:
+def _y_ticks(frame: Frame) -> list[float]:
     """Round steps as matplotlib's own locator picks them, one per two label heights."""
-    height_pt = ax.get_position().height * ax.figure.get_figheight() * 72
-    locator = MaxNLocator(nbins=max(int(height_pt // (2 * FONT.get_size())), 1),
+    low, high = frame.y_range
+    locator = MaxNLocator(nbins=max(int(frame.height // (2 * FONT_PT)), 1),
                           steps=[1, 2, 2.5, 5, 10])
     span = (high - low) * 1e-9
     return [float(v) for v in locator.tick_values(low, high) if low - span <= v <= high + span]
-
-
-def _x_labels(ax) -> None:
-    ax.figure.add_artist(Line2D(DECADES, [0] * len(DECADES), transform=ax.get_xaxis_transform(),
-                                linestyle="none", marker=TICKDOWN, markersize=TICK_PT,
-                                markeredgewidth=0.8, color="black"))
-    at = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, y=-(TICK_PT + PAD_PT),
-                     units="points")
-    for decade, label in zip(DECADES, DECADE_LABELS, strict=True):
-        ax.figure.text(decade, 0, label, transform=at, ha="center", va="top", fontproperties=FONT)
-
-
-def _y_labels(ax, values: list[float]) -> float:
-    """Tick marks and labels on the left edge; returns the widest label's width in points."""
-    ax.figure.add_artist(Line2D([0] * len(values), values, transform=ax.get_yaxis_transform(),
-                                linestyle="none", marker=TICKLEFT, markersize=TICK_PT,
-                                markeredgewidth=0.8, color="black"))
-    at = offset_copy(ax.get_yaxis_transform(), fig=ax.figure, x=-(TICK_PT + PAD_PT),
-                     units="points")
-    labels = _number_labels(values)
-    for value, label in zip(values, labels, strict=True):
-        ax.figure.text(0, value, label, transform=at, ha="right", va="center_baseline",
-                       fontproperties=FONT)
-    return max(map(_width_pt, labels), default=0.0)
 
 
 @functools.lru_cache(maxsize=256)
@@ -242,22 +242,16 @@ def _number_labels(values: list[float]) -> list[str]:
             f"{0:.{decimals}f}" for v in values]
 
 
-def _legend(ax, entries: list) -> None:
-    """Handles and labels in a column centred beside the panel, in points from its anchor."""
+def _legend(sheet: Sheet, frame: Frame, entries: list) -> None:
+    """Handles and labels in a column centred beside the panel."""
     row = LEGEND_PT * (LINE_EM + 0.5)  # a line and half a font size between lines
     handle, gap = 3.2 * LEGEND_PT, 0.8 * LEGEND_PT
-    anchor = Affine2D().scale(1 / 72) + ax.figure.dpi_scale_trans + ScaledTranslation(
-        1.01, 0.5, ax.transAxes)
-    x0 = 0.9 * LEGEND_PT  # matplotlib's border padding and the gap to the axes
+    x0 = frame.right + 0.01 * frame.width + 0.9 * LEGEND_PT  # border pad and gap to the axes
+    middle = frame.top + frame.height / 2
     for k, (style, label) in enumerate(entries):
-        y = row * ((len(entries) - 1) / 2 - k)
+        y = middle - row * ((len(entries) - 1) / 2 - k)
         if style is None:
-            ax.figure.add_artist(Rectangle((x0, y - 0.35 * LEGEND_PT), handle,
-                                           0.7 * LEGEND_PT, transform=anchor,
-                                           color=BAND_COLOUR, linewidth=0))
+            sheet.rect(x0, y - 0.35 * LEGEND_PT, handle, 0.7 * LEGEND_PT, f"fill: {BAND_COLOUR}")
         else:
-            colour, dashes, width = style
-            ax.figure.add_artist(Line2D([x0, x0 + handle], [y, y], transform=anchor,
-                                        color=colour, linestyle=dashes, linewidth=width))
-        ax.figure.text(x0 + handle + gap, y, label, transform=anchor, va="center", ha="left",
-                       fontsize=LEGEND_PT)
+            sheet.path(f"M{num(x0)} {num(y)}H{num(x0 + handle)}", _line(*style))
+        sheet.text(x0 + handle + gap, y, label, LEGEND_PT, va="center")
