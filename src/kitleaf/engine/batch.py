@@ -17,6 +17,7 @@ import numpy as np
 from kitleaf.engine import elements as el
 from kitleaf.engine.ac import small_signal
 from kitleaf.engine.compile import Layout, System, compile_circuit
+from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack
 from kitleaf.engine.ports import PoleResidue, modal, port_form
@@ -139,6 +140,47 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
         solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),
                        factors, system, problem)
+
+
+def share_operating_point(result: BatchResult, circuit) -> BatchResult:
+    """``circuit`` at ``result``'s operating point, with its drawn parts and devices.
+
+    Exact only when ``circuit`` differs from ``result``'s circuit in parts that carry no DC
+    current there (a pot moved with both legs at zero volts): the same unknowns then satisfy
+    both circuits' DC equations, so no Newton solve is needed. The caller checks that.
+    ``result``'s small-signal matrices (built now if need be) are reused, the differing
+    linear entries restamped, so every entry equals a fresh linearisation bit for bit.
+    """
+    system = compile_circuit(circuit)
+    if system.layout != result.layout:
+        raise SolveError("the circuits' unknowns differ; their operating points cannot be shared")
+    banks = None if result.factors is None else result.problem.devices.banks
+    problem = problem_for(system, result.factors, banks)
+    shared = BatchResult(system.layout, result.x, result.params, result.factors, system, problem)
+    restamped = _restamped(result, shared)
+    if restamped is not None:
+        shared.__dict__["matrices"] = restamped  # the cached_property's own slot
+    return shared
+
+
+def _restamped(old: BatchResult, new: BatchResult) -> tuple[np.ndarray, np.ndarray] | None:
+    """``new``'s G and C from ``old``'s: entries whose linear stamps differ are summed again
+    as :func:`small_signal` sums them; None when C differs (a fresh build is as quick)."""
+    g_old, c_old = old.system.matrices(old.factors)
+    g_new, c_new = new.system.matrices(new.factors)
+    if not np.array_equal(c_old, c_new):
+        return None
+    changed = np.any(g_old != g_new, axis=0)
+    g, c = old.matrices
+    g = g.copy()
+    g_new = np.broadcast_to(g_new, g.shape)
+    devices = new.problem.devices
+    if devices.banks and changed.any():
+        v = devices.junctions(extend(new.x))
+        g[:, changed] = g_new[:, changed] + devices.linearise(v, v)[1][:, changed]
+    else:
+        g[:, changed] = g_new[:, changed]
+    return g, c
 
 
 def _nominal(system: System):

@@ -15,8 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kitleaf.engine import BatchResult, PoleResidue, solve_batch
-from kitleaf.engine.compile import compile_circuit
-from kitleaf.engine.dc import problem_for
+from kitleaf.engine.batch import share_operating_point
 
 SAMPLES = 200  # enough for stable 5th and 95th percentiles at the shown precision
 SEED = 1
@@ -126,10 +125,4 @@ def solve_alike(circuit, like: Batch) -> Batch:
     """
     if like.index is not None:
         raise ValueError("an operating point is shared by a whole batch only")
-    src = like.system
-    system = compile_circuit(circuit)
-    if system.layout != src.layout:
-        raise ValueError("the circuits' unknowns differ; their operating points cannot be shared")
-    banks = None if src.factors is None else src.problem.devices.banks
-    problem = problem_for(system, src.factors, banks)
-    return Batch(BatchResult(system.layout, src.x, src.params, src.factors, system, problem))
+    return Batch(share_operating_point(like.system, circuit))
