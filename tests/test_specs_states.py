@@ -11,6 +11,7 @@ import pytest
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
 from kitleaf.engine import Circuit
+from kitleaf.errors import SolveError
 from kitleaf.guide import parse_guide
 from kitleaf.specs.batch import solve_nominal, solve_samples
 from kitleaf.specs.derive import KNOB_STEPS, Kit
@@ -84,3 +85,19 @@ def test_a_pot_is_idle_only_with_no_volts_across_its_legs():
 
 def test_a_new_supply_is_solved_afresh():
     assert not any(s.same_dc for s in kit_states("brookside-boost").by_supply)
+
+
+@pytest.mark.parametrize("name", DEMOS)
+def test_samples_started_from_a_given_nominal_batch_match_their_own_nominal_start(name):
+    # The engine's own nominal start is the reference: the same samples, bit for bit.
+    circuit = kit_states(name).base.circuit
+    given = solve_samples(circuit, nominal=solve_nominal(circuit))
+    own = solve_samples(circuit)
+    assert np.array_equal(given.x, own.x)
+
+
+def test_a_nominal_batch_of_another_circuit_is_refused():
+    solved = kit_states("brookside-boost")
+    other = next(s for s in solved.by_supply if s is not solved.base)
+    with pytest.raises(SolveError, match="another circuit"):
+        solve_samples(solved.base.circuit, nominal=other.nominal.batch)

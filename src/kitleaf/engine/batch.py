@@ -38,6 +38,8 @@ class BatchResult:
     factors: np.ndarray | None = field(repr=False)  # (samples, parts) or None (nominal)
     system: System = field(repr=False, compare=False)
     problem: Problem = field(repr=False, compare=False)
+    # each bank's junction voltages Newton ended at, per sample (a nominal start uses them)
+    vstar: list | None = field(default=None, repr=False, compare=False)
 
     @property
     def size(self) -> int:
@@ -120,12 +122,15 @@ class BatchResult:
 
 
 def solve_batch(circuit, samples: int | None = None, seed: int = 1,
-                distribution: str = "uniform", start: np.ndarray | None = None) -> BatchResult:
+                distribution: str = "uniform", start: np.ndarray | None = None,
+                nominal: BatchResult | None = None) -> BatchResult:
     """The circuit's nominal operating point (``samples`` None: a batch of one) or
     ``samples`` seeded variants within part tolerances and device spreads.
 
     Newton starts every sample at the nominal operating point, or at ``start`` (samples, n):
-    the same samples solved in a nearby state (another knob position, say).
+    the same samples solved in a nearby state (another knob position, say). ``nominal`` is
+    this circuit's nominal batch when the caller has solved it already: the samples then
+    start from it as from a nominal solve of their own, bit for bit.
     """
     system = compile_circuit(circuit)
     if samples is None:
@@ -136,10 +141,10 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
             raise SolveError(f"a batch needs samples >= 1 and a distribution in "
                              f"{DISTRIBUTIONS}")
         problem, factors, _ = draw_problem(system, samples, seed, distribution)
-        state = _started(system, problem, samples, start)
+        state = _started(system, problem, samples, start, nominal)
         solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),
-                       factors, system, problem)
+                       factors, system, problem, state.vstar)
 
 
 def share_operating_point(result: BatchResult, circuit) -> BatchResult:
@@ -156,7 +161,8 @@ def share_operating_point(result: BatchResult, circuit) -> BatchResult:
         raise SolveError("the circuits' unknowns differ; their operating points cannot be shared")
     banks = None if result.factors is None else result.problem.devices.banks
     problem = problem_for(system, result.factors, banks)
-    shared = BatchResult(system.layout, result.x, result.params, result.factors, system, problem)
+    shared = BatchResult(system.layout, result.x, result.params, result.factors, system,
+                         problem, result.vstar)
     restamped = _restamped(result, shared)
     if restamped is not None:
         shared.__dict__["matrices"] = restamped  # the cached_property's own slot
@@ -188,13 +194,29 @@ def _nominal(system: System):
     return problem, None
 
 
-def _started(system: System, problem: Problem, samples: int, start) -> State:
+def _started(system: System, problem: Problem, samples: int, start, nominal) -> State:
+    if start is None and nominal is not None:
+        return _from_nominal(system, problem, samples, nominal)
     if start is None:
         return nominal_state(system, problem, samples)
     state = initial_state(problem, samples)
     state.x[:] = start
     # junction voltages that match the start point, so Newton's first step is not limited
     state.vstar = [np.array(v) for v in problem.devices.junctions(extend(state.x))]
+    state.fresh = False
+    return state
+
+
+def _from_nominal(system: System, problem: Problem, samples: int,
+                  nominal: BatchResult) -> State:
+    """As :func:`nominal_state`, with the nominal solve taken from ``nominal``."""
+    if (nominal.factors is not None or nominal.vstar is None
+            or nominal.system.elements != system.elements):
+        raise SolveError("the nominal batch was solved for another circuit")
+    state = initial_state(problem, samples)
+    state.x[:] = nominal.x
+    for whole, v in zip(state.vstar, nominal.vstar, strict=True):
+        whole[:] = v
     state.fresh = False
     return state
 

@@ -107,13 +107,15 @@ def solve_nominal(circuit) -> Batch:
 
 
 def solve_samples(circuit, samples: int = SAMPLES, seed: int = SEED,
-                  start: np.ndarray | None = None) -> Batch:
+                  start: np.ndarray | None = None, nominal: Batch | None = None) -> Batch:
     """``samples`` seeded variants within part tolerances and device spreads (uniform).
 
-    Newton starts every sample at the nominal operating point, or at ``start`` (samples, n):
-    the same samples solved in a nearby state, such as another knob position.
+    Newton starts every sample at the nominal operating point (``nominal``, this circuit's
+    :func:`solve_nominal`, saves solving it again), or at ``start`` (samples, n): the same
+    samples solved in a nearby state, such as another knob position.
     """
-    return Batch(solve_batch(circuit, samples, seed, "uniform", start))
+    known = None if nominal is None else nominal.system
+    return Batch(solve_batch(circuit, samples, seed, "uniform", start, nominal=known))
 
 
 def solve_alike(circuit, like: Batch) -> Batch:

@@ -62,8 +62,9 @@ class KitState:
         otherwise solved with Newton started from the nearby state's samples (if any)."""
         if self.same_dc:
             return View(solve_alike(self.circuit, self.near.samples.batch))
-        start = None if self.near is None else self.near.samples.batch.x
-        return View(solve_samples(self.circuit, start=start))
+        if self.near is None:
+            return View(solve_samples(self.circuit, nominal=self.nominal.batch))
+        return View(solve_samples(self.circuit, start=self.near.samples.batch.x))
 
     def range(self, measure: Callable[[View], np.ndarray]) -> Range | None:
         """``measure`` nominally and its 5th-95th percentiles over the samples; None when the
