@@ -95,7 +95,7 @@ def test_curves_and_corner_sit_where_the_axis_labels_say():
     root = svg_tree(plot)
     found = texts(root)
     x10, x100 = found["10 Hz"][0][0], found["100 Hz"][0][0]
-    ticks = next(e.get("d") for e in root.iter(f"{SVG}path") if "#000000" in e.get("style"))
+    ticks = "".join(e.get("d") for e in root.iter(f"{SVG}path") if "#000000" in e.get("style"))
     tick_y = sorted(float(y) for y in re.findall(r"M[\d.]+ ([\d.]+)h", ticks))
     tick_db = [float(t.text.replace("\u2212", "-")) for t in sorted(
         (t for t in root.iter(f"{SVG}text") if t.get("style", "").endswith("anchor: end")),

@@ -136,24 +136,38 @@ def _draw(sheet: Sheet, name: str, box, log_f: np.ndarray, panel: Panel, last: b
     frame = Frame(*box, x_range=(log_f[0], log_f[-1]), y_range=(floor - 3.0, top + 6.0))
     clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
     values = _y_ticks(frame)
+    _background(sheet, frame, log_f, panel, values, clip)
+    entries = [(None, "part tolerances (5–95 %)")] if panel.band_low else []
+    entries += _curves(sheet, frame, log_f, panel.curves, floor, clip)
+    _x_axis(sheet, frame, last)
+    _y_axis(sheet, frame, values)
+    if panel.title:
+        sheet.text(frame.left, frame.top - TITLE_PAD_PT, panel.title, FONT_PT)
+    _legend(sheet, frame, entries)
+
+
+def _background(sheet: Sheet, frame: Frame, log_f, panel: Panel, values, clip: str) -> None:
+    """Everything behind the curves, back to front: faint rules, band, grid, corners, frame."""
     _rules(sheet, frame, x=MINOR, style=f"stroke: {MINOR_COLOUR}; stroke-width: 0.3", clip=clip)
-    entries = []  # (style, label) for the legend, in drawing order
     if panel.band_low:
         _band(sheet, frame, log_f, panel, clip)
-        entries.append((None, "part tolerances (5–95 %)"))
     grid = f"stroke: {GRID_COLOUR}; stroke-width: 0.6"
     _rules(sheet, frame, x=DECADES, style=grid, clip=clip)
     _rules(sheet, frame, y=values, style=grid, clip=clip)
     _corners(sheet, frame, panel.corners, clip)
     sheet.rect(frame.left, frame.top, frame.width, frame.height,
                f"fill: none; stroke: {FRAME_COLOUR}; stroke-width: 0.8; stroke-linejoin: miter")
-    for i, curve in enumerate(panel.curves):
-        style = STYLES[_style(i, len(panel.curves))]
+
+
+def _curves(sheet: Sheet, frame: Frame, log_f, curves, floor: float, clip: str) -> list:
+    """The curves in their styles; returns their legend entries (style, label)."""
+    entries = []
+    for i, curve in enumerate(curves):
+        style = STYLES[_style(i, len(curves))]
         sheet.path(polyline(frame.x(log_f), frame.y(curve.gain_db)), _line(*style), clip)
         below = " (below the plot)" if max(curve.gain_db) < floor else ""
         entries.append((style, curve.label + below))
-    _axes(sheet, frame, values, panel.title, last)
-    _legend(sheet, frame, entries)
+    return entries
 
 
 def _style(i: int, count: int) -> int:
@@ -196,14 +210,24 @@ def _corners(sheet: Sheet, frame: Frame, corners, clip: str) -> None:
         sheet.text(at + 3, frame.top + 3, label, LEGEND_PT, va="top", extra="; fill: #333333")
 
 
-def _axes(sheet: Sheet, frame: Frame, values: list[float], title: str, last: bool) -> None:
-    """Ticks and their labels on the bottom and left edges, the axis labels, the title."""
-    xs, ys = frame.x(DECADES).tolist(), frame.y(values).tolist()
-    ticks = [f"M{num(x)} {num(frame.bottom)}v{num(TICK_PT)}" for x in xs]
-    ticks += [f"M{num(frame.left)} {num(y)}h{num(-TICK_PT)}" for y in ys]
-    sheet.path("".join(ticks), "fill: none; stroke: #000000; stroke-width: 0.8")
+def _x_axis(sheet: Sheet, frame: Frame, last: bool) -> None:
+    """Decade ticks and labels under the panel; the axis label under the last panel only."""
+    xs = frame.x(DECADES).tolist()
+    ticks = "".join(f"M{num(x)} {num(frame.bottom)}v{num(TICK_PT)}" for x in xs)
+    sheet.path(ticks, "fill: none; stroke: #000000; stroke-width: 0.8")
     for x, label in zip(xs, DECADE_LABELS, strict=True):
         sheet.text(x, frame.bottom + TICK_PT + PAD_PT, label, FONT_PT, ha="center", va="top")
+    if last:
+        sheet.text(frame.left + frame.width / 2, frame.bottom + TICK_PT + PAD_PT
+                   + LINE_EM * FONT_PT + LABEL_PAD_PT, "Frequency", FONT_PT, ha="center",
+                   va="top")
+
+
+def _y_axis(sheet: Sheet, frame: Frame, values: list[float]) -> None:
+    """dB ticks and labels left of the panel, the axis label clear of the widest of them."""
+    ys = frame.y(values).tolist()
+    ticks = "".join(f"M{num(frame.left)} {num(y)}h{num(-TICK_PT)}" for y in ys)
+    sheet.path(ticks, "fill: none; stroke: #000000; stroke-width: 0.8")
     labels = _number_labels(values)
     for y, label in zip(ys, labels, strict=True):
         sheet.text(frame.left - TICK_PT - PAD_PT, y, label, FONT_PT, ha="right",
@@ -211,12 +235,6 @@ def _axes(sheet: Sheet, frame: Frame, values: list[float], title: str, last: boo
     width = max(map(_width_pt, labels), default=0.0)
     sheet.upright_text(frame.left - (TICK_PT + PAD_PT + width + LABEL_PAD_PT),
                        frame.top + frame.height / 2, "Gain (dB)", FONT_PT)
-    if last:
-        sheet.text(frame.left + frame.width / 2, frame.bottom + TICK_PT + PAD_PT
-                   + LINE_EM * FONT_PT + LABEL_PAD_PT, "Frequency", FONT_PT, ha="center",
-                   va="top")
-    if title:
-        sheet.text(frame.left, frame.top - TITLE_PAD_PT, title, FONT_PT)
 
 
 def _y_ticks(frame: Frame) -> list[float]:
