@@ -83,15 +83,19 @@ class BatchResult:
 
         ``opened`` names a voltage source whose branch is forced to carry no current (the
         source taken out); ``samples`` restricts the solve to those sample indices."""
-        g, c = self._opened(opened)
+        g, c = self.matrices
         if samples is not None:
             g, c = g[samples], c[samples]
         f = np.asarray(freqs, float)
         f = np.broadcast_to(f, (g.shape[0], f.shape[-1]))
+        k = None if opened is None else self.layout.branch(opened)
         parts = []
         for start in range(0, f.shape[1], FREQ_CHUNK):
             s = 2j * np.pi * f[:, start:start + FREQ_CHUNK]
             a = g[:, None] + s[:, :, None, None] * c[:, None]
+            if k is not None:  # the branch's row says its current is zero
+                a[:, :, k, :] = 0.0
+                a[:, :, k, k] = 1.0
             parts.append(solve_stack(a, np.broadcast_to(rhs.astype(complex), a.shape[:-1])))
         return np.concatenate(parts, axis=1)
 
@@ -109,16 +113,6 @@ class BatchResult:
         ports = port_form(self.system, partition(self.system), self.problem, self.x,
                           self.factors, rhs[None, :], rows)
         return modal(ports, check_hz)
-
-    def _opened(self, branch: str | None) -> tuple[np.ndarray, np.ndarray]:
-        g, c = self.matrices
-        if branch is None:
-            return g, c
-        k = self.layout.branch(branch)
-        g, c = g.copy(), c.copy()
-        g[:, k, :], c[:, k, :] = 0.0, 0.0
-        g[:, k, k] = 1.0
-        return g, c
 
 
 def solve_batch(circuit, samples: int | None = None, seed: int = 1,
