@@ -147,40 +147,14 @@ def share_operating_point(result: BatchResult, circuit) -> BatchResult:
     Exact only when ``circuit`` differs from ``result``'s circuit in parts that carry no DC
     current there (a pot moved with both legs at zero volts): the same unknowns then satisfy
     both circuits' DC equations, so no Newton solve is needed. The caller checks that.
-    ``result``'s small-signal matrices (built now if need be) are reused, the differing
-    linear entries restamped, so every entry equals a fresh linearisation bit for bit.
     """
     system = compile_circuit(circuit)
     if system.layout != result.layout:
         raise SolveError("the circuits' unknowns differ; their operating points cannot be shared")
     banks = None if result.factors is None else result.problem.devices.banks
     problem = problem_for(system, result.factors, banks)
-    shared = BatchResult(system.layout, result.x, result.params, result.factors, system,
-                         problem, result.vstar)
-    restamped = _restamped(result, shared)
-    if restamped is not None:
-        shared.__dict__["matrices"] = restamped  # the cached_property's own slot
-    return shared
-
-
-def _restamped(old: BatchResult, new: BatchResult) -> tuple[np.ndarray, np.ndarray] | None:
-    """``new``'s G and C from ``old``'s: entries whose linear stamps differ are summed again
-    as :func:`small_signal` sums them; None when C differs (a fresh build is as quick)."""
-    g_old, c_old = old.system.matrices(old.factors)
-    g_new, c_new = new.system.matrices(new.factors)
-    if not np.array_equal(c_old, c_new):
-        return None
-    changed = np.any(g_old != g_new, axis=0)
-    g, c = old.matrices
-    g = g.copy()
-    g_new = np.broadcast_to(g_new, g.shape)
-    devices = new.problem.devices
-    if devices.banks and changed.any():
-        v = devices.junctions(extend(new.x))
-        g[:, changed] = g_new[:, changed] + devices.linearise(v, v)[1][:, changed]
-    else:
-        g[:, changed] = g_new[:, changed]
-    return g, c
+    return BatchResult(system.layout, result.x, result.params, result.factors, system,
+                       problem, result.vstar)
 
 
 def _nominal(system: System):
