@@ -30,7 +30,15 @@ def guide_record(source: str, parts: tuple[Part, ...], specs: KitSpecs) -> dict[
     """One guide's entry: its file name, parts in designator order and the specs JSON."""
     return {"source": source,
             "parts": sorted((part_record(p) for p in parts), key=lambda r: r["designator"]),
-            "specs": specs_to_json(specs)}
+            "specs": without_curves(specs_to_json(specs))}
+
+
+def without_curves(specs: dict[str, Any]) -> dict[str, Any]:
+    """The specs JSON less its plotted curves: the change report compares figures, not plots,
+    and the curves would make the manifest some fifty times larger and slower to read."""
+    kept = {k: v for k, v in specs.items() if k != "response"}
+    kept["stages"] = [{k: v for k, v in s.items() if k != "response"} for s in specs["stages"]]
+    return kept
 
 
 def make_manifest(guides: dict[str, dict], changes: dict) -> dict[str, Any]:
