@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from kitleaf.engine.batch_lu import block
 from kitleaf.engine.eigen import eig_batch
 
 SLOW = 1e4  # seconds: a port whose own time constant exceeds this is split off (< 16 uHz)
@@ -33,7 +34,7 @@ def eig_split(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         return eig_batch(a)
     order = np.concatenate([np.flatnonzero(slow), np.flatnonzero(~slow)])
     k = int(slow.sum())
-    ap = a[:, order][:, :, order]
+    ap = block(a, order, order)
     blocks = _block_diagonal(ap[:, :k, :k], ap[:, :k, k:], ap[:, k:, :k], ap[:, k:, k:])
     if blocks is None:
         return eig_batch(a)

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from kitleaf.engine.batch_lu import solve_many
+from kitleaf.engine.batch_lu import block, solve_many
 from kitleaf.engine.compile import System, incidence
 from kitleaf.engine.deflate import eig_split
 from kitleaf.engine.newton import Problem, extend
@@ -162,7 +162,7 @@ def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.nd
     """Solutions over the unknown rows (keep, then rest) of G_UU y = rhs_U, split as
     (first column, the others)."""
     t, order = part.keep.size, np.concatenate([part.keep, part.rest])
-    g_uu = g[:, order][:, :, order]  # one copy; the blocks below are views
+    g_uu = block(g, order, order)  # one copy; the blocks below are views
     rhs_u = rhs[:, order]
     if not t or t == order.size:
         y = np.linalg.solve(g_uu, rhs_u)
@@ -184,10 +184,10 @@ def _reused_schur(g: np.ndarray, part: Partition, reduced: Reduced, r: np.ndarra
     ports = reduced.ports
     z_rhs = np.concatenate([-(ports[:, :, :f] @ vf[0])[:, :, None], ports[:, :, f:][:, :, used]],
                            axis=2)
-    g_kr = g[:, keep][:, :, rest]
+    g_kr = block(g, keep, rest)
     rhs_k = np.concatenate([r[:, keep, None], np.broadcast_to(a[keep], (g.shape[0], keep.size,
                                                                            a.shape[1]))], 2)
     back = reduced.back
-    y_keep = solve_many(g[:, keep][:, :, keep] - g_kr @ back, rhs_k - g_kr @ z_rhs)
+    y_keep = solve_many(block(g, keep, keep) - g_kr @ back, rhs_k - g_kr @ z_rhs)
     y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
     return y[:, :, :1], y[:, :, 1:]

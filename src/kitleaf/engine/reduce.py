@@ -20,7 +20,7 @@ import numpy as np
 from scipy.linalg import LinAlgWarning
 
 from kitleaf.engine import elements as el
-from kitleaf.engine.batch_lu import solve_many
+from kitleaf.engine.batch_lu import block, solve_many
 from kitleaf.engine.compile import incidence
 from kitleaf.engine.newton import Problem, State, initial_state, newton, solve_state
 from kitleaf.engine.nonlinear import Devices
@@ -148,15 +148,15 @@ def reduce_problem(problem: Problem, part: Partition) -> Reduced:
     g, keep, rest = problem.g, part.keep, part.rest
     vf = part.values(problem.b)
     r = problem.b - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
-    g_kr = g[:, keep][:, :, rest]
-    g_r = g[:, rest]
+    g_kr = block(g, keep, rest)
     caps = np.broadcast_to(part.cap_rest, (g.shape[0], *part.cap_rest.shape))
-    rhs = np.concatenate([g_r[:, :, keep], r[:, rest, None], g_r[:, :, part.fixed], caps], 2)
+    rhs = np.concatenate([block(g, rest, keep), r[:, rest, None], block(g, rest, part.fixed),
+                          caps], 2)
     # one factorisation of G_LL serves Newton and, through ``ports``, the AC response
-    solved = _solve(g_r[:, :, rest], rhs) if rest.size else rhs
+    solved = _solve(block(g, rest, rest), rhs) if rest.size else rhs
     t = keep.size
     back, base, ports = solved[:, :, :t], solved[:, :, t], solved[:, :, t + 1:]
-    g_red = g[:, keep][:, :, keep] - g_kr @ back
+    g_red = block(g, keep, keep) - g_kr @ back
     b_red = r[:, keep] - np.einsum("skl,sl->sk", g_kr, base)
     banks = problem.devices.banks
     reduced = Problem(g_red, b_red, part.remap(banks), part.node_count, vf)
