@@ -19,6 +19,9 @@ import numpy as np
 MAX_SWEEPS = 8
 MIN_SWEEPS = 4  # after these, sweeping stops once no further sample settles
 BACKWARD = 3e-12  # off-diagonal of W A V over the largest eigenvalue (LAPACK's own: ~5e-12)
+# A sample at the rounding floor: within STALLED x BACKWARD and not halving since the last
+# sweep, so further sweeps only shuffle rounding (LAPACK's own error is about that size).
+STALLED = 3.0
 DRIFT = 1e-7  # largest entry of V W - I (LAPACK's inverse of the same V: ~1e-9)
 MIN_BATCH = 64  # below this LAPACK alone is as quick
 
@@ -59,18 +62,19 @@ def _refine(a: np.ndarray, vecs0: np.ndarray, inv0: np.ndarray):
     vecs = np.broadcast_to(vecs0, a.shape).copy()
     inv = np.broadcast_to(inv0, a.shape).copy()
     settled = np.zeros(a.shape[0], dtype=bool)
+    last = np.full(a.shape[0], np.inf)  # each active sample's backward error, last sweep
     active, work = np.arange(a.shape[0]), _Work(a, vecs, inv)
     with np.errstate(all="ignore"):  # a diverging sample is caught below and re-solved
         for sweep in range(MAX_SWEEPS + 1):
             off, values[active] = work.off_diagonal()
             if sweep >= MIN_SWEEPS:
-                now = work.settled(off, values[active])
+                now, last = work.settled(off, values[active], last)
                 settled[active] = now
                 if now.all() or (not now.any() and sweep > MIN_SWEEPS) or sweep == MAX_SWEEPS:
                     break
                 if now.any():
                     work.store(vecs, inv, active)
-                    active = active[~now]
+                    active, last = active[~now], last[~now]
                     work = work.take(~now)
             work.sweep(values[active])
         work.store(vecs, inv, active)
@@ -122,15 +126,18 @@ class _Work:
         np.matmul(inv, ns, out=q)
         self.inv, self.q = q, inv
 
-    def settled(self, off: np.ndarray, values: np.ndarray) -> np.ndarray:
+    def settled(self, off: np.ndarray, values: np.ndarray, last: np.ndarray
+                ) -> tuple[np.ndarray, np.ndarray]:
         """Samples whose off-diagonal W A V (the backward error in the eigenvector basis)
-        is within LAPACK's own and whose W is V's inverse (V W = I, checked only for the
-        samples that pass the first test)."""
-        scale = np.max(np.abs(values), axis=1)
-        now = (np.max(np.abs(off), axis=(1, 2)) <= BACKWARD * scale) & np.all(
-            np.isfinite(values), axis=1)
+        is within LAPACK's own, or stalled at the rounding floor just above it, and whose W
+        is V's inverse (V W = I, checked only for the samples that pass the first test);
+        with every sample's backward error, for the next call."""
+        bound = BACKWARD * np.max(np.abs(values), axis=1)
+        error = np.max(np.abs(off), axis=(1, 2))
+        stalled = (error <= STALLED * bound) & (error > 0.5 * last)
+        now = ((error <= bound) | stalled) & np.all(np.isfinite(values), axis=1)
         idx = np.flatnonzero(now)
         product = self.vecs[idx] @ self.inv[idx]
         self.flat(product)[self.diag] -= 1.0
         now[idx] = np.abs(product).max(axis=(1, 2), initial=0.0) <= DRIFT
-        return now
+        return now, error
