@@ -129,6 +129,18 @@ def resistor_role(name: str, help: str, required: bool = True) -> Role:
     return Role(name, ("resistor",), required, help=help)
 
 
+def output_roles(source: str) -> tuple[Role, ...]:
+    """The output cap from ``source`` (the collector, the drain...), its pulldown and the
+    optional volume pot: the same three roles end every gain stage."""
+    return (
+        capacitor_role("output-cap", f"coupling capacitor from {source} to the output"),
+        resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
+                      required=False),
+        Role("volume", ("pot",), required=False,
+             help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+    )
+
+
 def place_output(stage: Stage, wiring, node: str) -> None:
     """Output cap from ``node``, its pulldown, then the volume pot (cw to the cap, wiper out)."""
     volume = stage.part("volume")

@@ -13,6 +13,7 @@ from kitleaf.circuit.stages._shared import (
     capacitor_role,
     check_family,
     is_flipped,
+    output_roles,
     place_output,
     require_together,
     resistor_role,
@@ -32,11 +33,7 @@ ROLES = (
                   required=False),
     Role("gain", ("pot",), required=False,
          help="pot in series with the bypass cap, wired so clockwise gives more gain"),
-    capacitor_role("output-cap", "coupling capacitor from the collector to the output"),
-    resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
-                  required=False),
-    Role("volume", ("pot",), required=False,
-         help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+    *output_roles("the collector"),
 )
 
 

@@ -12,6 +12,7 @@ from kitleaf.circuit.stages._shared import (
     capacitor_role,
     check_family,
     is_flipped,
+    output_roles,
     place_output,
     resistor_role,
     transistor_test_points,
@@ -25,11 +26,7 @@ ROLES = (
     Role("transistor", ("bjt",), help="the NPN or PNP transistor, e.g. Q2 2N3904"),
     resistor_role("emitter", "emitter load resistor; the output is taken here"),
     resistor_role("collector", "small collector stopper resistor", required=False),
-    capacitor_role("output-cap", "coupling capacitor from the emitter to the output"),
-    resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
-                  required=False),
-    Role("volume", ("pot",), required=False,
-         help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+    *output_roles("the emitter"),
 )
 
 

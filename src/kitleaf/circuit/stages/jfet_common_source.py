@@ -12,6 +12,7 @@ from kitleaf.circuit.stages._shared import (
     capacitor_role,
     check_family,
     is_flipped,
+    output_roles,
     place_output,
     resistor_role,
     transistor_test_points,
@@ -26,11 +27,7 @@ ROLES = (
     resistor_role("drain", "drain load resistor"),
     resistor_role("source", "source resistor (self bias)"),
     capacitor_role("source-bypass", "source bypass capacitor: raises the gain", required=False),
-    capacitor_role("output-cap", "coupling capacitor from the drain to the output"),
-    resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
-                  required=False),
-    Role("volume", ("pot",), required=False,
-         help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+    *output_roles("the drain"),
 )
 
 

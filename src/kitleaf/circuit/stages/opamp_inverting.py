@@ -8,6 +8,7 @@ from kitleaf.circuit.stages._shared import (
     capacitor_role,
     check_family,
     opamp_test_points,
+    output_roles,
     place_output,
     resistor_role,
     series,
@@ -22,11 +23,7 @@ ROLES = (
          help="pot in series with Rf, wired so clockwise gives more gain"),
     capacitor_role("feedback-cap", "across the feedback path: rolls off the highs",
                    required=False),
-    capacitor_role("output-cap", "coupling capacitor from the op-amp output"),
-    resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
-                  required=False),
-    Role("volume", ("pot",), required=False,
-         help="output volume pot after the output cap: cw end to the cap, ccw end to ground"),
+    *output_roles("the op-amp output"),
 )
 
 
