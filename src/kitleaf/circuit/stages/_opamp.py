@@ -4,9 +4,23 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from kitleaf.circuit.kind import Stage
+from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.parts import Part
-from kitleaf.circuit.stages._shared import opamp_pins
+from kitleaf.circuit.stages._shared import check_family, opamp_pins
+
+
+class OpampKind(StageKind):
+    """What both op-amp kinds are: a section of an op-amp swinging about the mid-rail
+    reference, with a gain pot and a volume pot a player may turn."""
+
+    needs_reference = True
+
+    def check(self, stage: Stage) -> None:
+        check_family(stage, "opamp", ("opamp",))
+
+    def knob_roles(self) -> tuple[str, ...]:
+        return ("gain", "volume")
+
 
 PLUS_Y = 8.0  # the + input's row; the - input sits 1.25 below it
 ROW_GAP = 1.6  # between the parallel rows of the feedback network

@@ -2,11 +2,17 @@
 
 from __future__ import annotations
 
-from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
+from kitleaf.circuit.kind import Role, Stage, TestPoint
 from kitleaf.circuit.stages import register
+from kitleaf.circuit.stages._opamp import (
+    PLUS_Y,
+    OpampKind,
+    draw_opamp_core,
+    draw_output,
+    feedback_rows,
+)
 from kitleaf.circuit.stages._shared import (
     capacitor_role,
-    check_family,
     opamp_test_points,
     output_roles,
     place_output,
@@ -28,11 +34,10 @@ ROLES = (
 
 
 @register
-class OpampInverting(StageKind):
+class OpampInverting(OpampKind):
     name = "opamp-inverting"
     summary = "inverting op-amp stage, gain -Rf/Rin, + input held at the mid-rail reference"
     roles = ROLES
-    needs_reference = True
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
@@ -44,23 +49,10 @@ class OpampInverting(StageKind):
         wiring.place(cap, "o", "m")
         place_output(stage, wiring, "o")
 
-    def check(self, stage: Stage) -> None:
-        check_family(stage, "opamp", ("opamp",))
-
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return opamp_test_points(stage.part("opamp"), "vref", "m", "o")
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("gain", "volume")
-
     def draw(self, stage: Stage, sheet) -> None:
-        from kitleaf.circuit.stages._opamp import (
-            PLUS_Y,
-            draw_opamp_core,
-            draw_output,
-            feedback_rows,
-        )
-
         part = stage.part
         plus = (4.6, PLUS_Y)
         sheet.wire(plus, (3.6, PLUS_Y))

@@ -6,11 +6,17 @@ one, so the output sits at the reference.
 
 from __future__ import annotations
 
-from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
+from kitleaf.circuit.kind import Role, Stage, TestPoint
 from kitleaf.circuit.stages import register
+from kitleaf.circuit.stages._opamp import (
+    PLUS_Y,
+    OpampKind,
+    draw_opamp_core,
+    draw_output,
+    feedback_rows,
+)
 from kitleaf.circuit.stages._shared import (
     capacitor_role,
-    check_family,
     opamp_test_points,
     output_roles,
     place_output,
@@ -33,11 +39,10 @@ ROLES = (
 
 
 @register
-class OpampNonInverting(StageKind):
+class OpampNonInverting(OpampKind):
     name = "opamp-non-inverting"
     summary = "op-amp gain stage, gain 1 + Rf/Rg, on a single supply with a mid-rail reference"
     roles = ROLES
-    needs_reference = True
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
@@ -50,23 +55,10 @@ class OpampNonInverting(StageKind):
         series(wiring, chain, "m", "0", "leg")  # the gain pot: less resistance clockwise
         place_output(stage, wiring, "o")
 
-    def check(self, stage: Stage) -> None:
-        check_family(stage, "opamp", ("opamp",))
-
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return opamp_test_points(stage.part("opamp"), "p", "m", "o")
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("gain", "volume")
-
     def draw(self, stage: Stage, sheet) -> None:
-        from kitleaf.circuit.stages._opamp import (
-            PLUS_Y,
-            draw_opamp_core,
-            draw_output,
-            feedback_rows,
-        )
-
         part = stage.part
         sheet.port((0.0, PLUS_Y), "IN", "left")
         sheet.part(part("input-cap"), (0.0, PLUS_Y), (2.2, PLUS_Y), plus=(2.2, PLUS_Y))
