@@ -84,8 +84,10 @@ def test_specs_names_lists_what_prose_can_use(capsys):
     rows = capsys.readouterr().out.splitlines()
     names = {row.split()[0] for row in rows}
     assert {"kit.gain", "kit.current", "boost.q1.collector", "r3"} <= names
-    units = ("dB", "Hz", "Ω", "A", "V", "F", "H")
-    assert all(any(u in row for u in units) for row in rows)
+    # Every value is written with its unit: a number, then dB or an SI prefix and unit.
+    value = re.compile(r"^-?[\d.]+ (dB|[pnµmkM]?(Hz|Ω|A|V|F|H))( |$)")
+    for row in rows:
+        assert value.match(re.split(r"\s{2,}", row)[1]), row
 
 
 def test_a_zero_kit_batch_is_a_clear_error(capsys):
