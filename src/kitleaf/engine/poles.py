@@ -97,7 +97,8 @@ def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.n
     target = ref / np.sqrt(2.0)
     sides = [_bracket(ref, target, grid, mags, start, upward) for upward in (False, True)]
     found, a, b, fa, fb = (np.stack(parts, axis=1) for parts in zip(*sides, strict=True))
-    roots = np.where(found, np.exp(_illinois(response, target[:, None], a, b, fa, fb)), np.nan)
+    roots = np.where(found, np.exp(_illinois(response, target[:, None], a, b, fa, fb, found)),
+                     np.nan)
     return roots[:, 0], roots[:, 1]
 
 
@@ -119,9 +120,9 @@ def _bracket(ref, target, grid, mags, start, upward: bool):
     return found, a, b, fa, fb
 
 
-def _illinois(response, target, a, b, fa, fb, iterations: int = 40) -> np.ndarray:
+def _illinois(response, target, a, b, fa, fb, found, iterations: int = 40) -> np.ndarray:
     """Vectorised Illinois root-finding of |response(e^x)| / target - 1 on brackets [a, b],
-    each (samples, k)."""
+    each (samples, k); the entries without a bracket (not ``found``) are not waited for."""
     for _ in range(iterations):
         with np.errstate(invalid="ignore", divide="ignore"):
             c = np.where(fb != fa, (a * fb - b * fa) / (fb - fa), (a + b) / 2.0)
@@ -130,6 +131,6 @@ def _illinois(response, target, a, b, fa, fb, iterations: int = 40) -> np.ndarra
         flip = fc * fb < 0
         a, fa = np.where(flip, b, a), np.where(flip, fb, fa / 2.0)
         b, fb = c, fc
-        if np.all((np.abs(fb) < 1e-12) | (np.abs(b - a) < 1e-12)):
+        if np.all((np.abs(fb) < 1e-12) | (np.abs(b - a) < 1e-12) | ~found):
             break
     return b
