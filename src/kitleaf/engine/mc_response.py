@@ -32,7 +32,7 @@ def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.nda
     rows = [system.layout.row(n) for n in outputs]
     ports = port_form(system, partition(system), problem, x, factors,
                       system.rhs(only=source), rows, reduced)
-    form = modal(ports, float(freqs[0]))
+    form = modal(ports, freqs[[0, -1]])
     grid = corner_grid(freqs, band)
     gain, corners = {}, {}
     for k, node in enumerate(outputs):
