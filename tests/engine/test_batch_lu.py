@@ -35,3 +35,22 @@ class TestSolveMany:
         b = np.ones((64, 20, 1))
         np.testing.assert_allclose(solve_many(a, b), np.linalg.solve(a, b), rtol=1e-9,
                                    atol=1e-12)
+
+
+class TestGrowthCheck:
+    """The multiplier check (threshold pivoting) against LAPACK's dense solve."""
+
+    def test_many_right_hand_sides_match_dense_solve(self):
+        a = mna_like(64, 12, 4)
+        b = np.random.default_rng(5).normal(size=(64, 12, 24))
+        np.testing.assert_allclose(solve_many(a, b, check="growth"), np.linalg.solve(a, b),
+                                   rtol=1e-9, atol=1e-12)
+
+    @pytest.mark.parametrize("pivot", [0.0, 1e-9])
+    def test_sample_with_a_tiny_shared_pivot_is_solved_densely(self, pivot):
+        a = mna_like(64, 12, 6)
+        a[5] = a[5][[0, 2, 1, *range(3, 12)]]  # sample 0's pivot order misfits sample 5
+        a[5, 1, 1] = pivot  # zero, or small enough that its multipliers reach 1e9
+        b = np.ones((64, 12, 10))
+        np.testing.assert_allclose(solve_many(a, b, check="growth"), np.linalg.solve(a, b),
+                                   rtol=1e-9, atol=1e-12)

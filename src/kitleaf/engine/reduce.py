@@ -168,7 +168,7 @@ def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     with warnings.catch_warnings():
         warnings.simplefilter("error", LinAlgWarning)
         try:
-            return solve_many(a, b)
+            return solve_many(a, b, check="growth")
         except (np.linalg.LinAlgError, LinAlgWarning):
             raise SolveError("the linear part of the circuit is singular") from None
 
