@@ -27,11 +27,14 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     real = not (np.iscomplexobj(lambdas) or np.iscomplexobj(residues))
     kernel, terms = (_evaluate_real, CHUNK_REAL) if real else (_evaluate, CHUNK)
     weights = _real_weights(residues, lambdas) if real else residues.transpose(0, 2, 1)
+    poles = np.square(lambdas) if real else lambdas
     step = max(1, terms // width)
+    # one scratch block for every pass: a fresh half-megabyte array per block costs page faults
+    scratch = np.empty(min(step, samples) * width, complex if not real else float)
     for start in range(0, samples, step):
         block = slice(start, start + step)
-        kernel(out[block], alpha[block], weights[block], lambdas[block],
-               f if f.shape[0] == 1 else f[block])
+        kernel(out[block], alpha[block], weights[block], poles[block],
+               f if f.shape[0] == 1 else f[block], scratch)
     return out
 
 
@@ -39,9 +42,11 @@ CHUNK = 1 << 16  # complex terms per block
 CHUNK_REAL = 1 << 16  # real terms per block
 
 
-def _evaluate(out, alpha, residues_t, lambdas, f) -> None:
+def _evaluate(out, alpha, residues_t, lambdas, f, scratch) -> None:
     s = 2j * np.pi * f  # (samples or 1, f)
-    inverse = s[..., None] * lambdas[:, None, :]  # becomes 1 / (1 + s lambda), in place
+    inverse = scratch[:lambdas.shape[0] * s.shape[-1] * lambdas.shape[1]].reshape(
+        lambdas.shape[0], s.shape[-1], lambdas.shape[1])  # becomes 1 / (1 + s lambda)
+    np.multiply(s[..., None], lambdas[:, None, :], out=inverse)
     inverse += 1.0
     np.reciprocal(inverse, out=inverse)
     out[:] = alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues_t)
@@ -52,12 +57,14 @@ def _real_weights(residues: np.ndarray, lambdas: np.ndarray) -> np.ndarray:
     return np.concatenate([residues * lambdas[:, None, :], residues], axis=1)
 
 
-def _evaluate_real(out, alpha, weights, lambdas, f) -> None:
+def _evaluate_real(out, alpha, weights, squares, f, scratch) -> None:
     """Real poles and residues: s r / (1 + s l) = (w^2 r l + j w r) / (1 + w^2 l^2), so one
     real reciprocal per term and one real product for both parts (about twice as quick).
-    Laid out (samples, m, f) so the long frequency axis is the inner one."""
+    ``squares`` are the poles' l^2. Laid out (samples, m, f) so the long frequency axis is
+    the inner one."""
     w = 2 * np.pi * f  # (samples or 1, f)
-    q = np.square(lambdas)[:, :, None] * (w * w)[:, None, :]  # squared first: one pass less
+    q = scratch[:squares.size * w.shape[-1]].reshape(*squares.shape, w.shape[-1])
+    np.multiply(squares[:, :, None], (w * w)[:, None, :], out=q)
     q += 1.0
     np.reciprocal(q, out=q)
     parts = np.matmul(weights, q)  # (samples, 2 rows, f)
