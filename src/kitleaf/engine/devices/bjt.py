@@ -27,9 +27,11 @@ CUTOFF_IC = 1e-8  # amperes; below this collector current it reports "cutoff"
 START_AMPS = 1e-4  # small-signal stages in pedals mostly run near 100 uA .. 1 mA
 
 
-def _junction(v: np.ndarray, i_sat: np.ndarray, n_vt: np.ndarray):
-    e, de = explin(v / n_vt)
-    return i_sat * (e - 1.0), i_sat * de / n_vt
+# The four exponential currents, evaluated in one call: forward and reverse transport, then
+# the BE and BC leakages; which junction (vbe 0, vbc 1) each reads, and its parameters.
+_READS = np.array([0, 1, 0, 1])
+_SATURATION = ("IS", "IS", "ISE", "ISC")
+_EMISSION = ("NF", "NR", "NE", "NC")
 
 
 class BjtBank(Bank):
@@ -49,42 +51,50 @@ class BjtBank(Bank):
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
         return pnjlim(vnew, vold, *self._limits)
 
-    def _transport(self, vbe: np.ndarray, vbc: np.ndarray) -> dict[str, np.ndarray]:
-        """Forward/reverse diode currents and the base charge qb with its derivatives."""
+    @cached_property
+    def _diodes(self) -> tuple[np.ndarray, np.ndarray]:
+        """Saturation currents and N VT of the four exponentials, (samples or 1, 4, devices)."""
+        return (np.stack([self.p(k) for k in _SATURATION], axis=1),
+                np.stack([self.p(k) for k in _EMISSION], axis=1) * VT)
+
+    def _exponentials(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """The four currents and their conductances (samples, 4, devices)."""
+        i_sat, n_vt = self._diodes
+        e, de = explin(v[:, _READS] / n_vt)
+        return i_sat * (e - 1.0), i_sat * de / n_vt
+
+    def _charge(self, vbe: np.ndarray, vbc: np.ndarray, i: np.ndarray, g: np.ndarray
+                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The base charge qb and its derivatives on vbe and vbc."""
         p = self.p
-        ibf, gbf = _junction(vbe, p("IS"), p("NF") * VT)
-        ibr, gbr = _junction(vbc, p("IS"), p("NR") * VT)
         q1 = 1.0 / np.maximum(1.0 - vbc / p("VAF") - vbe / p("VAR"), 1e-6)
-        q2 = ibf / p("IKF") + ibr / p("IKR")
+        q2 = i[:, 0] / p("IKF") + i[:, 1] / p("IKR")
         sq = np.sqrt(np.maximum(1.0 + 4.0 * q2, 1e-12))
-        qb = q1 * (1.0 + sq) / 2.0
-        dqb_be = q1 * q1 / p("VAR") * (1.0 + sq) / 2.0 + q1 * gbf / p("IKF") / sq
-        dqb_bc = q1 * q1 / p("VAF") * (1.0 + sq) / 2.0 + q1 * gbr / p("IKR") / sq
-        return {"ibf": ibf, "gbf": gbf, "ibr": ibr, "gbr": gbr, "qb": qb,
-                "dqb_be": dqb_be, "dqb_bc": dqb_bc}
+        half = q1 * (1.0 + sq) / 2.0
+        return (half, half * q1 / p("VAR") + q1 * g[:, 0] / p("IKF") / sq,
+                half * q1 / p("VAF") + q1 * g[:, 1] / p("IKR") / sq)
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         p, vbe, vbc = self.p, v[:, 0], v[:, 1]
-        t = self._transport(vbe, vbc)
-        ile, gle = _junction(vbe, p("ISE"), p("NE") * VT)
-        ilc, glc = _junction(vbc, p("ISC"), p("NC") * VT)
-        ice = (t["ibf"] - t["ibr"]) / t["qb"]
-        dce_be = (t["gbf"] - ice * t["dqb_be"]) / t["qb"]
-        dce_bc = (-t["gbr"] - ice * t["dqb_bc"]) / t["qb"]
-        ibe = t["ibf"] / p("BF") + ile + GMIN * vbe
-        ibc = t["ibr"] / p("BR") + ilc + GMIN * vbc
-        dbe = t["gbf"] / p("BF") + gle + GMIN
-        dbc = t["gbr"] / p("BR") + glc + GMIN
+        i, g = self._exponentials(v)
+        qb, dqb_be, dqb_bc = self._charge(vbe, vbc, i, g)
+        ice = (i[:, 0] - i[:, 1]) / qb
         slope = np.zeros((vbe.shape[0], 3, 2, vbe.shape[1]))
-        slope[:, 0, 0], slope[:, 1, 1], slope[:, 2, 0], slope[:, 2, 1] = dbe, dbc, dce_be, dce_bc
+        slope[:, 0, 0] = g[:, 0] / p("BF") + g[:, 2] + GMIN
+        slope[:, 1, 1] = g[:, 1] / p("BR") + g[:, 3] + GMIN
+        slope[:, 2, 0] = (g[:, 0] - ice * dqb_be) / qb
+        slope[:, 2, 1] = (-g[:, 1] - ice * dqb_bc) / qb
         current = np.empty((vbe.shape[0], 3, vbe.shape[1]))
-        current[:, 0], current[:, 1], current[:, 2] = ibe, ibc, ice
+        current[:, 0] = i[:, 0] / p("BF") + i[:, 2] + GMIN * vbe
+        current[:, 1] = i[:, 1] / p("BR") + i[:, 3] + GMIN * vbc
+        current[:, 2] = ice
         return current, slope
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:
         p, vbe, vbc = self.p, v[:, 0], v[:, 1]
-        t = self._transport(vbe, vbc)
-        diffusion = p("TF") * (t["gbf"] - t["ibf"] / t["qb"] * t["dqb_be"]) / t["qb"]
+        i, g = self._exponentials(v)
+        qb, dqb_be, _ = self._charge(vbe, vbc, i, g)
+        diffusion = p("TF") * (g[:, 0] - i[:, 0] / qb * dqb_be) / qb
         cbe = depletion(vbe, p("CJE"), p("VJE"), p("MJE"), p("FC")) + diffusion
         cbc = depletion(vbc, p("CJC"), p("VJC"), p("MJC"), p("FC"))
         return np.stack([cbe, cbc], axis=1)

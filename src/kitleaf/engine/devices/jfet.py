@@ -38,6 +38,16 @@ def _square_law(vg_s, vg_d, vto, beta, lam):
     return current, gm + gds, -gds
 
 
+def _channel(vgs, vgd, vto, beta, lam):
+    """Drain-to-source current and its partials on (vgs, vgd); when vds < 0 source and drain
+    swap roles, so the square law runs once on the pair ordered for it."""
+    normal = vgs >= vgd
+    first, second = np.where(normal, vgs, vgd), np.where(normal, vgd, vgs)
+    current, d_first, d_second = _square_law(first, second, vto, beta, lam)
+    return (np.where(normal, current, -current), np.where(normal, d_first, -d_second),
+            np.where(normal, d_second, -d_first))
+
+
 class JfetBank(Bank):
     """Junctions (vgs, vgd); currents g->s, g->d, d->s (channel); caps g-s, g-d."""
 
@@ -50,22 +60,17 @@ class JfetBank(Bank):
         return pnjlim(vnew, vold, n_vt, vcrit(n_vt, self.p("IS")[:, None, :]))
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        p, vgs, vgd = self.p, v[:, 0], v[:, 1]
-        n_vt = p("N") * VT
-        egs, degs = explin(vgs / n_vt)
-        egd, degd = explin(vgd / n_vt)
-        igs, ggs = p("IS") * (egs - 1.0) + GMIN * vgs, p("IS") * degs / n_vt + GMIN
-        igd, ggd = p("IS") * (egd - 1.0) + GMIN * vgd, p("IS") * degd / n_vt + GMIN
-        args = (p("VTO"), p("BETA"), p("LAMBDA"))
-        fwd, f_s, f_d = _square_law(vgs, vgd, *args)
-        rev, r_d, r_s = _square_law(vgd, vgs, *args)  # source and drain swap roles
-        normal = vgs >= vgd
-        ids = np.where(normal, fwd, -rev)
-        d_s, d_d = np.where(normal, f_s, -r_s), np.where(normal, f_d, -r_d)
-        slope = np.zeros((vgs.shape[0], 3, 2, vgs.shape[1]))
-        slope[:, 0, 0], slope[:, 1, 1], slope[:, 2, 0], slope[:, 2, 1] = ggs, ggd, d_s, d_d
-        current = np.empty((vgs.shape[0], 3, vgs.shape[1]))
-        current[:, 0], current[:, 1], current[:, 2] = igs, igd, ids
+        p = self.p
+        n_vt = (p("N") * VT)[:, None, :]
+        e, de = explin(v / n_vt)  # both gate junctions at once
+        i_gate = p("IS")[:, None, :] * (e - 1.0) + GMIN * v
+        g_gate = p("IS")[:, None, :] * de / n_vt + GMIN
+        ids, d_s, d_d = _channel(v[:, 0], v[:, 1], p("VTO"), p("BETA"), p("LAMBDA"))
+        slope = np.zeros((v.shape[0], 3, 2, v.shape[2]))
+        slope[:, 0, 0], slope[:, 1, 1], slope[:, 2, 0], slope[:, 2, 1] = (
+            g_gate[:, 0], g_gate[:, 1], d_s, d_d)
+        current = np.empty((v.shape[0], 3, v.shape[2]))
+        current[:, :2], current[:, 2] = i_gate, ids
         return current, slope
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:

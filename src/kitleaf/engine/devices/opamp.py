@@ -26,11 +26,16 @@ LINEAR_U = 2.0  # |(x - vmid) / h| beyond this the output reports saturated
 DEEP_U = 20.0  # beyond this tanh is flat to double precision
 
 
+def _window(vpos, vneg, p) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The middle of the output's range, its half-width and that half-width floored."""
+    vhi, vlo = vpos - p("SWING_HI"), vneg + p("SWING_LO")
+    h_raw = (vhi - vlo) / 2.0
+    return (vhi + vlo) / 2.0, h_raw, np.maximum(h_raw, H_MIN)
+
+
 def swing(x, vpos, vneg, p) -> tuple[np.ndarray, ...]:
     """(f, df/dx, df/dvpos, df/dvneg, u): the soft-limited output and its partials."""
-    vhi, vlo = vpos - p("SWING_HI"), vneg + p("SWING_LO")
-    vmid, h_raw = (vhi + vlo) / 2.0, (vhi - vlo) / 2.0
-    h = np.maximum(h_raw, H_MIN)
+    vmid, h_raw, h = _window(vpos, vneg, p)
     u = (x - vmid) / h
     t = np.tanh(u)
     s = 1.0 - t * t
@@ -49,18 +54,17 @@ class OpAmpBank(Bank):
         """Keep Newton off the flat of the tanh: outside |u| < 1 the evaluation point moves
         at most one unit of u per step, except that once saturated (|u| >= 2) it may double
         its distance per step on the same side, and is free when deep (|u| > 20)."""
-        vpos, vneg = vnew[:, 1], vnew[:, 2]
-        *_, u_new = swing(vnew[:, 0], vpos, vneg, self.p)
-        *_, u_old = swing(vold[:, 0], vpos, vneg, self.p)
+        vmid, _, h = _window(vnew[:, 1], vnew[:, 2], self.p)
+        u_new, u_old = (vnew[:, 0] - vmid) / h, (vold[:, 0] - vmid) / h
+        if np.all(np.abs(u_new) <= 1.0):  # the usual case: nothing to limit
+            return vnew
         stepped = u_old + np.clip(u_new - u_old, -1.0, 1.0)
         saturated = (np.sign(u_new) == np.sign(u_old)) & (np.abs(u_old) >= LINEAR_U)
         reach = np.where(np.abs(u_old) > DEEP_U, np.inf, 2.0 * np.abs(u_old))
         doubled = np.sign(u_new) * np.minimum(np.abs(u_new), reach)
         u = np.where(np.abs(u_new) <= 1.0, u_new, np.where(saturated, doubled, stepped))
-        vhi, vlo = vpos - self.p("SWING_HI"), vneg + self.p("SWING_LO")
-        h = np.maximum((vhi - vlo) / 2.0, H_MIN)
         out = vnew.copy()
-        out[:, 0] = np.where(u == u_new, vnew[:, 0], (vhi + vlo) / 2.0 + u * h)
+        out[:, 0] = np.where(u == u_new, vnew[:, 0], vmid + u * h)
         return out
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
