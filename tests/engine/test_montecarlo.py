@@ -91,6 +91,23 @@ class TestBatchMatchesSingleSolves:
                     assert mine == pytest.approx(single, rel=1e-6)
 
 
+    def test_source_at_a_device_terminal(self):
+        # the source drives a JFET's gate directly (J201: no gate resistance): the reduced
+        # frame drops device couplings to fixed nodes, so this case takes the whole-matrix
+        # path; each sample must equal solve_ac on the rebuilt sample
+        c = Circuit().vsource("VCC", "vcc", "0", dc=9.0).vsource("VIN", "in", "0", ac=1.0)
+        c.jfet("Q1", "d", "in", "s", "J201").resistor("RD", "vcc", "d", 4.7e3, tol=0.05)
+        c.resistor("RS", "s", "0", 1e3, tol=0.05).capacitor("CL", "d", "0", 1e-9, tol=0.1)
+        freqs = [1000.0, 200e3, 2e6]
+        mc = monte_carlo(c, samples=20, seed=3, freqs=freqs, source="VIN", outputs=["d"])
+        for i in (0, 19):
+            sample = mc.sample(i)
+            ac = solve_ac(sample, solve_dc(sample), np.array(freqs), "VIN")
+            for f in freqs:
+                assert mc.response.gain_db[("d", f)][i] == pytest.approx(
+                    gain_db_at(ac, "d", f), abs=1e-6)
+
+
 class TestDeviceSpreads:
     def test_hfe_spread_moves_the_collector(self):
         c = rc.boost("2N5089")

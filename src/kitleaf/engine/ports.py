@@ -96,15 +96,14 @@ def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
               reduced: Reduced | None = None) -> PortForm:
     """The port system of unknowns ``rows`` for excitation ``rhs`` (1, n) at operating
     points ``x``; ``reduced``, the DC reduction of the same ``problem``, saves eliminating
-    the linear rows again."""
+    the linear rows again and linearising the devices over the whole matrix."""
+    if reduced is not None and _reusable(part, reduced, rhs, rows):
+        return _reduced_form(system, part, problem, reduced, x, factors, rhs, rows)
     g, a, d, used = _linearised(system, problem, x, factors)
     vf = part.values(rhs)
     r = rhs - np.einsum("snf,f->sn", g[:, :, part.fixed], vf[0])
-    if reduced is not None and not rhs[:, part.rest].any():
-        x0, w = _reused_schur(g, part, reduced, r, a, vf, used)
-    else:
-        x0, w = _schur_solve(g, part, np.concatenate(
-            [r[:, :, None], np.broadcast_to(a, (g.shape[0], *a.shape))], 2))
+    x0, w = _schur_solve(g, part, np.concatenate(
+        [r[:, :, None], np.broadcast_to(a, (g.shape[0], *a.shape))], 2))
     unknown = np.concatenate([part.keep, part.rest])
     a_u, a_f = a[unknown], a[part.fixed]
     dm = d[:, :, None] * (a_u.T @ w)
@@ -112,9 +111,56 @@ def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
     full = np.zeros((g.shape[0], part.size, 1 + a.shape[1]))
     full[:, unknown] = np.concatenate([x0, w], axis=2)
     full[:, part.fixed, 0] = vf
-    if np.isin(rows, part.fixed_branch).any():  # Monte Carlo's outputs are nodes: skipped
+    if np.isin(rows, part.fixed_branch).any():
         _fixed_currents(full, g, a, rhs, part)
     return PortForm(full[:, rows, 0], full[:, rows, 1:], dm, z)
+
+
+def _reusable(part: Partition, reduced: Reduced, rhs: np.ndarray, rows: list[int]) -> bool:
+    """Whether the reduced frame answers: node rows only, no excitation on the eliminated
+    rows, and no excited fixed node at a device terminal (the reduced device maps drop the
+    device couplings to fixed nodes, which only an AC voltage there would need)."""
+    if rhs[:, part.rest].any() or np.isin(rows, part.fixed_branch).any():
+        return False
+    excited = part.keep.size + 1 + np.flatnonzero(part.values(rhs)[0])
+    return not any(np.isin(excited, np.concatenate([b.jp.ravel(), b.jn.ravel()])).any()
+                   for b in reduced.problem.devices.banks)
+
+
+def _reduced_form(system: System, part: Partition, problem: Problem, reduced: Reduced,
+                  x: np.ndarray, factors, rhs: np.ndarray, rows: list[int]) -> PortForm:
+    """port_form in the DC reduction's frame: the devices linearised on the kept rows only,
+    G_KK - G_KL G_LL^-1 G_LK and G_LL^-1 [G_LF, A_L] taken from the reduction, and only the
+    requested rows and the capacitor ports' projections formed (no n x n temporaries)."""
+    keep, rest, f = part.keep, part.rest, part.fixed.size
+    devices = reduced.problem.devices
+    v = devices.junctions(reduced.problem.extend(x[:, keep]))
+    _, dev_kk = devices.linearise(v, v)
+    a, d, used = _capacitances(system, problem, v, factors, x.shape[0])
+    vf = part.values(rhs)
+    ports = reduced.ports
+    z_rhs = np.concatenate([-(ports[:, :, :f] @ vf[0])[:, :, None], ports[:, :, f:][:, :, used]],
+                           axis=2)  # G_LL^-1 [r_L, A_L], r_L = -G_LF v_F
+    g_kl = block(problem.g, keep, rest)
+    r_k = rhs[:, keep] - block(problem.g, keep, part.fixed) @ vf[0]
+    rhs_k = np.concatenate([r_k[..., None], np.broadcast_to(a[keep], (x.shape[0], *a[keep].shape))],
+                           axis=2)
+    y_k = solve_many(reduced.problem.g + dev_kk, rhs_k - g_kl @ z_rhs)
+    y_l = z_rhs - reduced.back @ y_k
+    proj = a[keep].T @ y_k + a[rest].T @ y_l  # A_U^T [x0, W]
+    dm = d[:, :, None] * proj[:, :, 1:]
+    z = d * (proj[:, :, 0] + vf @ a[part.fixed])
+    picked = np.zeros((x.shape[0], len(rows), proj.shape[2]))
+    position = {int(r): k for k, r in enumerate(keep)}
+    position.update({int(r): keep.size + k for k, r in enumerate(rest)})
+    fixed = {int(r): k for k, r in enumerate(part.fixed)}
+    for out, row in enumerate(rows):
+        if row in fixed:
+            picked[:, out, 0] = vf[0, fixed[row]]
+        else:
+            k = position[row]
+            picked[:, out] = y_k[:, k] if k < keep.size else y_l[:, k - keep.size]
+    return PortForm(picked[:, :, 0], picked[:, :, 1:], dm, z)
 
 
 def _fixed_currents(full: np.ndarray, g: np.ndarray, a: np.ndarray, rhs: np.ndarray,
@@ -168,17 +214,24 @@ def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
     n, m) and values d (s, m), unused capacitances left out."""
     samples = x.shape[0]
     g = np.broadcast_to(problem.g, (samples, *problem.g.shape[1:]))
+    v = None
+    if problem.devices.banks:
+        v = problem.devices.junctions(extend(x))
+        g = g + problem.devices.linearise(v, v)[1]
+    return (g, *_capacitances(system, problem, v, factors, samples))
+
+
+def _capacitances(system: System, problem: Problem, v, factors, samples: int):
+    """Incidence A (n, m), values d (s, m) and the used mask of every capacitance: the
+    capacitors', then the devices' at junction voltages ``v``."""
     cap_a, cap_d = system.cap_columns(factors)
     cap_d = np.broadcast_to(cap_d, (samples, cap_d.shape[1]))
     devices = problem.devices
     if devices.banks:
-        v = devices.junctions(extend(x))
-        _, dev_g = devices.linearise(v, v)
-        g = g + dev_g
         cap_a = np.concatenate([cap_a, incidence(system.layout.size, devices.cap_pairs())], 1)
         cap_d = np.concatenate([cap_d, devices.cap_values(v)], axis=1)
     used = np.any(cap_d != 0, axis=0) & np.any(cap_a != 0, axis=0)
-    return g, cap_a[:, used], cap_d[:, used], used
+    return cap_a[:, used], cap_d[:, used], used
 
 
 def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.ndarray, ...]:
@@ -195,22 +248,4 @@ def _schur_solve(g: np.ndarray, part: Partition, rhs: np.ndarray) -> tuple[np.nd
         back, z_rhs = z[:, :, :t], z[:, :, t:]
         y_keep = np.linalg.solve(g_uu[:, :t, :t] - g_kr @ back, rhs_u[:, :t] - g_kr @ z_rhs)
         y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
-    return y[:, :, :1], y[:, :, 1:]
-
-
-def _reused_schur(g: np.ndarray, part: Partition, reduced: Reduced, r: np.ndarray,
-                  a: np.ndarray, vf: np.ndarray, used: np.ndarray) -> tuple[np.ndarray, ...]:
-    """As _schur_solve, with G_LL^-1 G_LK, G_LL^-1 G_LF and G_LL^-1 A_L taken from the DC
-    reduction (the linear rows do not depend on the operating point); the excitation has
-    no entry on those rows, so r_L = -G_LF v_F."""
-    keep, rest, f = part.keep, part.rest, part.fixed.size
-    ports = reduced.ports
-    z_rhs = np.concatenate([-(ports[:, :, :f] @ vf[0])[:, :, None], ports[:, :, f:][:, :, used]],
-                           axis=2)
-    g_kr = block(g, keep, rest)
-    rhs_k = np.concatenate([r[:, keep, None], np.broadcast_to(a[keep], (g.shape[0], keep.size,
-                                                                           a.shape[1]))], 2)
-    back = reduced.back
-    y_keep = solve_many(block(g, keep, keep) - g_kr @ back, rhs_k - g_kr @ z_rhs)
-    y = np.concatenate([y_keep, z_rhs - back @ y_keep], axis=1)
     return y[:, :, :1], y[:, :, 1:]
