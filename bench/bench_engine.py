@@ -10,10 +10,17 @@ Monte Carlo runs alternate, round by round, so a busy machine slows both alike; 
 wall-clock and CPU time (this process and its children, from getrusage) of each are shown.
 """
 
+# ruff: noqa: E402 (the thread settings must precede numpy's import)
 from __future__ import annotations
 
-import argparse
 import os
+
+# ngspice runs on one core; so does the engine here. The engine's matrices are small, and
+# BLAS helper threads mostly spin between calls, adding CPU time without shortening the run.
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+
+import argparse
 import resource
 import shutil
 import subprocess
@@ -180,7 +187,8 @@ def main() -> None:
     have_ngspice = shutil.which("ngspice") is not None
     print(f"kitleaf engine benchmark: DC + {FREQS.size}-point AC, Monte Carlo of "
           f"{args.samples} samples (best of repeats, wall clock; {os.cpu_count()} CPUs, "
-          f"load average {os.getloadavg()[0]:.1f})")
+          f"load average {os.getloadavg()[0]:.1f}; BLAS threads "
+          f"{os.environ['OPENBLAS_NUM_THREADS']})")
     for label, build, stages in (("one-transistor stage", one_transistor, 1),
                                  ("three-stage chain", three_stage, 3)):
         c = build()
