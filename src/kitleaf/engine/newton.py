@@ -100,7 +100,8 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
             norm = np.max(np.abs(step) / (RELTOL * np.maximum(np.abs(new_x), np.abs(part.x))
                                           + tol_abs), axis=1)
         finite = np.isfinite(norm)
-        new_x = np.where(finite[:, None], new_x, part.x)
+        if not finite.all():
+            new_x = np.where(finite[:, None], new_x, part.x)
         if full:
             state.x = new_x
         else:
@@ -135,8 +136,11 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
           ) -> tuple[np.ndarray, np.ndarray]:
     """One Newton step; also reports which samples had a junction voltage limited."""
     x = state.x
-    residual = np.einsum("sij,sj->si", problem.g, x) + shunt * x - scale * problem.b
-    jac = problem.g + np.diag(shunt) if shunt.any() else problem.g
+    residual = np.einsum("sij,sj->si", problem.g, x) - (
+        problem.b if scale == 1.0 else scale * problem.b)
+    jac = problem.g
+    if shunt.any():  # gmin stepping only: plain Newton skips these products
+        residual, jac = residual + shunt * x, jac + np.diag(shunt)
     limited = np.zeros(x.shape[0], dtype=bool)
     if problem.devices.banks:
         vraw = problem.devices.junctions(problem.extend(x))

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from kitleaf.engine.devices.base import Bank
-from kitleaf.engine.stamps import Pattern, VectorPattern, apply
+from kitleaf.engine.stamps import Pattern, VectorPattern, apply, stacked
 
 
 class Devices:
@@ -19,8 +19,8 @@ class Devices:
             n_i = _stamp_currents(currents, bank, n_i)
             n_d = _stamp_jacobian(jacobian, bank, n_d)
             n_c = _stamp_caps(caps, bank, n_c)
-        self._q = currents.matrix(n_i)
-        self._pj = jacobian.matrix(n_d)
+        # currents and Jacobian in one product: one call per step instead of two
+        self._both = stacked(currents.matrix(n_i), jacobian.matrix(n_d))
         self.cap_map = caps.matrix(n_c)
 
     def with_banks(self, banks: list[Bank]) -> Devices:
@@ -39,14 +39,13 @@ class Devices:
         samples = vraw[0].shape[0]
         i_cols, d_cols = [], []
         for bank, vs, vr in zip(self.banks, vstar, vraw, strict=True):
-            current, slope = bank.evaluate(vs)
-            slope = np.broadcast_to(slope, (samples, *slope.shape[1:]))
+            current, slope = bank.evaluate(vs)  # both (samples, ...) since vs is
             tangent = current + np.einsum("stkd,skd->std", slope, vr - vs)
             i_cols.append((tangent * bank.polarity).reshape(samples, -1))
             d_cols.append(slope.reshape(samples, -1))
         n = self.size
-        return (apply(np.concatenate(i_cols, axis=1), self._q, (n,)),
-                apply(np.concatenate(d_cols, axis=1), self._pj, (n, n)))
+        both = apply(np.concatenate(i_cols + d_cols, axis=1), self._both, (n + n * n,))
+        return both[:, :n], both[:, n:].reshape(samples, n, n)
 
     def cap_values(self, v: list[np.ndarray]) -> np.ndarray:
         """Every device capacitance (s, m) at junction voltages ``v``."""

@@ -109,6 +109,16 @@ class StampMap:
         return np.asarray(self._sparse @ values.T).T
 
 
+def stacked(top: StampMap, bottom: StampMap) -> StampMap:
+    """One map taking ``top``'s value columns then ``bottom``'s, its rows below ``top``'s."""
+    t_rows, t_cols, t_signs = top._coords
+    b_rows, b_cols, b_signs = bottom._coords
+    return StampMap(np.concatenate([t_rows, b_rows + top.shape[0]]),
+                    np.concatenate([t_cols, b_cols + top.shape[1]]),
+                    np.concatenate([t_signs, b_signs]),
+                    (top.shape[0] + bottom.shape[0], top.shape[1] + bottom.shape[1]))
+
+
 def apply(values: np.ndarray, pattern: StampMap, shape: tuple[int, ...]) -> np.ndarray:
     """Batched dense result of ``values`` (samples, columns) through a stamp pattern."""
     return pattern.apply(values).reshape((values.shape[0], *shape))
