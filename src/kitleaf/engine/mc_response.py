@@ -37,11 +37,11 @@ def mc_response(system: System, problem: Problem, x: np.ndarray, factors: np.nda
     gain, corners = {}, {}
     for k, node in enumerate(outputs):
         response = _Row(form.take([k]))
-        mags = np.abs(response(freqs))
+        mags = response.magnitude(freqs)
         with np.errstate(divide="ignore"):
             db = 20 * np.log10(mags)
         gain.update({(node, float(f)): db[:, i] for i, f in enumerate(freqs)})
-        grid_mags = mags if grid is freqs else np.abs(response(grid))
+        grid_mags = mags if grid is freqs else response.magnitude(grid)
         corners[node] = _corners(response, grid, grid_mags, ref_hz)
     return McResponse(gain, corners)
 
@@ -54,6 +54,9 @@ class _Row:
 
     def __call__(self, freqs: np.ndarray) -> np.ndarray:
         return self.form(freqs)[..., 0]
+
+    def magnitude(self, freqs: np.ndarray) -> np.ndarray:
+        return self.form.magnitude(freqs)[..., 0]
 
 
 def corner_grid(freqs: np.ndarray, band: tuple[float, float] | None) -> np.ndarray:
@@ -77,5 +80,5 @@ def _corners(response, grid: np.ndarray, mags: np.ndarray, ref_hz: float | None)
         start, ref = grid[peak], mags[np.arange(samples), peak]
     else:
         start = np.full(samples, float(ref_hz))
-        ref = np.abs(response(np.array([ref_hz])))[:, 0]
+        ref = response.magnitude(np.array([ref_hz]))[:, 0]
     return half_power_crossings(response, ref, grid, mags, start)

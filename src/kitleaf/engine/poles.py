@@ -13,8 +13,9 @@ from kitleaf.engine.batch_lu import solve_many
 
 
 def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
-             freqs: np.ndarray) -> np.ndarray:
-    """alpha + s * sum_k residues[..., k] / (1 + s lambdas[k]) with s = j 2 pi f.
+             freqs: np.ndarray, magnitude: bool = False) -> np.ndarray:
+    """alpha + s * sum_k residues[..., k] / (1 + s lambdas[k]) with s = j 2 pi f, or its
+    magnitude (real, without the complex array in between).
 
     alpha (samples, rows), residues (samples, rows, m), lambdas (samples, m); frequencies
     (f,) or per sample (samples, f); returns (samples, f, rows). Worked through in blocks of
@@ -23,7 +24,7 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     f = np.asarray(freqs, dtype=float)
     f = f[None, :] if f.ndim == 1 else f
     samples, width = alpha.shape[0], f.shape[1] * max(lambdas.shape[1], 1)
-    out = np.empty((samples, f.shape[1], alpha.shape[1]), complex)
+    out = np.empty((samples, f.shape[1], alpha.shape[1]), float if magnitude else complex)
     real = not (np.iscomplexobj(lambdas) or np.iscomplexobj(residues))
     kernel, terms = (_evaluate_real, CHUNK_REAL) if real else (_evaluate, CHUNK)
     weights = _real_weights(residues, lambdas) if real else residues.transpose(0, 2, 1)
@@ -34,7 +35,7 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     for start in range(0, samples, step):
         block = slice(start, start + step)
         kernel(out[block], alpha[block], weights[block], poles[block],
-               f if f.shape[0] == 1 else f[block], scratch)
+               f if f.shape[0] == 1 else f[block], scratch, magnitude)
     return out
 
 
@@ -42,14 +43,15 @@ CHUNK = 1 << 16  # complex terms per block
 CHUNK_REAL = 1 << 16  # real terms per block
 
 
-def _evaluate(out, alpha, residues_t, lambdas, f, scratch) -> None:
+def _evaluate(out, alpha, residues_t, lambdas, f, scratch, magnitude: bool) -> None:
     s = 2j * np.pi * f  # (samples or 1, f)
     inverse = scratch[:lambdas.shape[0] * s.shape[-1] * lambdas.shape[1]].reshape(
         lambdas.shape[0], s.shape[-1], lambdas.shape[1])  # becomes 1 / (1 + s lambda)
     np.multiply(s[..., None], lambdas[:, None, :], out=inverse)
     inverse += 1.0
     np.reciprocal(inverse, out=inverse)
-    out[:] = alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues_t)
+    value = alpha[:, None, :] + s[..., None] * np.matmul(inverse, residues_t)
+    out[:] = np.abs(value) if magnitude else value
 
 
 def _real_weights(residues: np.ndarray, lambdas: np.ndarray) -> np.ndarray:
@@ -57,20 +59,28 @@ def _real_weights(residues: np.ndarray, lambdas: np.ndarray) -> np.ndarray:
     return np.concatenate([residues * lambdas[:, None, :], residues], axis=1)
 
 
-def _evaluate_real(out, alpha, weights, squares, f, scratch) -> None:
+def _evaluate_real(out, alpha, weights, squares, f, scratch, magnitude: bool) -> None:
     """Real poles and residues: s r / (1 + s l) = (w^2 r l + j w r) / (1 + w^2 l^2), so one
     real reciprocal per term and one real product for both parts (about twice as quick).
     ``squares`` are the poles' l^2. Laid out (samples, m, f) so the long frequency axis is
     the inner one."""
     w = 2 * np.pi * f  # (samples or 1, f)
     q = scratch[:squares.size * w.shape[-1]].reshape(*squares.shape, w.shape[-1])
-    np.multiply(squares[:, :, None], (w * w)[:, None, :], out=q)
+    # copy, then scale in place: about 1.5x quicker than numpy's broadcast product here
+    np.copyto(q, (w * w)[:, None, :])
+    q *= squares[:, :, None]
     q += 1.0
     np.reciprocal(q, out=q)
     parts = np.matmul(weights, q)  # (samples, 2 rows, f)
     rows = alpha.shape[1]
-    out.real = alpha.real[:, None, :] + ((w * w)[:, None, :] * parts[:, :rows]).transpose(0, 2, 1)
-    out.imag = alpha.imag[:, None, :] + (w[:, None, :] * parts[:, rows:]).transpose(0, 2, 1)
+    real = alpha.real[:, None, :] + ((w * w)[:, None, :] * parts[:, :rows]).transpose(0, 2, 1)
+    imag = alpha.imag[:, None, :] + (w[:, None, :] * parts[:, rows:]).transpose(0, 2, 1)
+    if magnitude:  # not np.hypot: its care for overflow costs more than the rest together
+        np.multiply(real, real, out=out)
+        out += np.square(imag, out=imag)
+        np.sqrt(out, out=out)
+    else:
+        out.real, out.imag = real, imag
 
 
 def decompose(g: np.ndarray, cap_a: np.ndarray, cap_d: np.ndarray, rhs: np.ndarray,
@@ -100,7 +110,7 @@ def half_power_crossings(response, ref: np.ndarray, grid: np.ndarray, mags: np.n
     """Per sample, the first frequencies below and above ``start`` along ``grid`` where
     |response| falls below ref / sqrt(2) (``mags`` is |response| on the grid), refined by
     the Illinois variant of regula falsi in log f, both sides at once; NaN where there is
-    none. ``response`` takes per-sample frequencies (samples, 2)."""
+    none. ``response.magnitude`` takes per-sample frequencies (samples, 2)."""
     target = ref / np.sqrt(2.0)
     sides = [_bracket(ref, target, grid, mags, start, upward) for upward in (False, True)]
     found, a, b, fa, fb = (np.stack(parts, axis=1) for parts in zip(*sides, strict=True))
@@ -134,7 +144,7 @@ def _illinois(response, target, a, b, fa, fb, found, iterations: int = 40) -> np
         with np.errstate(invalid="ignore", divide="ignore"):
             c = np.where(fb != fa, (a * fb - b * fa) / (fb - fa), (a + b) / 2.0)
         c = np.where(np.isfinite(c), c, (a + b) / 2.0)
-        fc = np.abs(response(np.exp(c))) / target - 1.0
+        fc = response.magnitude(np.exp(c)) / target - 1.0
         flip = fc * fb < 0
         a, fa = np.where(flip, b, a), np.where(flip, fb, fa / 2.0)
         b, fb = c, fc

@@ -78,10 +78,18 @@ class PoleResidue:
 
     def __call__(self, freqs: np.ndarray) -> np.ndarray:
         """Responses (samples, F, r) at ``freqs`` (F,) or per sample (samples, F)."""
-        out = evaluate(self.alpha, self.residues, self.lambdas, freqs)
+        return self._at(freqs, magnitude=False)
+
+    def magnitude(self, freqs: np.ndarray) -> np.ndarray:
+        """|responses| (samples, F, r), as __call__ without the complex values."""
+        return self._at(freqs, magnitude=True)
+
+    def _at(self, freqs: np.ndarray, magnitude: bool) -> np.ndarray:
+        out = evaluate(self.alpha, self.residues, self.lambdas, freqs, magnitude)
         if self.bad.size:
             f = np.asarray(freqs, float)
-            out[self.bad] = self.ports.direct(f if f.ndim == 1 else f[self.bad], self.bad)
+            direct = self.ports.direct(f if f.ndim == 1 else f[self.bad], self.bad)
+            out[self.bad] = np.abs(direct) if magnitude else direct
         return out
 
     def take(self, rows: list[int]) -> PoleResidue:
