@@ -97,8 +97,12 @@ class _Work:
         return work
 
     def store(self, vecs: np.ndarray, inv: np.ndarray, active: np.ndarray) -> None:
+        """Write the samples back. V is updated in place but W swaps buffers each sweep, so
+        after an odd number of sweeps W lives in the other buffer: each is checked alone."""
         if self.vecs is not vecs:
-            vecs[active], inv[active] = self.vecs, self.inv
+            vecs[active] = self.vecs
+        if self.inv is not inv:
+            inv[active] = self.inv
 
     def flat(self, x: np.ndarray) -> np.ndarray:
         return x.reshape(x.shape[0], x.shape[1] * x.shape[2])
@@ -115,7 +119,8 @@ class _Work:
         """One Newton step on the eigenvectors, V <- V (I + P), W <- (I - P) W, and one
         Newton-Schulz step W <- W (2 I - V W) that makes W the inverse again."""
         p, q, vecs, inv = self.p, self.q, self.vecs, self.inv
-        np.subtract(values[:, None, :], values[:, :, None], out=p)
+        np.copyto(p, values[:, None, :])  # copy, then subtract: quicker than the broadcast
+        p -= values[:, :, None]
         self.flat(p)[self.diag] = 1.0  # the diagonal of ``t`` is zero: any non-zero divisor
         np.divide(self.t, p, out=p)
         vecs += np.matmul(vecs, p, out=q)
