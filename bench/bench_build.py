@@ -23,6 +23,7 @@ import time
 from pathlib import Path
 
 from kitleaf.eseries import nearest_in_series, series
+from kitleaf.memory import keep_freed_memory
 from kitleaf.site.build import BuildFailed, build_site
 from kitleaf.site.pool import default_jobs
 from kitleaf.values import format_rkm, parse_value
@@ -182,6 +183,7 @@ def main() -> int:
     p.add_argument("--jobs", type=int, default=None)
     p.add_argument("--keep", type=Path, help="build here and keep it, instead of a temp dir")
     args = p.parse_args()
+    keep_freed_memory()  # as the kitleaf command does before it builds
     root = args.keep or Path(tempfile.mkdtemp(prefix="kitleaf-bench-"))
     jobs = args.jobs or default_jobs()
     try:

@@ -32,6 +32,7 @@ import numpy as np
 
 from kitleaf.engine import Circuit, monte_carlo, solve_ac, solve_dc
 from kitleaf.engine.spice_export import to_spice
+from kitleaf.memory import keep_freed_memory
 
 FREQS = np.geomspace(10.0, 100e3, 200)
 
@@ -183,12 +184,16 @@ def main() -> None:
     parser.add_argument("--repeat", type=int, default=20)
     parser.add_argument("--rounds", type=int, default=4,
                         help="alternating engine / ngspice Monte Carlo rounds")
+    parser.add_argument("--plain-malloc", action="store_true",
+                        help="leave glibc's malloc thresholds as they are (the kitleaf "
+                             "command raises them, see kitleaf/memory.py)")
     args = parser.parse_args()
+    kept = not args.plain_malloc and keep_freed_memory()
     have_ngspice = shutil.which("ngspice") is not None
     print(f"kitleaf engine benchmark: DC + {FREQS.size}-point AC, Monte Carlo of "
           f"{args.samples} samples (best of repeats, wall clock; {os.cpu_count()} CPUs, "
           f"load average {os.getloadavg()[0]:.1f}; BLAS threads "
-          f"{os.environ['OPENBLAS_NUM_THREADS']})")
+          f"{os.environ['OPENBLAS_NUM_THREADS']}; freed memory kept: {'yes' if kept else 'no'})")
     for label, build, stages in (("one-transistor stage", one_transistor, 1),
                                  ("three-stage chain", three_stage, 3)):
         c = build()

@@ -38,6 +38,9 @@ def measure(samples: int, repeat: int) -> dict[str, dict[str, float]]:
     sys.path.insert(0, str(HERE))
     from bench_engine import one_transistor, three_stage
 
+    from kitleaf.memory import keep_freed_memory
+
+    keep_freed_memory()  # as the kitleaf command runs
     return {label: stages(build(), samples, repeat)
             for label, build in (("one-transistor", one_transistor),
                                  ("three-stage", three_stage))}

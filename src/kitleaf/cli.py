@@ -9,6 +9,7 @@ from pathlib import Path
 
 from kitleaf import __version__
 from kitleaf.errors import KitleafError
+from kitleaf.memory import keep_freed_memory
 
 COMMANDS: dict[str, Callable[[argparse.Namespace], int]] = {}
 
@@ -64,6 +65,7 @@ def _add_build_options(p: argparse.ArgumentParser) -> None:
 
 def main(argv: Sequence[str] | None = None) -> int:
     args = parser().parse_args(argv)
+    keep_freed_memory()
     _load_commands()
     try:
         return COMMANDS[args.command](args)
