@@ -153,7 +153,8 @@ def _reduced_form(system: System, part: Partition, problem: Problem, reduced: Re
     r_k = rhs[:, keep] - block(problem.g, keep, part.fixed) @ vf[0]
     rhs_k = np.concatenate([r_k[..., None], np.broadcast_to(a[keep], (x.shape[0], *a[keep].shape))],
                            axis=2)
-    y_k = solve_many(reduced.problem.g + dev_kk, rhs_k - g_kl @ z_rhs)
+    # the multipliers check the shared pivots, as for the DC reduction (see batch_lu)
+    y_k = solve_many(reduced.problem.g + dev_kk, rhs_k - g_kl @ z_rhs, check="growth")
     y_l = z_rhs - reduced.back @ y_k
     proj = a[keep].T @ y_k + a[rest].T @ y_l  # A_U^T [x0, W]
     dm = d[:, :, None] * proj[:, :, 1:]
