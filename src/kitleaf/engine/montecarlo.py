@@ -149,7 +149,7 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
     system = compile_circuit(circuit)
     problem, factors, draws = draw_problem(system, samples, seed, distribution)
     state = nominal_state(system, problem, samples)
-    reduced = solve_reduced(problem, state, partition(system))
+    reduced = solve_reduced(problem, state, partition(system), currents=False)
     dc = {n: state.x[:, _row(system, n)].copy() for n in nodes}
     response = None
     if outputs:

@@ -127,13 +127,17 @@ class Reduced:
     base: np.ndarray  # G_LL^-1 r_L (s, l)
     ports: np.ndarray  # G_LL^-1 [G_LF, A_L] (s, l, f + m), for the small-signal port system
 
-    def expand(self, x_keep: np.ndarray, full: Problem) -> np.ndarray:
-        """Full unknowns (s, n) from the kept ones; fixed sources' currents by balance."""
+    def expand(self, x_keep: np.ndarray, full: Problem, currents: bool = True) -> np.ndarray:
+        """Full unknowns (s, n) from the kept ones; fixed sources' currents by balance, or
+        NaN without ``currents`` (Monte Carlo reports node voltages only)."""
         part = self.part
         x = np.zeros((x_keep.shape[0], part.size))
         x[:, part.keep] = x_keep
         x[:, part.rest] = self.base - np.einsum("slt,st->sl", self.back, x_keep)
         x[:, part.fixed] = self.problem.fixed
+        if not currents:
+            x[:, part.fixed_branch] = np.nan
+            return x
         v = full.devices.junctions(full.extend(x))
         currents, _ = full.devices.linearise(v, v)
         residual = np.einsum("sij,sj->si", full.g[:, part.fixed, :], x) + currents[
@@ -173,10 +177,12 @@ def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
             raise SolveError("the linear part of the circuit is singular") from None
 
 
-def solve_reduced(problem: Problem, state: State, part: Partition | None) -> Reduced | None:
+def solve_reduced(problem: Problem, state: State, part: Partition | None,
+                  currents: bool = True) -> Reduced | None:
     """Solve ``state`` in place by Newton on the device rows; samples it does not settle (and
     circuits it cannot reduce) take the full solver with its fallbacks. Returns the
-    reduction (None when there was none), whose elimination the AC response reuses."""
+    reduction (None when there was none), whose elimination the AC response reuses.
+    Without ``currents`` the fixing sources' branch currents are left NaN (see expand)."""
     if part is None or not problem.devices.banks:
         solve_state(problem, state)
         return None
@@ -187,7 +193,7 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None) -> Red
         return None
     sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh)
     ok = newton(red.problem, sub)
-    state.x, state.vstar, state.fresh = red.expand(sub.x, problem), sub.vstar, False
+    state.x, state.vstar, state.fresh = red.expand(sub.x, problem, currents), sub.vstar, False
     if ok.all():
         return red
     bad = np.flatnonzero(~ok)
