@@ -156,7 +156,7 @@ def _reduced_form(system: System, part: Partition, problem: Problem, reduced: Re
     # the multipliers check the shared pivots, as for the DC reduction (see batch_lu)
     y_k = solve_many(reduced.problem.g + dev_kk, rhs_k - g_kl @ z_rhs, check="growth")
     y_l = z_rhs - reduced.back @ y_k
-    proj = a[keep].T @ y_k + a[rest].T @ y_l  # A_U^T [x0, W]
+    proj = _across(a, np.concatenate([keep, rest]), np.concatenate([y_k, y_l], axis=1))
     dm = d[:, :, None] * proj[:, :, 1:]
     z = d * (proj[:, :, 0] + vf @ a[part.fixed])
     picked = np.zeros((x.shape[0], len(rows), proj.shape[2]))
@@ -190,32 +190,44 @@ def modal(ports: PortForm, check_hz) -> PoleResidue:
     # real when every pole is (numpy keeps the eigenvectors real then), which halves the work
     weights = (inv @ ports.z[..., None].astype(vecs.dtype))[..., 0]
     residues = -(ports.w @ vecs) * weights[:, None, :]
-    ok = np.ones(lambdas.shape[0], dtype=bool)
-    for f in np.atleast_1d(np.asarray(check_hz, float)):
-        ok &= backward_error(ports.dm, ports.z, vecs, weights / (1.0 + 2j * np.pi * f
-                                                                   * lambdas), f) <= BACKWARD
+    s = 2j * np.pi * np.atleast_1d(np.asarray(check_hz, float))
+    modes = weights[:, :, None] / (1.0 + s[None, None, :] * lambdas[:, :, None])
+    ok = backward_error(ports.dm, ports.z, vecs, modes, s) <= BACKWARD
     return PoleResidue(ports.x0, residues, lambdas, ports, np.flatnonzero(~ok))
 
 
 def backward_error(dm: np.ndarray, z: np.ndarray, vecs: np.ndarray, modes: np.ndarray,
-                   freq: float) -> np.ndarray:
-    """Per sample, the componentwise backward error of y = V modes as the solution of
-    (I + s D M) y = z: max_i |r_i| / (|y_i| + |s| (|D M| |y|)_i + |z_i|), NaN-safe (a
-    non-finite y gives inf). Real and imaginary parts go through the real products."""
-    s = 2j * np.pi * freq
-    parts = np.stack([modes.real, modes.imag], axis=2)
-    if np.iscomplexobj(vecs):
-        y = (vecs @ modes[..., None])[..., 0]
-    else:
-        both = vecs @ parts
-        y = both[..., 0] + 1j * both[..., 1]
-    dm_y = dm @ np.stack([y.real, y.imag], axis=2)
-    residual = y + s * (dm_y[..., 0] + 1j * dm_y[..., 1]) - z
-    scale = np.abs(y) + abs(s) * (np.abs(dm) @ np.abs(y)[..., None])[..., 0] + np.abs(z)
+                   s: np.ndarray) -> np.ndarray:
+    """Per sample, the largest componentwise backward error of y = V modes as the solution
+    of (I + s D M) y = z over the frequencies s (k,), modes (samples, m, k):
+    max_i |r_i| / (|y_i| + |s| (|D M| |y|)_i + |z_i|); a non-finite y gives inf. Real and
+    imaginary parts go through the real products together."""
+    y = vecs @ modes if np.iscomplexobj(vecs) else _complex_product(vecs, modes)
+    residual = y + s * _complex_product(dm, y) - z[:, :, None]
+    scale = np.abs(y) + np.abs(s) * (np.abs(dm) @ np.abs(y)) + np.abs(z)[:, :, None]
     with np.errstate(invalid="ignore", divide="ignore"):
         ratio = np.where(residual == 0, 0.0, np.abs(residual) / scale)
-    error = np.max(ratio, axis=1, initial=0.0)
+    error = np.max(ratio.reshape(ratio.shape[0], -1), axis=1, initial=0.0)
     return np.where(np.isfinite(error), error, np.inf)
+
+
+def _complex_product(real: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """real @ x for a real batch and a complex one, as one real product of both parts."""
+    both = real @ np.concatenate([x.real, x.imag], axis=2)
+    half = x.shape[2]
+    return both[:, :, :half] + 1j * both[:, :, half:]
+
+
+def _across(a: np.ndarray, rows: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """A^T y for an incidence A (n, m) whose unknown rows ``rows`` hold y (s, len(rows), k),
+    the other rows being zero: each port's + row minus its - row, by two gathers rather
+    than a product (about ten times quicker on a batch)."""
+    padded = np.concatenate([y, np.zeros((y.shape[0], 1, y.shape[2]))], axis=1)
+    position = np.full(a.shape[0], rows.size)  # rows outside ``rows`` read the zero row
+    position[rows] = np.arange(rows.size)
+    ends = [np.where((a == sign).any(axis=0), position[np.argmax(a == sign, axis=0)], rows.size)
+            for sign in (1.0, -1.0)]
+    return padded[:, ends[0]] - padded[:, ends[1]]
 
 
 def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
