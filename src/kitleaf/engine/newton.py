@@ -17,7 +17,10 @@ MAX_ITER = 100
 # A step this far inside the tolerance (in units of it) whose size predicts the next one
 # below PREDICTED (quadratic convergence: next ~ step**3 / previous**2) ends the iteration.
 PREDICTED = 1e-2
-QUADRATIC_REACH = RELTOL ** -0.5 * 0.1  # the step's relative size squared <= 1e-2 RELTOL
+QUADRATIC_REACH = RELTOL ** -0.5 * 0.1
+# The batch drops its settled samples once they are a fifth of it: copying every device
+# parameter of the rest costs more than stepping a few settled samples once more.
+SHRINK = 0.8  # the step's relative size squared <= 1e-2 RELTOL
 
 
 @dataclass(frozen=True)
@@ -110,11 +113,12 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
                 whole[active] = v
         state.iterations[active] += 1
         state.fresh = False
-        done[active] = _converged(norm, previous[active]) & ~limited & finite
+        # sticky: a settled sample kept in the batch (see SHRINK) only refines further
+        done[active] |= _converged(norm, previous[active]) & ~limited & finite
         previous[active] = np.where(limited, np.inf, norm)
         if done.all():
             break
-        if np.count_nonzero(~done) < active.size:
+        if np.count_nonzero(~done) < SHRINK * active.size:
             active = np.flatnonzero(~done)
             sub = problem.take(active)
     return done
