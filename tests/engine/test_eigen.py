@@ -87,3 +87,18 @@ def test_store_after_an_odd_number_of_sweeps():
     # by the step itself (about 1e-2)
     np.testing.assert_allclose(inv @ vecs, np.broadcast_to(np.eye(a.shape[-1]), a.shape),
                                atol=1e-4)
+
+
+def test_a_batch_in_any_memory_layout(monkeypatch):
+    # the same matrices laid out row-major across the batch (a row of every sample, then
+    # the next row), as a gather along the rows leaves them: the refinement must settle
+    # them as it does a C-ordered batch, not leave them all to LAPACK
+    a = graded_batch(300, 0.2)
+    strided = np.moveaxis(np.ascontiguousarray(np.moveaxis(a, 1, 0)), 0, 1)
+    assert not strided.flags["C_CONTIGUOUS"]
+    to_lapack = []
+    real_lapack = eigen._lapack
+    monkeypatch.setattr(eigen, "_lapack", lambda x: to_lapack.append(x.shape[0]) or real_lapack(x))
+    values, vecs, inv = eigen.eig_batch(strided)
+    assert sum(to_lapack) < 0.05 * a.shape[0]
+    assert_decomposes(a, values, vecs, inv, 1e-11)

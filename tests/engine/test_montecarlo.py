@@ -108,6 +108,23 @@ class TestBatchMatchesSingleSolves:
                     gain_db_at(ac, "d", f), abs=1e-6)
 
 
+    @pytest.mark.parametrize("build", [rc.boost, rc.jfet_common_source, rc.non_inverting])
+    def test_spread_is_refined_not_re_solved(self, build, monkeypatch):
+        # the quick path must carry the batch: nearly every sample's eigenpairs refined from
+        # the reference (not LAPACK's) and no sample answered by the direct port solve
+        from kitleaf.engine import eigen, ports
+
+        to_lapack, forms = [], []
+        real_lapack, real_modal = eigen._lapack, ports.modal
+        monkeypatch.setattr(eigen, "_lapack", lambda a: to_lapack.append(a.shape[0])
+                            or real_lapack(a))
+        monkeypatch.setattr("kitleaf.engine.mc_response.modal",
+                            lambda *args: forms.append(real_modal(*args)) or forms[-1])
+        monte_carlo(build(), samples=400, seed=4, freqs=FREQS, source="VIN", outputs=["out"])
+        assert sum(to_lapack) <= 0.05 * 400
+        assert forms[0].bad.size == 0
+
+
 class TestDeviceSpreads:
     def test_hfe_spread_moves_the_collector(self):
         c = rc.boost("2N5089")

@@ -33,7 +33,8 @@ def eig_batch(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     ref_values, ref_vecs = np.linalg.eig(a[_central(a)])
     if np.iscomplexobj(ref_values):  # the refinement works in real arithmetic
         return _lapack(a)
-    values, vecs, inv, ok = _refine(a, ref_vecs, np.linalg.inv(ref_vecs))
+    # the sweeps reshape their buffers to write diagonals in place: C order required
+    values, vecs, inv, ok = _refine(np.ascontiguousarray(a), ref_vecs, np.linalg.inv(ref_vecs))
     if not ok.all():
         bad = np.flatnonzero(~ok)
         bad_values, bad_vecs, bad_inv = _lapack(a[bad])
@@ -87,7 +88,7 @@ class _Work:
 
     def __init__(self, a: np.ndarray, vecs: np.ndarray, inv: np.ndarray) -> None:
         self.a, self.vecs, self.inv = a, vecs, inv
-        self.t, self.p, self.q = (np.empty_like(a) for _ in range(3))
+        self.t, self.p, self.q = (np.empty(a.shape) for _ in range(3))  # C order: see flat
         self.diag = np.s_[:, :: a.shape[-1] + 1]  # the diagonal of each flattened matrix
 
     def take(self, keep: np.ndarray) -> _Work:
@@ -105,6 +106,7 @@ class _Work:
             inv[active] = self.inv
 
     def flat(self, x: np.ndarray) -> np.ndarray:
+        """A view (samples, m * m) of a C-ordered batch, to reach every diagonal at once."""
         return x.reshape(x.shape[0], x.shape[1] * x.shape[2])
 
     def off_diagonal(self) -> tuple[np.ndarray, np.ndarray]:

@@ -227,7 +227,8 @@ def _across(a: np.ndarray, rows: np.ndarray, y: np.ndarray) -> np.ndarray:
     position[rows] = np.arange(rows.size)
     ends = [np.where((a == sign).any(axis=0), position[np.argmax(a == sign, axis=0)], rows.size)
             for sign in (1.0, -1.0)]
-    return padded[:, ends[0]] - padded[:, ends[1]]
+    # np.take keeps the samples outermost (fancy indexing would put the ports there)
+    return np.take(padded, ends[0], axis=1) - np.take(padded, ends[1], axis=1)
 
 
 def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
