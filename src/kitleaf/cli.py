@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import importlib
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -66,7 +67,7 @@ def _add_build_options(p: argparse.ArgumentParser) -> None:
 def main(argv: Sequence[str] | None = None) -> int:
     args = parser().parse_args(argv)
     keep_freed_memory()
-    _load_commands()
+    _load_command(args.command)
     try:
         return COMMANDS[args.command](args)
     except KitleafError as exc:
@@ -78,9 +79,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 130
 
 
-def _load_commands() -> None:
-    # Each command lives in its own module under kitleaf.commands and registers itself.
-    import kitleaf.commands  # noqa: F401
+def _load_command(name: str) -> None:
+    # Each command lives in its own module under kitleaf.commands and registers itself; only
+    # the one that runs is imported (the others would pull in the whole pipeline).
+    importlib.import_module(f"kitleaf.commands.{name}")
 
 
 if __name__ == "__main__":

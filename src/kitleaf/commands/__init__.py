@@ -1,3 +1,2 @@
-"""The CLI's commands, one module each; importing this package registers them all."""
-
-from kitleaf.commands import bom, build, check, new, serve, specs  # noqa: F401
+"""The CLI's commands, one module each, named as the command; each registers itself when
+imported, and the CLI imports only the one it runs."""
