@@ -19,7 +19,7 @@ from kitleaf.engine.ac import small_signal
 from kitleaf.engine.compile import Layout, System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
-from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack
+from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
 from kitleaf.engine.ports import PoleResidue, modal, port_form
 from kitleaf.engine.reduce import partition, solve_reduced
 from kitleaf.errors import SolveError
@@ -181,12 +181,7 @@ def _from_nominal(system: System, problem: Problem, samples: int,
     if (nominal.factors is not None or nominal.vstar is None
             or nominal.system.elements != system.elements):
         raise SolveError("the nominal batch was solved for another circuit")
-    state = initial_state(problem, samples)
-    state.x[:] = nominal.x
-    for whole, v in zip(state.vstar, nominal.vstar, strict=True):
-        whole[:] = v
-    state.fresh = False
-    return state
+    return state_at(problem, samples, nominal.x, nominal.vstar)
 
 
 def _device_params(problem: Problem, samples: int) -> dict:

@@ -41,7 +41,10 @@ def taper_fraction(taper: str, position: float) -> float:
 
 
 @dataclass(frozen=True)
-class Resistor:
+class _TwoTerminal:
+    """A part between nodes ``a`` and ``b``: its value in SI units and its tolerance as a
+    fraction (0.05 for 5 %)."""
+
     name: str
     a: str
     b: str
@@ -50,21 +53,18 @@ class Resistor:
 
 
 @dataclass(frozen=True)
-class Capacitor:
-    name: str
-    a: str
-    b: str
-    value: float
-    tol: float = 0.0
+class Resistor(_TwoTerminal):
+    """Ohms."""
 
 
 @dataclass(frozen=True)
-class Inductor:
-    name: str
-    a: str
-    b: str
-    value: float
-    tol: float = 0.0
+class Capacitor(_TwoTerminal):
+    """Farads."""
+
+
+@dataclass(frozen=True)
+class Inductor(_TwoTerminal):
+    """Henries."""
 
 
 @dataclass(frozen=True)

@@ -13,7 +13,7 @@ from kitleaf.engine.compile import System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.devices.base import Bank
 from kitleaf.engine.mc_response import McResponse, mc_response
-from kitleaf.engine.newton import State, initial_state
+from kitleaf.engine.newton import State, initial_state, state_at
 from kitleaf.engine.reduce import partition, solve_reduced
 from kitleaf.errors import SolveError
 
@@ -178,12 +178,7 @@ def nominal_state(system: System, problem, samples: int) -> State:
     nominal = problem_for(system)
     start = initial_state(nominal, 1)
     solve_reduced(nominal, start, partition(system))
-    state = initial_state(problem, samples)
-    state.x[:] = start.x
-    for whole, v in zip(state.vstar, start.vstar, strict=True):
-        whole[:] = v
-    state.fresh = False
-    return state
+    return state_at(problem, samples, start.x, start.vstar)
 
 
 def _row(system: System, node: str) -> int:

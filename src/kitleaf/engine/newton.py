@@ -161,6 +161,17 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
     return solve_stack(jac, -residual), limited
 
 
+def state_at(problem: Problem, samples: int, x: np.ndarray, vstar: list[np.ndarray]) -> State:
+    """``samples`` samples all starting at one solved point: its unknowns ``x`` and the
+    junction voltages ``vstar`` its devices were last evaluated at."""
+    state = initial_state(problem, samples)
+    state.x[:] = x
+    for whole, v in zip(state.vstar, vstar, strict=True):
+        whole[:] = v
+    state.fresh = False
+    return state
+
+
 def initial_state(problem: Problem, samples: int) -> State:
     size = problem.g.shape[-1]
     vstar = [np.broadcast_to(bank.initial(), (samples, *bank.jp.shape)).copy()
