@@ -9,7 +9,7 @@ import pytest
 from tests.stages.kits import EVERY_KIND, make_kit, stage_block
 
 from kitleaf.bom import bom_lines
-from kitleaf.render import schematic
+from kitleaf.render import schematic_reuse
 from kitleaf.render.schematic import part_value, render_overview_svg, render_stage_svg
 
 SVG = "{http://www.w3.org/2000/svg}"
@@ -118,9 +118,10 @@ class TestStageSchematic:
     def test_reused_placements_draw_the_same_bytes(self, stage, monkeypatch):
         # elements placed for an earlier sheet are reused: the sheet must not tell the difference
         warm = render_stage_svg(KIT, stage)
-        monkeypatch.setattr(schematic, "_PLACED", {})
-        monkeypatch.setattr(schematic, "_PLACED_LIMIT", 0)
+        monkeypatch.setattr(schematic_reuse, "PLACED", {})
+        monkeypatch.setattr(schematic_reuse, "PLACED_LIMIT", 0)
         assert render_stage_svg(KIT, stage) == warm
+        assert schematic_reuse.PLACED == {}  # this sheet placed all its own elements
 
     def test_no_ids_or_timestamps(self, stage):
         svg = render_stage_svg(KIT, stage)

@@ -4,16 +4,16 @@ A :class:`Sheet` is the canvas a stage kind draws on. Coordinates are grid units
 half an inch at print size); y grows upwards, so a kind puts ground low, the supply high and
 the signal on a row between them, flowing left to right. Every element is added explicitly to
 the sheet's own drawing: no drawing stack, no global configuration. Pins have our semantic names
-and are mapped to schemdraw anchors in :data:`ANCHORS` alone.
+and are mapped to schemdraw anchors in :data:`ANCHORS` alone. Beside it: ``schematic_text``
+(words and where they sit), ``schematic_devices`` (transistors and op-amps on a sheet),
+``schematic_reuse`` (elements placed and written once per process), ``schematic_probes`` and
+``schematic_overview``.
 """
 
 from __future__ import annotations
 
 import math
-import xml.etree.ElementTree as ET
-from collections import ChainMap
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
 
 import schemdraw
 import schemdraw.elements as elm
@@ -23,19 +23,24 @@ from schemdraw.types import BBox
 from schemdraw.util import Point as SdPoint
 
 from kitleaf.circuit.parts import Part
+from kitleaf.render import schematic_reuse as reuse
+from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
 from kitleaf.render.schematic_text import (
+    ALIGN,
     FONT_SIZE,
     LABEL_GAP,
     LABEL_NUDGE,
     Box,
     Point,
+    default_side,
+    label_point,
     label_room,
-    normalise_svg,
+    nudge,
     part_label,
     part_value,
     text_box,
     text_width,
-    tidy_svg,
+    wiper_side,
 )
 
 # Words and their room are measured in schematic_text; kinds and tests find them here too.
@@ -60,9 +65,10 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
 }
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
                  "diode": elm.Diode, "led": elm.LED}
-_TRANSISTOR = {"npn": elm.BjtNpn, "pnp": elm.BjtPnp, "njf": elm.JFetN, "pjf": elm.JFetP}
-_ALIGN = {"right": ("left", "center"), "left": ("right", "center"),
-          "above": ("center", "bottom"), "below": ("center", "top"), "below right": ("left", "top")}
+# Multi-pin symbols, each facing the way the drawings use it (the op-amp with + above -).
+_DEVICE = {"npn": lambda: elm.BjtNpn(circle=True), "pnp": lambda: elm.BjtPnp(circle=True),
+           "njf": lambda: elm.JFetN().reverse(), "pjf": lambda: elm.JFetP().reverse(),
+           "opamp": lambda: elm.Opamp(leads=True).flip()}
 
 
 class Sheet:
@@ -97,8 +103,8 @@ class Sheet:
             a, b = b, a
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
-        self.label(part_label(part), _label_point(a, b, side, LABEL_GAP[part.type]),
-                   side or _default_side(a, b))
+        self.label(part_label(part), label_point(a, b, side, LABEL_GAP[part.type]),
+                   side or default_side(a, b))
 
     def pot(self, part: Part, ccw: Point, cw: Point, side: str | None = None,
             wiper_right: bool = False) -> Point:
@@ -108,14 +114,14 @@ class Sheet:
         """
         drawn = elm.Potentiometer().endpoints(ccw, cw)
         drawn = self._add(drawn.flip() if wiper_right else drawn)
-        side = side or _default_side(ccw, cw)
-        self.label(part_label(part), _label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
+        side = side or default_side(ccw, cw)
+        self.label(part_label(part), label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
         return self.pin(drawn, "pot", "wiper")
 
     def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None) -> None:
         """A pot used as a variable resistor: its wiper tied to the ``b`` end."""
-        side = side or _default_side(a, b)
-        wiper = self.pot(part, a, b, side, wiper_right=_default_tap(a, b) == side)
+        side = side or default_side(a, b)
+        wiper = self.pot(part, a, b, side, wiper_right=wiper_side(a, b) == side)
         bend = (b[0], wiper[1]) if abs(a[1] - b[1]) < 1e-9 else (wiper[0], b[1])
         self.wire(wiper, bend, b)
 
@@ -126,17 +132,7 @@ class Sheet:
         ``mirror`` flips it top to bottom, for a PNP or P-channel part whose emitter or source
         faces the supply above.
         """
-        drawn = _TRANSISTOR[family](circle=True) if family in ("npn", "pnp") \
-            else _TRANSISTOR[family]().reverse()
-        if mirror:
-            drawn = drawn.flip()
-        first = next(iter(ANCHORS[family]))
-        drawn = self._add(drawn.anchor(ANCHORS[family][first]).at(base))
-        pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
-        self.spots.update({(part.designator, name): at for name, at in pins.items()})
-        centre = drawn.absanchors["center"]
-        self.label(part_label(part), (max(p[0] for p in pins.values()) + 0.5, centre.y), "right")
-        return pins
+        return draw_transistor(self, part, family, base, mirror)
 
     def opamp(self, part: Part, non_inv: Point, pin_numbers: Mapping[str, str]
               ) -> dict[str, Point]:
@@ -145,28 +141,18 @@ class Sheet:
         Its supply pins are drawn to VCC and ground; ``pin_numbers`` gives the package pin
         shown beside each named pin.
         """
-        drawn = self._add(elm.Opamp(leads=True).flip().anchor("in2").at(non_inv))
-        pins = {name: self.pin(drawn, "opamp", name) for name in ANCHORS["opamp"]}
-        top, bottom = pins["vpos"], pins["vneg"]
-        self.wire(top, (top[0], top[1] + 0.5))
-        self.rail((top[0], top[1] + 0.5))
-        self.wire(bottom, (bottom[0], bottom[1] - 0.5))
-        self.ground((bottom[0], bottom[1] - 0.5))
-        self.label(part_label(part), (pins["out"][0] - 0.3, top[1] + 0.2), "right")
-        for name, number in pin_numbers.items():
-            self._pin_number(pins[name], name, number)
-            self.spots[(part.designator, number)] = pins[name]
-        # the supply pin is probed on its lead to the rail, clear of the op-amp's body
-        self.spots[(part.designator, pin_numbers.get("vpos", ""))] = (top[0], top[1] + 0.25)
-        return pins
+        return draw_opamp(self, part, non_inv, pin_numbers)
 
-    def _pin_number(self, at: Point, name: str, number: str) -> None:
-        x, y = at
-        place = {"non_inv": ((x + 0.25, y + 0.05), "above"), "inv": ((x + 0.25, y - 0.15), "below"),
-                 "out": ((x - 0.25, y + 0.05), "above"), "vpos": ((x + 0.12, y + 0.25), "right"),
-                 "vneg": ((x + 0.12, y - 0.25), "right")}
-        point, side = place[name]
-        self.text(number, point, size=FONT_SIZE * 0.8, side=side)
+    def device(self, family: str, at: Point, pin: str | None = None, flip: bool = False
+               ) -> tuple[dict[str, Point], Point]:
+        """The symbol of a multi-pin ``family`` with ``pin`` (else its first) at ``at``, flipped
+        top to bottom if asked, unlabelled: its pins by our names, and its centre."""
+        drawn = _DEVICE[family]()
+        anchor = ANCHORS[family][pin or next(iter(ANCHORS[family]))]
+        drawn = self._add((drawn.flip() if flip else drawn).anchor(anchor).at(at))
+        centre = drawn.absanchors["center"]
+        pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
+        return pins, (centre.x, centre.y)
 
     def block(self, lower_left: Point, width: float, height: float, lines: Sequence[str]) -> None:
         """A labelled rectangle (a custom stage, or one stage of the kit overview)."""
@@ -205,13 +191,13 @@ class Sheet:
         """A net named at a wire's end without a symbol (a reference fed from elsewhere)."""
         self._add(elm.Dot(radius=0.09).at(at))
         self.spots.setdefault(("", net), at)
-        self.label(self.nets.get(net, net.upper()), _nudge(at, side, 0.25), side)
+        self.label(self.nets.get(net, net.upper()), nudge(at, side, 0.25), side)
 
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the next or previous stage: an open circle with its name."""
         self._add(elm.Dot(open=True, radius=0.12).at(at))
         self.spots.setdefault(("", name.lower()), at)
-        self.label(name, _nudge(at, side, 0.3), side)
+        self.label(name, nudge(at, side, 0.3), side)
 
     def ring(self, centre: Point, radius: float) -> None:
         """An open circle (a test point's marker)."""
@@ -227,7 +213,7 @@ class Sheet:
 
         schemdraw nudges a label a little off its point; ``exact`` keeps it on the point.
         """
-        halign, valign = _ALIGN.get(side, ("center", "center"))
+        halign, valign = ALIGN.get(side, ("center", "center"))
         if exact:
             at = (at[0] - LABEL_NUDGE, at[1] - LABEL_NUDGE)
         self._add(elm.Label().at(at).label(text, halign=halign, valign=valign, fontsize=size))
@@ -255,131 +241,50 @@ class Sheet:
 
     def _add(self, element: elm.Element) -> elm.Element:
         """Add ``element`` and return it placed: use the returned one, which may be an equal
-        element placed earlier in this process (see :func:`_placement_key`)."""
+        element placed earlier in this process (see :func:`reuse.placed_once`)."""
         # Every element gets its own direction: schemdraw would otherwise turn it the way the
         # previously added element pointed. Two-terminal parts are set by their endpoints.
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
-        key = _placement_key(element)
-        placed = _PLACED.get(key) if key else None
-        if placed is None:
-            placed = self._drawing.place(element)
-            if key and len(_PLACED) < _PLACED_LIMIT:
-                _PLACED[key] = placed
+        placed = reuse.placed_once(element, self._drawing.place)
         self._drawing.put(placed)
         self._element_boxes.append(placed.bare)
         return placed.element
 
 
-@dataclass(frozen=True)
-class _Placed:
-    """A placed element, its boxes in sheet coordinates (without and with its text), and what
-    it writes into the SVG, (z-order, tidied text) pairs, once it has been drawn."""
-
-    element: elm.Element
-    bare: Box
-    whole: Box
-    drawn: list = field(default_factory=list)
-
-
 class _Drawing(schemdraw.Drawing):
     """A drawing that measures each element once, when placed, and draws each placed element
-    once per process: the SVG writer's output for an element depends on the element alone (no
-    clipping, gradients or hatching here), so later sheets reuse it."""
+    once per process (:mod:`kitleaf.render.schematic_reuse`)."""
 
-    _known: Box = (math.inf, math.inf, -math.inf, -math.inf)  # schemdraw's box of nothing
+    _known: Box = reuse.NOTHING  # schemdraw's box of nothing
 
     def __init__(self, **kwargs) -> None:
         super().__init__(**kwargs)
-        self._placed: list[_Placed] = []
+        self._placed: list[reuse.Placed] = []
 
-    def place(self, element: elm.Element) -> _Placed:
+    def place(self, element: elm.Element) -> reuse.Placed:
         """``element`` placed as :meth:`add` would, but not added."""
-        _flatten_defaults(element)
+        reuse.flatten_defaults(element)
         self._here, self._theta = element._place(self._here, self._theta, **self.dwgparams)
-        _settle(element)
-        return _Placed(element, *_placed_boxes(element))
+        reuse.settle(element, _Transform)
+        return reuse.Placed(element, *reuse.measured(element, SegmentText))
 
-    def put(self, placed: _Placed) -> None:
+    def put(self, placed: reuse.Placed) -> None:
         self.elements.append(placed.element)
         self._placed.append(placed)
-        self._known = _union(self._known, placed.whole)
+        self._known = reuse.union(self._known, placed.whole)
 
     def get_bbox(self) -> BBox:
         return BBox(*self._known)
 
     def document(self, title: str) -> str:
-        """schemdraw's SVG root around each element's own tidied text, in z-order as schemdraw
-        orders them: the same document schemdraw writes."""
+        """The sheet's SVG, the same document schemdraw writes."""
         head = self.draw(show=False).getimage("svg").decode("utf-8")
-        body = "".join(text for _, text in sorted(self._parts, key=lambda part: part[0]))
-        if not body:
-            return normalise_svg(head, title)
-        if not head.endswith(" />"):  # the root alone, as an empty element
-            raise RuntimeError("schemdraw wrote more than the SVG root around the elements")
-        return normalise_svg(f"{head[:-3]}>{body}</svg>", title, tidy=(0, len(head) - 3))
+        return reuse.svg_document(head, self._parts, title)
 
     def _drawelements(self) -> None:
-        self._parts = [part for placed in self._placed for part in self._drawn(placed)]
-
-    def _drawn(self, placed: _Placed) -> list[tuple[int, str]]:
-        """What the element writes, as (z-order, tidied SVG text), drawn once per process."""
-        if placed.drawn:
-            return placed.drawn
-        fig, extras = self.fig, _extras(self.fig)
-        start = len(fig.svgelements)
-        placed.element._draw(fig)
-        if _extras(fig) != extras:
-            raise RuntimeError(f"{type(placed.element).__name__}: a sheet draws no clipped, "
-                               "gradient or hatched elements (they write shared definitions)")
-        placed.drawn.extend((z, tidy_svg(ET.tostring(xml, encoding="unicode")))
-                            for z, xml in fig.svgelements[start:])
-        del fig.svgelements[start:]
-        return placed.drawn
-
-
-def _extras(fig) -> tuple[int, int, int]:
-    """What an element may add to a figure outside its own elements."""
-    return len(fig.svgdefs), len(fig.gradients), len(fig.clips)
-
-
-_FLAT_DEFAULTS: dict[type, dict] = {}  # per element class, read once per process
-# Placed elements with their boxes (without, with text) by what they were asked to be, kept for
-# the life of the process: the same kind draws the same wires and symbols in every guide.
-_PLACED: dict[str, _Placed] = {}
-_PLACED_LIMIT = 1536  # about 6 kB each, placed and drawn: at most some 9 MB a process
-
-
-def _placement_key(element: elm.Element) -> str | None:
-    """What fixes an element's placed geometry: its class, the parameters and labels it was
-    given, and the sheet's drawing settings (the same for every sheet). None when it would be
-    placed relative to the previous element, or when a value has no faithful text form."""
-    given = element._userparams
-    if "at" not in given and "endpts" not in given:
-        return None
-    key = repr((type(element).__module__, type(element).__qualname__, sorted(given.items()),
-                element._userlabels))
-    return None if " at 0x" in key else key
-
-
-def _flatten_defaults(element: elm.Element) -> None:
-    """Look the class defaults up in one dict instead of a chain with a link per base class.
-
-    The element's own maps stay live in the chain, so placing it reads the same values.
-    """
-    flat = _FLAT_DEFAULTS.get(type(element))
-    if flat is None:
-        flat = _FLAT_DEFAULTS[type(element)] = dict(type(element).defaults)
-    element.params = ChainMap(element._userparams, element.elmparams, flat, element._dwgparams)
-
-
-def _settle(element: elm.Element) -> elm.Element:
-    """Freeze a placed element for the writer: its parameters as one flat dict (schemdraw looks
-    them up through a deep chain for every segment) and its transform as plain float arithmetic.
-    Neither changes once the element is placed; the output is the same."""
-    element.params = dict(element.params)
-    element.transform = _Transform(element.transform)
-    return element
+        self._parts = [part for placed in self._placed
+                       for part in reuse.drawn_once(placed, self.fig)]
 
 
 class _Transform(Transform):
@@ -397,44 +302,6 @@ class _Transform(Transform):
         co, so = self._cos, self._sin
         return SdPoint((0 + x * co + y * -so + 0 + self.shift[0],
                         0 + x * so + y * co + 0 + self.shift[1]))
-
-
-def _placed_boxes(element: elm.Element) -> tuple[Box, Box]:
-    """An element's box in sheet coordinates without and with its text, in one pass (the same
-    numbers as schemdraw's ``get_bbox(transform=True)``)."""
-    bare = whole = (math.inf, math.inf, -math.inf, -math.inf)
-    for segment in element.segments:
-        b = segment.xform(element.transform).get_bbox()
-        whole = _union(whole, b)
-        if not isinstance(segment, SegmentText):
-            bare = _union(bare, b)
-    return bare, whole
-
-
-def _union(a: Box, b) -> Box:
-    return (min(a[0], b[0]), min(a[1], b[1]), max(a[2], b[2]), max(a[3], b[3]))
-
-
-def _default_side(a: Point, b: Point) -> str:
-    return "above" if abs(a[1] - b[1]) < 1e-9 else "right"
-
-
-def _default_tap(a: Point, b: Point) -> str:
-    """The side schemdraw draws a pot's wiper on, for a pot drawn from ``a`` to ``b``."""
-    if abs(a[1] - b[1]) < 1e-9:
-        return "above" if b[0] > a[0] else "below"
-    return "right" if b[1] < a[1] else "left"
-
-
-def _label_point(a: Point, b: Point, side: str | None, gap: float) -> Point:
-    middle = ((a[0] + b[0]) / 2, (a[1] + b[1]) / 2)
-    return _nudge(middle, side or _default_side(a, b), gap)
-
-
-def _nudge(at: Point, side: str, gap: float) -> Point:
-    dx, dy = {"right": (gap, 0), "left": (-gap, 0), "above": (0, gap), "below": (0, -gap)}.get(
-        side, (0, 0))
-    return (at[0] + dx, at[1] + dy)
 
 
 def render_stage_svg(kit_circuit, stage) -> str:

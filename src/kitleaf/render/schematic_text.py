@@ -1,4 +1,4 @@
-"""Words on a schematic: part labels, how much room text takes, and the tidying of the SVG.
+"""Words on a schematic: part labels, where they sit, how much room text takes, and SVG tidying.
 
 The room text takes is estimated from a wide sans-serif's average advance per character, not
 measured from a font, so a layout is the same on every machine.
@@ -21,6 +21,9 @@ CHAR_WIDTH = 0.62  # a sans-serif character's average advance, in font sizes (co
 LABEL_GAP = {"resistor": 0.45, "capacitor": 0.55, "inductor": 0.5, "diode": 0.5, "led": 1.0,
              "pot": 0.5, "block": 0.3}
 LABEL_NUDGE = 0.1  # schemdraw writes a label this far right of and above its point
+# The side a label lies on from its point -> schemdraw's (halign, valign) for it.
+ALIGN = {"right": ("left", "center"), "left": ("right", "center"),
+         "above": ("center", "bottom"), "below": ("center", "top"), "below right": ("left", "top")}
 
 
 def part_value(part: Part) -> str:
@@ -36,6 +39,31 @@ def part_label(part: Part) -> str:
     if part.polarised and part.type == "capacitor":
         value = f"{value} {part.dielectric[:4]}."
     return f"{part.designator}\n{value}"
+
+
+def default_side(a: Point, b: Point) -> str:
+    """Where a part drawn from ``a`` to ``b`` is labelled unless told: above a level part, to
+    the right of an upright one."""
+    return "above" if abs(a[1] - b[1]) < 1e-9 else "right"
+
+
+def wiper_side(a: Point, b: Point) -> str:
+    """The side schemdraw draws a pot's wiper on, for a pot drawn from ``a`` to ``b``."""
+    if abs(a[1] - b[1]) < 1e-9:
+        return "above" if b[0] > a[0] else "below"
+    return "right" if b[1] < a[1] else "left"
+
+
+def label_point(a: Point, b: Point, side: str | None, gap: float) -> Point:
+    """Where the label of a part drawn from ``a`` to ``b`` goes: ``gap`` off its middle."""
+    middle = ((a[0] + b[0]) / 2, (a[1] + b[1]) / 2)
+    return nudge(middle, side or default_side(a, b), gap)
+
+
+def nudge(at: Point, side: str, gap: float) -> Point:
+    dx, dy = {"right": (gap, 0), "left": (-gap, 0), "above": (0, gap), "below": (0, -gap)}.get(
+        side, (0, 0))
+    return (at[0] + dx, at[1] + dy)
 
 
 def text_width(text: str, size: float = FONT_SIZE) -> float:
