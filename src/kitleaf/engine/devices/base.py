@@ -112,3 +112,20 @@ def param_arrays(models: list, keys: tuple[str, ...]) -> dict[str, np.ndarray]:
 def internal(name: str, terminal: str) -> str:
     """Name of a device's internal node (behind a series resistance)."""
     return f"{name}:{terminal}"
+
+
+def internal_nodes(part, resistors: tuple[tuple[str, str], ...]) -> tuple[str, ...]:
+    """The internal nodes of ``part``: one behind each terminal whose series resistance
+    (``resistors``: (terminal, model key) pairs) is set."""
+    return tuple(internal(part.name, t) for t, key in resistors if part.model.get(key) > 0)
+
+
+def inner_row(part, terminal: str, key: str, st) -> int:
+    """The row behind ``terminal``'s series resistance (model key ``key``), stamping that
+    resistance; the terminal's own row when there is none."""
+    outer = st.layout.row(getattr(part, terminal))
+    if part.model.get(key) <= 0:
+        return outer
+    inner = st.layout.row(internal(part.name, terminal))
+    st.conductance(None, outer, inner, 1.0 / part.model.get(key))
+    return inner

@@ -14,7 +14,8 @@ from kitleaf.engine.devices.base import (
     Bank,
     depletion,
     explin,
-    internal,
+    inner_row,
+    internal_nodes,
     param_arrays,
     pnjlim,
     vcrit,
@@ -125,22 +126,8 @@ def _region(ic: float, vce: float) -> str:
 _RESISTORS = (("b", "RB"), ("c", "RC"), ("e", "RE"))
 
 
-def _internal_nodes(q: el.Bjt) -> tuple[str, ...]:
-    return tuple(internal(q.name, t) for t, key in _RESISTORS if q.model.get(key) > 0)
-
-
-def _inner_row(q: el.Bjt, terminal: str, key: str, st) -> int:
-    """The row behind the terminal's series resistance, stamping that resistance."""
-    outer = st.layout.row(getattr(q, terminal))
-    if q.model.get(key) <= 0:
-        return outer
-    inner = st.layout.row(internal(q.name, terminal))
-    st.conductance(None, outer, inner, 1.0 / q.model.get(key))
-    return inner
-
-
 def _build(parts: list[el.Bjt], st) -> BjtBank:
-    rows = {t: np.array([_inner_row(q, t, key, st) for q in parts]) for t, key in _RESISTORS}
+    rows = {t: np.array([inner_row(q, t, key, st) for q in parts]) for t, key in _RESISTORS}
     b, c, e = rows["b"], rows["c"], rows["e"]
     row = st.layout.row
     ext = np.array([[row(q.c) for q in parts], [row(q.b) for q in parts],
@@ -153,4 +140,4 @@ def _build(parts: list[el.Bjt], st) -> BjtBank:
                    ext=ext)
 
 
-register_family(Family("bjt", el.Bjt, _internal_nodes, _build))
+register_family(Family("bjt", el.Bjt, lambda q: internal_nodes(q, _RESISTORS), _build))

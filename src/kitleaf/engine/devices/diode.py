@@ -12,7 +12,8 @@ from kitleaf.engine.devices.base import (
     Bank,
     depletion,
     explin,
-    internal,
+    inner_row,
+    internal_nodes,
     param_arrays,
     pnjlim,
     vcrit,
@@ -63,19 +64,12 @@ class DiodeBank(Bank):
         return {"id": i_d, "vd": vd, "gd": float(slope[0, 0, 0, index]), "region": region}
 
 
-def _internal_nodes(d: el.Diode) -> tuple[str, ...]:
-    return (internal(d.name, "a"),) if d.model.get("RS") > 0 else ()
+_RESISTORS = (("a", "RS"),)
 
 
 def _build(diodes: list[el.Diode], st) -> DiodeBank:
     row = st.layout.row
-    anodes = []
-    for d in diodes:
-        a = row(d.a)
-        if d.model.get("RS") > 0:
-            a = row(internal(d.name, "a"))
-            st.conductance(None, row(d.a), a, 1.0 / d.model.get("RS"))
-        anodes.append(a)
+    anodes = [inner_row(d, "a", "RS", st) for d in diodes]
     jp, jn = np.array([anodes]), np.array([[row(d.k) for d in diodes]])
     return DiodeBank(names=tuple(d.name for d in diodes), polarity=np.ones(len(diodes)),
                      params=param_arrays([d.model for d in diodes], KEYS), jp=jp, jn=jn,
@@ -83,4 +77,4 @@ def _build(diodes: list[el.Diode], st) -> DiodeBank:
                      ext=np.array([[row(d.a) for d in diodes], jn[0]]))
 
 
-register_family(Family("diode", el.Diode, _internal_nodes, _build))
+register_family(Family("diode", el.Diode, lambda d: internal_nodes(d, _RESISTORS), _build))

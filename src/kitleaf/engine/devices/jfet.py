@@ -12,7 +12,8 @@ from kitleaf.engine.devices.base import (
     Bank,
     depletion,
     explin,
-    internal,
+    inner_row,
+    internal_nodes,
     param_arrays,
     pnjlim,
     vcrit,
@@ -95,22 +96,9 @@ class JfetBank(Bank):
 _RESISTORS = (("d", "RD"), ("s", "RS"))
 
 
-def _internal_nodes(q: el.Jfet) -> tuple[str, ...]:
-    return tuple(internal(q.name, t) for t, key in _RESISTORS if q.model.get(key) > 0)
-
-
-def _inner_row(q: el.Jfet, terminal: str, key: str, st) -> int:
-    outer = st.layout.row(getattr(q, terminal))
-    if q.model.get(key) <= 0:
-        return outer
-    inner = st.layout.row(internal(q.name, terminal))
-    st.conductance(None, outer, inner, 1.0 / q.model.get(key))
-    return inner
-
-
 def _build(parts: list[el.Jfet], st) -> JfetBank:
-    d = np.array([_inner_row(q, "d", "RD", st) for q in parts])
-    s = np.array([_inner_row(q, "s", "RS", st) for q in parts])
+    d = np.array([inner_row(q, "d", "RD", st) for q in parts])
+    s = np.array([inner_row(q, "s", "RS", st) for q in parts])
     g = np.array([st.layout.row(q.g) for q in parts])
     row = st.layout.row
     ext = np.array([[row(q.d) for q in parts], g, [row(q.s) for q in parts]])
@@ -122,4 +110,4 @@ def _build(parts: list[el.Jfet], st) -> JfetBank:
                     ext=ext)
 
 
-register_family(Family("jfet", el.Jfet, _internal_nodes, _build))
+register_family(Family("jfet", el.Jfet, lambda q: internal_nodes(q, _RESISTORS), _build))
