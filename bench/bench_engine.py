@@ -162,19 +162,26 @@ def ngspice_seconds(deck: str, repeat: int = 3) -> float:
 
 def compare_mc(c: Circuit, samples: int, rounds: int) -> dict[str, float]:
     """Engine and ngspice Monte Carlo timed in alternation, so both see the same load:
-    best wall and CPU seconds of each (ngspice's start-up, an empty deck, subtracted)."""
+    best wall and CPU seconds of each (ngspice's start-up, an empty deck, subtracted), and
+    each round's own CPU ratio (the machine's slow and quick spells last seconds, so a
+    ratio within one round compares like with like)."""
     base_run = ngspice_run(ngspice_deck(c, 0, False))
     spice_run = ngspice_run(ngspice_deck(c, samples, True))
     best = {k: float("inf") for k in ("mc", "mc_cpu", "spice", "spice_cpu", "base", "base_cpu")}
+    ratios = []
     for _ in range(rounds):
+        now = {}
         for key, fn in (("mc", lambda: engine_mc(c, samples)), ("spice", spice_run),
                         ("base", base_run), ("mc", lambda: engine_mc(c, samples))):
             start = time.perf_counter()
             cpu = cpu_timed(fn)
             best[key] = min(best[key], time.perf_counter() - start)
             best[key + "_cpu"] = min(best[key + "_cpu"], cpu)
+            now[key] = min(now.get(key, float("inf")), cpu)
+        ratios.append((now["spice"] - now["base"]) / now["mc"])
     best["spice"] -= best["base"]
     best["spice_cpu"] -= best["base_cpu"]
+    best["round_ratios"] = sorted(ratios)
     return best
 
 
@@ -220,6 +227,9 @@ def main() -> None:
               f"{t['spice_cpu'] * 1e3:6.1f} ms CPU")
         print(f"  ratio Monte Carlo     {t['spice'] / t['mc']:8.2f} x wall, "
               f"{t['spice_cpu'] / t['mc_cpu']:.2f} x CPU  (target >= 10)")
+        rounds = t["round_ratios"]
+        print(f"  CPU ratio per round   {rounds[len(rounds) // 2]:8.2f} x median, "
+              f"{rounds[0]:.2f} .. {rounds[-1]:.2f} x over {len(rounds)} rounds")
 
 
 if __name__ == "__main__":
