@@ -246,3 +246,15 @@ def test_line_check_sees_a_label_on_a_wire():
     sheet.text("100u elec.", (-0.5, 1.5))
     sheet.text("clear", (2.0, 1.5))
     assert text_on_lines(sheet.svg()) == ["100u elec."]
+
+
+def test_equal_elements_are_placed_once_and_the_table_stays_bounded(monkeypatch):
+    from kitleaf.render.schematic import Sheet
+
+    monkeypatch.setattr(schematic_reuse, "PLACED", {})
+    monkeypatch.setattr(schematic_reuse, "PLACED_LIMIT", 2)
+    for _ in range(2):  # the same wire on two sheets: one entry
+        Sheet().wire((0.0, 0.0), (1.0, 0.0))
+    assert len(schematic_reuse.PLACED) == 1
+    Sheet().wire((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 2.0))  # three new, room for one
+    assert len(schematic_reuse.PLACED) == 2
