@@ -95,3 +95,63 @@ def test_a_zero_kit_batch_is_a_clear_error(capsys):
     err = capsys.readouterr().err.strip().splitlines()
     assert err == ["kitleaf bom: error: the number of kits must be a whole number of 1 or more, "
                    "got 0"]
+
+
+def strict_guides(tmp_path: Path, findings: bool) -> Path:
+    """Two demo guides; with ``findings`` the first loses its ``allow:`` lines, so its two
+    design-rule findings (input impedance, coupling corner) are no longer silenced."""
+    guides = tmp_path / "guides"
+    guides.mkdir()
+    text = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    if findings:
+        text = "".join(line for line in text.splitlines(keepends=True)
+                       if not line.startswith("allow: "))
+    (guides / "a.md").write_text(text, encoding="utf-8")
+    (guides / "b.md").write_bytes((DEMO / "heron-opamp-boost.md").read_bytes())
+    return guides
+
+
+def count_solves(monkeypatch) -> list[str]:
+    """Every call of derive_specs (the kit solved at each knob position and supply) by the
+    build and by the check, by guide file name."""
+    import kitleaf.commands.check
+    import kitleaf.site.guide_output
+
+    calls: list[str] = []
+    for module in (kitleaf.commands.check, kitleaf.site.guide_output):
+        solve = module.derive_specs
+
+        def counted(guide, kit, _solve=solve):
+            calls.append(Path(guide.path).name)
+            return _solve(guide, kit)
+
+        monkeypatch.setattr(module, "derive_specs", counted)
+    return calls
+
+
+def test_strict_build_stops_at_a_finding_as_check_does(tmp_path, capsys, monkeypatch):
+    guides, out = strict_guides(tmp_path, findings=True), tmp_path / "site"
+    assert main(["build", str(guides), "-o", str(out)]) == 0  # findings are warnings here
+    before = {p: p.read_bytes() for p in out.rglob("*") if p.is_file()}
+    capsys.readouterr()
+    solves = count_solves(monkeypatch)
+    assert main(["build", str(guides), "-o", str(out), "--strict", "-j", "1", "--no-cache"]) == 1
+    assert sorted(solves) == ["a.md", "b.md"]  # each guide solved once, by the build alone
+    built = capsys.readouterr().err.strip().splitlines()
+    assert {p: p.read_bytes() for p in out.rglob("*") if p.is_file()} == before
+    assert main(["check", str(guides), "--strict"]) == 1
+    checked = capsys.readouterr().err.strip().splitlines()
+    assert len(checked) == 2 and all(f"{guides / 'a.md'}:" in line for line in checked)
+    assert built[:-1] == checked  # the same lines, in the same order
+    assert built[-1].startswith("kitleaf: 1 guide(s) failed (--strict")
+    assert "the published site is untouched" in built[-1] and "Traceback" not in "".join(built)
+
+
+def test_strict_build_of_clean_guides_publishes_after_one_solve_each(tmp_path, capsys,
+                                                                    monkeypatch):
+    guides, out = strict_guides(tmp_path, findings=False), tmp_path / "site"
+    solves = count_solves(monkeypatch)
+    assert main(["build", str(guides), "-o", str(out), "--strict", "-j", "1"]) == 0
+    assert sorted(solves) == ["a.md", "b.md"]
+    assert (out / "index.html").is_file() and (out / "manifest.json").is_file()
+    assert "0 warning(s)" in capsys.readouterr().out

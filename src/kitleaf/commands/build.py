@@ -1,4 +1,8 @@
-"""``kitleaf build``: the whole site, written only if every guide succeeds, then a summary."""
+"""``kitleaf build``: the whole site, written only if every guide succeeds, then a summary.
+
+With ``--strict`` a design-rule finding fails its guide too, printed as ``kitleaf check
+--strict`` prints it; the findings come from the build's own solve of each guide.
+"""
 
 from __future__ import annotations
 
@@ -10,10 +14,11 @@ from kitleaf.site.changes import summary_lines
 from kitleaf.site.manifest import MANIFEST_NAME
 
 
-def report_failure(failed: BuildFailed) -> int:
+def report_failure(failed: BuildFailed, strict: bool = False) -> int:
     for error in failed.errors:
         print(error, file=sys.stderr)
-    print(f"kitleaf: {len(failed.errors)} guide(s) failed; the published site is untouched",
+    why = " (--strict: design-rule findings count as errors)" if strict else ""
+    print(f"kitleaf: {len(failed.errors)} guide(s) failed{why}; the published site is untouched",
           file=sys.stderr)
     return 1
 
@@ -44,28 +49,20 @@ def warning_line(warning: str) -> str:
     return rest if rest.startswith(f"{path}:") else f"warning: {warning}"
 
 
-def strict_failures(args) -> int:
-    """With ``--strict``, every guide checked first: design-rule findings stop the build."""
-    from kitleaf.commands.check import run as check
-
-    return check(args) if getattr(args, "strict", False) else 0
-
-
 def build_options(args) -> dict:
-    """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``)."""
+    """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``,
+    ``--strict``)."""
     return {"jobs": getattr(args, "jobs", None),
-            "use_cache": not getattr(args, "no_cache", False)}
+            "use_cache": not getattr(args, "no_cache", False),
+            "strict": getattr(args, "strict", False)}
 
 
 @command("build")
 def run(args) -> int:
-    if strict_failures(args):
-        print("kitleaf: --strict: the check above failed; the published site is untouched",
-              file=sys.stderr)
-        return 1
+    options = build_options(args)
     try:
-        report = build_site(args.guides, args.out, **build_options(args))
+        report = build_site(args.guides, args.out, **options)
     except BuildFailed as failed:
-        return report_failure(failed)
+        return report_failure(failed, options["strict"])
     print_report(report, args.out)
     return 0

@@ -11,7 +11,7 @@ import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from kitleaf.errors import BuildError, KitleafError, SourceSpan
+from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan, SpecError
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
 from kitleaf.site.cache import Cache, default_cache_dir
@@ -50,14 +50,19 @@ class BuildReport:
 
 
 def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
-               cache_dir: Path | None = None, use_cache: bool = True,
+               cache_dir: Path | None = None, use_cache: bool = True, strict: bool = False,
                progress=None) -> BuildReport:
-    """Build every guide under ``target`` into ``out_dir``; on any error nothing is written."""
+    """Build every guide under ``target`` into ``out_dir``; on any error nothing is written.
+
+    With ``strict``, a guide's design-rule finding is an error too (:func:`finding_errors`).
+    """
     started = time.perf_counter()
     themes = theme_dirs(site_root_for(target))
     paths = find_guides(target)
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
     outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress)
+    if strict and (refused := finding_errors(outputs)):
+        raise BuildFailed(refused)  # the guides stay cached; nothing is published
     files, changes = site_files(outputs, themes, Path(out_dir))
     result = publish(Path(out_dir), files)
     warnings = tuple(f"{p}: {w}" for p, o in zip(paths, outputs, strict=True) for w in o.warnings)
@@ -88,6 +93,13 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
             cache.store("guide", keys[i], output)
     check_slugs(paths, outputs)
     return outputs, len(todo)
+
+
+def finding_errors(outputs: list) -> list[KitleafError]:
+    """Each guide's design-rule findings as its error, one line per finding, as ``kitleaf check
+    --strict`` prints them: ``path:line: error: message [rule]``."""
+    errors = [[SpecError(f"{f.message} [{f.rule}]", f.span) for f in o.findings] for o in outputs]
+    return [found[0] if len(found) == 1 else ErrorList(found) for found in errors if found]
 
 
 def check_slugs(paths: list[Path], outputs: list) -> None:

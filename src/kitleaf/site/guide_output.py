@@ -29,6 +29,7 @@ from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.plots import kit_plot, stage_plot
+from kitleaf.specs.rules import Finding
 from kitleaf.specs.summary import headline, stage_headline
 
 
@@ -39,7 +40,13 @@ class GuideOutput:
     card: Card
     files: tuple[tuple[str, bytes], ...]
     record: dict | None = None
-    warnings: tuple[str, ...] = ()  # findings that do not stop the build, without the path
+    notes: tuple[str, ...] = ()  # the specs' notes (not located)
+    findings: tuple[Finding, ...] = ()  # design-rule findings no ``allow:`` line silences
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """What does not stop the build (unless ``--strict``): notes, then findings' lines."""
+        return self.notes + tuple(f.line() for f in self.findings)
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:
@@ -68,8 +75,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), f"{slug}/index.html")
     record = guide_record(Path(path).name, kit.parts(), specs)
-    warnings = specs.notes + tuple(f.line() for f in checks.warnings)
-    return GuideOutput(card, tuple(sorted(files.items())), record, warnings)
+    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings)
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
