@@ -40,6 +40,9 @@ def print_report(report: BuildReport, out) -> None:
     if MANIFEST_NAME in report.written:  # parts or specs moved: say what, for the errata
         for line in summary_lines(report.changes):
             print(f"changed: {line}")
+    if report.pruned.entries:  # said only when the cache sweep removed something
+        print(f"cache: {report.pruned.entries} unused entries removed, "
+              f"{report.pruned.freed / 1e6:.1f} MB freed")
     print(summary(report, out), flush=True)
 
 

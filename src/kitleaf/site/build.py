@@ -2,7 +2,8 @@
 
 A guide whose text, theme and kitleaf code are unchanged is taken whole from the cache; the
 rest are built across the cores. The index, the manifest and the changes page are made here,
-and :func:`publish` writes only the files whose bytes changed.
+and :func:`publish` writes only the files whose bytes changed. After a successful build the
+cache is pruned of what this build did not use (:mod:`kitleaf.site.prune`).
 """
 
 from __future__ import annotations
@@ -21,6 +22,7 @@ from kitleaf.site.fingerprint import theme_fingerprint
 from kitleaf.site.manifest import MANIFEST_NAME, dump_manifest, make_manifest, read_manifest
 from kitleaf.site.pool import default_jobs, run_guides
 from kitleaf.site.progress import Progress
+from kitleaf.site.prune import DEFAULT_POLICY, PrunePolicy, PruneReport, prune
 from kitleaf.site.publish import publish
 
 CHANGES_PAGE = "changes.html"
@@ -47,11 +49,12 @@ class BuildReport:
     warnings: tuple[str, ...] = ()
     changes: dict = field(default_factory=dict)
     pages: int = 0
+    pruned: PruneReport = PruneReport()  # cache entries removed after the build
 
 
 def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
                cache_dir: Path | None = None, use_cache: bool = True, strict: bool = False,
-               progress=None) -> BuildReport:
+               progress=None, prune_policy: PrunePolicy = DEFAULT_POLICY) -> BuildReport:
     """Build every guide under ``target`` into ``out_dir``; on any error nothing is written.
 
     With ``strict``, a guide's design-rule finding is an error too (:func:`finding_errors`).
@@ -65,10 +68,11 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
         raise BuildFailed(refused)  # the guides stay cached; nothing is published
     files, changes = site_files(outputs, themes, Path(out_dir))
     result = publish(Path(out_dir), files)
+    pruned = prune(cache.root, cache.used, prune_policy) if cache else PruneReport()
     warnings = tuple(f"{p}: {w}" for p, o in zip(paths, outputs, strict=True) for w in o.warnings)
     pages = sum(1 for name in files if name.endswith(".html"))
     return BuildReport(len(paths), len(files), time.perf_counter() - started, result.written,
-                       result.removed, rebuilt, warnings, changes, pages)
+                       result.removed, rebuilt, warnings, changes, pages, pruned)
 
 
 def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: int,
@@ -77,22 +81,33 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
     theme_key = theme_fingerprint(themes)
     # Keyed by file name, not path: the same folder moved or copied elsewhere stays cached.
     keys = [cache.key("guide", theme_key, p.name, p.read_bytes()) if cache else "" for p in paths]
-    outputs = [cache.load("guide", k) if cache else None for k in keys]
+    outputs = [cached_guide(cache, k) if cache else None for k in keys]
     todo = [i for i, o in enumerate(outputs) if o is None]
     progress = Progress(len(paths), stream)
     progress.advance(len(paths) - len(todo))
     built = run_guides([paths[i] for i in todo], themes, cache.root if cache else None, jobs,
                        progress.advance, progress.tick)
     progress.done()
-    errors = [r for r in built if isinstance(r, KitleafError)]
+    errors = [r for r, _uses in built if isinstance(r, KitleafError)]
     if errors:
         raise BuildFailed(errors)
-    for i, output in zip(todo, built, strict=True):
+    for i, (output, uses) in zip(todo, built, strict=True):
         outputs[i] = output
         if cache:
-            cache.store("guide", keys[i], output)
+            cache.used.update(uses)
+            cache.store("guide", keys[i], (output, uses))
     check_slugs(paths, outputs)
     return outputs, len(todo)
+
+
+def cached_guide(cache: Cache, key: str):
+    """A guide's stored output; the entries it was built from count as used by this build."""
+    found = cache.load("guide", key)
+    if not (isinstance(found, tuple) and len(found) == 2):
+        return None
+    output, uses = found
+    cache.used.update(uses)  # kept by the pruning, ready for this guide's next edit
+    return output
 
 
 def finding_errors(outputs: list) -> list[KitleafError]:

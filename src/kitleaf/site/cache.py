@@ -4,7 +4,10 @@ The cache lives in ``.kitleaf-cache/`` beside the output folder, never inside th
 site. Every entry is one file named by its key under a folder per kind of result (``guide``,
 ``specs``, ``schematic``, ``plot``...). Entries are written to a temporary name and renamed,
 so a build killed mid-write leaves no torn entry, and several worker processes can fill the
-cache at once. Deleting the folder is always safe: the next build is simply a cold one.
+cache at once. Deleting the folder, or any entry in it, is always safe: a missing entry is a
+miss, and the next build makes it again. Each :class:`Cache` remembers the entries it read or
+wrote (``used``), so a build knows exactly what it depends on when the cache is pruned
+(:mod:`kitleaf.site.prune`).
 """
 
 from __future__ import annotations
@@ -13,14 +16,15 @@ import os
 import pickle
 import tempfile
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 from kitleaf.site.fingerprint import code_fingerprint, digest
 
 CACHE_DIR_NAME = ".kitleaf-cache"
-# Bumped when the layout or the pickled records change shape.
-CACHE_FORMAT = "2"
+# Bumped when the layout or the pickled records change shape (3: a guide entry carries the
+# names of the entries it was built from).
+CACHE_FORMAT = "3"
 
 
 def default_cache_dir(out_dir: Path) -> Path:
@@ -28,24 +32,33 @@ def default_cache_dir(out_dir: Path) -> Path:
     return out_dir.resolve().parent / CACHE_DIR_NAME
 
 
+def entry_name(kind: str, key: str) -> str:
+    """An entry's file, relative to the cache folder: one folder per kind, 256 below it."""
+    return f"{kind}/{key[:2]}/{key[2:]}"
+
+
 @dataclass(frozen=True)
 class Cache:
     """A content-addressed store of bytes and of pickled frozen values."""
 
     root: Path
+    # Entries read or written through this object, as names relative to ``root``.
+    used: set[str] = field(default_factory=set, compare=False, hash=False, repr=False)
 
     def key(self, kind: str, *parts: str | bytes) -> str:
         """The key of a result of ``kind``: its inputs, kitleaf's code and the cache format."""
         return digest(CACHE_FORMAT, code_fingerprint(), kind, *parts)
 
     def _path(self, kind: str, key: str) -> Path:
-        return self.root / kind / key[:2] / key[2:]
+        return self.root / entry_name(kind, key)
 
     def get(self, kind: str, key: str) -> bytes | None:
         try:
-            return self._path(kind, key).read_bytes()
+            data = self._path(kind, key).read_bytes()
         except OSError:
             return None
+        self.used.add(entry_name(kind, key))
+        return data
 
     def put(self, kind: str, key: str, data: bytes) -> None:
         """Store ``data``; a failure to write only costs speed, never the build."""
@@ -58,6 +71,7 @@ class Cache:
             os.replace(tmp, path)
         except OSError:
             return
+        self.used.add(entry_name(kind, key))
 
     def bytes_for(self, kind: str, key: str, make: Callable[[], bytes]) -> bytes:
         """The stored result for ``key``, or ``make()`` stored under it."""

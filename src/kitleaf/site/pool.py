@@ -1,9 +1,10 @@
 """Solving and rendering guides across all cores: a process pool whose result equals a serial run.
 
 Each worker builds whole guides and returns a :class:`GuideOutput` or the guide's
-:class:`KitleafError` (picklable, so it crosses the process boundary with its location).
-Results are put back in guide order, so the site never depends on which worker finished first.
-Workers start from a fork server that has imported the pipeline once and frozen it.
+:class:`KitleafError` (picklable, so it crosses the process boundary with its location), with
+the names of the cache entries the guide used. Results are put back in guide order, so the
+site never depends on which worker finished first. Workers start from a fork server that has
+imported the pipeline once and frozen it.
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ from kitleaf.errors import KitleafError
 PIPELINE_MODULE = "kitleaf.site.guide_output"
 FREEZE_MODULE = "kitleaf.site.fork_ready"  # preloaded last: the workers share the imports' pages
 Result = object  # a GuideOutput, or the KitleafError that stopped the guide
+Built = tuple[Result, tuple[str, ...]]  # and the cache entries the guide read or wrote
 
 
 def default_jobs() -> int:
@@ -30,16 +32,16 @@ def default_jobs() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def build_one(path: Path, themes: list[Path], cache_root: Path | None) -> Result:
+def build_one(path: Path, themes: list[Path], cache_root: Path | None) -> Built:
     """One guide, start to finish; a user error is returned, not raised, to keep the others."""
     from kitleaf.site.cache import Cache, NoCache
     from kitleaf.site.guide_output import process_guide
 
     cache = Cache(cache_root) if cache_root is not None else NoCache()
     try:
-        return process_guide(path, themes, cache=cache)
+        return process_guide(path, themes, cache=cache), tuple(sorted(cache.used))
     except KitleafError as exc:
-        return exc
+        return exc, ()
     except Exception as exc:  # a kitleaf bug: keep the traceback, but say which guide
         exc.add_note(f"while building {path}")
         raise
@@ -47,7 +49,7 @@ def build_one(path: Path, themes: list[Path], cache_root: Path | None) -> Result
 
 def run_guides(paths: list[Path], themes: list[Path], cache_root: Path | None, jobs: int,
                advance: Callable[[], None] = lambda: None,
-               tick: Callable[[], None] = lambda: None) -> list[Result]:
+               tick: Callable[[], None] = lambda: None) -> list[Built]:
     """Build ``paths`` with up to ``jobs`` processes; results in the order of ``paths``."""
     workers = min(jobs, len(paths)) if _main_importable() else 1
     if workers <= 1:
@@ -60,15 +62,15 @@ def run_guides(paths: list[Path], themes: list[Path], cache_root: Path | None, j
             raise
 
 
-def _serial(path: Path, themes: list[Path], cache_root: Path | None, advance) -> Result:
+def _serial(path: Path, themes: list[Path], cache_root: Path | None, advance) -> Built:
     result = build_one(path, themes, cache_root)
     advance()
     return result
 
 
-def _parallel(pool, paths, themes, cache_root, advance, tick) -> list[Result]:
+def _parallel(pool, paths, themes, cache_root, advance, tick) -> list[Built]:
     pending = {pool.submit(build_one, p, themes, cache_root): i for i, p in enumerate(paths)}
-    results: list[Result] = [None] * len(paths)
+    results: list[Built] = [(None, ())] * len(paths)
     waiting = set(pending)
     while waiting:
         finished, waiting = futures.wait(waiting, timeout=0.5,
