@@ -4,12 +4,15 @@ Each worker builds whole guides and returns a :class:`GuideOutput` or the guide'
 :class:`KitleafError` (picklable, so it crosses the process boundary with its location), with
 the names of the cache entries the guide used. Results are put back in guide order, so the
 site never depends on which worker finished first. Workers start from a fork server that has
-imported the pipeline once and frozen it.
+imported the pipeline once and frozen it, and they end with the build
+(:mod:`kitleaf.site.lifetime`): on an error, Ctrl-C, SIGTERM or SIGHUP they are terminated at
+once, and if the build process dies they exit by themselves.
 """
 
 from __future__ import annotations
 
 import concurrent.futures as futures
+import contextlib
 import multiprocessing
 import os
 import sys
@@ -17,8 +20,10 @@ from collections.abc import Callable
 from pathlib import Path
 
 from kitleaf.errors import KitleafError
+from kitleaf.site.lifetime import Stopped, die_of, exit_with_build, signals_stop_pool
 
 PIPELINE_MODULE = "kitleaf.site.guide_output"
+LIFETIME_MODULE = "kitleaf.site.lifetime"  # the workers' initializer, imported once
 FREEZE_MODULE = "kitleaf.site.fork_ready"  # preloaded last: the workers share the imports' pages
 Result = object  # a GuideOutput, or the KitleafError that stopped the guide
 Built = tuple[Result, tuple[str, ...]]  # and the cache entries the guide read or wrote
@@ -54,12 +59,39 @@ def run_guides(paths: list[Path], themes: list[Path], cache_root: Path | None, j
     workers = min(jobs, len(paths)) if _main_importable() else 1
     if workers <= 1:
         return [_serial(path, themes, cache_root, advance) for path in paths]
-    with futures.ProcessPoolExecutor(workers, mp_context=_context()) as pool:
-        try:
-            return _parallel(pool, paths, themes, cache_root, advance, tick)
-        except BaseException:
-            pool.shutdown(wait=False, cancel_futures=True)
-            raise
+    with worker_pool(workers) as pool:
+        return _parallel(pool, paths, themes, cache_root, advance, tick)
+
+
+@contextlib.contextmanager
+def worker_pool(workers: int):
+    """A process pool whose workers never outlive the build, however the build ends."""
+    pool = futures.ProcessPoolExecutor(workers, mp_context=_context(),
+                                       initializer=exit_with_build, initargs=(os.getpid(),))
+    try:
+        with signals_stop_pool():
+            yield pool
+    except Stopped as stopped:  # SIGTERM or SIGHUP: stop the workers, then die of the signal
+        stop_workers(pool)
+        die_of(stopped)
+        raise
+    except BaseException:  # an error or Ctrl-C: the workers' guides are of no use any more
+        stop_workers(pool)
+        raise
+    pool.shutdown(wait=True)
+
+
+def stop_workers(pool: futures.ProcessPoolExecutor) -> None:
+    """Cancel what is queued and terminate the workers now, mid-guide."""
+    terminate = getattr(pool, "terminate_workers", None)  # Python 3.14 and later
+    if terminate is not None:
+        terminate()
+        return
+    # What terminate_workers does: the pool's own shutdown would wait for the running guides.
+    processes = list((getattr(pool, "_processes", None) or {}).values())  # shutdown drops them
+    pool.shutdown(wait=False, cancel_futures=True)
+    for process in processes:
+        process.terminate()
 
 
 def _serial(path: Path, themes: list[Path], cache_root: Path | None, advance) -> Built:
@@ -92,6 +124,6 @@ def _context():
     """A fork server where the platform has one (fast, and safe beside threads), else spawn."""
     if "forkserver" in multiprocessing.get_all_start_methods():
         context = multiprocessing.get_context("forkserver")
-        context.set_forkserver_preload([PIPELINE_MODULE, FREEZE_MODULE])
+        context.set_forkserver_preload([PIPELINE_MODULE, LIFETIME_MODULE, FREEZE_MODULE])
         return context
     return multiprocessing.get_context("spawn")
