@@ -80,6 +80,23 @@ def test_rebuild_without_change_rewrites_nothing(site: Path):
     assert snapshot(site / "site") == before
 
 
+def test_rebuild_without_change_does_not_load_the_pipeline(site: Path):
+    # guides taken whole from the cache are read back without the solver or the drawing, so
+    # an edit-and-save loop with nothing to rebuild starts in a fraction of a second
+    probe = textwrap.dedent(f"""
+        import sys
+        from pathlib import Path
+        from kitleaf.site.build import build_site
+        report = build_site(Path({str(site / "guides")!r}), Path({str(site / "site")!r}))
+        heavy = [m for m in ("numpy", "kitleaf.engine", "kitleaf.circuit.chain",
+                             "schemdraw", "matplotlib") if m in sys.modules]
+        print(report.rebuilt, heavy)
+    """)
+    run = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
+                         check=True)
+    assert run.stdout.strip() == "0 []"
+
+
 def test_one_part_change_rewrites_only_what_it_touches(site: Path, tmp_path: Path):
     before = snapshot(site / "site")
     change_r4(site / "guides")

@@ -8,7 +8,6 @@ draws. Pages are cheap and always rendered; publishing writes them only if their
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass
 from pathlib import Path
 
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
@@ -25,28 +24,12 @@ from kitleaf.render.schematic import render_overview_svg, render_stage_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
+from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.plots import kit_plot, stage_plot
-from kitleaf.specs.rules import Finding
 from kitleaf.specs.summary import headline, stage_headline
-
-
-@dataclass(frozen=True)
-class GuideOutput:
-    """The files of one guide (site-relative path -> bytes), its index card and manifest entry."""
-
-    card: Card
-    files: tuple[tuple[str, bytes], ...]
-    record: dict | None = None
-    notes: tuple[str, ...] = ()  # the specs' notes (not located)
-    findings: tuple[Finding, ...] = ()  # design-rule findings no ``allow:`` line silences
-
-    @property
-    def warnings(self) -> tuple[str, ...]:
-        """What does not stop the build (unless ``--strict``): notes, then findings' lines."""
-        return self.notes + tuple(f.line() for f in self.findings)
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:

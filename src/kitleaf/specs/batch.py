@@ -16,9 +16,7 @@ import numpy as np
 
 from kitleaf.engine import BatchResult, PoleResidue, solve_batch
 from kitleaf.engine.batch import share_operating_point
-
-SAMPLES = 200  # enough for stable 5th and 95th percentiles at the shown precision
-SEED = 1
+from kitleaf.specs.model import SAMPLES, SEED
 
 
 @dataclass(frozen=True)

@@ -11,10 +11,18 @@ from kitleaf.circuit.kind import Stage
 from kitleaf.errors import KitleafError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
-from kitleaf.specs.batch import SAMPLES, SEED
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.loading import source_loading, stage_loading
-from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint, StageSpecs, Supply, Voltage
+from kitleaf.specs.model import (
+    SAMPLES,
+    SEED,
+    Headroom,
+    KitSpecs,
+    KnobPoint,
+    StageSpecs,
+    Supply,
+    Voltage,
+)
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.solve import KitState, nominal_positions

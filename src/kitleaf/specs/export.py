@@ -3,8 +3,16 @@
 from __future__ import annotations
 
 from kitleaf.render.environment import range_text
-from kitleaf.specs.batch import SAMPLES
-from kitleaf.specs.model import Curve, Headroom, KitSpecs, KnobPoint, Range, StageSpecs, Voltage
+from kitleaf.specs.model import (
+    SAMPLES,
+    Curve,
+    Headroom,
+    KitSpecs,
+    KnobPoint,
+    Range,
+    StageSpecs,
+    Voltage,
+)
 
 SCHEMA = "kitleaf-specs/1"
 

@@ -13,6 +13,11 @@ from typing import TYPE_CHECKING
 if TYPE_CHECKING:  # loading.py solves circuits, which in turn build these records
     from kitleaf.specs.loading import Comparison
 
+# The tolerance run behind every Range (here, not beside the solver, so that reading and
+# writing specs does not import the engine)
+SAMPLES = 200  # enough for stable 5th and 95th percentiles at the shown precision
+SEED = 1
+
 
 @dataclass(frozen=True)
 class Range:

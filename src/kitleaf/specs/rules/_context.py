@@ -11,28 +11,10 @@ from kitleaf.engine import OperatingPoint, solve_dc
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
 from kitleaf.specs.derive import KNOB_STEPS
+from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.solve import nominal_positions
-
-
-@dataclass(frozen=True)
-class Finding:
-    """A located design-rule result: ``allowed`` holds the guide's reason when it is silenced."""
-
-    rule: str
-    subject: str  # a designator, a stage id, or "kit"
-    scope: str  # the stage whose section shows it, or "kit"
-    message: str
-    span: SourceSpan
-    allowed: str = ""
-
-    def line(self, kind: str = "warning") -> str:
-        """The CLI line: ``path:line: warning: message [rule]``."""
-        return f"{self.span}: {kind}: {self.message} [{self.rule}]"
-
-    def __str__(self) -> str:
-        return self.line()
 
 
 @dataclass(frozen=True)
