@@ -117,3 +117,39 @@ class TestBatteryLife:
     def test_100_h_is_within_reach(self):
         text = swapped(("source: low-z", "source: low-z\nbattery-life: 100 h"))
         assert findings(text, "battery-life") == []
+
+
+class TestBiasPath:
+    """An op-amp input, gate or base reached only through capacitors has no bias of its own
+    and drifts to a rail (common practice, no source)."""
+
+    def test_an_op_amp_biased_to_a_reference_nobody_makes(self):
+        power = "".join(line for line in POWER.splitlines(keepends=True)
+                         if not line.startswith("vref-"))
+        text = filter_guide(OPAMP).replace(POWER, power)
+        found = findings(text, "bias-path")
+        assert [f.subject for f in found] == ["U1A"]
+        assert "+ input" in found[0].message and "vref parts" in found[0].message
+
+    def test_an_op_amp_biased_to_the_power_stage_reference_passes(self):
+        # the + input through the bias resistor to vref, the - input through the feedback
+        # resistor to the output the op-amp drives
+        assert findings(filter_guide(OPAMP), "bias-path") == []
+
+    def test_a_divider_biased_base_passes(self):
+        assert findings(GUIDE, "bias-path") == []
+
+    def test_a_gate_and_an_input_reached_only_through_capacitors(self):
+        from kitleaf.engine import Circuit
+        from kitleaf.specs.rules.bias_path import _grounded_nodes
+
+        c = Circuit().vsource("VCC", "vcc", "0", dc=9.0)
+        c.capacitor("C1", "in", "g", 100e-9).jfet("Q1", "vcc", "g", "s", "J201")
+        c.resistor("RS", "s", "0", 1e3)
+        c.capacitor("C2", "s", "p", 100e-9).opamp("U1", "p", "m", "out", "vcc", "0", "TL072")
+        c.resistor("RF", "out", "m", 10e3).resistor("RG", "m", "0", 1e3)
+        jfet, opamp = (next(e for e in c.elements if e.name == n) for n in ("Q1", "U1"))
+        gate_side, _ = _grounded_nodes(c.elements, jfet)
+        assert "g" not in gate_side and "s" in gate_side
+        input_side, _ = _grounded_nodes(c.elements, opamp)
+        assert "p" not in input_side and "m" in input_side
