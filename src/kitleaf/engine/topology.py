@@ -22,7 +22,7 @@ _DC_PAIRS = {
 _SHORTS = (el.VSource, el.Inductor)  # zero-impedance branches at DC
 
 
-class _Sets:
+class NodeSets:
     """Union-find over node names."""
 
     def __init__(self) -> None:
@@ -45,7 +45,7 @@ class _Sets:
 def check_topology(elements: tuple[el.Element, ...]) -> None:
     """Raise SolveError naming the first floating node or the part closing a source loop."""
     _check_loops(elements)
-    sets = _Sets()
+    sets = NodeSets()
     sets.find(el.GROUND)
     for element in elements:
         for a, b in _DC_PAIRS[type(element)]:
@@ -60,7 +60,7 @@ def check_topology(elements: tuple[el.Element, ...]) -> None:
 
 
 def _check_loops(elements: tuple[el.Element, ...]) -> None:
-    sets = _Sets()
+    sets = NodeSets()
     for element in elements:
         if isinstance(element, _SHORTS) and not sets.union(*el.terminals(element)):
             a, b = el.terminals(element)

@@ -10,6 +10,7 @@ through those internal paths, which is why this is a design rule and not a solve
 from __future__ import annotations
 
 from kitleaf.engine import elements as el
+from kitleaf.engine.topology import NodeSets
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext
 
@@ -54,21 +55,13 @@ def _grounded_nodes(elements, device):
     """Nodes joined to ground at DC by every element except ``device``'s own junctions or
     input resistance (an op-amp's driven output still counts: its feedback is a bias path),
     and whether two nodes are joined so."""
-    parent: dict[str, str] = {}
-
-    def find(node: str) -> str:
-        parent.setdefault(node, node)
-        while parent[node] != node:
-            parent[node] = parent[parent[node]]
-            node = parent[node]
-        return node
-
+    sets = NodeSets()
     for element in elements:
         if element is device and not isinstance(device, el.OpAmp):
             continue
         for a, b in _DC_PAIRS[type(element)]:
-            far = el.GROUND if b is None else getattr(element, b)
-            parent[find(getattr(element, a))] = find(far)
-    root = find(el.GROUND)
-    grounded = {node for node in parent if find(node) == root}
-    return grounded, lambda a, b: a in parent and b in parent and find(a) == find(b)
+            sets.union(getattr(element, a), el.GROUND if b is None else getattr(element, b))
+    root = sets.find(el.GROUND)
+    grounded = {node for node in sets.parent if sets.find(node) == root}
+    return grounded, lambda a, b: (a in sets.parent and b in sets.parent
+                                   and sets.find(a) == sets.find(b))
