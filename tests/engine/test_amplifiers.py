@@ -10,6 +10,7 @@ from kitleaf.engine import (
     band_gain_db,
     corners,
     gain_db_at,
+    get_model,
     phase_deg_at,
     solve_ac,
     solve_dc,
@@ -47,6 +48,34 @@ class TestNonInvertingOpAmp:
         # closed-loop bandwidth = GBW / noise gain for a one-pole op-amp (op-amp textbook)
         _, high = corners(ac, "out", ref_hz=1000.0)
         assert high == pytest.approx(3e6 / (1 + 56 / 2.7), rel=0.02)
+
+
+class TestInputBiasCurrent:
+    """A follower biased from a 4.5 V reference through 1 Mohm: its input bias current drops
+    IB x 1 Mohm across the resistor, and the output follows the input (Ohm's law; the
+    input-bias error of op-amp textbooks). The library's IB values are from memory."""
+
+    @staticmethod
+    def follower(model: str) -> Circuit:
+        c = Circuit().vsource("VCC", "vcc", "0", dc=9.0).vsource("VREF", "ref", "0", dc=4.5)
+        c.resistor("RB", "ref", "p", 1e6).opamp("U1", "p", "out", "out", "vcc", "0", model)
+        return c.resistor("RL", "out", "0", 10e3)
+
+    @pytest.mark.parametrize("model", ["NE5532", "LM358", "TL072"])
+    def test_the_bias_resistor_drops_ib_times_r(self, model):
+        ib = get_model(model).get("IB")
+        op = solve_dc(self.follower(model))
+        # current into the pin flows from the reference through RB: V+ = 4.5 V - IB * 1 Mohm
+        assert op.voltage("p") == pytest.approx(4.5 - ib * 1e6, abs=1e-4)
+        assert op.voltage("out") == pytest.approx(op.voltage("p"), abs=1e-3)
+
+    def test_bipolar_inputs_move_the_bias_by_a_tenth_of_a_volt(self):
+        # 200 nA into an NE5532 input (typical, from memory) is 0.2 V across 1 Mohm, and a
+        # PNP-input LM358's 45 nA the other way 45 mV: both show on a builder's meter
+        assert 4.5 - solve_dc(self.follower("NE5532")).voltage("out") == pytest.approx(0.2,
+                                                                                       abs=0.01)
+        assert solve_dc(self.follower("LM358")).voltage("out") - 4.5 == pytest.approx(0.045,
+                                                                                      abs=0.005)
 
 
 class TestInvertingOpAmp:

@@ -32,15 +32,16 @@ _JFET = {
 # rail), input common-mode range CM_HI/LO (volts inside each rail), quiescent current IQ (A).
 _OPAMP = {
     "AOL": 2e5, "GBW": 1e6, "RIN": 1e12, "ROUT": 100.0, "SWING_HI": 1.5, "SWING_LO": 1.5,
-    "CM_HI": 0.0, "CM_LO": 3.0, "IQ": 1e-3,
+    "CM_HI": 0.0, "CM_LO": 3.0, "IQ": 1e-3, "IB": 0.0,
 }
 
 DEFAULTS: dict[str, dict[str, float]] = {
     "diode": _DIODE, "npn": _BJT, "pnp": _BJT, "njf": _JFET, "pjf": _JFET, "opamp": _OPAMP,
 }
-# Parameters that may be zero or negative; every other one must be positive.
-_SIGNED = {"VTO", "ISE", "ISC", "RS", "RB", "RE", "RC", "RD", "CJO", "CJE", "CJC", "CGS", "CGD",
-           "TT", "TF", "LAMBDA", "SWING_HI", "SWING_LO", "CM_HI", "CM_LO", "IQ", "M"}
+# Parameters that may be zero, and those of either sign; every other one must be positive.
+_NON_NEGATIVE = {"ISE", "ISC", "RS", "RB", "RE", "RC", "RD", "CJO", "CJE", "CJC", "CGS", "CGD",
+                 "TT", "TF", "LAMBDA", "SWING_HI", "SWING_LO", "CM_HI", "CM_LO", "IQ", "M"}
+_ANY_SIGN = {"VTO", "IB"}  # a threshold; a bias current that flows out of a PNP input
 # Spread keys that are not model parameters: IDSS sets BETA = IDSS / VTO**2.
 _DERIVED_SPREADS = {"njf": {"IDSS"}, "pjf": {"IDSS"}}
 PROVENANCES = ("datasheet typical", "textbook", "from memory", "user")
@@ -88,10 +89,12 @@ def _check_param(model: DeviceModel, key: str, value: float) -> None:
         raise ModelError(f"model {model.name!r}: {key!r} is not a {model.kind} parameter")
     if not isinstance(value, int | float) or math.isnan(value):
         raise ModelError(f"model {model.name!r}: {key} must be a number, got {value!r}")
-    if key not in _SIGNED and value <= 0:
-        raise ModelError(f"model {model.name!r}: {key} must be positive, got {value!r}")
-    if key in _SIGNED and key != "VTO" and value < 0:
+    if key in _ANY_SIGN:
+        return
+    if key in _NON_NEGATIVE and value < 0:
         raise ModelError(f"model {model.name!r}: {key} must not be negative, got {value!r}")
+    if key not in _NON_NEGATIVE and value <= 0:
+        raise ModelError(f"model {model.name!r}: {key} must be positive, got {value!r}")
 
 
 _REGISTRY: dict[str, DeviceModel] = {}

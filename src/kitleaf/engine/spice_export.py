@@ -85,6 +85,8 @@ def _opamp_card(name: str, model: DeviceModel) -> list[str]:
         f"b1 0 out i={f}/{_num(p('ROUT'))}",
         f"rout out 0 {_num(p('ROUT'))}",
         f"iq vpos vneg dc {_num(p('IQ'))}",
+        f"ibp inp vneg dc {_num(p('IB'))}",
+        f"ibn inn vneg dc {_num(p('IB'))}",
         ".ends",
     ]
 

@@ -5,7 +5,8 @@ loaded by R1 || C1 to the negative rail (DC gain AOL, pole at GBW/AOL) and offse
 at mid-supply for zero input; the output is a
 Thevenin source f(x) behind ROUT, where f = vmid + h * tanh((x - vmid) / h) swings softly
 between vneg + SWING_LO and vpos - SWING_HI (vmid their middle, h half their distance), so
-clipping follows the op-amp's own rails; IQ flows from vpos to vneg.
+clipping follows the op-amp's own rails; IQ flows from vpos to vneg, and IB into each input
+and on to vneg (negative: out of the input, as from a PNP input pair).
 """
 
 from __future__ import annotations
@@ -96,7 +97,7 @@ def _internal_nodes(u: el.OpAmp) -> tuple[str, ...]:
 
 
 def _stamp_linear(u: el.OpAmp, st) -> int:
-    """Input resistance, gain stage and quiescent current; returns the row of x."""
+    """Input resistance, gain stage, quiescent and input bias currents; returns the row of x."""
     row, m = st.layout.row, u.model
     x, vneg = row(internal(u.name, "x")), row(u.vneg)
     st.conductance(None, row(u.inp), row(u.inn), 1.0 / m.get("RIN"))
@@ -108,6 +109,9 @@ def _stamp_linear(u: el.OpAmp, st) -> int:
     st.capacitance(None, x, vneg, 1.0 / (2.0 * math.pi * pole * R1))
     st.conductance(None, row(u.out), row(el.GROUND), 1.0 / m.get("ROUT"))
     st.source(internal(u.name, "iq"), ((row(u.vpos), -1.0), (vneg, 1.0)), m.get("IQ"))
+    for pin in ("inp", "inn"):  # each input's bias current, drawn through what biases it
+        st.source(internal(u.name, f"ib-{pin}"), ((row(getattr(u, pin)), -1.0), (vneg, 1.0)),
+                  m.get("IB"))
     return x
 
 
