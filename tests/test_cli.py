@@ -155,3 +155,18 @@ def test_strict_build_of_clean_guides_publishes_after_one_solve_each(tmp_path, c
     assert sorted(solves) == ["a.md", "b.md"]
     assert (out / "index.html").is_file() and (out / "manifest.json").is_file()
     assert "0 warning(s)" in capsys.readouterr().out
+
+
+def test_strict_build_lists_findings_beside_another_guides_error(tmp_path, capsys):
+    # b.md is broken, a.md has two findings: the build names all three, as check does
+    guides, out = strict_guides(tmp_path, findings=True), tmp_path / "site"
+    broken = guides / "b.md"
+    broken.write_text(broken.read_text().replace("kind: opamp-non-inverting",
+                                                 "kind: no-such-kind"))
+    assert main(["build", str(guides), "-o", str(out), "--strict", "-j", "1"]) == 1
+    built = capsys.readouterr().err.strip().splitlines()
+    assert main(["check", str(guides), "--strict"]) == 1
+    checked = capsys.readouterr().err.strip().splitlines()
+    assert sum(f"{guides / 'a.md'}:" in line for line in built) == 2
+    assert sum(f"{guides / 'b.md'}:" in line for line in built) == 1
+    assert sorted(built[:-1]) == sorted(line for line in checked if line.startswith(str(guides)))

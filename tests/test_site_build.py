@@ -147,6 +147,18 @@ def test_a_broken_guide_names_itself_and_leaves_the_site(site: Path):
     assert snapshot(site / "site") == before
 
 
+def test_the_guides_that_built_stay_cached_when_another_fails(site: Path):
+    change_r4(site / "guides")  # both guides now need building: one changed, one broken
+    other = site / "guides" / GUIDES[1]
+    other_text = other.read_text()
+    other.write_text(other_text.replace("kind: jfet-common-source", "kind: no-such-kind", 1))
+    with pytest.raises(BuildFailed):
+        build_site(site / "guides", site / "site", jobs=1)
+    other.write_text(other_text)
+    report = build_site(site / "guides", site / "site", jobs=1)
+    assert report.rebuilt == 0  # the changed guide was cached by the failed build
+
+
 def test_exception_in_the_publish_step_leaves_the_site(site: Path, monkeypatch):
     before = snapshot(site / "site")
     change_r4(site / "guides")

@@ -63,7 +63,7 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
     themes = theme_dirs(site_root_for(target))
     paths = find_guides(target)
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
-    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress)
+    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress, strict)
     if strict and (refused := finding_errors(outputs)):
         raise BuildFailed(refused)  # the guides stay cached; nothing is published
     files, changes = site_files(outputs, themes, Path(out_dir))
@@ -76,8 +76,10 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
 
 
 def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: int,
-            stream=None) -> tuple[list, int]:
-    """Every guide's output, from the cache or built; every guide's error, not just the first."""
+            stream=None, strict: bool = False) -> tuple[list, int]:
+    """Every guide's output, from the cache or built; every guide's error, not just the first
+    (with ``strict``, the other guides' findings beside them, as ``check --strict`` lists them).
+    The guides that built are cached even when another failed, so fixing it rebuilds it alone."""
     theme_key = theme_fingerprint(themes)
     # Keyed by file name, not path: the same folder moved or copied elsewhere stays cached.
     keys = [cache.key("guide", theme_key, p.name, p.read_bytes()) if cache else "" for p in paths]
@@ -88,14 +90,14 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
     built = run_guides([paths[i] for i in todo], themes, cache.root if cache else None, jobs,
                        progress.advance, progress.tick)
     progress.done()
-    errors = [r for r, _uses in built if isinstance(r, KitleafError)]
-    if errors:
-        raise BuildFailed(errors)
     for i, (output, uses) in zip(todo, built, strict=True):
         outputs[i] = output
-        if cache:
+        if cache and not isinstance(output, KitleafError):
             cache.used.update(uses)
             cache.store("guide", keys[i], (output, uses))
+    if any(isinstance(o, KitleafError) for o in outputs):
+        raise BuildFailed([e for o in outputs for e in (
+            [o] if isinstance(o, KitleafError) else finding_errors([o]) if strict else [])])
     check_slugs(paths, outputs)
     return outputs, len(todo)
 
