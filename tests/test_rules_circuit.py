@@ -4,6 +4,8 @@ trips it and one that does not."""
 
 from __future__ import annotations
 
+from tests.stages.kits import EVERY_KIND, guide_text
+
 from rules_kits import GUIDE, KIT, POWER, findings, swapped
 
 
@@ -153,3 +155,7 @@ class TestBiasPath:
         assert "g" not in gate_side and "s" in gate_side
         input_side, _ = _grounded_nodes(c.elements, opamp)
         assert "p" not in input_side and "m" in input_side
+
+    def test_no_stage_kind_trips_it_as_built(self):
+        # each of the twelve kinds with the parts its roles ask for biases what it drives
+        assert findings(guide_text(*EVERY_KIND), "bias-path") == []
