@@ -30,7 +30,7 @@ def check_guide(path) -> Checks:
 def report(checks: Checks, strict: bool) -> int:
     """Print the unsilenced findings; the number that count as errors."""
     for finding in checks.warnings:
-        print(finding.line("error" if strict else "warning"), file=sys.stderr)
+        print(finding.as_error() if strict else finding.line(), file=sys.stderr)
     return len(checks.warnings) if strict else 0
 
 

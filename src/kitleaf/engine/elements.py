@@ -88,8 +88,8 @@ class Pot:
 
 
 @dataclass(frozen=True)
-class VSource:
-    """Voltage source; its branch current flows into ``p``, through it, out of ``n`` (SPICE)."""
+class _Source:
+    """An independent source between ``p`` and ``n``: its DC value and its AC amplitude."""
 
     name: str
     p: str
@@ -99,14 +99,13 @@ class VSource:
 
 
 @dataclass(frozen=True)
-class ISource:
-    """Current source; ``dc`` amperes flow from ``p`` through the source to ``n`` (SPICE)."""
+class VSource(_Source):
+    """Voltage source; its branch current flows into ``p``, through it, out of ``n`` (SPICE)."""
 
-    name: str
-    p: str
-    n: str
-    dc: float = 0.0
-    ac: float = 0.0
+
+@dataclass(frozen=True)
+class ISource(_Source):
+    """Current source; ``dc`` amperes flow from ``p`` through the source to ``n`` (SPICE)."""
 
 
 @dataclass(frozen=True)

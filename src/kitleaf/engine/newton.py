@@ -17,10 +17,10 @@ MAX_ITER = 100
 # A step this far inside the tolerance (in units of it) whose size predicts the next one
 # below PREDICTED (quadratic convergence: next ~ step**3 / previous**2) ends the iteration.
 PREDICTED = 1e-2
-QUADRATIC_REACH = RELTOL ** -0.5 * 0.1
+QUADRATIC_REACH = RELTOL ** -0.5 * 0.1  # the step's relative size squared <= 1e-2 RELTOL
 # The batch drops its settled samples once they are a fifth of it: copying every device
 # parameter of the rest costs more than stepping a few settled samples once more.
-SHRINK = 0.8  # the step's relative size squared <= 1e-2 RELTOL
+SHRINK = 0.8
 
 
 @dataclass(frozen=True)

@@ -156,20 +156,26 @@ def _reduced_form(system: System, part: Partition, problem: Problem, reduced: Re
     # the multipliers check the shared pivots, as for the DC reduction (see batch_lu)
     y_k = solve_many(reduced.problem.g + dev_kk, rhs_k - g_kl @ z_rhs, check="growth")
     y_l = z_rhs - reduced.back @ y_k
-    proj = _across(a, np.concatenate([keep, rest]), np.concatenate([y_k, y_l], axis=1))
+    y_u = np.concatenate([y_k, y_l], axis=1)
+    proj = _across(a, np.concatenate([keep, rest]), y_u)
     dm = d[:, :, None] * proj[:, :, 1:]
     z = d * (proj[:, :, 0] + vf @ a[part.fixed])
-    picked = np.zeros((x.shape[0], len(rows), proj.shape[2]))
-    position = {int(r): k for k, r in enumerate(keep)}
-    position.update({int(r): keep.size + k for k, r in enumerate(rest)})
+    picked = _pick_rows(part, rows, y_u, vf)
+    return PortForm(picked[:, :, 0], picked[:, :, 1:], dm, z)
+
+
+def _pick_rows(part: Partition, rows: list[int], y_u: np.ndarray, vf: np.ndarray) -> np.ndarray:
+    """[x0, W] (s, len(rows), 1 + m) of node ``rows`` from the unknown rows' y_u (kept, then
+    eliminated), a fixed node taking its source's value and no port term."""
+    position = {int(r): k for k, r in enumerate(np.concatenate([part.keep, part.rest]))}
     fixed = {int(r): k for k, r in enumerate(part.fixed)}
+    picked = np.zeros((y_u.shape[0], len(rows), y_u.shape[2]))
     for out, row in enumerate(rows):
         if row in fixed:
             picked[:, out, 0] = vf[0, fixed[row]]
         else:
-            k = position[row]
-            picked[:, out] = y_k[:, k] if k < keep.size else y_l[:, k - keep.size]
-    return PortForm(picked[:, :, 0], picked[:, :, 1:], dm, z)
+            picked[:, out] = y_u[:, position[row]]
+    return picked
 
 
 def _fixed_currents(full: np.ndarray, g: np.ndarray, a: np.ndarray, rhs: np.ndarray,

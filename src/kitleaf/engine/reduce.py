@@ -139,8 +139,8 @@ class Reduced:
             x[:, part.fixed_branch] = np.nan
             return x
         v = full.devices.junctions(full.extend(x))
-        currents, _ = full.devices.linearise(v, v)
-        residual = np.einsum("sij,sj->si", full.g[:, part.fixed, :], x) + currents[
+        device_currents, _ = full.devices.linearise(v, v)
+        residual = np.einsum("sij,sj->si", full.g[:, part.fixed, :], x) + device_currents[
             :, part.fixed] - full.b[:, part.fixed]
         coeff = full.g[0, part.fixed, part.fixed_branch]
         x[:, part.fixed_branch] = -residual / coeff

@@ -12,7 +12,7 @@ import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan, SpecError
+from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
 from kitleaf.site.cache import Cache, default_cache_dir
@@ -96,8 +96,7 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
             cache.used.update(uses)
             cache.store("guide", keys[i], (output, uses))
     if any(isinstance(o, KitleafError) for o in outputs):
-        raise BuildFailed([e for o in outputs for e in (
-            [o] if isinstance(o, KitleafError) else finding_errors([o]) if strict else [])])
+        raise BuildFailed(failures(outputs, strict))
     check_slugs(paths, outputs)
     return outputs, len(todo)
 
@@ -112,10 +111,21 @@ def cached_guide(cache: Cache, key: str):
     return output
 
 
+def failures(outputs: list, strict: bool) -> list[KitleafError]:
+    """In guide order, each failed guide's error and, with ``strict``, the others' findings."""
+    errors: list[KitleafError] = []
+    for output in outputs:
+        if isinstance(output, KitleafError):
+            errors.append(output)
+        elif strict:
+            errors += finding_errors([output])
+    return errors
+
+
 def finding_errors(outputs: list) -> list[KitleafError]:
     """Each guide's design-rule findings as its error, one line per finding, as ``kitleaf check
     --strict`` prints them: ``path:line: error: message [rule]``."""
-    errors = [[SpecError(f"{f.message} [{f.rule}]", f.span) for f in o.findings] for o in outputs]
+    errors = [[f.as_error() for f in o.findings] for o in outputs]
     return [found[0] if len(found) == 1 else ErrorList(found) for found in errors if found]
 
 

@@ -25,6 +25,7 @@ CACHE_DIR_NAME = ".kitleaf-cache"
 # Bumped when the layout or the pickled records change shape (3: a guide entry carries the
 # names of the entries it was built from).
 CACHE_FORMAT = "3"
+TMP_PREFIX = ".tmp-"  # an entry being written, renamed into place when complete
 
 
 def default_cache_dir(out_dir: Path) -> Path:
@@ -65,7 +66,7 @@ class Cache:
         path = self._path(kind, key)
         try:
             path.parent.mkdir(parents=True, exist_ok=True)
-            fd, tmp = tempfile.mkstemp(prefix=".tmp-", dir=path.parent)
+            fd, tmp = tempfile.mkstemp(prefix=TMP_PREFIX, dir=path.parent)
             with os.fdopen(fd, "wb") as handle:
                 handle.write(data)
             os.replace(tmp, path)

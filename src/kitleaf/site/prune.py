@@ -20,10 +20,11 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
+from kitleaf.site.cache import TMP_PREFIX
+
 HOUR = 3600.0
 DAY = 24 * HOUR
 SWEEP_STAMP = "last-sweep"  # a file at the top of the cache whose time is the last sweep's
-TORN_PREFIX = ".tmp-"  # an entry being written (Cache.put), or torn by a killed build
 
 
 @dataclass(frozen=True)
@@ -58,7 +59,7 @@ class Entry:
 
     @property
     def torn(self) -> bool:
-        return Path(self.name).name.startswith(TORN_PREFIX)
+        return Path(self.name).name.startswith(TMP_PREFIX)  # being written, or torn by a kill
 
 
 def prune(root: Path, used: set[str], policy: PrunePolicy = DEFAULT_POLICY,

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from kitleaf.errors import SourceSpan
+from kitleaf.errors import SourceSpan, SpecError
 
 
 @dataclass(frozen=True)
@@ -22,6 +22,10 @@ class Finding:
     def line(self, kind: str = "warning") -> str:
         """The CLI line: ``path:line: warning: message [rule]``."""
         return f"{self.span}: {kind}: {self.message} [{self.rule}]"
+
+    def as_error(self) -> SpecError:
+        """The finding as an error (``--strict``): ``path:line: error: message [rule]``."""
+        return SpecError(f"{self.message} [{self.rule}]", self.span)
 
     def __str__(self) -> str:
         return self.line()
