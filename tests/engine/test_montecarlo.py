@@ -125,6 +125,47 @@ class TestBatchMatchesSingleSolves:
         assert forms[0].bad.size == 0
 
 
+class TestChordStart:
+    """Every sample's first Newton step takes the nominal point's Jacobian (State.chord)."""
+
+    @staticmethod
+    def follower() -> Circuit:
+        # a source follower whose 2N5457 spread (VTO -0.5 .. -6 V) switches some samples'
+        # JFET off at the nominal operating point
+        c = Circuit().vsource("VCC", "vcc", "0", dc=9.0)
+        c.resistor("RA", "vcc", "g", 1e6, tol=0.05).resistor("RB", "g", "0", 1e6, tol=0.05)
+        return c.jfet("Q1", "vcc", "g", "s", "2N5457").resistor("RS", "s", "0", 10e3, tol=0.05)
+
+    def batch_steps(self, monkeypatch, chord: bool) -> tuple[int, object]:
+        from kitleaf.engine import newton
+
+        steps, real_step = [], newton._step
+
+        def step(problem, state, shunt, scale):
+            if not chord:
+                state.chord = None
+            steps.append(state.x.shape[0])
+            return real_step(problem, state, shunt, scale)
+
+        monkeypatch.setattr(newton, "_step", step)
+        mc = monte_carlo(self.follower(), samples=300, seed=3, nodes=["s", "g"])
+        first = next(k for k, n in enumerate(steps) if n > 1)  # after the nominal's own
+        return len(steps) - first, mc
+
+    def test_samples_switched_off_at_the_nominal_point(self, monkeypatch):
+        nominal = solve_dc(self.follower())
+        steps, mc = self.batch_steps(monkeypatch, chord=True)
+        vgs = nominal.voltage("g") - nominal.voltage("s")
+        off = np.flatnonzero(vgs < mc.draws["Q1"]["VTO"])
+        assert off.size >= 5  # the case is exercised
+        for i in off[:3]:
+            assert mc.dc["s"][i] == pytest.approx(solve_dc(mc.sample(i)).voltage("s"), abs=1e-9)
+        # their own Jacobian at the nominal point has the JFET off: the first step drops the
+        # source to 0 V and the gate junction's limiting climbs back over several steps
+        without, _ = self.batch_steps(monkeypatch, chord=False)
+        assert steps <= 6 and without >= 10
+
+
 class TestDeviceSpreads:
     def test_hfe_spread_moves_the_collector(self):
         c = rc.boost("2N5089")

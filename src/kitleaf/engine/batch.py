@@ -40,6 +40,8 @@ class BatchResult:
     problem: Problem = field(repr=False, compare=False)
     # each bank's junction voltages Newton ended at, per sample (a nominal start uses them)
     vstar: list | None = field(default=None, repr=False, compare=False)
+    # a nominal batch's reduced Jacobian, for the first step of samples started from it
+    chord: np.ndarray | None = field(default=None, repr=False, compare=False)
 
     @property
     def size(self) -> int:
@@ -138,7 +140,8 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
         state = _started(system, problem, samples, start, nominal)
         solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),
-                       factors, system, problem, state.vstar)
+                       factors, system, problem, state.vstar,
+                       state.chord if samples is None else None)
 
 
 def share_operating_point(result: BatchResult, circuit) -> BatchResult:
@@ -181,7 +184,9 @@ def _from_nominal(system: System, problem: Problem, samples: int,
     if (nominal.factors is not None or nominal.vstar is None
             or nominal.system.elements != system.elements):
         raise SolveError("the nominal batch was solved for another circuit")
-    return state_at(problem, samples, nominal.x, nominal.vstar)
+    state = state_at(problem, samples, nominal.x, nominal.vstar)
+    state.chord = nominal.chord
+    return state
 
 
 def _device_params(problem: Problem, samples: int) -> dict:

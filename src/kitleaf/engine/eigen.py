@@ -24,6 +24,9 @@ BACKWARD = 3e-12  # off-diagonal of W A V over the largest eigenvalue (LAPACK's 
 STALLED = 3.0
 DRIFT = 1e-7  # largest entry of V W - I (LAPACK's inverse of the same V: ~1e-9)
 MIN_BATCH = 64  # below this LAPACK alone is as quick
+# Samples swept together: a block's (s, m, m) buffers stay in the core's cache, where each
+# elementwise pass costs about half what it does streamed from memory for 1000 samples.
+BLOCK = 512
 
 
 def eig_batch(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -33,8 +36,11 @@ def eig_batch(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     ref_values, ref_vecs = np.linalg.eig(a[_central(a)])
     if np.iscomplexobj(ref_values):  # the refinement works in real arithmetic
         return _lapack(a)
+    ref_inv = np.linalg.inv(ref_vecs)
     # the sweeps reshape their buffers to write diagonals in place: C order required
-    values, vecs, inv, ok = _refine(np.ascontiguousarray(a), ref_vecs, np.linalg.inv(ref_vecs))
+    parts = [_refine(np.ascontiguousarray(a[i:i + BLOCK]), ref_vecs, ref_inv)
+             for i in range(0, a.shape[0], BLOCK)]
+    values, vecs, inv, ok = (np.concatenate(x) for x in zip(*parts, strict=True))
     if not ok.all():
         bad = np.flatnonzero(~ok)
         bad_values, bad_vecs, bad_inv = _lapack(a[bad])

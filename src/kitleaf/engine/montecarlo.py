@@ -174,11 +174,15 @@ def draw_problem(system: System, samples: int | None, seed: int, distribution: s
 
 
 def nominal_state(system: System, problem, samples: int) -> State:
-    """Start every sample at the nominal operating point: a few Newton steps each."""
+    """Start every sample at the nominal operating point, with its Jacobian for the first
+    step (see State.chord): a few Newton steps each."""
     nominal = problem_for(system)
     start = initial_state(nominal, 1)
-    solve_reduced(nominal, start, partition(system))
-    return state_at(problem, samples, start.x, start.vstar)
+    reduced = solve_reduced(nominal, start, partition(system))
+    state = state_at(problem, samples, start.x, start.vstar)
+    if reduced is not None:
+        state.chord = reduced.jacobian(start.x)
+    return state
 
 
 def _row(system: System, node: str) -> int:

@@ -59,12 +59,17 @@ class State:
     """Unknowns, the junction voltages devices were last evaluated at, iteration counts.
 
     A fresh state evaluates devices at its initial junction voltages (not at x = 0), as
-    SPICE does on its first iteration."""
+    SPICE does on its first iteration. A state started at one solved point may carry that
+    point's Jacobian as ``chord``: every sample then takes its first step with it (the
+    predictor of a continuation from the solved point to the sample's parts), not with its
+    own Jacobian there, which a device the spread has switched off at that point leaves
+    blind to it (see docs/engine.md)."""
 
     x: np.ndarray
     vstar: list[np.ndarray]
     iterations: np.ndarray
     fresh: bool = True
+    chord: np.ndarray | None = None  # (1, n, n)
 
 
 def extend(x: np.ndarray) -> np.ndarray:
@@ -98,6 +103,7 @@ def newton(problem: Problem, state: State, gshunt: float = 0.0, scale: float = 1
         part = state if full else State(state.x[active], [v[active] for v in state.vstar],
                                         active, state.fresh)
         step, limited = _step(sub, part, shunt, scale)
+        state.chord = None
         with np.errstate(invalid="ignore"):
             new_x = part.x + step
             norm = np.max(np.abs(step) / (RELTOL * np.maximum(np.abs(new_x), np.abs(part.x))
@@ -158,7 +164,18 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
         residual = residual + currents
         jac = jac + dev_jac
         state.vstar = vlim
+    if state.chord is not None and state.chord.shape[-1] == x.shape[1]:
+        return _chord_step(state.chord[0], -residual), limited
     return solve_stack(jac, -residual), limited
+
+
+def _chord_step(jac: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Every sample's step with one shared Jacobian (one factorisation)."""
+    try:
+        return np.linalg.solve(jac, rhs.T).T
+    except np.linalg.LinAlgError:
+        raise SolveError("the circuit matrix is singular (a floating node or a loop of "
+                         "sources); check the connections") from None
 
 
 def state_at(problem: Problem, samples: int, x: np.ndarray, vstar: list[np.ndarray]) -> State:

@@ -127,6 +127,14 @@ class Reduced:
     base: np.ndarray  # G_LL^-1 r_L (s, l)
     ports: np.ndarray  # G_LL^-1 [G_LF, A_L] (s, l, f + m), for the small-signal port system
 
+    def jacobian(self, x: np.ndarray) -> np.ndarray:
+        """The reduced problem's Jacobian (s, t, t) at full unknowns ``x`` (s, n)."""
+        problem = self.problem
+        if not problem.devices.banks:
+            return problem.g.copy()
+        v = problem.devices.junctions(problem.extend(x[:, self.part.keep]))
+        return problem.g + problem.devices.linearise(v, v)[1]
+
     def expand(self, x_keep: np.ndarray, full: Problem, currents: bool = True) -> np.ndarray:
         """Full unknowns (s, n) from the kept ones; fixed sources' currents by balance, or
         NaN without ``currents`` (Monte Carlo reports node voltages only)."""
@@ -191,7 +199,7 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     except SolveError:
         solve_state(problem, state)
         return None
-    sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh)
+    sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh, state.chord)
     ok = newton(red.problem, sub)
     state.x, state.vstar, state.fresh = red.expand(sub.x, problem, currents), sub.vstar, False
     if ok.all():
