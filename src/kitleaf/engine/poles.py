@@ -13,13 +13,15 @@ from kitleaf.engine.batch_lu import solve_many
 
 
 def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
-             freqs: np.ndarray, magnitude: bool = False) -> np.ndarray:
+             freqs: np.ndarray, magnitude: bool = False,
+             prepared: tuple[np.ndarray, np.ndarray] | None = None) -> np.ndarray:
     """alpha + s * sum_k residues[..., k] / (1 + s lambdas[k]) with s = j 2 pi f, or its
     magnitude (real, without the complex array in between).
 
     alpha (samples, rows), residues (samples, rows, m), lambdas (samples, m); frequencies
     (f,) or per sample (samples, f); returns (samples, f, rows). Worked through in blocks of
-    samples small enough to stay in cache.
+    samples small enough to stay in cache. ``prepared``: real_terms of the same residues and
+    poles, when the caller evaluates them repeatedly.
     """
     f = np.asarray(freqs, dtype=float)
     f = f[None, :] if f.ndim == 1 else f
@@ -28,7 +30,7 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     real = not (np.iscomplexobj(lambdas) or np.iscomplexobj(residues))
     kernel, terms = (_evaluate_real, CHUNK_REAL) if real else (_evaluate, CHUNK)
     if real:
-        weights, poles = _real_terms(residues, lambdas)
+        weights, poles = real_terms(residues, lambdas) if prepared is None else prepared
     else:
         weights, poles = residues.transpose(0, 2, 1), lambdas
     step = max(1, terms // width)
@@ -61,9 +63,9 @@ def _evaluate(out, alpha, residues_t, lambdas, f, scratch, magnitude: bool) -> N
 SHORTEST = 1e-100
 
 
-def _real_terms(residues: np.ndarray, lambdas: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def real_terms(residues: np.ndarray, lambdas: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """For _evaluate_real: weights (samples, 2 rows, m), r / l then r / l^2, and each pole's
-    1 / l^2 (samples, m)."""
+    1 / l^2 (samples, m). Real residues and poles only."""
     clamped = np.where(np.abs(lambdas) < SHORTEST, np.where(lambdas < 0, -SHORTEST, SHORTEST),
                        lambdas)
     inverse = 1.0 / clamped

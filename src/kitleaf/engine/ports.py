@@ -16,6 +16,7 @@ the samples whose check fails.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -23,7 +24,7 @@ from kitleaf.engine.batch_lu import block, solve_many
 from kitleaf.engine.compile import System, incidence
 from kitleaf.engine.deflate import eig_split
 from kitleaf.engine.newton import Problem, extend
-from kitleaf.engine.poles import evaluate
+from kitleaf.engine.poles import evaluate, real_terms
 from kitleaf.engine.reduce import Partition, Reduced
 
 DIRECT_BLOCK = 1 << 21  # matrix entries per block of the direct solve (32 MB of complex)
@@ -85,12 +86,19 @@ class PoleResidue:
         return self._at(freqs, magnitude=True)
 
     def _at(self, freqs: np.ndarray, magnitude: bool) -> np.ndarray:
-        out = evaluate(self.alpha, self.residues, self.lambdas, freqs, magnitude)
+        out = evaluate(self.alpha, self.residues, self.lambdas, freqs, magnitude, self._terms)
         if self.bad.size:
             f = np.asarray(freqs, float)
             direct = self.ports.direct(f if f.ndim == 1 else f[self.bad], self.bad)
             out[self.bad] = np.abs(direct) if magnitude else direct
         return out
+
+    @cached_property
+    def _terms(self) -> tuple[np.ndarray, np.ndarray] | None:
+        """The real poles' evaluation terms, formed once for repeated evaluations."""
+        if np.iscomplexobj(self.residues) or np.iscomplexobj(self.lambdas):
+            return None
+        return real_terms(self.residues, self.lambdas)
 
     def take(self, rows: list[int]) -> PoleResidue:
         """The same form for some of its rows (positions in this form)."""
