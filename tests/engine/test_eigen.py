@@ -72,8 +72,8 @@ class TestEigBatch:
 
 
 def test_store_after_an_odd_number_of_sweeps():
-    # W moves between two buffers every sweep: after one sweep the caller's arrays must
-    # still receive the latest W, the inverse of the latest V
+    # V moves between two buffers every sweep: after one sweep the caller's arrays must
+    # still receive the latest V, whose inverse is the latest W
     a = graded_batch(80, 0.05)
     vecs0 = np.linalg.eig(a[eigen._central(a)])[1]
     vecs = np.broadcast_to(vecs0, a.shape).copy()
@@ -82,8 +82,9 @@ def test_store_after_an_odd_number_of_sweeps():
     _, values = work.off_diagonal()
     work.sweep(values)
     work.store(vecs, inv, np.arange(a.shape[0]))
+    np.testing.assert_array_equal(vecs, work.vecs)
     np.testing.assert_array_equal(inv, work.inv)
-    # one sweep from 5 % away leaves W V within about 1e-6 of I; a W one sweep old is off
+    # one sweep from 5 % away leaves W V within about 1e-6 of I; a V one sweep old is off
     # by the step itself (about 1e-2)
     np.testing.assert_allclose(inv @ vecs, np.broadcast_to(np.eye(a.shape[-1]), a.shape),
                                atol=1e-4)

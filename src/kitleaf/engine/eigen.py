@@ -95,6 +95,10 @@ class _Work:
     def __init__(self, a: np.ndarray, vecs: np.ndarray, inv: np.ndarray) -> None:
         self.a, self.vecs, self.inv = a, vecs, inv
         self.t, self.p, self.q = (np.empty(a.shape) for _ in range(3))  # C order: see flat
+        # the gaps lambda_k - lambda_j as the product [1, -lambda_j] [lambda_k, 1]^T: the
+        # factors of one are exact, so it rounds as the difference does, at half the cost of
+        # a broadcast difference
+        self.left, self.right = np.ones((*a.shape[:2], 2)), np.ones((a.shape[0], 2, a.shape[2]))
         self.diag = np.s_[:, :: a.shape[-1] + 1]  # the diagonal of each flattened matrix
 
     def take(self, keep: np.ndarray) -> _Work:
@@ -104,8 +108,8 @@ class _Work:
         return work
 
     def store(self, vecs: np.ndarray, inv: np.ndarray, active: np.ndarray) -> None:
-        """Write the samples back. V is updated in place but W swaps buffers each sweep, so
-        after an odd number of sweeps W lives in the other buffer: each is checked alone."""
+        """Write the samples back. W is updated in place but V swaps buffers each sweep, so
+        after an odd number of sweeps V lives in the other buffer: each is checked alone."""
         if self.vecs is not vecs:
             vecs[active] = self.vecs
         if self.inv is not inv:
@@ -125,19 +129,25 @@ class _Work:
 
     def sweep(self, values: np.ndarray) -> None:
         """One Newton step on the eigenvectors, V <- V (I + P), W <- (I - P) W, and one
-        Newton-Schulz step W <- W (2 I - V W) that makes W the inverse again."""
+        Newton-Schulz step W <- W (2 I - V W) that makes W the inverse again. V moves to
+        the spare buffer (a product into it costs less than a product and a sum in place)."""
         p, q, vecs, inv = self.p, self.q, self.vecs, self.inv
-        np.copyto(p, values[:, None, :])  # copy, then subtract: quicker than the broadcast
-        p -= values[:, :, None]
+        np.negative(values, out=self.left[:, :, 1])
+        self.right[:, 0, :] = values
+        np.matmul(self.left, self.right, out=p)
         self.flat(p)[self.diag] = 1.0  # the diagonal of ``t`` is zero: any non-zero divisor
         np.divide(self.t, p, out=p)
-        vecs += np.matmul(vecs, p, out=q)
-        inv -= np.matmul(p, inv, out=q)
-        ns = np.matmul(vecs, inv, out=p)
+        self.flat(p)[self.diag] = 1.0  # I + P
+        np.matmul(vecs, p, out=q)
+        self.vecs, spare = q, vecs
+        np.negative(p, out=p)
+        self.flat(p)[self.diag] += 2.0  # I - P
+        half = np.matmul(p, inv, out=spare)
+        ns = np.matmul(self.vecs, half, out=p)
         np.negative(ns, out=ns)
         self.flat(ns)[self.diag] += 2.0
-        np.matmul(inv, ns, out=q)
-        self.inv, self.q = q, inv
+        np.matmul(half, ns, out=inv)
+        self.q = spare
 
     def settled(self, off: np.ndarray, values: np.ndarray, last: np.ndarray
                 ) -> tuple[np.ndarray, np.ndarray]:
