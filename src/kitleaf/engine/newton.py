@@ -15,9 +15,10 @@ VNTOL = 1e-9  # volts
 ABSTOL = 1e-14  # amperes, for branch-current unknowns
 MAX_ITER = 100
 # A step this far inside the tolerance (in units of it) whose size predicts the next one
-# below PREDICTED (quadratic convergence: next ~ step**3 / previous**2) ends the iteration.
-PREDICTED = 1e-2
-QUADRATIC_REACH = RELTOL ** -0.5 * 0.1  # the step's relative size squared <= 1e-2 RELTOL
+# below PREDICTED (quadratic convergence: next ~ step**3 / previous**2) ends the iteration:
+# the point it reached is then within a tenth of the tolerance.
+PREDICTED = 0.1
+QUADRATIC_REACH = RELTOL ** -0.5 * 0.3  # the step's relative size squared <= 0.09 RELTOL
 # The batch drops its settled samples once they are a fifth of it: copying every device
 # parameter of the rest costs more than stepping a few settled samples once more.
 SHRINK = 0.8
