@@ -107,9 +107,13 @@ class System:
     def matrices(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """Batched linear G and C, shape (samples, n, n); ``factors`` scales toleranced parts."""
         st, n = self.stamper, self.layout.size
-        g_pat, c_pat, _ = self._patterns
-        return (apply(st.g_cols.values(factors), g_pat, (n, n)),
-                apply(st.c_cols.values(factors), c_pat, (n, n)))
+        return self.conductances(factors), apply(st.c_cols.values(factors), self._patterns[1],
+                                                 (n, n))
+
+    def conductances(self, factors: np.ndarray | None = None) -> np.ndarray:
+        """Batched linear G alone (the DC problem has no use for C)."""
+        n = self.layout.size
+        return apply(self.stamper.g_cols.values(factors), self._patterns[0], (n, n))
 
     def cap_columns(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """C as A diag(d) A^T: incidence A (n, m) and values d (samples, m)."""

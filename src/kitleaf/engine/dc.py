@@ -56,7 +56,7 @@ class OperatingPoint:
 def problem_for(system: System, factors: np.ndarray | None = None,
                 banks: list | None = None) -> Problem:
     """The DC problem of ``system``, optionally with per-sample part factors and device banks."""
-    g, _ = system.matrices(factors)
+    g = system.conductances(factors)
     devices = system.devices if banks is None else system.devices.with_banks(banks)
     return Problem(g, system.rhs(), devices, len(system.layout.nodes))
 

@@ -116,8 +116,11 @@ def device_banks(system: System, rng: np.random.Generator, samples: int,
     model parameters are recorded per device in ``draws``."""
     banks, draws = [], {} if draws is None else draws
     for bank in system.families:
-        params = {k: np.broadcast_to(v, (samples, v.shape[1])).copy()
-                  for k, v in bank.params.items()}
+        # per-sample copies of the drawn parameters only; the rest stay (1, devices)
+        drawn_keys = {"BETA" if k == "IDSS" else k for name in bank.names
+                      for k in system.elements[system.owners[name]].model.spread}
+        params = {k: np.broadcast_to(v, (samples, v.shape[1])).copy() if k in drawn_keys
+                  else v for k, v in bank.params.items()}
         for d, name in enumerate(bank.names):
             model = system.elements[system.owners[name]].model
             # IDSS last: it needs this sample's VTO
