@@ -136,6 +136,22 @@ class TestShichmanHodges:
         assert biased_jfet(pjf, 1.0, -6.0)["id"] == pytest.approx(-1.06e-3, rel=1e-6)
 
 
+    @pytest.mark.parametrize("model", ["2N5457", "J201"])
+    def test_first_guess_starts_the_channel_working(self, model):
+        # Newton's first guess puts the channel on and saturated (vgs = VTO / 2, vds = -VTO):
+        # a source follower and a common-source stage then settle in a few steps. From
+        # vgs = vgd the channel starts as a bare resistor and the 2N5457 follower's source
+        # swings to the drain and back (seven steps; common practice, no source)
+        follower = Circuit().vsource("VCC", "vcc", "0", dc=9.0)
+        follower.resistor("RA", "vcc", "g", 1e6).resistor("RB", "g", "0", 1e6)
+        follower.jfet("Q1", "vcc", "g", "s", model).resistor("RS", "s", "0", 10e3)
+        stage = Circuit().vsource("VCC", "vcc", "0", dc=9.0).resistor("RG", "g", "0", 1e6)
+        stage.jfet("Q1", "d", "g", "s", model).resistor("RD", "vcc", "d", 4.7e3)
+        stage.resistor("RS", "s", "0", 1e3)
+        for c in (follower, stage):
+            op = solve_dc(c)
+            assert op.method == "newton" and op.iterations <= 5
+
 class TestOpAmpMacroModel:
     def open_loop(self, model="TL072", vdiff=0.0):
         c = Circuit().vsource("VCC", "vcc", "0", dc=9.0).vsource("VREF", "r", "0", dc=4.5)

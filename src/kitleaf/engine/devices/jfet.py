@@ -53,8 +53,11 @@ class JfetBank(Bank):
     """Junctions (vgs, vgd); currents g->s, g->d, d->s (channel); caps g-s, g-d."""
 
     def initial(self) -> np.ndarray:
+        """Newton's first guess: the channel half-way on (vgs = VTO / 2) and saturated
+        (vds = -VTO), where its current and both slopes are those of a working stage; from
+        vgs = vgd the channel would start as a bare resistor with no transconductance."""
         vto = self.p("VTO")
-        return np.stack([np.zeros_like(vto) - 1.0, np.zeros_like(vto) - 1.0], axis=1)
+        return np.stack([0.5 * vto, 1.5 * vto], axis=1)
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
         n_vt = (self.p("N") * VT)[:, None, :]
