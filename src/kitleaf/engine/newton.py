@@ -166,17 +166,19 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
         jac = jac + dev_jac
         state.vstar = vlim
     if state.chord is not None and state.chord.shape[-1] == x.shape[1]:
-        return _chord_step(state.chord[0], -residual), limited
+        step = _chord_step(state.chord[0], -residual)
+        if step is not None:
+            return step, limited
     return solve_stack(jac, -residual), limited
 
 
-def _chord_step(jac: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-    """Every sample's step with one shared Jacobian (one factorisation)."""
+def _chord_step(jac: np.ndarray, rhs: np.ndarray) -> np.ndarray | None:
+    """Every sample's step with one shared Jacobian (one factorisation); None when that
+    Jacobian is singular, and each sample then steps with its own."""
     try:
         return np.linalg.solve(jac, rhs.T).T
     except np.linalg.LinAlgError:
-        raise SolveError("the circuit matrix is singular (a floating node or a loop of "
-                         "sources); check the connections") from None
+        return None
 
 
 def state_at(problem: Problem, samples: int, x: np.ndarray, vstar: list[np.ndarray]) -> State:
