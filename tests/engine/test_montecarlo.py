@@ -166,6 +166,15 @@ class TestChordStart:
         assert steps <= 6 and without >= 10
 
 
+    def test_a_singular_chord_leaves_each_sample_its_own_step(self, monkeypatch):
+        from kitleaf.engine.reduce import Reduced
+
+        expected = monte_carlo(self.follower(), samples=50, seed=3, nodes=["s"]).dc["s"]
+        monkeypatch.setattr(Reduced, "jacobian", lambda self, x: np.zeros(
+            (1, self.part.keep.size, self.part.keep.size)))
+        got = monte_carlo(self.follower(), samples=50, seed=3, nodes=["s"]).dc["s"]
+        np.testing.assert_allclose(got, expected, rtol=1e-8, atol=1e-9)
+
 class TestDeviceSpreads:
     def test_hfe_spread_moves_the_collector(self):
         c = rc.boost("2N5089")
