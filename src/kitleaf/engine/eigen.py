@@ -27,9 +27,10 @@ BACKWARD = 1e-11
 STALLED = 3.0
 DRIFT = 1e-7  # largest entry of V W - I (LAPACK's inverse of the same V: ~1e-9)
 MIN_BATCH = 64  # below this LAPACK alone is as quick
-# Samples swept together: a block's (s, m, m) buffers stay in the core's cache, where each
-# elementwise pass costs about half what it does streamed from memory for 1000 samples.
-BLOCK = 512
+# Matrix entries swept together: a block's (s, m, m) buffers stay in the core's cache, where
+# each elementwise pass costs about half what it does streamed from memory (1000 samples of
+# 13 x 13 go as two blocks; small matrices as one, whose sweeps cost mostly calls).
+BLOCK_ENTRIES = 100_000
 
 
 def eig_batch(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -41,8 +42,9 @@ def eig_batch(a: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         return _lapack(a)
     ref_inv = np.linalg.inv(ref_vecs)
     # the sweeps reshape their buffers to write diagonals in place: C order required
-    parts = [_refine(np.ascontiguousarray(a[i:i + BLOCK]), ref_vecs, ref_inv)
-             for i in range(0, a.shape[0], BLOCK)]
+    blocks = -(-a[0].size * a.shape[0] // BLOCK_ENTRIES)
+    parts = [_refine(np.ascontiguousarray(block), ref_vecs, ref_inv)
+             for block in np.array_split(a, blocks)]
     values, vecs, inv, ok = (np.concatenate(x) for x in zip(*parts, strict=True))
     if not ok.all():
         bad = np.flatnonzero(~ok)
