@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import weakref
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -140,9 +141,30 @@ def incidence(size: int, pairs: list[tuple[int, int]]) -> np.ndarray:
     return out[:size]
 
 
+# Each circuit's last compiled system, with the elements it was compiled from: a circuit's
+# DC, AC and Monte Carlo runs then share one system (its stamp maps, partition and device
+# maps built once). Elements are frozen, and the entry holds them, so a circuit whose
+# elements are all the very same objects (``is``) compiles to the same system.
+_COMPILED: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
 def compile_circuit(circuit) -> System:
-    """Check the topology, lay out the unknowns and stamp every element."""
+    """Check the topology, lay out the unknowns and stamp every element; a circuit compiled
+    before with the same elements gets its system back."""
     elements = circuit.elements
+    try:
+        known = _COMPILED.get(circuit)
+    except TypeError:  # a circuit-like object without weak references: no cache
+        return _compile(circuit, elements)
+    if known is not None and len(known[0]) == len(elements) and all(
+            a is b for a, b in zip(known[0], elements, strict=True)):
+        return known[1]
+    system = _compile(circuit, elements)
+    _COMPILED[circuit] = (elements, system)
+    return system
+
+
+def _compile(circuit, elements: tuple) -> System:
     if not elements:
         raise SolveError("the circuit is empty")
     check_topology(elements)
