@@ -67,9 +67,25 @@ def vary(text: str, rng: random.Random) -> str:
     return FENCE.sub(lambda b: PART.sub(step, b[0]), text)
 
 
+# A mid-rail reference for a base guide whose power stage has none: an op-amp stage taken
+# from another guide biases its input there, and without it that input would float (the
+# bias-path rule's warning; with the op-amp's input bias current it then sits at a rail).
+REFERENCE = "vref-top: R97 22k\nvref-bottom: R98 22k\nvref-cap: C97 22u electrolytic 16V\n"
+
+
+def with_reference(text: str) -> str:
+    """``text`` with a reference divider in its power stage, if it has none."""
+    def add(m: re.Match) -> str:
+        if m[1] != "power" or "vref-top:" in m[2]:
+            return m[0]
+        return m[0][: -len("```\n")] + REFERENCE + "```\n"
+
+    return FENCE.sub(add, text)
+
+
 def four_stage_guide(base: str, donors: list[str], number: int, rng: random.Random) -> str:
     """A demo guide grown to four stages from the others' signal stages, values varied."""
-    text = base
+    text = with_reference(base)
     spares = [(sid, block) for d in donors for sid, block in stage_blocks(d) if sid != "power"]
     k = 1
     while len(stage_blocks(text)) < STAGES:
