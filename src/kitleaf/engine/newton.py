@@ -165,7 +165,7 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
         residual = residual + currents
         jac = jac + dev_jac
         state.vstar = vlim
-    if state.chord is not None and state.chord.shape[-1] == x.shape[1]:
+    if state.chord is not None:
         step = _chord_step(state.chord[0], -residual)
         if step is not None:
             return step, limited

@@ -199,7 +199,9 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     except SolveError:
         solve_state(problem, state)
         return None
-    sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh, state.chord)
+    # the chord is a Jacobian of the reduced rows: only the reduced Newton may take it
+    chord, state.chord = state.chord, None
+    sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh, chord)
     ok = newton(red.problem, sub)
     state.x, state.vstar, state.fresh = red.expand(sub.x, problem, currents), sub.vstar, False
     if ok.all():

@@ -55,9 +55,12 @@ class JfetBank(Bank):
     def initial(self) -> np.ndarray:
         """Newton's first guess: the channel half-way on (vgs = VTO / 2) and saturated
         (vds = -VTO), where its current and both slopes are those of a working stage; from
-        vgs = vgd the channel would start as a bare resistor with no transconductance."""
+        vgs = vgd the channel would start as a bare resistor with no transconductance. A
+        model with VTO >= 0 starts at vgs = 0, vgd = -1 V, its gate junction never forward."""
         vto = self.p("VTO")
-        return np.stack([0.5 * vto, 1.5 * vto], axis=1)
+        depletion = vto < 0
+        return np.stack([np.where(depletion, 0.5 * vto, 0.0),
+                         np.where(depletion, 1.5 * vto, -1.0)], axis=1)
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
         n_vt = (self.p("N") * VT)[:, None, :]
