@@ -8,13 +8,13 @@ A name is dotted and lower-case: ``kit.gain``, ``boost.low-corner``, ``boost.gai
 from __future__ import annotations
 
 import difflib
-import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.errors import SourceSpan, SpecError
+from kitleaf.guide.kit_lines import slug
 from kitleaf.render.environment import range_text
 from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
 
@@ -42,11 +42,6 @@ class Computed:
     def text(self) -> str:
         """As the trade writes it, with its tolerance spread when one was computed."""
         return range_text(self.value, self.quantity)
-
-
-def slug(text: str) -> str:
-    """A knob name or test-point word as a name part: "Mid Boost" -> "mid-boost"."""
-    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")
 
 
 def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
