@@ -15,7 +15,6 @@ from dataclasses import dataclass
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.errors import SourceSpan, SpecError
-from kitleaf.render.environment import range_text
 from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
 
 KIT = "kit"
@@ -41,10 +40,6 @@ class Computed:
     # Another way a maker may spell it, offered by the did-you-mean only: a custom test
     # point labelled "Q2 source" is ``buffer.s``, but a maker may try ``buffer.q2.source``.
     spelling: str = ""
-
-    def text(self) -> str:
-        """As the trade writes it, with its tolerance spread when one was computed."""
-        return range_text(self.value, self.quantity)
 
 
 def slug(text: str) -> str:
