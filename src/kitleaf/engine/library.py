@@ -6,7 +6,8 @@ for the bias points and responses a build guide quotes; check a datasheet for an
 BVEBO is the datasheet's emitter-base rating V(BR)EBO, taken as the voltage where the junction
 breaks down (real junctions usually hold a volt or two more).
 Spreads give the production range Monte Carlo draws from: BF follows the datasheet hFE
-grouping (min..max), VTO the VGS(off) range, IDSS the datasheet IDSS range (BETA follows).
+grouping (min..max), VTO the VGS(off) range, IDSS the datasheet IDSS range,
+drawn to track VTO (montecarlo.tracking_idss; BETA follows).
 """
 
 from __future__ import annotations
