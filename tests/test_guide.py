@@ -4,7 +4,7 @@ import pytest
 
 from kitleaf.errors import GuideError
 from kitleaf.guide import parse_guide
-from kitleaf.guide.kit_lines import slug
+from kitleaf.guide.slug import slug_for
 from kitleaf.guide.source import LARGEST_GUIDE
 
 GUIDE = """\
@@ -143,7 +143,7 @@ class TestKnobNames:
         ("Ton (Höhen)", "ton-hohen"),
     ])
     def test_accents_are_dropped_from_the_name_part(self, name, expected):
-        assert slug(name) == expected
+        assert slug_for(name) == expected
 
     def test_a_knob_with_no_plain_letter_is_refused(self):
         with pytest.raises(GuideError, match="needs a letter a-z") as info:

@@ -3,22 +3,14 @@
 from __future__ import annotations
 
 import re
-import unicodedata
 
 from kitleaf.errors import GuideError
 from kitleaf.guide.model import Block, Entry, Knob
+from kitleaf.guide.slug import slug_for
 
 _DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
 _CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
 _HOURS = re.compile(r"^(\d+(?:\.\d*)?)\s*(?:h|hours?)$")
-
-
-def slug(text: str) -> str:
-    """A knob name or test-point word as a name part: "Mid Boost" -> "mid-boost", "Lével" ->
-    "level" (accents dropped, so the name stays plain ASCII for claims and prose)."""
-    plain = unicodedata.normalize("NFKD", text.casefold())
-    plain = "".join(ch for ch in plain if not unicodedata.combining(ch))
-    return re.sub(r"[^a-z0-9]+", "-", plain).strip("-")
 
 
 def read_knobs(entries: tuple[Entry, ...]) -> tuple[Knob, ...]:
@@ -41,7 +33,7 @@ def read_knob(entry: Entry) -> Knob:
             "like 'Gain = VR1'",
             entry.span,
         )
-    if not slug(name):
+    if not slug_for(name):
         raise GuideError(f"knob {name!r} needs a letter a-z or a digit in its name (claims and "
                          "prose name the knob by them); write it like 'Gain = VR1'", entry.span)
     return Knob(name, designator, entry.span)
@@ -52,7 +44,7 @@ def _refuse_twice(knob: Knob, other: Knob) -> None:
     if knob.designator == other.designator:
         raise GuideError(f"{knob.designator} is turned by two knobs ('{other.name}', {first}); "
                          "a pot has one knob, so keep one line", knob.span)
-    if slug(knob.name) == slug(other.name):
+    if slug_for(knob.name) == slug_for(other.name):
         raise GuideError(f"two knobs are named {knob.name!r} ({first}, '{other.name}'); give "
                          "each knob its own name", knob.span)
 

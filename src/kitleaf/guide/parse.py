@@ -12,6 +12,7 @@ from kitleaf.guide.blocks import make_block, require_single
 from kitleaf.guide.fences import is_ours
 from kitleaf.guide.kit_lines import check_battery, read_knobs
 from kitleaf.guide.model import Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
+from kitleaf.guide.slug import guide_slug
 from kitleaf.guide.source import checked_text, read_text
 
 KIT_KEYS = {
@@ -48,7 +49,7 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
                          kits[1].span)
     stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
     check_unique_ids(stages)
-    return Guide(shown, path.stem, text, read_kit(kits[0]), stages)
+    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages)
 
 
 def find_blocks(text: str, path: str):
