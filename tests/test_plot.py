@@ -19,8 +19,8 @@ from matplotlib.textpath import text_to_path
 
 from kitleaf.circuit.chain import INPUT, OUTPUT
 from kitleaf.engine.spice_export import to_spice
-from kitleaf.render.plot import Curve, Panel, ResponsePlot, render_response_svg
-from kitleaf.specs.plots import kit_plot, stage_plot
+from kitleaf.render.plot import Panel, ResponsePlot, Trace, render_response_svg
+from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.specs.solve import nominal_positions
 from specs_kits import solved
 
@@ -221,7 +221,7 @@ def knob_panel(knob: str, others: str, offset: float, band: float) -> Panel:
     rest, and a tolerance band ``band`` dB either side of the middle curve."""
     hump = -6 * np.log10(np.asarray(FREQS) / 1e3) ** 2
     levels = (-120.0, -20.0, -8.0, 0.0, 6.0)
-    curves = tuple(Curve(f"{knob} {25 * i} %", tuple((hump + level + offset).tolist()))
+    curves = tuple(Trace(f"{knob} {25 * i} %", tuple((hump + level + offset).tolist()))
                    for i, level in enumerate(levels))
     middle = hump + offset - 8.0
     return Panel(f"{knob} knob turned, {others} at 50 %", curves,
@@ -281,7 +281,7 @@ def test_the_tolerance_band_stays_inside_its_axes(band):
     """A band wider than the curves widens the axes instead of running off their bottom edge,
     so the grey never stands for values the axis does not show."""
     rise = 12 * np.tanh(np.log10(np.asarray(FREQS) / 30.0))  # a gentle high-pass shape
-    panel = Panel("", (Curve("nominal parts", tuple(rise.tolist())),),
+    panel = Panel("", (Trace("nominal parts", tuple(rise.tolist())),),
                   tuple((rise - band).tolist()), tuple((rise + band).tolist()))
     root = svg_tree(ResponsePlot("Fernbrook Test Kit", FREQS, (panel,)))
     [(clip, (_, top, _, height))] = clip_rects(root).items()

@@ -11,13 +11,13 @@ from dataclasses import dataclass
 
 @dataclass(frozen=True)
 class SourceSpan:
-    """Where something came from in a guide: the file and a 1-based line."""
+    """Where something came from: a file or folder and, inside a guide, a 1-based line."""
 
     path: str
-    line: int
+    line: int | None = None  # None for a whole file or folder: no line to point at
 
     def __str__(self) -> str:
-        return f"{self.path}:{self.line}"
+        return self.path if self.line is None else f"{self.path}:{self.line}"
 
 
 class KitleafError(Exception):

@@ -10,6 +10,7 @@ from markdown_it import MarkdownIt
 from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import make_block, require_single
 from kitleaf.guide.model import Block, Guide, HardwareLine, KitBlock, Knob, StageBlock
+from kitleaf.guide.slug import guide_slug
 
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
@@ -45,7 +46,7 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
                          kits[1].span)
     stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
     check_unique_ids(stages)
-    return Guide(shown, path.stem, text, read_kit(kits[0]), stages)
+    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages)
 
 
 def read_text(path: Path) -> str:

@@ -37,7 +37,7 @@ from kitleaf.render.plot_draw import (
     Frame,
     Label,
 )
-from kitleaf.render.plot_svg import Sheet
+from kitleaf.render.plot_svg import SvgDocument
 
 FONTS = {weight: FontProperties(family="DejaVu Sans", size=FONT_PT, weight=weight)
          for weight in ("normal", "bold")}
@@ -55,7 +55,7 @@ BAND_LABEL = "part tolerances (5–95 %)"
 
 
 @dataclass(frozen=True)
-class Curve:
+class Trace:
     """One trace: a label (a knob position, say) and gain in dB at each frequency."""
 
     label: str
@@ -67,7 +67,7 @@ class Panel:
     """One set of axes: curves of one knob's positions, the band and the corners."""
 
     title: str
-    curves: tuple[Curve, ...]
+    curves: tuple[Trace, ...]
     band_low: tuple[float, ...] = ()
     band_high: tuple[float, ...] = ()
     corners: tuple[tuple[float, str], ...] = ()  # (Hz, label)
@@ -96,7 +96,7 @@ class Placed:
 def render_response_svg(plot: ResponsePlot) -> str:
     """The plot as SVG text; the same plot always gives the same bytes."""
     width, height, title, placed = layout(plot)
-    sheet = Sheet(width, height, title=plot.title)
+    sheet = SvgDocument(width, height, title=plot.title)
     sheet.rect(0, 0, width, height, "fill: #ffffff")
     draw.labels(sheet, title, extra="; font-weight: 700")
     log_f = np.log10(plot.freqs)
@@ -106,7 +106,7 @@ def render_response_svg(plot: ResponsePlot) -> str:
     return sheet.svg()
 
 
-def _draw(sheet: Sheet, name: str, placed: Placed, log_f: np.ndarray, last: bool) -> None:
+def _draw(sheet: SvgDocument, name: str, placed: Placed, log_f: np.ndarray, last: bool) -> None:
     frame, panel = placed.frame, placed.panel
     clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
     band = draw.band_outline(frame, log_f, panel.band_low, panel.band_high) \

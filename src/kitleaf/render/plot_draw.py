@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from kitleaf.render.plot_svg import Sheet, dash_array, num, polyline
+from kitleaf.render.plot_svg import SvgDocument, dash_array, num, polyline
 from kitleaf.values import format_value
 
 # (colour, dash pattern, width) per curve: dark to light and distinct dashes, so curves stay
@@ -90,13 +90,13 @@ def line(colour: str, dashes, width: float) -> str:
     return "fill: none; " + stroke(colour, dashes, width)
 
 
-def labels(sheet: Sheet, placed, extra: str = "") -> None:
+def labels(sheet: SvgDocument, placed, extra: str = "") -> None:
     for label in placed:
         sheet.text(label.x, label.y, label.text, label.size, ha=label.ha, va=label.va,
                    extra=extra)
 
 
-def background(sheet: Sheet, frame: Frame, band, y_ticks, corners, clip: str) -> None:
+def background(sheet: SvgDocument, frame: Frame, band, y_ticks, corners, clip: str) -> None:
     """Everything behind the curves, back to front: faint rules, band, grid, corners, frame.
 
     ``band`` is the tolerance band's closed outlines (path data, possibly empty); ``corners``
@@ -133,14 +133,14 @@ def band_outline(frame: Frame, log_f: np.ndarray, low, high) -> str:
     return "".join(outlines)
 
 
-def curves(sheet: Sheet, frame: Frame, log_f, gains, clip: str) -> None:
+def curves(sheet: SvgDocument, frame: Frame, log_f, gains, clip: str) -> None:
     """The curves in their styles, in order."""
     for i, gain_db in enumerate(gains):
         sheet.path(polyline(frame.x(log_f), frame.y(gain_db)), line(*style_of(i, len(gains))),
                    clip)
 
 
-def rules(sheet: Sheet, frame: Frame, style: str, clip: str, x=(), y=()) -> None:
+def rules(sheet: SvgDocument, frame: Frame, style: str, clip: str, x=(), y=()) -> None:
     """Lines across the panel at data values ``x`` (vertical) or ``y`` (horizontal), one path."""
     top, bottom, left, right = (num(v) for v in (frame.top, frame.bottom, frame.left, frame.right))
     segments = [f"M{num(v)} {bottom}V{top}" for v in frame.x(x).tolist()]
@@ -149,7 +149,7 @@ def rules(sheet: Sheet, frame: Frame, style: str, clip: str, x=(), y=()) -> None
         sheet.path("".join(segments), "fill: none; " + style, clip)
 
 
-def x_axis(sheet: Sheet, frame: Frame, last: bool) -> None:
+def x_axis(sheet: SvgDocument, frame: Frame, last: bool) -> None:
     """Decade ticks and labels under the panel; the axis label under the last panel only."""
     xs = frame.x(DECADES).tolist()
     ticks = "".join(f"M{num(x)} {num(frame.bottom)}v{num(TICK_PT)}" for x in xs)
@@ -162,7 +162,7 @@ def x_axis(sheet: Sheet, frame: Frame, last: bool) -> None:
                    va="top")
 
 
-def y_axis(sheet: Sheet, frame: Frame, values, texts, widest: float) -> None:
+def y_axis(sheet: SvgDocument, frame: Frame, values, texts, widest: float) -> None:
     """dB ticks and labels left of the panel, the axis label clear of the widest of them."""
     ys = frame.y(values).tolist()
     ticks = "".join(f"M{num(frame.left)} {num(y)}h{num(-TICK_PT)}" for y in ys)
@@ -180,7 +180,7 @@ def legend_height(entries) -> float:
     return lines * LINE_EM * LEGEND_PT + LEGEND_ROW_GAP_PT * max(len(entries) - 1, 0)
 
 
-def legend(sheet: Sheet, frame: Frame, left: float, entries) -> None:
+def legend(sheet: SvgDocument, frame: Frame, left: float, entries) -> None:
     """Handles and labels in a column centred beside the panel, a label on one or more lines;
     each handle sits beside its label's first line."""
     row = LINE_EM * LEGEND_PT
