@@ -10,7 +10,7 @@ import sys
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.cli import command
-from kitleaf.errors import KitleafError
+from kitleaf.errors import KitleafError, printable_line
 from kitleaf.guide import parse_guide
 from kitleaf.render.inline import prose_env
 from kitleaf.render.prose import render_prose
@@ -19,18 +19,23 @@ from kitleaf.specs.claims import Checks, verify
 from kitleaf.specs.derive import derive_specs
 
 
-def check_guide(path) -> Checks:
+def check_guide(path) -> tuple[Checks, tuple[str, ...]]:
+    """The guide's verified checks and the specs' notes (located warning lines)."""
     guide = parse_guide(path)
     kit = build_circuit(guide)
-    checks = verify(guide, kit, derive_specs(guide, kit))
+    specs = derive_specs(guide, kit)
+    checks = verify(guide, kit, specs)
     render_prose(guide.text, prose_env(guide.path, checks.values))  # names in the prose
-    return checks
+    return checks, specs.notes
 
 
-def report(checks: Checks, strict: bool) -> int:
-    """Print the unsilenced findings; the number that count as errors."""
+def report(checked: tuple[Checks, tuple[str, ...]], strict: bool) -> int:
+    """Print the notes and the unsilenced findings; the number that count as errors."""
+    checks, notes = checked
+    for note in notes:
+        print(printable_line(note), file=sys.stderr)
     for finding in checks.warnings:
-        print(finding.as_error() if strict else finding.line(), file=sys.stderr)
+        print(finding.as_error() if strict else printable_line(finding.line()), file=sys.stderr)
     return len(checks.warnings) if strict else 0
 
 
