@@ -4,7 +4,8 @@ Every entry below is "from memory": SPICE model cards and datasheet typical figu
 are commonly circulated, recalled rather than copied from a document at hand. They are good
 for the bias points and responses a build guide quotes; check a datasheet for anything else.
 Spreads give the production range Monte Carlo draws from: BF follows the datasheet hFE
-grouping (min..max), VTO the VGS(off) range, IDSS the datasheet IDSS range (BETA follows).
+grouping (min..max), VTO the VGS(off) range, IDSS the datasheet IDSS range,
+drawn to track VTO (montecarlo.tracking_idss; BETA follows).
 """
 
 from __future__ import annotations
