@@ -195,3 +195,22 @@ def test_build_publishes_into_published_by_default(tmp_path, capsys, monkeypatch
     assert (tmp_path / "published" / "kitleaf-manifest.json").is_file()
     assert not (tmp_path / "site").exists()
     assert "into published/" in capsys.readouterr().out
+
+
+def test_a_long_word_is_cut_in_the_error_line(tmp_path, capsys):
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    path = tmp_path / "long.md"
+    path.write_text(good.replace("R3 8k2", "R3 8k2 " + "x" * 200_000), encoding="utf-8")
+    assert main(["check", str(path)]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith(f"{path}:")
+    assert len(err[0]) < 400 and "x…[2000" in err[0]
+
+
+def test_a_knob_named_with_accents_keeps_its_letters_in_names(tmp_path, capsys):
+    # The Brookside's prose shows {=kit.gain.level-100}: with the knob spelt 'Lével' the name
+    # is still 'level', not 'l-vel'.
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    path = tmp_path / "accent.md"
+    path.write_text(good.replace("knob: Level = VR1", "knob: Lével = VR1"), encoding="utf-8")
+    assert main(["check", str(path)]) == 0, capsys.readouterr().err
