@@ -75,7 +75,10 @@ def test_new_guide_checks_clean(tmp_path, capsys):
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 0
     written = tmp_path / "moss-drive.md"
     assert written.is_file()
-    assert main(["check", str(written)]) == 0
+    capsys.readouterr()
+    assert main(["check", str(written), "--fail-on-findings"]) == 0  # no finding to silence
+    assert capsys.readouterr().err == ""
+    assert "allow:" not in written.read_text(encoding="utf-8")
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 1
 
 
