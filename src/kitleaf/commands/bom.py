@@ -23,6 +23,6 @@ def run(args) -> int:
         return 0
     if len(boms) > 1:
         raise KitleafError("several guides need --kits N for a batch order; give one guide "
-                           "for its parts list", SourceSpan(str(args.files[1]), 1))
+                           "for its parts list", SourceSpan(str(args.files[1])))
     print(bom_csv(boms[0]) if args.csv else bom_text(boms[0]), end="")
     return 0

@@ -22,7 +22,7 @@ def run(args) -> int:
     path = args.dir / f"{slug}.md"
     if path.exists():
         raise KitleafError(f"{path} exists already; pick another name or edit it",
-                           SourceSpan(str(path), 1))
+                           SourceSpan(str(path)))
     args.dir.mkdir(parents=True, exist_ok=True)
     code = "".join(w[0] for w in slug.split("-")).upper()[:3] + "-1"
     path.write_text(starter_text(args.name, code), encoding="utf-8")
