@@ -75,7 +75,10 @@ def test_new_guide_checks_clean(tmp_path, capsys):
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 0
     written = tmp_path / "moss-drive.md"
     assert written.is_file()
-    assert main(["check", str(written)]) == 0
+    capsys.readouterr()
+    assert main(["check", str(written), "--fail-on-findings"]) == 0  # no finding to silence
+    assert capsys.readouterr().err == ""
+    assert "allow:" not in written.read_text(encoding="utf-8")
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 1
 
 
@@ -251,3 +254,16 @@ def test_a_numeric_warning_in_the_solve_is_a_located_error(monkeypatch, capsys):
     assert err == [f"{path}:1: error: the numbers ran out of range while solving (overflow "
                    "encountered in scalar multiply); look for a part value or device far from "
                    "the usual"]
+
+
+@pytest.mark.parametrize("argv", [["build", "nosuch"], ["check", "nosuch"]])
+def test_a_missing_folder_is_named_without_a_line(argv, tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    assert main(argv) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err == ["nosuch: error: no such folder or guide: nosuch; give a folder of .md guides"]
+
+
+def test_an_empty_folder_is_named_without_a_line(tmp_path, capsys):
+    assert main(["check", str(tmp_path)]) == 1
+    assert capsys.readouterr().err.startswith(f"{tmp_path}: error: no guides (*.md) in")
