@@ -109,7 +109,7 @@ def read_kit(block: Block) -> KitBlock:
         cautions=tuple(e.value for e in block.all("caution")),
         source=block.first("source"), load=block.first("load"), order=block.first("order"),
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
-        span=block.span, supply_span=value["supply"].span,
+        span=block.span, supply_span=value["supply"].span, code_span=value["code"].span,
     )
 
 

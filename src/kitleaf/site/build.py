@@ -12,7 +12,7 @@ import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan
+from kitleaf.errors import ErrorList, KitleafError
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
 from kitleaf.site.cache import Cache, default_cache_dir
@@ -25,6 +25,7 @@ from kitleaf.site.pool import default_jobs, run_guides
 from kitleaf.site.progress import Progress
 from kitleaf.site.prune import DEFAULT_POLICY, PrunePolicy, PruneReport, prune
 from kitleaf.site.publish import publish
+from kitleaf.site.unique import check_slugs, reused_codes
 
 CHANGES_PAGE = "changes.html"
 
@@ -103,7 +104,9 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
             cache.store("guide", keys[i], (output, uses))
     if any(isinstance(o, KitleafError) for o in outputs):
         raise BuildFailed(failures(outputs, fail_on_findings))
-    check_slugs(paths, outputs)
+    check_slugs(paths, [o.card.slug for o in outputs])
+    if reused := reused_codes([(o.card.code, o.code_span) for o in outputs]):
+        raise BuildFailed(reused)
     return outputs, len(todo)
 
 
@@ -134,16 +137,6 @@ def finding_errors(outputs: list) -> list[KitleafError]:
     --fail-on-findings`` prints them: ``path:line: error: message [rule]``."""
     errors = [[f.as_error() for f in o.findings] for o in outputs]
     return [found[0] if len(found) == 1 else ErrorList(found) for found in errors if found]
-
-
-def check_slugs(paths: list[Path], outputs: list) -> None:
-    seen: dict[str, Path] = {}
-    for path, output in zip(paths, outputs, strict=True):
-        slug = output.card.slug
-        if slug in seen:
-            raise BuildError(f"{path.name} and {seen[slug].name} both make the pages '{slug}/'; "
-                             "rename one of the files", SourceSpan(str(path)))
-        seen[slug] = path
 
 
 def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, dict]:
