@@ -58,6 +58,18 @@ def parser() -> argparse.ArgumentParser:
     bo.add_argument("--csv", action="store_true", help="as CSV")
     bo.add_argument("--kits", type=int, help="order for a batch of N kits")
     bo.add_argument("--spares", default="0%", help="spares per line, e.g. 10%%")
+    pp = sub.add_parser("pinpoint", help="rank the faults a builder's meter readings point to")
+    pp.add_argument("file", type=Path)
+    pp.add_argument("readings", nargs="*", metavar="TEST-POINT=VOLTS")
+    pp.add_argument("--black", choices=("supply", "ground"), default="supply",
+                    help="where the black probe was: the supply's negative terminal "
+                    "(default) or the board's ground")
+    pp.add_argument("--supply", type=float, default=None,
+                    help="the supply as measured, in volts (default: the kit's)")
+    pp.add_argument("--top", type=int, default=8, help="how many faults to list (8)")
+    pp.add_argument("--points", action="store_true",
+                    help="list the test points and a good build's readings")
+    pp.add_argument("--json", action="store_true", help="as JSON")
     return p
 
 
