@@ -57,5 +57,3 @@ def _volts(name: str, text: str, supply_v: float) -> float:
                            "with a fresh battery and the meter's error); check the meter's "
                            "range and the decimal point")
     return volts
-
-
