@@ -12,7 +12,6 @@ from pathlib import Path
 from urllib.parse import quote
 
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
-from kitleaf.bom.stresses import part_stresses
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.guide import parse_guide
@@ -51,7 +50,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
         "checks": checks,
-        "bom": rating_warnings(bom_lines(kit.parts()), part_stresses(kit)),
+        "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)

@@ -17,7 +17,8 @@ from kitleaf.specs.derive import KNOB_STEPS
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
-from kitleaf.specs.sampled import Batch
+from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
+from kitleaf.specs.rules._settings import DcSetting, Reading
 from kitleaf.specs.solve import KitState, nominal_positions
 from kitleaf.values import format_value
 
@@ -29,45 +30,6 @@ KNOB_FREE = 1e-3
 EVERY_SETTING = "at every knob setting"
 
 
-class Reading:
-    """One knob setting's DC operating point in a set of builds (the nominal one, or the
-    tolerance samples): every figure is an array, one value per build."""
-
-    def __init__(self, batch: Batch, memo: dict) -> None:
-        self.batch, self._memo = batch, memo
-
-    def voltage(self, node: str) -> np.ndarray:
-        return self.batch.voltage(node)
-
-    def device(self, name: str, key: str) -> list:
-        """Figure ``key`` of device ``name``'s report (its ``region``, ``id``...) per build."""
-        return [report[key] for report in self._reports(name)]
-
-    def factor(self, name: str) -> np.ndarray:
-        """Each build's multiplier of part ``name``'s value."""
-        return self.batch.system.factor(name)
-
-    def _reports(self, name: str) -> tuple[dict, ...]:
-        # Settings whose knobs move no DC current share one operating point (the same
-        # array), so their device reports are computed once.
-        key = (name, id(self.batch.system.x))
-        if key not in self._memo:
-            self._memo[key] = self.batch.system.reports(name)
-        return self._memo[key]
-
-
-class DcSetting:
-    """The kit at one setting of its knobs, with words for that setting: its nominal build
-    and, solved on first use, the builds drawn within part tolerances."""
-
-    def __init__(self, words: str, state: KitState, memo: dict) -> None:
-        self.words, self.circuit = words, state.circuit
-        self._state, self._memo = state, memo
-        self.nominal = Reading(state.nominal.batch, memo)
-
-    @cached_property
-    def samples(self) -> Reading:
-        return Reading(self._state.samples.batch, self._memo)
 
 
 @dataclass(frozen=True)
@@ -178,6 +140,32 @@ class RuleContext:
         if max(seen) - min(seen) <= KNOB_FREE * scale:
             return f" {EVERY_SETTING}"
         return f" with {state.words}"
+
+    @cached_property
+    def stresses(self) -> dict[str, Stress]:
+        """Each rated part's worst DC stress over the knob states (see specs/ratings.py)."""
+        return {p.designator: self._stress(p) for p in self.parts if p.type in LIMITS}
+
+    def _stress(self, part: Part) -> Stress:
+        """Where the nominal build or SHARE_LIMIT of the builds exceed the part's derated
+        rating, the stress that shows it (the nominal build's, else the 95th percentile of
+        the builds); otherwise the nominal build's worst, the first setting winning a tie."""
+        element = self.states[0].circuit.element(part.designator)
+
+        def stress(reading: Reading) -> np.ndarray:
+            return part_stress(part.type, reading, element, reading.factor(part.designator))
+
+        def nominal(reading: Reading) -> float:
+            return float(stress(reading)[0])
+
+        limit = derated_limit(part.type, part.rating)
+        verdict = None if limit is None else self.worst(lambda r: stress(r) > limit)
+        if verdict is None:
+            value, i = max((nominal(s.nominal), -i) for i, s in enumerate(self.states))
+            return Stress(value, self.setting(self.states[-i], nominal).strip())
+        value, bound = self.shown(verdict, stress)
+        where = self.setting(verdict.state, nominal).strip()
+        return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:

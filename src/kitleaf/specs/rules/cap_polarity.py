@@ -8,6 +8,7 @@ tolerances: then no orientation keeps it forward-biased.
 
 from __future__ import annotations
 
+from kitleaf.specs.ratings import POLARISED
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import Reading, RuleContext
 from kitleaf.values import format_value
@@ -15,7 +16,6 @@ from kitleaf.values import format_value
 RULE = "cap-polarity"
 # The reverse bias an aluminium electrolytic is taken to survive (common practice, no source).
 REVERSE_LIMIT = 0.5
-POLARISED = ("electrolytic", "tantalum")
 
 
 def across(ctx: RuleContext, designator: str):
