@@ -6,26 +6,14 @@ from __future__ import annotations
 import math
 import re
 
-from rules_kits import GUIDE, KIT, POWER, checks_of, findings, swapped
+from rules_kits import GUIDE, KIT, OPAMP, POWER, checks_of, findings, swapped
 
 # The audio (log) taper as the engine draws it: 10 % of the track at half rotation, the
 # exponential f(p) = (81**p - 1) / 80 (common practice, no source: pot catalogues give 10 %).
 TAPERS = {"A": lambda p: (81**p - 1) / 80, "B": lambda p: p,
           "C": lambda p: 1 - (81 ** (1 - p) - 1) / 80}
 
-GAIN_STAGE = """\
-```stage gain
-kind: opamp-non-inverting
-input-cap: C1 100n film 63V
-bias: R1 1M
-opamp: U1A TL072
-feedback: R3 82k
-gain-resistor: R4 2k7
-gain: VR2 {taper}50k
-gain-cap: C4 10u electrolytic 16V
-output-cap: C2 1u film 63V
-```
-"""
+GAIN_STAGE = OPAMP.replace("gain-resistor: R4 2k7", "gain-resistor: R4 2k7\ngain: VR2 {taper}50k")
 
 
 def gain_guide(taper: str) -> str:
