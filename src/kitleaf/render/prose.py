@@ -9,9 +9,13 @@ from dataclasses import dataclass
 from markdown_it import MarkdownIt
 
 from kitleaf.guide.parse import markdown_parser
+from kitleaf.registry import add, load
 
 # Markdown plugins by name: a plugin takes the parser and returns nothing (``md.use`` style).
 PLUGINS: dict[str, Callable[[MarkdownIt], None]] = {}
+# The modules of kitleaf.render defining plugins, in the order the parser uses them (see
+# kitleaf.registry); loaded when a renderer is made, since they import this module.
+MODULES = ("inline",)
 # NUL cannot come from guide text (CommonMark replaces it), so these markers are safe to split on.
 _MARK = re.compile("\x00(kit|stage):([a-z0-9-]*)\x00")
 
@@ -36,15 +40,18 @@ def prose_renderer() -> MarkdownIt:
         return default_fence(tokens, idx, options, env)
 
     md.add_render_rule("fence", fence)
-    _load_plugins()
+    load("kitleaf.render", MODULES)  # imported once; later calls find them loaded
     for plugin in PLUGINS.values():
         md.use(plugin)
     return md
 
 
-def _load_plugins() -> None:
-    # Our own plugins register themselves in PLUGINS when their module is imported.
-    import kitleaf.render.inline  # noqa: F401
+def register_plugin(name: str):
+    """Decorator: make a plugin function available to the prose renderer as ``name``."""
+    def register(plugin: Callable[[MarkdownIt], None]):
+        return add(PLUGINS, name, plugin, "prose plugin")
+
+    return register
 
 
 def render_prose(text: str, env: dict | None = None) -> tuple[Piece, ...]:
