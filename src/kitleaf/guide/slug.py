@@ -13,9 +13,9 @@ _NOT_NAME = re.compile(r"[^a-z0-9]+")
 
 
 def slug_for(name: str) -> str:
-    """``name`` folded to ASCII (é -> e), lower case, every other run of characters a hyphen;
-    empty when nothing is left (``...``, ``..``)."""
-    ascii_text = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
+    """``name`` folded to ASCII (é -> e, ß -> ss), lower case, every other run of characters a
+    hyphen; empty when nothing is left (``...``, ``..``)."""
+    ascii_text = unicodedata.normalize("NFKD", name.casefold()).encode("ascii", "ignore").decode()
     return _NOT_NAME.sub("-", ascii_text.lower()).strip("-")
 
 

@@ -8,13 +8,13 @@ A name is dotted and lower-case: ``kit.gain``, ``boost.low-corner``, ``boost.gai
 from __future__ import annotations
 
 import difflib
-import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.errors import SourceSpan, SpecError
+from kitleaf.guide.slug import slug_for as slug
 from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
 
 KIT = "kit"
@@ -40,11 +40,6 @@ class Computed:
     # Another way a maker may spell it, offered by the did-you-mean only: a custom test
     # point labelled "Q2 source" is ``buffer.s``, but a maker may try ``buffer.q2.source``.
     spelling: str = ""
-
-
-def slug(text: str) -> str:
-    """A knob name or test-point word as a name part: "Mid Boost" -> "mid-boost"."""
-    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")
 
 
 def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
