@@ -107,7 +107,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
 @functools.lru_cache(maxsize=4)
 def theme_environment(themes: tuple[Path, ...]):
     """One Jinja environment per process and theme: templates compile once per worker, not
-    once per guide, and Jinja still reloads a template whose file changed (``kitleaf serve``)."""
+    once per guide, and Jinja still reloads a template whose file changed (``kitleaf proof``)."""
     return make_environment(list(themes))
 
 

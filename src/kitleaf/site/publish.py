@@ -87,7 +87,7 @@ def publish(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
 
 @contextlib.contextmanager
 def locked(out_dir: Path) -> Iterator[None]:
-    """One publish at a time per output (a ``build`` beside a running ``serve``)."""
+    """One publish at a time per output (a ``build`` beside a running ``proof``)."""
     if fcntl is None:
         yield
         return
