@@ -8,11 +8,12 @@ cache is pruned of what this build did not use (:mod:`kitleaf.site.prune`).
 
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from kitleaf.errors import ErrorList, KitleafError
+from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
 from kitleaf.site.cache import Cache, default_cache_dir
@@ -67,12 +68,13 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
     paths = find_guides(target)
     check_output_folder(Path(out_dir), target)  # before any work: a refused folder is untouched
     themes = theme_dirs(site_root_for(target))
+    static = static_files(themes)  # read first: a theme that cannot be published stops here
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
     outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress,
                                fail_on_findings)
     if fail_on_findings and (refused := finding_errors(outputs)):
         raise BuildFailed(refused)  # the guides stay cached; nothing is published
-    files, changes = site_files(outputs, themes, Path(out_dir))
+    files, changes = site_files(outputs, themes, static, Path(out_dir))
     result = publish(Path(out_dir), files)
     pruned = prune(cache.root, cache.used, prune_policy) if cache else PruneReport()
     warnings = tuple(f"{p}: {w}" for p, o in zip(paths, outputs, strict=True) for w in o.warnings)
@@ -139,7 +141,8 @@ def finding_errors(outputs: list) -> list[KitleafError]:
     return [found[0] if len(found) == 1 else ErrorList(found) for found in errors if found]
 
 
-def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, dict]:
+def site_files(outputs: list, themes: list[Path], static: dict[str, bytes],
+               out_dir: Path) -> tuple[dict, dict]:
     """Every file of the site, and the change record against the published manifest."""
     files: dict[str, bytes] = {}
     for output in outputs:
@@ -147,7 +150,7 @@ def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, 
     env = make_environment(themes)
     cards = sorted((o.card for o in outputs), key=lambda c: (c.code, c.slug))
     files["index.html"] = render_page(env, "index.html", {"cards": cards, "root": ""}, "index")
-    files.update(static_files(themes))
+    files.update(static)
     guides = {o.card.slug: o.record for o in outputs}
     changes = compare(read_manifest(out_dir), {"guides": guides})
     files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes))
@@ -161,6 +164,20 @@ def static_files(themes: list[Path]) -> dict[str, bytes]:
     files: dict[str, bytes] = {}
     for theme in reversed(themes):
         static = theme / "static"
-        for path in sorted(p for p in static.rglob("*") if p.is_file()):
+        for path in own_files(static):
             files[f"static/{path.relative_to(static).as_posix()}"] = path.read_bytes()
     return files
+
+
+def own_files(folder: Path) -> list[Path]:
+    """Every file under ``folder``, sorted; a symbolic link is an error, not followed, so a
+    link to a file elsewhere on the machine is never published."""
+    found: list[Path] = []
+    for here, dirs, files in os.walk(folder):  # a linked folder is listed, never entered
+        for name in sorted(dirs + files):
+            if (Path(here) / name).is_symlink():
+                raise BuildError("a symbolic link in the theme's static folder; kitleaf "
+                                 "publishes only the theme's own files, so copy the file in",
+                                 SourceSpan(str(Path(here) / name)))
+        found += [Path(here) / name for name in files]
+    return sorted(found)
