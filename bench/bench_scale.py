@@ -3,9 +3,10 @@
 Two families of invented guides (Fernbrook Circuitworks bench scenario, not products): a guide
 of N signal stages (the demo guides' stages, renumbered, one after another) and a guide whose
 one custom stage is a resistor ladder of N resistors. Each size is checked as ``kitleaf check``
-does, in a fresh process, and the bench prints its wall time and peak resident memory, with the
-ratio to the previous size, so growth can be read off: a ratio near the size ratio (2) is
-linear, near 4 quadratic. Not a timed test.
+does (BLAS on one thread), in a fresh process, and the bench prints its CPU time (the shared
+machine's load moves wall time far more) and peak resident memory, with the ratio to the
+previous size, so growth can be read off: a ratio near the size ratio (2) is linear, near 4
+quadratic. Not a timed test.
 
     python bench/bench_scale.py [--stages 10 20 40] [--ladder 100 200 400] [--base SRC]
 
@@ -50,9 +51,9 @@ import resource, sys, time
 from kitleaf.memory import keep_freed_memory
 keep_freed_memory()
 from kitleaf.commands.check import check_guide
-started = time.perf_counter()
+started = time.process_time()
 check_guide(sys.argv[1])
-print(time.perf_counter() - started, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
+print(time.process_time() - started, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
 """
 
 
@@ -85,7 +86,7 @@ def _node(k: int, rungs: int) -> str:
 
 
 def measure(src: Path | None, guide: Path) -> tuple[float, float]:
-    """(seconds, peak MB) of checking ``guide`` in a fresh process, with ``src`` first on the path."""
+    """(CPU seconds, peak MB) of checking ``guide`` in a fresh process, ``src`` on the path."""
     env = dict(os.environ, OMP_NUM_THREADS="1", OPENBLAS_NUM_THREADS="1")
     if src is not None:
         env["PYTHONPATH"] = str(src)
@@ -97,7 +98,7 @@ def measure(src: Path | None, guide: Path) -> tuple[float, float]:
 def table(label: str, sizes: list[int], make, trees: dict[str, Path | None], root: Path) -> None:
     for name, src in trees.items():
         print(f"{label} ({name})")
-        print(f"{'size':>6} {'seconds':>9} {'ratio':>6} {'peak MB':>9} {'ratio':>6}")
+        print(f"{'size':>6} {'CPU s':>9} {'ratio':>6} {'peak MB':>9} {'ratio':>6}")
         previous = None
         for size in sizes:
             guide = root / f"{label}-{size}.md"
