@@ -46,7 +46,7 @@ TIDEWATER = [
     part("J1", "hardware", "6.35 mm mono jack"),
     part("J3", "hardware", "2.1 mm DC jack, centre negative"),
     part("SW1", "hardware", "3PDT footswitch"),
-    part("K1", "hardware", "knob, 15 mm"),
+    part("MP1", "hardware", "knob, 15 mm"),
 ]
 
 # A second invented kit, the "Millrace Fuzz", for the demo only.

@@ -43,7 +43,7 @@ def test_build_order_lowest_parts_first():
     # LEDs, pots, jacks, switches, hardware (common practice, no source).
     order = [line.designators[0] for line in bom_lines(TIDEWATER)]
     assert order == ["R1", "R2", "R3", "D1", "U1", "C1", "C2", "Q1", "U1", "C3", "LED1",
-                     "VR1", "J1", "J3", "SW1", "K1"]
+                     "VR1", "J1", "J3", "SW1", "MP1"]
     groups = [line.group for line in bom_lines(TIDEWATER)]
     assert groups == sorted(groups, key=[g for g, _ in BUILD_ORDER].index)
 

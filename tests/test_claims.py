@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import pytest
 
+from kitleaf.display import range_text
 from kitleaf.errors import KitleafError, SpecError
 from kitleaf.specs.claims import Claim, holds
 from kitleaf.specs.lookup import Computed
 from kitleaf.specs.model import Range
-from rules_kits import GUIDE, checks_of, swapped
+from rules_kits import BUFFER, GUIDE, checks_of, swapped
 
 
 def with_stage_line(line: str) -> str:
@@ -43,7 +44,8 @@ class TestClaims:
         checks = checks_of(with_stage_line("claim: gain.level-100 between 22 dB and 28 dB"))
         (verified,) = checks.claims_for("boost")
         assert verified.computed.name == "boost.gain.level-100"
-        assert verified.value_text.endswith(")") and "dB" in verified.value_text
+        shown = range_text(verified.computed.value, verified.computed.quantity)
+        assert shown.endswith(")") and "dB" in shown
 
     def test_a_kit_claim_in_other_units(self):
         text = swapped(("source: low-z", "source: low-z\nclaim: current below 5 mA"))
@@ -75,6 +77,18 @@ class TestClaims:
         with pytest.raises(SpecError, match=r"did you mean 'q1\.collector'") as err:
             checks_of(text)
         assert err.value.span.line == line_of(text, "q1.colector")
+
+    def test_a_custom_test_point_is_named_stage_dot_node(self):
+        # docs/claims-and-rules.md: a test point with no device is STAGE.NODE, the node as the
+        # guide writes it ('test-point: Q2 source = s' in stage buffer).
+        assert "buffer.s" in checks_of(BUFFER).values
+        assert "buffer.buffer-s" not in checks_of(BUFFER).values
+
+    def test_its_label_spelled_as_device_and_pin_suggests_the_node_name(self):
+        text = BUFFER.replace("test-point: Q2 source = s",
+                              "test-point: Q2 source = s\nclaim: buffer.q2.source below 8 V")
+        with pytest.raises(SpecError, match=r"did you mean 'buffer\.s'\?"):
+            checks_of(text)
 
     @pytest.mark.parametrize("line, words", [
         ("claim: gain.level-100 around 25 dB", "cannot read the claim"),

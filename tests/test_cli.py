@@ -52,7 +52,7 @@ def test_failed_build_keeps_the_previous_site(tmp_path, capsys):
     guides.mkdir()
     good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
     (guides / "a.md").write_text(good, encoding="utf-8")
-    out = tmp_path / "site"
+    out = tmp_path / "published"
     assert main(["build", str(guides), "-o", str(out)]) == 0
     before = {p: p.read_bytes() for p in out.rglob("*") if p.is_file()}
     (guides / "a.md").write_text(good.replace("R3 8k2", "R3 8q2"), encoding="utf-8")
@@ -100,7 +100,7 @@ def test_a_zero_kit_batch_is_a_clear_error(capsys):
                    "got 0"]
 
 
-def strict_guides(tmp_path: Path, findings: bool) -> Path:
+def findings_guides(tmp_path: Path, findings: bool) -> Path:
     """Two demo guides; with ``findings`` the first loses its ``allow:`` lines, so its two
     design-rule findings (input impedance, coupling corner) are no longer silenced."""
     guides = tmp_path / "guides"
@@ -132,48 +132,91 @@ def count_solves(monkeypatch) -> list[str]:
     return calls
 
 
-def test_strict_build_stops_at_a_finding_as_check_does(tmp_path, capsys, monkeypatch):
-    guides, out = strict_guides(tmp_path, findings=True), tmp_path / "site"
+def test_fail_on_findings_build_stops_at_a_finding_as_check_does(tmp_path, capsys, monkeypatch):
+    guides, out = findings_guides(tmp_path, findings=True), tmp_path / "published"
     assert main(["build", str(guides), "-o", str(out)]) == 0  # findings are warnings here
     before = {p: p.read_bytes() for p in out.rglob("*") if p.is_file()}
     capsys.readouterr()
     solves = count_solves(monkeypatch)
-    assert main(["build", str(guides), "-o", str(out), "--strict", "-j", "1", "--no-cache"]) == 1
+    assert main(["build", str(guides), "-o", str(out), "--fail-on-findings", "-j", "1",
+                 "--no-cache"]) == 1
     assert sorted(solves) == ["a.md", "b.md"]  # each guide solved once, by the build alone
     built = capsys.readouterr().err.strip().splitlines()
     assert {p: p.read_bytes() for p in out.rglob("*") if p.is_file()} == before
-    assert main(["check", str(guides), "--strict"]) == 1
+    assert main(["check", str(guides), "--fail-on-findings"]) == 1
     checked = capsys.readouterr().err.strip().splitlines()
     assert len(checked) == 2 and all(f"{guides / 'a.md'}:" in line for line in checked)
     assert built[:-1] == checked  # the same lines, in the same order
-    assert built[-1].startswith("kitleaf: 1 guide(s) failed (--strict")
+    assert built[-1].startswith("kitleaf: 1 guide(s) failed (--fail-on-findings")
     assert "the published site is untouched" in built[-1] and "Traceback" not in "".join(built)
 
 
-def test_strict_build_of_clean_guides_publishes_after_one_solve_each(tmp_path, capsys,
-                                                                    monkeypatch):
-    guides, out = strict_guides(tmp_path, findings=False), tmp_path / "site"
+def test_fail_on_findings_build_of_clean_guides_publishes_after_one_solve_each(
+        tmp_path, capsys, monkeypatch):
+    guides, out = findings_guides(tmp_path, findings=False), tmp_path / "published"
     solves = count_solves(monkeypatch)
-    assert main(["build", str(guides), "-o", str(out), "--strict", "-j", "1"]) == 0
+    assert main(["build", str(guides), "-o", str(out), "--fail-on-findings", "-j", "1"]) == 0
     assert sorted(solves) == ["a.md", "b.md"]
-    assert (out / "index.html").is_file() and (out / "manifest.json").is_file()
+    assert (out / "index.html").is_file() and (out / "kitleaf-manifest.json").is_file()
     assert "0 warning(s)" in capsys.readouterr().out
 
 
-def test_strict_build_lists_findings_beside_another_guides_error(tmp_path, capsys):
+def test_fail_on_findings_build_lists_findings_beside_another_guides_error(tmp_path, capsys):
     # b.md is broken, a.md has two findings: the build names all three, as check does
-    guides, out = strict_guides(tmp_path, findings=True), tmp_path / "site"
+    guides, out = findings_guides(tmp_path, findings=True), tmp_path / "published"
     broken = guides / "b.md"
     broken.write_text(broken.read_text().replace("kind: opamp-non-inverting",
                                                  "kind: no-such-kind"))
-    assert main(["build", str(guides), "-o", str(out), "--strict", "-j", "1"]) == 1
+    assert main(["build", str(guides), "-o", str(out), "--fail-on-findings", "-j", "1"]) == 1
     built = capsys.readouterr().err.strip().splitlines()
-    assert main(["check", str(guides), "--strict"]) == 1
+    assert main(["check", str(guides), "--fail-on-findings"]) == 1
     checked = capsys.readouterr().err.strip().splitlines()
     assert sum(f"{guides / 'a.md'}:" in line for line in built) == 2
     assert sum(f"{guides / 'b.md'}:" in line for line in built) == 1
     assert sorted(built[:-1]) == sorted(line for line in checked if line.startswith(str(guides)))
 
+
+def test_the_commands_and_flags_are_kitleafs_own(capsys):
+    with pytest.raises(SystemExit):
+        main(["--help"])
+    listed = capsys.readouterr().out
+    assert "proof" in listed and "serve" not in listed
+    for argv in (["serve"], ["check", "--strict"], ["build", "--strict"],
+                 ["proof", "--host", "0.0.0.0"]):
+        with pytest.raises(SystemExit) as stopped:
+            main(argv)
+        assert stopped.value.code == 2, argv  # argparse: no such command or option
+    capsys.readouterr()
+
+
+def test_build_publishes_into_published_by_default(tmp_path, capsys, monkeypatch):
+    (tmp_path / "guides").mkdir()
+    (tmp_path / "guides" / "a.md").write_bytes((DEMO / "brookside-boost.md").read_bytes())
+    monkeypatch.chdir(tmp_path)
+    assert main(["build"]) == 0
+    assert (tmp_path / "published" / "index.html").is_file()
+    assert (tmp_path / "published" / "kitleaf-manifest.json").is_file()
+    assert not (tmp_path / "site").exists()
+    assert "into published/" in capsys.readouterr().out
+
+
+def test_a_long_word_is_cut_in_the_error_line(tmp_path, capsys):
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    path = tmp_path / "long.md"
+    path.write_text(good.replace("R3 8k2", "R3 8k2 " + "x" * 200_000), encoding="utf-8")
+    assert main(["check", str(path)]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith(f"{path}:")
+    assert len(err[0]) < 400 and "x…[2000" in err[0]
+
+
+def test_a_knob_named_with_accents_keeps_its_letters_in_names(tmp_path, capsys):
+    # The Brookside's prose shows {=kit.gain.level-100}: with the knob spelt 'Lével' the name
+    # is still 'level', not 'l-vel'.
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    path = tmp_path / "accent.md"
+    path.write_text(good.replace("knob: Level = VR1", "knob: Lével = VR1"), encoding="utf-8")
+    assert main(["check", str(path)]) == 0, capsys.readouterr().err
 
 def test_commands_run_blas_on_one_thread(tmp_path, monkeypatch):
     # BLAS helper threads only wait on one another on the engine's matrices (measured: a

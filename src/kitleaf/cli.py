@@ -1,4 +1,4 @@
-"""The command line: build, check, new, serve, specs and bom; every user error is one line."""
+"""The command line: build, check, new, proof, specs and bom; every user error is one line."""
 
 from __future__ import annotations
 
@@ -35,20 +35,23 @@ def parser() -> argparse.ArgumentParser:
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
     b = sub.add_parser("build", help="build the static site from a folder of guides")
     b.add_argument("guides", nargs="?", default="guides", type=Path)
-    b.add_argument("-o", "--out", default="site", type=Path, help="output folder (site/)")
-    b.add_argument("--strict", action="store_true", help="treat design-rule warnings as errors")
+    b.add_argument("-o", "--out", default="published", type=Path,
+                   help="output folder (published/)")
+    b.add_argument("--fail-on-findings", action="store_true",
+                   help="a design-rule finding fails its guide, and nothing is published")
     _add_build_options(b)
     c = sub.add_parser("check", help="parse and solve every guide without rendering")
     c.add_argument("guides", nargs="?", default="guides", type=Path)
-    c.add_argument("--strict", action="store_true", help="treat design-rule warnings as errors")
+    c.add_argument("--fail-on-findings", action="store_true",
+                   help="a design-rule finding fails its guide (exit code 1)")
     n = sub.add_parser("new", help="write a ready-to-edit guide")
     n.add_argument("name")
     n.add_argument("--dir", default="guides", type=Path, help="folder to write into (guides/)")
-    s = sub.add_parser("serve", help="build, serve on 127.0.0.1 and rebuild on change")
+    s = sub.add_parser("proof", help="build, show the site on 127.0.0.1 and rebuild on change")
     s.add_argument("guides", nargs="?", default="guides", type=Path)
-    s.add_argument("-o", "--out", default="site", type=Path)
+    s.add_argument("-o", "--out", default="published", type=Path)
     s.add_argument("--port", default=8400, type=int)
-    s.add_argument("--host", default="127.0.0.1", help="address to listen on (127.0.0.1)")
+    s.add_argument("--address", default="127.0.0.1", help="address to listen on (127.0.0.1)")
     _add_build_options(s)
     sp = sub.add_parser("specs", help="print a guide's computed specs")
     sp.add_argument("file", type=Path)

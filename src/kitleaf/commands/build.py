@@ -1,7 +1,7 @@
 """``kitleaf build``: the whole site, written only if every guide succeeds, then a summary.
 
-With ``--strict`` a design-rule finding fails its guide too, printed as ``kitleaf check
---strict`` prints it; the findings come from the build's own solve of each guide.
+With ``--fail-on-findings`` a design-rule finding fails its guide too, printed as ``kitleaf
+check --fail-on-findings`` prints it; the findings come from the build's own solve of each guide.
 """
 
 from __future__ import annotations
@@ -14,10 +14,10 @@ from kitleaf.site.changes import summary_lines
 from kitleaf.site.manifest import MANIFEST_NAME
 
 
-def report_failure(failed: BuildFailed, strict: bool = False) -> int:
+def report_failure(failed: BuildFailed, fail_on_findings: bool = False) -> int:
     for error in failed.errors:
         print(error, file=sys.stderr)
-    why = " (--strict: design-rule findings count as errors)" if strict else ""
+    why = " (--fail-on-findings: design-rule findings count as errors)" * fail_on_findings
     print(f"kitleaf: {len(failed.errors)} guide(s) failed{why}; the published site is untouched",
           file=sys.stderr)
     return 1
@@ -54,10 +54,10 @@ def warning_line(warning: str) -> str:
 
 def build_options(args) -> dict:
     """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``,
-    ``--strict``)."""
+    ``--fail-on-findings``)."""
     return {"jobs": getattr(args, "jobs", None),
             "use_cache": not getattr(args, "no_cache", False),
-            "strict": getattr(args, "strict", False)}
+            "fail_on_findings": getattr(args, "fail_on_findings", False)}
 
 
 @command("build")
@@ -66,6 +66,6 @@ def run(args) -> int:
     try:
         report = build_site(args.guides, args.out, **options)
     except BuildFailed as failed:
-        return report_failure(failed, options["strict"])
+        return report_failure(failed, options["fail_on_findings"])
     print_report(report, args.out)
     return 0

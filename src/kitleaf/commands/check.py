@@ -1,7 +1,7 @@
 """``kitleaf check``: parse, solve and verify every guide without rendering; exit 1 if any fails.
 
 Claims and names in the prose are checked; design-rule findings print as warnings (errors with
-``--strict``), each on one line ``path:line: warning: message [rule]``.
+``--fail-on-findings``), each on one line ``path:line: warning: message [rule]``.
 """
 
 from __future__ import annotations
@@ -27,11 +27,11 @@ def check_guide(path) -> Checks:
     return checks
 
 
-def report(checks: Checks, strict: bool) -> int:
+def report(checks: Checks, fail_on_findings: bool) -> int:
     """Print the unsilenced findings; the number that count as errors."""
     for finding in checks.warnings:
-        print(finding.as_error() if strict else finding.line(), file=sys.stderr)
-    return len(checks.warnings) if strict else 0
+        print(finding.as_error() if fail_on_findings else finding.line(), file=sys.stderr)
+    return len(checks.warnings) if fail_on_findings else 0
 
 
 @command("check")
@@ -40,7 +40,7 @@ def run(args) -> int:
     guides = find_guides(args.guides)
     for path in guides:
         try:
-            failed += report(check_guide(path), getattr(args, "strict", False)) > 0
+            failed += report(check_guide(path), getattr(args, "fail_on_findings", False)) > 0
         except KitleafError as exc:
             failed += 1
             print(exc, file=sys.stderr)

@@ -16,6 +16,7 @@ import numpy as np
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.ac import small_signal
+from kitleaf.engine.batch_lu import solve_many
 from kitleaf.engine.compile import Layout, System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
@@ -80,6 +81,20 @@ class BatchResult:
         shape = (self.size, *g.shape[1:])
         return np.broadcast_to(g, shape).copy(), np.broadcast_to(c, shape).copy()
 
+    def dc_resistance(self, pairs: list[tuple[str, str]], samples: np.ndarray) -> np.ndarray:
+        """The small-signal DC resistance (k, pairs) between each pair of nodes of the
+        chosen ``samples`` (k,), with every source at rest: what a meter across them sees."""
+        problem = self.problem.take(samples)
+        factors = None if self.factors is None else self.factors[samples]
+        g, _, _, _ = small_signal(self.system, problem.devices, self.x[samples], factors)
+        rhs = np.zeros((samples.size, self.layout.size, len(pairs)))
+        for k, (a, b) in enumerate(pairs):
+            for node, sign in ((a, 1.0), (b, -1.0)):
+                if (row := self.row(node)) is not None:
+                    rhs[:, row, k] += sign
+        v = solve_many(np.broadcast_to(g, (samples.size, *g.shape[1:])).copy(), rhs)
+        return np.einsum("snk,snk->sk", rhs, v)
+
     def solve_ac(self, freqs, rhs: np.ndarray, opened: str | None = None,
                  samples: np.ndarray | None = None) -> np.ndarray:
         """Complex unknowns (samples, F, n) by direct solve; ``freqs`` (F,) or (samples, F).
@@ -127,9 +142,12 @@ class BatchResult:
 
 def solve_batch(circuit, samples: int | None = None, seed: int = 1,
                 distribution: str = "uniform", start: np.ndarray | None = None,
-                nominal: BatchResult | None = None) -> BatchResult:
+                nominal: BatchResult | None = None, scale: np.ndarray | None = None,
+                spread: bool = True) -> BatchResult:
     """The circuit's nominal operating point (``samples`` None: a batch of one) or
-    ``samples`` seeded variants within part tolerances and device spreads.
+    ``samples`` seeded variants within part tolerances and device spreads; ``scale``
+    (samples, elements) multiplies each sample's drawn part values (1 leaves a part alone),
+    and without ``spread`` the samples are the nominal parts changed by ``scale`` alone.
 
     Newton starts every sample at the nominal operating point, or at ``start`` (samples, n):
     the same samples solved in a nearby state (another knob position, say). ``nominal`` is
@@ -144,7 +162,10 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
         if distribution not in DISTRIBUTIONS or samples < 1:
             raise SolveError(f"a batch needs samples >= 1 and a distribution in "
                              f"{DISTRIBUTIONS}")
-        problem, factors, _ = draw_problem(system, samples, seed, distribution)
+        if scale is not None and scale.shape != (samples, len(system.elements)):
+            raise SolveError(f"scale must be (samples, elements) = ({samples}, "
+                             f"{len(system.elements)}), got {scale.shape}")
+        problem, factors, _ = draw_problem(system, samples, seed, distribution, scale, spread)
         state = _started(system, problem, samples, start, nominal)
         solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),

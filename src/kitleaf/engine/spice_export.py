@@ -7,8 +7,10 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from kitleaf.engine import elements as el
-from kitleaf.engine.devices.opamp import H_MIN, R1
-from kitleaf.engine.models import DeviceModel
+from kitleaf.engine.devices.base import VT
+from kitleaf.engine.devices.bjt import EBO_AMPS
+from kitleaf.engine.devices.opamp import H_FLOOR, H_MIN, IQ_FADE, R1, SUB_KNEE, SUB_R
+from kitleaf.engine.models import NON_SPICE, DeviceModel
 
 _SPICE_KIND = {"diode": "D", "npn": "NPN", "pnp": "PNP", "njf": "NJF", "pjf": "PJF"}
 
@@ -39,7 +41,7 @@ class _Writer:
     def __init__(self, nodes: dict[str, str]) -> None:
         self.nodes, self.lines, self.cards = nodes, [], []
         self.parts: dict[str, str] = {}
-        self.models: dict[int, str] = {}
+        self.models: dict[int | str, str] = {}
 
     def n(self, node: str) -> str:
         return "0" if node == el.GROUND else self.nodes[node]
@@ -49,6 +51,14 @@ class _Writer:
         self.parts[part] = name
         self.lines.append(f"{name} {' '.join(self.n(x) for x in nodes)} {rest}")
         return name
+
+    def model_text(self, body: str) -> str:
+        """A model card given as text (one per distinct text)."""
+        if body not in self.models:
+            name = f"m{len(self.models) + 1}"
+            self.models[body] = name
+            self.cards.append(f".model {name} {body}")
+        return self.models[body]
 
     def model(self, model: DeviceModel, card: Callable[[str, DeviceModel], list[str]]) -> str:
         if id(model) not in self.models:
@@ -64,16 +74,22 @@ def _num(x: float) -> str:
 
 def _model_card(name: str, model: DeviceModel) -> list[str]:
     params = " ".join(f"{k}={_num(v)}" for k, v in sorted(model.params.items())
-                      if math.isfinite(v))
+                      if math.isfinite(v) and k not in NON_SPICE)
     return [f".model {name} {_SPICE_KIND[model.kind]}({params})"]
 
 
 def _opamp_card(name: str, model: DeviceModel) -> list[str]:
-    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit with a B source."""
+    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit with B sources."""
     p = model.get
-    vhi, vlo = f"(v(vpos)-{_num(p('SWING_HI'))})", f"(v(vneg)+{_num(p('SWING_LO'))})"
-    mid, half = f"(({vhi}+{vlo})/2)", f"max(({vhi}-{vlo})/2,{_num(H_MIN)})"
+    vs = "(v(vpos)-v(vneg))"
+    working = p("SWING_HI") + p("SWING_LO") + 2.0 * H_MIN
+    rho = f"min(max({vs}/{_num(working)},0),1)"
+    mid = f"((v(vpos)+v(vneg))/2+{_num((p('SWING_LO') - p('SWING_HI')) / 2)}*{rho})"
+    h_raw = f"({vs}-{_num(p('SWING_HI') + p('SWING_LO'))})/2"
+    half = f"max(max({h_raw},{_num(H_MIN)}*{rho}),{_num(H_FLOOR)})"
     f = f"({mid}+{half}*tanh((v(x)-{mid})/{half}))"
+    z = f"((-{vs}-{_num(SUB_KNEE)})/{_num(VT)})"
+    substrate = f"{_num(VT / SUB_R)}*(max({z},0)+ln(1+exp(-abs({z}))))"
     cap = 1.0 / (2 * math.pi * p("GBW") / p("AOL") * R1)
     return [
         f".subckt {name} inp inn out vpos vneg",
@@ -84,7 +100,7 @@ def _opamp_card(name: str, model: DeviceModel) -> list[str]:
         f"c1 x vneg {_num(cap)}",
         f"b1 0 out i={f}/{_num(p('ROUT'))}",
         f"rout out 0 {_num(p('ROUT'))}",
-        f"iq vpos vneg dc {_num(p('IQ'))}",
+        f"bq vpos vneg i={_num(p('IQ'))}*tanh({vs}/{_num(IQ_FADE)})-{substrate}",
         f"ibp inp vneg dc {_num(p('IB'))}",
         f"ibn inn vneg dc {_num(p('IB'))}",
         ".ends",
@@ -115,6 +131,17 @@ def _device(prefix: str, pins: tuple[str, ...]):
     return write
 
 
+def _bjt(w: _Writer, e: el.Bjt) -> None:
+    """The transistor, and its emitter-base breakdown as a diode of negligible forward
+    current whose SPICE breakdown is the engine's (-IBV exp(-(v + BV) / VT))."""
+    w.line("q", e.name, (e.c, e.b, e.e), w.model(e.model, _model_card))
+    bv = e.model.get("BVEBO")
+    if math.isfinite(bv):
+        pins = (e.b, e.e) if e.model.kind == "npn" else (e.e, e.b)
+        card = f"IS=1e-30 N=1 BV={_num(bv)} IBV={_num(EBO_AMPS)}"
+        w.line("d", e.name + ":ebo", pins, w.model_text(f"D({card})"))
+
+
 def _opamp(w: _Writer, e: el.OpAmp) -> None:
     pins = (e.inp, e.inn, e.out, e.vpos, e.vneg)
     w.line("x", e.name, pins, w.model(e.model, _opamp_card))
@@ -123,6 +150,6 @@ def _opamp(w: _Writer, e: el.OpAmp) -> None:
 _WRITERS = {
     el.Resistor: _passive("r"), el.Capacitor: _passive("c"), el.Inductor: _passive("l"),
     el.Pot: _pot, el.VSource: _source("v"), el.ISource: _source("i"),
-    el.Diode: _device("d", ("a", "k")), el.Bjt: _device("q", ("c", "b", "e")),
+    el.Diode: _device("d", ("a", "k")), el.Bjt: _bjt,
     el.Jfet: _device("j", ("d", "g", "s")), el.OpAmp: _opamp,
 }

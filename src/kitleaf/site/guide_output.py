@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import functools
 from pathlib import Path
+from urllib.parse import quote
 
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
-from kitleaf.bom.stresses import part_stresses
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.guide import parse_guide
@@ -19,8 +19,10 @@ from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
 from kitleaf.render.plot import ResponsePlot, render_response_svg
+from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import render_overview_svg, render_stage_svg
+from kitleaf.render.summary import headline, stage_headline
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
@@ -28,8 +30,6 @@ from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.model import KitSpecs
-from kitleaf.specs.plots import kit_plot, stage_plot
-from kitleaf.specs.summary import headline, stage_headline
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:
@@ -50,13 +50,13 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
         "checks": checks,
-        "bom": rating_warnings(bom_lines(kit.parts()), part_stresses(kit)),
+        "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
-                headline(specs), f"{slug}/index.html")
+                headline(specs), quote(f"{slug}/index.html"))  # a relative URL, encoded
     record = guide_record(Path(path).name, kit.parts(), specs)
     return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings)
 
@@ -107,7 +107,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
 @functools.lru_cache(maxsize=4)
 def theme_environment(themes: tuple[Path, ...]):
     """One Jinja environment per process and theme: templates compile once per worker, not
-    once per guide, and Jinja still reloads a template whose file changed (``kitleaf serve``)."""
+    once per guide, and Jinja still reloads a template whose file changed (``kitleaf proof``)."""
     return make_environment(list(themes))
 
 

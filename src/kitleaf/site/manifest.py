@@ -1,6 +1,6 @@
 """The build manifest: each guide's parts and computed specs, kept in the output as JSON.
 
-``manifest.json`` (schema ``kitleaf-manifest/1``) is what the next build compares against to
+``kitleaf-manifest.json`` (schema ``kitleaf-manifest/1``) is what the next build compares against to
 report which parts changed value and which specs moved. It holds no timestamps and sorts its
 keys, so an unchanged site gives an unchanged manifest.
 """
@@ -16,7 +16,7 @@ from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.model import KitSpecs
 
 SCHEMA = "kitleaf-manifest/1"
-MANIFEST_NAME = "manifest.json"
+MANIFEST_NAME = "kitleaf-manifest.json"
 
 
 def part_record(part: Part) -> dict[str, Any]:

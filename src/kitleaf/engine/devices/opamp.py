@@ -5,8 +5,11 @@ loaded by R1 || C1 to the negative rail (DC gain AOL, pole at GBW/AOL) and offse
 at mid-supply for zero input; the output is a
 Thevenin source f(x) behind ROUT, where f = vmid + h * tanh((x - vmid) / h) swings softly
 between vneg + SWING_LO and vpos - SWING_HI (vmid their middle, h half their distance), so
-clipping follows the op-amp's own rails; IQ flows from vpos to vneg, and IB into each input
-and on to vneg (negative: out of the input, as from a PNP input pair).
+clipping follows the op-amp's own rails. Below a working supply that window shrinks toward the
+middle of the rails, so the output never leaves them when the supply collapses or reverses.
+The supply pins draw IQ tanh(vs / IQ_FADE) (vs = vpos - vneg: the quiescent current fades
+below a volt or two) and, reversed, the chip's substrate diode conducts from vneg to vpos; IB
+flows into each input and on to vneg (negative: out of the input, as from a PNP input pair).
 """
 
 from __future__ import annotations
@@ -17,35 +20,66 @@ import numpy as np
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices import Family, register_family
-from kitleaf.engine.devices.base import Bank, internal, param_arrays
+from kitleaf.engine.devices.base import VT, Bank, internal, param_arrays
 from kitleaf.engine.models import DEFAULTS
 
 KEYS = tuple(DEFAULTS["opamp"])
 R1 = 1e3  # ohms; sets the scale of the internal node, which carries AOL * (v+ - v-)
-H_MIN = 0.1  # volts; floor of the half-swing while the rails are still coming up
+H_MIN = 0.1  # volts; half-swing at the smallest supply that still reaches it
+H_FLOOR = 1e-3  # volts; half-swing of a chip with no supply or a reversed one
+IQ_FADE = 1.0  # volts of supply over which the quiescent current fades in (tanh scale)
+SUB_KNEE = 0.6  # volts; a reversed supply's substrate diode turns on here
+SUB_R = 10.0  # ohms; the chip's resistance to a reversed supply once that diode conducts
 LINEAR_U = 2.0  # |(x - vmid) / h| beyond this the output reports saturated
 DEEP_U = 20.0  # beyond this tanh is flat to double precision
 
 
-def _window(vpos, vneg, p) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """The middle of the output's range, its half-width and that half-width floored."""
-    vhi, vlo = vpos - p("SWING_HI"), vneg + p("SWING_LO")
-    h_raw = (vhi - vlo) / 2.0
-    return (vhi + vlo) / 2.0, h_raw, np.maximum(h_raw, H_MIN)
+def _window(vpos, vneg, p) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """The middle of the output's range and its half-width, with their slopes on the supply
+    vs = vpos - vneg (each also moves half with either rail through the rails' middle).
+
+    Normally the range is the rails less SWING_LO and SWING_HI; below the working supply
+    (both margins plus 2 H_MIN) it shrinks in proportion toward the middle of the rails, and a
+    dead or reversed chip's output sits there, H_FLOOR wide."""
+    vs = vpos - vneg
+    skew = (p("SWING_LO") - p("SWING_HI")) / 2.0
+    working = p("SWING_HI") + p("SWING_LO") + 2.0 * H_MIN
+    rho = np.clip(vs / working, 0.0, 1.0)
+    d_rho = np.where((vs > 0.0) & (vs < working), 1.0 / working, 0.0)
+    h_raw = (vs - p("SWING_HI") - p("SWING_LO")) / 2.0
+    h = np.maximum(np.maximum(h_raw, H_MIN * rho), H_FLOOR)
+    d_h = np.where(h_raw >= np.maximum(H_MIN * rho, H_FLOOR), 0.5,
+                   np.where(H_MIN * rho > H_FLOOR, H_MIN * d_rho, 0.0))
+    return (vpos + vneg) / 2.0 + skew * rho, h, skew * d_rho, d_h
 
 
 def swing(x, vpos, vneg, p) -> tuple[np.ndarray, ...]:
     """(f, df/dx, df/dvpos, df/dvneg, u): the soft-limited output and its partials."""
-    vmid, h_raw, h = _window(vpos, vneg, p)
+    vmid, h, d_mid, d_h = _window(vpos, vneg, p)
     u = (x - vmid) / h
     t = np.tanh(u)
     s = 1.0 - t * t
-    d_h = np.where(h_raw > H_MIN, t - u * s, 0.0) / 2.0
-    return vmid + h * t, s, (1.0 - s) / 2.0 + d_h, (1.0 - s) / 2.0 - d_h, u
+    on_mid, on_h = 1.0 - s, t - u * s  # df/dvmid and df/dh
+    return (vmid + h * t, s, (0.5 + d_mid) * on_mid + d_h * on_h,
+            (0.5 - d_mid) * on_mid - d_h * on_h, u)
+
+
+def supply_current(vpos, vneg, p) -> tuple[np.ndarray, np.ndarray]:
+    """The current from vpos into vneg and its slope on vs: the quiescent current, fading
+    below a volt or two of supply, less a reversed supply's substrate diode (a softplus: an
+    exponential below SUB_KNEE, SUB_R beyond it)."""
+    vs = vpos - vneg
+    fade = np.tanh(vs / IQ_FADE)
+    z = (-vs - SUB_KNEE) / VT
+    soft = np.maximum(z, 0.0) + np.log1p(np.exp(-np.abs(z)))
+    sigmoid = np.exp(np.minimum(z, 0.0)) / (1.0 + np.exp(-np.abs(z)))
+    current = p("IQ") * fade - VT / SUB_R * soft
+    return current, p("IQ") * (1.0 - fade * fade) / IQ_FADE + sigmoid / SUB_R
 
 
 class OpAmpBank(Bank):
-    """Junctions (x, vpos, vneg) against ground; one current, ground -> out, f / ROUT."""
+    """Junctions (x, vpos, vneg) against ground; currents ground -> out (f / ROUT) and
+    vpos -> vneg (the supply pins')."""
 
     def initial(self) -> np.ndarray:
         zero = np.zeros_like(self.p("AOL"))
@@ -54,8 +88,9 @@ class OpAmpBank(Bank):
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
         """Keep Newton off the flat of the tanh: outside |u| < 1 the evaluation point moves
         at most one unit of u per step, except that once saturated (|u| >= 2) it may double
-        its distance per step on the same side, and is free when deep (|u| > 20)."""
-        vmid, _, h = _window(vnew[:, 1], vnew[:, 2], self.p)
+        its distance per step on the same side, is free when deep (|u| > 20), and a step deep
+        onto the other side lands at its saturation (|u| = 2)."""
+        vmid, h, _, _ = _window(vnew[:, 1], vnew[:, 2], self.p)
         u_new, u_old = (vnew[:, 0] - vmid) / h, (vold[:, 0] - vmid) / h
         if np.all(np.abs(u_new) <= 1.0):  # the usual case: nothing to limit
             return vnew
@@ -63,6 +98,10 @@ class OpAmpBank(Bank):
         saturated = (np.sign(u_new) == np.sign(u_old)) & (np.abs(u_old) >= LINEAR_U)
         reach = np.where(np.abs(u_old) > DEEP_U, np.inf, 2.0 * np.abs(u_old))
         doubled = np.sign(u_new) * np.minimum(np.abs(u_new), reach)
+        # from one flat deep onto the other (a supply that collapsed or reversed shrinks the
+        # window a hundredfold): land where the other side saturates and double from there
+        across = (np.sign(u_new) != np.sign(u_old)) & (np.abs(u_new) > DEEP_U)
+        stepped = np.where(across, np.sign(u_new) * LINEAR_U, stepped)
         u = np.where(np.abs(u_new) <= 1.0, u_new, np.where(saturated, doubled, stepped))
         out = vnew.copy()
         out[:, 0] = np.where(u == u_new, vnew[:, 0], vmid + u * h)
@@ -71,8 +110,11 @@ class OpAmpBank(Bank):
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         f, d_x, d_pos, d_neg, _ = swing(v[:, 0], v[:, 1], v[:, 2], self.p)
         g = 1.0 / self.p("ROUT")
-        slope = np.stack([d_x * g, d_pos * g, d_neg * g], axis=1)[:, None]
-        return (f * g)[:, None], slope
+        i_s, g_s = supply_current(v[:, 1], v[:, 2], self.p)
+        zero = np.zeros_like(g_s)
+        slope = np.stack([np.stack([d_x * g, d_pos * g, d_neg * g], axis=1),
+                          np.stack([zero, g_s, -g_s], axis=1)], axis=1)
+        return np.stack([f * g, i_s], axis=1), slope
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:
         return np.zeros((v.shape[0], 0, v.shape[2]))
@@ -97,7 +139,7 @@ def _internal_nodes(u: el.OpAmp) -> tuple[str, ...]:
 
 
 def _stamp_linear(u: el.OpAmp, st) -> int:
-    """Input resistance, gain stage, quiescent and input bias currents; returns the row of x."""
+    """Input resistance, gain stage and input bias currents; returns the row of x."""
     row, m = st.layout.row, u.model
     x, vneg = row(internal(u.name, "x")), row(u.vneg)
     st.conductance(None, row(u.inp), row(u.inn), 1.0 / m.get("RIN"))
@@ -108,7 +150,6 @@ def _stamp_linear(u: el.OpAmp, st) -> int:
     pole = m.get("GBW") / m.get("AOL")
     st.capacitance(None, x, vneg, 1.0 / (2.0 * math.pi * pole * R1))
     st.conductance(None, row(u.out), row(el.GROUND), 1.0 / m.get("ROUT"))
-    st.source(internal(u.name, "iq"), ((row(u.vpos), -1.0), (vneg, 1.0)), m.get("IQ"))
     for pin in ("inp", "inn"):  # each input's bias current, drawn through what biases it
         st.source(internal(u.name, f"ib-{pin}"), ((row(getattr(u, pin)), -1.0), (vneg, 1.0)),
                   m.get("IB"))
@@ -125,7 +166,8 @@ def _build(parts: list[el.OpAmp], st) -> OpAmpBank:
     return OpAmpBank(names=tuple(u.name for u in parts), polarity=np.ones(len(parts)),
                      params=param_arrays([u.model for u in parts], KEYS),
                      jp=np.stack([x, vpos, vneg]), jn=np.stack([ground] * 3),
-                     src=ground[None].copy(), dst=np.array([[row(u.out) for u in parts]]),
+                     src=np.stack([ground, vpos]),
+                     dst=np.stack([np.array([row(u.out) for u in parts]), vneg]),
                      cap_a=np.zeros((0, len(parts)), int), cap_b=np.zeros((0, len(parts)), int),
                      ext=ext)
 

@@ -1,4 +1,4 @@
-"""``kitleaf serve``: build, serve on 127.0.0.1, rebuild and reload pages when a source changes."""
+"""``kitleaf proof``: build, show the site on 127.0.0.1, rebuild and reload pages on each change."""
 
 from __future__ import annotations
 
@@ -15,7 +15,7 @@ from kitleaf.site.discover import site_root_for
 from kitleaf.site.live import LOOPBACK, LiveState, make_server, start
 
 # Folders beside guides/ whose files change what a build makes.
-WATCHED_SIBLINGS = ("themes", "models")
+WATCHED_SIBLINGS = ("themes",)
 
 
 def rebuild(args, state: LiveState) -> None:
@@ -33,7 +33,7 @@ def rebuild(args, state: LiveState) -> None:
 
 
 def watched_paths(guides: Path) -> list[Path]:
-    """The guides, and the site's own themes and models where it has them."""
+    """The guides, and the site's own themes where it has them."""
     root = site_root_for(guides)
     return [guides] + [root / name for name in WATCHED_SIBLINGS if (root / name).is_dir()]
 
@@ -49,14 +49,14 @@ def ignores(out: Path):
     return wanted
 
 
-@command("serve")
+@command("proof")
 def run(args, stop: threading.Event | None = None) -> int:
     from watchfiles import watch
 
     state = LiveState()
     rebuild(args, state)
     args.out.mkdir(parents=True, exist_ok=True)
-    server = make_server(args.out.resolve(), state, getattr(args, "host", LOOPBACK), args.port)
+    server = make_server(args.out.resolve(), state, getattr(args, "address", LOOPBACK), args.port)
     start(server)
     host, port = server.server_address[:2]
     print(f"serving {args.out}/ on http://{host}:{port}/ (Ctrl-C stops)", flush=True)
