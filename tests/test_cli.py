@@ -78,7 +78,10 @@ def test_new_guide_checks_clean(tmp_path, capsys):
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 0
     written = tmp_path / "moss-drive.md"
     assert written.is_file()
-    assert main(["check", str(written)]) == 0
+    capsys.readouterr()
+    assert main(["check", str(written), "--fail-on-findings"]) == 0  # no finding to silence
+    assert capsys.readouterr().err == ""
+    assert "allow:" not in written.read_text(encoding="utf-8")
     assert main(["new", "Moss Drive", "--dir", str(tmp_path)]) == 1
 
 
@@ -217,6 +220,19 @@ def test_a_knob_named_with_accents_keeps_its_letters_in_names(tmp_path, capsys):
     path = tmp_path / "accent.md"
     path.write_text(good.replace("knob: Level = VR1", "knob: Lével = VR1"), encoding="utf-8")
     assert main(["check", str(path)]) == 0, capsys.readouterr().err
+
+@pytest.mark.parametrize("argv", [["build", "nosuch"], ["check", "nosuch"]])
+def test_a_missing_folder_is_named_without_a_line(argv, tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    assert main(argv) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err == ["nosuch: error: no such folder or guide: nosuch; give a folder of .md guides"]
+
+
+def test_an_empty_folder_is_named_without_a_line(tmp_path, capsys):
+    assert main(["check", str(tmp_path)]) == 1
+    assert capsys.readouterr().err.startswith(f"{tmp_path}: error: no guides (*.md) in")
+
 
 def test_commands_run_blas_on_one_thread(tmp_path, monkeypatch):
     # BLAS helper threads only wait on one another on the engine's matrices (measured: a

@@ -43,7 +43,7 @@ def test_unchanged_site_is_not_touched(site: Path):
     result = publish(site, dict(SITE))
     assert not result.touched
     assert snapshot(site) == before
-    assert sorted(p.name for p in site.parent.iterdir()) == [".published.lock", "published"]
+    assert sorted(p.name for p in site.parent.iterdir()) == ["published"]  # no lock file
 
 
 def test_one_changed_file_is_the_only_one_rewritten(site: Path):
@@ -101,3 +101,17 @@ def test_two_rename_fallback_swaps_too(site: Path, monkeypatch):
     assert after["index.html"][0] == b"<p>new</p>\n"
     assert after["a/one.svg"] == before["a/one.svg"]
     assert not list(site.parent.glob(".published.old-*"))
+
+
+@pytest.mark.parametrize("umask", [0o022, 0o027])
+def test_published_folders_and_files_take_the_umask_mode(tmp_path: Path, umask: int):
+    old = os.umask(umask)
+    try:
+        out = tmp_path / "published"
+        publish(out, SITE)
+        publish(out, {**SITE, "index.html": b"<p>again</p>\n"})  # the swapped-in staging
+    finally:
+        os.umask(old)
+    for path in [out, *out.rglob("*")]:
+        wanted = (0o777 if path.is_dir() else 0o666) & ~umask
+        assert path.stat().st_mode & 0o777 == wanted, path

@@ -6,12 +6,19 @@ check --fail-on-findings`` prints it; the findings come from the build's own sol
 
 from __future__ import annotations
 
+import argparse
 import sys
 
 from kitleaf.cli import command
+from kitleaf.commands.options import add_build_options, add_fail_on_findings, whole_at_least_one
 from kitleaf.site.build import BuildFailed, BuildReport, build_site
 from kitleaf.site.changes import summary_lines
 from kitleaf.site.manifest import MANIFEST_NAME
+
+
+def add_options(p: argparse.ArgumentParser) -> None:
+    add_build_options(p)
+    add_fail_on_findings(p, "nothing is published while one stands")
 
 
 def report_failure(failed: BuildFailed, fail_on_findings: bool = False) -> int:
@@ -55,12 +62,12 @@ def warning_line(warning: str) -> str:
 def build_options(args) -> dict:
     """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``,
     ``--fail-on-findings``)."""
-    return {"jobs": getattr(args, "jobs", None),
+    return {"jobs": whole_at_least_one(getattr(args, "jobs", None), "--jobs"),
             "use_cache": not getattr(args, "no_cache", False),
             "fail_on_findings": getattr(args, "fail_on_findings", False)}
 
 
-@command("build")
+@command("build", add_options)
 def run(args) -> int:
     options = build_options(args)
     try:

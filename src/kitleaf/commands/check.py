@@ -6,10 +6,12 @@ Claims and names in the prose are checked; design-rule findings print as warning
 
 from __future__ import annotations
 
+import argparse
 import sys
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.cli import command
+from kitleaf.commands.options import add_fail_on_findings, add_guides
 from kitleaf.errors import KitleafError
 from kitleaf.guide import parse_guide
 from kitleaf.render.inline import prose_env
@@ -17,6 +19,11 @@ from kitleaf.render.prose import render_prose
 from kitleaf.site.discover import find_guides
 from kitleaf.specs.claims import Checks, verify
 from kitleaf.specs.derive import derive_specs
+
+
+def add_options(p: argparse.ArgumentParser) -> None:
+    add_guides(p)
+    add_fail_on_findings(p, "it is printed as an error, and the exit code is 1")
 
 
 def check_guide(path) -> Checks:
@@ -34,7 +41,7 @@ def report(checks: Checks, fail_on_findings: bool) -> int:
     return len(checks.warnings) if fail_on_findings else 0
 
 
-@command("check")
+@command("check", add_options)
 def run(args) -> int:
     failed = 0
     guides = find_guides(args.guides)

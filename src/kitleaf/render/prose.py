@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable
 from dataclasses import dataclass
+from urllib.parse import unquote
 
 from markdown_it import MarkdownIt
 
@@ -15,6 +16,13 @@ from kitleaf.guide.parse import markdown_parser
 PLUGINS: dict[str, Callable[[MarkdownIt], None]] = {}
 # NUL cannot come from guide text (CommonMark replaces it), so these markers are safe to split on.
 _MARK = re.compile("\x00(kit|stage):([a-z0-9-]*)\x00")
+# The URL schemes a link or image in prose may name; a link to any other (javascript:, data:,
+# vbscript:, file:) stays plain text. A URL without a scheme is a path from the page.
+LINK_SCHEMES = frozenset({"http", "https", "mailto"})
+_SCHEME = re.compile(r"([a-z][a-z0-9+.-]*):", re.IGNORECASE)
+# What a browser drops from a URL before it reads the scheme ("java\tscript:" is javascript:);
+# judged after percent-decoding too, so no encoding of it passes as a path.
+_IGNORED_IN_URL = re.compile(r"[\x00-\x20\x7f]")
 
 
 @dataclass(frozen=True)
@@ -37,10 +45,17 @@ def prose_renderer() -> MarkdownIt:
         return default_fence(tokens, idx, options, env)
 
     md.add_render_rule("fence", fence)
+    md.validateLink = safe_link
     _load_plugins()
     for plugin in PLUGINS.values():
         md.use(plugin)
     return md
+
+
+def safe_link(url: str) -> bool:
+    """Whether prose may link to ``url``: a path from the page, or a web or mail address."""
+    scheme = _SCHEME.match(_IGNORED_IN_URL.sub("", unquote(url)))
+    return scheme is None or scheme[1].lower() in LINK_SCHEMES
 
 
 def _load_plugins() -> None:

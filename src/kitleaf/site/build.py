@@ -142,7 +142,7 @@ def check_slugs(paths: list[Path], outputs: list) -> None:
         slug = output.card.slug
         if slug in seen:
             raise BuildError(f"{path.name} and {seen[slug].name} both make the pages '{slug}/'; "
-                             "rename one of the files", SourceSpan(str(path), 1))
+                             "rename one of the files", SourceSpan(str(path)))
         seen[slug] = path
 
 
