@@ -221,6 +221,43 @@ def test_a_knob_named_with_accents_keeps_its_letters_in_names(tmp_path, capsys):
     path.write_text(good.replace("knob: Level = VR1", "knob: Lével = VR1"), encoding="utf-8")
     assert main(["check", str(path)]) == 0, capsys.readouterr().err
 
+def test_build_and_check_print_every_warning_at_its_line(tmp_path, capsys):
+    # A 10 MΩ collector resistor saturates the Brookside's transistor: the specs' note (no
+    # room to swing) and the rule's finding are both warnings with the guide's path and line.
+    guides = tmp_path / "guides"
+    guides.mkdir()
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    text = re.sub(r"claim: (q1|gain)\..*\n", "", good.replace("R3 8k2", "R3 10M"))
+    (guides / "a.md").write_text(text, encoding="utf-8")
+    assert main(["check", str(guides)]) == 0
+    checked = capsys.readouterr().err.strip().splitlines()
+    assert main(["build", str(guides), "-o", str(tmp_path / "out")]) == 0
+    built = capsys.readouterr().err.strip().splitlines()
+    stage_line = text.splitlines().index("```stage boost") + 1
+    note = f"{guides / 'a.md'}:{stage_line}: warning: stage 'boost': Q1 collector"
+    for printed in (checked, built):
+        assert any(line.startswith(note) for line in printed), printed
+        assert all(re.match(rf"{re.escape(str(guides / 'a.md'))}:\d+: warning: ", line)
+                   for line in printed), printed
+
+
+def test_a_numeric_warning_in_the_solve_is_a_located_error(monkeypatch, capsys):
+    import numpy as np
+
+    import kitleaf.specs.derive as derive
+
+    def overflowing(guide, kit):
+        return np.float64(1e308) * 10.0
+
+    monkeypatch.setattr(derive, "_derive", overflowing)
+    path = DEMO / "brookside-boost.md"
+    assert main(["check", str(path)]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err == [f"{path}:1: error: the numbers ran out of range while solving (overflow "
+                   "encountered in scalar multiply); look for a part value or device far from "
+                   "the usual"]
+
+
 @pytest.mark.parametrize("argv", [["build", "nosuch"], ["check", "nosuch"]])
 def test_a_missing_folder_is_named_without_a_line(argv, tmp_path, capsys, monkeypatch):
     monkeypatch.chdir(tmp_path)

@@ -11,6 +11,7 @@ import sys
 
 from kitleaf.cli import command
 from kitleaf.commands.options import add_build_options, add_fail_on_findings, whole_at_least_one
+from kitleaf.errors import printable_line
 from kitleaf.site.build import BuildFailed, BuildReport, build_site
 from kitleaf.site.changes import summary_lines
 from kitleaf.site.manifest import MANIFEST_NAME
@@ -54,9 +55,10 @@ def print_report(report: BuildReport, out) -> None:
 
 
 def warning_line(warning: str) -> str:
-    """A design-rule finding is already ``path:line: warning: ...``; other notes get the prefix."""
+    """A guide's warning as ``kitleaf check`` prints it: findings and notes are already
+    ``path:line: warning: ...`` behind the guide's path; anything else keeps the path."""
     path, _, rest = warning.partition(": ")
-    return rest if rest.startswith(f"{path}:") else f"warning: {warning}"
+    return printable_line(rest if rest.startswith(f"{path}:") else f"{path}: warning: {rest}")
 
 
 def build_options(args) -> dict:

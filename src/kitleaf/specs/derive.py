@@ -6,9 +6,11 @@ as one batch per kit state (knob positions and supply), never as a loop of singl
 
 from __future__ import annotations
 
+import warnings
+
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
-from kitleaf.errors import KitleafError
+from kitleaf.errors import KitleafError, SolveError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.headroom import MARGINS, margins
@@ -62,12 +64,18 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
     """Every spec of the kit and its stages, computed from the parts.
 
     An engine error (a solve that did not converge, say) is placed at the guide line of the
-    part or stage it names, so the maker sees where to look.
+    part or stage it names, so the maker sees where to look, or else at the kit block. A numeric
+    warning (an overflow, a NaN) stops the solve too: figures past it would be silently wrong.
     """
     try:
-        return _derive(guide, kit)
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", RuntimeWarning)
+            return _derive(guide, kit)
+    except RuntimeWarning as warning:
+        raise SolveError(f"the numbers ran out of range while solving ({warning}); look for a "
+                         "part value or device far from the usual", guide.kit.span) from None
     except KitleafError as exc:
-        raise kit.locate(exc) from None
+        raise kit.locate(exc).located(guide.kit.span) from None
 
 
 def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
@@ -88,7 +96,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         supply_current=base.range(m.supply_current(None)),
         freqs=tuple(float(f) for f in FREQS),
         curves=curves(solved, INPUT, OUTPUT, kit.knobs),
-        notes=notes(stages),
+        notes=notes(stages, kit),
         band_gain_db=base.range(m.band_gain_db(INPUT, OUTPUT)),
         headroom=kit_headroom(solved),
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
@@ -175,8 +183,11 @@ def kit_headroom(solved: SolvedKit) -> Headroom | None:
     return stage_headroom(solved, solved.kit.signal_stages, OUTPUT)
 
 
-def notes(stages: tuple[StageSpecs, ...]) -> tuple[str, ...]:
-    """Findings a builder should hear about: a device with no room to swing at its bias."""
-    return tuple(f"stage '{s.id}': {s.headroom.limit} leaves no room to swing at this bias"
+def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
+    """Findings a builder should hear about, each a ``path:line: warning:`` line at its stage's
+    block: a device with no room to swing at its bias."""
+    spans = {s.id: s.span for s in kit.stages}
+    return tuple(f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room "
+                 "to swing at this bias"
                  for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 
