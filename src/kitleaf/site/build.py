@@ -16,7 +16,7 @@ from pathlib import Path
 from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
-from kitleaf.site.cache import Cache, default_cache_dir
+from kitleaf.site.cache import Cache, check_cache_folder, default_cache_dir
 from kitleaf.site.changes import compare
 from kitleaf.site.discover import find_guides, site_root_for
 from kitleaf.site.errata import errata_view, next_history
@@ -71,6 +71,8 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
     themes = theme_dirs(site_root_for(target))
     static = static_files(themes)  # read first: a theme that cannot be published stops here
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
+    if cache:
+        check_cache_folder(cache.root, Path(out_dir), chosen=cache_dir is not None)
     outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress,
                                fail_on_findings)
     if fail_on_findings and (refused := finding_errors(outputs)):
