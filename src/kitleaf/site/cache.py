@@ -46,7 +46,8 @@ def default_cache_dir(out_dir: Path) -> Path:
 
 def check_cache_folder(root: Path, out_dir: Path, chosen: bool) -> None:
     """Refuse a cache folder in or around the output, a file, or (``chosen`` by the user) a
-    folder holding other files and no kitleaf tag; then tag it, so later builds know it."""
+    folder holding other files and no kitleaf tag. Nothing is written here: the first entry
+    stored tags the folder (:meth:`Cache.put`)."""
     cache, out = root.resolve(), out_dir.resolve()
     if cache == out or cache.is_relative_to(out) or out.is_relative_to(cache):
         why = "is inside the output folder" if cache.is_relative_to(out) else "holds the output"
@@ -56,9 +57,6 @@ def check_cache_folder(root: Path, out_dir: Path, chosen: bool) -> None:
     if chosen and cache.is_dir() and not is_tagged(cache) and any(cache.iterdir()):
         raise _refusal(root, "holds files that are not kitleaf's cache, and old cache files are "
                              "removed from it; give an empty or new folder")
-    if not is_tagged(cache):
-        cache.mkdir(parents=True, exist_ok=True)
-        (cache / TAG_NAME).write_text(TAG_TEXT, encoding="utf-8")
 
 
 def is_tagged(cache: Path) -> bool:
@@ -66,6 +64,14 @@ def is_tagged(cache: Path) -> bool:
         return (cache / TAG_NAME).read_text(encoding="utf-8") == TAG_TEXT
     except (OSError, UnicodeDecodeError):
         return False
+
+
+def _write_whole(path: Path, data: bytes) -> None:
+    """Write by rename, so a reader (another worker) never sees a torn file."""
+    fd, tmp = tempfile.mkstemp(prefix=TMP_PREFIX, dir=path.parent)
+    with os.fdopen(fd, "wb") as handle:
+        handle.write(data)
+    os.replace(tmp, path)
 
 
 def _refusal(root: Path, what: str) -> BuildError:
@@ -105,10 +111,9 @@ class Cache:
         path = self._path(kind, key)
         try:
             path.parent.mkdir(parents=True, exist_ok=True)
-            fd, tmp = tempfile.mkstemp(prefix=TMP_PREFIX, dir=path.parent)
-            with os.fdopen(fd, "wb") as handle:
-                handle.write(data)
-            os.replace(tmp, path)
+            if not (self.root / TAG_NAME).exists():  # the folder's first entry: say whose it is
+                _write_whole(self.root / TAG_NAME, TAG_TEXT.encode())
+            _write_whole(path, data)
         except OSError:
             return
         self.used.add(entry_name(kind, key))
