@@ -44,9 +44,11 @@ MODULES = (
     "opamp_headroom",
     "bias_path",
     "led_current",
+    "pot_taper",
     "input_impedance",
     "e_series",
     "battery_life",
+    "unused_half",
 )
 
 
