@@ -23,7 +23,7 @@ import pytest
 FLAGS = (
     "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
     "--disable-background-networking", "--disable-component-update", "--disable-sync",
-    "--disable-extensions", "--mute-audio", "--remote-debugging-pipe",
+    "--disable-extensions", "--mute-audio", "--remote-debugging-pipe", "--hide-scrollbars",
 )
 TIMEOUT_S = 30.0
 # Paper sizes in inches, the unit the protocol's printToPDF takes (ISO 216 for A4; US Letter).

@@ -77,6 +77,24 @@ class TestSamplesMatchSingleSolves:
         fast = batch.response(rhs, list(range(batch.layout.size)))(FREQS)
         np.testing.assert_allclose(fast, direct, rtol=1e-9, atol=1e-12)
 
+    @pytest.mark.parametrize("build", [rc.boost, rc.jfet_common_source, rc.non_inverting])
+    def test_device_reports_and_part_factors(self, build):
+        circuit = build()
+        part = next(e.name for e in circuit.elements if hasattr(e, "tol"))
+        circuit = circuit.replaced(part, tol=0.05)
+        batch = solve_batch(circuit, samples=12, seed=6)
+        mc = monte_carlo(circuit, samples=12, seed=6)
+        device = next(e.name for e in mc.circuit.elements if hasattr(e, "model"))
+        reports = batch.reports(device)
+        for i in (0, 5, 11):
+            single = solve_dc(mc.sample(i)).device(device)
+            assert reports[i].keys() == single.keys()
+            for key, value in single.items():
+                assert reports[i][key] == (value if isinstance(value, str)
+                                           else pytest.approx(value, rel=1e-6, abs=1e-12))
+        np.testing.assert_array_equal(batch.factor(part), mc.factor(part))
+        np.testing.assert_array_equal(solve_batch(circuit).factor(part), [1.0])
+
     def test_the_same_draws_as_monte_carlo(self):
         batch = solve_batch(rc.boost(), samples=50, seed=2)
         mc = monte_carlo(rc.boost(), samples=50, seed=2, nodes=["c"])

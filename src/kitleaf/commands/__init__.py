@@ -10,4 +10,5 @@ ORDER: tuple[tuple[str, str], ...] = (
     ("proof", "build, show the site on this machine and rebuild on each change"),
     ("specs", "print a guide's computed specs"),
     ("bom", "print a guide's bill of materials, or a batch order for several kits"),
+    ("pinpoint", "rank the faults a builder's meter readings point to"),
 )

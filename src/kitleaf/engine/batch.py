@@ -67,6 +67,26 @@ class BatchResult:
             raise SolveError(f"{name!r} is not a voltage source or inductor of the circuit")
         return self.x[:, self.layout.branch(name)].copy()
 
+    def reports(self, name: str) -> tuple[dict, ...]:
+        """Device ``name``'s operating-point figures (region, currents, voltages) in each
+        sample, as :func:`~kitleaf.engine.solve_dc` reports them."""
+        xe = extend(self.x)
+        for bank in self.problem.devices.banks:
+            if name in bank.names:
+                d, v = bank.names.index(name), bank.junctions(xe)
+                return tuple(_one_sample(bank, k).report(v[k:k + 1], xe[k:k + 1], d)
+                             for k in range(self.size))
+        raise SolveError(f"no semiconductor or op-amp named {name!r}")
+
+    def factor(self, name: str) -> np.ndarray:
+        """The multiplier each sample drew for part ``name``'s value (ones when nominal)."""
+        names = [e.name for e in self.system.elements]
+        if name not in names:
+            raise SolveError(f"no part named {name!r} in the circuit")
+        if self.factors is None:
+            return np.ones(self.size)
+        return self.factors[:, names.index(name)].copy()
+
     def excitation(self, source: str, amplitude: float = 1.0) -> np.ndarray:
         """The right-hand side (n,) with ``source`` alone at ``amplitude``."""
         if source not in self.system.stamper.source_cols:
@@ -208,6 +228,12 @@ def _from_nominal(system: System, problem: Problem, samples: int,
     state = state_at(problem, samples, nominal.x, nominal.vstar)
     state.chord = nominal.chord
     return state
+
+
+def _one_sample(bank, k: int):
+    """``bank`` with sample ``k``'s parameters alone (a device's report reads sample 0)."""
+    return bank.with_params(**{key: v[k:k + 1] for key, v in bank.params.items()
+                               if v.shape[0] > 1})
 
 
 def _device_params(problem: Problem, samples: int) -> dict:
