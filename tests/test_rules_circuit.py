@@ -14,7 +14,7 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import solve_batch
 from kitleaf.guide.parse import parse_guide
 from kitleaf.specs.model import SAMPLES, SEED
-from rules_kits import BUFFER, GUIDE, KIT, POWER, findings, swapped
+from rules_kits import BUFFER, GUIDE, KIT, OPAMP, POWER, findings, swapped
 
 
 def filter_guide(block: str, source: str = "low-z") -> str:
@@ -103,18 +103,6 @@ class TestTransistorRegion:
         assert share == pytest.approx(100 * ohmic, abs=1.0)
 
 
-OPAMP = """\
-```stage gain
-kind: opamp-non-inverting
-input-cap: C1 100n film 63V
-bias: R1 1M
-opamp: U1A TL072
-feedback: R3 82k
-gain-resistor: R4 2k7
-gain-cap: C4 10u electrolytic 16V
-output-cap: C2 1u film 63V
-```
-"""
 
 
 class TestOpampHeadroom:

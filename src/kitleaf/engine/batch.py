@@ -23,6 +23,7 @@ from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
 from kitleaf.engine.ports import PoleResidue, modal, port_form
 from kitleaf.engine.reduce import partition, solve_reduced
+from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
 from kitleaf.errors import SolveError
 
 FREQ_CHUNK = 24  # frequencies per direct batched solve, to bound memory on large circuits
@@ -119,13 +120,16 @@ class BatchResult:
         """Complex unknowns (samples, F, n) by direct solve; ``freqs`` (F,) or (samples, F).
 
         ``opened`` names a voltage source whose branch is forced to carry no current (the
-        source taken out); ``samples`` restricts the solve to those sample indices."""
+        source taken out); ``samples`` restricts the solve to those sample indices. A large
+        circuit is solved sparsely (see :mod:`~kitleaf.engine.sparse_ac`)."""
+        k = None if opened is None else self.layout.branch(opened)
+        if self.layout.size >= SPARSE_SIZE:
+            return self._sparse.solve(freqs, rhs, k, samples)
         g, c = self.matrices
         if samples is not None:
             g, c = g[samples], c[samples]
         f = np.asarray(freqs, float)
         f = np.broadcast_to(f, (g.shape[0], f.shape[-1]))
-        k = None if opened is None else self.layout.branch(opened)
         parts = []
         for start in range(0, f.shape[1], FREQ_CHUNK):
             s = 2j * np.pi * f[:, start:start + FREQ_CHUNK]
@@ -135,6 +139,10 @@ class BatchResult:
                 a[:, :, k, k] = 1.0
             parts.append(solve_stack(a, np.broadcast_to(rhs.astype(complex), a.shape[:-1])))
         return np.concatenate(parts, axis=1)
+
+    @cached_property
+    def _sparse(self) -> SparseAc:
+        return SparseAc(self.system, self.problem.devices, self.x, self.factors)
 
     def impedance(self, node: str, freqs, opened: str | None = None) -> np.ndarray:
         """Driving-point impedance (samples, F) from ``node`` to ground, sources at rest."""

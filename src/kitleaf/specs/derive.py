@@ -14,6 +14,7 @@ from kitleaf.errors import KitleafError, SolveError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.headroom import MARGINS, margins
+from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
 from kitleaf.specs.model import (
     SAMPLES,
@@ -88,6 +89,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
         knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs),
+        knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
         high_corner_hz=base.range(m.corner(INPUT, OUTPUT, 1)),
