@@ -18,6 +18,7 @@ from kitleaf.render.pages import render_page
 from kitleaf.site.cache import Cache, default_cache_dir
 from kitleaf.site.changes import compare
 from kitleaf.site.discover import find_guides, site_root_for
+from kitleaf.site.errata import errata_view, next_history
 from kitleaf.site.fingerprint import theme_fingerprint
 from kitleaf.site.manifest import MANIFEST_NAME, dump_manifest, make_manifest, read_manifest
 from kitleaf.site.output_folder import check_output_folder
@@ -156,10 +157,12 @@ def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, 
     files["index.html"] = render_page(env, "index.html", {"cards": cards, "root": ""}, "index")
     files.update(static_files(themes))
     guides = {o.card.slug: o.record for o in outputs}
-    changes = compare(read_manifest(out_dir), {"guides": guides})
-    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes))
-    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {"changes": changes, "root": ""},
-                                      CHANGES_PAGE)
+    published = read_manifest(out_dir)
+    changes = compare(published, {"guides": guides})
+    history = next_history(published, guides)
+    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes, history))
+    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {
+        "changes": changes, "errata": errata_view(history), "root": ""}, CHANGES_PAGE)
     return files, changes
 
 

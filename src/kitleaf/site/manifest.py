@@ -41,9 +41,12 @@ def without_curves(specs: dict[str, Any]) -> dict[str, Any]:
     return kept
 
 
-def make_manifest(guides: dict[str, dict], changes: dict) -> dict[str, Any]:
-    """The whole manifest: guides by slug and the change record of this publish."""
-    return {"schema": SCHEMA, "guides": dict(sorted(guides.items())), "changes": changes}
+def make_manifest(guides: dict[str, dict], changes: dict,
+                  history: dict | None = None) -> dict[str, Any]:
+    """The whole manifest: guides by slug, the change record of this publish and the errata
+    history of every kit revision (:mod:`kitleaf.site.errata`)."""
+    manifest = {"schema": SCHEMA, "guides": dict(sorted(guides.items())), "changes": changes}
+    return manifest if history is None else {**manifest, "history": history}
 
 
 def dump_manifest(manifest: dict[str, Any]) -> bytes:
