@@ -2,12 +2,13 @@
 
 Each case takes one demo guide and applies one to three seeded mutations (a line deleted,
 duplicated or swapped, bytes flipped, a stretch cut, a value moved from one part line to
-another, a hostile word put in place of one), writes it to a file and runs ``kitleaf check`` on
-it in this process. A case passes when the command returns 0 or 1 and every line it printed
-to stderr is ``path:line: error|warning: ...`` on one line with no control character. A
-case fails on a traceback (any exception out of ``main``), a hang (over ``--limit`` seconds of
-this process's CPU time, so a machine shared with others does not make one), or an unlocated
-or raw line (a numpy warning, say). Failing cases are saved for replay.
+another, an extreme value put on a part, a hostile word put in place of one), writes it to a
+file and runs ``kitleaf check`` on it in this process. A case passes when the command returns
+0 or 1 and every line it printed to stderr is ``path:line: error|warning: ...`` on one line
+with no control character. A case fails on a traceback (any exception out of ``main``), a
+hang (over ``--limit`` seconds of this process's CPU time, so a machine shared with others
+does not make one), or an unlocated or raw line (a numpy warning, say). Failing cases are
+saved for replay.
 
     python bench/fuzz_guides.py                   # 10,000 cases, seed 1
     python bench/fuzz_guides.py --cases 500 --seed 7 --save /tmp/fuzz-failures
@@ -46,6 +47,8 @@ HOSTILE = (
     "=", "A", "VR1", "R1", "Q1", "U1A", "kind: custom", "x" * 300, "{=kit.gain}", "{=", "<script>",
     "1%", "200%", "25V", "0V", "taper=log", "package=TO-92", "lin log", "A100k", "C1 1u", "%",
 )
+# Values inside the readable range but far from a kit's: they reach the solver.
+EXTREME = ("R001", "1G", "999G", "1p", "0.1p", "999m", "100m", "1n", "999", "1M", "10")
 _VALUE = re.compile(r"^(\s*[a-z][a-z0-9-]*:\s*[A-Z]+[0-9]+[A-Z]?\s+)(\S+)(.*)$")
 
 
@@ -132,6 +135,19 @@ def swap_values(data: bytes, rng: random.Random) -> bytes:
     return "\n".join(lines).encode("utf-8")
 
 
+def extreme_value(data: bytes, rng: random.Random) -> bytes:
+    """One part line's value replaced by an extreme one (a pot keeps its taper letter)."""
+    lines = data.decode("utf-8", "replace").split("\n")
+    parts = [i for i, line in enumerate(lines) if _VALUE.match(line)]
+    if not parts:
+        return data
+    i = rng.choice(parts)
+    head, value, tail = _VALUE.match(lines[i]).groups()
+    taper = value[0] if value[:1] in "ABC" and len(value) > 1 else ""
+    lines[i] = f"{head}{taper}{rng.choice(EXTREME)}{tail}"
+    return "\n".join(lines).encode("utf-8")
+
+
 def hostile_word(data: bytes, rng: random.Random) -> bytes:
     """One word of a random line replaced by a hostile one."""
     lines = data.decode("utf-8", "replace").split("\n")
@@ -143,7 +159,7 @@ def hostile_word(data: bytes, rng: random.Random) -> bytes:
 
 
 MUTATIONS = (delete_line, duplicate_line, swap_lines, flip_bytes, cut_stretch, swap_values,
-             hostile_word, hostile_word)
+             extreme_value, extreme_value, hostile_word, hostile_word)
 _LOCATED = re.compile(r"^.+:\d+: (error|warning): \S")
 
 
