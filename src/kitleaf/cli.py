@@ -8,11 +8,10 @@ import importlib
 import os
 import signal
 import sys
-from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from collections.abc import Sequence
 
 from kitleaf import __version__
-from kitleaf.commands import ORDER
+from kitleaf.commands import COMMANDS, ORDER
 from kitleaf.errors import KitleafError
 from kitleaf.memory import keep_freed_memory
 
@@ -20,28 +19,6 @@ from kitleaf.memory import keep_freed_memory
 # cores they wait on one another: a 200-resistor ladder took 20 s to check with them and
 # 0.5 s with one thread (on two shared cores). A value the user set is kept.
 BLAS_THREADS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
-
-
-@dataclass(frozen=True)
-class Command:
-    """A registered command: what it adds to its parser, and what it runs."""
-
-    add_options: Callable[[argparse.ArgumentParser], None]
-    run: Callable[[argparse.Namespace], int]
-
-
-COMMANDS: dict[str, Command] = {}
-
-
-def command(name: str, add_options: Callable[[argparse.ArgumentParser], None]):
-    """Register the decorated function as command ``name`` with its options (its module is
-    named as the command and listed in :data:`kitleaf.commands.ORDER`)."""
-
-    def add(func):
-        COMMANDS[name] = Command(add_options, func)
-        return func
-
-    return add
 
 
 def parser(chosen: str | None = None) -> argparse.ArgumentParser:

@@ -15,7 +15,7 @@ from kitleaf.bom import (
     parse_spares,
 )
 from kitleaf.circuit.build import build_circuit
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.errors import KitleafError, SourceSpan
 from kitleaf.guide import parse_guide
 

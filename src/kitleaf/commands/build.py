@@ -9,7 +9,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.commands.options import add_build_options, add_fail_on_findings, whole_at_least_one
 from kitleaf.errors import printable_line
 from kitleaf.site.build import BuildFailed, BuildReport, build_site

@@ -10,7 +10,7 @@ import argparse
 import sys
 
 from kitleaf.circuit.build import build_circuit
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.commands.options import add_fail_on_findings, add_guides
 from kitleaf.errors import KitleafError, printable_line
 from kitleaf.guide import parse_guide

@@ -6,7 +6,7 @@ import argparse
 import importlib.resources
 from pathlib import Path
 
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.errors import KitleafError, SourceSpan
 from kitleaf.guide.slug import slug_for
 

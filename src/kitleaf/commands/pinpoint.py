@@ -8,7 +8,7 @@ import json
 from pathlib import Path
 
 from kitleaf.circuit.build import build_circuit
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.commands.options import whole_at_least_one
 from kitleaf.faults.probes import probes
 from kitleaf.faults.rank import rank

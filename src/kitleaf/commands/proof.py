@@ -7,7 +7,7 @@ import sys
 import threading
 from pathlib import Path
 
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.commands.build import build_options, print_report
 from kitleaf.commands.options import add_build_options
 from kitleaf.errors import KitleafError

@@ -7,7 +7,7 @@ import json
 from pathlib import Path
 
 from kitleaf.circuit.build import build_circuit
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.display import range_text
 from kitleaf.guide import parse_guide
 from kitleaf.render.specs_text import specs_to_text

@@ -44,6 +44,7 @@ MODULES = (
     "opamp_headroom",
     "bias_path",
     "led_current",
+    "pot_taper",
     "input_impedance",
     "e_series",
     "battery_life",
