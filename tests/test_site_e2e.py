@@ -149,3 +149,11 @@ def test_bom_page_lists_every_part_and_the_rating_warning(site):
     ticks = page.find_all("input")
     assert len(ticks) == len(page.find_all("tr", "bom-line"))
     assert all(t.attrs.get("type") == "checkbox" for t in ticks)
+
+
+def test_each_off_path_section_says_what_its_current_is(site):
+    page = parse_page(site / "heron-opamp-boost" / "index.html")
+    captions = [c.all_text() for c in page.find_all("caption")]
+    # the power section feeds the stages; the op-amp's unused half feeds nothing
+    assert sum("besides the stages it feeds" in c for c in captions) == 1
+    assert sum(c == "What this section draws from the supply." for c in captions) == 1
