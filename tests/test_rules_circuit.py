@@ -195,3 +195,16 @@ class TestBiasPath:
     def test_no_stage_kind_trips_it_as_built(self):
         # each of the twelve kinds with the parts its roles ask for biases what it drives
         assert findings(guide_text(*EVERY_KIND), "bias-path") == []
+
+
+class TestUnusedHalf:
+    def test_a_dual_with_one_half_used_leaves_the_other_floating(self):
+        text = filter_guide(OPAMP)
+        found = findings(text, "unused-half")
+        assert [f.subject for f in found] == ["U1A"]
+        assert "U1B" in found[0].message and "opamp-spare" in found[0].message
+        assert found[0].span.line == text.splitlines().index("opamp: U1A TL072") + 1
+
+    def test_a_spare_stage_ties_it(self):
+        spare = "```stage spare\nkind: opamp-spare\nopamp: U1B TL072\ntie: vref\n```\n"
+        assert findings(filter_guide(OPAMP) + "\n" + spare, "unused-half") == []

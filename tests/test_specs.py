@@ -191,3 +191,12 @@ def test_the_card_gain_range_takes_the_knobs_together():
     assert top == pytest.approx(20 * np.log10(1 + 82e3 / 2.7e3), abs=0.2)
     ends = {tuple(p for _, p in point.positions) for point in specs.knob_ends}
     assert ends == {(0.0, 0.0), (0.0, 1.0), (1.0, 0.0), (1.0, 1.0)}
+
+
+def test_the_heron_counts_both_halves_of_its_dual_op_amp():
+    # TL072: 1.4 mA per amplifier (datasheet typical, from memory); the unused half U1B,
+    # tied as a follower, draws it as the used one does
+    _, _, specs = solved("heron-opamp-boost")
+    assert specs.stage("spare").supply_current.nominal == pytest.approx(1.4e-3, rel=0.01)
+    parts = sum(s.supply_current.nominal for s in specs.stages if s.supply_current)
+    assert specs.supply_current.nominal == pytest.approx(parts, rel=1e-6)

@@ -117,9 +117,13 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
     kit, base = solved.kit, solved.base
     voltages = stage_voltages(solved, stage)
     if not kit.kind(stage).signal:
-        meters = tuple(supply_meter(s.id) for s in kit.signal_stages)
+        if kit.metered(stage):
+            current = m.supply_current(supply_meter(stage.id))
+        else:  # the power section: what no stage's meter takes
+            current = m.supply_current(None, tuple(supply_meter(s.id) for s in kit.stages
+                                                   if kit.metered(s)))
         return StageSpecs(stage.id, stage.kind, stage.title, False, voltages, (), None, None,
-                          None, None, None, base.range(m.supply_current(None, meters)))
+                          None, None, None, base.range(current))
     node_in, node_out = kit.stage_nodes(stage.id)
     knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
     return StageSpecs(

@@ -48,6 +48,7 @@ MODULES = (
     "input_impedance",
     "e_series",
     "battery_life",
+    "unused_half",
 )
 
 
