@@ -28,6 +28,7 @@ from kitleaf.specs.model import (
 )
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
+from kitleaf.specs.shorts import check_supply
 from kitleaf.specs.solve import KitState, nominal_positions
 
 KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
@@ -42,11 +43,20 @@ class SolvedKit:
         self.kit = kit
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
+        check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
         self.sweeps = {k.designator: tuple(self._state(k.designator, p) for p in KNOB_STEPS)
                        for k in kit.knobs}
+        self._check_sweeps()
         self.supplies = supplies(kit.supply_v)
         self.by_supply = (self.base, *(KitState(kit, self.nominal, s.volts, self.base)
                                        for s in self.supplies[1:]))
+
+    def _check_sweeps(self) -> None:
+        """No knob setting shorts the supply (a pot's end leg is about 1 ohm)."""
+        for knob in self.kit.knobs:
+            for position, state in zip(KNOB_STEPS, self.sweeps[knob.designator], strict=True):
+                check_supply(self.kit, state.nominal.batch.system,
+                             f" with {knob.name} at {position * 100:.0f} %")
 
     def _state(self, designator: str, position: float) -> KitState:
         if position == self.nominal[designator]:
