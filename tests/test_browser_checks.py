@@ -152,3 +152,14 @@ def test_the_screenshot_is_the_page_at_its_width(pages, width):
     assert shot[:8] == b"\x89PNG\r\n\x1a\n" and shot[12:16] == b"IHDR"
     png_width, png_height = struct.unpack(">II", shot[16:24])
     assert png_width == width and png_height > 1000
+
+
+def test_no_page_of_the_site_scrolls_sideways_on_a_phone(site):
+    """Wide tables (voltages, parts) scroll in their own box or stack row by row, so at 390 px
+    every page is as wide as the screen."""
+    names = sorted(p.relative_to(site).as_posix() for p in site.rglob("*.html"))
+    assert len(names) == 2 + 2 * len(list(DEMO_GUIDES.glob("*.md")))
+    with Browser(require_tool("chromium")) as browser:
+        widths = {name: json.loads(Page(browser, (site / name).as_uri(), width=390)
+                                   .evaluate(PAGE_WIDTH)) for name in names}
+    assert {name: w for name, w in widths.items() if w[0] > w[1]} == {}
