@@ -18,8 +18,8 @@ from pathlib import Path  # noqa: E402
 from kitleaf.circuit.build import build_circuit  # noqa: E402
 from kitleaf.guide import parse_guide  # noqa: E402
 from kitleaf.render.plot import render_response_svg  # noqa: E402
+from kitleaf.render.plot_specs import kit_plot, stage_plot  # noqa: E402
 from kitleaf.specs.derive import derive_specs  # noqa: E402
-from kitleaf.specs.plots import kit_plot, stage_plot  # noqa: E402
 
 # An invented four-stage kit (Fernbrook Circuitworks bench scenario, not a product).
 GUIDE = """```kit

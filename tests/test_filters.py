@@ -1,6 +1,6 @@
 """Display filters: every number on a page goes through these (units and rounding of the trade)."""
 
-from kitleaf.render.environment import percent, range_text
+from kitleaf.display import percent, range_text
 from kitleaf.specs.model import Range
 
 

@@ -18,7 +18,7 @@ import pytest
 from kitleaf.circuit.chain import INPUT, OUTPUT
 from kitleaf.engine.spice_export import to_spice
 from kitleaf.render.plot import render_response_svg
-from kitleaf.specs.plots import kit_plot, stage_plot
+from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.specs.solve import nominal_positions
 from specs_kits import solved
 

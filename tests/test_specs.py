@@ -10,8 +10,9 @@ import pytest
 from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE, input_meter, supply_meter
 from kitleaf.engine import solve_ac, solve_dc
 from kitleaf.engine.montecarlo import monte_carlo
+from kitleaf.render.specs_text import specs_to_text
 from kitleaf.specs.derive import KNOB_STEPS, derive_specs
-from kitleaf.specs.export import SCHEMA, specs_to_json, specs_to_text
+from kitleaf.specs.export import SCHEMA, specs_to_json
 from kitleaf.specs.solve import nominal_positions
 from specs_kits import DEMOS, solved
 

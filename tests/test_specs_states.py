@@ -12,15 +12,15 @@ from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
 from kitleaf.engine import Circuit
 from kitleaf.errors import SolveError
 from kitleaf.guide import parse_guide
-from kitleaf.specs.batch import solve_nominal, solve_samples
-from kitleaf.specs.derive import KNOB_STEPS, Kit
+from kitleaf.specs.derive import KNOB_STEPS, SolvedKit
 from kitleaf.specs.response import REFERENCE_HZ
+from kitleaf.specs.sampled import solve_nominal, solve_samples
 from kitleaf.specs.solve import View, idle_at_dc
 from specs_kits import DEMOS, GUIDES
 
 
-def kit_states(name: str) -> Kit:
-    return Kit(build_circuit(parse_guide(GUIDES / f"{name}.md")))
+def kit_states(name: str) -> SolvedKit:
+    return SolvedKit(build_circuit(parse_guide(GUIDES / f"{name}.md")))
 
 
 def fresh_gain_db(circuit) -> np.ndarray:

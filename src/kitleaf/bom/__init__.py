@@ -1,11 +1,11 @@
 """The bill of materials: lines to buy and find, build order, CSV, batch orders, rating checks."""
 
-from kitleaf.bom.batch import OrderLine, batch_order
-from kitleaf.bom.export import bom_csv, bom_text, order_csv, order_text
 from kitleaf.bom.lines import BomLine, bom_lines, natural_key
 from kitleaf.bom.order import BUILD_ORDER
 from kitleaf.bom.pinouts import PINOUTS, Pinout, pinout_for
+from kitleaf.bom.purchase import OrderLine, batch_order
 from kitleaf.bom.ratings import RatingWarning, rating_warnings
+from kitleaf.bom.writers import bom_csv, bom_text, order_csv, order_text
 
 __all__ = [
     "BUILD_ORDER",

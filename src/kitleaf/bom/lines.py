@@ -6,7 +6,7 @@ import re
 from collections.abc import Iterable
 from dataclasses import dataclass, replace
 
-from kitleaf.bom.finding import Finding, find
+from kitleaf.bom.describe import PartDescription, describe
 from kitleaf.bom.order import build_group, build_rank
 from kitleaf.bom.pinouts import Pinout
 from kitleaf.bom.ratings import RatingWarning
@@ -83,7 +83,7 @@ def _line(parts: list[Part]) -> BomLine:
     parts = sorted(parts, key=lambda p: natural_key(p.designator))
     first = parts[0]
     designators = tuple(p.designator for p in parts)
-    found: Finding = find(first)
+    found: PartDescription = describe(first)
     return BomLine(
         type=first.type,
         value_text=found.value_text,

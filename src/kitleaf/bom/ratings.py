@@ -14,7 +14,7 @@ from dataclasses import dataclass, replace
 from types import MappingProxyType
 from typing import TYPE_CHECKING
 
-from kitleaf.bom.finding import power_text
+from kitleaf.bom.describe import power_text
 from kitleaf.bom.order import POLARISED_DIELECTRICS
 from kitleaf.errors import SourceSpan
 from kitleaf.values import format_value

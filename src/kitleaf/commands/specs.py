@@ -6,16 +6,19 @@ import json
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.cli import command
+from kitleaf.display import range_text
 from kitleaf.guide import parse_guide
+from kitleaf.render.specs_text import specs_to_text
 from kitleaf.specs.derive import derive_specs
-from kitleaf.specs.export import specs_to_json, specs_to_text
+from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.lookup import computed_values
 
 
 def names_text(values) -> str:
     """Every name a guide's prose and claims may use, with its value and what it is."""
     width = max(len(name) for name in values)
-    return "\n".join(f"{name:<{width}}  {c.text():<28}  {c.label}" for name, c in values.items())
+    return "\n".join(f"{name:<{width}}  {range_text(c.value, c.quantity):<28}  {c.label}"
+                     for name, c in values.items())
 
 
 @command("specs")

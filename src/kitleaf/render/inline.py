@@ -17,6 +17,7 @@ from markdown_it.common.utils import escapeHtml
 from markdown_it.rules_core import StateCore
 from markdown_it.rules_inline import StateInline
 
+from kitleaf.display import range_text
 from kitleaf.errors import SourceSpan
 from kitleaf.render.prose import PLUGINS
 from kitleaf.specs.lookup import Computed, lookup
@@ -75,7 +76,8 @@ def _render(renderer, tokens, idx, options, env) -> str:
     if computed is None:
         return escapeHtml(token.content)
     title = escapeHtml(f"{computed.label} ({computed.name}), computed from the parts")
-    return f'<span class="computed" title="{title}">{escapeHtml(computed.text())}</span>'
+    shown = escapeHtml(range_text(computed.value, computed.quantity))
+    return f'<span class="computed" title="{title}">{shown}</span>'
 
 
 def computed_values_plugin(md: MarkdownIt) -> None:

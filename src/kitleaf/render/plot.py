@@ -22,7 +22,7 @@ from matplotlib.font_manager import FontProperties
 from matplotlib.textpath import text_to_path
 from matplotlib.ticker import MaxNLocator
 
-from kitleaf.render.plot_svg import Sheet, dash_array, num, polyline
+from kitleaf.render.plot_svg import SvgDocument, dash_array, num, polyline
 from kitleaf.values import format_value
 
 # (colour, dash pattern, width) per curve: dark to light and distinct dashes, so curves stay
@@ -51,7 +51,7 @@ SPAN_DB = 60.0  # dB shown below the highest curve; quieter curves leave the bot
 
 
 @dataclass(frozen=True)
-class Curve:
+class Trace:
     """One trace: a label (a knob position, say) and gain in dB at each frequency."""
 
     label: str
@@ -63,7 +63,7 @@ class Panel:
     """One set of axes: curves of one knob's positions, the band and the corners."""
 
     title: str
-    curves: tuple[Curve, ...]
+    curves: tuple[Trace, ...]
     band_low: tuple[float, ...] = ()
     band_high: tuple[float, ...] = ()
     corners: tuple[tuple[float, str], ...] = ()  # (Hz, label)
@@ -110,7 +110,7 @@ def render_response_svg(plot: ResponsePlot) -> str:
     """The plot as SVG text; the same plot always gives the same bytes."""
     rows = max(len(plot.panels), 1)
     height = (0.75 + PANEL_IN * rows) * 72
-    sheet = Sheet(WIDTH_IN * 72, height, title=plot.title)
+    sheet = SvgDocument(WIDTH_IN * 72, height, title=plot.title)
     sheet.rect(0, 0, sheet.width, height, "fill: #ffffff")
     sheet.text(0.02 * sheet.width, 0.02 * height, plot.title, TITLE_PT, va="top",
                extra="; font-weight: 700")
@@ -130,7 +130,7 @@ def panel_boxes(rows: int, height: float) -> list[tuple[float, float, float, flo
     return [(LEFT_IN * 72, TOP_IN * 72 + i * each * (1 + gap), width, each) for i in range(rows)]
 
 
-def _draw(sheet: Sheet, name: str, box, log_f: np.ndarray, panel: Panel, last: bool) -> None:
+def _draw(sheet: SvgDocument, name: str, box, log_f: np.ndarray, panel: Panel, last: bool) -> None:
     top = max(max(c.gain_db) for c in panel.curves)
     floor = max(min(min(c.gain_db) for c in panel.curves), top - SPAN_DB)
     frame = Frame(*box, x_range=(log_f[0], log_f[-1]), y_range=(floor - 3.0, top + 6.0))
@@ -146,7 +146,7 @@ def _draw(sheet: Sheet, name: str, box, log_f: np.ndarray, panel: Panel, last: b
     _legend(sheet, frame, entries)
 
 
-def _background(sheet: Sheet, frame: Frame, log_f, panel: Panel, values, clip: str) -> None:
+def _background(sheet: SvgDocument, frame: Frame, log_f, panel: Panel, values, clip: str) -> None:
     """Everything behind the curves, back to front: faint rules, band, grid, corners, frame."""
     _rules(sheet, frame, x=MINOR, style=f"stroke: {MINOR_COLOUR}; stroke-width: 0.3", clip=clip)
     if panel.band_low:
@@ -159,7 +159,7 @@ def _background(sheet: Sheet, frame: Frame, log_f, panel: Panel, values, clip: s
                f"fill: none; stroke: {FRAME_COLOUR}; stroke-width: 0.8; stroke-linejoin: miter")
 
 
-def _curves(sheet: Sheet, frame: Frame, log_f, curves, floor: float, clip: str) -> list:
+def _curves(sheet: SvgDocument, frame: Frame, log_f, curves, floor: float, clip: str) -> list:
     """The curves in their styles; returns their legend entries (style, label)."""
     entries = []
     for i, curve in enumerate(curves):
@@ -185,14 +185,14 @@ def _line(colour: str, dashes, width: float) -> str:
     return "fill: none; " + _stroke(colour, dashes, width)
 
 
-def _band(sheet: Sheet, frame: Frame, log_f: np.ndarray, panel: Panel, clip: str) -> None:
+def _band(sheet: SvgDocument, frame: Frame, log_f: np.ndarray, panel: Panel, clip: str) -> None:
     """The tolerance band as one closed outline: along the high edge, back along the low."""
     xs = frame.x(np.concatenate([log_f, log_f[::-1]]))
     ys = frame.y(np.concatenate([panel.band_high, panel.band_low[::-1]]))
     sheet.path(polyline(xs, ys) + "Z", f"fill: {BAND_COLOUR}", clip)
 
 
-def _rules(sheet: Sheet, frame: Frame, style: str, clip: str, x=(), y=()) -> None:
+def _rules(sheet: SvgDocument, frame: Frame, style: str, clip: str, x=(), y=()) -> None:
     """Lines across the panel at data values ``x`` (vertical) or ``y`` (horizontal), one path."""
     top, bottom, left, right = (num(v) for v in (frame.top, frame.bottom, frame.left, frame.right))
     segments = [f"M{num(v)} {bottom}V{top}" for v in frame.x(x).tolist()]
@@ -201,7 +201,7 @@ def _rules(sheet: Sheet, frame: Frame, style: str, clip: str, x=(), y=()) -> Non
         sheet.path("".join(segments), "fill: none; " + style, clip)
 
 
-def _corners(sheet: Sheet, frame: Frame, corners, clip: str) -> None:
+def _corners(sheet: SvgDocument, frame: Frame, corners, clip: str) -> None:
     if not corners:
         return
     x = [float(np.log10(hz)) for hz, _ in corners]
@@ -210,7 +210,7 @@ def _corners(sheet: Sheet, frame: Frame, corners, clip: str) -> None:
         sheet.text(at + 3, frame.top + 3, label, LEGEND_PT, va="top", extra="; fill: #333333")
 
 
-def _x_axis(sheet: Sheet, frame: Frame, last: bool) -> None:
+def _x_axis(sheet: SvgDocument, frame: Frame, last: bool) -> None:
     """Decade ticks and labels under the panel; the axis label under the last panel only."""
     xs = frame.x(DECADES).tolist()
     ticks = "".join(f"M{num(x)} {num(frame.bottom)}v{num(TICK_PT)}" for x in xs)
@@ -223,7 +223,7 @@ def _x_axis(sheet: Sheet, frame: Frame, last: bool) -> None:
                    va="top")
 
 
-def _y_axis(sheet: Sheet, frame: Frame, values: list[float]) -> None:
+def _y_axis(sheet: SvgDocument, frame: Frame, values: list[float]) -> None:
     """dB ticks and labels left of the panel, the axis label clear of the widest of them."""
     ys = frame.y(values).tolist()
     ticks = "".join(f"M{num(frame.left)} {num(y)}h{num(-TICK_PT)}" for y in ys)
@@ -260,7 +260,7 @@ def _number_labels(values: list[float]) -> list[str]:
             f"{0:.{decimals}f}" for v in values]
 
 
-def _legend(sheet: Sheet, frame: Frame, entries: list) -> None:
+def _legend(sheet: SvgDocument, frame: Frame, entries: list) -> None:
     """Handles and labels in a column centred beside the panel."""
     row = LEGEND_PT * (LINE_EM + 0.5)  # a line and half a font size between lines
     handle, gap = 3.2 * LEGEND_PT, 0.8 * LEGEND_PT

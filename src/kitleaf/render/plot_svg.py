@@ -49,7 +49,7 @@ def dash_array(dashes, width: float) -> str:
 
 
 @dataclass
-class Sheet:
+class SvgDocument:
     """An SVG drawing being written, element by element, in drawing order."""
 
     width: float

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import re
 
-from kitleaf.bom.finding import find
+from kitleaf.bom.describe import describe
 from kitleaf.circuit.parts import Part
 
 Point = tuple[float, float]
@@ -30,7 +30,7 @@ def part_value(part: Part) -> str:
     """The value as the bill of materials writes it, so sheet and BOM agree: the RKM code for
     resistors, capacitors and pots (``470R``, ``4k7``, ``100n``, ``100k log``), the model for
     semiconductors."""
-    return find(part).value_text
+    return describe(part).value_text
 
 
 def part_label(part: Part) -> str:

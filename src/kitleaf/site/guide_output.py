@@ -19,8 +19,10 @@ from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
 from kitleaf.render.plot import ResponsePlot, render_response_svg
+from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import render_overview_svg, render_stage_svg
+from kitleaf.render.summary import headline, stage_headline
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
@@ -28,8 +30,6 @@ from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.model import KitSpecs
-from kitleaf.specs.plots import kit_plot, stage_plot
-from kitleaf.specs.summary import headline, stage_headline
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:

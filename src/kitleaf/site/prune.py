@@ -49,7 +49,7 @@ class PruneReport:
 
 
 @dataclass(frozen=True)
-class Entry:
+class CacheFile:
     """One file of the cache: its name relative to the cache folder, size and last use."""
 
     path: Path
@@ -100,7 +100,7 @@ def sweep_due(root: Path, every: float, now: float) -> bool:
     return True
 
 
-def entries(root: Path) -> Iterator[Entry]:
+def entries(root: Path) -> Iterator[CacheFile]:
     """Every file two folders below ``root`` (kind, then the key's first two digits)."""
     for kind in _folders(root):
         for shelf in _folders(Path(kind.path)):
@@ -112,10 +112,11 @@ def entries(root: Path) -> Iterator[Entry]:
                 except OSError:
                     continue
                 name = f"{kind.name}/{shelf.name}/{item.name}"
-                yield Entry(Path(item.path), name, st.st_size, st.st_mtime)
+                yield CacheFile(Path(item.path), name, st.st_size, st.st_mtime)
 
 
-def doomed(found: list[Entry], used: set[str], policy: PrunePolicy, now: float) -> list[Entry]:
+def doomed(found: list[CacheFile], used: set[str], policy: PrunePolicy,
+           now: float) -> list[CacheFile]:
     """Unused entries past the grace time: torn or old ones, then the oldest while over budget."""
     total = sum(e.size for e in found)
     spare = sorted((e for e in found if e.name not in used and now - e.used_at > policy.grace),
@@ -128,7 +129,7 @@ def doomed(found: list[Entry], used: set[str], policy: PrunePolicy, now: float) 
     return chosen
 
 
-def remove(chosen: list[Entry]) -> PruneReport:
+def remove(chosen: list[CacheFile]) -> PruneReport:
     """Unlink each entry; one already gone (another sweep) is skipped, not counted."""
     count = freed = 0
     for entry in chosen:

@@ -61,10 +61,6 @@ class Verified:
     def label(self) -> str:
         return self.computed.label
 
-    @property
-    def value_text(self) -> str:
-        return self.computed.text()
-
 
 def claim_entries(guide: Guide, kit: KitCircuit) -> list[tuple[str, Entry]]:
     """Every ``claim:`` line with its scope (``kit`` or the stage id), in document order."""

@@ -32,7 +32,7 @@ KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
 FRESH_BATTERY_V = 9.6
 
 
-class Kit:
+class SolvedKit:
     """The kit's solved states: nominal knobs, each knob's sweep, and the battery supply."""
 
     def __init__(self, kit: KitCircuit) -> None:
@@ -71,7 +71,7 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
 
 
 def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    solved = Kit(kit)
+    solved = SolvedKit(kit)
     base = solved.base
     stages = tuple(stage_specs(solved, s) for s in kit.stages)
     chain = kit.signal_stages
@@ -103,7 +103,7 @@ def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:
     return next(s for s in stages if s.id == stage_id)
 
 
-def stage_specs(solved: Kit, stage: Stage) -> StageSpecs:
+def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
     kit, base = solved.kit, solved.base
     voltages = stage_voltages(solved, stage)
     if not kit.kind(stage).signal:
@@ -137,14 +137,14 @@ def output_measure(kit: KitCircuit, stage_id: str, node_out: str) -> m.Measure:
     return m.output_impedance(node_out, None, kit.load)
 
 
-def knob_sweep(solved: Kit, node_in: str, node_out: str, knobs) -> tuple[KnobPoint, ...]:
+def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs) -> tuple[KnobPoint, ...]:
     """Gain at 1 kHz at each step of each knob, the other knobs at half way."""
     return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)))
                  for k in knobs
                  for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
 
 
-def stage_voltages(solved: Kit, stage: Stage) -> tuple[Voltage, ...]:
+def stage_voltages(solved: SolvedKit, stage: Stage) -> tuple[Voltage, ...]:
     """Each test point's voltage to ground at every supply of the table."""
     out = []
     for tp in solved.kit.kind(stage).test_points(stage):
@@ -154,7 +154,7 @@ def stage_voltages(solved: Kit, stage: Stage) -> tuple[Voltage, ...]:
     return tuple(out)
 
 
-def stage_headroom(solved: Kit, stages: tuple[Stage, ...], node: str) -> Headroom | None:
+def stage_headroom(solved: SolvedKit, stages: tuple[Stage, ...], node: str) -> Headroom | None:
     names = {p.designator for s in stages for p in s.all_parts()}
     circuit = solved.base.circuit
     devices = tuple(e for e in circuit.elements if type(e) in MARGINS and e.name in names)
@@ -171,7 +171,7 @@ def stage_headroom(solved: Kit, stages: tuple[Stage, ...], node: str) -> Headroo
                                                                     solved.base.nominal))
 
 
-def kit_headroom(solved: Kit) -> Headroom | None:
+def kit_headroom(solved: SolvedKit) -> Headroom | None:
     return stage_headroom(solved, solved.kit.signal_stages, OUTPUT)
 
 

@@ -20,7 +20,7 @@ import numpy as np
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices.bjt import SATURATION_VCE
-from kitleaf.specs.batch import Batch
+from kitleaf.specs.sampled import Batch
 
 GROUND = "0"
 

@@ -15,7 +15,6 @@ from dataclasses import dataclass
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.errors import SourceSpan, SpecError
-from kitleaf.render.environment import range_text
 from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
 
 KIT = "kit"
@@ -38,10 +37,6 @@ class Computed:
     value: Range
     quantity: str
     label: str
-
-    def text(self) -> str:
-        """As the trade writes it, with its tolerance spread when one was computed."""
-        return range_text(self.value, self.quantity)
 
 
 def slug(text: str) -> str:

@@ -1,6 +1,6 @@
 """Reading a batch of frequency responses: gain in dB, band gain and -3 dB corners per sample.
 
-Every function works on all samples of a :class:`~kitleaf.specs.batch.Batch` at once; a gain
+Every function works on all samples of a :class:`~kitleaf.specs.sampled.Batch` at once; a gain
 is the ratio of two node voltages (a stage's output over its input), so it does not depend on
 what drives the input.
 """
@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from kitleaf.specs.batch import Batch
+from kitleaf.specs.sampled import Batch
 
 REFERENCE_HZ = 1000.0
 # The plotted and searched band: 10 Hz to 40 kHz, log-spaced, with 1 kHz itself on the grid.
@@ -25,7 +25,7 @@ def to_db(h: np.ndarray) -> np.ndarray:
 class Sweep:
     """One batch's complex node voltages per volt of the signal source, at any frequency.
 
-    Evaluated in pole-residue form (:class:`~kitleaf.specs.batch.Modal`), checked sample by
+    Evaluated in pole-residue form (:class:`~kitleaf.specs.sampled.Modal`), checked sample by
     sample against a direct solve at 1 kHz; a sample that disagrees is solved directly.
     """
 

@@ -9,9 +9,9 @@ import numpy as np
 
 from kitleaf.circuit.chain import SOURCE, KitCircuit
 from kitleaf.engine.elements import Pot
-from kitleaf.specs.batch import Batch, solve_alike, solve_nominal, solve_samples
 from kitleaf.specs.model import Range
 from kitleaf.specs.response import REFERENCE_HZ, Sweep
+from kitleaf.specs.sampled import Batch, solve_alike, solve_nominal, solve_samples
 
 
 class View:

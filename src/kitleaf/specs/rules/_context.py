@@ -18,7 +18,7 @@ from kitleaf.specs.solve import nominal_positions
 
 
 @dataclass(frozen=True)
-class State:
+class DcSetting:
     """The kit's DC operating point at one setting of its knobs, with words for that setting."""
 
     words: str
@@ -35,7 +35,7 @@ class RuleContext:
     specs: KitSpecs
 
     @cached_property
-    def states(self) -> tuple[State, ...]:
+    def states(self) -> tuple[DcSetting, ...]:
         """Knobs at half way, then each knob alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
         settings = [("knobs at half way", nominal)]
@@ -46,9 +46,9 @@ class RuleContext:
                     settings.append((words, {**nominal, knob.designator: pos}))
         return tuple(self._solve(words, positions) for words, positions in settings)
 
-    def _solve(self, words: str, positions: dict) -> State:
+    def _solve(self, words: str, positions: dict) -> DcSetting:
         circuit = self.kit.netlist(positions)
-        return State(words, circuit, solve_dc(circuit))
+        return DcSetting(words, circuit, solve_dc(circuit))
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:

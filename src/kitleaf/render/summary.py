@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from kitleaf.render.environment import range_text
+from kitleaf.display import range_text
 from kitleaf.specs.model import KitSpecs, StageSpecs
 from kitleaf.values import format_db, format_value
 

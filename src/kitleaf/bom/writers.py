@@ -10,10 +10,10 @@ import csv
 import io
 from collections.abc import Sequence
 
-from kitleaf.bom.batch import OrderLine
 from kitleaf.bom.lines import BomLine
 from kitleaf.bom.order import group_heading
 from kitleaf.bom.pinouts import DIODE_VIEW
+from kitleaf.bom.purchase import OrderLine
 
 BOM_COLUMNS = ("designators", "quantity", "value", "value_si", "type", "attributes", "marking")
 ORDER_COLUMNS = ("quantity", "needed", "spares", "per_kit", "value", "value_si", "type",

@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-from kitleaf.render.environment import percent
-from kitleaf.render.plot import Curve, Panel, ResponsePlot
-from kitleaf.specs.model import Curve as SpecCurve
-from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.display import percent
+from kitleaf.render.plot import Panel, ResponsePlot, Trace
+from kitleaf.specs.model import Curve, KitSpecs, Range
 from kitleaf.values import format_value
 
 
@@ -25,18 +24,18 @@ def kit_plot(specs: KitSpecs) -> ResponsePlot:
                         _panels(specs, specs.curves, specs.band_low, specs.band_high, corners))
 
 
-def _panels(specs: KitSpecs, curves: tuple[SpecCurve, ...], low, high, corners
+def _panels(specs: KitSpecs, curves: tuple[Curve, ...], low, high, corners
             ) -> tuple[Panel, ...]:
     """One panel per knob, in the kit block's order; one unnamed panel when no knob acts."""
     knobs = list(dict.fromkeys(c.knob for c in curves))
     panels = []
     for knob in knobs:
-        mine = tuple(Curve(_label(c), c.gain_db) for c in curves if c.knob == knob)
+        mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
         panels.append(Panel(_title(specs, knob, len(knobs)), mine, low, high, corners))
     return tuple(panels)
 
 
-def _label(curve: SpecCurve) -> str:
+def _label(curve: Curve) -> str:
     if not curve.knob:
         return "nominal parts"
     return f"{curve.knob} {percent(curve.position)}"

@@ -37,7 +37,7 @@ _WATT_FRACTIONS: Mapping[float, str] = MappingProxyType(
 
 
 @dataclass(frozen=True)
-class Finding:
+class PartDescription:
     """How one part is written, bought and recognised."""
 
     value_text: str
@@ -62,43 +62,45 @@ def _words(*texts: str | None) -> tuple[str, ...]:
     return tuple(t for t in texts if t)
 
 
-def _resistor(part: Part) -> Finding:
+def _resistor(part: Part) -> PartDescription:
     rating = power_text(part.rating) if part.rating else None
     try:
         bands = resistor_bands(part.value, part.tolerance or 0.05)
         notes: tuple[str, ...] = ()
     except ValueFormatError as exc:
         bands, notes = (), (f"no colour code: {exc.message}",)
-    return Finding(format_rkm(part.value, "resistance"), format_value(part.value, "resistance"),
-                   _words(tolerance_text(part.tolerance), rating), bands=bands, notes=notes)
+    return PartDescription(format_rkm(part.value, "resistance"),
+                           format_value(part.value, "resistance"),
+                           _words(tolerance_text(part.tolerance), rating), bands=bands, notes=notes)
 
 
-def _capacitor(part: Part) -> Finding:
+def _capacitor(part: Part) -> PartDescription:
     dielectric = part.dielectric
     rating = format_value(part.rating, "voltage") if part.rating else None
     attributes = _words(dielectric, tolerance_text(part.tolerance), rating)
     rkm, shown = format_rkm(part.value, "capacitance"), format_value(part.value, "capacitance")
     if dielectric in POLARISED_DIELECTRICS:
         printed = f"printed {shown}" + (f", {rating}" if rating else "")
-        return Finding(rkm, shown, attributes, polarity=POLARITY[dielectric], notes=(printed,))
+        return PartDescription(rkm, shown, attributes, polarity=POLARITY[dielectric],
+                               notes=(printed,))
     try:
         code: str | None = capacitor_code(part.value)
         notes = (f"marked {code}",)
     except ValueFormatError:
         code, notes = None, (f"printed {shown}",)
-    return Finding(rkm, shown, attributes, code=code, notes=notes)
+    return PartDescription(rkm, shown, attributes, code=code, notes=notes)
 
 
-def _inductor(part: Part) -> Finding:
+def _inductor(part: Part) -> PartDescription:
     shown = format_value(part.value, "inductance")
-    return Finding(shown, shown, _words(tolerance_text(part.tolerance)))
+    return PartDescription(shown, shown, _words(tolerance_text(part.tolerance)))
 
 
-def _pot(part: Part) -> Finding:
+def _pot(part: Part) -> PartDescription:
     taper = part.attrs.get("taper", "")
     rkm = format_rkm(part.value, "resistance")
     shown = format_value(part.value, "resistance")
-    return Finding(f"{rkm} {taper}".strip(), f"{shown} {taper}".strip(),
+    return PartDescription(f"{rkm} {taper}".strip(), f"{shown} {taper}".strip(),
                    _words(part.attrs.get("shaft"), part.attrs.get("size")))
 
 
@@ -111,25 +113,25 @@ def _pinout_notes(model: str, pinout: Pinout | None) -> tuple[str, ...]:
     return (where, CHECK_DATASHEET)
 
 
-def _device(part: Part) -> Finding:
+def _device(part: Part) -> PartDescription:
     model = part.model or part.text
     pinout = pinout_for(model)
     notes = _pinout_notes(model, pinout)
     package = part.attrs.get("package")
-    return Finding(model, model, _words(package), pinout=pinout,
+    return PartDescription(model, model, _words(package), pinout=pinout,
                    polarity=POLARITY.get(part.type), notes=notes)
 
 
-def _led(part: Part) -> Finding:
+def _led(part: Part) -> PartDescription:
     model = part.model or part.text
-    return Finding(model, model, _words(part.attrs.get("size")), polarity=POLARITY["led"])
+    return PartDescription(model, model, _words(part.attrs.get("size")), polarity=POLARITY["led"])
 
 
-def _hardware(part: Part) -> Finding:
-    return Finding(part.text, part.text)
+def _hardware(part: Part) -> PartDescription:
+    return PartDescription(part.text, part.text)
 
 
-_FINDERS: Mapping[str, Callable[[Part], Finding]] = MappingProxyType(
+_DESCRIBERS: Mapping[str, Callable[[Part], PartDescription]] = MappingProxyType(
     {
         "resistor": _resistor,
         "capacitor": _capacitor,
@@ -145,6 +147,6 @@ _FINDERS: Mapping[str, Callable[[Part], Finding]] = MappingProxyType(
 )
 
 
-def find(part: Part) -> Finding:
-    """The finding aids of ``part``; an unknown type is listed by its text alone."""
-    return _FINDERS.get(part.type, _hardware)(part)
+def describe(part: Part) -> PartDescription:
+    """How ``part`` is written, bought and recognised; an unknown type by its text alone."""
+    return _DESCRIBERS.get(part.type, _hardware)(part)

@@ -1,0 +1,74 @@
+"""How a computed figure is shown on a page or in a terminal: the display formatters, by name.
+
+Specs hold SI floats and ranges; this module alone turns them into words. The Jinja
+environment registers :data:`FORMATTERS` as its filters, and the commands call the same
+functions, so a figure reads the same on the page and on the command line.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+from kitleaf.values import format_db, format_value
+
+DASH = "–"  # where there is no figure
+
+
+def si(value: float | None, quantity: str, digits: int = 3) -> str:
+    """One value in its SI unit, to ``digits`` significant figures: "4.7 kΩ"."""
+    return DASH if value is None else format_value(value, quantity, digits)
+
+
+def figure(value: float | None, quantity: str) -> str:
+    """One plain value in its unit ("db" for decibels, "meter" as a meter shows volts)."""
+    return DASH if value is None else _one(value, quantity)
+
+
+def _one(value: float, quantity: str) -> str:
+    if quantity == "db":
+        return format_db(value)
+    if quantity == "meter":
+        return meter_volts(value)
+    return format_value(value, quantity)
+
+
+def meter_volts(volts: float) -> str:
+    """A DC voltage as a multimeter on its 20 V range shows it: "6.87 V", "0.00 V".
+
+    A builder compares the table with the meter's display, so the voltage table keeps one unit
+    and two decimals instead of switching to mV or µV (common practice, no source).
+    """
+    text = f"{volts:.2f}"
+    return f"{'0.00' if text == '-0.00' else text} V"
+
+
+def range_text(value, quantity: str) -> str:
+    """A spec as the trade writes it, with its tolerance spread: "25.8 dB (24.9–26.6)"."""
+    if value is None:
+        return DASH
+    nominal = _one(value.nominal, quantity)
+    if value.low is None or value.high is None:
+        return nominal
+    low, high = _one(value.low, quantity), _one(value.high, quantity)
+    if low == high == nominal:  # no spread at this precision
+        return nominal
+    unit = nominal.partition(" ")[2]
+    if low.endswith(" " + unit) and high.endswith(" " + unit):
+        low, high = low.partition(" ")[0], high.partition(" ")[0]
+    # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
+    joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
+    return f"{nominal} ({low}{joiner}{high})"
+
+
+def percent(fraction: float) -> str:
+    """A knob position as a share of its rotation: "25 %"."""
+    return f"{round(fraction * 100):d} %"
+
+
+# Every number a page shows goes through one of these (the templates' filters, by name).
+FORMATTERS: dict[str, Callable[..., str]] = {
+    "si": si,
+    "range_text": range_text,
+    "percent": percent,
+    "figure": figure,
+}

@@ -1,0 +1,37 @@
+"""The specs as a short plain-text summary for the terminal (``kitleaf specs``)."""
+
+from __future__ import annotations
+
+from kitleaf.display import percent, range_text
+from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
+
+
+def specs_to_text(specs: KitSpecs) -> str:
+    """A short plain-text summary for the terminal."""
+    lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
+             f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
+             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             f"  band gain          {range_text(specs.band_gain_db, 'db')}",
+             f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
+             f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
+             f"  input impedance    {range_text(specs.input_impedance, 'resistance')}",
+             f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
+             f"  current draw       {range_text(specs.supply_current, 'current')}",
+             f"  output headroom    {_swing(specs.headroom)}"]
+    for s in specs.stages:
+        lines.append(f"  stage {s.id} ({s.kind})")
+        if s.gain_db is not None:
+            lines.append(f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}")
+        for v in s.voltages:
+            readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
+                                 for sup, r in zip(specs.supplies, v.readings, strict=True))
+            lines.append(f"    {v.label:<16} {readings}")
+    return "\n".join(lines)
+
+
+def _knobs(point: KnobPoint) -> str:
+    return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
+
+
+def _swing(h: Headroom | None) -> str:
+    return "–" if h is None else f"{range_text(h.volts, 'voltage')} peak ({h.limit})"
