@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from kitleaf.engine import elements as el
 from kitleaf.engine.batch import BatchResult
 from kitleaf.engine.harmonics import Distortion, distortion
 from kitleaf.engine.newton import extend
@@ -25,8 +26,10 @@ from kitleaf.errors import SolveError
 
 POINTS = 256  # output points per period
 MAX_SHOTS = 12
-SHOT_RELTOL = 1e-6  # the ports' mismatch x(T) - x(0) allowed, relative
-SHOT_ABSTOL = 1e-8  # volts (amperes for an inductor's current)
+# The ports' mismatch x(T) - x(0) allowed: this share of the port's value plus this share of
+# the member's drive level (a ramp left over would leak into every harmonic).
+SHOT_RELTOL = 1e-9
+SHOT_DRIVE = 1e-5
 MAX_FREQ = 1e6  # hertz; a drive above this is not an audio question
 MAX_LEVEL = 100.0  # volts peak
 
@@ -89,7 +92,7 @@ def periodic_steady_state(batches: Sequence[BatchResult], source: str, levels: S
     cap_a = batches[0].system.cap_columns()[0]
     x_end, waves, ok, reasons, passes = _shoot(drive, x0, cap_a, rows, points)
     shape = (len(batches), levels_arr.size, batches[0].size)
-    out = {n: _detrended(waves[:, i]).reshape(*shape, points) for i, n in enumerate(nodes)}
+    out = {n: _periodic(waves[:, i]).reshape(*shape, points) for i, n in enumerate(nodes)}
     return PeriodicResult(freq, levels_arr, out, ok.reshape(shape), reasons.reshape(shape),
                           passes)
 
@@ -117,9 +120,11 @@ def _drive(batches: Sequence[BatchResult], source: str, levels: np.ndarray,
                                      for b in batches]) for k in bank.params}
         banks.append(bank.with_params(**params))
     amplitude = np.tile(np.repeat(levels, samples), len(batches))
+    own = {n for e in first.system.elements for n in el.terminals(e)}
+    judged = np.array([i for i, n in enumerate(first.layout.nodes) if n in own])
     drive = Drive(np.concatenate(g), np.concatenate(c), first.problem.devices.with_banks(banks),
                   first.system.rhs()[0], first.excitation(source), amplitude,
-                  2.0 * math.pi * freq, len(first.layout.nodes))
+                  2.0 * math.pi * freq, len(first.layout.nodes), judged)
     return drive, np.concatenate(x0)
 
 
@@ -137,8 +142,8 @@ def _shoot(drive: Drive, x0: np.ndarray, cap_a: np.ndarray, rows: list[int | Non
             done = ~failed
             break
         residual = x_end @ cap_a - start
-        done |= ~failed & np.all(np.abs(residual) <= SHOT_RELTOL * np.abs(start) + SHOT_ABSTOL,
-                                axis=1)
+        allowed = SHOT_RELTOL * np.abs(start) + SHOT_DRIVE * drive.amplitude[:, None] + 1e-15
+        done |= ~failed & np.all(np.abs(residual) <= allowed, axis=1)
         if done.all() or passes == MAX_SHOTS:
             break
         monodromy = np.einsum("nm,bnk->bmk", cap_a, sens) - np.eye(ports)
@@ -174,10 +179,8 @@ def _keep(waves: np.ndarray, k: int, x: np.ndarray, rows: list[int | None]) -> N
         waves[:, i, k] = 0.0 if r is None else x[:, r]
 
 
-def _detrended(wave: np.ndarray) -> np.ndarray:
-    """The first ``points`` samples with the period's leftover drift x(T) - x(0) taken out
-    as a ramp (within the shooting tolerance it is tiny; a ramp would leak into every
-    harmonic)."""
-    points = wave.shape[-1] - 1
-    drift = wave[..., -1:] - wave[..., :1]
-    return wave[..., :-1] - drift * (np.arange(points) / points)
+def _periodic(wave: np.ndarray) -> np.ndarray:
+    """The period's samples at t = 0, T/N, ... from the solved points: t = 0 is taken at T,
+    where the periodic state repeats it (the start itself is a lifted guess whose non-port
+    unknowns the first step corrects)."""
+    return np.concatenate([wave[..., -1:], wave[..., 1:-1]], axis=-1)

@@ -7,7 +7,16 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from kitleaf.engine import elements as el
-from kitleaf.engine.devices.opamp import H_MIN, R1
+from kitleaf.engine.devices.opamp import (
+    CLAMP_OVERDRIVE,
+    CLAMP_U,
+    CLAMP_WIDTH,
+    H_MIN,
+    LIMIT_FLOOR,
+    R1,
+    compensation,
+    slew_current,
+)
 from kitleaf.engine.models import DeviceModel
 
 _SPICE_KIND = {"diode": "D", "npn": "NPN", "pnp": "PNP", "njf": "NJF", "pjf": "PJF"}
@@ -69,26 +78,37 @@ def _model_card(name: str, model: DeviceModel) -> list[str]:
 
 
 def _opamp_card(name: str, model: DeviceModel) -> list[str]:
-    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit with a B source."""
+    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit of B sources."""
     p = model.get
     vhi, vlo = f"(v(vpos)-{_num(p('SWING_HI'))})", f"(v(vneg)+{_num(p('SWING_LO'))})"
     mid, half = f"(({vhi}+{vlo})/2)", f"max(({vhi}-{vlo})/2,{_num(H_MIN)})"
     f = f"({mid}+{half}*tanh((v(x)-{mid})/{half}))"
-    cap = 1.0 / (2 * math.pi * p("GBW") / p("AOL") * R1)
+    isr = float(slew_current(p))
+    gm = p("AOL") / R1
+    ilim, rout = p("ILIM"), p("ROUT")
+    width, g_clamp = CLAMP_WIDTH, isr / CLAMP_OVERDRIVE
+    over = _softplus(f"(v(x)-{mid}-{_num(CLAMP_U)}*{half})/{_num(width)}")
+    under = _softplus(f"({mid}-{_num(CLAMP_U)}*{half}-v(x))/{_num(width)}")
     return [
         f".subckt {name} inp inn out vpos vneg",
         f"rin inp inn {_num(p('RIN'))}",
-        f"g1 vneg x inp inn {_num(p('AOL') / R1)}",
+        f"b2 vneg x i={_num(isr)}*tanh({_num(gm / isr)}*v(inp,inn))",
         f"g2 vneg x vpos vneg {_num(0.5 / R1)}",
         f"r1 x vneg {_num(R1)}",
-        f"c1 x vneg {_num(cap)}",
-        f"b1 0 out i={f}/{_num(p('ROUT'))}",
-        f"rout out 0 {_num(p('ROUT'))}",
+        f"c1 x vneg {_num(float(compensation(p)))}",
+        f"b3 x vneg i={_num(g_clamp * width)}*({over}-{under})",
+        f"b1 0 out i={_num(ilim)}*tanh(({f}-v(out))/{_num(rout * ilim)})"
+        f"+({f}-v(out))/{_num(rout / LIMIT_FLOOR)}",
         f"iq vpos vneg dc {_num(p('IQ'))}",
         f"ibp inp vneg dc {_num(p('IB'))}",
         f"ibn inn vneg dc {_num(p('IB'))}",
         ".ends",
     ]
+
+
+def _softplus(z: str) -> str:
+    """log(1 + e^z) written so it cannot overflow."""
+    return f"(max({z},0)+ln(1+exp(-abs({z}))))"
 
 
 def _passive(prefix: str):

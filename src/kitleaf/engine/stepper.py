@@ -23,8 +23,8 @@ RELTOL = 1e-7  # Newton's per-step tolerance, relative
 VNTOL = 1e-8  # volts
 ABSTOL = 1e-9  # amperes, branch currents (their rows see C / h times volts of rounding)
 MAX_NEWTON = 25
-LTE_RELTOL = 1e-4  # the local truncation error allowed per step
-LTE_VNTOL = 1e-5  # volts
+LTE_RELTOL = 1e-4  # the local truncation error allowed per step, relative to the node's volts
+LTE_DRIVE = 1e-5  # and, in volts, this share of the member's drive level (small drives small)
 LTE_FACTOR = 2.0 / 11.0  # BDF2's error constant 2/9 over (1 + 2/9): LTE from the predictor gap
 MIN_FRACTION = 2.0 ** -8  # the smallest step, as a fraction of the output interval
 
@@ -41,6 +41,9 @@ class Drive:
     amplitude: np.ndarray  # (B,)
     omega: float
     node_count: int
+    # the nodes whose local error is judged: the circuit's own (a device's internal nodes,
+    # such as an op-amp's clamped gain node, show only through them)
+    judged: np.ndarray
 
     def rhs(self, t: float) -> np.ndarray:
         wave = self.amplitude * np.sin(self.omega * t)
@@ -149,9 +152,11 @@ def _newton(drive: Drive, hist: History, x: np.ndarray, c: np.ndarray, c0: float
 
 def _local_error(drive: Drive, hist: History, t: float, x: np.ndarray) -> np.ndarray:
     """The step's local error over its tolerance, on node voltages, worst node per sample."""
-    gap = LTE_FACTOR * np.abs(x - predict(hist, t))[:, :drive.node_count]
-    scale = LTE_RELTOL * np.maximum(np.abs(x), np.abs(hist.x[0]))[:, :drive.node_count]
-    return np.max(gap / (scale + LTE_VNTOL), axis=1)
+    rows = drive.judged
+    gap = LTE_FACTOR * np.abs(x - predict(hist, t))[:, rows]
+    scale = LTE_RELTOL * np.maximum(np.abs(x[:, rows]), np.abs(hist.x[0][:, rows]))
+    floor = LTE_DRIVE * drive.amplitude[:, None] + 1e-12
+    return np.max(gap / (scale + floor), axis=1)
 
 
 def accept(drive: Drive, hist: History, h: float, res: StepResult) -> None:
