@@ -66,3 +66,33 @@ def checks_of(text: str, path: str = "test.md") -> Checks:
 
 def findings(text: str, rule: str) -> list:
     return [f for f in checks_of(text).findings if f.rule == rule]
+
+# A 2N5457 source follower biased at half the rail: the source sits about |VGS| above the
+# gate, and across the 2N5457's wide pinch-off range it climbs close to the rail.
+BUFFER = """\
+```kit
+title: Fernbrook Test Buffer
+code: FB-T8
+supply: 9 V
+```
+
+```stage power
+kind: power
+reverse-diode: D1 1N5817
+bulk-cap: C10 100u electrolytic 16V
+```
+
+```stage buffer
+kind: custom
+title: JFET buffer
+nodes: g s
+part: C1 100n film 63V @ in g
+part: R1 1M @ vcc g
+part: R2 1M @ g 0
+part: Q2 2N5457 @ vcc g s
+part: R3 10k @ s 0
+part: C2 1u film 63V @ s out
+part: R4 1M @ out 0
+test-point: Q2 source = s
+```
+"""

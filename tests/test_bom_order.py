@@ -10,6 +10,7 @@ import pytest
 from bom_kits import MILLRACE, TIDEWATER, by_designator, capacitor, resistor
 from kitleaf.bom import batch_order, bom_csv, bom_lines, bom_text, order_csv, rating_warnings
 from kitleaf.errors import KitleafError
+from kitleaf.specs.ratings import Stress
 
 
 def order_by_value(order):
@@ -96,6 +97,7 @@ def test_bom_text_has_a_heading_per_group():
 
 
 def stressed(stresses, parts=MILLRACE):
+    stresses = {designator: Stress(value) for designator, value in stresses.items()}
     lines = rating_warnings(bom_lines(parts), stresses)
     return {w.designator: w for line in lines for w in line.warnings}
 
@@ -130,12 +132,12 @@ def test_polarised_capacitor_without_rating_is_flagged():
 
 def test_rating_warnings_is_pure():
     lines = bom_lines(MILLRACE)
-    rating_warnings(lines, {"C2": 24.0})
+    rating_warnings(lines, {"C2": Stress(24.0)})
     assert all(line.warnings == () for line in lines)
     assert str(stressed({"C2": 24.0})["C2"]).count("warning: C2 sees 24 V") == 1
 
 
 def test_warnings_reach_the_text_output():
-    lines = rating_warnings(bom_lines(MILLRACE), {"C2": 24.0})
-    assert "warning: C2 sees 24 V" in bom_text(lines)
+    lines = rating_warnings(bom_lines(MILLRACE), {"C2": Stress(24.0, "knobs at half way")})
+    assert "warning: C2 sees 24 V (knobs at half way)" in bom_text(lines)
     assert by_designator(lines)["C2"].warnings[0].designator == "C2"

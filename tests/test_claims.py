@@ -9,7 +9,7 @@ from kitleaf.errors import KitleafError, SpecError
 from kitleaf.specs.claims import Claim, holds
 from kitleaf.specs.lookup import Computed
 from kitleaf.specs.model import Range
-from rules_kits import GUIDE, checks_of, swapped
+from rules_kits import BUFFER, GUIDE, checks_of, swapped
 
 
 def with_stage_line(line: str) -> str:
@@ -77,6 +77,18 @@ class TestClaims:
         with pytest.raises(SpecError, match=r"did you mean 'q1\.collector'") as err:
             checks_of(text)
         assert err.value.span.line == line_of(text, "q1.colector")
+
+    def test_a_custom_test_point_is_named_stage_dot_node(self):
+        # docs/claims-and-rules.md: a test point with no device is STAGE.NODE, the node as the
+        # guide writes it ('test-point: Q2 source = s' in stage buffer).
+        assert "buffer.s" in checks_of(BUFFER).values
+        assert "buffer.buffer-s" not in checks_of(BUFFER).values
+
+    def test_its_label_spelled_as_device_and_pin_suggests_the_node_name(self):
+        text = BUFFER.replace("test-point: Q2 source = s",
+                              "test-point: Q2 source = s\nclaim: buffer.q2.source below 8 V")
+        with pytest.raises(SpecError, match=r"did you mean 'buffer\.s'\?"):
+            checks_of(text)
 
     @pytest.mark.parametrize("line, words", [
         ("claim: gain.level-100 around 25 dB", "cannot read the claim"),

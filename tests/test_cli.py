@@ -170,3 +170,22 @@ def test_strict_build_lists_findings_beside_another_guides_error(tmp_path, capsy
     assert sum(f"{guides / 'a.md'}:" in line for line in built) == 2
     assert sum(f"{guides / 'b.md'}:" in line for line in built) == 1
     assert sorted(built[:-1]) == sorted(line for line in checked if line.startswith(str(guides)))
+
+
+def test_a_long_word_is_cut_in_the_error_line(tmp_path, capsys):
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    path = tmp_path / "long.md"
+    path.write_text(good.replace("R3 8k2", "R3 8k2 " + "x" * 200_000), encoding="utf-8")
+    assert main(["check", str(path)]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith(f"{path}:")
+    assert len(err[0]) < 400 and "x…[2000" in err[0]
+
+
+def test_a_knob_named_with_accents_keeps_its_letters_in_names(tmp_path, capsys):
+    # The Brookside's prose shows {=kit.gain.level-100}: with the knob spelt 'Lével' the name
+    # is still 'level', not 'l-vel'.
+    good = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    path = tmp_path / "accent.md"
+    path.write_text(good.replace("knob: Level = VR1", "knob: Lével = VR1"), encoding="utf-8")
+    assert main(["check", str(path)]) == 0, capsys.readouterr().err

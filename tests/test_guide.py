@@ -4,6 +4,8 @@ import pytest
 
 from kitleaf.errors import GuideError
 from kitleaf.guide import parse_guide
+from kitleaf.guide.slug import slug_for
+from kitleaf.guide.source import LARGEST_GUIDE
 
 GUIDE = """\
 # A test kit
@@ -88,3 +90,62 @@ class TestMistakes:
             parse("# nothing\n")
         copy = pickle.loads(pickle.dumps(info.value))
         assert str(copy) == str(info.value)
+
+
+class TestHostileFiles:
+    """What a text editor, a wrong file or a careless save can hand the parser."""
+
+    def test_byte_order_mark_is_read_past(self, tmp_path):
+        path = tmp_path / "bom.md"
+        path.write_bytes(b"\xef\xbb\xbf" + GUIDE.encode("utf-8"))
+        guide = parse_guide(path)
+        assert guide.kit.title == "Test Boost" and guide.stages[0].span.line == 16
+
+    def test_non_utf8_byte_is_reported_at_its_own_line(self, tmp_path):
+        path = tmp_path / "latin.md"
+        path.write_bytes(GUIDE.replace("More prose.", "Caf\xe9 prose.").encode("latin-1"))
+        with pytest.raises(GuideError, match="byte 0xe9 is not UTF-8") as info:
+            parse_guide(path)
+        assert info.value.span.line == 14
+
+    def test_binary_file_is_refused_at_its_first_nul(self, tmp_path):
+        path = tmp_path / "binary.md"
+        path.write_bytes(b"```kit\ntitle: X\n\x00\x01\x02")
+        with pytest.raises(GuideError, match="NUL") as info:
+            parse_guide(path)
+        assert info.value.span.line == 3
+
+    def test_huge_file_is_refused_unread(self, tmp_path):
+        path = tmp_path / "huge.md"
+        path.write_bytes(GUIDE.encode("utf-8") + b"x" * LARGEST_GUIDE)
+        with pytest.raises(GuideError, match="too large for a guide") as info:
+            parse_guide(path)
+        assert info.value.span.line == 1
+
+    def test_empty_file_has_no_kit_block(self, tmp_path):
+        path = tmp_path / "empty.md"
+        path.write_bytes(b"")
+        with pytest.raises(GuideError, match="no kit block"):
+            parse_guide(path)
+
+    def test_a_tab_may_separate_stage_and_id(self):
+        stage = parse(GUIDE.replace("```stage boost", "```stage\tboost")).stages[0]
+        assert stage.id == "boost"
+
+    @pytest.mark.parametrize("info", ["text", "js", "sh", "python", "c", "stan"])
+    def test_code_samples_stay_prose(self, info):
+        assert len(parse(GUIDE + f"\n```{info}\nkind: nothing\n```\n").stages) == 1
+
+
+class TestKnobNames:
+    @pytest.mark.parametrize(("name", "expected"), [
+        ("Lével", "level"), ("Mid Boost", "mid-boost"), ("Größe", "grosse"),
+        ("Ton (Höhen)", "ton-hohen"),
+    ])
+    def test_accents_are_dropped_from_the_name_part(self, name, expected):
+        assert slug_for(name) == expected
+
+    def test_a_knob_with_no_plain_letter_is_refused(self):
+        with pytest.raises(GuideError, match="needs a letter a-z") as info:
+            parse(GUIDE.replace("knob: Level = VR1", "knob: Громкость = VR1"))
+        assert info.value.span.line == 9

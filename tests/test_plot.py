@@ -14,10 +14,12 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from matplotlib.font_manager import FontProperties
+from matplotlib.textpath import text_to_path
 
 from kitleaf.circuit.chain import INPUT, OUTPUT
 from kitleaf.engine.spice_export import to_spice
-from kitleaf.render.plot import render_response_svg
+from kitleaf.render.plot import Panel, ResponsePlot, Trace, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.specs.solve import nominal_positions
 from specs_kits import solved
@@ -184,3 +186,119 @@ def test_kit_curve_against_ngspice(name):
     ours = np.interp(np.log(reference[:, 0]), np.log(plot.freqs), middle.gain_db)
     # Debian's ngspice as the oracle: same netlist, its own AC analysis
     assert np.max(np.abs(ours - reference[:, 1])) < 0.02
+
+
+# DejaVu Sans's ascender and descender (its OS/2 table: 1556 and 492 of 2048 units), the line
+# box every label of the plot is laid out in.
+ASCENT, DESCENT = 1556 / 2048, 492 / 2048
+FREQS = tuple(np.logspace(1, np.log10(40e3), 64).tolist())
+
+
+def text_boxes(root: ET.Element) -> list[tuple[str, float, float, float, float]]:
+    """Each text's (string, left, top, right, bottom) in points, from the font's own metrics
+    (matplotlib's DejaVu Sans) rather than anything the plot module computes."""
+    boxes = []
+    for t in root.iter(f"{SVG}text"):
+        style = dict(p.split(": ") for p in t.get("style").split("; "))
+        size = float(style["font-size"].removesuffix("px"))
+        font = FontProperties(family="DejaVu Sans", size=size,
+                              weight="bold" if style.get("font-weight") == "700" else "normal")
+        width = text_to_path.get_text_width_height_descent(t.text, font, ismath=False)[0]
+        shift = {"start": 0.0, "middle": 0.5, "end": 1.0}[style["text-anchor"]] * width
+        if "transform" in t.attrib:  # translate(x y) rotate(-90): read bottom to top
+            x, y = (float(v) for v in re.findall(r"[-\d.]+", t.get("transform"))[:2])
+            boxes.append((t.text, x - ASCENT * size, y - width + shift, x + DESCENT * size,
+                          y + shift))
+        else:
+            x, y = float(t.get("x")), float(t.get("y"))
+            boxes.append((t.text, x - shift, y - ASCENT * size, x - shift + width,
+                          y + DESCENT * size))
+    return boxes
+
+
+def knob_panel(knob: str, others: str, offset: float, band: float) -> Panel:
+    """A made-up panel: five positions of a knob as gentle humps, the lowest far below the
+    rest, and a tolerance band ``band`` dB either side of the middle curve."""
+    hump = -6 * np.log10(np.asarray(FREQS) / 1e3) ** 2
+    levels = (-120.0, -20.0, -8.0, 0.0, 6.0)
+    curves = tuple(Trace(f"{knob} {25 * i} %", tuple((hump + level + offset).tolist()))
+                   for i, level in enumerate(levels))
+    middle = hump + offset - 8.0
+    return Panel(f"{knob} knob turned, {others} at 50 %", curves,
+                 tuple((middle - band).tolist()), tuple((middle + band).tolist()),
+                 ((35.0, "−3 dB 35.0 Hz"), (9000.0, "−3 dB 9.00 kHz")))
+
+
+def made_up_plot(title: str, knobs: tuple[str, ...], band: float = 2.0):
+    panels = tuple(knob_panel(k, " and ".join(o for o in knobs if o != k), 3.0 * i, band)
+                   for i, k in enumerate(knobs))
+    return ResponsePlot(title, FREQS, panels)
+
+
+def overlaps(a, b) -> bool:
+    return a[1] < b[3] and b[1] < a[3] and a[2] < b[4] and b[2] < a[4]
+
+
+@pytest.mark.parametrize("plot", [
+    made_up_plot("Fernbrook Test Kit: gain from the input jack to the output jack",
+                 ("Volume", "Gain", "Tone")),
+    made_up_plot("Fernbrook Test Kit: gain from the input jack to the output jack",
+                 ("Volume", "Gain", "Drive", "Tone", "Master")),
+    made_up_plot("Fernbrook Extraordinarily Long Named Overdrive With A Very Long Title: gain "
+                 "from the input jack to the output jack", ("Presence control",)),
+], ids=["three knobs", "five knobs", "long title"])
+def test_every_label_is_whole_on_the_sheet_and_clear_of_every_other(plot):
+    """No label is cut by the sheet's edge ("Volume 0 % (below the plot)" in full) and none
+    overlaps another (the figure title clear of the first panel's title)."""
+    root = svg_tree(plot)
+    width, height = (float(v) for v in root.get("viewBox").split()[2:])
+    boxes = text_boxes(root)
+    assert "Volume 0 % (below the plot)" in {b[0] for b in boxes} or len(plot.panels) == 1
+    for box in boxes:
+        assert box[1] >= 0 and box[2] >= 0 and box[3] <= width and box[4] <= height, box
+    clashes = [(a[0], b[0]) for i, a in enumerate(boxes) for b in boxes[i + 1:]
+               if overlaps(a, b)]
+    assert clashes == []
+
+
+def test_demo_plots_keep_every_label_whole_and_apart():
+    _, _, specs = solved("heron-opamp-boost")
+    root = svg_tree(kit_plot(specs))
+    boxes = text_boxes(root)
+    width = float(root.get("viewBox").split()[2])
+    assert all(0 <= b[1] and b[3] <= width for b in boxes)
+    assert [(a[0], b[0]) for i, a in enumerate(boxes) for b in boxes[i + 1:]
+            if overlaps(a, b)] == []
+
+
+def clip_rects(root: ET.Element) -> dict[str, tuple[float, float, float, float]]:
+    return {c.get("id"): tuple(float(c[0].get(k)) for k in ("x", "y", "width", "height"))
+            for c in root.iter(f"{SVG}clipPath")}
+
+
+@pytest.mark.parametrize("band", [2.0, 15.0])
+def test_the_tolerance_band_stays_inside_its_axes(band):
+    """A band wider than the curves widens the axes instead of running off their bottom edge,
+    so the grey never stands for values the axis does not show."""
+    rise = 12 * np.tanh(np.log10(np.asarray(FREQS) / 30.0))  # a gentle high-pass shape
+    panel = Panel("", (Trace("nominal parts", tuple(rise.tolist())),),
+                  tuple((rise - band).tolist()), tuple((rise + band).tolist()))
+    root = svg_tree(ResponsePlot("Fernbrook Test Kit", FREQS, (panel,)))
+    [(clip, (_, top, _, height))] = clip_rects(root).items()
+    [outline] = [e for e in root.iter(f"{SVG}path") if e.get("style") == "fill: #c9ced6"
+                 and e.get("clip-path") == f"url(#{clip})"]
+    ys = points(outline.get("d"))[:, 1]
+    assert ys.min() >= top - 0.01 and ys.max() <= top + height + 0.01
+
+
+def test_a_band_with_gaps_is_drawn_as_separate_closed_outlines():
+    """Where the band has no value (a sample set that did not solve there) it is left out,
+    each stretch outlined and closed on its own instead of one outline folding across."""
+    panel = made_up_plot("Fernbrook Test Kit", ("Level",)).panels[0]
+    low = list(panel.band_low)
+    low[20:30] = [float("nan")] * 10
+    gappy = Panel(panel.title, panel.curves, tuple(low), panel.band_high, panel.corners)
+    root = svg_tree(ResponsePlot("Fernbrook Test Kit", FREQS, (gappy,)))
+    [outline] = [e for e in root.iter(f"{SVG}path") if e.get("style") == "fill: #c9ced6"]
+    runs = re.findall(r"M[^MZ]*Z", outline.get("d"))
+    assert len(runs) == 2 and "".join(runs) == outline.get("d")

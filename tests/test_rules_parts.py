@@ -6,6 +6,9 @@ from __future__ import annotations
 
 import pytest
 
+from kitleaf.bom import bom_lines, rating_warnings
+from kitleaf.circuit.build import build_circuit
+from kitleaf.guide.parse import parse_guide
 from rules_kits import GUIDE, checks_of, findings, swapped
 
 # A custom stage whose electrolytic sits between a trimmer's wiper and VREF: the wiper swings
@@ -67,6 +70,25 @@ class TestResistorPower:
     def test_a_stated_one_watt_rating_passes(self):
         text = swapped(("R11 22k", "R11 100 1W"), ("R12 22k", "R12 100 1W"))
         assert findings(text, "resistor-power") == []
+
+
+class TestRatingsAgree:
+    def test_the_bom_warns_at_the_worst_knob_setting_as_the_rule_does(self):
+        # With Set fully clockwise the wiper sits at VCC (8.85 V), so R7 dissipates
+        # 8.85² / 470 = 167 mW, over half of an assumed 1/4 W; with Set at half way the 470 Ω
+        # load pulls the wiper under 0.1 V (hand calc). Half the rating: common practice.
+        stage = SWING.replace("part: R6 100k @ in out", "part: R6 100k @ in out\n"
+                              "part: R7 470 @ w 0")
+        text = swapped(("knob: Level = VR1", "knob: Level = VR1\nknob: Set = VR5")) + stage
+        checks = checks_of(text)
+        found = [f for f in checks.findings if f.rule == "resistor-power"]
+        assert [f.subject for f in found] == ["R7"]
+        assert "Set at 100 %" in found[0].message and "assumed" in found[0].message
+        kit = build_circuit(parse_guide("test.md", text))
+        warned = [w for line in rating_warnings(bom_lines(kit.parts()), checks.stresses)
+                  for w in line.warnings]
+        assert [(w.designator, w.message, w.span) for w in warned] \
+            == [("R7", found[0].message, found[0].span)]
 
 
 class TestLedCurrent:

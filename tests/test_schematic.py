@@ -2,15 +2,23 @@
 
 from __future__ import annotations
 
+import inspect
 import re
 import xml.etree.ElementTree as ET
+from pathlib import Path
 
 import pytest
 from tests.stages.kits import EVERY_KIND, make_kit, stage_block
 
 from kitleaf.bom import bom_lines
+from kitleaf.circuit import drawing
 from kitleaf.render import schematic_reuse
-from kitleaf.render.schematic import part_value, render_overview_svg, render_stage_svg
+from kitleaf.render.schematic import (
+    SchematicSheet,
+    part_value,
+    render_overview_svg,
+    render_stage_svg,
+)
 
 SVG = "{http://www.w3.org/2000/svg}"
 KIT = make_kit(*EVERY_KIND)
@@ -227,11 +235,31 @@ def test_overview_keeps_the_power_block_close():
     assert 0 < power[1] - chain[3] <= 72  # two grid units (72 pt) at most between them
 
 
+def protocol_methods() -> list[str]:
+    return [name for name, member in vars(drawing.Sheet).items()
+            if callable(member) and not name.startswith("_")]
+
+
+@pytest.mark.parametrize("name", protocol_methods())
+def test_the_schematic_sheet_keeps_the_drawing_protocol(name):
+    # What a stage kind may ask of a sheet (circuit/drawing.py), with the same parameters.
+    promised = inspect.signature(getattr(drawing.Sheet, name))
+    kept = inspect.signature(getattr(SchematicSheet, name))
+    assert [(p.name, p.default) for p in kept.parameters.values()] \
+        == [(p.name, p.default) for p in promised.parameters.values()]
+
+
+def test_the_protocol_is_what_the_kinds_use():
+    # Every method a kind calls on its sheet is in the protocol, so a kind needs no more.
+    used = set()
+    for path in sorted(Path(drawing.__file__).parent.glob("stages/*.py")):
+        used |= set(re.findall(r"\bsheet\.(\w+)\(", path.read_text(encoding="utf-8")))
+    assert used and used <= set(protocol_methods())
+
+
 def test_overlap_check_sees_a_clash():
     # the checker itself: two labels written at one point must be reported
-    from kitleaf.render.schematic import Sheet
-
-    sheet = Sheet()
+    sheet = SchematicSheet()
     sheet.text("R1 10k", (0.0, 0.0))
     sheet.text("C1 100n", (0.1, 0.0))
     boxes = [b for _, b in texts(sheet.svg())]
@@ -239,9 +267,7 @@ def test_overlap_check_sees_a_clash():
 
 
 def test_line_check_sees_a_label_on_a_wire():
-    from kitleaf.render.schematic import Sheet
-
-    sheet = Sheet()
+    sheet = SchematicSheet()
     sheet.wire((0.0, 0.0), (0.0, 3.0))
     sheet.text("100u elec.", (-0.5, 1.5))
     sheet.text("clear", (2.0, 1.5))
@@ -249,12 +275,10 @@ def test_line_check_sees_a_label_on_a_wire():
 
 
 def test_equal_elements_are_placed_once_and_the_table_stays_bounded(monkeypatch):
-    from kitleaf.render.schematic import Sheet
-
     monkeypatch.setattr(schematic_reuse, "PLACED", {})
     monkeypatch.setattr(schematic_reuse, "PLACED_LIMIT", 2)
     for _ in range(2):  # the same wire on two sheets: one entry
-        Sheet().wire((0.0, 0.0), (1.0, 0.0))
+        SchematicSheet().wire((0.0, 0.0), (1.0, 0.0))
     assert len(schematic_reuse.PLACED) == 1
-    Sheet().wire((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 2.0))  # three new, room for one
+    SchematicSheet().wire((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 2.0))  # three new, room for one
     assert len(schematic_reuse.PLACED) == 2

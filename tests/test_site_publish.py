@@ -9,6 +9,7 @@ from pathlib import Path
 import pytest
 
 import kitleaf.site.publish as publish_module
+from kitleaf.site.output_folder import PUBLISH_MARKER, marker_bytes
 from kitleaf.site.publish import publish
 
 
@@ -32,8 +33,9 @@ def site(tmp_path: Path) -> Path:
     return out
 
 
-def test_first_publish_writes_every_file(site: Path):
-    assert {k: v[0] for k, v in snapshot(site).items()} == SITE
+def test_first_publish_writes_every_file_and_its_list(site: Path):
+    assert {k: v[0] for k, v in snapshot(site).items()} == {**SITE,
+                                                            PUBLISH_MARKER: marker_bytes(SITE)}
 
 
 def test_unchanged_site_is_not_touched(site: Path):
@@ -58,7 +60,7 @@ def test_a_file_no_longer_built_is_removed(site: Path):
     files = {k: v for k, v in SITE.items() if k != "a/one.svg"}
     result = publish(site, files)
     assert result.removed == ("a/one.svg",)
-    assert set(snapshot(site)) == set(files)
+    assert set(snapshot(site)) == {*files, PUBLISH_MARKER}
 
 
 def test_failure_before_the_swap_leaves_the_site_whole(site: Path, monkeypatch):
@@ -87,7 +89,7 @@ def test_site_retired_mid_swap_is_restored(site: Path):
     retired = site.parent / ".site.old-xyz"
     os.replace(site, retired)
     publish(site, dict(SITE))
-    assert {k: v[0] for k, v in snapshot(site).items()} == SITE
+    assert {k: v[0] for k, v in snapshot(site).items() if k != PUBLISH_MARKER} == SITE
     assert not retired.exists()
 
 

@@ -8,6 +8,7 @@ import pytest
 
 from kitleaf.errors import ValueFormatError
 from kitleaf.values import (
+    READABLE_RANGE,
     format_db,
     format_range,
     format_rkm,
@@ -129,6 +130,12 @@ REJECTED = [
     ("1m", "resistance", "write M for mega"),  # lowercase m is milli, never mega
     ("1M", "capacitance", "not used here"),
     ("1/0W", "power", "division by zero"),
+    ("1e99999", "resistance", "too large"),  # overflows a float to inf
+    ("1e-99999", "resistance", "too small"),  # underflows to 0
+    ("1e308", "resistance", "too large"),
+    ("1e308u", "capacitance", "too large"),
+    ("1e-300u", "capacitance", "too small"),
+    ("1e9999999999999", "inductance", "too large"),
 ]
 
 
@@ -139,6 +146,29 @@ def test_rejected_inputs_say_what_was_expected(text, quantity, says):
     message = str(caught.value)
     assert says in message
     assert f"expected a{'n' if quantity[0] in 'aeiou' else ''} {quantity} such as" in message
+
+
+@pytest.mark.parametrize("quantity", sorted(READABLE_RANGE))
+def test_readable_range_ends_are_read_and_beyond_is_refused(quantity):
+    low, high = READABLE_RANGE[quantity]
+    unit = {"resistance": "R", "capacitance": "F", "inductance": "H"}.get(quantity, "")
+    assert parse_value(f"{low!r}{unit}", quantity) == low
+    assert parse_value(f"{high!r}{unit}", quantity) == high
+    for beyond, says in ((low / 10, "too small"), (high * 10, "too large")):
+        with pytest.raises(ValueFormatError, match=says):
+            parse_value(f"{beyond!r}{unit}", quantity)
+
+
+# Past int()'s 4300-digit limit, and past any value a builder writes.
+LONG = {"digits": "1" + "0" * 5000, "exponent": "1e" + "9" * 5000,
+        "fraction": "1/" + "1" * 5000 + "W", "decimal fraction": "1/0." + "0" * 400 + "1W"}
+
+
+@pytest.mark.parametrize("text", LONG.values(), ids=LONG.keys())
+def test_long_values_are_refused_before_conversion(text):
+    with pytest.raises(ValueFormatError, match="longer than any value") as caught:
+        parse_rating(text) if text.endswith("W") else parse_value(text, "resistance")
+    assert len(caught.value.message) < 200
 
 
 def test_unknown_quantity_is_a_programming_error():

@@ -12,6 +12,8 @@ from collections.abc import Callable
 from kitleaf.values import format_db, format_value
 
 DASH = "–"  # where there is no figure
+# Resistor power ratings as the trade writes them (common practice, no source).
+_WATT_FRACTIONS = {0.125: "1/8 W", 0.25: "1/4 W", 0.5: "1/2 W"}
 
 
 def si(value: float | None, quantity: str, digits: int = 3) -> str:
@@ -58,6 +60,11 @@ def range_text(value, quantity: str) -> str:
     # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
     joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
     return f"{nominal} ({low}{joiner}{high})"
+
+
+def power_text(watts: float) -> str:
+    """A power rating as the trade writes it: "1/4 W", "1 W", "200 mW"."""
+    return _WATT_FRACTIONS.get(watts) or format_value(watts, "power")
 
 
 def percent(fraction: float) -> str:

@@ -6,18 +6,33 @@ A user error prints as one line, ``path:line: error: message``; the CLI turns an
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
+
+# An echoed word longer than this is cut: a line of the guide can be any length.
+LONGEST_ECHO = 60
+_LONG_WORD = re.compile(rf"\S{{{LONGEST_ECHO + 1},}}")
+
+
+def printable(text: str, cut: bool = True) -> str:
+    """``text`` safe for a terminal on one line: every unprintable character (escape sequences,
+    bidirectional overrides, line breaks, tabs) written as its Python escape, and with ``cut``
+    each word longer than LONGEST_ECHO cut short."""
+    shown = "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in text)
+    if not cut:
+        return shown
+    return _LONG_WORD.sub(lambda m: f"{m[0][:LONGEST_ECHO]}…[{len(m[0])} characters]", shown)
 
 
 @dataclass(frozen=True)
 class SourceSpan:
-    """Where something came from in a guide: the file and a 1-based line."""
+    """Where something came from: a file or folder and, inside a guide, a 1-based line."""
 
     path: str
-    line: int
+    line: int | None = None  # None for a whole file or folder: no line to point at
 
     def __str__(self) -> str:
-        return f"{self.path}:{self.line}"
+        return self.path if self.line is None else f"{self.path}:{self.line}"
 
 
 class KitleafError(Exception):
@@ -31,8 +46,8 @@ class KitleafError(Exception):
         self.span = span
 
     def __str__(self) -> str:
-        where = f"{self.span}: " if self.span else ""
-        return f"{where}{self.kind}: {self.message}"
+        where = printable(f"{self.span}: ", cut=False) if self.span else ""
+        return f"{where}{self.kind}: {printable(self.message)}"
 
     def __reduce__(self):  # picklable across the build's process pool
         return (self.__class__, (self.message, self.span))

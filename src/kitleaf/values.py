@@ -85,6 +85,24 @@ _RKM_PREFIX: Mapping[int, str] = MappingProxyType(
     {-12: "p", -9: "n", -6: "u", -3: "m", 0: "R", 3: "k", 6: "M", 9: "G"}
 )
 
+# The span of values kitleaf reads per quantity, wide enough for any part a kit could hold
+# (a 1 mΩ shunt, a 1 TΩ input, a 0.1 pF stray) and narrow enough that the solver's products
+# of values stay far from a float's overflow (common practice, no source).
+READABLE_RANGE: Mapping[str, tuple[float, float]] = MappingProxyType(
+    {
+        "resistance": (1e-3, 1e12),
+        "capacitance": (1e-13, 1.0),
+        "inductance": (1e-9, 1e3),
+        "voltage": (1e-6, 1e5),
+        "current": (1e-15, 1e3),
+        "power": (1e-6, 1e5),
+        "frequency": (1e-3, 1e12),
+    }
+)
+# Longer than any value a builder writes: refused before any digit is converted (a number of
+# thousands of digits would be slow, or refused by Python's int()).
+_LONGEST_VALUE = 40
+
 # Quantities whose bare number is too easily misread (47 what? farads?) to accept.
 _NEEDS_MULTIPLIER = frozenset({"capacitance", "inductance"})
 
@@ -106,6 +124,12 @@ def _expected(quantity: str) -> str:
 
 def _fail(text: str, quantity: str, why: str) -> ValueFormatError:
     return ValueFormatError(f"cannot read {text!r}: {why}; {_expected(quantity)}")
+
+
+def _check_length(text: str, what: str, example: str) -> None:
+    if len(text.strip()) > _LONGEST_VALUE:
+        raise ValueFormatError(f"cannot read {what}: it is {len(text.strip())} characters "
+                               f"long, longer than any value; {example}")
 
 
 def _check_quantity(quantity: str) -> None:
@@ -146,7 +170,8 @@ def _read_decimal(match: re.Match[str], text: str, quantity: str) -> tuple[float
     number, exponent, suffix = match.groups()
     power = _suffix_exponent(suffix, text, quantity) if suffix else 0
     bare = not suffix and exponent is None
-    # Through the decimal text, so 100n is exactly the float nearest 1e-7.
+    # Through the decimal text, so 100n is exactly the float nearest 1e-7 (an exponent of a
+    # thousand or more overflows or underflows to inf or 0, which _in_range names).
     return float(f"{number}e{power + int(exponent or 0)}"), bare
 
 
@@ -186,13 +211,14 @@ def parse_value(text: str, quantity: str) -> float:
     other bare number for a capacitance or an inductance is refused (it needs a multiplier).
     """
     _check_quantity(quantity)
+    _check_length(text, "the value", _expected(quantity))
     clean = _normalise(text)
     if quantity == "capacitance" and _CODE.match(clean):
-        return _positive(_read_code(clean, quantity), text, quantity)
+        return _in_range(_read_code(clean, quantity), text, quantity)
     value, bare = _read_any(clean, text, quantity)
     if bare and quantity in _NEEDS_MULTIPLIER:
         raise _fail(text, quantity, "a bare number needs a multiplier")
-    return _positive(value, text, quantity)
+    return _in_range(value, text, quantity)
 
 
 def _read_any(clean: str, text: str, quantity: str) -> tuple[float, bool]:
@@ -207,14 +233,20 @@ def _read_any(clean: str, text: str, quantity: str) -> tuple[float, bool]:
     raise _fail(text, quantity, "not a number")
 
 
-def _positive(value: float, text: str, quantity: str) -> float:
-    if not value > 0 or not math.isfinite(value):
+def _in_range(value: float, text: str, quantity: str) -> float:
+    """``value`` if it lies in the quantity's readable range; an error saying which way not."""
+    low, high = READABLE_RANGE[quantity]
+    if low <= value <= high:
+        return value
+    if value <= 0 and not re.search(r"[1-9]", text):
         raise _fail(text, quantity, "values are positive")
-    return value
+    span = f"kitleaf reads {format_range(low, high, quantity)}"
+    raise _fail(text, quantity, f"{'too large' if value > high else 'too small'} ({span})")
 
 
 def parse_tolerance(text: str) -> float:
     """A tolerance as a fraction: "5%", "±5 %", "+/-1%" or an IEC 60062 letter ("J") -> 0.05."""
+    _check_length(text, "the tolerance", "write it like 5%")
     clean = text.strip().removeprefix("±").removeprefix("+/-").strip()
     if clean in _TOLERANCE_LETTERS:
         return _TOLERANCE_LETTERS[clean]
@@ -232,6 +264,7 @@ def parse_rating(text: str, quantity: str | None = None) -> float:
     The unit is required (a bare "25" could be either); a trailing "DC" is ignored. With
     ``quantity`` ("voltage" for a capacitor, "power" for a resistor) the unit must match it.
     """
+    _check_length(text, "the rating", "write it like 25V or 1/4W")
     clean = re.sub(r"\s*(?:DC|dc|Dc)$", "", _normalise(text))
     found = _UNITS.get(clean[-1:])
     wanted = (quantity,) if quantity else ("voltage", "power")

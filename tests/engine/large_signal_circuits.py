@@ -17,12 +17,16 @@ def _supplied(title: str) -> Circuit:
     return c.vsource("VREF", "ref", "0", dc=4.5)
 
 
-def diodes_to_ground() -> Circuit:
-    """A series resistor into two silicon diodes to ground, back to back."""
-    c = Circuit("diodes to ground").vsource("VIN", "in", "0", ac=1.0)
-    c.capacitor("C1", "in", "a", 220e-9).resistor("R1", "a", "b", 4.7e3)
-    c.diode("D1", "b", "0", "1N4148").diode("D2", "0", "b", "1N4148")
+def _series_clipper(title: str, ohms: float, model: str) -> Circuit:
+    """A series resistor into two diodes of ``model`` to ground, back to back."""
+    c = Circuit(title).vsource("VIN", "in", "0", ac=1.0)
+    c.capacitor("C1", "in", "a", 220e-9).resistor("R1", "a", "b", ohms)
+    c.diode("D1", "b", "0", model).diode("D2", "0", "b", model)
     return c.capacitor("C2", "b", "out", 22e-9).resistor("RL", "out", "0", 100e3)
+
+
+def diodes_to_ground() -> Circuit:
+    return _series_clipper("diodes to ground", 4.7e3, "1N4148")
 
 
 def feedback_diodes() -> Circuit:
@@ -35,11 +39,7 @@ def feedback_diodes() -> Circuit:
 
 
 def led_clipper() -> Circuit:
-    """A series resistor into two red LEDs to ground, back to back."""
-    c = Circuit("LED clipper").vsource("VIN", "in", "0", ac=1.0)
-    c.capacitor("C1", "in", "a", 220e-9).resistor("R1", "a", "b", 2.2e3)
-    c.diode("D1", "b", "0", "LED-RED").diode("D2", "0", "b", "LED-RED")
-    return c.capacitor("C2", "b", "out", 22e-9).resistor("RL", "out", "0", 100e3)
+    return _series_clipper("LED clipper", 2.2e3, "LED-RED")
 
 
 def common_emitter() -> Circuit:

@@ -23,7 +23,7 @@ def bank_of(build):
     return compile_circuit(build(c)).families[0]
 
 
-def check_slopes(bank, v: np.ndarray) -> None:
+def check_slopes(bank, v: np.ndarray, atol: float = 1e-12) -> None:
     _, slope = bank.evaluate(v)
     for k in range(v.shape[1]):
         h = np.zeros_like(v)
@@ -31,7 +31,7 @@ def check_slopes(bank, v: np.ndarray) -> None:
         up, _ = bank.evaluate(v + h)
         down, _ = bank.evaluate(v - h)
         np.testing.assert_allclose(slope[:, :, k], (up - down) / 2e-6, rtol=1e-5,
-                                   atol=1e-12)
+                                   atol=atol)
 
 
 class TestSlopes:
@@ -39,6 +39,29 @@ class TestSlopes:
         bank = bank_of(lambda c: c.bjt("Q1", "a", "b", "c", GP))
         v = np.array([[0.65, -4.0], [-3.0, 0.62], [0.72, 0.55], [0.2, 0.1]])[:, :, None]
         check_slopes(bank, v)
+
+    def test_gummel_poon_with_emitter_base_breakdown(self):
+        broken = DeviceModel("test-bv", "npn", {**GP.params, "BVEBO": 5.0})
+        bank = bank_of(lambda c: c.bjt("Q1", "a", "b", "c", broken))
+        check_slopes(bank, np.array([[-5.1, -3.0], [-4.9, 0.2], [0.65, -4.0]])[:, :, None])
+
+    @pytest.mark.parametrize("vpos, vneg", [(9.0, 0.0), (3.0, 0.0), (1.0, 0.2), (0.1, 0.0),
+                                            (0.0, 0.4), (0.0, 0.7), (0.0, 9.0)])
+    def test_opamp_on_working_collapsed_and_reversed_supplies(self, vpos, vneg):
+        bank = bank_of(lambda c: c.opamp("U1", "a", "b", "c", "a", "0", OA))
+        out = (vpos + vneg) / 2 - 0.05
+        for x in (vneg - 0.3, (vpos + vneg) / 2 + 0.01, vpos + 0.3):
+            # output currents near 10 mA: the differences' rounding is about 1e-11
+            check_slopes(bank, np.array([[[x], [vpos], [vneg], [out], [2e-5]]]), atol=1e-10)
+
+    @pytest.mark.parametrize("vpos, vneg", [(9.0, 0.0), (3.0, 0.0), (1.0, 0.2)])
+    def test_opamp_clamp_input_stage_and_current_limit(self, vpos, vneg):
+        # x past either clamp, the input stage deep in its tanh, the output near its limit
+        bank = bank_of(lambda c: c.opamp("U1", "a", "b", "c", "a", "0", OA))
+        vmid, h = (float(np.ravel(a)[0]) for a in _window(vpos, vneg, bank.p)[:2])
+        for x, vd, out in ((vmid + 4.02 * h, 0.5, vneg), (vmid - 4.02 * h, -0.5, vpos),
+                           (vmid + 3.9 * h, 0.02, vmid - 1.0)):
+            check_slopes(bank, np.array([[[x], [vpos], [vneg], [out], [vd]]]), atol=1e-8)
 
     @pytest.mark.parametrize("vgs, vgd", [(-1.0, -7.0), (-1.0, -1.4), (-1.4, -1.0),
                                           (-7.0, -1.0), (0.3, 0.1)])
@@ -67,7 +90,7 @@ class TestOpAmpLimit:
 
     def test_a_step_onto_the_flat_moves_one_unit_of_the_swing(self):
         bank = self.bank()
-        vmid, _, h = (np.asarray(a).ravel()[0] for a in _window_of(bank, 1.0, 0.0))
+        vmid, h = (np.asarray(a).ravel()[0] for a in _window_of(bank, 1.0, 0.0)[:2])
         old = np.array([[[vmid + 1.5 * h], [1.0], [0.0]]])
         new = np.array([[[vmid + 9.0 * h], [1.0], [0.0]]])
         got = bank.limit(new, old)

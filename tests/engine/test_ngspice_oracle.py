@@ -173,3 +173,20 @@ class TestBetaDroopAtLowCurrent(OracleCase):
         c.resistor("RC1", "vcc", "c1", 1e6)
         c.resistor("RB2", "vcc", "b2", 47e3).bjt("Q2", "c2", "b2", "0", "2N3904")
         return c.resistor("RC2", "vcc", "c2", 470.0)
+
+
+class TestOutsideNormalOperation(OracleCase):
+    """Collapsed and reversed supplies, junctions in breakdown: what faulty builds do."""
+
+    def circuit(self) -> Circuit:
+        c = Circuit("outside normal operation").vsource("VSUP", "sup", "0", dc=9.0)
+        c.diode("D1", "low", "sup", "1N5817").resistor("R1", "low", "ref", 22e3)  # backwards
+        c.resistor("R2", "ref", "0", 22e3).opamp("U1", "ref", "o1", "o1", "low", "0", "LM358")
+        c.resistor("R3", "sup", "neg", 100.0).opamp("U2", "0", "0", "o2", "0", "neg", "TL072")
+        c.resistor("R4", "o2", "0", 10e3).resistor("R5", "sup", "one", 33e3)
+        c.resistor("R6", "one", "0", 4.7e3).opamp("U3", "one", "o3", "o3", "one", "0", "NE5532")
+        c.resistor("R7", "sup", "e", 10e3).bjt("Q1", "c", "0", "e", "2N3904")
+        c.resistor("R8", "c", "0", 1e6).resistor("R9", "sup", "k", 4.7e3)
+        c.diode("D2", "0", "k", "LED-RED").resistor("R10", "0", "e2", 10e3)
+        c.vsource("VNEG", "m", "0", dc=-9.0).resistor("R11", "m", "e2b", 10e3)
+        return c.bjt("Q2", "0", "e2b", "e2", "2N3906")

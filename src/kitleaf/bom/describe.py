@@ -10,11 +10,12 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
 
-from kitleaf.bom.order import POLARISED_DIELECTRICS
 from kitleaf.bom.pinouts import DIODE_VIEW, Pinout, pinout_for
 from kitleaf.circuit.parts import Part
+from kitleaf.display import power_text
 from kitleaf.errors import ValueFormatError
 from kitleaf.marking import Band, capacitor_code, resistor_bands
+from kitleaf.specs.ratings import POLARISED
 from kitleaf.values import format_rkm, format_value
 
 # Polarity notes (common practice, no source).
@@ -29,11 +30,6 @@ POLARITY: Mapping[str, str] = MappingProxyType(
 )
 
 CHECK_DATASHEET = "pinouts vary between makers: check the supplier's data sheet"
-
-# Resistor power ratings as the trade writes them (common practice, no source).
-_WATT_FRACTIONS: Mapping[float, str] = MappingProxyType(
-    {0.125: "1/8 W", 0.25: "1/4 W", 0.5: "1/2 W"}
-)
 
 
 @dataclass(frozen=True)
@@ -52,10 +48,6 @@ class PartDescription:
 
 def tolerance_text(tolerance: float | None) -> str | None:
     return None if tolerance is None else f"{tolerance * 100:g}%"
-
-
-def power_text(watts: float) -> str:
-    return _WATT_FRACTIONS.get(watts) or format_value(watts, "power")
 
 
 def _words(*texts: str | None) -> tuple[str, ...]:
@@ -79,7 +71,7 @@ def _capacitor(part: Part) -> PartDescription:
     rating = format_value(part.rating, "voltage") if part.rating else None
     attributes = _words(dielectric, tolerance_text(part.tolerance), rating)
     rkm, shown = format_rkm(part.value, "capacitance"), format_value(part.value, "capacitance")
-    if dielectric in POLARISED_DIELECTRICS:
+    if dielectric in POLARISED:
         printed = f"printed {shown}" + (f", {rating}" if rating else "")
         return PartDescription(rkm, shown, attributes, polarity=POLARITY[dielectric],
                                notes=(printed,))

@@ -10,6 +10,8 @@ from __future__ import annotations
 from collections.abc import Mapping
 from types import MappingProxyType
 
+from kitleaf.specs.ratings import POLARISED
+
 # Build group -> its place in the order, and the heading a page or a text list gives it.
 BUILD_ORDER: tuple[tuple[str, str], ...] = (
     ("resistor", "Resistors"),
@@ -50,13 +52,11 @@ _HARDWARE_PREFIX: tuple[tuple[str, str], ...] = (
     ("S", "switch"),
 )
 
-POLARISED_DIELECTRICS = frozenset({"electrolytic", "tantalum"})
-
 
 def build_group(part_type: str, designator: str, attrs: Mapping[str, str]) -> str:
     """The build group of a part: its type, split by dielectric or hardware designator."""
     if part_type == "capacitor":
-        polarised = attrs.get("dielectric") in POLARISED_DIELECTRICS
+        polarised = attrs.get("dielectric") in POLARISED
         return "polarised" if polarised else "capacitor"
     if part_type == "hardware":
         upper = designator.upper()

@@ -21,7 +21,11 @@ from kitleaf.engine.elements import Capacitor, terminals
 from kitleaf.engine.topology import check_topology
 from kitleaf.errors import CircuitError, KitleafError
 from kitleaf.guide.model import Entry, Guide
-from kitleaf.values import parse_value
+from kitleaf.values import format_value, parse_value
+
+# Supplies kitleaf solves: a single cell up to 60 V DC, the usual safety extra-low-voltage
+# limit of equipment standards (from memory); anything else is a typo such as '9k'.
+SUPPLY_RANGE = (1.0, 60.0)
 
 
 def build_circuit(guide: Guide) -> KitCircuit:
@@ -34,7 +38,7 @@ def build_circuit(guide: Guide) -> KitCircuit:
     kit = KitCircuit(
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),
-        supply_v=_volts(guide.kit.supply, guide.kit.span),
+        supply_v=_volts(guide.kit.supply, guide.kit.supply_span or guide.kit.span),
     )
     _check_dc_paths(kit)
     return kit
@@ -44,6 +48,10 @@ def _in_order(guide: Guide, stages: list[Stage]) -> list[Stage]:
     if not stages:
         raise CircuitError("the guide has no stage blocks; add one, like ```stage boost",
                            guide.kit.span)
+    if not any(KINDS[s.kind].signal for s in stages):
+        raise CircuitError(
+            f"the guide has no stage the signal passes through (only {stages[0].kind}); add "
+            "one, like ```stage boost with 'kind: common-emitter'", guide.kit.span)
     order = guide.kit.order
     if order is None:
         return stages
@@ -162,9 +170,15 @@ def _quantity(entry: Entry, quantity: str, expected: str) -> float:
     try:
         return parse_value(entry.value.strip(), quantity)
     except KitleafError as exc:
-        raise CircuitError(f"'{entry.key}:' {exc.message}; expected {expected}",
-                           entry.span) from None
+        why = exc.message.partition("; expected")[0]  # our own example follows instead
+        raise CircuitError(f"'{entry.key}:' {why}; expected {expected}", entry.span) from None
 
 
 def _volts(text: str, span) -> float:
-    return _quantity(Entry("supply", text, span), "voltage", "a voltage such as 9 V")
+    volts = _quantity(Entry("supply", text, span), "voltage", "a voltage such as 9 V")
+    low, high = SUPPLY_RANGE
+    if not low <= volts <= high:
+        raise CircuitError(
+            f"'supply: {text}' is {format_value(volts, 'voltage')}; kitleaf solves kits powered "
+            f"from {low:g} V to {high:g} V (batteries and adapters); write it like '9 V'", span)
+    return volts

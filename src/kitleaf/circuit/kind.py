@@ -6,6 +6,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, ClassVar
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Entry
@@ -106,8 +107,8 @@ class StageKind:
         """Roles whose pot is turned by the player (a knob), not set once on the bench."""
         return ()
 
-    def draw(self, stage: Stage, sheet) -> None:
-        """Draw the stage on a schematic sheet from ``kitleaf.render.schematic``."""
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
+        """Draw the stage on ``sheet`` (the drawing protocol of :mod:`kitleaf.circuit.drawing`)."""
         raise NotImplementedError
 
     def check(self, stage: Stage) -> None:

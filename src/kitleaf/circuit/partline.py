@@ -28,6 +28,10 @@ DIELECTRICS = {
     "electrolytic", "tantalum",
 }
 TAPERS = {"lin": "lin", "log": "log", "rlog": "rlog"}
+# The keys a part line may give as key=value: what a buyer needs to pick the part, read by
+# the BOM; words with any other key would be read by nothing (a model's parameters come from
+# its model name), so they are refused.
+ATTRIBUTE_KEYS = ("package", "colour", "size", "shaft", "mount")
 # Pot value prefixes as marked on many pots: A audio (log), B linear, C reverse log.
 TAPER_LETTERS = {"A": "log", "B": "lin", "C": "rlog"}
 # Default tolerances where the line states none (common practice, no source).
@@ -129,7 +133,7 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
     quantity = PART_QUANTITY[part_type]
     value = model = None
     if part_type == "pot" and value_text[:1] in TAPER_LETTERS and len(value_text) > 1:
-        attrs.setdefault("taper", TAPER_LETTERS[value_text[0]])
+        _set_once(attrs, "taper", TAPER_LETTERS[value_text[0]], value_text)
         value_text = value_text[1:]
     if quantity is None:
         model = device_model(part_type, value_text)
@@ -151,14 +155,32 @@ def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):
     if low[-1:] in ("v", "w") and low[:1].isdigit():
         return tolerance, parse_rating(word, RATING_QUANTITY.get(part_type))
     if low in DIELECTRICS and part_type == "capacitor":
-        attrs["dielectric"] = low
+        _set_once(attrs, "dielectric", low, word)
     elif low in TAPERS and part_type == "pot":
-        attrs["taper"] = TAPERS[low]
+        _set_once(attrs, "taper", TAPERS[low], word)
     elif (match := _KEYVALUE.match(word)) is not None:
-        attrs[match[1]] = match[2]
+        _key_value(match[1], match[2], attrs)
     else:
         raise CircuitError(
             f"unknown attribute {word!r}; write a tolerance (1%), a rating (25V, 0.25W), "
             "a dielectric (film, ceramic, electrolytic), a taper (lin, log) or key=value"
         )
     return tolerance, rating
+
+
+def _set_once(attrs: dict, key: str, value: str, word: str) -> None:
+    """A taper or dielectric written twice must agree with itself."""
+    if attrs.get(key, value) != value:
+        raise CircuitError(f"{word!r} gives a second {key}, {value}, after {attrs[key]}; "
+                           f"keep the one the part has")
+    attrs[key] = value
+
+
+def _key_value(key: str, value: str, attrs: dict) -> None:
+    if key not in ATTRIBUTE_KEYS:
+        raise CircuitError(
+            f"unknown attribute '{key}={value}'; a part line takes {', '.join(ATTRIBUTE_KEYS)} "
+            "as key=value (a device's parameters come from its model name)")
+    if key in attrs:
+        raise CircuitError(f"'{key}=' is given twice; keep one")
+    attrs[key] = value

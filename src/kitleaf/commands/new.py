@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import importlib.resources
-import re
 
 from kitleaf.cli import command
 from kitleaf.errors import KitleafError, SourceSpan
+from kitleaf.guide.slug import slug_for
 
 
 def starter_text(title: str, code: str) -> str:
@@ -14,17 +14,11 @@ def starter_text(title: str, code: str) -> str:
     return template.replace("@TITLE@", title).replace("@CODE@", code)
 
 
-def slug_for(name: str) -> str:
-    slug = re.sub(r"[^a-z0-9]+", "-", name.lower()).strip("-")
-    if not slug:
-        raise KitleafError(f"cannot make a file name from {name!r}; use letters or digits",
-                           SourceSpan("kitleaf new", 1))
-    return slug
-
-
 @command("new")
 def run(args) -> int:
     slug = slug_for(args.name)
+    if not slug:
+        raise KitleafError(f"cannot make a file name from {args.name!r}; use letters or digits")
     path = args.dir / f"{slug}.md"
     if path.exists():
         raise KitleafError(f"{path} exists already; pick another name or edit it",

@@ -3,8 +3,11 @@
 Every entry below is "from memory": SPICE model cards and datasheet typical figures as they
 are commonly circulated, recalled rather than copied from a document at hand. They are good
 for the bias points and responses a build guide quotes; check a datasheet for anything else.
+BVEBO is the datasheet's emitter-base rating V(BR)EBO, taken as the voltage where the junction
+breaks down (real junctions usually hold a volt or two more).
 Spreads give the production range Monte Carlo draws from: BF follows the datasheet hFE
-grouping (min..max), VTO the VGS(off) range, IDSS the datasheet IDSS range (BETA follows).
+grouping (min..max), VTO the VGS(off) range, IDSS the datasheet IDSS range,
+drawn to track VTO (montecarlo.tracking_idss; BETA follows).
 """
 
 from __future__ import annotations
@@ -47,22 +50,24 @@ BJTS = (
     _bjt("2N3904", "npn", "general-purpose NPN, hFE 100-300", (0.5, 1.5), IS=6.734e-15,
          BF=416.4, NF=1.0, VAF=74.03, IKF=66.78e-3, ISE=6.734e-15, NE=1.259, BR=0.7371,
          NR=1.0, RB=10.0, RC=1.0, CJE=4.493e-12, MJE=0.2593, VJE=0.75, CJC=3.638e-12,
-         MJC=0.3085, VJC=0.75, TF=301.2e-12),
+         MJC=0.3085, VJC=0.75, TF=301.2e-12, BVEBO=6.0),
     # hFE 300..900
     _bjt("2N5088", "npn", "high-gain low-noise NPN, hFE 300-900", (0.5, 1.5), IS=5.911e-15,
          BF=1122.0, VAF=62.37, IKF=14.92e-3, ISE=5.911e-15, NE=1.394, BR=1.271, RB=10.0,
-         RC=1.61, CJE=4.973e-12, MJE=0.4146, CJC=4.017e-12, MJC=0.3174, TF=821.7e-12),
+         RC=1.61, CJE=4.973e-12, MJE=0.4146, CJC=4.017e-12, MJC=0.3174, TF=821.7e-12,
+         BVEBO=3.0),
     # hFE 400..1200
     _bjt("2N5089", "npn", "high-gain low-noise NPN, hFE 400-1200", (0.5, 1.5), IS=5.911e-15,
          BF=1434.0, VAF=62.37, IKF=15.68e-3, ISE=5.911e-15, NE=1.421, BR=1.262, RB=10.0,
-         RC=1.61, CJE=4.973e-12, MJE=0.4146, CJC=4.017e-12, MJC=0.3174, TF=822.3e-12),
+         RC=1.61, CJE=4.973e-12, MJE=0.4146, CJC=4.017e-12, MJC=0.3174, TF=822.3e-12,
+         BVEBO=3.0),
     # hFE group C: 420..800
     _bjt("BC549C", "npn", "low-noise NPN, hFE group C 420-800", (0.7, 1.3), IS=1.8e-14,
          BF=600.0, VAF=60.0, IKF=0.1, ISE=5e-14, NE=1.5, BR=7.0, RB=10.0, RC=1.0,
-         CJE=11.5e-12, MJE=0.33, CJC=4.5e-12, MJC=0.33, TF=410e-12),
+         CJE=11.5e-12, MJE=0.33, CJC=4.5e-12, MJC=0.33, TF=410e-12, BVEBO=5.0),
     _bjt("2N3906", "pnp", "general-purpose PNP, hFE 100-300", (0.5, 1.5), IS=1.41e-15,
          BF=180.7, VAF=18.7, IKF=80e-3, ISE=0.0, NE=1.5, BR=4.977, RB=10.0, RC=2.5,
-         CJE=8.063e-12, MJE=0.3677, CJC=9.728e-12, MJC=0.5776, TF=179.3e-12),
+         CJE=8.063e-12, MJE=0.3677, CJC=9.728e-12, MJC=0.5776, TF=179.3e-12, BVEBO=5.0),
 )
 
 

@@ -15,13 +15,16 @@ _DIODE = {
     "IS": 1e-14, "N": 1.0, "RS": 0.0, "CJO": 0.0, "VJ": 1.0, "M": 0.5, "FC": 0.5,
     "TT": 0.0, "BV": INF, "IBV": 1e-3,
 }
-# SPICE Gummel-Poon defaults; VAF/VAR/IKF/IKR of infinity mean "effect off".
+# SPICE Gummel-Poon defaults; VAF/VAR/IKF/IKR of infinity mean "effect off". BVEBO is
+# kitleaf's: the emitter-base reverse breakdown voltage V(BR)EBO (infinity: none).
 _BJT = {
     "IS": 1e-16, "BF": 100.0, "BR": 1.0, "NF": 1.0, "NR": 1.0, "VAF": INF, "VAR": INF,
     "IKF": INF, "IKR": INF, "ISE": 0.0, "NE": 1.5, "ISC": 0.0, "NC": 2.0, "RB": 0.0,
     "RE": 0.0, "RC": 0.0, "CJE": 0.0, "VJE": 0.75, "MJE": 0.33, "CJC": 0.0, "VJC": 0.75,
-    "MJC": 0.33, "FC": 0.5, "TF": 0.0,
+    "MJC": 0.33, "FC": 0.5, "TF": 0.0, "BVEBO": INF,
 }
+# Parameters of kitleaf's own beyond the SPICE model card (the exporter writes them apart).
+NON_SPICE = {"BVEBO"}
 # SPICE JFET level 1 (Shichman-Hodges) defaults.
 _JFET = {
     "VTO": -2.0, "BETA": 1e-4, "LAMBDA": 0.0, "IS": 1e-14, "N": 1.0, "RD": 0.0, "RS": 0.0,

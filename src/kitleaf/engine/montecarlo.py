@@ -128,11 +128,34 @@ def device_banks(system: System, rng: np.random.Generator, samples: int,
                     kv[0] == "IDSS", kv[0])):
                 drawn = rng.uniform(low, high, samples)
                 if key == "IDSS":  # BETA follows from IDSS = BETA * VTO**2
-                    key, drawn = "BETA", drawn / params["VTO"][:, d] ** 2
+                    vto = params["VTO"][:, d]
+                    key, drawn = "BETA", tracking_idss(model.spread, vto, drawn) / vto ** 2
                 params[key][:, d] = drawn
                 draws.setdefault(name, {})[key] = params[key][:, d]
         banks.append(bank.with_params(**params))
     return banks
+
+
+# How far a JFET's IDSS strays from the curve its pinch-off sets, as a factor either way
+# (from memory: datasheet plots of IDSS against VGS(off) show a band about that wide).
+IDSS_SCATTER = 1.2
+
+
+def tracking_idss(spread, vto: np.ndarray, drawn: np.ndarray) -> np.ndarray:
+    """IDSS that follows the sample's pinch-off, as real JFETs' does (from memory: the part
+    with the smallest |VGS(off)| of a type has the smallest IDSS, the largest the largest).
+
+    The curve is the power law through the corners of the datasheet's two ranges; ``drawn``
+    (uniform over the IDSS range) places the part within IDSS_SCATTER of it, and the result
+    stays inside the IDSS range. Without a VTO range the draw is used as it is."""
+    low, high = spread["IDSS"]
+    near, far = sorted(abs(v) for v in spread.get("VTO", (0.0, 0.0)))
+    if not 0.0 < low < high or not 0.0 < near < far:
+        return drawn
+    power = np.log(high / low) / np.log(far / near)
+    curve = low * (np.clip(np.abs(vto), near, far) / near) ** power
+    place = (drawn - low) / (high - low) * 2.0 - 1.0  # -1 .. 1
+    return np.clip(curve * IDSS_SCATTER ** place, low, high)
 
 
 def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[float] = (),

@@ -7,17 +7,23 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from kitleaf.engine import elements as el
+from kitleaf.engine.devices.base import VT
+from kitleaf.engine.devices.bjt import EBO_AMPS
 from kitleaf.engine.devices.opamp import (
     CLAMP_OVERDRIVE,
     CLAMP_U,
     CLAMP_WIDTH,
+    H_FLOOR,
     H_MIN,
+    IQ_FADE,
     LIMIT_FLOOR,
     R1,
+    SUB_KNEE,
+    SUB_R,
     compensation,
     slew_current,
 )
-from kitleaf.engine.models import DeviceModel
+from kitleaf.engine.models import NON_SPICE, DeviceModel
 
 _SPICE_KIND = {"diode": "D", "npn": "NPN", "pnp": "PNP", "njf": "NJF", "pjf": "PJF"}
 
@@ -48,7 +54,7 @@ class _Writer:
     def __init__(self, nodes: dict[str, str]) -> None:
         self.nodes, self.lines, self.cards = nodes, [], []
         self.parts: dict[str, str] = {}
-        self.models: dict[int, str] = {}
+        self.models: dict[int | str, str] = {}
 
     def n(self, node: str) -> str:
         return "0" if node == el.GROUND else self.nodes[node]
@@ -58,6 +64,14 @@ class _Writer:
         self.parts[part] = name
         self.lines.append(f"{name} {' '.join(self.n(x) for x in nodes)} {rest}")
         return name
+
+    def model_text(self, body: str) -> str:
+        """A model card given as text (one per distinct text)."""
+        if body not in self.models:
+            name = f"m{len(self.models) + 1}"
+            self.models[body] = name
+            self.cards.append(f".model {name} {body}")
+        return self.models[body]
 
     def model(self, model: DeviceModel, card: Callable[[str, DeviceModel], list[str]]) -> str:
         if id(model) not in self.models:
@@ -73,33 +87,37 @@ def _num(x: float) -> str:
 
 def _model_card(name: str, model: DeviceModel) -> list[str]:
     params = " ".join(f"{k}={_num(v)}" for k, v in sorted(model.params.items())
-                      if math.isfinite(v))
+                      if math.isfinite(v) and k not in NON_SPICE)
     return [f".model {name} {_SPICE_KIND[model.kind]}({params})"]
 
 
 def _opamp_card(name: str, model: DeviceModel) -> list[str]:
     """The macro-model of kitleaf.engine.devices.opamp as a subcircuit of B sources."""
     p = model.get
-    vhi, vlo = f"(v(vpos)-{_num(p('SWING_HI'))})", f"(v(vneg)+{_num(p('SWING_LO'))})"
-    mid, half = f"(({vhi}+{vlo})/2)", f"max(({vhi}-{vlo})/2,{_num(H_MIN)})"
+    vs = "(v(vpos)-v(vneg))"
+    working = p("SWING_HI") + p("SWING_LO") + 2.0 * H_MIN
+    rho = f"min(max({vs}/{_num(working)},0),1)"
+    mid = f"((v(vpos)+v(vneg))/2+{_num((p('SWING_LO') - p('SWING_HI')) / 2)}*{rho})"
+    h_raw = f"({vs}-{_num(p('SWING_HI') + p('SWING_LO'))})/2"
+    half = f"max(max({h_raw},{_num(H_MIN)}*{rho}),{_num(H_FLOOR)})"
     f = f"({mid}+{half}*tanh((v(x)-{mid})/{half}))"
+    z = f"((-{vs}-{_num(SUB_KNEE)})/{_num(VT)})"
+    substrate = f"{_num(VT / SUB_R)}*{_softplus(z)}"
     isr = float(slew_current(p))
-    gm = p("AOL") / R1
     ilim, rout = p("ILIM"), p("ROUT")
-    width, g_clamp = CLAMP_WIDTH, isr / CLAMP_OVERDRIVE
-    over = _softplus(f"(v(x)-{mid}-{_num(CLAMP_U)}*{half})/{_num(width)}")
-    under = _softplus(f"({mid}-{_num(CLAMP_U)}*{half}-v(x))/{_num(width)}")
+    over = _softplus(f"(v(x)-{mid}-{_num(CLAMP_U)}*{half})/{_num(CLAMP_WIDTH)}")
+    under = _softplus(f"({mid}-{_num(CLAMP_U)}*{half}-v(x))/{_num(CLAMP_WIDTH)}")
     return [
         f".subckt {name} inp inn out vpos vneg",
         f"rin inp inn {_num(p('RIN'))}",
-        f"b2 vneg x i={_num(isr)}*tanh({_num(gm / isr)}*v(inp,inn))",
+        f"b2 vneg x i={_num(isr)}*tanh({_num(p('AOL') / R1 / isr)}*v(inp,inn))",
         f"g2 vneg x vpos vneg {_num(0.5 / R1)}",
         f"r1 x vneg {_num(R1)}",
         f"c1 x vneg {_num(float(compensation(p)))}",
-        f"b3 x vneg i={_num(g_clamp * width)}*({over}-{under})",
+        f"b3 x vneg i={_num(isr / CLAMP_OVERDRIVE * CLAMP_WIDTH)}*({over}-{under})",
         f"b1 0 out i={_num(ilim)}*tanh(({f}-v(out))/{_num(rout * ilim)})"
         f"+({f}-v(out))/{_num(rout / LIMIT_FLOOR)}",
-        f"iq vpos vneg dc {_num(p('IQ'))}",
+        f"bq vpos vneg i={_num(p('IQ'))}*tanh({vs}/{_num(IQ_FADE)})-{substrate}",
         f"ibp inp vneg dc {_num(p('IB'))}",
         f"ibn inn vneg dc {_num(p('IB'))}",
         ".ends",
@@ -135,6 +153,17 @@ def _device(prefix: str, pins: tuple[str, ...]):
     return write
 
 
+def _bjt(w: _Writer, e: el.Bjt) -> None:
+    """The transistor, and its emitter-base breakdown as a diode of negligible forward
+    current whose SPICE breakdown is the engine's (-IBV exp(-(v + BV) / VT))."""
+    w.line("q", e.name, (e.c, e.b, e.e), w.model(e.model, _model_card))
+    bv = e.model.get("BVEBO")
+    if math.isfinite(bv):
+        pins = (e.b, e.e) if e.model.kind == "npn" else (e.e, e.b)
+        card = f"IS=1e-30 N=1 BV={_num(bv)} IBV={_num(EBO_AMPS)}"
+        w.line("d", e.name + ":ebo", pins, w.model_text(f"D({card})"))
+
+
 def _opamp(w: _Writer, e: el.OpAmp) -> None:
     pins = (e.inp, e.inn, e.out, e.vpos, e.vneg)
     w.line("x", e.name, pins, w.model(e.model, _opamp_card))
@@ -143,6 +172,6 @@ def _opamp(w: _Writer, e: el.OpAmp) -> None:
 _WRITERS = {
     el.Resistor: _passive("r"), el.Capacitor: _passive("c"), el.Inductor: _passive("l"),
     el.Pot: _pot, el.VSource: _source("v"), el.ISource: _source("i"),
-    el.Diode: _device("d", ("a", "k")), el.Bjt: _device("q", ("c", "b", "e")),
+    el.Diode: _device("d", ("a", "k")), el.Bjt: _bjt,
     el.Jfet: _device("j", ("d", "g", "s")), el.OpAmp: _opamp,
 }

@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 
 from kitleaf.errors import GuideError, SourceSpan
+from kitleaf.guide.fences import block_header
 from kitleaf.guide.model import Block, Entry
 
 _ENTRY = re.compile(r"^(?P<key>[A-Za-z][A-Za-z0-9_-]*)\s*:\s*(?P<value>.*?)\s*$")
@@ -42,9 +43,9 @@ def _strip_comment(line: str) -> str:
 
 def make_block(info: str, body: str, path: str, fence_line: int) -> Block:
     """A :class:`Block` from a fence's info string and body; ``fence_line`` is 1-based."""
-    name, _, argument = info.strip().partition(" ")
+    name, argument = block_header(info)
     entries = read_entries(body, path, fence_line + 1)
-    return Block(name, argument.strip(), entries, SourceSpan(path, fence_line))
+    return Block(name, argument, entries, SourceSpan(path, fence_line))
 
 
 def require_single(block: Block, key: str, what: str) -> Entry:

@@ -80,6 +80,7 @@ class KitBlock:
     order: Entry | None
     extra: tuple[Entry, ...]
     span: SourceSpan
+    supply_span: SourceSpan | None = None  # the 'supply:' line
 
 
 @dataclass(frozen=True)

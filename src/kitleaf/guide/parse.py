@@ -9,7 +9,11 @@ from markdown_it import MarkdownIt
 
 from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import make_block, require_single
-from kitleaf.guide.model import Block, Guide, HardwareLine, KitBlock, Knob, StageBlock
+from kitleaf.guide.fences import is_ours
+from kitleaf.guide.kit_lines import check_battery, read_knobs
+from kitleaf.guide.model import Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
+from kitleaf.guide.slug import guide_slug
+from kitleaf.guide.source import checked_text, read_text
 
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
@@ -17,6 +21,7 @@ KIT_KEYS = {
 }
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
 EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
+_EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
 _ID = re.compile(r"^[a-z][a-z0-9-]*$")
 _DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
 
@@ -30,8 +35,7 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
     """Parse one guide file; raises :class:`GuideError` at the first malformed block."""
     path = Path(path)
     shown = str(path)
-    if text is None:
-        text = read_text(path)
+    text = read_text(path) if text is None else checked_text(text, shown)
     blocks = list(find_blocks(text, shown))
     kits = [b for b in blocks if b.name == "kit"]
     if not kits:
@@ -45,28 +49,13 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
                          kits[1].span)
     stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
     check_unique_ids(stages)
-    return Guide(shown, path.stem, text, read_kit(kits[0]), stages)
-
-
-def read_text(path: Path) -> str:
-    try:
-        return path.read_text(encoding="utf-8")
-    except UnicodeDecodeError as exc:
-        raise GuideError(f"not UTF-8 text ({exc.reason}); save the guide as UTF-8",
-                         SourceSpan(str(path), 1)) from None
-    except OSError as exc:
-        raise GuideError(f"cannot read the guide: {exc.strerror}",
-                         SourceSpan(str(path), 1)) from None
+    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages)
 
 
 def find_blocks(text: str, path: str):
     """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
     for token in markdown_parser().parse(text):
-        if token.type != "fence" or token.map is None:
-            continue
-        name = token.info.strip().split(" ")[0]
-        if name in ("kit", "stage"):
-            # token.map is 0-based; the fence line itself is map[0] + 1 in 1-based lines.
+        if is_ours(token, path):
             yield make_block(token.info, token.content, path, token.map[0] + 1)
 
 
@@ -108,32 +97,28 @@ def read_kit(block: Block) -> KitBlock:
                 f"known keys: {', '.join(sorted(KIT_KEYS))}",
                 entry.span,
             )
-    value = {k: require_single(block, k, "the kit block").value
-             for k in ("title", "code", "supply")}
+    value = {k: _required(block, k) for k in ("title", "code", "supply")}
     optional = {k: (block.first(k).value if block.first(k) else "")
                 for k in ("revision", "summary")}
+    check_battery(block)
     return KitBlock(
-        title=value["title"], code=value["code"], supply=value["supply"],
+        title=value["title"].value, code=value["code"].value, supply=value["supply"].value,
         revision=optional["revision"] or "A", summary=optional["summary"],
-        knobs=tuple(read_knob(e) for e in block.all("knob")),
+        knobs=read_knobs(block.all("knob")),
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
         source=block.first("source"), load=block.first("load"), order=block.first("order"),
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
-        span=block.span,
+        span=block.span, supply_span=value["supply"].span,
     )
 
 
-def read_knob(entry) -> Knob:
-    name, sep, designator = entry.value.partition("=")
-    designator = designator.strip()
-    if not sep or not name.strip() or not _DESIGNATOR.match(designator):
-        raise GuideError(
-            f"cannot read knob {entry.value!r}; write the knob's name and its pot, "
-            "like 'Gain = VR1'",
-            entry.span,
-        )
-    return Knob(name.strip(), designator, entry.span)
+def _required(block: Block, key: str) -> Entry:
+    entry = require_single(block, key, "the kit block")
+    if not entry.value:
+        raise GuideError(f"'{key}:' is empty; write the kit's {key} after it, for example "
+                         f"'{key}: {_EXAMPLES[key]}'", entry.span)
+    return entry
 
 
 def read_hardware(entry) -> HardwareLine:

@@ -4,11 +4,12 @@ One panel per knob (one curve per knob position), the part-tolerance band shaded
 -3 dB corners marked. Curves differ in line style as well as colour, so the plot reads the same
 in greyscale print.
 
-The layout is fixed (margins, panel heights, tick and label offsets in points) and every label
-is written as SVG text with explicit alignment, so nothing is measured but the widest tick
-label, once per string. The SVG is written directly (``plot_svg``): a matplotlib figure cost
-about 50 ms per plot, mostly creating axes and measuring text it did not need to measure; the
-picture is the one that figure drew, to a fraction of a pixel.
+The layout is worked out in points before anything is drawn: every label's width is taken from
+the font's metrics (DejaVu Sans, with a little slack for a browser's stand-in font), a title or
+legend label too long for its place wraps onto further lines, and the sheet widens where a
+label still needs room, so no text is cut by the sheet's edge or laid over another. The SVG is
+written directly (``plot_svg``, drawn by ``plot_draw``): a matplotlib figure cost about 50 ms
+per plot, mostly creating axes and measuring text it did not need to measure.
 """
 
 from __future__ import annotations
@@ -22,32 +23,35 @@ from matplotlib.font_manager import FontProperties
 from matplotlib.textpath import text_to_path
 from matplotlib.ticker import MaxNLocator
 
-from kitleaf.render.plot_svg import SvgDocument, dash_array, num, polyline
-from kitleaf.values import format_value
+from kitleaf.render import plot_draw as draw
+from kitleaf.render.plot_draw import (
+    FONT_PT,
+    LABEL_PAD_PT,
+    LEGEND_GAP_PT,
+    LEGEND_HANDLE_PT,
+    LEGEND_PT,
+    LINE_EM,
+    PAD_PT,
+    TICK_PT,
+    TITLE_PT,
+    Frame,
+    Label,
+)
+from kitleaf.render.plot_svg import SvgDocument
 
-# (colour, dash pattern, width) per curve: dark to light and distinct dashes, so curves stay
-# apart in greyscale; the middle one (knobs at half way, the shaded band's curve) is solid.
-STYLES = (("#0b3c5d", (0, (1, 1.5)), 1.7), ("#b35806", (0, (6, 1.5, 1, 1.5)), 1.5),
-          ("#111111", "-", 2.2), ("#1b7837", (0, (5, 2)), 1.5), ("#762a83", (0, (9, 2.5)), 1.5))
-BAND_COLOUR = "#c9ced6"
-CORNER_COLOUR = "#5d6d7e"
-FRAME_COLOUR = "#444444"
-GRID_COLOUR = "#d5d8dc"
-MINOR_COLOUR = "#e5e8e8"
-FONT = FontProperties(family="DejaVu Sans", size=9)
-FONT_PT, TITLE_PT, LEGEND_PT = 9.0, 10.0, 7.5  # axis text; the plot's title; legend, corners
-TICK_PT, PAD_PT = 3.5, 3.5  # tick length and the gap to its label, in points
-LABEL_PAD_PT = 5.0  # from the tick labels to the axis label
-TITLE_PAD_PT = 6.0  # from a panel's top edge to its title's baseline
-LINE_EM = 1.17  # DejaVu Sans's line height in font sizes
-# The x axis is linear in log10(f), decades labelled and the steps between them ruled faintly.
-DECADES = (1.0, 2.0, 3.0, 4.0)
-DECADE_LABELS = tuple(format_value(10**d, "frequency") for d in DECADES)
-MINOR = tuple(float(np.log10(m)) + d for d in DECADES for m in (2, 3, 4, 5, 6, 7, 8, 9))
-WIDTH_IN = 7.2
-PANEL_IN, TOP_IN, BOTTOM_IN, LEFT_IN, RIGHT_IN = 2.45, 0.42, 0.5, 0.62, 1.95
-PANEL_GAP_IN = 0.55  # between panels, as a share of a panel's nominal height per row
+FONTS = {weight: FontProperties(family="DejaVu Sans", size=FONT_PT, weight=weight)
+         for weight in ("normal", "bold")}
+SLACK = 1.08  # a browser without DejaVu Sans sets text in a stand-in, often a little wider
+MARGIN_PT = 8.0  # between the sheet's edge and anything drawn on it
+WIDTH_PT, LEFT_PT = 518.4, 44.64  # the usual sheet (7.2 in) and left margin; wider on need
+PANEL_WIDTH_PT, PANEL_HEIGHT_PT = 333.36, 150.0  # a panel's axes; taller for a long legend
+PANEL_TITLE_PAD_PT = 4.0  # from a panel title's last line to the panel's top edge
+TITLE_GAP_PT = 8.0  # from the plot's title to the first panel's title
+PANEL_GAP_PT = 12.0  # from one panel's tick labels to the next panel's title
+LEGEND_SPACE_PT = 10.0  # from a panel's right edge to its legend
+LEGEND_WRAP_PT = 170.0  # a longer legend label continues on the next line
 SPAN_DB = 60.0  # dB shown below the highest curve; quieter curves leave the bottom edge
+BAND_LABEL = "part tolerances (5–95 %)"
 
 
 @dataclass(frozen=True)
@@ -79,197 +83,158 @@ class ResponsePlot:
 
 
 @dataclass(frozen=True)
-class Frame:
-    """A panel's rectangle on the sheet in points (y down) and the data ranges it shows."""
+class Placed:
+    """One panel laid out: its axes, title lines, y ticks and legend entries."""
 
-    left: float
-    top: float
-    width: float
-    height: float
-    x_range: tuple[float, float]
-    y_range: tuple[float, float]
-
-    def x(self, value):
-        low, high = self.x_range
-        return self.left + (np.asarray(value, float) - low) * (self.width / (high - low))
-
-    def y(self, value):
-        low, high = self.y_range
-        return self.top + (high - np.asarray(value, float)) * (self.height / (high - low))
-
-    @property
-    def right(self) -> float:
-        return self.left + self.width
-
-    @property
-    def bottom(self) -> float:
-        return self.top + self.height
+    panel: Panel
+    frame: Frame
+    title: tuple[Label, ...]
+    y_ticks: tuple[float, ...]
+    legend: tuple[tuple[tuple | None, tuple[str, ...]], ...]  # (curve style or band, lines)
 
 
 def render_response_svg(plot: ResponsePlot) -> str:
     """The plot as SVG text; the same plot always gives the same bytes."""
-    rows = max(len(plot.panels), 1)
-    height = (0.75 + PANEL_IN * rows) * 72
-    sheet = SvgDocument(WIDTH_IN * 72, height, title=plot.title)
-    sheet.rect(0, 0, sheet.width, height, "fill: #ffffff")
-    sheet.text(0.02 * sheet.width, 0.02 * height, plot.title, TITLE_PT, va="top",
-               extra="; font-weight: 700")
+    width, height, title, placed = layout(plot)
+    sheet = SvgDocument(width, height, title=plot.title)
+    sheet.rect(0, 0, width, height, "fill: #ffffff")
+    draw.labels(sheet, title, extra="; font-weight: 700")
     log_f = np.log10(plot.freqs)
     prefix = "k" + hashlib.sha256(plot.title.encode()).hexdigest()[:8]  # clip ids, if inlined
-    for i, (panel, box) in enumerate(zip(plot.panels, panel_boxes(rows, height), strict=False)):
-        _draw(sheet, f"{prefix}-{i + 1}", box, log_f, panel, last=i == rows - 1)
+    for i, one in enumerate(placed):
+        _draw(sheet, f"{prefix}-{i + 1}", one, log_f, last=i == len(placed) - 1)
     return sheet.svg()
 
 
-def panel_boxes(rows: int, height: float) -> list[tuple[float, float, float, float]]:
-    """(left, top, width, height) of each panel in points: fixed margins, equal panels."""
-    gap = PANEL_GAP_IN / PANEL_IN * rows  # as a share of a panel's height
-    inner = height - (TOP_IN + BOTTOM_IN) * 72
-    each = inner / (rows + gap * (rows - 1))
-    width = (WIDTH_IN - LEFT_IN - RIGHT_IN) * 72
-    return [(LEFT_IN * 72, TOP_IN * 72 + i * each * (1 + gap), width, each) for i in range(rows)]
-
-
-def _draw(sheet: SvgDocument, name: str, box, log_f: np.ndarray, panel: Panel, last: bool) -> None:
-    top = max(max(c.gain_db) for c in panel.curves)
-    floor = max(min(min(c.gain_db) for c in panel.curves), top - SPAN_DB)
-    frame = Frame(*box, x_range=(log_f[0], log_f[-1]), y_range=(floor - 3.0, top + 6.0))
+def _draw(sheet: SvgDocument, name: str, placed: Placed, log_f: np.ndarray, last: bool) -> None:
+    frame, panel = placed.frame, placed.panel
     clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
-    values = _y_ticks(frame)
-    _background(sheet, frame, log_f, panel, values, clip)
-    entries = [(None, "part tolerances (5–95 %)")] if panel.band_low else []
-    entries += _curves(sheet, frame, log_f, panel.curves, floor, clip)
-    _x_axis(sheet, frame, last)
-    _y_axis(sheet, frame, values)
-    if panel.title:
-        sheet.text(frame.left, frame.top - TITLE_PAD_PT, panel.title, FONT_PT)
-    _legend(sheet, frame, entries)
+    band = draw.band_outline(frame, log_f, panel.band_low, panel.band_high) \
+        if panel.band_low else ""
+    draw.background(sheet, frame, band, placed.y_ticks, _corners(frame, panel.corners), clip)
+    draw.curves(sheet, frame, log_f, [c.gain_db for c in panel.curves], clip)
+    draw.x_axis(sheet, frame, last)
+    texts = _number_labels(placed.y_ticks)
+    draw.y_axis(sheet, frame, placed.y_ticks, texts, max(map(_width, texts), default=0.0))
+    draw.labels(sheet, placed.title)
+    draw.legend(sheet, frame, frame.right + LEGEND_SPACE_PT, placed.legend)
 
 
-def _background(sheet: SvgDocument, frame: Frame, log_f, panel: Panel, values, clip: str) -> None:
-    """Everything behind the curves, back to front: faint rules, band, grid, corners, frame."""
-    _rules(sheet, frame, x=MINOR, style=f"stroke: {MINOR_COLOUR}; stroke-width: 0.3", clip=clip)
-    if panel.band_low:
-        _band(sheet, frame, log_f, panel, clip)
-    grid = f"stroke: {GRID_COLOUR}; stroke-width: 0.6"
-    _rules(sheet, frame, x=DECADES, style=grid, clip=clip)
-    _rules(sheet, frame, y=values, style=grid, clip=clip)
-    _corners(sheet, frame, panel.corners, clip)
-    sheet.rect(frame.left, frame.top, frame.width, frame.height,
-               f"fill: none; stroke: {FRAME_COLOUR}; stroke-width: 0.8; stroke-linejoin: miter")
+def layout(plot: ResponsePlot) -> tuple[float, float, tuple[Label, ...], list[Placed]]:
+    """The sheet's width and height, the title's lines and every panel placed, in points."""
+    scales = [_y_range(panel) for panel in plot.panels]
+    legends = [_legend_entries(panel, floor) for panel, (_, floor) in zip(plot.panels, scales,
+                                                                           strict=True)]
+    heights = [max(PANEL_HEIGHT_PT, draw.legend_height(entries)) for entries in legends]
+    ticks = [_y_ticks(y_range, h) for (y_range, _), h in zip(scales, heights, strict=True)]
+    widest_tick = max((_width(t) for values in ticks for t in _number_labels(values)),
+                      default=0.0)
+    left = max(LEFT_PT, MARGIN_PT + FONT_PT + LABEL_PAD_PT + widest_tick + PAD_PT + TICK_PT)
+    widest_legend = max((_width(text, LEGEND_PT) for entries in legends
+                         for _, lines in entries for text in lines), default=0.0)
+    width = max(WIDTH_PT, left + PANEL_WIDTH_PT + LEGEND_SPACE_PT + LEGEND_HANDLE_PT
+                + LEGEND_GAP_PT + widest_legend + MARGIN_PT)
+    title = _wrap(plot.title, TITLE_PT, width - 2 * MARGIN_PT, "bold")
+    panel_titles = [_wrap(p.title, FONT_PT, width - left - MARGIN_PT) for p in plot.panels]
+    width = max([width, *(2 * MARGIN_PT + _width(t, TITLE_PT, "bold") for t in title),
+                 *(left + MARGIN_PT + _width(t) for lines in panel_titles for t in lines)])
+    y = MARGIN_PT + len(title) * LINE_EM * TITLE_PT + TITLE_GAP_PT
+    placed = []
+    for k, panel in enumerate(plot.panels):
+        title_labels = _lines(left, y, panel_titles[k], FONT_PT)
+        y += len(title_labels) * LINE_EM * FONT_PT + PANEL_TITLE_PAD_PT
+        frame = Frame(left, y, PANEL_WIDTH_PT, heights[k],
+                      x_range=(float(np.log10(plot.freqs[0])), float(np.log10(plot.freqs[-1]))),
+                      y_range=scales[k][0])
+        placed.append(Placed(panel, frame, title_labels, ticks[k], legends[k]))
+        y = frame.bottom + TICK_PT + PAD_PT + LINE_EM * FONT_PT + PANEL_GAP_PT
+    bottom = y - PANEL_GAP_PT + (LABEL_PAD_PT + LINE_EM * FONT_PT if placed else 0.0)
+    return width, bottom + MARGIN_PT, _lines(MARGIN_PT, MARGIN_PT, title, TITLE_PT), placed
 
 
-def _curves(sheet: SvgDocument, frame: Frame, log_f, curves, floor: float, clip: str) -> list:
-    """The curves in their styles; returns their legend entries (style, label)."""
-    entries = []
-    for i, curve in enumerate(curves):
-        style = STYLES[_style(i, len(curves))]
-        sheet.path(polyline(frame.x(log_f), frame.y(curve.gain_db)), _line(*style), clip)
-        below = " (below the plot)" if max(curve.gain_db) < floor else ""
-        entries.append((style, curve.label + below))
-    return entries
+def _lines(x: float, top: float, lines: tuple[str, ...], size: float) -> tuple[Label, ...]:
+    """Lines of text set one under another, the first one's top at ``top``."""
+    return tuple(Label(x, top + k * LINE_EM * size, text, size) for k, text in enumerate(lines))
 
 
-def _style(i: int, count: int) -> int:
-    """Five positions take the five styles in order; a single curve is the solid one."""
-    return 2 if count == 1 else i % len(STYLES)
+def _wrap(text: str, size: float, limit: float, weight: str = "normal") -> tuple[str, ...]:
+    """``text`` in lines no wider than ``limit`` points, broken between words (a single word
+    wider than that keeps a line of its own, and the sheet widens for it)."""
+    lines: list[str] = []
+    for word in text.split():
+        if lines and _width(f"{lines[-1]} {word}", size, weight) <= limit:
+            lines[-1] += f" {word}"
+        else:
+            lines.append(word)
+    return tuple(lines)
 
 
-def _stroke(colour: str, dashes, width: float) -> str:
-    # matplotlib's caps: a solid line's ends project by half its width, dashes end flat
-    cap = "; stroke-linecap: square" if dashes == "-" else ""
-    return f"stroke: {colour}; stroke-width: {num(width)}{dash_array(dashes, width)}{cap}"
+@functools.lru_cache(maxsize=2048)
+def _width(text: str, size: float = FONT_PT, weight: str = "normal") -> float:
+    """A label's width in points, with the slack for a stand-in font (font metrics only, so
+    the same in every figure)."""
+    measured = text_to_path.get_text_width_height_descent(text, FONTS[weight], ismath=False)[0]
+    return measured * size / FONT_PT * SLACK
 
 
-def _line(colour: str, dashes, width: float) -> str:
-    return "fill: none; " + _stroke(colour, dashes, width)
+def _finite(values) -> np.ndarray:
+    values = np.asarray(values, float)
+    return values[np.isfinite(values)]
 
 
-def _band(sheet: SvgDocument, frame: Frame, log_f: np.ndarray, panel: Panel, clip: str) -> None:
-    """The tolerance band as one closed outline: along the high edge, back along the low."""
-    xs = frame.x(np.concatenate([log_f, log_f[::-1]]))
-    ys = frame.y(np.concatenate([panel.band_high, panel.band_low[::-1]]))
-    sheet.path(polyline(xs, ys) + "Z", f"fill: {BAND_COLOUR}", clip)
+def _y_range(panel: Panel) -> tuple[tuple[float, float], float]:
+    """The dB range the panel shows, and its floor: every curve and the whole band in view,
+    but no more than SPAN_DB below the highest of them."""
+    shown = _finite(np.concatenate([np.asarray(c.gain_db, float) for c in panel.curves]
+                                   + [_finite(panel.band_low), _finite(panel.band_high)]))
+    top, low = (float(shown.max()), float(shown.min())) if shown.size else (0.0, -SPAN_DB)
+    floor = max(low, top - SPAN_DB)
+    return (floor - 3.0, top + 6.0), floor
 
 
-def _rules(sheet: SvgDocument, frame: Frame, style: str, clip: str, x=(), y=()) -> None:
-    """Lines across the panel at data values ``x`` (vertical) or ``y`` (horizontal), one path."""
-    top, bottom, left, right = (num(v) for v in (frame.top, frame.bottom, frame.left, frame.right))
-    segments = [f"M{num(v)} {bottom}V{top}" for v in frame.x(x).tolist()]
-    segments += [f"M{left} {num(v)}H{right}" for v in frame.y(y).tolist()]
-    if segments:
-        sheet.path("".join(segments), "fill: none; " + style, clip)
+def _legend_entries(panel: Panel, floor: float) -> tuple:
+    """(curve style, or None for the band; the label's lines) for each legend entry."""
+    entries = [(None, BAND_LABEL)] if panel.band_low else []
+    for i, curve in enumerate(panel.curves):
+        gains = _finite(curve.gain_db)
+        below = " (below the plot)" if not gains.size or gains.max() < floor else ""
+        entries.append((draw.style_of(i, len(panel.curves)), curve.label + below))
+    return tuple((style, _wrap(text, LEGEND_PT, LEGEND_WRAP_PT) or ("",))
+                 for style, text in entries)
 
 
-def _corners(sheet: SvgDocument, frame: Frame, corners, clip: str) -> None:
-    if not corners:
-        return
-    x = [float(np.log10(hz)) for hz, _ in corners]
-    _rules(sheet, frame, x=x, clip=clip, style=_stroke(CORNER_COLOUR, (0, (2, 2)), 0.9))
-    for at, (_, label) in zip(frame.x(x).tolist(), corners, strict=True):
-        sheet.text(at + 3, frame.top + 3, label, LEGEND_PT, va="top", extra="; fill: #333333")
+def _corners(frame: Frame, corners) -> list[tuple[float, Label]]:
+    """Each -3 dB corner inside the axes as (log10 Hz, its label): right of its rule, or left
+    where the label would pass the panel's edge, a line lower where it would meet another."""
+    placed, taken = [], []  # taken: (row, left, right) of each label set so far
+    for hz, text in corners:
+        at = float(np.log10(hz))
+        if not frame.x_range[0] <= at <= frame.x_range[1]:
+            continue
+        x, wide = float(frame.x(at)), _width(text, LEGEND_PT)
+        ha = "left" if x + 3 + wide <= frame.right - 2 else "right"
+        left = x + 3 if ha == "left" else x - 3 - wide
+        row = next(r for r in range(len(taken) + 1) if not any(
+            r == used and left < right and start < left + wide for used, start, right in taken))
+        taken.append((row, left, left + wide))
+        placed.append((at, Label(x + 3 if ha == "left" else x - 3,
+                                 frame.top + 3 + row * LINE_EM * LEGEND_PT, text, LEGEND_PT,
+                                 ha=ha)))
+    return placed
 
 
-def _x_axis(sheet: SvgDocument, frame: Frame, last: bool) -> None:
-    """Decade ticks and labels under the panel; the axis label under the last panel only."""
-    xs = frame.x(DECADES).tolist()
-    ticks = "".join(f"M{num(x)} {num(frame.bottom)}v{num(TICK_PT)}" for x in xs)
-    sheet.path(ticks, "fill: none; stroke: #000000; stroke-width: 0.8")
-    for x, label in zip(xs, DECADE_LABELS, strict=True):
-        sheet.text(x, frame.bottom + TICK_PT + PAD_PT, label, FONT_PT, ha="center", va="top")
-    if last:
-        sheet.text(frame.left + frame.width / 2, frame.bottom + TICK_PT + PAD_PT
-                   + LINE_EM * FONT_PT + LABEL_PAD_PT, "Frequency", FONT_PT, ha="center",
-                   va="top")
-
-
-def _y_axis(sheet: SvgDocument, frame: Frame, values: list[float]) -> None:
-    """dB ticks and labels left of the panel, the axis label clear of the widest of them."""
-    ys = frame.y(values).tolist()
-    ticks = "".join(f"M{num(frame.left)} {num(y)}h{num(-TICK_PT)}" for y in ys)
-    sheet.path(ticks, "fill: none; stroke: #000000; stroke-width: 0.8")
-    labels = _number_labels(values)
-    for y, label in zip(ys, labels, strict=True):
-        sheet.text(frame.left - TICK_PT - PAD_PT, y, label, FONT_PT, ha="right",
-                   va="center_baseline")
-    width = max(map(_width_pt, labels), default=0.0)
-    sheet.upright_text(frame.left - (TICK_PT + PAD_PT + width + LABEL_PAD_PT),
-                       frame.top + frame.height / 2, "Gain (dB)", FONT_PT)
-
-
-def _y_ticks(frame: Frame) -> list[float]:
+def _y_ticks(y_range: tuple[float, float], height: float) -> tuple[float, ...]:
     """Round steps as matplotlib's own locator picks them, one per two label heights."""
-    low, high = frame.y_range
-    locator = MaxNLocator(nbins=max(int(frame.height // (2 * FONT_PT)), 1),
-                          steps=[1, 2, 2.5, 5, 10])
+    low, high = y_range
+    locator = MaxNLocator(nbins=max(int(height // (2 * FONT_PT)), 1), steps=[1, 2, 2.5, 5, 10])
     span = (high - low) * 1e-9
-    return [float(v) for v in locator.tick_values(low, high) if low - span <= v <= high + span]
+    return tuple(float(v) for v in locator.tick_values(low, high)
+                 if low - span <= v <= high + span)
 
 
-@functools.lru_cache(maxsize=256)
-def _width_pt(text: str) -> float:
-    """A label's width in points (font metrics only, so the same in every figure)."""
-    return text_to_path.get_text_width_height_descent(text, FONT, ismath=False)[0]
-
-
-def _number_labels(values: list[float]) -> list[str]:
+def _number_labels(values) -> list[str]:
     """As few decimals as tell the ticks apart exactly, the same for all; a true minus sign."""
     decimals = next((d for d in range(4)
                      if all(abs(round(v, d) - v) < 1e-9 for v in values)), 3)
     return [f"{v:.{decimals}f}".replace("-", "\u2212") if round(v, decimals) else
             f"{0:.{decimals}f}" for v in values]
-
-
-def _legend(sheet: SvgDocument, frame: Frame, entries: list) -> None:
-    """Handles and labels in a column centred beside the panel."""
-    row = LEGEND_PT * (LINE_EM + 0.5)  # a line and half a font size between lines
-    handle, gap = 3.2 * LEGEND_PT, 0.8 * LEGEND_PT
-    x0 = frame.right + 0.01 * frame.width + 0.9 * LEGEND_PT  # border pad and gap to the axes
-    middle = frame.top + frame.height / 2
-    for k, (style, label) in enumerate(entries):
-        y = middle - row * ((len(entries) - 1) / 2 - k)
-        if style is None:
-            sheet.rect(x0, y - 0.35 * LEGEND_PT, handle, 0.7 * LEGEND_PT, f"fill: {BAND_COLOUR}")
-        else:
-            sheet.path(f"M{num(x0)} {num(y)}H{num(x0 + handle)}", _line(*style))
-        sheet.text(x0 + handle + gap, y, label, LEGEND_PT, va="center")

@@ -8,6 +8,7 @@ from dataclasses import dataclass
 
 from markdown_it import MarkdownIt
 
+from kitleaf.guide.fences import BLOCK_NAMES, block_header
 from kitleaf.guide.parse import markdown_parser
 
 # Markdown plugins by name: a plugin takes the parser and returns nothing (``md.use`` style).
@@ -30,9 +31,9 @@ def prose_renderer() -> MarkdownIt:
     default_fence = md.renderer.rules.get("fence")
 
     def fence(renderer, tokens, idx, options, env):
-        name, _, arg = tokens[idx].info.strip().partition(" ")
-        if name in ("kit", "stage"):
-            return f"\x00{name}:{arg.strip()}\x00"
+        name, arg = block_header(tokens[idx].info)
+        if name in BLOCK_NAMES:
+            return f"\x00{name}:{arg}\x00"
         return default_fence(tokens, idx, options, env)
 
     md.add_render_rule("fence", fence)

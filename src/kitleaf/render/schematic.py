@@ -1,8 +1,8 @@
 """Schematic drawing: the one place that speaks schemdraw, behind a small sheet of our own.
 
-A :class:`Sheet` is the canvas a stage kind draws on. Coordinates are grid units (one unit is
-half an inch at print size); y grows upwards, so a kind puts ground low, the supply high and
-the signal on a row between them, flowing left to right. Every element is added explicitly to
+A :class:`SchematicSheet` is the canvas a stage kind draws on: it implements the drawing
+protocol the circuit layer states (:class:`kitleaf.circuit.drawing.Sheet`: grid units, y
+upwards, the rows a kind draws on). Every element is added explicitly to
 the sheet's own drawing: no drawing stack, no global configuration. Pins have our semantic names
 and are mapped to schemdraw anchors in :data:`ANCHORS` alone. Beside it: ``schematic_text``
 (words and where they sit), ``schematic_devices`` (transistors and op-amps on a sheet),
@@ -22,6 +22,7 @@ from schemdraw.transform import Transform
 from schemdraw.types import BBox
 from schemdraw.util import Point as SdPoint
 
+from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
 from kitleaf.render import schematic_reuse as reuse
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
@@ -31,7 +32,6 @@ from kitleaf.render.schematic_text import (
     LABEL_GAP,
     LABEL_NUDGE,
     Box,
-    Point,
     default_side,
     label_point,
     label_room,
@@ -43,15 +43,13 @@ from kitleaf.render.schematic_text import (
     wiper_side,
 )
 
-# Words and their room are measured in schematic_text; kinds and tests find them here too.
-__all__ = ["ANCHORS", "FONT_SIZE", "GROUND_Y", "RAIL_Y", "SIGNAL_Y", "Point", "Sheet",
+# Words and their room are measured in schematic_text; the drawings beside this module and
+# the tests find them here too.
+__all__ = ["ANCHORS", "FONT_SIZE", "GROUND_Y", "RAIL_Y", "SIGNAL_Y", "Point", "SchematicSheet",
            "label_room", "part_label", "part_value", "render_overview_svg", "render_stage_svg",
            "text_width"]
 
 FONT = "DejaVu Sans, Arial, Helvetica, sans-serif"
-GROUND_Y = 0.0
-SIGNAL_Y = 5.0
-RAIL_Y = 10.0
 
 # Our pin names -> schemdraw anchor names, one table for every drawn element.
 ANCHORS: Mapping[str, Mapping[str, str]] = {
@@ -71,8 +69,11 @@ _DEVICE = {"npn": lambda: elm.BjtNpn(circle=True), "pnp": lambda: elm.BjtPnp(cir
            "opamp": lambda: elm.Opamp(leads=True).flip()}
 
 
-class Sheet:
-    """One schematic: parts, wires, rails and labels added explicitly, then written as SVG."""
+class SchematicSheet:
+    """One schematic: parts, wires, rails and labels added explicitly, then written as SVG.
+
+    It is the :class:`kitleaf.circuit.drawing.Sheet` a stage kind draws on, plus what the
+    test-point markers and the overview need (text, rings, devices, what is occupied)."""
 
     def __init__(self, title: str = "", nets: Mapping[str, str] | None = None) -> None:
         self.title = title
@@ -204,6 +205,12 @@ class Sheet:
         self._add(elm.Dot(open=True, radius=radius).at(centre).zorder(1))  # under its number
 
     # -- text ----------------------------------------------------------------------------------
+    def part_label(self, part: Part) -> str:
+        return part_label(part)
+
+    def label_room(self, part: Part) -> float:
+        return label_room(part)
+
     def label(self, text: str, at: Point, side: str) -> None:
         self.text(text, at, side=side)
 
@@ -306,9 +313,9 @@ class _Transform(Transform):
 
 def render_stage_svg(kit_circuit, stage) -> str:
     """The schematic of one stage, drawn by its kind."""
-    sheet = Sheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"})
+    sheet = SchematicSheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"})
     kit_circuit.kind(stage).draw(stage, sheet)
-    from kitleaf.render.schematic_probes import mark_test_points  # it draws on a Sheet
+    from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 
     mark_test_points(sheet, kit_circuit.kind(stage).test_points(stage))
     return sheet.svg()
@@ -317,8 +324,8 @@ def render_stage_svg(kit_circuit, stage) -> str:
 def render_overview_svg(kit_circuit, headline: Mapping[str, str]) -> str:
     """The kit at a glance: signal stages as blocks with their headline numbers, in chain order,
     the power section below them feeding every stage that draws on it."""
-    from kitleaf.render.schematic_overview import draw_overview  # it draws on a Sheet
+    from kitleaf.render.schematic_overview import draw_overview  # it draws on a SchematicSheet
 
-    sheet = Sheet("Kit overview")
+    sheet = SchematicSheet("Kit overview")
     draw_overview(sheet, kit_circuit, headline)
     return sheet.svg()

@@ -1,6 +1,7 @@
 """Multi-pin devices on a schematic: transistors and op-amps, labelled, pins left as probe spots.
 
-Each is placed by one pin through :meth:`Sheet.device <kitleaf.render.schematic.Sheet.device>`,
+Each is placed by one pin through :meth:`SchematicSheet.device
+<kitleaf.render.schematic.SchematicSheet.device>`,
 which draws the symbol and gives back its pins by our names; what a builder reads beside it
 (designator and value, an op-amp's package pin numbers, its supply leads) is added here with
 the sheet's own wires, rails and text.
@@ -11,17 +12,18 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import TYPE_CHECKING
 
+from kitleaf.circuit.drawing import Point
 from kitleaf.circuit.parts import Part
-from kitleaf.render.schematic_text import FONT_SIZE, Point, part_label
+from kitleaf.render.schematic_text import FONT_SIZE, part_label
 
 if TYPE_CHECKING:
-    from kitleaf.render.schematic import Sheet
+    from kitleaf.render.schematic import SchematicSheet
 
 SUPPLY_LEAD = 0.5  # from an op-amp's supply pin to its rail or ground symbol
 PIN_NUMBER_SIZE = FONT_SIZE * 0.8
 
 
-def draw_transistor(sheet: Sheet, part: Part, family: str, base: Point, mirror: bool
+def draw_transistor(sheet: SchematicSheet, part: Part, family: str, base: Point, mirror: bool
                     ) -> dict[str, Point]:
     """A BJT or JFET with its base or gate at ``base`` (flipped top to bottom if ``mirror``),
     labelled to the right of its pins; every pin is a probe spot."""
@@ -31,7 +33,7 @@ def draw_transistor(sheet: Sheet, part: Part, family: str, base: Point, mirror: 
     return pins
 
 
-def draw_opamp(sheet: Sheet, part: Part, non_inv: Point, pin_numbers: Mapping[str, str]
+def draw_opamp(sheet: SchematicSheet, part: Part, non_inv: Point, pin_numbers: Mapping[str, str]
                ) -> dict[str, Point]:
     """An op-amp with its + input at ``non_inv``, its supply pins led to VCC and ground, and the
     package pin number from ``pin_numbers`` beside each named pin (each a probe spot)."""

@@ -3,7 +3,8 @@
 Blocks run left to right, :data:`PER_ROW` to a row, the signal going up and over to the next
 row. Below each row a supply bus (VCC, and VREF where a stage uses it) drops a stub into every
 stage that draws on the power section; the buses join on a trunk at the far left and come down
-into the power block under the last row. Drawn on a :class:`~kitleaf.render.schematic.Sheet`.
+into the power block under the last row. Drawn on a
+:class:`~kitleaf.render.schematic.SchematicSheet`.
 """
 
 from __future__ import annotations
@@ -11,7 +12,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
-from kitleaf.render.schematic import FONT_SIZE, Point, Sheet, text_width
+from kitleaf.render.schematic import FONT_SIZE, Point, SchematicSheet, text_width
 
 PER_ROW = 4  # blocks per row, so a long chain still fits a printed page
 MIN_WIDTH, HEIGHT, POWER_HEIGHT, GAP = 4.8, 2.2, 1.6, 1.4
@@ -38,7 +39,7 @@ class _Block:
         return (self.corner[0] + self.width / 2, self.corner[1])
 
 
-def draw_overview(sheet: Sheet, kit, headline: Mapping[str, str]) -> None:
+def draw_overview(sheet: SchematicSheet, kit, headline: Mapping[str, str]) -> None:
     chain = kit.signal_stages
     width = _width([_lines(s, headline) for s in chain])
     rows = max(1, -(-len(chain) // PER_ROW))
@@ -65,7 +66,7 @@ def _corner(i: int, rows: int, width: float) -> Point:
     return (LEFT + (width + GAP) * (i % PER_ROW), ROW_STEP * (rows - 1 - row))
 
 
-def _draw_chain(sheet: Sheet, blocks: Sequence[_Block]) -> None:
+def _draw_chain(sheet: SchematicSheet, blocks: Sequence[_Block]) -> None:
     top = blocks[0].corner[1] if blocks else 0.0
     end = (0.0, top + HEIGHT / 2)
     sheet.port(end, "IN", "left")
@@ -78,7 +79,7 @@ def _draw_chain(sheet: Sheet, blocks: Sequence[_Block]) -> None:
     sheet.port((end[0] + GAP, end[1]), "OUT", "right")
 
 
-def _link(sheet: Sheet, end: Point, start: Point, over: float) -> None:
+def _link(sheet: SchematicSheet, end: Point, start: Point, over: float) -> None:
     """A wire from one block's output to the next block's input, up and over on a new row."""
     if abs(end[1] - start[1]) < 1e-9:
         sheet.wire(end, start)
@@ -87,7 +88,8 @@ def _link(sheet: Sheet, end: Point, start: Point, over: float) -> None:
                (start[0] - 0.7, start[1]), start)
 
 
-def _draw_power(sheet: Sheet, kit, power, headline, blocks: Sequence[_Block], rows: int) -> None:
+def _draw_power(sheet: SchematicSheet, kit, power, headline, blocks: Sequence[_Block],
+                rows: int) -> None:
     lines = _lines(power, headline)
     fed = [b for b in blocks if kit.rails_used(b.stage)]
     last_bus = blocks[-1].corner[1] - BUS_DROP if blocks else 0.0
@@ -116,7 +118,7 @@ def _draw_power(sheet: Sheet, kit, power, headline, blocks: Sequence[_Block], ro
             sheet.dot((TRUNK_X, y))
 
 
-def _bus(sheet: Sheet, y: float, ups: set[float], downs: set[float]) -> None:
+def _bus(sheet: SchematicSheet, y: float, ups: set[float], downs: set[float]) -> None:
     """A bus at height ``y`` with stubs going up at ``ups`` and feeds coming from ``downs``;
     a dot wherever three or more wires meet."""
     xs = sorted(ups | downs)

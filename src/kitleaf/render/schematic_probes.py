@@ -2,8 +2,8 @@
 legend under the drawing giving each number the voltage table's wording.
 
 A kind's drawing leaves the points on the sheet as it draws (device pins, rails, ports, net
-labels: :attr:`Sheet.spots`); each marker then takes the first nearby place that is clear of
-every part, wire and label, joined to its node by a short leader.
+labels: :attr:`SchematicSheet.spots`); each marker then takes the first nearby place that is
+clear of every part, wire and label, joined to its node by a short leader.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 
-from kitleaf.render.schematic import FONT_SIZE, Point, Sheet, text_width
+from kitleaf.render.schematic import FONT_SIZE, Point, SchematicSheet, text_width
 
 RADIUS = 0.17  # of the numbered circle, in grid units
 DISTANCES = (0.45, 0.75, 1.05, 1.35, 1.65)  # from the node to the circle's centre, nearest first
@@ -27,7 +27,7 @@ def spot_key(test_point) -> tuple[str, str]:
     return (test_point.device, test_point.pin) if test_point.device else ("", test_point.node)
 
 
-def mark_test_points(sheet: Sheet, test_points: Sequence) -> None:
+def mark_test_points(sheet: SchematicSheet, test_points: Sequence) -> None:
     """A numbered marker at each drawn test point, then the legend of all of them."""
     if not test_points:
         return
@@ -38,12 +38,12 @@ def mark_test_points(sheet: Sheet, test_points: Sequence) -> None:
     _legend(sheet, [f"{n} {_legend_label(tp, sheet)}" for n, tp in enumerate(test_points, 1)])
 
 
-def _legend_label(tp, sheet: Sheet) -> str:
+def _legend_label(tp, sheet: SchematicSheet) -> str:
     """The table's wording; a point not drawn as such (a custom stage's node) names its node."""
     return tp.label if spot_key(tp) in sheet.spots else f"{tp.label} (node {tp.node})"
 
 
-def _free_place(sheet: Sheet, at: Point) -> Point:
+def _free_place(sheet: SchematicSheet, at: Point) -> Point:
     taken = sheet.occupied()
     # diagonals at every distance before the straight directions, which run along wires
     candidates = [(d, v) for group in (DIRECTIONS[:4], DIRECTIONS[4:]) for d in DISTANCES
@@ -68,7 +68,7 @@ def _meets(a, b) -> bool:
     return a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]
 
 
-def _marker(sheet: Sheet, at: Point, number: str, centre: Point) -> None:
+def _marker(sheet: SchematicSheet, at: Point, number: str, centre: Point) -> None:
     dx, dy = centre[0] - at[0], centre[1] - at[1]
     reach = 1 - RADIUS / math.hypot(dx, dy)
     sheet.wire(at, (round(at[0] + dx * reach, 4), round(at[1] + dy * reach, 4)))
@@ -76,7 +76,7 @@ def _marker(sheet: Sheet, at: Point, number: str, centre: Point) -> None:
     sheet.text(number, centre, size=FONT_SIZE * 0.7, side="centre", exact=True)
 
 
-def _legend(sheet: Sheet, entries: Sequence[str]) -> None:
+def _legend(sheet: SchematicSheet, entries: Sequence[str]) -> None:
     """Entries packed into lines no wider than the drawing, under everything drawn."""
     x0, y0, x1, _ = sheet.extent()
     lines, width = [["Test points"]], max(x1 - x0, 6.0)

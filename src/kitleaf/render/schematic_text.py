@@ -9,9 +9,9 @@ from __future__ import annotations
 import re
 
 from kitleaf.bom.describe import describe
+from kitleaf.circuit.drawing import Point
 from kitleaf.circuit.parts import Part
 
-Point = tuple[float, float]
 Box = tuple[float, float, float, float]  # x0, y0, x1, y1
 
 FONT_SIZE = 11.0

@@ -20,6 +20,7 @@ from kitleaf.site.changes import compare
 from kitleaf.site.discover import find_guides, site_root_for
 from kitleaf.site.fingerprint import theme_fingerprint
 from kitleaf.site.manifest import MANIFEST_NAME, dump_manifest, make_manifest, read_manifest
+from kitleaf.site.output_folder import check_output_folder
 from kitleaf.site.pool import default_jobs, run_guides
 from kitleaf.site.progress import Progress
 from kitleaf.site.prune import DEFAULT_POLICY, PrunePolicy, PruneReport, prune
@@ -60,8 +61,9 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
     With ``strict``, a guide's design-rule finding is an error too (:func:`finding_errors`).
     """
     started = time.perf_counter()
-    themes = theme_dirs(site_root_for(target))
     paths = find_guides(target)
+    check_output_folder(Path(out_dir), target)  # before any work: a refused folder is untouched
+    themes = theme_dirs(site_root_for(target))
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
     outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress, strict)
     if strict and (refused := finding_errors(outputs)):

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import functools
 from pathlib import Path
+from urllib.parse import quote
 
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
-from kitleaf.bom.stresses import part_stresses
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.guide import parse_guide
@@ -50,13 +50,13 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
         "checks": checks,
-        "bom": rating_warnings(bom_lines(kit.parts()), part_stresses(kit)),
+        "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
-                headline(specs), f"{slug}/index.html")
+                headline(specs), quote(f"{slug}/index.html"))  # a relative URL, encoded
     record = guide_record(Path(path).name, kit.parts(), specs)
     return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings)
 

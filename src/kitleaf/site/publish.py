@@ -19,6 +19,13 @@ from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
+from kitleaf.site.output_folder import (
+    PUBLISH_MARKER,
+    check_publishable,
+    files_on_disk,
+    marker_bytes,
+)
+
 try:
     import fcntl
 except ImportError:  # not POSIX: no lock, publishes must not overlap
@@ -43,7 +50,7 @@ class PublishResult:
 def plan(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
     """Compare the new site with the published one, file by file."""
     written = tuple(rel for rel in sorted(files) if not same_bytes(out_dir / rel, files[rel]))
-    present = published_files(out_dir)
+    present = files_on_disk(out_dir) - {PUBLISH_MARKER}
     removed = tuple(sorted(present - files.keys()))
     return PublishResult(written, removed, len(files) - len(written))
 
@@ -55,18 +62,17 @@ def same_bytes(path: Path, data: bytes) -> bool:
         return False
 
 
-def published_files(out_dir: Path) -> set[str]:
-    if not out_dir.is_dir():
-        return set()
-    return {p.relative_to(out_dir).as_posix() for p in out_dir.rglob("*") if not p.is_dir()}
-
-
 def publish(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
-    """Make ``out_dir`` hold exactly ``files``, writing only what changed; all or nothing."""
-    out_dir = out_dir.resolve()
+    """Make ``out_dir`` hold exactly ``files``, writing only what changed; all or nothing.
+
+    A folder holding files no kitleaf publish wrote is refused (:func:`check_publishable`).
+    """
+    shown, out_dir = out_dir, out_dir.resolve()
+    check_publishable(shown)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
     with locked(out_dir):
         recover(out_dir)
+        check_publishable(shown)  # again under the lock: another publish may have run
         result = plan(out_dir, files)
         if not result.touched and out_dir.is_dir():
             return result
@@ -95,6 +101,10 @@ def locked(out_dir: Path) -> Iterator[None]:
 
 def fill(staging: Path, out_dir: Path, files: Mapping[str, bytes], changed: set[str]) -> None:
     """Changed files written afresh, unchanged ones linked from the published site."""
+    marker = marker_bytes(files)  # a marker of the same list is kept as it was, like a page
+    if not same_bytes(out_dir / PUBLISH_MARKER, marker):
+        changed = changed | {PUBLISH_MARKER}
+    files = {**files, PUBLISH_MARKER: marker}
     for rel in sorted(files):
         target = staging / rel
         target.parent.mkdir(parents=True, exist_ok=True)

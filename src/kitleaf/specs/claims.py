@@ -23,7 +23,8 @@ from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
-from kitleaf.specs.rules import Finding, check_rules
+from kitleaf.specs.ratings import Stress
+from kitleaf.specs.rules import Finding, RuleContext, check_rules
 from kitleaf.values import format_db, format_value, parse_value
 
 _CLAIM = re.compile(r"^(?P<name>[A-Za-z0-9][A-Za-z0-9._-]*)\s+(?:(?P<op>below|above)\s+"
@@ -155,6 +156,8 @@ class Checks:
     values: Mapping[str, Computed]
     claims: tuple[Verified, ...]
     findings: tuple[Finding, ...]
+    # Each rated part's worst DC stress, for the BOM's rating warnings (specs/ratings.py).
+    stresses: Mapping[str, Stress]
 
     def claims_for(self, scope: str) -> tuple[Verified, ...]:
         return tuple(c for c in self.claims if c.scope == scope)
@@ -172,4 +175,6 @@ def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> Checks:
     """Claims checked (a broken one raises SpecError) and every design rule run."""
     values = computed_values(specs, kit)
     claims = check_claims(guide, kit, values)
-    return Checks(MappingProxyType(values), claims, check_rules(guide, kit, specs))
+    ctx = RuleContext(guide, kit, specs)
+    return Checks(MappingProxyType(values), claims, check_rules(ctx),
+                  MappingProxyType(ctx.stresses))

@@ -8,13 +8,13 @@ A name is dotted and lower-case: ``kit.gain``, ``boost.low-corner``, ``boost.gai
 from __future__ import annotations
 
 import difflib
-import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.errors import SourceSpan, SpecError
+from kitleaf.guide.slug import slug_for as slug
 from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
 
 KIT = "kit"
@@ -37,11 +37,9 @@ class Computed:
     value: Range
     quantity: str
     label: str
-
-
-def slug(text: str) -> str:
-    """A knob name or test-point word as a name part: "Mid Boost" -> "mid-boost"."""
-    return re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")
+    # Another way a maker may spell it, offered by the did-you-mean only: a custom test
+    # point labelled "Q2 source" is ``buffer.s``, but a maker may try ``buffer.q2.source``.
+    spelling: str = ""
 
 
 def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
@@ -50,11 +48,14 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
     _add_specs(found, KIT, specs, "the kit")
     found[f"{KIT}.supply"] = Computed(f"{KIT}.supply", Range(specs.supply_v), "voltage",
                                       "supply voltage")
+    local = {s.id: [tp.node for tp in kit.kind(s).test_points(s)] for s in kit.stages}
     for stage in specs.stages:
         _add_specs(found, stage.id, stage, stage.title)
-        for v in stage.voltages:
-            name = f"{stage.id}.{_point_name(v.device, v.pin, v.node)}"
-            found[name] = Computed(name, v.volts, "voltage", f"{v.label}, DC to ground")
+        for v, node in zip(stage.voltages, local[stage.id], strict=True):
+            name = f"{stage.id}.{_point_name(v.device, v.pin, node)}"
+            spelling = "" if v.device else f"{stage.id}.{'.'.join(map(slug, v.label.split()))}"
+            found[name] = Computed(name, v.volts, "voltage", f"{v.label}, DC to ground",
+                                   spelling)
     for part in kit.parts():
         quantity = PART_QUANTITY.get(part.type)
         if quantity is not None and part.value is not None:
@@ -84,6 +85,7 @@ def _knob_words(point: KnobPoint) -> str:
 
 
 def _point_name(device: str, pin: str, node: str) -> str:
+    """``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
     if not device:
         return slug(node)
     pin = f"pin{pin}" if pin.isdigit() else slug(pin)
@@ -109,11 +111,12 @@ def lookup(values: Mapping[str, Computed], name: str, span: SourceSpan | None,
 
 def _nearest(values: Mapping[str, Computed], name: str, scope: str | None) -> str:
     prefixes = tuple(f"{p}." for p in (scope, KIT) if p)
-    short = {}
-    for full in values:
-        short[full] = full
-        for prefix in prefixes:
-            if full.startswith(prefix):
-                short[full.removeprefix(prefix)] = full
+    short = {}  # a spelling -> the name to offer for it
+    for full, computed in values.items():
+        for spelled in filter(None, (full, computed.spelling)):
+            short.setdefault(spelled, full)
+            for prefix in prefixes:
+                if spelled.startswith(prefix) and full.startswith(prefix):
+                    short.setdefault(spelled.removeprefix(prefix), full.removeprefix(prefix))
     close = difflib.get_close_matches(name.strip().lower(), list(short), n=1, cutoff=0.6)
-    return f" (did you mean '{close[0]}'?)" if close else ""
+    return f" (did you mean '{short[close[0]]}'?)" if close else ""

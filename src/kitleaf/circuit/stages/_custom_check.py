@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.stages.custom import (
     ALIASES,
@@ -67,12 +68,11 @@ def _unknown(stage: Stage, where: str, node: str, known) -> str:
             f"declare it on the 'nodes:' line or use one of {', '.join(sorted(known))}")
 
 
-def draw_custom(stage: Stage, sheet) -> None:
+def draw_custom(stage: Stage, sheet: Sheet) -> None:
     """A box listing the parts, with IN on the left, OUT on the right, VCC above, ground below."""
-    from kitleaf.render.schematic import part_label
-
-    lines = [stage.title] + [part_label(p).replace("\n", " ") + "  @ " + " ".join(part_nodes(p))
-                             for p in stage.parts["part"]]
+    lines = [stage.title] + [
+        sheet.part_label(p).replace("\n", " ") + "  @ " + " ".join(part_nodes(p))
+        for p in stage.parts["part"]]
     width = max(4.0, 0.2 * max(len(line) for line in lines) + 1.0)
     height = max(3.0, 0.42 * len(lines) + 1.0)
     low, mid = 3.0, 3.0 + height / 2
@@ -86,7 +86,7 @@ def draw_custom(stage: Stage, sheet) -> None:
     _draw_rails(sheet, used, 1.5 + width / 2, low, low + height)
 
 
-def _draw_rails(sheet, used: set[str], x: float, low: float, high: float) -> None:
+def _draw_rails(sheet: Sheet, used: set[str], x: float, low: float, high: float) -> None:
     if "vcc" in used:
         sheet.wire((x, high), (x, high + 1.0))
         sheet.rail((x, high + 1.0))

@@ -11,8 +11,8 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point, Sheet
 from kitleaf.circuit.parts import Part
-from kitleaf.render.schematic import GROUND_Y, RAIL_Y, SIGNAL_Y, Point, Sheet
 
 BASE_X = 3.4  # the bias node
 DEVICE_X = 4.6  # where the base or gate lead ends

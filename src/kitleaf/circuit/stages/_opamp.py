@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from kitleaf.circuit.drawing import GROUND_Y, Sheet
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.stages._shared import check_family, opamp_pins
@@ -35,14 +36,12 @@ def feedback_rows(stage: Stage, with_gain: bool) -> list[list[Part]]:
     return rows
 
 
-def draw_opamp_core(sheet, stage: Stage, rows: list[list[Part]], leg: Sequence[Part]
+def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Sequence[Part]
                     ) -> tuple[dict, tuple]:
     """The op-amp, its feedback ``rows`` below it, and the ``leg`` from the - input to ground.
 
     Returns the op-amp pins and the output node, where the output network starts.
     """
-    from kitleaf.render.schematic import GROUND_Y
-
     opamp = stage.part("opamp")
     pins = sheet.opamp(opamp, (4.6, PLUS_Y), _shown_pins(opamp))
     minus = pins["inv"]
@@ -70,7 +69,7 @@ def _shown_pins(opamp: Part) -> dict[str, str]:
     return dict(opamp_pins(opamp))
 
 
-def _row(sheet, row: Sequence[Part], start, end) -> None:
+def _row(sheet: Sheet, row: Sequence[Part], start, end) -> None:
     """Parts in series along one feedback row, labelled below so the op-amp stays clear."""
     step = (end[0] - start[0]) / len(row)
     for i, part in enumerate(row):
@@ -81,7 +80,7 @@ def _row(sheet, row: Sequence[Part], start, end) -> None:
             sheet.part(part, a, b, side="below")
 
 
-def draw_leg(sheet, leg: Sequence[Part], top, bottom) -> None:
+def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom) -> None:
     """Parts in series down a vertical leg to ground, labelled on the right."""
     step = (top[1] - bottom[1]) / len(leg)
     for i, part in enumerate(leg):
@@ -93,7 +92,7 @@ def draw_leg(sheet, leg: Sequence[Part], top, bottom) -> None:
     sheet.ground(bottom)
 
 
-def draw_output(sheet, stage: Stage, node) -> None:
+def draw_output(sheet: Sheet, stage: Stage, node) -> None:
     """Output cap from the op-amp's output node, then the volume pot or the OUT port."""
     from kitleaf.circuit.stages._drawing import draw_volume_out
 

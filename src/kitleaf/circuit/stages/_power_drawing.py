@@ -3,6 +3,7 @@ filter, reference and indicator branch dropping from the rail to ground."""
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import GROUND_Y, Sheet
 from kitleaf.circuit.kind import Stage
 
 RAIL = 8.0
@@ -10,7 +11,7 @@ STEP = 2.4  # between the branches hanging off the rail, at least
 AIR = 0.4  # between a label's end and the next branch's wire
 
 
-def draw_power(stage: Stage, sheet) -> None:
+def draw_power(stage: Stage, sheet: Sheet) -> None:
     part = stage.part
     sheet.net_label((0.0, RAIL), "supply", "above")
     x = _draw_protection(stage, sheet)
@@ -31,16 +32,12 @@ def draw_power(stage: Stage, sheet) -> None:
         _branch(sheet, rail_end, free_x, [part("led-resistor"), part("led")])
 
 
-def _next_column(x: float, parts) -> float:
+def _next_column(sheet: Sheet, x: float, parts) -> float:
     """The first column right of ``x`` clear of the labels written right of its parts."""
-    from kitleaf.render.schematic import label_room
-
-    return x + max(STEP, max(label_room(p) for p in parts if p is not None) + AIR)
+    return x + max(STEP, max(sheet.label_room(p) for p in parts if p is not None) + AIR)
 
 
-def _draw_protection(stage: Stage, sheet) -> float:
-    from kitleaf.render.schematic import GROUND_Y
-
+def _draw_protection(stage: Stage, sheet: Sheet) -> float:
     diode = stage.part("reverse-diode")
     if diode is None:
         return 0.0
@@ -54,27 +51,23 @@ def _draw_protection(stage: Stage, sheet) -> float:
     return 1.2
 
 
-def _branch(sheet, rail_end: float, x_new: float, parts) -> tuple[float, float]:
+def _branch(sheet: Sheet, rail_end: float, x_new: float, parts) -> tuple[float, float]:
     """Parts in series from the rail at ``x_new`` down to ground.
 
     Returns where the rail now ends and the next free column."""
-    from kitleaf.render.schematic import GROUND_Y
-
     sheet.wire((rail_end, RAIL), (x_new, RAIL))
     sheet.dot((x_new, RAIL))
     step = (RAIL - GROUND_Y) / len(parts)
     for i, part in enumerate(parts):
         sheet.part(part, (x_new, RAIL - step * i), (x_new, RAIL - step * (i + 1)), side="right")
     sheet.ground((x_new, GROUND_Y))
-    return x_new, _next_column(x_new, parts)
+    return x_new, _next_column(sheet, x_new, parts)
 
 
-def _draw_reference(stage: Stage, sheet, rail_end: float, x: float) -> tuple[float, float]:
+def _draw_reference(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tuple[float, float]:
     """The divider down column ``x``, VREF taken from its middle, its cap beside it.
 
     Returns where the rail now ends and the next free column."""
-    from kitleaf.render.schematic import GROUND_Y
-
     sheet.wire((rail_end, RAIL), (x, RAIL))
     sheet.dot((x, RAIL))
     middle = (x, (RAIL + GROUND_Y) / 2)
@@ -82,14 +75,14 @@ def _draw_reference(stage: Stage, sheet, rail_end: float, x: float) -> tuple[flo
     sheet.part(stage.part("vref-bottom"), middle, (x, GROUND_Y), side="right")
     sheet.ground((x, GROUND_Y))
     sheet.dot(middle)
-    tap = (_next_column(x, [stage.part("vref-top"), stage.part("vref-bottom")]), middle[1])
+    tap = (_next_column(sheet, x, [stage.part("vref-top"), stage.part("vref-bottom")]), middle[1])
     sheet.wire(middle, tap)
     cap = stage.part("vref-cap")
     if cap is not None:
         sheet.dot(tap)
         sheet.part(cap, tap, (tap[0], GROUND_Y), side="right")
         sheet.ground((tap[0], GROUND_Y))
-    end = (_next_column(tap[0], [cap]) - 1.0 if cap is not None else tap[0] + 1.2, middle[1])
+    end = (_next_column(sheet, tap[0], [cap]) - 1.0 if cap is not None else tap[0] + 1.2, middle[1])
     sheet.wire(tap, end)
     sheet.net_label(end, "vref", "right")
     return x, end[0] + STEP

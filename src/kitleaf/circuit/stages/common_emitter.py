@@ -7,6 +7,7 @@ ordinary negative-ground supply (the ground of the original is our VCC).
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
@@ -79,7 +80,7 @@ class CommonEmitter(StageKind):
     def knob_roles(self) -> tuple[str, ...]:
         return ("gain", "volume")
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
 
         part = stage.part

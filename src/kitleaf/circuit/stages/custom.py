@@ -13,6 +13,7 @@ Besides its own nodes a part may join ``in``, ``out``, ``vcc``, ``vref`` and ``0
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.parts import PART_QUANTITY, Part
 from kitleaf.circuit.stages import register
@@ -85,7 +86,7 @@ class Custom(StageKind):
         return tuple(TestPoint(label, alias.get(node, node))
                      for label, node, _ in test_point_lines(stage))
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._custom_check import draw_custom
 
         draw_custom(stage, sheet)

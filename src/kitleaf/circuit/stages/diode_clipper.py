@@ -7,6 +7,7 @@ lengths clip asymmetrically.
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import GROUND_Y, SIGNAL_Y, Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import capacitor_role, check_part_family, resistor_role
@@ -54,9 +55,7 @@ class DiodeClipper(StageKind):
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return (TestPoint("clipper output (0 V DC)", "out"),)
 
-    def draw(self, stage: Stage, sheet) -> None:
-        from kitleaf.render.schematic import SIGNAL_Y
-
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         sheet.port((0.0, SIGNAL_Y), "IN", "left")
         x = 0.0
         for part in (stage.part("input-cap"), stage.part("series")):
@@ -74,9 +73,7 @@ class DiodeClipper(StageKind):
         sheet.port((x + 0.6, SIGNAL_Y), "OUT", "right")
 
 
-def _draw_stack(sheet, parts, x: float, anode_up: bool) -> None:
-    from kitleaf.render.schematic import GROUND_Y, SIGNAL_Y
-
+def _draw_stack(sheet: Sheet, parts, x: float, anode_up: bool) -> None:
     step = (SIGNAL_Y - GROUND_Y) / len(parts)
     for i, part in enumerate(parts):
         top, bottom = (x, SIGNAL_Y - step * i), (x, SIGNAL_Y - step * (i + 1))

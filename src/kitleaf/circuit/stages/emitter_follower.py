@@ -6,6 +6,7 @@ its emitter resistor goes to VCC and its collector to ground.
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
@@ -60,7 +61,7 @@ class EmitterFollower(StageKind):
     def knob_roles(self) -> tuple[str, ...]:
         return ("volume",)
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
 
         part = stage.part

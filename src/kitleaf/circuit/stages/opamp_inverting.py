@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._opamp import (
@@ -52,7 +53,7 @@ class OpampInverting(OpampKind):
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return opamp_test_points(stage.part("opamp"), "vref", "m", "o")
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         part = stage.part
         plus = (4.6, PLUS_Y)
         sheet.wire(plus, (3.6, PLUS_Y))

@@ -6,6 +6,7 @@ one, so the output sits at the reference.
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._opamp import (
@@ -58,7 +59,7 @@ class OpampNonInverting(OpampKind):
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return opamp_test_points(stage.part("opamp"), "p", "m", "o")
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         part = stage.part
         sheet.port((0.0, PLUS_Y), "IN", "left")
         sheet.part(part("input-cap"), (0.0, PLUS_Y), (2.2, PLUS_Y), plus=(2.2, PLUS_Y))

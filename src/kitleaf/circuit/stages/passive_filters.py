@@ -6,15 +6,14 @@ impedance (high-pass) or in series with the previous stage's output impedance (l
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import SIGNAL_Y, Sheet
 from kitleaf.circuit.kind import Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import capacitor_role, resistor_role
 
 
-def draw_l_section(sheet, series, shunt) -> None:
+def draw_l_section(sheet: Sheet, series, shunt) -> None:
     """IN, the series part across, the shunt part down to ground, OUT."""
-    from kitleaf.render.schematic import SIGNAL_Y
-
     sheet.port((0.0, SIGNAL_Y), "IN", "left")
     sheet.part(series, (0.0, SIGNAL_Y), (2.4, SIGNAL_Y))
     node = (3.4, SIGNAL_Y)
@@ -41,7 +40,7 @@ class HighPass(StageKind):
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return (TestPoint("output (0 V DC)", "out"),)
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         draw_l_section(sheet, stage.part("series-cap"), stage.part("shunt-resistor"))
 
 
@@ -58,5 +57,5 @@ class LowPass(StageKind):
         wiring.place(stage.part("series-resistor"), "in", "out")
         wiring.place(stage.part("shunt-cap"), "out", "0")
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         draw_l_section(sheet, stage.part("series-resistor"), stage.part("shunt-cap"))

@@ -7,6 +7,7 @@ that conducts, and blows the adapter's fuse or current limit, only when the plug
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Option, Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
@@ -91,7 +92,7 @@ class Power(StageKind):
                                     stage.part("led").designator, "anode"))
         return tuple(points)
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._power_drawing import draw_power
 
         draw_power(stage, sheet)

@@ -7,6 +7,7 @@ clockwise adds resistance in series with the cap and brings the highs back.
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import GROUND_Y, SIGNAL_Y, Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import capacitor_role, resistor_role, rheostat
@@ -30,9 +31,7 @@ class ToneCut(StageKind):
     def knob_roles(self) -> tuple[str, ...]:
         return ("tone",)
 
-    def draw(self, stage: Stage, sheet) -> None:
-        from kitleaf.render.schematic import GROUND_Y, SIGNAL_Y
-
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         sheet.port((0.0, SIGNAL_Y), "IN", "left")
         sheet.part(stage.part("series"), (0.0, SIGNAL_Y), (2.4, SIGNAL_Y))
         node = (3.4, SIGNAL_Y)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from kitleaf.circuit.drawing import SIGNAL_Y, Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind
 from kitleaf.circuit.stages import register
 
@@ -18,9 +19,7 @@ class Volume(StageKind):
     def knob_roles(self) -> tuple[str, ...]:
         return ("volume",)
 
-    def draw(self, stage: Stage, sheet) -> None:
+    def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import draw_volume_out
-        from kitleaf.render.schematic import SIGNAL_Y
-
         sheet.port((0.0, SIGNAL_Y), "IN", "left")
         draw_volume_out(sheet, stage.part("volume"), (0.0, SIGNAL_Y), 2.0)

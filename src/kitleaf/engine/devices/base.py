@@ -24,6 +24,14 @@ def explin(arg: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return value * (1.0 + over), value
 
 
+def breakdown(v: np.ndarray, bv: np.ndarray, ibv, n_vt) -> tuple[np.ndarray, np.ndarray]:
+    """A junction's reverse breakdown current -ibv exp(-(v + bv) / n_vt) (the SPICE diode's
+    form) and its slope; zero where ``bv`` is infinite (unset)."""
+    finite = np.isfinite(bv)
+    e, de = explin(np.where(finite, -(v + np.where(finite, bv, 0.0)) / n_vt, -1e3))
+    return np.where(finite, -ibv * e, 0.0), np.where(finite, ibv * de / n_vt, 0.0)
+
+
 def pnjlim(vnew: np.ndarray, vold: np.ndarray, vt: np.ndarray, vcrit: np.ndarray) -> np.ndarray:
     """SPICE's junction-voltage limiting: large forward steps become logarithmic."""
     big = (vnew > vcrit) & (np.abs(vnew - vold) > 2.0 * vt)
@@ -34,6 +42,21 @@ def pnjlim(vnew: np.ndarray, vold: np.ndarray, vt: np.ndarray, vcrit: np.ndarray
     from_off = vt * np.log(np.maximum(vnew / vt, 1e-300))
     limited = np.where(vold > 0, from_on, from_off)
     return np.where(big, limited, vnew)
+
+
+def breakdown_limit(vnew: np.ndarray, vold: np.ndarray, bv: np.ndarray, n_vt: np.ndarray,
+                    crit: np.ndarray) -> np.ndarray:
+    """SPICE's limiting of a junction stepping deep into reverse breakdown: the step below
+    -bv is limited as a forward step of the mirrored junction would be (``bv`` infinite:
+    nothing to limit)."""
+    finite = np.isfinite(bv)
+    deep = finite & (vnew < np.minimum(0.0, -np.where(finite, bv, 0.0) + 10.0 * n_vt))
+    if not deep.any():
+        return vnew
+    bv = np.where(finite, bv, 0.0)
+    mirrored = -(vnew + bv)
+    limited = pnjlim(mirrored, -(vold + bv), n_vt, crit)
+    return np.where(deep & (limited != mirrored), -(limited + bv), vnew)
 
 
 def vcrit(n_vt: np.ndarray, i_sat: np.ndarray) -> np.ndarray:

@@ -12,6 +12,8 @@ from kitleaf.engine.devices.base import (
     GMIN,
     VT,
     Bank,
+    breakdown,
+    breakdown_limit,
     depletion,
     explin,
     inner_row,
@@ -26,6 +28,7 @@ KEYS = tuple(DEFAULTS["npn"])
 SATURATION_VCE = 0.25  # volts; below this (device frame) a BJT reports "saturated"
 CUTOFF_IC = 1e-8  # amperes; below this collector current it reports "cutoff"
 START_AMPS = 1e-4  # small-signal stages in pedals mostly run near 100 uA .. 1 mA
+EBO_AMPS = 1e-5  # emitter current at which V(BR)EBO is specified (from memory: 10 uA)
 
 
 # The four exponential currents, evaluated in one call: forward and reverse transport, then
@@ -50,7 +53,12 @@ class BjtBank(Bank):
         return n_vt, vcrit(n_vt, self.p("IS")[:, None, :])
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
-        return pnjlim(vnew, vold, *self._limits)
+        limited = pnjlim(vnew, vold, *self._limits)
+        if not self._breaks_down:
+            return limited
+        n_vt, crit = self._limits
+        vbe = breakdown_limit(limited[:, 0], vold[:, 0], self.p("BVEBO"), n_vt[:, 0], crit[:, 0])
+        return np.stack([vbe, limited[:, 1]], axis=1)
 
     @cached_property
     def _diodes(self) -> tuple[np.ndarray, np.ndarray]:
@@ -89,7 +97,15 @@ class BjtBank(Bank):
         current[:, 0] = i[:, 0] / p("BF") + i[:, 2] + GMIN * vbe
         current[:, 1] = i[:, 1] / p("BR") + i[:, 3] + GMIN * vbc
         current[:, 2] = ice
+        if self._breaks_down:  # the base-emitter junction's reverse breakdown (BVEBO)
+            bd_i, bd_g = breakdown(vbe, p("BVEBO"), EBO_AMPS, VT)
+            current[:, 0] += bd_i
+            slope[:, 0, 0] += bd_g
         return current, slope
+
+    @cached_property
+    def _breaks_down(self) -> bool:
+        return bool(np.isfinite(self.p("BVEBO")).any())
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:
         p, vbe, vbc = self.p, v[:, 0], v[:, 1]

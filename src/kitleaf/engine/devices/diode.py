@@ -10,6 +10,8 @@ from kitleaf.engine.devices.base import (
     GMIN,
     VT,
     Bank,
+    breakdown,
+    breakdown_limit,
     depletion,
     explin,
     inner_row,
@@ -32,7 +34,9 @@ class DiodeBank(Bank):
 
     def limit(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
         n_vt = (self.p("N") * VT)[:, None, :]
-        return pnjlim(vnew, vold, n_vt, vcrit(n_vt, self.p("IS")[:, None, :]))
+        crit = vcrit(n_vt, self.p("IS")[:, None, :])
+        limited = pnjlim(vnew, vold, n_vt, crit)
+        return breakdown_limit(limited, vold, self.p("BV")[:, None, :], n_vt, crit)
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         vd = v[:, 0, :]
@@ -40,15 +44,8 @@ class DiodeBank(Bank):
         e, de = explin(vd / n_vt)
         current = i_sat * (e - 1.0) + GMIN * vd
         slope = i_sat * de / n_vt + GMIN
-        bd_i, bd_g = self._breakdown(vd, n_vt)
+        bd_i, bd_g = breakdown(vd, self.p("BV"), self.p("IBV"), n_vt)
         return (current + bd_i)[:, None, :], (slope + bd_g)[:, None, None, :]
-
-    def _breakdown(self, vd: np.ndarray, n_vt: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Reverse breakdown: -IBV * exp(-(vd + BV) / (N VT)), zero where BV is unset."""
-        bv, ibv = self.p("BV"), self.p("IBV")
-        finite = np.isfinite(bv)
-        e, de = explin(np.where(finite, -(vd + np.where(finite, bv, 0.0)) / n_vt, -1e3))
-        return np.where(finite, -ibv * e, 0.0), np.where(finite, ibv * de / n_vt, 0.0)
 
     def capacitances(self, v: np.ndarray) -> np.ndarray:
         vd = v[:, 0, :]

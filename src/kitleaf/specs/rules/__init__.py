@@ -17,7 +17,6 @@ from kitleaf.circuit.chain import KitCircuit
 from kitleaf.errors import SpecError
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT
-from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.rules._context import Finding, RuleContext
 
 
@@ -76,10 +75,9 @@ def allow_entries(guide: Guide, kit: KitCircuit) -> tuple[Allow, ...]:
     return tuple(read_allow(e) for e in kit_lines + stage_lines)
 
 
-def check_rules(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> tuple[Finding, ...]:
+def check_rules(ctx: RuleContext) -> tuple[Finding, ...]:
     """Every rule's findings, sorted by line; silenced ones carry their reason."""
-    allows = allow_entries(guide, kit)
-    ctx = RuleContext(guide, kit, specs)
+    allows = allow_entries(ctx.guide, ctx.kit)
     found = [f for rule_id in sorted(RULES) for f in RULES[rule_id].check(ctx)]
     reasons = {(a.rule, a.subject): a.reason for a in allows}
     found = [replace(f, allowed=reasons.get((f.rule, f.subject.lower()), "")) for f in found]

@@ -14,6 +14,7 @@ from kitleaf.specs.derive import KNOB_STEPS
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.ratings import Stress, worst_stresses
 from kitleaf.specs.solve import nominal_positions
 
 
@@ -49,6 +50,11 @@ class RuleContext:
     def _solve(self, words: str, positions: dict) -> DcSetting:
         circuit = self.kit.netlist(positions)
         return DcSetting(words, circuit, solve_dc(circuit))
+
+    @cached_property
+    def stresses(self) -> dict[str, Stress]:
+        """Each rated part's worst DC stress over the knob states (see specs/ratings.py)."""
+        return worst_stresses(self.parts, self.states)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:

@@ -7,9 +7,7 @@ from memory). The check uses the high end of the current draw's tolerance range.
 
 from __future__ import annotations
 
-import re
-
-from kitleaf.errors import SpecError
+from kitleaf.guide.kit_lines import battery_capacity_ah, battery_life_hours
 from kitleaf.guide.model import Entry
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext
@@ -17,23 +15,10 @@ from kitleaf.values import format_value
 
 RULE = "battery-life"
 DEFAULT_CAPACITY_AH = 0.5  # a 9 V alkaline battery (common practice, from memory)
-_CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
-_HOURS = re.compile(r"^(\d+(?:\.\d*)?)\s*(?:h|hours?)$")
-
-
-def read(entry: Entry, pattern: re.Pattern, example: str) -> re.Match:
-    match = pattern.match(entry.value.strip())
-    if match is None or float(match[1]) <= 0:
-        raise SpecError(f"cannot read '{entry.key}: {entry.value}'; write it like '{example}'",
-                        entry.span)
-    return match
 
 
 def capacity_ah(entry: Entry | None) -> float:
-    if entry is None:
-        return DEFAULT_CAPACITY_AH
-    match = read(entry, _CAPACITY, "battery: 500 mAh")
-    return float(match[1]) * (1e-3 if match[2] else 1.0)
+    return DEFAULT_CAPACITY_AH if entry is None else battery_capacity_ah(entry)
 
 
 @register(RULE, "a current draw the stated battery life cannot meet")
@@ -42,7 +27,7 @@ def check(ctx: RuleContext):
     life = entries.get("battery-life")
     if life is None:
         return
-    hours = float(read(life, _HOURS, "battery-life: 20 h")[1])
+    hours = battery_life_hours(life)
     capacity = capacity_ah(entries.get("battery"))
     draw = ctx.specs.supply_current
     amps = max(draw.nominal, draw.high or 0.0)

@@ -7,6 +7,7 @@ then no orientation keeps it forward-biased at every position.
 
 from __future__ import annotations
 
+from kitleaf.specs.ratings import POLARISED
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext
 from kitleaf.values import format_value
@@ -14,7 +15,6 @@ from kitleaf.values import format_value
 RULE = "cap-polarity"
 # The reverse bias an aluminium electrolytic is taken to survive (common practice, no source).
 REVERSE_LIMIT = 0.5
-POLARISED = ("electrolytic", "tantalum")
 
 
 def voltages(ctx: RuleContext, designator: str) -> list[tuple[float, str]]:

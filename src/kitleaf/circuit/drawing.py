@@ -1,0 +1,81 @@
+"""What a stage kind may ask of the schematic sheet it draws on: the drawing protocol.
+
+The circuit layer owns this contract and the rendering layer implements it
+(:class:`kitleaf.render.schematic.SchematicSheet`), so a kind describes its drawing without
+importing the drawing code. Coordinates are grid units (one unit is half an inch at print
+size); y grows upwards, so a kind puts ground on :data:`GROUND_Y`, the supply on
+:data:`RAIL_Y` and the signal on :data:`SIGNAL_Y` between them, flowing left to right.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from typing import Protocol
+
+from kitleaf.circuit.parts import Part
+
+Point = tuple[float, float]
+
+# The rows of a stage drawing.
+GROUND_Y = 0.0
+SIGNAL_Y = 5.0
+RAIL_Y = 10.0
+
+
+class Sheet(Protocol):
+    """A schematic being drawn: every element is added explicitly, in drawing order."""
+
+    # -- parts ---------------------------------------------------------------------------------
+    def part(self, part: Part | None, a: Point, b: Point, side: str | None = None,
+             plus: Point | None = None) -> None:
+        """A two-terminal part from ``a`` to ``b`` (a diode's anode at ``a``), labelled on
+        ``side``; an electrolytic's + lead at ``a`` unless ``plus`` names ``b``. None: nothing."""
+
+    def pot(self, part: Part, ccw: Point, cw: Point, side: str | None = None,
+            wiper_right: bool = False) -> Point:
+        """A pot from ``ccw`` to ``cw``; returns where its wiper arrow starts."""
+
+    def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None) -> None:
+        """A pot used as a variable resistor: its wiper tied to the ``b`` end."""
+
+    def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
+                   ) -> dict[str, Point]:
+        """A BJT (npn/pnp) or JFET (njf/pjf) with its base or gate at ``base``; its pins by
+        name. ``mirror`` flips it top to bottom (emitter or source towards the supply)."""
+
+    def opamp(self, part: Part, non_inv: Point, pin_numbers: Mapping[str, str]
+              ) -> dict[str, Point]:
+        """An op-amp with its + input at ``non_inv``, the - input below; its pins by name, each
+        shown with its package pin from ``pin_numbers``."""
+
+    def block(self, lower_left: Point, width: float, height: float, lines: Sequence[str]) -> None:
+        """A labelled rectangle, ``lines`` centred in it."""
+
+    # -- connections ---------------------------------------------------------------------------
+    def wire(self, *points: Point) -> None:
+        """A wire through ``points``, drawn as straight segments."""
+
+    def dot(self, at: Point) -> None:
+        """A junction dot where three or more wires meet."""
+
+    def terminal(self, at: Point) -> None:
+        """Ground at or below :data:`GROUND_Y`, the VCC rail at or above :data:`RAIL_Y`."""
+
+    def ground(self, at: Point) -> None:
+        """A ground symbol."""
+
+    def rail(self, at: Point, net: str = "vcc") -> None:
+        """A supply connection pointing up, labelled with the net's name."""
+
+    def net_label(self, at: Point, net: str, side: str = "below") -> None:
+        """A net named at a wire's end (a reference fed from elsewhere)."""
+
+    def port(self, at: Point, name: str, side: str = "left") -> None:
+        """A connection to the previous or next stage ("IN", "OUT")."""
+
+    # -- words ---------------------------------------------------------------------------------
+    def part_label(self, part: Part) -> str:
+        """The words a part is labelled with (designator over value)."""
+
+    def label_room(self, part: Part) -> float:
+        """How far a part's label reaches from the part's axis, in grid units."""

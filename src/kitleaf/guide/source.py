@@ -1,0 +1,48 @@
+"""Reading a guide file's text: UTF-8 with or without a byte-order mark, and nothing else."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from kitleaf.errors import GuideError, SourceSpan
+
+# Far above any guide's prose (the demo guides are under 10 kB); a bigger file is most likely
+# not a guide, and Markdown parsing time grows with it.
+LARGEST_GUIDE = 2_000_000
+_BOM = "\ufeff"
+
+
+def read_text(path: Path) -> str:
+    """The text of the guide at ``path``; a located error if it is not a readable guide."""
+    try:
+        with path.open("rb") as file:
+            data = file.read(LARGEST_GUIDE + 1)
+    except OSError as exc:
+        raise GuideError(f"cannot read the guide: {exc.strerror}",
+                         SourceSpan(str(path), 1)) from None
+    if len(data) > LARGEST_GUIDE:
+        raise GuideError(f"the file is larger than {LARGEST_GUIDE // 1_000_000} MB, too large "
+                         "for a guide; split it or check it is the right file",
+                         SourceSpan(str(path), 1))
+    return decoded(data, str(path))
+
+
+def decoded(data: bytes, path: str) -> str:
+    """``data`` as UTF-8 text; an undecodable byte is reported at its own line."""
+    try:
+        return checked_text(data.decode("utf-8"), path)
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        raise GuideError(f"byte 0x{data[exc.start]:02x} is not UTF-8 text ({exc.reason}); save "
+                         "the guide as UTF-8", SourceSpan(path, line)) from None
+
+
+def checked_text(text: str, path: str) -> str:
+    """``text`` without a leading byte-order mark; a NUL character means a binary file."""
+    text = text.removeprefix(_BOM)
+    nul = text.find("\x00")
+    if nul >= 0:
+        line = text.count("\n", 0, nul) + 1
+        raise GuideError("the file holds a NUL character, so it is not a text guide; save the "
+                         "guide as plain UTF-8 text", SourceSpan(path, line))
+    return text

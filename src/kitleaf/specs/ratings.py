@@ -1,0 +1,119 @@
+"""Part ratings against the DC stress the solver computes: the limits, the stress, the verdict.
+
+The one home of the rating limits, read by the design rules and by the bill of materials. A
+capacitor should see at most 80 % of its voltage rating, a resistor or pot dissipate at most
+50 % of its power rating (common practice, no source). A resistor with no stated rating is
+checked against 1/4 W and a pot against 1/8 W, the usual sizes in kits; a polarised capacitor
+with no stated rating is flagged, since it cannot be bought without one; an unpolarised one is
+not checked (common practice, no source). The stress is the worst over the knob settings the
+rules solve (knobs at half way, then each knob alone at every swept position).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass
+from types import MappingProxyType
+
+from kitleaf.display import power_text
+from kitleaf.values import format_value
+
+POLARISED = ("electrolytic", "tantalum")
+
+
+@dataclass(frozen=True)
+class RatingLimit:
+    """How one part type is rated: the quantity, the share of it a part may use, what is sold."""
+
+    quantity: str  # of the stress and the rating: "voltage" or "power"
+    derating: float  # the fraction of the rating a part may use
+    stocked: tuple[float, ...]  # the ratings sold, to suggest one
+    assumed: float | None  # the rating of a part that states none, or None to flag it
+
+
+# Stocked ratings: common practice, no source.
+LIMITS: Mapping[str, RatingLimit] = MappingProxyType(
+    {
+        "capacitor": RatingLimit("voltage", 0.8,
+                                 (6.3, 10, 16, 25, 35, 50, 63, 100, 160, 250, 400, 450), None),
+        "resistor": RatingLimit("power", 0.5, (0.125, 0.25, 0.5, 1, 2, 3, 5), 0.25),
+        "pot": RatingLimit("power", 0.5, (0.125, 0.25, 0.5, 1, 2), 0.125),
+    }
+)
+
+
+@dataclass(frozen=True)
+class Stress:
+    """A part's worst DC stress (volts across a capacitor, watts in a resistor or pot) and the
+    knob setting it happens at, in words ("" when not known)."""
+
+    value: float
+    words: str = ""
+
+
+def _across(op, a: str, b: str) -> float:
+    return op.voltage(a) - op.voltage(b)
+
+
+def _pot_watts(op, pot) -> float:
+    """Both legs of the track, each at the resistance the wiper leaves it."""
+    lower, upper = pot.legs()
+    return _across(op, pot.ccw, pot.w) ** 2 / lower + _across(op, pot.w, pot.cw) ** 2 / upper
+
+
+# Part type -> its stress at an operating point, from the engine element placed for it.
+_STRESS: Mapping[str, Callable] = MappingProxyType({
+    "capacitor": lambda op, e: abs(_across(op, e.a, e.b)),
+    "resistor": lambda op, e: _across(op, e.a, e.b) ** 2 / e.value,
+    "pot": _pot_watts,
+})
+
+
+def worst_stresses(parts: Iterable, settings: Iterable) -> dict[str, Stress]:
+    """Designator -> the worst stress of each rated part over ``settings`` (each with ``words``,
+    ``circuit`` and its operating point ``op``); the first setting wins a tie."""
+    worst: dict[str, Stress] = {}
+    rated = {p.designator: p.type for p in parts if p.type in _STRESS}
+    for setting in settings:
+        placed = {e.name: e for e in setting.circuit.elements}
+        for designator, part_type in rated.items():
+            if designator in placed:
+                value = _STRESS[part_type](setting.op, placed[designator])
+                if designator not in worst or value > worst[designator].value:
+                    worst[designator] = Stress(value, setting.words)
+    return worst
+
+
+def _show(x: float, quantity: str) -> str:
+    return power_text(x) if quantity == "power" else format_value(x, quantity)
+
+
+def _suggest(stress: float, limit: RatingLimit) -> str:
+    needed = stress / limit.derating
+    fits = [r for r in limit.stocked if r >= needed * (1 - 1e-9)]
+    if not fits:
+        return f"a part rated over {_show(needed, limit.quantity)}"
+    return f"{_show(fits[0], limit.quantity)} or more"
+
+
+def rating_problem(designator: str, part_type: str, rating: float | None,
+                   dielectric: str | None, stress: Stress) -> str | None:
+    """What is wrong with a part's rating under ``stress``, in words; None when it is fine."""
+    limit = LIMITS.get(part_type)
+    if limit is None:
+        return None
+    value = abs(stress.value)
+    verb = "dissipates" if limit.quantity == "power" else "sees"
+    seen = f"{designator} {verb} {_show(value, limit.quantity)}"
+    seen += f" ({stress.words})" if stress.words else ""
+    used = rating or limit.assumed
+    if used is None:
+        if dielectric not in POLARISED:
+            return None
+        return f"{seen} but states no rating; use {_suggest(value, limit)}"
+    if value <= limit.derating * used * (1 + 1e-9):
+        return None
+    over = "over its" if value > used else f"over {limit.derating:.0%} of its"
+    stated = "" if rating else " (assumed: none stated)"
+    return (f"{seen}, {over} {_show(used, limit.quantity)} rating{stated}; "
+            f"use {_suggest(value, limit)}")
