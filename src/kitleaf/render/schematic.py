@@ -17,7 +17,7 @@ from collections.abc import Mapping, Sequence
 
 import schemdraw
 import schemdraw.elements as elm
-from schemdraw.segments import SegmentText
+from schemdraw.segments import Segment, SegmentText
 from schemdraw.transform import Transform
 from schemdraw.types import BBox
 from schemdraw.util import Point as SdPoint
@@ -63,10 +63,35 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
 }
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
                  "diode": elm.Diode, "led": elm.LED}
-# Multi-pin symbols, each facing the way the drawings use it (the op-amp with + above -).
-_DEVICE = {"npn": lambda: elm.BjtNpn(circle=True), "pnp": lambda: elm.BjtPnp(circle=True),
-           "njf": lambda: elm.JFetN().reverse(), "pjf": lambda: elm.JFetP().reverse(),
-           "opamp": lambda: elm.Opamp(leads=True).flip()}
+
+
+class JfetSymbol(elm.JFet):
+    """A JFET drawn to IEEE 315 (as IEC 60617): the gate arrow points into an N channel and out
+    of a P channel. schemdraw's own JFetN and JFetP glyphs point the other way."""
+
+    def __init__(self, channel: str, **kwargs) -> None:
+        super().__init__(**kwargs)
+        gate_x, gate_y = self.anchors["gate"]
+        bar_x = self.segments[0].path[2][0]  # the channel bar; the gate lead runs right from it
+        near, far = bar_x + 0.1, bar_x + 0.3  # the span schemdraw's own arrow takes
+        tail, head = (far, near) if channel == "n" else (near, far)
+        self.segments.append(Segment([(tail, gate_y), (head, gate_y)], arrow="->",
+                                     arrowwidth=self.params["arrowwidth"],
+                                     arrowlength=self.params["arrowlength"]))
+
+
+# Multi-pin symbols facing the way the drawings use them: a BJT or JFET with collector or drain
+# up (mirrored for a PNP or P-channel part, emitter or source up), the op-amp with + above -.
+# schemdraw draws its PNP emitter-up, so ours starts flipped; flip() sets, it does not toggle.
+_DEVICE = {"npn": lambda flip: elm.BjtNpn(circle=True).flip() if flip else elm.BjtNpn(circle=True),
+           "pnp": lambda flip: elm.BjtPnp(circle=True) if flip else elm.BjtPnp(circle=True).flip(),
+           "njf": lambda flip: _flipped(JfetSymbol("n").reverse(), flip),
+           "pjf": lambda flip: _flipped(JfetSymbol("p").reverse(), flip),
+           "opamp": lambda flip: elm.Opamp(leads=True).flip()}
+
+
+def _flipped(element: elm.Element, flip: bool) -> elm.Element:
+    return element.flip() if flip else element
 
 
 class SchematicSheet:
@@ -148,9 +173,9 @@ class SchematicSheet:
                ) -> tuple[dict[str, Point], Point]:
         """The symbol of a multi-pin ``family`` with ``pin`` (else its first) at ``at``, flipped
         top to bottom if asked, unlabelled: its pins by our names, and its centre."""
-        drawn = _DEVICE[family]()
+        drawn = _DEVICE[family](flip)
         anchor = ANCHORS[family][pin or next(iter(ANCHORS[family]))]
-        drawn = self._add((drawn.flip() if flip else drawn).anchor(anchor).at(at))
+        drawn = self._add(drawn.anchor(anchor).at(at))
         centre = drawn.absanchors["center"]
         pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
         return pins, (centre.x, centre.y)

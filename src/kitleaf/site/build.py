@@ -18,6 +18,7 @@ from kitleaf.render.pages import render_page
 from kitleaf.site.cache import Cache, default_cache_dir
 from kitleaf.site.changes import compare
 from kitleaf.site.discover import find_guides, site_root_for
+from kitleaf.site.errata import errata_view, next_history
 from kitleaf.site.fingerprint import theme_fingerprint
 from kitleaf.site.manifest import MANIFEST_NAME, dump_manifest, make_manifest, read_manifest
 from kitleaf.site.output_folder import check_output_folder
@@ -54,19 +55,22 @@ class BuildReport:
 
 
 def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
-               cache_dir: Path | None = None, use_cache: bool = True, strict: bool = False,
-               progress=None, prune_policy: PrunePolicy = DEFAULT_POLICY) -> BuildReport:
+               cache_dir: Path | None = None, use_cache: bool = True,
+               fail_on_findings: bool = False, progress=None,
+               prune_policy: PrunePolicy = DEFAULT_POLICY) -> BuildReport:
     """Build every guide under ``target`` into ``out_dir``; on any error nothing is written.
 
-    With ``strict``, a guide's design-rule finding is an error too (:func:`finding_errors`).
+    With ``fail_on_findings``, a guide's design-rule finding is an error too
+    (:func:`finding_errors`).
     """
     started = time.perf_counter()
     paths = find_guides(target)
     check_output_folder(Path(out_dir), target)  # before any work: a refused folder is untouched
     themes = theme_dirs(site_root_for(target))
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
-    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress, strict)
-    if strict and (refused := finding_errors(outputs)):
+    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress,
+                               fail_on_findings)
+    if fail_on_findings and (refused := finding_errors(outputs)):
         raise BuildFailed(refused)  # the guides stay cached; nothing is published
     files, changes = site_files(outputs, themes, Path(out_dir))
     result = publish(Path(out_dir), files)
@@ -78,9 +82,10 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
 
 
 def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: int,
-            stream=None, strict: bool = False) -> tuple[list, int]:
+            stream=None, fail_on_findings: bool = False) -> tuple[list, int]:
     """Every guide's output, from the cache or built; every guide's error, not just the first
-    (with ``strict``, the other guides' findings beside them, as ``check --strict`` lists them).
+    (with ``fail_on_findings``, the other guides' findings beside them, as ``check
+    --fail-on-findings`` lists them).
     The guides that built are cached even when another failed, so fixing it rebuilds it alone."""
     theme_key = theme_fingerprint(themes)
     # Keyed by file name, not path: the same folder moved or copied elsewhere stays cached.
@@ -98,7 +103,7 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
             cache.used.update(uses)
             cache.store("guide", keys[i], (output, uses))
     if any(isinstance(o, KitleafError) for o in outputs):
-        raise BuildFailed(failures(outputs, strict))
+        raise BuildFailed(failures(outputs, fail_on_findings))
     check_slugs(paths, outputs)
     return outputs, len(todo)
 
@@ -113,20 +118,21 @@ def cached_guide(cache: Cache, key: str):
     return output
 
 
-def failures(outputs: list, strict: bool) -> list[KitleafError]:
-    """In guide order, each failed guide's error and, with ``strict``, the others' findings."""
+def failures(outputs: list, fail_on_findings: bool) -> list[KitleafError]:
+    """In guide order, each failed guide's error and, with ``fail_on_findings``, the others'
+    findings."""
     errors: list[KitleafError] = []
     for output in outputs:
         if isinstance(output, KitleafError):
             errors.append(output)
-        elif strict:
+        elif fail_on_findings:
             errors += finding_errors([output])
     return errors
 
 
 def finding_errors(outputs: list) -> list[KitleafError]:
     """Each guide's design-rule findings as its error, one line per finding, as ``kitleaf check
-    --strict`` prints them: ``path:line: error: message [rule]``."""
+    --fail-on-findings`` prints them: ``path:line: error: message [rule]``."""
     errors = [[f.as_error() for f in o.findings] for o in outputs]
     return [found[0] if len(found) == 1 else ErrorList(found) for found in errors if found]
 
@@ -137,7 +143,7 @@ def check_slugs(paths: list[Path], outputs: list) -> None:
         slug = output.card.slug
         if slug in seen:
             raise BuildError(f"{path.name} and {seen[slug].name} both make the pages '{slug}/'; "
-                             "rename one of the files", SourceSpan(str(path), 1))
+                             "rename one of the files", SourceSpan(str(path)))
         seen[slug] = path
 
 
@@ -151,10 +157,12 @@ def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, 
     files["index.html"] = render_page(env, "index.html", {"cards": cards, "root": ""}, "index")
     files.update(static_files(themes))
     guides = {o.card.slug: o.record for o in outputs}
-    changes = compare(read_manifest(out_dir), {"guides": guides})
-    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes))
-    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {"changes": changes, "root": ""},
-                                      CHANGES_PAGE)
+    published = read_manifest(out_dir)
+    changes = compare(published, {"guides": guides})
+    history = next_history(published, guides)
+    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes, history))
+    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {
+        "changes": changes, "errata": errata_view(history), "root": ""}, CHANGES_PAGE)
     return files, changes
 
 

@@ -14,6 +14,8 @@ from urllib.parse import quote
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.faults.solve import solve_faults
+from kitleaf.faults.symptoms import page_data, symptom_rows
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
@@ -52,6 +54,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "checks": checks,
         "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
+        "symptoms": cached_symptoms(cache, kit),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
@@ -87,6 +90,22 @@ def plot_svg(cache: Cache, plot: ResponsePlot) -> bytes:
     return cached_svg(cache, "plot", plot, lambda: render_response_svg(plot))
 
 
+def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
+    """The symptom table and the ranking form's data, re-solved only when the circuit moved."""
+    key = cache.key("symptoms", canonical(kit))
+
+    def solve() -> dict:
+        readings = solve_faults(kit)
+        return {"rows": symptom_rows(readings), "data": page_data(readings)}
+
+    found = cache.load("symptoms", key)
+    if isinstance(found, dict):
+        return found
+    symptoms = solve()
+    cache.store("symptoms", key, symptoms)
+    return symptoms
+
+
 def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
     """The solved specs, re-solved only when a block of the guide or the kit's circuit changed.
 
@@ -107,7 +126,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
 @functools.lru_cache(maxsize=4)
 def theme_environment(themes: tuple[Path, ...]):
     """One Jinja environment per process and theme: templates compile once per worker, not
-    once per guide, and Jinja still reloads a template whose file changed (``kitleaf serve``)."""
+    once per guide, and Jinja still reloads a template whose file changed (``kitleaf proof``)."""
     return make_environment(list(themes))
 
 

@@ -21,5 +21,6 @@ class GuideOutput:
 
     @property
     def warnings(self) -> tuple[str, ...]:
-        """What does not stop the build (unless ``--strict``): notes, then findings' lines."""
+        """What does not stop the build (unless ``--fail-on-findings``): notes, then findings'
+        lines."""
         return self.notes + tuple(f.line() for f in self.findings)
