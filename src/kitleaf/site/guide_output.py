@@ -20,6 +20,7 @@ from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
+from kitleaf.render.placement import SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
@@ -50,7 +51,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
+        "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
+        "sections": SECTIONS,
         "checks": checks,
         "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
@@ -61,7 +63,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), quote(f"{slug}/index.html"))  # a relative URL, encoded
     record = guide_record(Path(path).name, kit.parts(), specs)
-    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings)
+    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
+                       guide.kit.code_span or guide.kit.span)
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
@@ -91,8 +94,9 @@ def plot_svg(cache: Cache, plot: ResponsePlot) -> bytes:
 
 
 def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
-    """The symptom table and the ranking form's data, re-solved only when the circuit moved."""
-    key = cache.key("symptoms", canonical(kit))
+    """The symptom table and the ranking form's data, re-solved only when the circuit moved
+    (not when prose moves its lines: nothing in them carries a location)."""
+    key = cache.key("symptoms", canonical_pair(kit)[0])
 
     def solve() -> dict:
         readings = solve_faults(kit)
