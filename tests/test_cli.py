@@ -271,6 +271,14 @@ def test_an_empty_folder_is_named_without_a_line(tmp_path, capsys):
     assert capsys.readouterr().err.startswith(f"{tmp_path}: error: no guides (*.md) in")
 
 
+def test_escape_sequences_in_a_file_name_are_shown_escaped(tmp_path, capsys):
+    path = tmp_path / "clear\x1b[2J.md"
+    path.write_text("# no kit block here\n", encoding="utf-8")
+    assert main(["check", str(path)]) == 1
+    err = capsys.readouterr().err
+    assert "clear\\x1b[2J.md:1: error: " in err and "\x1b" not in err
+
+
 def test_commands_run_blas_on_one_thread(tmp_path, monkeypatch):
     # BLAS helper threads only wait on one another on the engine's matrices (measured: a
     # 200-resistor ladder checked in 20 s with them, 0.5 s without, on two shared cores)

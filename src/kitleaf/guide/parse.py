@@ -11,7 +11,7 @@ from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import make_block, require_single
 from kitleaf.guide.fences import is_ours
 from kitleaf.guide.kit_lines import check_battery, read_knobs
-from kitleaf.guide.model import Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
+from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
 from kitleaf.guide.slug import guide_slug
 from kitleaf.guide.source import checked_text, read_text
 
@@ -22,8 +22,8 @@ KIT_KEYS = {
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
 EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
-_ID = re.compile(r"^[a-z][a-z0-9-]*$")
-_DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
+# Stage ids name files of the site: short, plain names.
+_ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")
 
 
 def markdown_parser() -> MarkdownIt:
@@ -54,8 +54,9 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
 
 def find_blocks(text: str, path: str):
     """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
+    lines = text.splitlines()
     for token in markdown_parser().parse(text):
-        if is_ours(token, path):
+        if is_ours(token, lines, path):
             yield make_block(token.info, token.content, path, token.map[0] + 1)
 
 
@@ -66,7 +67,8 @@ def read_stage(block: Block) -> StageBlock:
                          block.span)
     if not _ID.match(stage_id):
         raise GuideError(
-            f"stage id {stage_id!r} must be lower-case letters, digits and hyphens, like 'boost'",
+            f"stage id {stage_id!r} must be lower-case letters, digits and hyphens (at most 40), "
+            "like 'boost'",
             block.span,
         )
     what = f"stage '{stage_id}'"
@@ -100,6 +102,9 @@ def read_kit(block: Block) -> KitBlock:
     value = {k: _required(block, k) for k in ("title", "code", "supply")}
     optional = {k: (block.first(k).value if block.first(k) else "")
                 for k in ("revision", "summary")}
+    if block.first("revision") and not optional["revision"]:
+        raise GuideError("'revision:' is empty; write the board's revision, like 'revision: B', "
+                         "or drop the line (revision A)", block.first("revision").span)
     check_battery(block)
     return KitBlock(
         title=value["title"].value, code=value["code"].value, supply=value["supply"].value,
@@ -123,7 +128,7 @@ def _required(block: Block, key: str) -> Entry:
 
 def read_hardware(entry) -> HardwareLine:
     designator, _, description = entry.value.strip().partition(" ")
-    if not _DESIGNATOR.match(designator) or not description.strip():
+    if not DESIGNATOR.match(designator) or not description.strip():
         raise GuideError(
             f"cannot read hardware {entry.value!r}; write a designator and what it is, "
             "like 'J1 input jack, 6.35 mm mono'",
