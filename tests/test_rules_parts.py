@@ -140,12 +140,22 @@ class TestLedCurrent:
         text = GUIDE + CLIPPER
         assert findings(text, "led-current") == []
 
-    def test_a_clipping_led_fed_20_ma_at_dc_is_found_without_indicator_advice(self):
-        # a 220 Ω resistor from the 8.85 V rail into the clipping node passes
-        # (8.85 - about 2) V / 220 Ω, about 30 mA, over 20 mA (hand calc)
-        text = GUIDE + CLIPPER.replace("nodes: x", "nodes: x\npart: R29 220 @ vcc x")
+    def test_a_custom_stages_lit_led_is_an_indicator(self):
+        # (8.85 V - about 1.6 V) / 220 kΩ is about 33 µA: lit, but under 1 mA (hand calc)
+        text = GUIDE + CLIPPER.replace("nodes: x", "nodes: x y\npart: R29 220k @ vcc y\n"
+                                                   "part: LED29 red @ y 0")
         found = findings(text, "led-current")
-        assert [f.subject for f in found] == ["LED21"]
+        assert [f.subject for f in found] == ["LED29"]
+        assert "lower its series resistor" in found[0].message
+
+    def test_a_clipping_led_fed_20_ma_at_dc_is_found_without_indicator_advice(self):
+        # a clipper with no input cap behind a stage pulling its input to the 8.85 V rail
+        # through 100 Ω: (8.85 - about 1.9) V / 200 Ω, about 35 mA, over 20 mA (hand calc)
+        fed = ("```stage feed\nkind: custom\npart: R27 1M @ in out\npart: R28 100 @ vcc out\n"
+               "```\n\n```stage hard\nkind: diode-clipper\nseries: R23 100\n"
+               "clip-positive: LED23 red\n```\n")
+        found = findings(GUIDE + fed, "led-current")
+        assert [f.subject for f in found] == ["LED23"]
         assert "series resistor" not in found[0].message
 
 
