@@ -95,3 +95,31 @@ def test_ladder_impedance_with_its_meter_closed_and_opened():
     opened = batch.impedance("a", [1000.0], opened="VM")[0, 0]
     assert closed.real == pytest.approx(1.0 / (1.0 / 22e3 + 1.0 / ladder), rel=1e-12)
     assert opened.real == pytest.approx(22e3, rel=1e-12)
+
+
+def test_a_large_circuit_never_forms_its_dense_matrices(monkeypatch):
+    # (samples, n, n) arrays are quadratic in the circuit: a forty-stage kit's took 2 GB
+    from kitleaf.engine.batch import BatchResult
+
+    batch = solve_batch(boost_chain(), samples=6, seed=2)
+
+    def refuse(self):
+        raise AssertionError("dense (samples, n, n) matrices formed")
+
+    monkeypatch.setattr(BatchResult, "matrices", property(refuse))
+    batch.solve_ac(FREQS, batch.excitation("VIN"))
+    batch.impedance("out3", [1000.0], opened="M4")
+
+
+def test_a_single_samples_large_stamp_map_stays_sparse():
+    # a dense map holds columns x n^2 values: cubic in the circuit (650 MB at forty stages)
+    from kitleaf.engine.compile import compile_circuit
+    from kitleaf.engine.stamps import DENSE_SINGLE
+
+    system = compile_circuit(boost_chain(40))
+    g_map, _ = system.stamp_maps
+    assert g_map.shape[0] * g_map.shape[1] > DENSE_SINGLE
+    g = system.conductances()
+    assert g_map._dense_t is None
+    n = system.layout.size
+    assert g.shape == (1, n, n) and np.count_nonzero(g) < 20 * n
