@@ -37,7 +37,7 @@ LAYERS: tuple[tuple[str, ...], ...] = (
 RANK = {name: rank for rank, layer in enumerate(LAYERS) for name in layer}
 # Outside libraries that only the named modules may import.
 OWNERS = {
-    "schemdraw": {"kitleaf.render.schematic"},
+    "schemdraw": {"kitleaf.render.schematic", "kitleaf.render.schemdraw_adapter"},
     "matplotlib": {"kitleaf.render.plot"},
 }
 

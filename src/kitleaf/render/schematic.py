@@ -1,4 +1,4 @@
-"""Schematic drawing: the one place that speaks schemdraw, behind a small sheet of our own.
+"""Schematic drawing: schemdraw's public elements behind a small sheet of our own.
 
 A :class:`SchematicSheet` is the canvas a stage kind draws on: it implements the drawing
 protocol the circuit layer states (:class:`kitleaf.circuit.drawing.Sheet`: grid units, y
@@ -6,25 +6,20 @@ upwards, the rows a kind draws on). Every element is added explicitly to
 the sheet's own drawing: no drawing stack, no global configuration. Pins have our semantic names
 and are mapped to schemdraw anchors in :data:`ANCHORS` alone. Beside it: ``schematic_text``
 (words and where they sit), ``schematic_devices`` (transistors and op-amps on a sheet),
-``schematic_reuse`` (elements placed and written once per process), ``schematic_probes`` and
-``schematic_overview``.
+``schemdraw_adapter`` (the one user of schemdraw's internals: elements placed and written once
+per process), ``schematic_probes`` and ``schematic_overview``.
 """
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping, Sequence
 
-import schemdraw
 import schemdraw.elements as elm
-from schemdraw.segments import Segment, SegmentText
-from schemdraw.transform import Transform
-from schemdraw.types import BBox
-from schemdraw.util import Point as SdPoint
+from schemdraw.segments import Segment
 
 from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
-from kitleaf.render import schematic_reuse as reuse
+from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
 from kitleaf.render.schematic_text import (
     ALIGN,
@@ -107,7 +102,7 @@ class SchematicSheet:
         self.spots: dict[tuple[str, str], Point] = {}
         self._text_boxes: list[Box] = []
         self._element_boxes: list[Box] = []  # each element's, without its text, once placed
-        self._drawing = _Drawing(canvas="svg", show=False)
+        self._drawing = adapter.SheetDrawing(canvas="svg", show=False)
         self._drawing.config(unit=3, fontsize=FONT_SIZE, font=FONT, lw=1.4, margin=0.4,
                              color="black")
 
@@ -273,67 +268,15 @@ class SchematicSheet:
 
     def _add(self, element: elm.Element) -> elm.Element:
         """Add ``element`` and return it placed: use the returned one, which may be an equal
-        element placed earlier in this process (see :func:`reuse.placed_once`)."""
+        element placed earlier in this process (see :func:`adapter.placed_once`)."""
         # Every element gets its own direction: schemdraw would otherwise turn it the way the
         # previously added element pointed. Two-terminal parts are set by their endpoints.
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
-        placed = reuse.placed_once(element, self._drawing.place)
+        placed = adapter.placed_once(element, self._drawing.place)
         self._drawing.put(placed)
         self._element_boxes.append(placed.bare)
         return placed.element
-
-
-class _Drawing(schemdraw.Drawing):
-    """A drawing that measures each element once, when placed, and draws each placed element
-    once per process (:mod:`kitleaf.render.schematic_reuse`)."""
-
-    _known: Box = reuse.NOTHING  # schemdraw's box of nothing
-
-    def __init__(self, **kwargs) -> None:
-        super().__init__(**kwargs)
-        self._placed: list[reuse.Placed] = []
-
-    def place(self, element: elm.Element) -> reuse.Placed:
-        """``element`` placed as :meth:`add` would, but not added."""
-        reuse.flatten_defaults(element)
-        self._here, self._theta = element._place(self._here, self._theta, **self.dwgparams)
-        reuse.settle(element, _Transform)
-        return reuse.Placed(element, *reuse.measured(element, SegmentText))
-
-    def put(self, placed: reuse.Placed) -> None:
-        self.elements.append(placed.element)
-        self._placed.append(placed)
-        self._known = reuse.union(self._known, placed.whole)
-
-    def get_bbox(self) -> BBox:
-        return BBox(*self._known)
-
-    def document(self, title: str) -> str:
-        """The sheet's SVG, the same document schemdraw writes."""
-        head = self.draw(show=False).getimage("svg").decode("utf-8")
-        return reuse.svg_document(head, self._parts, title)
-
-    def _drawelements(self) -> None:
-        self._parts = [part for placed in self._placed
-                       for part in reuse.drawn_once(placed, self.fig)]
-
-
-class _Transform(Transform):
-    """schemdraw's transform with the same float operations in the same order, minus the
-    per-step point objects: scale about the local shift, rotate, then shift."""
-
-    def __init__(self, of: Transform) -> None:
-        super().__init__(of.theta, of.shift, of.localshift, of.zoom)
-        radians = math.radians(of.theta)
-        self._cos, self._sin = math.cos(radians), math.sin(radians)
-
-    def transform(self, pt) -> SdPoint:
-        x = (pt[0] + self.localshift[0]) * self.zoom[0]
-        y = (pt[1] + self.localshift[1]) * self.zoom[1]
-        co, so = self._cos, self._sin
-        return SdPoint((0 + x * co + y * -so + 0 + self.shift[0],
-                        0 + x * so + y * co + 0 + self.shift[1]))
 
 
 def render_stage_svg(kit_circuit, stage) -> str:
