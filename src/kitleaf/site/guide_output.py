@@ -91,8 +91,9 @@ def plot_svg(cache: Cache, plot: ResponsePlot) -> bytes:
 
 
 def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
-    """The symptom table and the ranking form's data, re-solved only when the circuit moved."""
-    key = cache.key("symptoms", canonical(kit))
+    """The symptom table and the ranking form's data, re-solved only when the circuit moved
+    (not when prose moves its lines: nothing in them carries a location)."""
+    key = cache.key("symptoms", canonical_pair(kit)[0])
 
     def solve() -> dict:
         readings = solve_faults(kit)
