@@ -27,6 +27,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from bench_build import DEMO, renumbered, stage_blocks, with_reference  # noqa: E402
 
+from kitleaf.circuit.stages import KINDS  # noqa: E402
+
 HEAD = """```kit
 title: Bench {title}
 code: FB-9{code:02d}
@@ -62,11 +64,17 @@ def stages_guide(count: int) -> str:
     demos = [with_reference(p.read_text()) for p in sorted(DEMO.glob("*.md"))]
     power = next(b for d in demos for sid, b in stage_blocks(d)
                  if sid == "power" and "vref-top:" in b)
-    spares = [(sid, b) for d in demos for sid, b in stage_blocks(d) if sid != "power"]
+    spares = [(sid, b) for d in demos for sid, b in stage_blocks(d) if _signal(b)]
     blocks = [renumbered(spares[k % len(spares)][1], spares[k % len(spares)][0], 100 * (k + 1))
               for k in range(count)]
     text = HEAD.format(title=f"{count} Stages", code=count % 100) + power + "\n".join(blocks)
     return re.sub(r"^claim: .*\n", "", text, flags=re.M)
+
+
+def _signal(block: str) -> bool:
+    """Whether a stage block's kind is on the signal path (not power, not a spare op-amp)."""
+    kind = re.search(r"^kind: (\S+)", block, re.M)
+    return kind is not None and KINDS[kind[1]].signal
 
 
 def ladder_guide(resistors: int) -> str:

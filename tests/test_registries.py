@@ -43,7 +43,7 @@ def test_rules_run_in_the_order_the_rules_table_lists_them():
 
 def test_the_prose_renderer_uses_every_listed_plugin():
     prose.prose_renderer()
-    assert list(prose.PLUGINS) == ["computed-values"]
+    assert list(prose.PLUGINS) == ["computed-values", "placement"]
 
 
 def test_a_name_registered_twice_is_refused():

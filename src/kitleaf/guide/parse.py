@@ -8,7 +8,7 @@ from pathlib import Path
 from markdown_it import MarkdownIt
 
 from kitleaf.errors import GuideError, SourceSpan
-from kitleaf.guide.blocks import make_block, require_single
+from kitleaf.guide.blocks import at_most_once, make_block, require_single
 from kitleaf.guide.fences import is_ours
 from kitleaf.guide.kit_lines import check_battery, read_knobs
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
@@ -19,6 +19,8 @@ KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow",
 }
+# Optional kit keys that may be given once (a second line would be silently ignored).
+SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
 EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
@@ -73,7 +75,7 @@ def read_stage(block: Block) -> StageBlock:
         )
     what = f"stage '{stage_id}'"
     kind = require_single(block, "kind", what)
-    title = block.first("title")
+    title = at_most_once(block, "title", what)
     rest = tuple(e for e in block.entries if e.key not in ("kind", "title"))
     return StageBlock(stage_id, kind.value.strip(), title.value if title else stage_id,
                       rest, block.span, kind.span)
@@ -100,19 +102,20 @@ def read_kit(block: Block) -> KitBlock:
                 entry.span,
             )
     value = {k: _required(block, k) for k in ("title", "code", "supply")}
-    optional = {k: (block.first(k).value if block.first(k) else "")
-                for k in ("revision", "summary")}
-    if block.first("revision") and not optional["revision"]:
-        raise GuideError("'revision:' is empty; write the board's revision, like 'revision: B', "
-                         "or drop the line (revision A)", block.first("revision").span)
+    once = {k: at_most_once(block, k, "the kit block") for k in SINGLE_KEYS}
+    for caution in block.all("caution"):
+        if not caution.value:
+            raise GuideError("'caution:' is empty; write the caution after it or drop the line",
+                             caution.span)
     check_battery(block)
     return KitBlock(
         title=value["title"].value, code=value["code"].value, supply=value["supply"].value,
-        revision=optional["revision"] or "A", summary=optional["summary"],
+        revision=once["revision"].value if once["revision"] else "A",
+        summary=once["summary"].value if once["summary"] else "",
         knobs=read_knobs(block.all("knob")),
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
-        source=block.first("source"), load=block.first("load"), order=block.first("order"),
+        source=once["source"], load=once["load"], order=once["order"],
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
         span=block.span, supply_span=value["supply"].span,
     )

@@ -17,9 +17,9 @@ from kitleaf.registry import add, load
 PLUGINS: dict[str, Callable[[MarkdownIt], None]] = {}
 # The modules of kitleaf.render defining plugins, in the order the parser uses them (see
 # kitleaf.registry); loaded when a renderer is made, since they import this module.
-MODULES = ("inline",)
+MODULES = ("inline", "placement")
 # NUL cannot come from guide text (CommonMark replaces it), so these markers are safe to split on.
-_MARK = re.compile("\x00(kit|stage):([a-z0-9-]*)\x00")
+_MARK = re.compile("\x00(kit|stage|section):([a-z0-9-]*)\x00")
 # The URL schemes a link or image in prose may name; a link to any other (javascript:, data:,
 # vbscript:, file:) stays plain text. A URL without a scheme is a path from the page.
 LINK_SCHEMES = frozenset({"http", "https", "mailto"})
@@ -31,10 +31,12 @@ _IGNORED_IN_URL = re.compile(r"[\x00-\x20\x7f]")
 
 @dataclass(frozen=True)
 class Piece:
-    """A run of rendered prose (``kind == "html"``) or the place of a block (``kit``/``stage``)."""
+    """A run of rendered prose (``kind == "html"``), the place of a block (``kit``/``stage``) or
+    of a computed section (``section``); ``headed`` when it follows a heading of the maker's."""
 
     kind: str
     content: str
+    headed: bool = False
 
 
 def prose_renderer() -> MarkdownIt:

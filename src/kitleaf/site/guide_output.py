@@ -20,6 +20,7 @@ from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
+from kitleaf.render.placement import SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
@@ -50,7 +51,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
+        "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
+        "sections": SECTIONS,
         "checks": checks,
         "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
