@@ -82,6 +82,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
         "gain_db_1khz": _range(specs.gain_db),
+        "gain_db_1khz_from_source": _range(specs.source_gain_db),
         "band_gain_db": _range(specs.band_gain_db),
         "gain_db_1khz_by_knob": _sweep(specs.knob_sweep),
         "gain_db_1khz_knob_ends": _sweep(specs.knob_ends),

@@ -46,6 +46,10 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
     """Every name a guide may use, in a stable order."""
     found: dict[str, Computed] = {}
     _add_specs(found, KIT, specs, "the kit")
+    if specs.source_gain_db is not None:
+        found[f"{KIT}.gain-from-source"] = Computed(
+            f"{KIT}.gain-from-source", specs.source_gain_db, "db",
+            "gain at 1 kHz from the source's own voltage, the kit")
     found[f"{KIT}.supply"] = Computed(f"{KIT}.supply", Range(specs.supply_v), "voltage",
                                       "supply voltage")
     local = {s.id: [tp.node for tp in kit.kind(s).test_points(s)] for s in kit.stages}
