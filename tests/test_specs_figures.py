@@ -21,8 +21,11 @@ INVERTING = stage_block("inv", "opamp-inverting", "input: R3 10k",
                         "opamp: U1A TL072", "feedback: R4 10k", "output-cap: C4 10u")
 
 
-def specs_of(*blocks: str, **kit):
-    guide = parse_guide("test.md", guide_text(*blocks, **kit))
+def specs_of(*blocks: str, knobs: tuple[str, ...] = (), **kit):
+    text = guide_text(*blocks, **kit)
+    # The kit block's closing fence is the first bare one.
+    text = text.replace("```\n", "".join(f"knob: {k}\n" for k in knobs) + "```\n", 1)
+    guide = parse_guide("test.md", text)
     kit_circuit = build_circuit(guide)
     return kit_circuit, derive_specs(guide, kit_circuit)
 
@@ -45,3 +48,35 @@ class TestGainFromTheSource:
         kit, specs = specs_of(POWER, INVERTING)
         assert specs_to_json(specs)["gain_db_1khz_from_source"] is None
         assert "kit.gain-from-source" not in computed_values(specs, kit)
+
+
+VOLUME = stage_block("vol", "volume", "volume: VR1 B100k")
+
+
+def parallel(a: float, b: float) -> float:
+    return a * b / (a + b)
+
+
+class TestImpedancesAtEveryKnobPosition:
+    """A linear 100k volume pot from a 100 Ω source into the 1 MΩ load: at rotation p the
+    input sees (1-p)R in series with pR || 1M, the output (1-p)R + 100 Ω in parallel with pR
+    (series and parallel resistors and a divider's Thevenin equivalent, Horowitz & Hill 3e,
+    1.2.2-1.2.5)."""
+
+    def test_the_json_names_and_page_rows_follow_the_pot(self):
+        kit, specs = specs_of(POWER, VOLUME, knobs=("Level = VR1",))
+        by_knob = specs_to_json(specs)["gain_db_1khz_by_knob"]
+        names = computed_values(specs, kit)
+        for point in by_knob:
+            p = point["knobs"]["Level"]
+            z_in = (1 - p) * 100e3 + parallel(p * 100e3, 1e6)
+            z_out = parallel((1 - p) * 100e3 + 100, p * 100e3) if 0 < p < 1 else None
+            got_in = point["input_impedance_ohm_1khz"]["nominal"]
+            assert got_in == pytest.approx(z_in, rel=0.01)
+            name = f"kit.input-impedance.level-{round(p * 100)}"
+            assert names[name].value.nominal == pytest.approx(z_in, rel=0.01)
+            if z_out is not None:
+                got_out = point["output_impedance_ohm_1khz"]["nominal"]
+                assert got_out == pytest.approx(z_out, rel=0.01)
+                stage_name = f"vol.output-impedance.level-{round(p * 100)}"
+                assert names[stage_name].value.nominal == pytest.approx(z_out, rel=0.01)

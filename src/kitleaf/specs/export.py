@@ -30,7 +30,9 @@ def _range(r: Range | None, scale: float = 1.0) -> dict | None:
 
 
 def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
-    return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db)}
+    return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
+             "input_impedance_ohm_1khz": _range(p.input_impedance),
+             "output_impedance_ohm_1khz": _range(p.output_impedance)}
             for p in points]
 
 

@@ -31,10 +31,13 @@ class Range:
 
 @dataclass(frozen=True)
 class KnobPoint:
-    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation)."""
+    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation), and the
+    impedances there (None where not measured: the knob ends, the power section)."""
 
     positions: tuple[tuple[str, float], ...]
     gain_db: Range
+    input_impedance: Range | None = None
+    output_impedance: Range | None = None
 
 
 @dataclass(frozen=True)
