@@ -80,3 +80,32 @@ class TestImpedancesAtEveryKnobPosition:
                 assert got_out == pytest.approx(z_out, rel=0.01)
                 stage_name = f"vol.output-impedance.level-{round(p * 100)}"
                 assert names[stage_name].value.nominal == pytest.approx(z_out, rel=0.01)
+
+
+def rc_corner(r: float, c: float) -> float:
+    """f = 1 / (2 pi R C) (Horowitz & Hill, The Art of Electronics 3e, 1.7.1)."""
+    return 1 / (2 * math.pi * r * c)
+
+
+class TestCornersOutsideThePlottedBand:
+    """RC stages into the 1 MΩ load; a gain is output over input voltage, so the source's
+    resistance drops out and R is the stage's resistor in parallel with the load
+    (Horowitz & Hill 3e, 1.7.1 and 1.2.5)."""
+
+    def test_a_high_pass_corner_near_3_hz(self):
+        kit, specs = specs_of(POWER, stage_block("hp", "high-pass", "series-cap: C1 560n film",
+                                                 "shunt-resistor: R1 100k"))
+        expected = rc_corner(parallel(100e3, 1e6), 560e-9)
+        low = specs_to_json(specs)["low_corner_hz"]["nominal"]
+        assert expected < 10.0
+        assert low == pytest.approx(expected, rel=0.01)
+        assert computed_values(specs, kit)["hp.low-corner"].value.nominal == pytest.approx(
+            expected, rel=0.01)
+
+    def test_a_low_pass_corner_near_80_khz(self):
+        kit, specs = specs_of(POWER, stage_block("lp", "low-pass", "series-resistor: R1 2k",
+                                                 "shunt-cap: C1 1n film"))
+        expected = rc_corner(parallel(2e3, 1e6), 1e-9)
+        high = specs_to_json(specs)["high_corner_hz"]["nominal"]
+        assert expected > 40e3
+        assert high == pytest.approx(expected, rel=0.01)
