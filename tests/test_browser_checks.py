@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import shutil
 import struct
 from pathlib import Path
@@ -163,3 +164,69 @@ def test_no_page_of_the_site_scrolls_sideways_on_a_phone(site):
         widths = {name: json.loads(Page(browser, (site / name).as_uri(), width=390)
                                    .evaluate(PAGE_WIDTH)) for name in names}
     assert {name: w for name, w in widths.items() if w[0] > w[1]} == {}
+
+
+# Each designator cell of the voltage tables and the parts lists, and each reading and
+# 'Measured' cell: its text, and whether all of its box lies inside the viewport and inside
+# every ancestor that clips what overflows it.
+DESIGNATORS = """JSON.stringify([...document.querySelectorAll(
+    '.voltage-table th[scope=row], .voltage-table td, .bom-table .bom-line .refs')].map(e => {
+  const r = e.getBoundingClientRect();
+  let shown = r.width > 0 && r.height > 0 && r.left >= 0 && r.right <= window.innerWidth;
+  for (let a = e.parentElement; a; a = a.parentElement) {
+    if (getComputedStyle(a).overflowX === 'visible') continue;
+    const box = a.getBoundingClientRect();
+    shown = shown && r.left >= box.left - 0.5 && r.right <= box.right + 0.5;
+  }
+  return {text: e.innerText.trim(), shown: shown && e.scrollWidth <= e.clientWidth + 1};
+}))"""
+# Each figure's picture and the width it is drawn at, in CSS px.
+FIGURES = """JSON.stringify([...document.querySelectorAll('.guide figure img')].map(
+    i => [i.getAttribute('src'), i.getBoundingClientRect().width]))"""
+FONT_SIZE = re.compile(r'font-size(?:="|:\s*)([0-9.]+)')
+
+
+def smallest_text(svg: str) -> float:
+    """The smallest font size an SVG sets, as a share of its viewBox width."""
+    view_width = float(re.search(r'viewBox="[-0-9.]+ [-0-9.]+ ([0-9.]+)', svg).group(1))
+    return min(float(size) for size in FONT_SIZE.findall(svg)) / view_width
+
+
+@pytest.fixture(scope="module")
+def phone_pages(site):
+    """Every guide page and parts list of the site opened at 390 px: designators and figures."""
+    names = sorted(p.relative_to(site).as_posix() for p in site.glob("*/*.html"))
+    found = {}
+    with Browser(require_tool("chromium")) as browser:
+        for name in names:
+            page = Page(browser, (site / name).as_uri(), width=390)
+            found[name] = {"designators": json.loads(page.evaluate(DESIGNATORS)),
+                           "figures": json.loads(page.evaluate(FIGURES))}
+    return found
+
+
+def test_on_a_phone_every_designator_of_the_voltages_and_parts_is_in_view(site, phone_pages):
+    """Voltage readings and parts lines reflow to the screen, so no designator, reading or
+    'Measured' box hides in a box scrolled sideways or past the right edge."""
+    guides = sorted(p.stem for p in DEMO_GUIDES.glob("*.md"))
+    assert sorted(phone_pages) == sorted(f"{g}/{n}.html" for g in guides
+                                         for n in ("bom", "index"))
+    for name, page in phone_pages.items():
+        assert page["designators"], name
+        hidden = [d["text"] for d in page["designators"] if not d["shown"]]
+        assert hidden == [], name
+    voltages = phone_pages["brookside-boost/index.html"]["designators"]
+    assert {"Q1", "LED1"} <= {d["text"] for d in voltages}
+    assert any(d["text"].startswith("4.31 V") for d in voltages)  # Q1 collector, adapter
+
+
+def test_on_a_phone_the_text_of_every_figure_is_at_least_9_px(site, phone_pages):
+    """Schematics and plots keep a size at which their smallest label is 9 CSS px or more
+    (common practice, no source: below that a label cannot be read on a phone)."""
+    for name, page in phone_pages.items():
+        if not name.endswith("index.html"):
+            continue
+        assert page["figures"], name
+        for src, width in page["figures"]:
+            svg = (site / name).parent.joinpath(src).read_text(encoding="utf-8")
+            assert smallest_text(svg) * width >= 9.0, (name, src, width)
