@@ -271,6 +271,23 @@ def test_an_empty_folder_is_named_without_a_line(tmp_path, capsys):
     assert capsys.readouterr().err.startswith(f"{tmp_path}: error: no guides (*.md) in")
 
 
+@pytest.mark.parametrize("command", ["check", "build"])
+def test_two_kits_with_one_code_are_a_located_error_naming_both(command, tmp_path, capsys):
+    guides = tmp_path / "guides"
+    guides.mkdir()
+    text = (DEMO / "brookside-boost.md").read_text(encoding="utf-8")
+    (guides / "a.md").write_text(text, encoding="utf-8")
+    (guides / "b.md").write_text("\n" + text.replace("code: FB-101", "code: fb-101"),
+                                 encoding="utf-8")
+    line = text.splitlines().index("code: FB-101") + 1
+    out = tmp_path / "published"
+    assert main([command, str(guides), "-o", str(out)][: 2 if command == "check" else 4]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert f"{guides / 'b.md'}:{line + 1}: error: the kit code fb-101 is also the code of " \
+           f"a.md (line {line}); give each kit its own code" in err
+    assert not out.exists()
+
+
 def test_escape_sequences_in_a_file_name_are_shown_escaped(tmp_path, capsys):
     path = tmp_path / "clear\x1b[2J.md"
     path.write_text("# no kit block here\n", encoding="utf-8")

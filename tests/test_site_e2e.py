@@ -37,6 +37,7 @@ def hostile_guide() -> str:
     """The Heron demo renamed, with prose that tries to inject markup and a too-low rating."""
     text = (DEMO_GUIDES / "heron-opamp-boost.md").read_text(encoding="utf-8")
     text = text.replace("title: Heron Op-Amp Boost", "title: Wren <b>Bold</b> Boost")
+    text = text.replace("code: FB-303", "code: FB-909")  # each kit its own code
     text = text.replace("summary: A clean", "summary: <script>alert(7)</script> A clean")
     # C10 sits across the 9 V rail behind a Schottky diode, about 8.8 V (hand calculation);
     # 80 % of 6.3 V is 5.0 V (common practice, no source), so the BOM must warn.

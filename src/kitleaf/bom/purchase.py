@@ -59,6 +59,9 @@ def _merged(boms: Iterable[Sequence[BomLine]]) -> dict[tuple, tuple[BomLine, int
     for lines in boms:
         for line in lines:
             first, count = merged.get(line.key, (line, 0))
+            if first.rating is None and line.rating is not None:  # shown as the line that
+                # writes its rating out, if any
+                first = line
             merged[line.key] = (first, count + line.quantity)
     return merged
 

@@ -10,7 +10,12 @@ import argparse
 import sys
 
 from kitleaf.commands import command
-from kitleaf.commands.options import add_build_options, add_fail_on_findings, whole_at_least_one
+from kitleaf.commands.options import (
+    add_build_options,
+    add_fail_on_findings,
+    cache_dir_of,
+    whole_at_least_one,
+)
 from kitleaf.errors import printable_line
 from kitleaf.site.build import BuildFailed, BuildReport, build_site
 from kitleaf.site.changes import summary_lines
@@ -63,9 +68,10 @@ def warning_line(warning: str) -> str:
 
 def build_options(args) -> dict:
     """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``,
-    ``--fail-on-findings``)."""
+    ``--cache-dir`` or its variable, ``--fail-on-findings``)."""
     return {"jobs": whole_at_least_one(getattr(args, "jobs", None), "--jobs"),
             "use_cache": not getattr(args, "no_cache", False),
+            "cache_dir": cache_dir_of(args),
             "fail_on_findings": getattr(args, "fail_on_findings", False)}
 
 

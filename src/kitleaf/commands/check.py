@@ -17,6 +17,7 @@ from kitleaf.guide import parse_guide
 from kitleaf.render.inline import prose_env
 from kitleaf.render.prose import render_prose
 from kitleaf.site.discover import find_guides
+from kitleaf.site.unique import reused_codes
 from kitleaf.specs.claims import Checks, verify
 from kitleaf.specs.derive import derive_specs
 
@@ -57,5 +58,20 @@ def run(args) -> int:
         except KitleafError as exc:
             failed += 1
             print(exc, file=sys.stderr)
+    for error in reused_codes(kit_codes(guides)):  # as a build of them would refuse
+        failed += 1
+        print(error, file=sys.stderr)
     print(f"checked {len(guides)} guide(s): {len(guides) - failed} ok, {failed} failed")
     return 1 if failed else 0
+
+
+def kit_codes(paths) -> list:
+    """Each readable guide's kit code and its line (a guide that fails is reported already)."""
+    codes = []
+    for path in paths:
+        try:
+            kit = parse_guide(path).kit
+        except KitleafError:
+            continue
+        codes.append((kit.code, kit.code_span or kit.span))
+    return codes

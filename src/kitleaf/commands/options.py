@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import argparse
+import os
 from pathlib import Path
 
 from kitleaf.errors import KitleafError
 
 DEFAULT_GUIDES = Path("guides")
 DEFAULT_OUT = Path("published")
+CACHE_ENV = "KITLEAF_CACHE_DIR"  # the build cache's folder, where --cache-dir is not given
 
 
 def add_guides(p: argparse.ArgumentParser) -> None:
@@ -29,6 +31,16 @@ def add_build_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("-j", "--jobs", type=int, default=None, metavar="N",
                    help="processes to build with, 1 or more (default: one per core)")
     p.add_argument("--no-cache", action="store_true", help="build everything afresh")
+    p.add_argument("--cache-dir", type=Path, metavar="FOLDER",
+                   help=f"the build cache's folder (default: ${CACHE_ENV} if set, else "
+                        ".kitleaf-cache/ beside the output folder)")
+
+
+def cache_dir_of(args) -> Path | None:
+    """The cache folder the user chose: ``--cache-dir``, else the environment; None for the
+    default beside the output folder."""
+    chosen = getattr(args, "cache_dir", None) or os.environ.get(CACHE_ENV, "").strip()
+    return Path(chosen) if chosen else None
 
 
 def whole_at_least_one(value: int | None, option: str) -> int | None:

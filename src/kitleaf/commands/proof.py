@@ -9,7 +9,7 @@ from pathlib import Path
 
 from kitleaf.commands import command
 from kitleaf.commands.build import build_options, print_report
-from kitleaf.commands.options import add_build_options
+from kitleaf.commands.options import add_build_options, cache_dir_of
 from kitleaf.errors import KitleafError
 from kitleaf.site.build import BuildFailed, build_site
 from kitleaf.site.cache import CACHE_DIR_NAME
@@ -51,13 +51,15 @@ def watched_paths(guides: Path) -> list[Path]:
     return [guides] + [root / name for name in WATCHED_SIBLINGS if (root / name).is_dir()]
 
 
-def ignores(out: Path):
+def ignores(out: Path, cache: Path | None = None):
     """A watch filter that skips what a build writes: the site, its staging and the cache."""
     out = out.resolve()
-    own = (str(out), str(out.parent / f".{out.name}."), str(out.parent / CACHE_DIR_NAME))
+    folders = (out, (cache or out.parent / CACHE_DIR_NAME).resolve())
+    staging = str(out.parent / f".{out.name}.")
 
     def wanted(_change, path: str) -> bool:
-        return not path.startswith(own) and not Path(path).name.startswith((".", "~"))
+        inside = any(Path(path).is_relative_to(folder) for folder in folders)
+        return not (inside or path.startswith(staging) or Path(path).name.startswith((".", "~")))
 
     return wanted
 
@@ -90,7 +92,8 @@ def run(args, stop: threading.Event | None = None) -> int:
     host, port = server.server_address[:2]
     print(f"serving {args.out}/ on http://{host}:{port}/ (Ctrl-C stops)", flush=True)
     try:
-        for _changes in watch(*watched_paths(args.guides), watch_filter=ignores(args.out),
+        for _changes in watch(*watched_paths(args.guides),
+                              watch_filter=ignores(args.out, cache_dir_of(args)),
                               stop_event=stop, yield_on_timeout=False):
             rebuild(args, state)
     finally:

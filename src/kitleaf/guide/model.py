@@ -85,6 +85,7 @@ class KitBlock:
     extra: tuple[Entry, ...]
     span: SourceSpan
     supply_span: SourceSpan | None = None  # the 'supply:' line
+    code_span: SourceSpan | None = None  # the 'code:' line
 
 
 @dataclass(frozen=True)

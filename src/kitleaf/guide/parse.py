@@ -117,7 +117,7 @@ def read_kit(block: Block) -> KitBlock:
         cautions=tuple(e.value for e in block.all("caution")),
         source=once["source"], load=once["load"], order=once["order"],
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
-        span=block.span, supply_span=value["supply"].span,
+        span=block.span, supply_span=value["supply"].span, code_span=value["code"].span,
     )
 
 

@@ -63,7 +63,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), quote(f"{slug}/index.html"))  # a relative URL, encoded
     record = guide_record(Path(path).name, kit.parts(), specs)
-    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings)
+    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
+                       guide.kit.code_span or guide.kit.span)
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
