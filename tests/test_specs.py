@@ -12,9 +12,9 @@ from kitleaf.engine import solve_ac, solve_dc
 from kitleaf.engine.montecarlo import monte_carlo
 from kitleaf.render.specs_text import specs_to_text
 from kitleaf.render.summary import headline
-from kitleaf.specs.derive import KNOB_STEPS, derive_specs
+from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import SCHEMA, specs_to_json
-from kitleaf.specs.solve import nominal_positions
+from kitleaf.specs.solve import KNOB_STEPS, nominal_positions
 from specs_kits import DEMOS, solved
 
 REF = np.array([1000.0])

@@ -49,9 +49,19 @@ class TestSlopes:
                                             (0.0, 0.4), (0.0, 0.7), (0.0, 9.0)])
     def test_opamp_on_working_collapsed_and_reversed_supplies(self, vpos, vneg):
         bank = bank_of(lambda c: c.opamp("U1", "a", "b", "c", "a", "0", OA))
+        out = (vpos + vneg) / 2 - 0.05
         for x in (vneg - 0.3, (vpos + vneg) / 2 + 0.01, vpos + 0.3):
             # output currents near 10 mA: the differences' rounding is about 1e-11
-            check_slopes(bank, np.array([[[x], [vpos], [vneg]]]), atol=1e-10)
+            check_slopes(bank, np.array([[[x], [vpos], [vneg], [out], [2e-5]]]), atol=1e-10)
+
+    @pytest.mark.parametrize("vpos, vneg", [(9.0, 0.0), (3.0, 0.0), (1.0, 0.2)])
+    def test_opamp_clamp_input_stage_and_current_limit(self, vpos, vneg):
+        # x past either clamp, the input stage deep in its tanh, the output near its limit
+        bank = bank_of(lambda c: c.opamp("U1", "a", "b", "c", "a", "0", OA))
+        vmid, h = (float(np.ravel(a)[0]) for a in _window(vpos, vneg, bank.p)[:2])
+        for x, vd, out in ((vmid + 4.02 * h, 0.5, vneg), (vmid - 4.02 * h, -0.5, vpos),
+                           (vmid + 3.9 * h, 0.02, vmid - 1.0)):
+            check_slopes(bank, np.array([[[x], [vpos], [vneg], [out], [vd]]]), atol=1e-8)
 
     @pytest.mark.parametrize("vgs, vgd", [(-1.0, -7.0), (-1.0, -1.4), (-1.4, -1.0),
                                           (-7.0, -1.0), (0.3, 0.1)])

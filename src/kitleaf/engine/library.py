@@ -93,14 +93,17 @@ OPAMPS = (
     DeviceModel("TL072", "opamp", {
         "AOL": 2e5, "GBW": 3e6, "RIN": 1e12, "ROUT": 100.0, "SWING_HI": 1.5,
         "SWING_LO": 1.5, "CM_HI": 0.0, "CM_LO": 3.0, "IQ": 1.4e-3, "IB": 30e-12,
+        "SR": 13e6, "ILIM": 40e-3,
     }, {}, _MEMORY, "dual JFET-input op-amp; input range excludes the negative rail"),
     DeviceModel("NE5532", "opamp", {
         "AOL": 1e5, "GBW": 10e6, "RIN": 300e3, "ROUT": 50.0, "SWING_HI": 1.5,
         "SWING_LO": 1.5, "CM_HI": 2.0, "CM_LO": 2.0, "IQ": 4e-3, "IB": 200e-9,
+        "SR": 9e6, "ILIM": 38e-3,
     }, {}, _MEMORY, "dual low-noise bipolar op-amp; its NPN inputs draw their bias current in"),
     DeviceModel("LM358", "opamp", {
         "AOL": 1e5, "GBW": 1e6, "RIN": 2e6, "ROUT": 100.0, "SWING_HI": 1.5,
         "SWING_LO": 0.02, "CM_HI": 1.5, "CM_LO": 0.0, "IQ": 0.35e-3, "IB": -45e-9,
+        "SR": 0.3e6, "ILIM": 20e-3,
     }, {}, _MEMORY, "dual single-supply op-amp; inputs and output reach the negative rail; "
        "its PNP inputs push their bias current out"),
 )

@@ -32,10 +32,11 @@ _JFET = {
 }
 # kitleaf's op-amp macro-model (see docs/engine.md): open-loop gain AOL (V/V), gain-bandwidth
 # GBW (Hz), input and output resistance, output swing limits SWING_HI/LO (volts short of each
-# rail), input common-mode range CM_HI/LO (volts inside each rail), quiescent current IQ (A).
+# rail), input common-mode range CM_HI/LO (volts inside each rail), quiescent current IQ (A),
+# slew rate SR (V/s) and output current limit ILIM (A).
 _OPAMP = {
     "AOL": 2e5, "GBW": 1e6, "RIN": 1e12, "ROUT": 100.0, "SWING_HI": 1.5, "SWING_LO": 1.5,
-    "CM_HI": 0.0, "CM_LO": 3.0, "IQ": 1e-3, "IB": 0.0,
+    "CM_HI": 0.0, "CM_LO": 3.0, "IQ": 1e-3, "IB": 0.0, "SR": 0.5e6, "ILIM": 20e-3,
 }
 
 DEFAULTS: dict[str, dict[str, float]] = {

@@ -9,7 +9,20 @@ from dataclasses import dataclass
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices.base import VT
 from kitleaf.engine.devices.bjt import EBO_AMPS
-from kitleaf.engine.devices.opamp import H_FLOOR, H_MIN, IQ_FADE, R1, SUB_KNEE, SUB_R
+from kitleaf.engine.devices.opamp import (
+    CLAMP_OVERDRIVE,
+    CLAMP_U,
+    CLAMP_WIDTH,
+    H_FLOOR,
+    H_MIN,
+    IQ_FADE,
+    LIMIT_FLOOR,
+    R1,
+    SUB_KNEE,
+    SUB_R,
+    compensation,
+    slew_current,
+)
 from kitleaf.engine.models import NON_SPICE, DeviceModel
 
 _SPICE_KIND = {"diode": "D", "npn": "NPN", "pnp": "PNP", "njf": "NJF", "pjf": "PJF"}
@@ -79,7 +92,7 @@ def _model_card(name: str, model: DeviceModel) -> list[str]:
 
 
 def _opamp_card(name: str, model: DeviceModel) -> list[str]:
-    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit with B sources."""
+    """The macro-model of kitleaf.engine.devices.opamp as a subcircuit of B sources."""
     p = model.get
     vs = "(v(vpos)-v(vneg))"
     working = p("SWING_HI") + p("SWING_LO") + 2.0 * H_MIN
@@ -89,22 +102,31 @@ def _opamp_card(name: str, model: DeviceModel) -> list[str]:
     half = f"max(max({h_raw},{_num(H_MIN)}*{rho}),{_num(H_FLOOR)})"
     f = f"({mid}+{half}*tanh((v(x)-{mid})/{half}))"
     z = f"((-{vs}-{_num(SUB_KNEE)})/{_num(VT)})"
-    substrate = f"{_num(VT / SUB_R)}*(max({z},0)+ln(1+exp(-abs({z}))))"
-    cap = 1.0 / (2 * math.pi * p("GBW") / p("AOL") * R1)
+    substrate = f"{_num(VT / SUB_R)}*{_softplus(z)}"
+    isr = float(slew_current(p))
+    ilim, rout = p("ILIM"), p("ROUT")
+    over = _softplus(f"(v(x)-{mid}-{_num(CLAMP_U)}*{half})/{_num(CLAMP_WIDTH)}")
+    under = _softplus(f"({mid}-{_num(CLAMP_U)}*{half}-v(x))/{_num(CLAMP_WIDTH)}")
     return [
         f".subckt {name} inp inn out vpos vneg",
         f"rin inp inn {_num(p('RIN'))}",
-        f"g1 vneg x inp inn {_num(p('AOL') / R1)}",
+        f"b2 vneg x i={_num(isr)}*tanh({_num(p('AOL') / R1 / isr)}*v(inp,inn))",
         f"g2 vneg x vpos vneg {_num(0.5 / R1)}",
         f"r1 x vneg {_num(R1)}",
-        f"c1 x vneg {_num(cap)}",
-        f"b1 0 out i={f}/{_num(p('ROUT'))}",
-        f"rout out 0 {_num(p('ROUT'))}",
+        f"c1 x vneg {_num(float(compensation(p)))}",
+        f"b3 x vneg i={_num(isr / CLAMP_OVERDRIVE * CLAMP_WIDTH)}*({over}-{under})",
+        f"b1 0 out i={_num(ilim)}*tanh(({f}-v(out))/{_num(rout * ilim)})"
+        f"+({f}-v(out))/{_num(rout / LIMIT_FLOOR)}",
         f"bq vpos vneg i={_num(p('IQ'))}*tanh({vs}/{_num(IQ_FADE)})-{substrate}",
         f"ibp inp vneg dc {_num(p('IB'))}",
         f"ibn inn vneg dc {_num(p('IB'))}",
         ".ends",
     ]
+
+
+def _softplus(z: str) -> str:
+    """log(1 + e^z) written so it cannot overflow."""
+    return f"(max({z},0)+ln(1+exp(-abs({z}))))"
 
 
 def _passive(prefix: str):

@@ -29,9 +29,8 @@ from kitleaf.specs.model import (
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.shorts import check_supply
-from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
 
-KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
 FRESH_BATTERY_V = 9.6
 

@@ -13,13 +13,12 @@ from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
-from kitleaf.specs.derive import KNOB_STEPS
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
 from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
 from kitleaf.specs.rules._settings import DcSetting, Reading
-from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
 from kitleaf.values import format_value
 
 # A rule finds a knob setting where the nominal build fails, or where at least this share of

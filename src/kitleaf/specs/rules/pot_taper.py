@@ -12,11 +12,10 @@ from __future__ import annotations
 
 from kitleaf.circuit.chain import KnobRef
 from kitleaf.specs import measures as m
-from kitleaf.specs.derive import KNOB_STEPS
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext
 from kitleaf.specs.sampled import solve_nominal
-from kitleaf.specs.solve import View, nominal_positions
+from kitleaf.specs.solve import KNOB_STEPS, View, nominal_positions
 
 RULE = "pot-taper"
 CROWDED = 0.6  # the share of the change one quarter turn may carry (common practice, no source)

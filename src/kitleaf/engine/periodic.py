@@ -1,0 +1,186 @@
+"""Periodic steady state under a sine drive, by shooting: one period of time steps per pass.
+
+Every member of the batch (knob positions x input levels x tolerance samples) starts at its
+DC operating point. A pass integrates one period (see stepper.py) and carries the
+sensitivity of the end state to the capacitor and inductor port values at the start; Newton
+on those port values (x(T) = x(0)) then lands on the periodic state in a few passes, where
+plain time stepping would need hundreds of milliseconds for the coupling capacitors to
+settle. Only the ports are unknowns of the shooting: every other unknown follows from them
+within a step (junction capacitances, picofarads, settle within nanoseconds).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from kitleaf.engine import elements as el
+from kitleaf.engine.batch import BatchResult
+from kitleaf.engine.harmonics import Distortion, distortion
+from kitleaf.engine.newton import extend
+from kitleaf.engine.stepper import Drive, History, advance
+from kitleaf.errors import SolveError
+
+POINTS = 256  # output points per period
+MAX_SHOTS = 12
+# The ports' mismatch x(T) - x(0) allowed: this share of the port's value plus this share of
+# the member's drive level (a ramp left over would leak into every harmonic).
+SHOT_RELTOL = 1e-9
+SHOT_DRIVE = 1e-5
+MAX_FREQ = 1e6  # hertz; a drive above this is not an audio question
+MAX_LEVEL = 100.0  # volts peak
+
+
+@dataclass(frozen=True)
+class PeriodicResult:
+    """One period of each requested node per member, indexed (variant, level, sample, time).
+
+    ``converged`` is False where a member's time steps or shooting did not settle; its
+    waveform is then meaningless and ``reasons`` says what failed (one text per member)."""
+
+    freq: float
+    levels: np.ndarray
+    waves: dict[str, np.ndarray] = field(repr=False)
+    converged: np.ndarray = field(repr=False)
+    reasons: np.ndarray = field(repr=False)
+    passes: int = 0
+
+    def wave(self, node: str) -> np.ndarray:
+        try:
+            return self.waves[node]
+        except KeyError:
+            raise SolveError(f"no waveform was kept for node {node!r}") from None
+
+    def distortion(self, node: str, harmonics: int = 5) -> Distortion:
+        return distortion(self.wave(node), harmonics)
+
+    def times(self) -> np.ndarray:
+        return np.arange(self.wave_points) / (self.wave_points * self.freq)
+
+    @property
+    def wave_points(self) -> int:
+        return next(iter(self.waves.values())).shape[-1]
+
+
+def check_drive(levels: Sequence[float], freq: float) -> np.ndarray:
+    """The levels as an array; SolveError for a level or frequency that cannot be simulated."""
+    if not (math.isfinite(freq) and 0.0 < freq <= MAX_FREQ):
+        raise SolveError(f"a drive frequency of {freq!r} Hz cannot be simulated "
+                         f"(it must be above 0 and at most {MAX_FREQ:g} Hz)")
+    arr = np.asarray(levels, dtype=float).reshape(-1)
+    bad = [v for v in arr if not (math.isfinite(v) and 0.0 < v <= MAX_LEVEL)]
+    if bad or arr.size == 0:
+        raise SolveError(f"a drive level of {bad[0] if bad else 'none'!r} V cannot be simulated "
+                         f"(levels must be above 0 and at most {MAX_LEVEL:g} V peak)")
+    return arr
+
+
+def periodic_steady_state(batches: Sequence[BatchResult], source: str, levels: Sequence[float],
+                          freq: float = 1000.0, nodes: Sequence[str] = (),
+                          points: int = POINTS) -> PeriodicResult:
+    """The periodic response of each batch (variants of one circuit sharing its unknowns,
+    such as knob positions) to ``source`` driven at each peak level of ``levels`` at
+    ``freq``, on top of its DC value. ``nodes`` are the waveforms kept."""
+    levels_arr = check_drive(levels, freq)
+    if not batches or any(b.layout != batches[0].layout for b in batches):
+        raise SolveError("the variants of a drive sweep must share one circuit's unknowns")
+    rows = [batches[0].row(n) for n in nodes]
+    drive, x0 = _drive(batches, source, levels_arr, freq)
+    cap_a = batches[0].system.cap_columns()[0]
+    x_end, waves, ok, reasons, passes = _shoot(drive, x0, cap_a, rows, points)
+    shape = (len(batches), levels_arr.size, batches[0].size)
+    out = {n: _periodic(waves[:, i]).reshape(*shape, points) for i, n in enumerate(nodes)}
+    return PeriodicResult(freq, levels_arr, out, ok.reshape(shape), reasons.reshape(shape),
+                          passes)
+
+
+def _drive(batches: Sequence[BatchResult], source: str, levels: np.ndarray,
+           freq: float) -> tuple[Drive, np.ndarray]:
+    """The stacked equations of every (variant, level, sample) member and their DC start."""
+    first, count, samples = batches[0], levels.size, batches[0].size
+    if any(b.size != samples for b in batches):
+        raise SolveError("the variants of a drive sweep must have the same number of samples")
+
+    def tiled(a: np.ndarray) -> np.ndarray:  # (samples or 1, ...) -> (levels * samples, ...)
+        a = np.broadcast_to(a, (samples, *a.shape[1:]))
+        return np.broadcast_to(a[None], (count, *a.shape)).reshape(-1, *a.shape[1:])
+
+    g, c, x0 = [], [], []
+    for b in batches:
+        gb, cb = b.system.matrices(b.factors)
+        g.append(tiled(gb))
+        c.append(tiled(cb))
+        x0.append(tiled(b.x))
+    banks = []
+    for i, bank in enumerate(first.problem.devices.banks):
+        params = {k: np.concatenate([tiled(b.problem.devices.banks[i].params[k])
+                                     for b in batches]) for k in bank.params}
+        banks.append(bank.with_params(**params))
+    amplitude = np.tile(np.repeat(levels, samples), len(batches))
+    own = {n for e in first.system.elements for n in el.terminals(e)}
+    judged = np.array([i for i, n in enumerate(first.layout.nodes) if n in own])
+    drive = Drive(np.concatenate(g), np.concatenate(c), first.problem.devices.with_banks(banks),
+                  first.system.rhs()[0], first.excitation(source), amplitude,
+                  2.0 * math.pi * freq, len(first.layout.nodes), judged)
+    return drive, np.concatenate(x0)
+
+
+def _shoot(drive: Drive, x0: np.ndarray, cap_a: np.ndarray, rows: list[int | None],
+           points: int):
+    """Newton on the ports' start values until a period ends where it began."""
+    members, ports = x0.shape[0], cap_a.shape[1]
+    lift = np.linalg.pinv(cap_a.T)  # (n, m): the least change of x giving the ports' values
+    start = x0 @ cap_a
+    done = np.zeros(members, bool)
+    residual = np.zeros((members, ports))
+    for passes in range(1, MAX_SHOTS + 1):
+        waves, x_end, sens, failed = _period(drive, x0, lift if ports else None, rows, points)
+        if not ports:
+            done = ~failed
+            break
+        residual = x_end @ cap_a - start
+        allowed = SHOT_RELTOL * np.abs(start) + SHOT_DRIVE * drive.amplitude[:, None] + 1e-15
+        done |= ~failed & np.all(np.abs(residual) <= allowed, axis=1)
+        if done.all() or passes == MAX_SHOTS:
+            break
+        monodromy = np.einsum("nm,bnk->bmk", cap_a, sens) - np.eye(ports)
+        delta = -np.einsum("bmk,bk->bm", np.linalg.pinv(monodromy), residual)
+        delta[done | failed] = 0.0
+        start = start + delta
+        x0 = x_end + (start - x_end @ cap_a) @ lift.T
+    reasons = np.where(done, "", np.where(
+        failed, "the time steps did not converge (Newton failed at the smallest step)",
+        "the waveform did not settle into a repeating period"))
+    return x_end, waves, done, reasons, passes
+
+
+def _period(drive: Drive, x0: np.ndarray, lift: np.ndarray | None, rows: list[int | None],
+            points: int):
+    """One period from ``x0``: the kept rows at each output point (members, rows, points + 1),
+    the end state, its sensitivity to the start's ports, and the failed members."""
+    members = x0.shape[0]
+    period = 2.0 * math.pi / drive.omega
+    sens = None if lift is None else np.broadcast_to(lift, (members, *lift.shape)).copy()
+    hist = History([0.0], [x0], drive.devices.junctions(extend(x0)), [sens], drive.caps(x0),
+                   np.zeros(members, bool))
+    waves = np.zeros((members, len(rows), points + 1))
+    _keep(waves, 0, x0, rows)
+    for k in range(1, points + 1):
+        advance(drive, hist, k * period / points, period / points)
+        _keep(waves, k, hist.x[0], rows)
+    return waves, hist.x[0], hist.sens[0], hist.failed
+
+
+def _keep(waves: np.ndarray, k: int, x: np.ndarray, rows: list[int | None]) -> None:
+    for i, r in enumerate(rows):
+        waves[:, i, k] = 0.0 if r is None else x[:, r]
+
+
+def _periodic(wave: np.ndarray) -> np.ndarray:
+    """The period's samples at t = 0, T/N, ... from the solved points: t = 0 is taken at T,
+    where the periodic state repeats it (the start itself is a lifted guess whose non-port
+    unknowns the first step corrects)."""
+    return np.concatenate([wave[..., -1:], wave[..., 1:-1]], axis=-1)
