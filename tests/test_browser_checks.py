@@ -170,7 +170,7 @@ def test_no_page_of_the_site_scrolls_sideways_on_a_phone(site):
 # 'Measured' cell: its text, and whether all of its box lies inside the viewport and inside
 # every ancestor that clips what overflows it.
 DESIGNATORS = """JSON.stringify([...document.querySelectorAll(
-    '.voltage-table th[scope=row], .voltage-table td, .bom-table .bom-line .refs')].map(e => {
+    '.voltage-table th[scope=row], .voltage-table td, article.bom .bom-line .refs')].map(e => {
   const r = e.getBoundingClientRect();
   let shown = r.width > 0 && r.height > 0 && r.left >= 0 && r.right <= window.innerWidth;
   for (let a = e.parentElement; a; a = a.parentElement) {
