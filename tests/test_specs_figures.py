@@ -6,9 +6,11 @@ from __future__ import annotations
 import math
 
 import pytest
+from tests.engine.ngspice_run import ac_sweep, half_power_corners
 from tests.stages.kits import POWER, guide_text, stage_block
 
 from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
 from kitleaf.guide import parse_guide
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json
@@ -109,3 +111,18 @@ class TestCornersOutsideThePlottedBand:
         high = specs_to_json(specs)["high_corner_hz"]["nominal"]
         assert expected > 40e3
         assert high == pytest.approx(expected, rel=0.01)
+
+
+@pytest.mark.slow
+def test_corners_beyond_the_band_agree_with_ngspice():
+    """A high-pass into a low-pass, corners near 3 Hz and 80 kHz, against Debian's ngspice."""
+    blocks = (POWER, stage_block("hp", "high-pass", "series-cap: C1 560n film",
+                                 "shunt-resistor: R1 100k"),
+              stage_block("lp", "low-pass", "series-resistor: R2 2k", "shunt-cap: C2 1n film"))
+    kit, specs = specs_of(*blocks)
+    freqs, theirs = ac_sweep(kit.netlist({}), SOURCE, [INPUT, OUTPUT], 0.1, 10e6,
+                             per_decade=400)
+    low, high = half_power_corners(freqs, theirs[OUTPUT] / theirs[INPUT], 1000.0)
+    assert low < 10.0 and high > 40e3
+    assert specs.low_corner_hz.nominal == pytest.approx(low, rel=0.005)
+    assert specs.high_corner_hz.nominal == pytest.approx(high, rel=0.005)
