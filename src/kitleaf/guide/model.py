@@ -87,6 +87,7 @@ class KitBlock:
     supply_span: SourceSpan | None = None  # the 'supply:' line
     code_span: SourceSpan | None = None  # the 'code:' line
     bypass: Entry | None = None  # how the footswitch wires the kit in and out of the signal
+    sound_previews: bool = True  # whether the page plays the kit's sound previews
 
 
 @dataclass(frozen=True)

@@ -18,10 +18,11 @@ from kitleaf.guide.source import checked_text, read_text
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
+    "sound-previews",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
 SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
-               "bypass")
+               "bypass", "sound-previews")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
 EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
@@ -117,9 +118,20 @@ def read_kit(block: Block) -> KitBlock:
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
         source=once["source"], load=once["load"], order=once["order"], bypass=once["bypass"],
+        sound_previews=_switch(once["sound-previews"], default=True),
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
         span=block.span, supply_span=value["supply"].span, code_span=value["code"].span,
     )
+
+
+def _switch(entry: Entry | None, default: bool) -> bool:
+    """An on/off kit line: 'on' or 'off', else a located error."""
+    if entry is None:
+        return default
+    if entry.value.lower() not in ("on", "off"):
+        raise GuideError(f"'{entry.key}: {entry.value}' is neither on nor off; write "
+                         f"'{entry.key}: on' or '{entry.key}: off'", entry.span)
+    return entry.value.lower() == "on"
 
 
 def _required(block: Block, key: str) -> Entry:

@@ -3,7 +3,7 @@
 A paragraph that is only ``{@name}`` places the computed section ``name`` there (the names are
 :data:`SECTIONS`); a plain Markdown viewer shows the marker as written. Unplaced sections take
 their default places: the maker's introduction (the prose before its first heading or block)
-comes first, then the kit at a glance, the checks and the cautions, then the rest of the guide,
+comes first, then the kit at a glance, its sound previews, the checks and the cautions, then the rest of the guide,
 then the off-board wiring, the voltage table and the fault finder. A stage or section right
 after a maker's heading takes that heading as its own, so no two headings stand in a row.
 """
@@ -23,10 +23,10 @@ from kitleaf.render.prose import Piece, register_plugin
 
 # Section name -> its template, in default order; the first three stand before the guide's
 # body, the others after it.
-SECTIONS = {"glance": "_kit_specs.html", "checks": "_claims.html",
+SECTIONS = {"glance": "_kit_specs.html", "previews": "_previews.html", "checks": "_claims.html",
             "cautions": "_cautions.html", "wiring": "_wiring.html", "voltages": "_voltages.html",
             "faults": "_symptoms.html"}
-BEFORE_BODY = ("glance", "checks", "cautions")
+BEFORE_BODY = ("glance", "previews", "checks", "cautions")
 TOKEN = "section_place"
 _MARKER = re.compile(r"\{@\s*([A-Za-z0-9_-]*)\s*\}")
 _ENDS_WITH_HEADING = re.compile(r"</h[1-6]>\s*$")
