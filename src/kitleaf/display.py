@@ -29,6 +29,8 @@ def figure(value: float | None, quantity: str) -> str:
 def _one(value: float, quantity: str) -> str:
     if quantity == "db":
         return format_db(value)
+    if quantity == "thd":
+        return thd_text(value)
     if quantity == "meter":
         return meter_volts(value)
     return format_value(value, quantity)
@@ -67,6 +69,20 @@ def power_text(watts: float) -> str:
     return _WATT_FRACTIONS.get(watts) or format_value(watts, "power")
 
 
+def thd_text(fraction: float) -> str:
+    """Distortion as a percentage to three figures: "0.42 %", "38.1 %", "112 %"."""
+    return f"{fraction * 100:.3g} %"
+
+
+def level_text(level: float | None, levels: tuple[float, ...]) -> str:
+    """A drive level found on a sweep of ``levels``: "140 mV", or past either end of it."""
+    if level is None:
+        return f"above {format_value(levels[-1], 'voltage')}"
+    if level <= levels[0]:
+        return f"{format_value(levels[0], 'voltage')} or below"
+    return format_value(level, "voltage")
+
+
 def percent(fraction: float) -> str:
     """A knob position as a share of its rotation: "25 %"."""
     return f"{round(fraction * 100):d} %"
@@ -78,4 +94,6 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "thd_text": thd_text,
+    "level_text": level_text,
 }

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -29,7 +29,7 @@ MAX_SHOTS = 12
 # The ports' mismatch x(T) - x(0) allowed: this share of the port's value plus this share of
 # the member's drive level (a ramp left over would leak into every harmonic).
 SHOT_RELTOL = 1e-9
-SHOT_DRIVE = 1e-5
+SHOT_DRIVE = 1e-4
 MAX_FREQ = 1e6  # hertz; a drive above this is not an audio question
 MAX_LEVEL = 100.0  # volts peak
 
@@ -49,6 +49,8 @@ class PeriodicResult:
     passes: int = 0
 
     def wave(self, node: str) -> np.ndarray:
+        if node == el.GROUND:
+            return np.zeros_like(next(iter(self.waves.values())))
         try:
             return self.waves[node]
         except KeyError:
@@ -90,7 +92,7 @@ def periodic_steady_state(batches: Sequence[BatchResult], source: str, levels: S
     rows = [batches[0].row(n) for n in nodes]
     drive, x0 = _drive(batches, source, levels_arr, freq)
     cap_a = batches[0].system.cap_columns()[0]
-    x_end, waves, ok, reasons, passes = _shoot(drive, x0, cap_a, rows, points)
+    waves, ok, reasons, passes = _shoot(drive, x0, cap_a, rows, points)
     shape = (len(batches), levels_arr.size, batches[0].size)
     out = {n: _periodic(waves[:, i]).reshape(*shape, points) for i, n in enumerate(nodes)}
     return PeriodicResult(freq, levels_arr, out, ok.reshape(shape), reasons.reshape(shape),
@@ -130,37 +132,48 @@ def _drive(batches: Sequence[BatchResult], source: str, levels: np.ndarray,
 
 def _shoot(drive: Drive, x0: np.ndarray, cap_a: np.ndarray, rows: list[int | None],
            points: int):
-    """Newton on the ports' start values until a period ends where it began."""
+    """Newton on the ports' start values until a period ends where it began. A member that
+    has settled (or failed) keeps its last period and leaves the batch, so the later passes
+    cost what the hard members cost."""
     members, ports = x0.shape[0], cap_a.shape[1]
     lift = np.linalg.pinv(cap_a.T)  # (n, m): the least change of x giving the ports' values
     start = x0 @ cap_a
-    done = np.zeros(members, bool)
-    residual = np.zeros((members, ports))
+    done, failed = np.zeros(members, bool), np.zeros(members, bool)
+    waves = np.zeros((members, len(rows), points + 1))
+    active, part = np.arange(members), drive
     for passes in range(1, MAX_SHOTS + 1):
-        waves, x_end, sens, failed = _period(drive, x0, lift if ports else None, rows, points)
+        period, x_end, sens, broke, swing = _period(part, x0, lift if ports else None, rows,
+                                                    points)
+        waves[active] = period
+        failed[active] = broke
         if not ports:
-            done = ~failed
+            done[active] = ~broke
             break
         residual = x_end @ cap_a - start
-        allowed = SHOT_RELTOL * np.abs(start) + SHOT_DRIVE * drive.amplitude[:, None] + 1e-15
-        done |= ~failed & np.all(np.abs(residual) <= allowed, axis=1)
-        if done.all() or passes == MAX_SHOTS:
+        allowed = SHOT_RELTOL * np.abs(start) + SHOT_DRIVE * part.amplitude[:, None] + 1e-15
+        settled = ~broke & np.all(np.abs(residual) <= allowed, axis=1)
+        done[active] = settled
+        going = ~settled & ~broke
+        if not going.any() or passes == MAX_SHOTS:
             break
-        monodromy = np.einsum("nm,bnk->bmk", cap_a, sens) - np.eye(ports)
-        delta = -np.einsum("bmk,bk->bm", np.linalg.pinv(monodromy), residual)
-        delta[done | failed] = 0.0
-        start = start + delta
+        monodromy = np.einsum("nm,bnk->bmk", cap_a, sens[going]) - np.eye(ports)
+        delta = -np.einsum("bmk,bk->bm", np.linalg.pinv(monodromy), residual[going])
+        start = start[going] + delta
+        x_end = x_end[going]
         x0 = x_end + (start - x_end @ cap_a) @ lift.T
+        part = replace(part, swing=swing)
+        active, part = active[going], part.take(np.flatnonzero(going))
     reasons = np.where(done, "", np.where(
         failed, "the time steps did not converge (Newton failed at the smallest step)",
         "the waveform did not settle into a repeating period"))
-    return x_end, waves, done, reasons, passes
+    return waves, done, reasons, passes
 
 
 def _period(drive: Drive, x0: np.ndarray, lift: np.ndarray | None, rows: list[int | None],
             points: int):
     """One period from ``x0``: the kept rows at each output point (members, rows, points + 1),
-    the end state, its sensitivity to the start's ports, and the failed members."""
+    the end state, its sensitivity to the start's ports, the failed members and each
+    member's half peak-to-peak at the judged nodes (the next pass's error scale)."""
     members = x0.shape[0]
     period = 2.0 * math.pi / drive.omega
     sens = None if lift is None else np.broadcast_to(lift, (members, *lift.shape)).copy()
@@ -168,10 +181,13 @@ def _period(drive: Drive, x0: np.ndarray, lift: np.ndarray | None, rows: list[in
                    np.zeros(members, bool))
     waves = np.zeros((members, len(rows), points + 1))
     _keep(waves, 0, x0, rows)
+    low = high = x0[:, drive.judged]
     for k in range(1, points + 1):
         advance(drive, hist, k * period / points, period / points)
         _keep(waves, k, hist.x[0], rows)
-    return waves, hist.x[0], hist.sens[0], hist.failed
+        seen = hist.x[0][:, drive.judged]
+        low, high = np.minimum(low, seen), np.maximum(high, seen)
+    return waves, hist.x[0], hist.sens[0], hist.failed, (high - low) / 2.0
 
 
 def _keep(waves: np.ndarray, k: int, x: np.ndarray, rows: list[int | None]) -> None:

@@ -207,8 +207,9 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     if ok.all():
         return red
     bad = np.flatnonzero(~ok)
-    retry = initial_state(problem, bad.size)
-    solve_state(problem.take(bad), retry)
+    alone = problem.take(bad)  # the unsettled samples' own parts and device parameters
+    retry = initial_state(alone, bad.size)
+    solve_state(alone, retry)
     state.x[bad] = retry.x
     for whole, v in zip(state.vstar, retry.vstar, strict=True):
         whole[bad] = v

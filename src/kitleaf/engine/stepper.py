@@ -11,7 +11,7 @@ by doubling (BDF2 stays stable while a step is at most 2.4 times the one before)
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -19,12 +19,13 @@ from kitleaf.engine.newton import extend
 from kitleaf.engine.nonlinear import Devices
 from kitleaf.engine.stamps import apply
 
-RELTOL = 1e-7  # Newton's per-step tolerance, relative
+RELTOL = 1e-6  # Newton's per-step tolerance, relative
 VNTOL = 1e-8  # volts
 ABSTOL = 1e-9  # amperes, branch currents (their rows see C / h times volts of rounding)
 MAX_NEWTON = 25
-LTE_RELTOL = 1e-4  # the local truncation error allowed per step, relative to the node's volts
+LTE_SIGNAL = 1e-3  # the local truncation error allowed per step, relative to the node's signal
 LTE_DRIVE = 1e-5  # and, in volts, this share of the member's drive level (small drives small)
+LTE_VALUE = 1e-5  # and this share of the node's volts: ten times Newton's own tolerance
 LTE_FACTOR = 2.0 / 11.0  # BDF2's error constant 2/9 over (1 + 2/9): LTE from the predictor gap
 MIN_FRACTION = 2.0 ** -8  # the smallest step, as a fraction of the output interval
 
@@ -44,6 +45,18 @@ class Drive:
     # the nodes whose local error is judged: the circuit's own (a device's internal nodes,
     # such as an op-amp's clamped gain node, show only through them)
     judged: np.ndarray
+    # each member's half peak-to-peak signal at the judged nodes (B, judged), from the last
+    # period solved; before one is, the drive level stands in for it
+    swing: np.ndarray | None = None
+
+    def take(self, idx: np.ndarray) -> Drive:
+        """The members at ``idx`` alone."""
+        banks = [bank.with_params(**{k: v[idx] if v.shape[0] > 1 else v
+                                     for k, v in bank.params.items()})
+                 for bank in self.devices.banks]
+        return replace(self, g=self.g[idx], c=self.c[idx], amplitude=self.amplitude[idx],
+                       devices=self.devices.with_banks(banks),
+                       swing=None if self.swing is None else self.swing[idx])
 
     def rhs(self, t: float) -> np.ndarray:
         wave = self.amplitude * np.sin(self.omega * t)
@@ -111,19 +124,19 @@ def try_step(drive: Drive, hist: History, h: float) -> StepResult:
     past = c1 * hist.x[0] + (c2 * hist.x[1] if c2 else 0.0)
     past = np.einsum("bij,bj->bi", c, past)
     x = predict(hist, t) if not first else hist.x[0].copy()
-    x, vstar, settled, jac = _newton(drive, hist, x, c, c0, past, drive.rhs(t))
-    sens = None
-    if hist.sens[0] is not None:
+    carried = None
+    if hist.sens[0] is not None:  # solved beside each Newton step, with its factorisation
         moved = c1 * hist.sens[0] + (c2 * hist.sens[1] if c2 else 0.0)
-        sens = np.linalg.solve(jac, -np.einsum("bij,bjm->bim", c, moved))
+        carried = -np.einsum("bij,bjm->bim", c, moved)
+    x, vstar, settled, sens = _newton(drive, hist, x, c, c0, past, drive.rhs(t), carried)
     error = _local_error(drive, hist, t, x) if len(hist.t) >= 3 else np.zeros(x.shape[0])
     return StepResult(x, vstar, settled, error, sens)
 
 
 def _newton(drive: Drive, hist: History, x: np.ndarray, c: np.ndarray, c0: float,
-            past: np.ndarray, b: np.ndarray):
+            past: np.ndarray, b: np.ndarray, carried: np.ndarray | None):
     """Newton with junction limiting; returns x, the junction voltages, the settled flags
-    and the last Jacobian."""
+    and ``carried`` (B, n, m) solved by the last Jacobian (the sensitivities' step)."""
     size, banks = x.shape[1], drive.devices.banks
     tol_abs = np.where(np.arange(size) < drive.node_count, VNTOL, ABSTOL)
     base = drive.g + c0 * c
@@ -141,22 +154,27 @@ def _newton(drive: Drive, hist: History, x: np.ndarray, c: np.ndarray, c0: float
             currents, dev_jac = drive.devices.linearise(vlim, vraw)
             residual, jac, vstar = residual + currents, base + dev_jac, vlim
         with np.errstate(invalid="ignore", over="ignore"):
-            step = np.linalg.solve(jac, -residual[..., None])[..., 0]
+            rhs = -residual[..., None]
+            if carried is not None:
+                rhs = np.concatenate([rhs, carried], axis=2)
+            solved = np.linalg.solve(jac, rhs)
+            step = solved[..., 0]
             x = x + step
             small = np.all(np.abs(step) <= RELTOL * np.abs(x) + tol_abs, axis=1)
         settled = small & ~limited & np.isfinite(step).all(axis=1)
         if (settled | hist.failed).all():
             break
-    return x, vstar, settled, jac
+    return x, vstar, settled, None if carried is None else solved[..., 1:]
 
 
 def _local_error(drive: Drive, hist: History, t: float, x: np.ndarray) -> np.ndarray:
     """The step's local error over its tolerance, on node voltages, worst node per sample."""
     rows = drive.judged
     gap = LTE_FACTOR * np.abs(x - predict(hist, t))[:, rows]
-    scale = LTE_RELTOL * np.maximum(np.abs(x[:, rows]), np.abs(hist.x[0][:, rows]))
-    floor = LTE_DRIVE * drive.amplitude[:, None] + 1e-12
-    return np.max(gap / (scale + floor), axis=1)
+    signal = drive.amplitude[:, None] if drive.swing is None else drive.swing
+    allowed = (LTE_SIGNAL * signal + LTE_DRIVE * drive.amplitude[:, None]
+               + LTE_VALUE * np.abs(x[:, rows]) + 1e-12)
+    return np.max(gap / allowed, axis=1)
 
 
 def accept(drive: Drive, hist: History, h: float, res: StepResult) -> None:

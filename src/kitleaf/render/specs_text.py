@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent, range_text
-from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
+from kitleaf.display import level_text, percent, range_text, si, thd_text
+from kitleaf.specs.model import Drive, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
@@ -17,7 +17,7 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  input impedance    {range_text(specs.input_impedance, 'resistance')}",
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
-             f"  output headroom    {_swing(specs.headroom)}"]
+             *_drive_lines(specs.drive)]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
@@ -33,5 +33,20 @@ def _knobs(point: KnobPoint) -> str:
     return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
 
 
-def _swing(h: Headroom | None) -> str:
-    return "–" if h is None else f"{range_text(h.volts, 'voltage')} peak ({h.limit})"
+def _drive_lines(drive: Drive | None) -> list[str]:
+    """The large-signal figures with every knob at half (a 1 kHz sine from the pickup)."""
+    if drive is None:
+        return []
+    d = drive.base
+    if d.error:
+        return [f"  large signal       not computed: {d.error}"]
+    lines = [f"  clean up to        {level_text(d.clean_limit, drive.levels)} pickup peak "
+             "(THD 1 %)",
+             f"  driven from        {level_text(d.driven_limit, drive.levels)} pickup peak "
+             "(THD 10 %)"]
+    lines += [f"    at {si(p.level, 'voltage'):<12}THD {thd_text(p.thd)}, output "
+              f"{si(p.peak, 'voltage')} peak" for p in d.points]
+    if d.swing_up is None or d.swing_down is None:
+        return lines + [f"  output swing       not reached at {si(drive.levels[-1], 'voltage')}"]
+    return lines + [f"  output swing       +{si(d.swing_up[0], 'voltage')} ({d.swing_up[1]}), "
+                    f"-{si(d.swing_down[0], 'voltage')} ({d.swing_down[1]})"]

@@ -19,17 +19,19 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.display import figure
 from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.ratings import Stress
 from kitleaf.specs.rules import Finding, RuleContext, check_rules
-from kitleaf.values import format_db, format_value, parse_value
+from kitleaf.values import parse_value
 
 _CLAIM = re.compile(r"^(?P<name>[A-Za-z0-9][A-Za-z0-9._-]*)\s+(?:(?P<op>below|above)\s+"
                     r"(?P<limit>.+)|between\s+(?P<low>.+?)\s+and\s+(?P<high>.+))$")
 _DB = re.compile(r"^([-+−]?\d+(?:\.\d*)?)\s*dB$")
+_PERCENT = re.compile(r"^(\d+(?:\.\d*)?|\.\d+)\s*%$")
 
 
 @dataclass(frozen=True)
@@ -97,6 +99,12 @@ def _reader(quantity: str, entry: Entry):
                 raise SpecError(f"claim {entry.value!r}: cannot read {text!r}; a gain is "
                                 "written in decibels, like '24 dB' or '-3 dB'", entry.span)
             return float(match[1].replace("−", "-"))
+        if quantity == "thd":
+            match = _PERCENT.match(text)
+            if match is None:
+                raise SpecError(f"claim {entry.value!r}: cannot read {text!r}; distortion is "
+                                "written as a percentage, like '1 %' or '0.5%'", entry.span)
+            return float(match[1]) / 100.0
         try:
             return parse_value(text, quantity)
         except KitleafError as exc:
@@ -127,7 +135,7 @@ def broken(claim: Claim, computed: Computed) -> SpecError:
 
 
 def _show(x: float, quantity: str) -> str:
-    return format_db(x) if quantity == "db" else format_value(x, quantity)
+    return figure(x, quantity)
 
 
 def check_claims(guide: Guide, kit: KitCircuit,

@@ -6,16 +6,21 @@ as one batch per kit state (knob positions and supply), never as a loop of singl
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
+from kitleaf.engine.elements import OpAmp
 from kitleaf.errors import KitleafError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
+from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.loading import source_loading, stage_loading
 from kitleaf.specs.model import (
     SAMPLES,
     SEED,
+    Drive,
     Headroom,
     KitSpecs,
     KnobPoint,
@@ -73,7 +78,9 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
 def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
     solved = SolvedKit(kit)
     base = solved.base
-    stages = tuple(stage_specs(solved, s) for s in kit.stages)
+    driven = Driven(solved)
+    stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
+                   if kit.kind(s).signal else stage_specs(solved, s) for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
     return KitSpecs(
@@ -96,7 +103,48 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
+        drive=driven.kit(),
     )
+
+
+class Driven:
+    """The kit's large-signal sweep: every knob setting the specs show, solved at once."""
+
+    def __init__(self, solved: SolvedKit) -> None:
+        self.solved = solved
+        self.states = [solved.base]
+        for sweep in solved.sweeps.values():
+            self.states += [s for s in sweep if all(s is not t for t in self.states)]
+        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+
+    def _settings(self, knobs) -> list[tuple[int, tuple]]:
+        found = [(0, ())]
+        for k in knobs:
+            for pos, state in zip(KNOB_STEPS, self.solved.sweeps[k.designator], strict=True):
+                index = next(i for i, s in enumerate(self.states) if s is state)
+                found.append((index, ((k.name, pos),)))
+        return found
+
+    def _devices(self, stages) -> tuple:
+        names = [p.designator for s in stages for p in s.all_parts()]
+        by_name = {e.name: e for e in self.solved.base.circuit.elements if type(e) in LIMITS}
+        return tuple(by_name[n] for n in names if n in by_name)
+
+    def stage(self, stage: Stage) -> Drive:
+        kit = self.solved.kit
+        knobs = [k for k in kit.knobs if k.stage_id == stage.id]
+        return stage_drive(self.result, self.why, self._settings(knobs),
+                           kit.stage_nodes(stage.id)[1], self._devices([stage]),
+                           self.solved.base.circuit)
+
+    def kit(self) -> Drive:
+        kit = self.solved.kit
+        settings = self._settings(kit.knobs)
+        devices = self._devices(reversed(kit.signal_stages))
+        drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
+                            self.solved.base.circuit)
+        opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps))
 
 
 def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:

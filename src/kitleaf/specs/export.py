@@ -5,7 +5,8 @@ from __future__ import annotations
 from kitleaf.specs.model import (
     SAMPLES,
     Curve,
-    Headroom,
+    Drive,
+    DriveSetting,
     KitSpecs,
     KnobPoint,
     Range,
@@ -13,7 +14,7 @@ from kitleaf.specs.model import (
     Voltage,
 )
 
-SCHEMA = "kitleaf-specs/1"
+SCHEMA = "kitleaf-specs/2"
 
 
 def _num(x: float | None, figures: int = 6) -> float | None:
@@ -34,8 +35,28 @@ def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
             for p in points]
 
 
-def _headroom(h: Headroom | None) -> dict | None:
-    return None if h is None else {**_range(h.volts), "limit": h.limit}
+def _swing(swing: tuple[float, str] | None) -> dict | None:
+    return None if swing is None else {"volts": _num(swing[0]), "limit": swing[1]}
+
+
+def _setting(s: DriveSetting) -> dict:
+    return {"knobs": {name: pos for name, pos in s.positions}, "computed": not s.error,
+            "reason": s.error or None,
+            "clean_limit_v_peak": _num(s.clean_limit), "driven_limit_v_peak": _num(s.driven_limit),
+            "thd_percent": [_num(x * 100, 4) for x in s.thd],
+            "output_peak_v": [_num(x, 4) for x in s.peak],
+            "at_levels": [{"level_v_peak": _num(p.level), "thd_percent": _num(p.thd * 100, 4),
+                           "output_peak_v": _num(p.peak, 4),
+                           "harmonics_v_peak": [_num(a, 4) for a in p.harmonics]}
+                          for p in s.points],
+            "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down)}
+
+
+def _drive(d: Drive | None) -> dict | None:
+    if d is None:
+        return None
+    return {"freq_hz": _num(d.freq), "levels_v_peak": [_num(x) for x in d.levels],
+            "settings": [_setting(s) for s in d.settings]}
 
 
 def _voltage(v: Voltage, specs: KitSpecs) -> dict:
@@ -65,7 +86,7 @@ def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
         "input_impedance_ohm_1khz": _range(s.input_impedance),
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
-        "headroom_v_peak": _headroom(s.headroom),
+        "drive": _drive(s.drive),
         "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
         if s.signal else None,
     }
@@ -89,7 +110,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "input_impedance_ohm_1khz": _range(specs.input_impedance),
         "output_impedance_ohm_1khz": _range(specs.output_impedance),
         "supply_current_ma": _range(specs.supply_current, 1e3),
-        "headroom_v_peak": _headroom(specs.headroom),
+        "drive": _drive(specs.drive),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
     }

@@ -15,7 +15,7 @@ from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.errors import SourceSpan, SpecError
 from kitleaf.guide.slug import slug_for as slug
-from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
+from kitleaf.specs.model import DriveSetting, KitSpecs, KnobPoint, Range, StageSpecs
 
 KIT = "kit"
 # Spec field -> (name, quantity, what it is); the same for the kit and each stage.
@@ -74,6 +74,45 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
         full = f"{prefix}.gain.{_knob_suffix(point)}"
         found[full] = Computed(full, point.gain_db, "db",
                                f"gain at 1 kHz, {title}, {_knob_words(point)}")
+    if specs.drive is not None:
+        for setting in specs.drive.settings:
+            _add_drive(found, prefix, setting, title)
+
+
+# Large-signal figure -> (name, quantity, what it is); "thd.300mv" and "peak.300mv" per
+# playing level besides.
+DRIVE_FIELDS = (
+    ("clean_limit", "clean-limit", "voltage", "pickup peak where THD reaches 1 %"),
+    ("driven_limit", "drive-limit", "voltage", "pickup peak where THD reaches 10 %"),
+)
+
+
+def level_name(level: float) -> str:
+    """A playing level in a name: 0.3 -> "300mv", 1.0 -> "1v"."""
+    return f"{level:g}v" if level >= 1.0 else f"{round(level * 1000)}mv"
+
+
+def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> None:
+    """A setting's figures (none when not computed), named with its knob positions."""
+    point = KnobPoint(setting.positions, Range(0.0))
+    suffix = f".{_knob_suffix(point)}" if setting.positions else ""
+    where = f"{title}, {_knob_words(point)}" if setting.positions else f"{title}, knobs at half"
+
+    def add(name: str, value: float | None, quantity: str, label: str) -> None:
+        if value is not None:
+            full = f"{prefix}.{name}{suffix}"
+            found[full] = Computed(full, Range(value), quantity, f"{label}, {where}")
+
+    for field, name, quantity, label in DRIVE_FIELDS:
+        add(name, getattr(setting, field), quantity, label)
+    for p in setting.points:
+        level = level_name(p.level)
+        add(f"thd.{level}", p.thd, "thd", f"THD at {level} pickup peak")
+        add(f"peak.{level}", p.peak, "voltage", f"output peak at {level} pickup peak")
+    for name, swing, side in (("swing-up", setting.swing_up, "above"),
+                              ("swing-down", setting.swing_down, "below")):
+        add(name, None if swing is None else swing[0], "voltage",
+            f"output swing limit {side} its mean")
 
 
 def _knob_suffix(point: KnobPoint) -> str:

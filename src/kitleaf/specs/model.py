@@ -79,6 +79,53 @@ class Headroom:
 
 
 @dataclass(frozen=True)
+class DrivePoint:
+    """The output at one pickup peak level: THD (a fraction, never capped), the output's
+    peak (volts, the larger side) and harmonics 1..5 (volts peak)."""
+
+    level: float
+    thd: float
+    peak: float
+    harmonics: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class DriveSetting:
+    """Large-signal figures at one knob setting (``positions`` empty: every knob at half).
+
+    ``clean_limit`` and ``driven_limit`` are the pickup peak levels where THD first reaches
+    1 % and 10 % going up (None: not within the sweep); ``thd`` and ``peak`` follow
+    ``Drive.levels``; ``swing_up`` and ``swing_down`` are (volts, the part that sets them)
+    above and below the output's mean at the top level, None while the output is still
+    clean there. ``error`` says why the figures were not computed (then all are empty)."""
+
+    positions: tuple[tuple[str, float], ...]
+    clean_limit: float | None = None
+    driven_limit: float | None = None
+    points: tuple[DrivePoint, ...] = ()
+    thd: tuple[float, ...] = ()
+    peak: tuple[float, ...] = ()
+    swing_up: tuple[float, str] | None = None
+    swing_down: tuple[float, str] | None = None
+    error: str = ""
+
+
+@dataclass(frozen=True)
+class Drive:
+    """A stage's (or the kit's) output under a 1 kHz sine from the pickup, per knob setting."""
+
+    levels: tuple[float, ...]
+    settings: tuple[DriveSetting, ...]
+    freq: float = 1000.0
+    # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
+    rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
+
+    @property
+    def base(self) -> DriveSetting:
+        return self.settings[0]
+
+
+@dataclass(frozen=True)
 class StageSpecs:
     """What one stage does, measured in the chain it sits in (loaded by the stage after it)."""
 
@@ -103,6 +150,7 @@ class StageSpecs:
     band_high: tuple[float, ...] = ()
     # The stage alone (low-Z source, 1 MΩ load) against in its place: see specs/loading.py.
     loading: Comparison | None = None
+    drive: Drive | None = None
 
 
 @dataclass(frozen=True)
@@ -134,6 +182,7 @@ class KitSpecs:
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
     samples: int = 0
     seed: int = 0
+    drive: Drive | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

@@ -38,8 +38,8 @@ SUB_R = 10.0  # ohms; the chip's resistance to a reversed supply once that diode
 LINEAR_U = 2.0  # |(x - vmid) / h| beyond this the output reports saturated
 DEEP_U = 20.0  # beyond this tanh is flat to double precision
 CLAMP_U = 4.0  # x is held within vmid +- CLAMP_U h (tanh(4) is within 0.07 % of the rail)
-CLAMP_WIDTH = 0.05  # volts; the clamp's knee
-CLAMP_OVERDRIVE = 0.1  # volts past the clamp at which it sinks the whole slew current
+CLAMP_WIDTH = 0.2  # volts; the clamp's knee
+CLAMP_OVERDRIVE = 1.0  # volts past the clamp at which it sinks the whole slew current
 # Beyond its current limit the output keeps this share of 1/ROUT, so an output driven far
 # past the limit (a short, or a Newton iterate far from the solution) never floats.
 LIMIT_FLOOR = 1e-3
@@ -134,6 +134,7 @@ class OpAmpBank(Bank):
         at most one unit of u per step, except that once saturated (|u| >= 2) it may double
         its distance per step on the same side, is free when deep (|u| > 20), and a step deep
         onto the other side lands at its saturation (|u| = 2)."""
+        vnew = self._limit_input(vnew, vold)
         vmid, h, _, _ = _window(vnew[:, 1], vnew[:, 2], self.p)
         u_new, u_old = (vnew[:, 0] - vmid) / h, (vold[:, 0] - vmid) / h
         if np.all(np.abs(u_new) <= 1.0):  # the usual case: nothing to limit
@@ -149,6 +150,21 @@ class OpAmpBank(Bank):
         u = np.where(np.abs(u_new) <= 1.0, u_new, np.where(saturated, doubled, stepped))
         out = vnew.copy()
         out[:, 0] = np.where(u == u_new, vnew[:, 0], vmid + u * h)
+        return out
+
+    def _limit_input(self, vnew: np.ndarray, vold: np.ndarray) -> np.ndarray:
+        """Off the input stage's linear range (|v+ - v-| beyond SR / (2 pi GBW)) the
+        differential input moves at most that range per step, so Newton does not leap onto
+        the flat of its tanh, where the loop would lose its gain."""
+        if vnew.shape[1] < _JUNCTIONS:  # the output junctions alone (a caller's own check)
+            return vnew
+        reach = slew_current(self.p) * R1 / self.p("AOL")
+        step = vnew[:, 4] - vold[:, 4]
+        if np.all((np.abs(vnew[:, 4]) <= reach) | (np.abs(step) <= reach)):
+            return vnew
+        out = vnew.copy()
+        out[:, 4] = np.where(np.abs(vnew[:, 4]) <= reach, vnew[:, 4],
+                             vold[:, 4] + np.clip(step, -reach, reach))
         return out
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -18,6 +18,13 @@ from kitleaf.specs.ratings import Stress, worst_stresses
 from kitleaf.specs.solve import nominal_positions
 
 
+def drive_words(positions: tuple[tuple[str, float], ...]) -> str:
+    """A knob setting of the large-signal figures in words."""
+    if not positions:
+        return "knobs at half way"
+    return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in positions)
+
+
 @dataclass(frozen=True)
 class DcSetting:
     """The kit's DC operating point at one setting of its knobs, with words for that setting."""

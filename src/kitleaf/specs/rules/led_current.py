@@ -1,4 +1,5 @@
-"""Rule led-current: an LED carrying less than 1 mA (too dim to see) or over 20 mA.
+"""Rule led-current: an indicator LED carrying less than 1 mA (too dim to see) or over 20 mA;
+LEDs in a clipper's roles are clipping diodes, not indicators, and are left alone.
 
 Indicator LEDs are rated about 20 mA continuous and are visible from about 1 mA (common
 practice, no source).
@@ -17,6 +18,8 @@ LOW_A, HIGH_A = 1e-3, 20e-3  # common practice, no source
 @register(RULE, "an LED current outside 1-20 mA")
 def check(ctx: RuleContext):
     for part in ctx.of_type("led"):
+        if part.role.startswith("clip"):  # a clipper's LEDs carry signal, not a lamp current
+            continue
         for state in ctx.states:
             amps = float(state.op.device(part.designator)["id"])
             if not LOW_A <= amps <= HIGH_A:
