@@ -202,7 +202,7 @@ def main() -> int:
     args = p.parse_args()
     keep_freed_memory()  # as the kitleaf command does before it builds
     # The pipeline's imports (about 1 s) are paid once, before any timing, as a running
-    # `kitleaf serve` pays them: a rebuild with work to do builds in this process and would
+    # `kitleaf proof` pays them: a rebuild with work to do builds in this process and would
     # otherwise carry them, a rebuild with nothing to do never loads them.
     importlib.import_module("kitleaf.site.guide_output")
     root = args.keep or Path(tempfile.mkdtemp(prefix="kitleaf-bench-"))
@@ -219,7 +219,7 @@ def main() -> int:
 
 
 def run(root: Path, count: int, jobs: int) -> None:
-    guides, out = make_site(root, count), root / "site"
+    guides, out = make_site(root, count), root / "published"
     with TreeMemory() as memory:
         cold, report = timed(build_site, guides, out, jobs=jobs)
     same, again = timed(build_site, guides, out, jobs=jobs)

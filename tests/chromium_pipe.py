@@ -23,7 +23,7 @@ import pytest
 FLAGS = (
     "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
     "--disable-background-networking", "--disable-component-update", "--disable-sync",
-    "--disable-extensions", "--mute-audio", "--remote-debugging-pipe",
+    "--disable-extensions", "--mute-audio", "--remote-debugging-pipe", "--hide-scrollbars",
 )
 TIMEOUT_S = 30.0
 # Paper sizes in inches, the unit the protocol's printToPDF takes (ISO 216 for A4; US Letter).
@@ -127,13 +127,21 @@ class Browser:
 class Page:
     """A tab of a ``Browser`` with console, log and runtime events recorded."""
 
-    def __init__(self, browser: Browser, url: str) -> None:
+    def __init__(self, browser: Browser, url: str, first_script: str = "",
+                 width: int | None = None) -> None:
+        """Open ``url`` in a new tab; ``first_script`` runs in every document it loads before
+        the document's own scripts; ``width`` sets the viewport in CSS pixels."""
         self.browser = browser
         target = browser.send("Target.createTarget", {"url": "about:blank"})["targetId"]
         self.session = browser.send("Target.attachToTarget",
                                     {"targetId": target, "flatten": True})["sessionId"]
         for domain in ("Page", "Runtime", "Log"):
             self.send(f"{domain}.enable")
+        if first_script:
+            self.send("Page.addScriptToEvaluateOnNewDocument", {"source": first_script})
+        if width:
+            self.send("Emulation.setDeviceMetricsOverride", {
+                "width": width, "height": 800, "deviceScaleFactor": 1, "mobile": width < 600})
         self.send("Page.navigate", {"url": url})
         browser.wait_event("Page.loadEventFired", self.session)
 
@@ -159,6 +167,14 @@ class Page:
             elif event["method"] == "Log.entryAdded" and params["entry"]["level"] == "error":
                 found.append(f"{params['entry'].get('url', '')}: {params['entry']['text']}")
         return found
+
+    def screenshot(self) -> bytes:
+        """The whole page as PNG, at the viewport's width."""
+        size = self.send("Page.getLayoutMetrics")["cssContentSize"]
+        clip = {"x": 0, "y": 0, "width": size["width"], "height": size["height"], "scale": 1}
+        result = self.send("Page.captureScreenshot", {"format": "png", "clip": clip,
+                                                      "captureBeyondViewport": True})
+        return base64.b64decode(result["data"])
 
     def pdf(self, paper: str) -> bytes:
         """The page printed on ``paper`` with the browser's default print settings."""

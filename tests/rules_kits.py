@@ -46,6 +46,20 @@ volume: VR1 A100k
 ```
 """
 
+# An op-amp gain stage at a fixed gain, biased to the power stage's reference.
+OPAMP = """\
+```stage gain
+kind: opamp-non-inverting
+input-cap: C1 100n film 63V
+bias: R1 1M
+opamp: U1A TL072
+feedback: R3 82k
+gain-resistor: R4 2k7
+gain-cap: C4 10u electrolytic 16V
+output-cap: C2 1u film 63V
+```
+"""
+
 GUIDE = KIT + "\n# Test boost\n\n" + POWER + "\n" + BOOST
 
 

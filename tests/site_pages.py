@@ -107,7 +107,7 @@ def build_demo_site(root: Path, extra: dict[str, str] | None = None) -> Path:
     shutil.copytree(DEMO_GUIDES, guides)
     for name, text in (extra or {}).items():
         (guides / name).write_text(text, encoding="utf-8")
-    site = root / "site"
+    site = root / "published"
     build_site(guides, site, jobs=2, use_cache=False)
     return site
 

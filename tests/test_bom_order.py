@@ -112,7 +112,8 @@ def test_capacitor_over_80_percent_of_its_rating_warns():
 
 
 def test_resistor_over_half_its_power_rating_warns():
-    parts = [resistor("R1", 100.0, rating=0.25), resistor("R2", 100.0)]
+    # R2 of another value: a 100 R unrated would share R1's line, bought at R1's 1/4 W.
+    parts = [resistor("R1", 100.0, rating=0.25), resistor("R2", 220.0)]
     assert stressed({"R1": 0.125}, parts) == {}
     found = stressed({"R1": 0.2, "R2": 0.2}, parts)
     assert "over 50% of its 1/4 W rating; use 1/2 W or more" in found["R1"].message
@@ -141,3 +142,23 @@ def test_warnings_reach_the_text_output():
     lines = rating_warnings(bom_lines(MILLRACE), {"C2": Stress(24.0, "knobs at half way")})
     assert "warning: C2 sees 24 V (knobs at half way)" in bom_text(lines)
     assert by_designator(lines)["C2"].warnings[0].designator == "C2"
+
+
+def test_a_usual_rating_written_out_is_the_same_part_to_buy():
+    # "100p c0g 5%" in one kit, "100p c0g 5% 50 V" in another: 50 V is what an unrated small
+    # ceramic is bought at, and 1/4 W what an unrated resistor is (common practice, no source).
+    plain = [capacitor("C1", 100e-12, "c0g"), resistor("R1", 4700.0)]
+    written = [capacitor("C7", 100e-12, "c0g", rating=50.0), resistor("R7", 4700.0, rating=0.25)]
+    order = batch_order([bom_lines(plain), bom_lines(written)], kits=2)
+    assert len(order) == 2
+    assert {line.needed for line in order} == {4}
+    cap = next(line for line in order if line.type == "capacitor")
+    assert cap.attributes == ("c0g", "5%", "50 V")  # the line that says what is bought
+    (one_guide,) = [line for line in bom_lines(plain[:1] + written[:1])]
+    assert one_guide.designators == ("C1", "C7")
+
+
+def test_another_rating_stays_its_own_line():
+    plain = [capacitor("C1", 100e-12, "c0g"), resistor("R1", 4700.0)]
+    other = [capacitor("C7", 100e-12, "c0g", rating=100.0), resistor("R7", 4700.0, rating=0.5)]
+    assert len(batch_order([bom_lines(plain), bom_lines(other)], kits=1)) == 4

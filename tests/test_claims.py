@@ -5,8 +5,9 @@ from __future__ import annotations
 import pytest
 
 from kitleaf.display import range_text
-from kitleaf.errors import KitleafError, SpecError
-from kitleaf.specs.claims import Claim, holds
+from kitleaf.errors import KitleafError, SourceSpan, SpecError
+from kitleaf.guide.model import Entry
+from kitleaf.specs.claims import Claim, broken, holds
 from kitleaf.specs.lookup import Computed
 from kitleaf.specs.model import Range
 from rules_kits import BUFFER, GUIDE, checks_of, swapped
@@ -36,6 +37,16 @@ class TestHolds:
     def test_nominal_only_when_no_spread(self):
         assert holds(claim(None, 30), Computed("x", Range(29.9), "db", "gain"))
         assert not holds(claim(30, None), Computed("x", Range(29.9), "db", "gain"))
+
+
+    def test_a_broken_claim_prints_the_span_it_was_judged_over(self):
+        # The 5th-95th percentile spread can miss the nominal build where a part is pushed to an
+        # extreme; the message shows the span holds() judged, nominal included.
+        computed = Computed("x", Range(-2.0, 1.0, 3.0), "db", "gain")
+        stated = Claim(Entry("claim", "x between 5 dB and 10 dB", SourceSpan("g.md", 3)), "kit",
+                       "x", 5.0, 10.0)
+        message = broken(stated, computed).message
+        assert "computed -2.0 dB (range -2.0 dB to 3.0 dB)" in message
 
 
 class TestClaims:

@@ -140,6 +140,17 @@ def test_one_panel_per_knob_and_one_curve_per_position():
     assert plot.panels[1].title == "Level knob turned, Gain at 50 %"
 
 
+def test_a_panel_title_lists_the_other_knobs_as_a_sentence_does():
+    from types import SimpleNamespace
+
+    from kitleaf.render.plot_specs import _title
+    specs = SimpleNamespace(knobs=(("Drive", "VR1"), ("Tone", "VR2"), ("Level", "VR3"),
+                                   ("Blend", "VR4")))
+    assert _title(specs, "Tone", 4) == "Tone knob turned, Drive, Level and Blend at 50 %"
+    assert _title(SimpleNamespace(knobs=specs.knobs[:2]), "Tone", 2) == (
+        "Tone knob turned, Drive at 50 %")
+
+
 def test_svg_shows_labels_corners_and_band():
     _, _, specs = solved("brookside-boost")
     svg = render_response_svg(kit_plot(specs))

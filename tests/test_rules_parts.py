@@ -24,6 +24,28 @@ part: R6 100k @ in out
 """
 
 
+# Red LEDs clipping the signal after the boost, in a custom stage and in a clipper stage.
+CLIPPER = """\
+```stage clip
+kind: custom
+nodes: x
+part: C21 100n film 63V @ in x
+part: R21 10k @ x out
+part: LED21 red @ x 0
+part: LED22 red @ 0 x
+part: R22 1M @ out 0
+```
+
+```stage hard
+kind: diode-clipper
+input-cap: C23 100n film 63V
+series: R23 4k7
+clip-positive: LED23 red
+clip-negative: LED24 red
+```
+"""
+
+
 def test_plain_guide_trips_no_rule():
     assert checks_of(GUIDE).findings == ()
 
@@ -50,6 +72,13 @@ class TestCapVoltage:
         assert [f.subject for f in found] == ["C10"]
         line = text.splitlines().index("bulk-cap: C10 100u electrolytic 10V") + 1
         assert found[0].span.line == line
+
+    def test_a_voltage_no_knob_moves_names_no_knob_position(self):
+        # the bulk cap sits across the supply whatever the Level knob does
+        text = swapped(("C10 100u electrolytic 16V", "C10 100u electrolytic 10V"))
+        message = findings(text, "cap-voltage")[0].message
+        assert "at every knob setting" in message
+        assert "half way" not in message and "Level at" not in message
 
     def test_a_polarised_cap_without_rating_is_found(self):
         text = swapped(("C12 22u electrolytic 16V", "C12 22u electrolytic"))
@@ -104,6 +133,30 @@ class TestLedCurrent:
 
     def test_4k7_gives_about_1_5_ma(self):
         assert findings(GUIDE, "led-current") == []
+
+    def test_clipping_leds_are_no_indicators(self):
+        # LEDs clipping the signal to ground behind a coupling cap carry no DC current by
+        # design (common practice, no source): neither dim nor a resistor to change
+        text = GUIDE + CLIPPER
+        assert findings(text, "led-current") == []
+
+    def test_a_custom_stages_lit_led_is_an_indicator(self):
+        # (8.85 V - about 1.6 V) / 220 kΩ is about 33 µA: lit, but under 1 mA (hand calc)
+        text = GUIDE + CLIPPER.replace("nodes: x", "nodes: x y\npart: R29 220k @ vcc y\n"
+                                                   "part: LED29 red @ y 0")
+        found = findings(text, "led-current")
+        assert [f.subject for f in found] == ["LED29"]
+        assert "lower its series resistor" in found[0].message
+
+    def test_a_clipping_led_fed_20_ma_at_dc_is_found_without_indicator_advice(self):
+        # a clipper with no input cap behind a stage pulling its input to the 8.85 V rail
+        # through 100 Ω: (8.85 - about 1.9) V / 200 Ω, about 35 mA, over 20 mA (hand calc)
+        fed = ("```stage feed\nkind: custom\npart: R27 1M @ in out\npart: R28 100 @ vcc out\n"
+               "```\n\n```stage hard\nkind: diode-clipper\nseries: R23 100\n"
+               "clip-positive: LED23 red\n```\n")
+        found = findings(GUIDE + fed, "led-current")
+        assert [f.subject for f in found] == ["LED23"]
+        assert "series resistor" not in found[0].message
 
 
 class TestESeries:

@@ -12,7 +12,7 @@ from tests.stages.kits import EVERY_KIND, make_kit, stage_block
 
 from kitleaf.bom import bom_lines
 from kitleaf.circuit import drawing
-from kitleaf.render import schematic_reuse
+from kitleaf.render import schemdraw_adapter
 from kitleaf.render.schematic import (
     SchematicSheet,
     part_value,
@@ -126,10 +126,10 @@ class TestStageSchematic:
     def test_reused_placements_draw_the_same_bytes(self, stage, monkeypatch):
         # elements placed for an earlier sheet are reused: the sheet must not tell the difference
         warm = render_stage_svg(KIT, stage)
-        monkeypatch.setattr(schematic_reuse, "PLACED", {})
-        monkeypatch.setattr(schematic_reuse, "PLACED_LIMIT", 0)
+        monkeypatch.setattr(schemdraw_adapter, "PLACED", {})
+        monkeypatch.setattr(schemdraw_adapter, "PLACED_LIMIT", 0)
         assert render_stage_svg(KIT, stage) == warm
-        assert schematic_reuse.PLACED == {}  # this sheet placed all its own elements
+        assert schemdraw_adapter.PLACED == {}  # this sheet placed all its own elements
 
     def test_no_ids_or_timestamps(self, stage):
         svg = render_stage_svg(KIT, stage)
@@ -275,10 +275,10 @@ def test_line_check_sees_a_label_on_a_wire():
 
 
 def test_equal_elements_are_placed_once_and_the_table_stays_bounded(monkeypatch):
-    monkeypatch.setattr(schematic_reuse, "PLACED", {})
-    monkeypatch.setattr(schematic_reuse, "PLACED_LIMIT", 2)
+    monkeypatch.setattr(schemdraw_adapter, "PLACED", {})
+    monkeypatch.setattr(schemdraw_adapter, "PLACED_LIMIT", 2)
     for _ in range(2):  # the same wire on two sheets: one entry
         SchematicSheet().wire((0.0, 0.0), (1.0, 0.0))
-    assert len(schematic_reuse.PLACED) == 1
+    assert len(schemdraw_adapter.PLACED) == 1
     SchematicSheet().wire((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 2.0))  # three new, room for one
-    assert len(schematic_reuse.PLACED) == 2
+    assert len(schemdraw_adapter.PLACED) == 2

@@ -55,7 +55,7 @@ def built(tmp_path_factory) -> Path:
     """A cold build of the demo guides; tests copy it, never change it."""
     root = tmp_path_factory.mktemp("built")
     copy_guides(root / "guides")
-    build_site(root / "guides", root / "site", jobs=2)
+    build_site(root / "guides", root / "published", jobs=2)
     return root
 
 
@@ -69,15 +69,15 @@ def site(built: Path, tmp_path: Path) -> Path:
 
 def test_cache_sits_beside_the_site_not_in_it(site: Path):
     assert (site / CACHE_DIR_NAME).is_dir()
-    assert not any(CACHE_DIR_NAME in rel for rel in contents(site / "site"))
+    assert not any(CACHE_DIR_NAME in rel for rel in contents(site / "published"))
 
 
 def test_rebuild_without_change_rewrites_nothing(site: Path):
-    before = snapshot(site / "site")
-    report = build_site(site / "guides", site / "site")
+    before = snapshot(site / "published")
+    report = build_site(site / "guides", site / "published")
     assert report.written == () and report.removed == ()
     assert report.rebuilt == 0
-    assert snapshot(site / "site") == before
+    assert snapshot(site / "published") == before
 
 
 def test_rebuild_without_change_does_not_load_the_pipeline(site: Path):
@@ -87,7 +87,7 @@ def test_rebuild_without_change_does_not_load_the_pipeline(site: Path):
         import sys
         from pathlib import Path
         from kitleaf.site.build import build_site
-        report = build_site(Path({str(site / "guides")!r}), Path({str(site / "site")!r}))
+        report = build_site(Path({str(site / "guides")!r}), Path({str(site / "published")!r}))
         heavy = [m for m in ("numpy", "kitleaf.engine", "kitleaf.circuit.chain",
                              "schemdraw", "matplotlib") if m in sys.modules]
         print(report.rebuilt, heavy)
@@ -98,10 +98,10 @@ def test_rebuild_without_change_does_not_load_the_pipeline(site: Path):
 
 
 def test_one_part_change_rewrites_only_what_it_touches(site: Path, tmp_path: Path):
-    before = snapshot(site / "site")
+    before = snapshot(site / "published")
     change_r4(site / "guides")
-    report = build_site(site / "guides", site / "site")
-    after = snapshot(site / "site")
+    report = build_site(site / "guides", site / "published")
+    after = snapshot(site / "published")
     assert report.rebuilt == 1
     moved = {rel for rel in after if after[rel] != before.get(rel)}
     assert moved == set(report.written)
@@ -109,14 +109,14 @@ def test_one_part_change_rewrites_only_what_it_touches(site: Path, tmp_path: Pat
     assert others and not moved & others  # every other guide's files: same inode and time
     # The power stage shares no part with R4: its drawing is neither redrawn nor rewritten.
     assert f"{CHANGED}/power-schematic.svg" not in moved
-    assert {f"{CHANGED}/index.html", f"{CHANGED}/boost-response.svg", "manifest.json",
+    assert {f"{CHANGED}/index.html", f"{CHANGED}/boost-response.svg", "kitleaf-manifest.json",
             "changes.html"} <= moved
     # What the cache kept equals what a cold build of the changed guide makes.
     alone = tmp_path / "alone"
     alone.mkdir()
     shutil.copy(site / "guides" / f"{CHANGED}.md", alone)
     build_site(alone, tmp_path / "cold", use_cache=False, jobs=1)
-    fresh, kept = contents(tmp_path / "cold"), contents(site / "site")
+    fresh, kept = contents(tmp_path / "cold"), contents(site / "published")
     for rel in fresh:
         if rel.startswith(f"{CHANGED}/"):
             assert kept[rel] == fresh[rel], rel
@@ -125,26 +125,26 @@ def test_one_part_change_rewrites_only_what_it_touches(site: Path, tmp_path: Pat
 def test_two_builds_of_the_same_guides_are_byte_identical(built: Path, tmp_path: Path):
     # Another folder, another process pool, no cache: the same bytes.
     build_site(copy_guides(tmp_path / "guides"), tmp_path / "again", use_cache=False, jobs=2)
-    assert contents(tmp_path / "again") == contents(built / "site")
+    assert contents(tmp_path / "again") == contents(built / "published")
 
 
 def test_serial_and_parallel_builds_are_identical(built: Path, tmp_path: Path):
     build_site(built / "guides", tmp_path / "serial", use_cache=False, jobs=1)
-    assert contents(tmp_path / "serial") == contents(built / "site")  # built with jobs=2
+    assert contents(tmp_path / "serial") == contents(built / "published")  # built with jobs=2
 
 
 def test_a_broken_guide_names_itself_and_leaves_the_site(site: Path):
-    before = snapshot(site / "site")
+    before = snapshot(site / "published")
     path = site / "guides" / f"{CHANGED}.md"
     lines = path.read_text().splitlines(keepends=True)
     line = next(i for i, s in enumerate(lines) if s.startswith("kind: common-emitter")) + 1
     lines[line - 1] = "kind: no-such-kind\n"
     path.write_text("".join(lines))
     with pytest.raises(BuildFailed) as failed:
-        build_site(site / "guides", site / "site", jobs=2)
+        build_site(site / "guides", site / "published", jobs=2)
     [error] = failed.value.errors
     assert error.span.path.endswith(f"{CHANGED}.md") and error.span.line == line
-    assert snapshot(site / "site") == before
+    assert snapshot(site / "published") == before
 
 
 def test_the_guides_that_built_stay_cached_when_another_fails(site: Path):
@@ -153,14 +153,14 @@ def test_the_guides_that_built_stay_cached_when_another_fails(site: Path):
     other_text = other.read_text()
     other.write_text(other_text.replace("kind: jfet-common-source", "kind: no-such-kind", 1))
     with pytest.raises(BuildFailed):
-        build_site(site / "guides", site / "site", jobs=1)
+        build_site(site / "guides", site / "published", jobs=1)
     other.write_text(other_text)
-    report = build_site(site / "guides", site / "site", jobs=1)
+    report = build_site(site / "guides", site / "published", jobs=1)
     assert report.rebuilt == 0  # the changed guide was cached by the failed build
 
 
 def test_exception_in_the_publish_step_leaves_the_site(site: Path, monkeypatch):
-    before = snapshot(site / "site")
+    before = snapshot(site / "published")
     change_r4(site / "guides")
 
     def failing_fill(*args) -> None:
@@ -168,8 +168,8 @@ def test_exception_in_the_publish_step_leaves_the_site(site: Path, monkeypatch):
 
     monkeypatch.setattr(publish_module, "fill", failing_fill)
     with pytest.raises(OSError, match="injected"):
-        build_site(site / "guides", site / "site")
-    assert snapshot(site / "site") == before
+        build_site(site / "guides", site / "published")
+    assert snapshot(site / "published") == before
 
 
 KILLED_BUILD = """
@@ -191,21 +191,21 @@ build_site(Path(sys.argv[1]), Path(sys.argv[2]))
 
 
 def test_build_killed_halfway_leaves_the_previous_site(site: Path):
-    before = snapshot(site / "site")
+    before = snapshot(site / "published")
     change_r4(site / "guides")
     run = subprocess.run([sys.executable, "-c", textwrap.dedent(KILLED_BUILD),
-                          str(site / "guides"), str(site / "site")], timeout=300)
+                          str(site / "guides"), str(site / "published")], timeout=300)
     assert run.returncode == -9  # SIGKILL, mid-publish
-    assert snapshot(site / "site") == before
-    assert list(site.glob(".site.new-*"))  # the half-written staging copy
-    build_site(site / "guides", site / "site")
-    assert not list(site.glob(".site.new-*"))
-    assert contents(site / "site") != {k: v[0] for k, v in before.items()}
+    assert snapshot(site / "published") == before
+    assert list(site.glob(".published.new-*"))  # the half-written staging copy
+    build_site(site / "guides", site / "published")
+    assert not list(site.glob(".published.new-*"))
+    assert contents(site / "published") != {k: v[0] for k, v in before.items()}
 
 
 def test_cli_ends_with_the_summary_and_names_the_change(site: Path, capsys):
     change_r4(site / "guides")
-    assert main(["build", str(site / "guides"), "-o", str(site / "site")]) == 0
+    assert main(["build", str(site / "guides"), "-o", str(site / "published")]) == 0
     out = capsys.readouterr().out.splitlines()
     assert out[-1].startswith(f"built {len(GUIDES)} guide(s), ")
     assert "(1 guide(s) rebuilt, " in out[-1]

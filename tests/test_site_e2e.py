@@ -37,6 +37,7 @@ def hostile_guide() -> str:
     """The Heron demo renamed, with prose that tries to inject markup and a too-low rating."""
     text = (DEMO_GUIDES / "heron-opamp-boost.md").read_text(encoding="utf-8")
     text = text.replace("title: Heron Op-Amp Boost", "title: Wren <b>Bold</b> Boost")
+    text = text.replace("code: FB-303", "code: FB-909")  # each kit its own code
     text = text.replace("summary: A clean", "summary: <script>alert(7)</script> A clean")
     # C10 sits across the 9 V rail behind a Schottky diode, about 8.8 V (hand calculation);
     # 80 % of 6.3 V is 5.0 V (common practice, no source), so the BOM must warn.
@@ -118,8 +119,16 @@ def test_kit_text_is_escaped_on_the_index(index):
     _assert_inert(index)
 
 
+# The theme's own scripts: the ranking form's data (inert JSON, escaped by Jinja's tojson)
+# and its static script. Nothing a guide writes may add another.
+THEME_SCRIPTS = ({"type": "application/json", "id": "pinpoint-data"},
+                 {"src": "../static/pinpoint.js", "defer": None})
+
+
 def _assert_inert(page) -> None:
-    assert not page.find_all("script")
+    assert all(s.attrs in THEME_SCRIPTS for s in page.find_all("script"))
+    data = [s for s in page.find_all("script") if s.attrs.get("id") == "pinpoint-data"]
+    assert all("<" not in s.all_text() for s in data)
     for element in page.iter():
         handlers = [name for name in element.attrs if name.startswith("on")]
         assert not handlers, f"<{element.tag}> carries {handlers}"
@@ -131,8 +140,9 @@ def test_bom_page_lists_every_part_and_the_rating_warning(site):
     kit = build_circuit(parse_guide(DEMO_GUIDES / "heron-opamp-boost.md"))
     page = parse_page(site / "wren-test-boost" / "bom.html")
     refs = " ".join(td.all_text() for td in page.find_all("td", "refs")).split()
-    # The op-amp section U1A is bought as the chip U1, which also gets a socket line.
-    expected = [p.designator for p in kit.parts() if p.designator != "U1A"] + ["U1", "U1"]
+    # The op-amp sections U1A and U1B are bought as the chip U1, which also gets a socket line.
+    expected = [p.designator for p in kit.parts() if p.designator not in ("U1A", "U1B")]
+    expected += ["U1", "U1"]
     assert sorted(refs) == sorted(expected)
     warnings = [w.all_text() for w in page.find_all("p", "rating-warning")]
     # 8.8 V / 0.8 = 11 V, and the next stocked rating above is 16 V (common practice).
@@ -140,3 +150,11 @@ def test_bom_page_lists_every_part_and_the_rating_warning(site):
     ticks = page.find_all("input")
     assert len(ticks) == len(page.find_all("tr", "bom-line"))
     assert all(t.attrs.get("type") == "checkbox" for t in ticks)
+
+
+def test_each_off_path_section_says_what_its_current_is(site):
+    page = parse_page(site / "heron-opamp-boost" / "index.html")
+    captions = [c.all_text() for c in page.find_all("caption")]
+    # the power section feeds the stages; the op-amp's unused half feeds nothing
+    assert sum("besides the stages it feeds" in c for c in captions) == 1
+    assert sum(c == "What this section draws from the supply." for c in captions) == 1

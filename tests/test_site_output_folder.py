@@ -135,3 +135,19 @@ def test_script_file_names_make_plain_relative_links(tmp_path: Path, capsys):
     # A URL with a scheme (javascript:, data:, http:) is not one kitleaf made.
     assert not [u for u in urls if re.match(r"^[a-zA-Z][a-zA-Z0-9+.-]*:", u)]
     assert not [u for u in urls if u.startswith(("/", "\\"))]
+
+
+@pytest.mark.parametrize("linked", ["file", "folder"])
+def test_a_link_in_the_theme_static_folder_is_never_published(project: Path, linked: str,
+                                                              capsys):
+    secret = project / "elsewhere"
+    secret.mkdir()
+    (secret / "key.txt").write_text("not for the web\n")
+    static = project / "themes" / "default" / "static"
+    static.mkdir(parents=True)
+    link = static / ("key.txt" if linked == "file" else "more")
+    link.symlink_to(secret / "key.txt" if linked == "file" else secret)
+    out = project / "published"
+    line = refused(["build", str(project / "guides"), "-o", str(out)], project, capsys)
+    assert line.startswith(f"{link}: error: a symbolic link in the theme's static folder")
+    assert not out.exists()

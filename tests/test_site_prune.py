@@ -56,13 +56,13 @@ def set_age(root: Path, seconds: float, names=None, now: float | None = None) ->
 def test_after_a_value_change_the_old_entries_go_and_the_used_stay(site: Path, tmp_path: Path):
     before = sizes(site)
     change_r4(site / "guides")
-    build_site(site / "guides", site / "site", prune_policy=EVERY_BUILD)
+    build_site(site / "guides", site / "published", prune_policy=EVERY_BUILD)
     grown = sizes(site)
     assert before.keys() < grown.keys()  # nothing is old enough to go yet
     set_age(site, 30 * DAY)
-    report = build_site(site / "guides", site / "site", prune_policy=EVERY_BUILD)
+    report = build_site(site / "guides", site / "published", prune_policy=EVERY_BUILD)
     # What the changed guides need: the entries a cold build of them makes.
-    build_site(site / "guides", tmp_path / "cold" / "site", jobs=1)
+    build_site(site / "guides", tmp_path / "cold" / "published", jobs=1)
     needed = sizes(tmp_path / "cold").keys()
     assert sizes(site).keys() == needed
     gone = grown.keys() - needed
@@ -75,7 +75,7 @@ def test_after_a_value_change_the_old_entries_go_and_the_used_stay(site: Path, t
 def test_entries_used_are_marked_so_they_never_age(site: Path):
     set_age(site, 30 * DAY)
     started = time.time()
-    report = build_site(site / "guides", site / "site", prune_policy=EVERY_BUILD)
+    report = build_site(site / "guides", site / "published", prune_policy=EVERY_BUILD)
     assert report.pruned.entries == 0 and report.rebuilt == 0
     assert all(e.used_at >= started - 1 for e in entries(cache_of(site)))
 
@@ -148,26 +148,26 @@ def test_an_entry_another_sweep_removed_is_skipped(site: Path):
 
 def test_a_missing_entry_is_only_a_miss(site: Path):
     # A sweep interrupted halfway: every guide entry and every other of the rest are gone.
-    before, site_before = sizes(site), contents(site / "site")
+    before, site_before = sizes(site), contents(site / "published")
     found = sorted(before)
     guides = [n for n in found if n.startswith("guide/")]
     rest = [n for n in found if not n.startswith("guide/")]
     for name in guides + rest[::2]:
         (cache_of(site) / name).unlink()
-    report = build_site(site / "guides", site / "site", jobs=1)
+    report = build_site(site / "guides", site / "published", jobs=1)
     assert report.rebuilt == len(GUIDES)
-    assert report.written == () and contents(site / "site") == site_before
+    assert report.written == () and contents(site / "published") == site_before
     assert sizes(site).keys() == before.keys()  # made again, under the same names
 
 
 def test_cli_says_what_the_sweep_freed_only_when_it_freed_something(site: Path, capsys):
     change_r4(site / "guides")
     set_age(site, 30 * DAY)  # the last sweep too: this build sweeps
-    assert main(["build", str(site / "guides"), "-o", str(site / "site")]) == 0
+    assert main(["build", str(site / "guides"), "-o", str(site / "published")]) == 0
     out = capsys.readouterr().out.splitlines()
     [line] = [s for s in out if s.startswith("cache: ")]
     assert line.endswith(" MB freed") and " unused entries removed, " in line
     assert out[-1].startswith("built ")  # the summary stays the last line
     set_age(site, 30 * DAY, [e.name for e in entries(cache_of(site))])
-    assert main(["build", str(site / "guides"), "-o", str(site / "site")]) == 0
+    assert main(["build", str(site / "guides"), "-o", str(site / "published")]) == 0
     assert not [s for s in capsys.readouterr().out.splitlines() if s.startswith("cache: ")]

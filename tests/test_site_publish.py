@@ -28,7 +28,7 @@ SITE = {"index.html": b"<p>index</p>\n", "a/index.html": b"<p>a</p>\n",
 
 @pytest.fixture
 def site(tmp_path: Path) -> Path:
-    out = tmp_path / "site"
+    out = tmp_path / "published"
     publish(out, SITE)
     return out
 
@@ -43,7 +43,7 @@ def test_unchanged_site_is_not_touched(site: Path):
     result = publish(site, dict(SITE))
     assert not result.touched
     assert snapshot(site) == before
-    assert sorted(p.name for p in site.parent.iterdir()) == [".site.lock", "site"]
+    assert sorted(p.name for p in site.parent.iterdir()) == ["published"]  # no lock file
 
 
 def test_one_changed_file_is_the_only_one_rewritten(site: Path):
@@ -73,11 +73,11 @@ def test_failure_before_the_swap_leaves_the_site_whole(site: Path, monkeypatch):
     with pytest.raises(OSError, match="disk full"):
         publish(site, {**SITE, "index.html": b"<p>new</p>\n", "b/index.html": b"b\n"})
     assert snapshot(site) == before
-    assert not list(site.parent.glob(".site.new-*"))  # no staging left behind
+    assert not list(site.parent.glob(".published.new-*"))  # no staging left behind
 
 
 def test_stale_staging_from_a_killed_build_is_cleared(site: Path):
-    stale = site.parent / ".site.new-abc123"
+    stale = site.parent / ".published.new-abc123"
     (stale / "a").mkdir(parents=True)
     (stale / "a" / "index.html").write_bytes(b"half")
     publish(site, {**SITE, "index.html": b"<p>new</p>\n"})
@@ -86,7 +86,7 @@ def test_stale_staging_from_a_killed_build_is_cleared(site: Path):
 
 def test_site_retired_mid_swap_is_restored(site: Path):
     # The two-rename fallback's only window: the old site renamed away, the new one not in.
-    retired = site.parent / ".site.old-xyz"
+    retired = site.parent / ".published.old-xyz"
     os.replace(site, retired)
     publish(site, dict(SITE))
     assert {k: v[0] for k, v in snapshot(site).items() if k != PUBLISH_MARKER} == SITE
@@ -100,4 +100,18 @@ def test_two_rename_fallback_swaps_too(site: Path, monkeypatch):
     after = snapshot(site)
     assert after["index.html"][0] == b"<p>new</p>\n"
     assert after["a/one.svg"] == before["a/one.svg"]
-    assert not list(site.parent.glob(".site.old-*"))
+    assert not list(site.parent.glob(".published.old-*"))
+
+
+@pytest.mark.parametrize("umask", [0o022, 0o027])
+def test_published_folders_and_files_take_the_umask_mode(tmp_path: Path, umask: int):
+    old = os.umask(umask)
+    try:
+        out = tmp_path / "published"
+        publish(out, SITE)
+        publish(out, {**SITE, "index.html": b"<p>again</p>\n"})  # the swapped-in staging
+    finally:
+        os.umask(old)
+    for path in [out, *out.rglob("*")]:
+        wanted = (0o777 if path.is_dir() else 0o666) & ~umask
+        assert path.stat().st_mode & 0o777 == wanted, path

@@ -143,15 +143,15 @@ def test_build_stopped_by_sigterm_leaves_the_site_and_no_worker(tmp_path: Path):
     from kitleaf.site.build import build_site
 
     guides = copy_guides(tmp_path / "guides")
-    build_site(guides, tmp_path / "site", use_cache=False, jobs=1)
-    before = snapshot(tmp_path / "site")
+    build_site(guides, tmp_path / "published", use_cache=False, jobs=1)
+    before = snapshot(tmp_path / "published")
     change_r4(guides)
     run, started = start_with_workers(
-        [sys.executable, "-c", CLI, "build", str(guides), "-o", str(tmp_path / "site"),
+        [sys.executable, "-c", CLI, "build", str(guides), "-o", str(tmp_path / "published"),
          "--jobs", str(len(GUIDES)), "--no-cache"], workers=len(GUIDES))
     os.kill(run.pid, signal.SIGTERM)
     assert end(run) == -signal.SIGTERM
     wait_for(lambda: not survivors(started), GONE_WITHIN)
     assert survivors(started) == set()
-    assert snapshot(tmp_path / "site") == before
-    assert not list(tmp_path.glob(".site.new-*"))
+    assert snapshot(tmp_path / "published") == before
+    assert not list(tmp_path.glob(".published.new-*"))

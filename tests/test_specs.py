@@ -11,9 +11,10 @@ from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE, input_meter, supply_met
 from kitleaf.engine import solve_ac, solve_dc
 from kitleaf.engine.montecarlo import monte_carlo
 from kitleaf.render.specs_text import specs_to_text
-from kitleaf.specs.derive import KNOB_STEPS, derive_specs
+from kitleaf.render.summary import headline
+from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import SCHEMA, specs_to_json
-from kitleaf.specs.solve import nominal_positions
+from kitleaf.specs.solve import KNOB_STEPS, nominal_positions
 from specs_kits import DEMOS, solved
 
 REF = np.array([1000.0])
@@ -177,3 +178,25 @@ def test_an_engine_error_is_placed_at_the_part_it_names(monkeypatch):
         derive_module.derive_specs(guide, kit)
     q1 = next(p for p in kit.parts() if p.designator == "Q1")
     assert err.value.span == q1.span
+
+
+def test_the_card_gain_range_takes_the_knobs_together():
+    # Heron: Gain and Level both fully up leave the non-inverting gain 1 + Rf / Rg with the
+    # Gain pot shorted, 1 + 82k / 2k7 = 31.4 or 29.9 dB (textbook non-inverting amplifier);
+    # one knob at a time, the other half way, reaches about 12 dB
+    _, _, specs = solved("heron-opamp-boost")
+    label, text = headline(specs)[0]
+    assert label == "Gain range"
+    top = float(text.split(" to ")[1].removesuffix(" dB"))
+    assert top == pytest.approx(20 * np.log10(1 + 82e3 / 2.7e3), abs=0.2)
+    ends = {tuple(p for _, p in point.positions) for point in specs.knob_ends}
+    assert ends == {(0.0, 0.0), (0.0, 1.0), (1.0, 0.0), (1.0, 1.0)}
+
+
+def test_the_heron_counts_both_halves_of_its_dual_op_amp():
+    # TL072: 1.4 mA per amplifier (datasheet typical, from memory); the unused half U1B,
+    # tied as a follower, draws it as the used one does
+    _, _, specs = solved("heron-opamp-boost")
+    assert specs.stage("spare").supply_current.nominal == pytest.approx(1.4e-3, rel=0.01)
+    parts = sum(s.supply_current.nominal for s in specs.stages if s.supply_current)
+    assert specs.supply_current.nominal == pytest.approx(parts, rel=1e-6)

@@ -12,10 +12,10 @@ from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
 from kitleaf.engine import Circuit
 from kitleaf.errors import SolveError
 from kitleaf.guide import parse_guide
-from kitleaf.specs.derive import KNOB_STEPS, SolvedKit
+from kitleaf.specs.derive import SolvedKit
 from kitleaf.specs.response import REFERENCE_HZ
 from kitleaf.specs.sampled import solve_nominal, solve_samples
-from kitleaf.specs.solve import View, idle_at_dc
+from kitleaf.specs.solve import KNOB_STEPS, View, idle_at_dc
 from specs_kits import DEMOS, GUIDES
 
 

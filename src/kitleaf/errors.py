@@ -24,6 +24,12 @@ def printable(text: str, cut: bool = True) -> str:
     return _LONG_WORD.sub(lambda m: f"{m[0][:LONGEST_ECHO]}…[{len(m[0])} characters]", shown)
 
 
+def printable_line(line: str) -> str:
+    """A ``path:line: kind: message`` line made :func:`printable`, its location never cut."""
+    where, sep, message = line.partition(": ")
+    return printable(where, cut=False) + sep + printable(message)
+
+
 @dataclass(frozen=True)
 class SourceSpan:
     """Where something came from: a file or folder and, inside a guide, a 1-based line."""

@@ -117,6 +117,30 @@ def resistor_bands(ohms: float, tolerance: float) -> tuple[Band, ...]:
     return tuple(bands)
 
 
+def read_bands(colours: tuple[str, ...], figures: int) -> float | None:
+    """The resistance ``colours`` encode when read as ``figures`` figure bands and a
+    multiplier (any bands after them ignored); None when they are no valid code."""
+    if len(colours) < figures + 1 or colours[0] not in _FIGURES[1:]:
+        return None
+    if any(c not in _FIGURES for c in colours[:figures]):
+        return None
+    power = next((p for p, c in _MULTIPLIERS.items() if c == colours[figures]), None)
+    if power is None:
+        return None
+    number = int("".join(str(_FIGURES.index(c)) for c in colours[:figures]))
+    return number * 10.0**power
+
+
+def neighbours(colour: str, role: str) -> tuple[str, ...]:
+    """The colours either side of ``colour`` in its band's order (figures black..white;
+    multipliers silver, gold, black..white): the colours it is most easily read as."""
+    order = _FIGURES if role == "figure" else tuple(_MULTIPLIERS[p] for p in sorted(_MULTIPLIERS))
+    if colour not in order:
+        return ()
+    i = order.index(colour)
+    return tuple(order[j] for j in (i - 1, i + 1) if 0 <= j < len(order))
+
+
 def capacitor_code(farads: float) -> str:
     """The marking on a small capacitor: 47 nF -> "473", 100 pF -> "101", 4.7 pF -> "4p7"."""
     if not farads > 0:

@@ -77,6 +77,24 @@ class TestSamplesMatchSingleSolves:
         fast = batch.response(rhs, list(range(batch.layout.size)))(FREQS)
         np.testing.assert_allclose(fast, direct, rtol=1e-9, atol=1e-12)
 
+    @pytest.mark.parametrize("build", [rc.boost, rc.jfet_common_source, rc.non_inverting])
+    def test_device_reports_and_part_factors(self, build):
+        circuit = build()
+        part = next(e.name for e in circuit.elements if hasattr(e, "tol"))
+        circuit = circuit.replaced(part, tol=0.05)
+        batch = solve_batch(circuit, samples=12, seed=6)
+        mc = monte_carlo(circuit, samples=12, seed=6)
+        device = next(e.name for e in mc.circuit.elements if hasattr(e, "model"))
+        reports = batch.reports(device)
+        for i in (0, 5, 11):
+            single = solve_dc(mc.sample(i)).device(device)
+            assert reports[i].keys() == single.keys()
+            for key, value in single.items():
+                assert reports[i][key] == (value if isinstance(value, str)
+                                           else pytest.approx(value, rel=1e-6, abs=1e-12))
+        np.testing.assert_array_equal(batch.factor(part), mc.factor(part))
+        np.testing.assert_array_equal(solve_batch(circuit).factor(part), [1.0])
+
     def test_the_same_draws_as_monte_carlo(self):
         batch = solve_batch(rc.boost(), samples=50, seed=2)
         mc = monte_carlo(rc.boost(), samples=50, seed=2, nodes=["c"])
@@ -125,3 +143,35 @@ class TestBadRequests:
     def test_bad_sample_count(self):
         with pytest.raises(SolveError, match="samples"):
             solve_batch(rc.boost(), samples=0)
+
+
+class TestScaledSamples:
+    def divider(self):
+        c = Circuit().vsource("V1", "a", "0", dc=9.0)
+        return c.resistor("R1", "a", "m", 10e3, tol=0.05).resistor("R2", "m", "0", 10e3, tol=0.05)
+
+    def test_scale_multiplies_each_samples_drawn_values(self):
+        c = self.divider()
+        scale = np.ones((3, 3))
+        scale[1, 1] = 2.0  # R1 doubled in sample 1
+        batch = solve_batch(c, samples=3, seed=4, scale=scale)
+        r1, r2 = 10e3 * batch.factors[:, 1], 10e3 * batch.factors[:, 2]
+        assert batch.factors[1, 1] > 1.9
+        # voltage divider V R2 / (R1 + R2) (textbook)
+        np.testing.assert_allclose(batch.voltage("m"), 9.0 * r2 / (r1 + r2), rtol=1e-9)
+
+    def test_without_spread_only_the_scale_changes_parts(self):
+        scale = np.array([[1.0, 1.0, 1.0], [1.0, 3.0, 1.0]])
+        batch = solve_batch(self.divider(), samples=2, scale=scale, spread=False)
+        # divider: 9 V x 10k / 20k and 9 V x 10k / 40k (textbook)
+        np.testing.assert_allclose(batch.voltage("m"), [4.5, 2.25], rtol=1e-9)
+
+    def test_dc_resistance_is_what_an_ohmmeter_sees_with_the_source_at_rest(self):
+        batch = solve_batch(self.divider(), samples=2, scale=np.ones((2, 3)), spread=False)
+        ohms = batch.dc_resistance([("m", "0"), ("a", "m")], np.array([0, 1]))
+        # 10k || 10k = 5k to ground; across R1 with the source shorted: 10k || 10k (Ohm's law)
+        np.testing.assert_allclose(ohms, [[5e3, 5e3], [5e3, 5e3]], rtol=1e-9)
+
+    def test_a_scale_of_the_wrong_shape_is_refused(self):
+        with pytest.raises(SolveError):
+            solve_batch(self.divider(), samples=2, scale=np.ones((3, 3)))

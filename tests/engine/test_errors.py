@@ -60,6 +60,23 @@ class TestBadModels:
         with pytest.raises(ModelError, match="IS must be positive"):
             DeviceModel("mine", "diode", {"IS": -1e-14})
 
+    # The depletion capacitance CJO / (1 - V/VJ)^M is continued linearly above FC VJ with a
+    # factor 1 / (1 - FC): FC must stay below one (SPICE's junction model, from memory); a
+    # saturation current cannot be infinite; a junction's emission coefficient of a million
+    # and a current gain of a billion describe no part (real ones: N 1 to 4, BF up to a few
+    # thousand, from memory).
+    @pytest.mark.parametrize("kind, key, value", [
+        ("diode", "FC", 1.0), ("diode", "M", 1.5), ("npn", "MJE", 2.0),
+        ("diode", "IS", float("inf")), ("diode", "N", 1e6), ("npn", "BF", 1e9),
+        ("pnp", "NF", 0.0), ("opamp", "GBW", float("inf")),
+    ])
+    def test_parameter_out_of_range_is_named(self, kind, key, value):
+        with pytest.raises(ModelError, match=f"'mine': {key}"):
+            DeviceModel("mine", kind, {key: value})
+
+    def test_infinite_early_voltage_means_no_early_effect(self):
+        assert DeviceModel("mine", "npn", {"VAF": float("inf")}).get("VAF") == float("inf")
+
 
 class TestUnsolvable:
     def test_node_reached_only_through_a_capacitor(self):

@@ -34,3 +34,12 @@ def test_small_signals_pass():
 def test_a_clipper_without_diodes_is_refused():
     with pytest.raises(CircuitError, match="has no diodes"):
         make_kit(stage_block("clip", "diode-clipper", "series: R1 2k2"))
+
+
+def test_a_clipper_of_one_polarity_clips_that_one_and_passes_the_other():
+    # only the positive stack: a diode drop up (Horowitz & Hill 3e, 1.6.1), nothing down
+    kit = make_kit(stage_block("clip", "diode-clipper", "series: R1 2k2",
+                               "clip-positive: D1 1N4148"), load="10M")
+    up = solve_dc(kit.netlist().replaced("VIN", dc=5.0)).voltage("output")
+    down = solve_dc(kit.netlist().replaced("VIN", dc=-0.3)).voltage("output")
+    assert 0.55 < up < 0.8 and down == pytest.approx(-0.3, abs=0.01)

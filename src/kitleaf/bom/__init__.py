@@ -3,7 +3,7 @@
 from kitleaf.bom.lines import BomLine, bom_lines, natural_key
 from kitleaf.bom.order import BUILD_ORDER
 from kitleaf.bom.pinouts import PINOUTS, Pinout, pinout_for
-from kitleaf.bom.purchase import OrderLine, batch_order
+from kitleaf.bom.purchase import OrderLine, batch_order, parse_spares
 from kitleaf.bom.ratings import RatingWarning, rating_warnings
 from kitleaf.bom.writers import bom_csv, bom_text, order_csv, order_text
 
@@ -21,6 +21,7 @@ __all__ = [
     "natural_key",
     "order_csv",
     "order_text",
+    "parse_spares",
     "pinout_for",
     "rating_warnings",
 ]

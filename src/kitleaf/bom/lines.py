@@ -13,9 +13,25 @@ from kitleaf.bom.ratings import RatingWarning
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.marking import Band
+from kitleaf.specs.ratings import LIMITS
 
 # Attributes that change what is bought; any other word on a part line does not split a line.
 BUYING_ATTRS = ("dielectric", "taper", "package", "colour", "size", "shaft", "mount")
+# The voltage rating an unpolarised capacitor is bought at when its line states none (common
+# practice, no source); resistors and pots take the rating the checks assume for them.
+USUAL_CAP_RATING = {"ceramic": 50.0, "c0g": 50.0, "np0": 50.0, "x7r": 50.0,
+                    "film": 63.0, "polyester": 63.0, "polypropylene": 63.0}
+
+
+def buying_rating(part_type: str, rating: float | None, attrs) -> float | None:
+    """The rating a part is bought at: its own, else the usual one for its kind, so a line
+    that writes the usual rating out is the same part as one that leaves it to the default."""
+    if rating is not None:
+        return rating
+    if part_type == "capacitor":
+        return USUAL_CAP_RATING.get(dict(attrs).get("dielectric", ""))
+    limit = LIMITS.get(part_type)
+    return limit.assumed if limit else None
 
 
 @dataclass(frozen=True)
@@ -62,7 +78,8 @@ class BomLine:
     @property
     def key(self) -> tuple:
         """What makes two lines the same part to buy, in any guide."""
-        return (self.type, self.value, self.model, self.tolerance, self.rating, self.attrs,
+        return (self.type, self.value, self.model, self.tolerance,
+                buying_rating(self.type, self.rating, self.attrs), self.attrs,
                 self.value_text if self.type == "hardware" else "")
 
 
@@ -76,12 +93,14 @@ def natural_key(designator: str) -> tuple:
 def _group_key(part: Part) -> tuple:
     attrs = tuple((k, part.attrs[k]) for k in BUYING_ATTRS if k in part.attrs)
     text = part.text if part.type == "hardware" else ""
-    return (part.type, part.value, part.model, part.tolerance, part.rating, attrs, text)
+    rating = buying_rating(part.type, part.rating, attrs)
+    return (part.type, part.value, part.model, part.tolerance, rating, attrs, text)
 
 
 def _line(parts: list[Part]) -> BomLine:
     parts = sorted(parts, key=lambda p: natural_key(p.designator))
-    first = parts[0]
+    # Described as the part that writes its rating out, if one does: that is what is bought.
+    first = next((p for p in parts if p.rating is not None), parts[0])
     designators = tuple(p.designator for p in parts)
     found: PartDescription = describe(first)
     return BomLine(

@@ -9,6 +9,7 @@ with 10 % spares orders one spare.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
@@ -36,6 +37,16 @@ class OrderLine:
         return self.needed + self.spares
 
 
+def parse_spares(text: str) -> float:
+    """Spares per line as a fraction: "10%" -> 0.1, "0" or "0%" -> 0.0."""
+    match = re.fullmatch(r"\s*(\d+(?:\.\d*)?|\.\d+)\s*(%?)\s*", text)
+    if not match or (not match[2] and float(match[1]) != 0):
+        shown = text if len(text) <= 40 else text[:40] + "..."
+        raise KitleafError(f"--spares must be a percentage of 0% or more, such as 10%, "
+                           f"got {shown!r}")
+    return float(match[1]) / 100
+
+
 def _check(kits: int, spares: float) -> None:
     if isinstance(kits, bool) or not isinstance(kits, int) or kits <= 0:
         raise KitleafError(f"the number of kits must be a whole number of 1 or more, got {kits!r}")
@@ -48,6 +59,9 @@ def _merged(boms: Iterable[Sequence[BomLine]]) -> dict[tuple, tuple[BomLine, int
     for lines in boms:
         for line in lines:
             first, count = merged.get(line.key, (line, 0))
+            if first.rating is None and line.rating is not None:  # shown as the line that
+                # writes its rating out, if any
+                first = line
             merged[line.key] = (first, count + line.quantity)
     return merged
 

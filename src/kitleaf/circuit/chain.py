@@ -8,9 +8,10 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 from kitleaf.circuit.kind import Stage, StageKind
+from kitleaf.circuit.packages import unused_halves
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.stages import KINDS
-from kitleaf.engine import Circuit
+from kitleaf.engine import Circuit, get_model
 from kitleaf.engine.elements import terminals
 from kitleaf.errors import KitleafError
 
@@ -160,11 +161,25 @@ class KitCircuit:
         add_source(circuit, self.source)
         for stage in self.stages:
             nodes = self._nodes(stage)
-            if KINDS[stage.kind].signal:
-                nodes = _with_meters(circuit, stage.id, nodes)
+            if self.metered(stage):
+                nodes = _with_meters(circuit, stage.id, nodes, KINDS[stage.kind].signal)
             KINDS[stage.kind].build(stage, Wiring(circuit, stage, nodes, positions))
         circuit.resistor("RLOAD", OUTPUT, GROUND, self.load)
+        self._unused_halves(circuit)
         return circuit
+
+    def metered(self, stage: Stage) -> bool:
+        """Whether the stage draws its supply through its own meter (every stage but the
+        power section, whose draw is the rest of the kit's)."""
+        return not KINDS[stage.kind].provides_power
+
+    def _unused_halves(self, circuit: Circuit) -> None:
+        """The half of a dual op-amp no stage uses still draws its quiescent current (the
+        design rule unused-half asks for a stage that ties its inputs)."""
+        rail = "vcc" if self.has_power_stage else SUPPLY
+        for missing, used in unused_halves(self.parts()):
+            circuit.isource(f"{missing}.quiescent", rail, GROUND,
+                            dc=get_model(used.model).get("IQ"))
 
     def rails_used(self, stage: Stage) -> tuple[str, ...]:
         """Which of the power section's rails, ``vcc`` and ``vref``, the stage's parts join."""
@@ -200,12 +215,16 @@ def input_meter(stage_id: str) -> str:
     return f"{stage_id}.iinput"
 
 
-def _with_meters(circuit: Circuit, stage_id: str, nodes: dict[str, str]) -> dict[str, str]:
-    """Feed the stage's supply and input through 0 V sources, so their currents can be read."""
+def _with_meters(circuit: Circuit, stage_id: str, nodes: dict[str, str],
+                 signal: bool = True) -> dict[str, str]:
+    """Feed the stage's supply (and a signal stage's input) through 0 V sources, so their
+    currents can be read."""
     fed = dict(nodes)
-    fed["vcc"], fed["in"] = f"{stage_id}.vcc", f"{stage_id}.in"
+    fed["vcc"] = f"{stage_id}.vcc"
     circuit.vsource(supply_meter(stage_id), nodes["vcc"], fed["vcc"], dc=0.0)
-    circuit.vsource(input_meter(stage_id), nodes["in"], fed["in"], dc=0.0)
+    if signal:
+        fed["in"] = f"{stage_id}.in"
+        circuit.vsource(input_meter(stage_id), nodes["in"], fed["in"], dc=0.0)
     return fed
 
 

@@ -9,7 +9,7 @@ from types import MappingProxyType
 
 from kitleaf.circuit.parts import PART_QUANTITY, Part
 from kitleaf.errors import CircuitError, KitleafError, SourceSpan
-from kitleaf.guide.model import Entry
+from kitleaf.guide.model import DESIGNATOR, Entry
 from kitleaf.values import parse_rating, parse_tolerance, parse_value
 
 # Designator prefixes of the trade (common practice, no source), longest first.
@@ -43,7 +43,6 @@ DEFAULT_TOLERANCE = {
 }
 # What a rating on a part line means: a capacitor's voltage or a resistor's power.
 RATING_QUANTITY = {"capacitor": "voltage", "resistor": "power", "pot": "power"}
-_DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
 _KEYVALUE = re.compile(r"^([a-z][a-z0-9-]*)=(.+)$")
 
 
@@ -61,7 +60,7 @@ def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
     except ValueError:
         raise CircuitError(f"{where}: unbalanced quotes in {entry.value!r}", entry.span) from None
     words, nodes = split_nodes(words)
-    if len(words) < 2 or not _DESIGNATOR.match(words[0]):
+    if len(words) < 2 or not DESIGNATOR.match(words[0]):
         raise CircuitError(
             f"{where}: cannot read {entry.value!r}; write a designator and a value, "
             f"like '{EXAMPLES[accepted[0]]}'",
@@ -152,7 +151,7 @@ def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):
     low = word.lower()
     if low.endswith("%"):
         return parse_tolerance(word), rating
-    if low[-1:] in ("v", "w") and low[:1].isdigit():
+    if low[-1:] in ("v", "w") and low[:1] in "0123456789.-+":
         return tolerance, parse_rating(word, RATING_QUANTITY.get(part_type))
     if low in DIELECTRICS and part_type == "capacitor":
         _set_once(attrs, "dielectric", low, word)

@@ -1,23 +1,36 @@
 """``kitleaf build``: the whole site, written only if every guide succeeds, then a summary.
 
-With ``--strict`` a design-rule finding fails its guide too, printed as ``kitleaf check
---strict`` prints it; the findings come from the build's own solve of each guide.
+With ``--fail-on-findings`` a design-rule finding fails its guide too, printed as ``kitleaf
+check --fail-on-findings`` prints it; the findings come from the build's own solve of each guide.
 """
 
 from __future__ import annotations
 
+import argparse
 import sys
 
-from kitleaf.cli import command
+from kitleaf.commands import command
+from kitleaf.commands.options import (
+    add_build_options,
+    add_fail_on_findings,
+    cache_dir_of,
+    whole_at_least_one,
+)
+from kitleaf.errors import printable_line
 from kitleaf.site.build import BuildFailed, BuildReport, build_site
 from kitleaf.site.changes import summary_lines
 from kitleaf.site.manifest import MANIFEST_NAME
 
 
-def report_failure(failed: BuildFailed, strict: bool = False) -> int:
+def add_options(p: argparse.ArgumentParser) -> None:
+    add_build_options(p)
+    add_fail_on_findings(p, "nothing is published while one stands")
+
+
+def report_failure(failed: BuildFailed, fail_on_findings: bool = False) -> int:
     for error in failed.errors:
         print(error, file=sys.stderr)
-    why = " (--strict: design-rule findings count as errors)" if strict else ""
+    why = " (--fail-on-findings: design-rule findings count as errors)" * fail_on_findings
     print(f"kitleaf: {len(failed.errors)} guide(s) failed{why}; the published site is untouched",
           file=sys.stderr)
     return 1
@@ -47,25 +60,27 @@ def print_report(report: BuildReport, out) -> None:
 
 
 def warning_line(warning: str) -> str:
-    """A design-rule finding is already ``path:line: warning: ...``; other notes get the prefix."""
+    """A guide's warning as ``kitleaf check`` prints it: findings and notes are already
+    ``path:line: warning: ...`` behind the guide's path; anything else keeps the path."""
     path, _, rest = warning.partition(": ")
-    return rest if rest.startswith(f"{path}:") else f"warning: {warning}"
+    return printable_line(rest if rest.startswith(f"{path}:") else f"{path}: warning: {rest}")
 
 
 def build_options(args) -> dict:
     """Keyword arguments of build_site from the command line (``--jobs``, ``--no-cache``,
-    ``--strict``)."""
-    return {"jobs": getattr(args, "jobs", None),
+    ``--cache-dir`` or its variable, ``--fail-on-findings``)."""
+    return {"jobs": whole_at_least_one(getattr(args, "jobs", None), "--jobs"),
             "use_cache": not getattr(args, "no_cache", False),
-            "strict": getattr(args, "strict", False)}
+            "cache_dir": cache_dir_of(args),
+            "fail_on_findings": getattr(args, "fail_on_findings", False)}
 
 
-@command("build")
+@command("build", add_options)
 def run(args) -> int:
     options = build_options(args)
     try:
         report = build_site(args.guides, args.out, **options)
     except BuildFailed as failed:
-        return report_failure(failed, options["strict"])
+        return report_failure(failed, options["fail_on_findings"])
     print_report(report, args.out)
     return 0

@@ -2,11 +2,19 @@
 
 from __future__ import annotations
 
+import argparse
 import importlib.resources
+from pathlib import Path
 
-from kitleaf.cli import command
+from kitleaf.commands import command
 from kitleaf.errors import KitleafError, SourceSpan
 from kitleaf.guide.slug import slug_for
+
+
+def add_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("name", help='the kit\'s title, such as "Fern Fuzz" (its file: fern-fuzz.md)')
+    p.add_argument("--dir", default=Path("guides"), type=Path,
+                   help="the folder to write into (default: guides/)")
 
 
 def starter_text(title: str, code: str) -> str:
@@ -14,15 +22,15 @@ def starter_text(title: str, code: str) -> str:
     return template.replace("@TITLE@", title).replace("@CODE@", code)
 
 
-@command("new")
+@command("new", add_options)
 def run(args) -> int:
     slug = slug_for(args.name)
     if not slug:
         raise KitleafError(f"cannot make a file name from {args.name!r}; use letters or digits")
     path = args.dir / f"{slug}.md"
     if path.exists():
-        raise KitleafError(f"{path} exists already; pick another name or edit it",
-                           SourceSpan(str(path), 1))
+        raise KitleafError("a guide of that name exists already; pick another name or edit it",
+                           SourceSpan(str(path)))
     args.dir.mkdir(parents=True, exist_ok=True)
     code = "".join(w[0] for w in slug.split("-")).upper()[:3] + "-1"
     path.write_text(starter_text(args.name, code), encoding="utf-8")

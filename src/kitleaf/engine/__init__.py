@@ -1,18 +1,40 @@
-"""The circuit engine: modified nodal analysis on numpy, a netlist in and solved figures out."""
+"""The circuit engine: modified nodal analysis on numpy, a netlist in and solved figures out.
 
-from kitleaf.engine.ac import AcResult, solve_ac
-from kitleaf.engine.batch import BatchResult, solve_batch
-from kitleaf.engine.circuit import Circuit
-from kitleaf.engine.dc import OperatingPoint, solve_dc
-from kitleaf.engine.elements import TAPERS, taper_fraction
-from kitleaf.engine.measure import band_gain_db, corners, gain_db_at, phase_deg_at
-from kitleaf.engine.models import DeviceModel, get_model, register_model, registered_models
-from kitleaf.engine.montecarlo import McResult, Spread, monte_carlo
-from kitleaf.engine.ports import PoleResidue
+A base library: it imports nothing of kitleaf but :mod:`kitleaf.errors`. Its public names are
+read from their modules on first use, so a caller that only builds a netlist (the bill of
+materials, say) does not pay for numpy, scipy and the solvers at start-up.
+"""
 
-__all__ = [
-    "TAPERS", "AcResult", "BatchResult", "Circuit", "DeviceModel", "McResult", "OperatingPoint",
-    "PoleResidue", "Spread", "band_gain_db", "corners", "gain_db_at", "get_model", "monte_carlo",
-    "phase_deg_at", "register_model", "registered_models", "solve_ac", "solve_batch", "solve_dc",
-    "taper_fraction",
-]
+from __future__ import annotations
+
+import importlib
+
+# Public name -> the module of this package that defines it.
+_HOMES = {
+    "AcResult": "ac", "solve_ac": "ac",
+    "BatchResult": "batch", "solve_batch": "batch",
+    "Circuit": "circuit",
+    "OperatingPoint": "dc", "solve_dc": "dc",
+    "TAPERS": "elements", "taper_fraction": "elements",
+    "band_gain_db": "measure", "corners": "measure", "gain_db_at": "measure",
+    "phase_deg_at": "measure",
+    "DeviceModel": "models", "get_model": "models", "register_model": "models",
+    "registered_models": "models",
+    "McResult": "montecarlo", "Spread": "montecarlo", "monte_carlo": "montecarlo",
+    "PoleResidue": "ports",
+}
+
+__all__ = sorted(_HOMES)
+
+
+def __getattr__(name: str):
+    home = _HOMES.get(name)
+    if home is None:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    value = getattr(importlib.import_module(f"{__name__}.{home}"), name)
+    globals()[name] = value  # later look-ups skip this function
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_HOMES))

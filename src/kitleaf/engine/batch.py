@@ -16,12 +16,14 @@ import numpy as np
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.ac import small_signal
+from kitleaf.engine.batch_lu import solve_many
 from kitleaf.engine.compile import Layout, System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
 from kitleaf.engine.ports import PoleResidue, modal, port_form
 from kitleaf.engine.reduce import partition, solve_reduced
+from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
 from kitleaf.errors import SolveError
 
 FREQ_CHUNK = 24  # frequencies per direct batched solve, to bound memory on large circuits
@@ -66,6 +68,26 @@ class BatchResult:
             raise SolveError(f"{name!r} is not a voltage source or inductor of the circuit")
         return self.x[:, self.layout.branch(name)].copy()
 
+    def reports(self, name: str) -> tuple[dict, ...]:
+        """Device ``name``'s operating-point figures (region, currents, voltages) in each
+        sample, as :func:`~kitleaf.engine.solve_dc` reports them."""
+        xe = extend(self.x)
+        for bank in self.problem.devices.banks:
+            if name in bank.names:
+                d, v = bank.names.index(name), bank.junctions(xe)
+                return tuple(_one_sample(bank, k).report(v[k:k + 1], xe[k:k + 1], d)
+                             for k in range(self.size))
+        raise SolveError(f"no semiconductor or op-amp named {name!r}")
+
+    def factor(self, name: str) -> np.ndarray:
+        """The multiplier each sample drew for part ``name``'s value (ones when nominal)."""
+        names = [e.name for e in self.system.elements]
+        if name not in names:
+            raise SolveError(f"no part named {name!r} in the circuit")
+        if self.factors is None:
+            return np.ones(self.size)
+        return self.factors[:, names.index(name)].copy()
+
     def excitation(self, source: str, amplitude: float = 1.0) -> np.ndarray:
         """The right-hand side (n,) with ``source`` alone at ``amplitude``."""
         if source not in self.system.stamper.source_cols:
@@ -79,18 +101,35 @@ class BatchResult:
         shape = (self.size, *g.shape[1:])
         return np.broadcast_to(g, shape).copy(), np.broadcast_to(c, shape).copy()
 
+    def dc_resistance(self, pairs: list[tuple[str, str]], samples: np.ndarray) -> np.ndarray:
+        """The small-signal DC resistance (k, pairs) between each pair of nodes of the
+        chosen ``samples`` (k,), with every source at rest: what a meter across them sees."""
+        problem = self.problem.take(samples)
+        factors = None if self.factors is None else self.factors[samples]
+        g, _, _, _ = small_signal(self.system, problem.devices, self.x[samples], factors)
+        rhs = np.zeros((samples.size, self.layout.size, len(pairs)))
+        for k, (a, b) in enumerate(pairs):
+            for node, sign in ((a, 1.0), (b, -1.0)):
+                if (row := self.row(node)) is not None:
+                    rhs[:, row, k] += sign
+        v = solve_many(np.broadcast_to(g, (samples.size, *g.shape[1:])).copy(), rhs)
+        return np.einsum("snk,snk->sk", rhs, v)
+
     def solve_ac(self, freqs, rhs: np.ndarray, opened: str | None = None,
                  samples: np.ndarray | None = None) -> np.ndarray:
         """Complex unknowns (samples, F, n) by direct solve; ``freqs`` (F,) or (samples, F).
 
         ``opened`` names a voltage source whose branch is forced to carry no current (the
-        source taken out); ``samples`` restricts the solve to those sample indices."""
+        source taken out); ``samples`` restricts the solve to those sample indices. A large
+        circuit is solved sparsely (see :mod:`~kitleaf.engine.sparse_ac`)."""
+        k = None if opened is None else self.layout.branch(opened)
+        if self.layout.size >= SPARSE_SIZE:
+            return self._sparse.solve(freqs, rhs, k, samples)
         g, c = self.matrices
         if samples is not None:
             g, c = g[samples], c[samples]
         f = np.asarray(freqs, float)
         f = np.broadcast_to(f, (g.shape[0], f.shape[-1]))
-        k = None if opened is None else self.layout.branch(opened)
         parts = []
         for start in range(0, f.shape[1], FREQ_CHUNK):
             s = 2j * np.pi * f[:, start:start + FREQ_CHUNK]
@@ -100,6 +139,10 @@ class BatchResult:
                 a[:, :, k, k] = 1.0
             parts.append(solve_stack(a, np.broadcast_to(rhs.astype(complex), a.shape[:-1])))
         return np.concatenate(parts, axis=1)
+
+    @cached_property
+    def _sparse(self) -> SparseAc:
+        return SparseAc(self.system, self.problem.devices, self.x, self.factors)
 
     def impedance(self, node: str, freqs, opened: str | None = None) -> np.ndarray:
         """Driving-point impedance (samples, F) from ``node`` to ground, sources at rest."""
@@ -119,9 +162,12 @@ class BatchResult:
 
 def solve_batch(circuit, samples: int | None = None, seed: int = 1,
                 distribution: str = "uniform", start: np.ndarray | None = None,
-                nominal: BatchResult | None = None) -> BatchResult:
+                nominal: BatchResult | None = None, scale: np.ndarray | None = None,
+                spread: bool = True) -> BatchResult:
     """The circuit's nominal operating point (``samples`` None: a batch of one) or
-    ``samples`` seeded variants within part tolerances and device spreads.
+    ``samples`` seeded variants within part tolerances and device spreads; ``scale``
+    (samples, elements) multiplies each sample's drawn part values (1 leaves a part alone),
+    and without ``spread`` the samples are the nominal parts changed by ``scale`` alone.
 
     Newton starts every sample at the nominal operating point, or at ``start`` (samples, n):
     the same samples solved in a nearby state (another knob position, say). ``nominal`` is
@@ -136,7 +182,10 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
         if distribution not in DISTRIBUTIONS or samples < 1:
             raise SolveError(f"a batch needs samples >= 1 and a distribution in "
                              f"{DISTRIBUTIONS}")
-        problem, factors, _ = draw_problem(system, samples, seed, distribution)
+        if scale is not None and scale.shape != (samples, len(system.elements)):
+            raise SolveError(f"scale must be (samples, elements) = ({samples}, "
+                             f"{len(system.elements)}), got {scale.shape}")
+        problem, factors, _ = draw_problem(system, samples, seed, distribution, scale, spread)
         state = _started(system, problem, samples, start, nominal)
         solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),
@@ -187,6 +236,12 @@ def _from_nominal(system: System, problem: Problem, samples: int,
     state = state_at(problem, samples, nominal.x, nominal.vstar)
     state.chord = nominal.chord
     return state
+
+
+def _one_sample(bank, k: int):
+    """``bank`` with sample ``k``'s parameters alone (a device's report reads sample 0)."""
+    return bank.with_params(**{key: v[k:k + 1] for key, v in bank.params.items()
+                               if v.shape[0] > 1})
 
 
 def _device_params(problem: Problem, samples: int) -> dict:

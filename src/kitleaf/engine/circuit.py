@@ -89,6 +89,10 @@ class Circuit:
                           for k, v in self._elements.items()}
         return copy
 
+    def add(self, element: el.Element) -> Circuit:
+        """Add a ready-made element (one taken from another circuit, say)."""
+        return self._add(element)
+
     def _add(self, element: el.Element) -> Circuit:
         if not isinstance(element.name, str) or not element.name:
             raise ModelError(f"a part needs a name, got {element.name!r}")

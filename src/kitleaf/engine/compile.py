@@ -105,6 +105,11 @@ class System:
         return (st.g_pat.matrix(len(st.g_cols.nominal)), st.c_pat.matrix(len(st.c_cols.nominal)),
                 st.b_pat.matrix(len(st.b_cols.nominal)))
 
+    @property
+    def stamp_maps(self) -> tuple[StampMap, StampMap]:
+        """G's and C's stamp maps, from value columns to the flattened n x n matrices."""
+        return self._patterns[0], self._patterns[1]
+
     def matrices(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """Batched linear G and C, shape (samples, n, n); ``factors`` scales toleranced parts."""
         st, n = self.stamper, self.layout.size

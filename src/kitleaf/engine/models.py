@@ -46,6 +46,18 @@ DEFAULTS: dict[str, dict[str, float]] = {
 _NON_NEGATIVE = {"ISE", "ISC", "RS", "RB", "RE", "RC", "RD", "CJO", "CJE", "CJC", "CGS", "CGD",
                  "TT", "TF", "LAMBDA", "SWING_HI", "SWING_LO", "CM_HI", "CM_LO", "IQ", "M"}
 _ANY_SIGN = {"VTO", "IB"}  # a threshold; a bias current that flows out of a PNP input
+# Parameters whose infinity means "effect off"; every other one must be finite.
+_MAY_BE_INFINITE = {"VAF", "VAR", "IKF", "IKR", "BV"}
+# Bounds beyond which a parameter is absurd or breaks the model's equations (low, high; the
+# high end excluded): the depletion capacitance divides by 1 - FC and is meant for gradings
+# below one (SPICE clamps FC at 0.95 and grading at 0.9, from memory); emission coefficients
+# of real junctions lie between about 1 and 4 and current gains below a few thousand
+# (from memory), so a hundredfold beyond either is a typing slip, not a part.
+_RANGES = {
+    "FC": (0.0, 1.0), "M": (0.0, 1.0), "MJE": (0.0, 1.0), "MJC": (0.0, 1.0),
+    "N": (0.1, 100.0), "NF": (0.1, 100.0), "NR": (0.1, 100.0), "NE": (0.1, 100.0),
+    "NC": (0.1, 100.0), "BF": (0.0, 1e6), "BR": (0.0, 1e6), "AOL": (0.0, 1e12),
+}
 # Spread keys that are not model parameters: IDSS sets BETA = IDSS / VTO**2.
 _DERIVED_SPREADS = {"njf": {"IDSS"}, "pjf": {"IDSS"}}
 PROVENANCES = ("datasheet typical", "textbook", "from memory", "user")
@@ -93,12 +105,22 @@ def _check_param(model: DeviceModel, key: str, value: float) -> None:
         raise ModelError(f"model {model.name!r}: {key!r} is not a {model.kind} parameter")
     if not isinstance(value, int | float) or math.isnan(value):
         raise ModelError(f"model {model.name!r}: {key} must be a number, got {value!r}")
+    _check_range(model, key, value)
     if key in _ANY_SIGN:
         return
     if key in _NON_NEGATIVE and value < 0:
         raise ModelError(f"model {model.name!r}: {key} must not be negative, got {value!r}")
     if key not in _NON_NEGATIVE and value <= 0:
         raise ModelError(f"model {model.name!r}: {key} must be positive, got {value!r}")
+
+
+def _check_range(model: DeviceModel, key: str, value: float) -> None:
+    if math.isinf(value) and key not in _MAY_BE_INFINITE:
+        raise ModelError(f"model {model.name!r}: {key} must be finite, got {value!r}")
+    if key in _RANGES and not _RANGES[key][0] <= value < _RANGES[key][1]:
+        low, high = _RANGES[key]
+        raise ModelError(f"model {model.name!r}: {key} = {value!r} is outside its range, "
+                         f"from {low:g} up to (not including) {high:g}")
 
 
 _REGISTRY: dict[str, DeviceModel] = {}

@@ -187,13 +187,21 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
     return McResult(samples, seed, distribution, dc, response, circuit, factors, draws)
 
 
-def draw_problem(system: System, samples: int | None, seed: int, distribution: str):
+def draw_problem(system: System, samples: int | None, seed: int, distribution: str,
+                 scale: np.ndarray | None = None, spread: bool = True):
     """The DC problem of ``samples`` seeded draws (None: the nominal parts), with the part
-    factors (None when nominal) and the drawn device parameters."""
+    factors (None when nominal) and the drawn device parameters; ``scale`` (samples,
+    elements) multiplies the drawn factors (a part changed in some samples); without
+    ``spread`` the parts stay nominal and only ``scale`` changes them."""
     if samples is None:
         return problem_for(system), None, {}
+    if not spread:
+        factors = np.ones((samples, len(system.elements))) if scale is None else scale
+        return problem_for(system, factors), factors, {}
     rng = np.random.default_rng(seed)
     factors = part_factors(system, rng, samples, distribution)
+    if scale is not None:
+        factors = factors * scale
     draws: dict = {}
     problem = problem_for(system, factors, device_banks(system, rng, samples, draws))
     return problem, factors, draws

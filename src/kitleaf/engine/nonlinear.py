@@ -20,7 +20,8 @@ class Devices:
             n_d = _stamp_jacobian(jacobian, bank, n_d)
             n_c = _stamp_caps(caps, bank, n_c)
         # currents and Jacobian in one product: one call per step instead of two
-        self._both = stacked(currents.matrix(n_i), jacobian.matrix(n_d))
+        self.jacobian_map, self.current_map = jacobian.matrix(n_d), currents.matrix(n_i)
+        self._both = stacked(self.current_map, self.jacobian_map)
         self.cap_map = caps.matrix(n_c)
 
     def with_banks(self, banks: list[Bank]) -> Devices:
@@ -46,6 +47,19 @@ class Devices:
         n = self.size
         both = apply(np.concatenate(i_cols + d_cols, axis=1), self._both, (n + n * n,))
         return both[:, :n], both[:, n:].reshape(samples, n, n)
+
+    def currents(self, v: list[np.ndarray]) -> np.ndarray:
+        """Node currents (s, n) of every device at junction voltages ``v``, without the
+        Jacobian (s, n, n) that :meth:`linearise` forms beside them."""
+        cols = [(bank.evaluate(vb)[0] * bank.polarity).reshape(vb.shape[0], -1)
+                for bank, vb in zip(self.banks, v, strict=True)]
+        return apply(np.concatenate(cols, axis=1), self.current_map, (self.size,))
+
+    def slopes(self, v: list[np.ndarray]) -> np.ndarray:
+        """Every device's Jacobian entries (s, columns of :attr:`jacobian_map`) at junction
+        voltages ``v``: the device part of the Jacobian without forming it n x n."""
+        return np.concatenate([bank.evaluate(vb)[1].reshape(vb.shape[0], -1)
+                               for bank, vb in zip(self.banks, v, strict=True)], axis=1)
 
     def cap_values(self, v: list[np.ndarray]) -> np.ndarray:
         """Every device capacitance (s, m) at junction voltages ``v``."""

@@ -147,7 +147,7 @@ class Reduced:
             x[:, part.fixed_branch] = np.nan
             return x
         v = full.devices.junctions(full.extend(x))
-        device_currents, _ = full.devices.linearise(v, v)
+        device_currents = full.devices.currents(v)
         residual = np.einsum("sij,sj->si", full.g[:, part.fixed, :], x) + device_currents[
             :, part.fixed] - full.b[:, part.fixed]
         coeff = full.g[0, part.fixed, part.fixed_branch]

@@ -83,6 +83,9 @@ class VectorPattern:
 
 
 DENSE_ENTRIES = 4096  # a map this small is quicker applied as a dense product
+# ... and so is a single sample's, up to this size: the dense map holds columns x n^2 values,
+# cubic in the circuit (a forty-stage kit's would take 650 MB)
+DENSE_SINGLE = 1 << 20
 
 
 class StampMap:
@@ -99,7 +102,8 @@ class StampMap:
 
     def apply(self, values: np.ndarray) -> np.ndarray:
         rows, cols, signs = self._coords
-        if values.shape[0] == 1 or self.shape[0] * self.shape[1] <= DENSE_ENTRIES:
+        entries = self.shape[0] * self.shape[1]
+        if entries <= DENSE_ENTRIES or values.shape[0] == 1 and entries <= DENSE_SINGLE:
             if self._dense_t is None:
                 self._dense_t = np.zeros(self.shape[::-1])
                 np.add.at(self._dense_t, (cols, rows), signs)
@@ -107,6 +111,18 @@ class StampMap:
         if self._sparse is None:
             self._sparse = sp.csr_matrix((signs, (rows, cols)), shape=self.shape)
         return np.asarray(self._sparse @ values.T).T
+
+    def entries(self) -> np.ndarray:
+        """The flattened matrix positions this map can write, sorted."""
+        return np.unique(self._coords[0])
+
+    def onto(self, entries: np.ndarray) -> sp.csr_matrix:
+        """The map narrowed to ``entries`` (sorted, holding all of :meth:`entries`): values
+        (samples, columns) go to (samples, len(entries)) by ``(map @ values.T).T``, so a
+        large matrix is never formed whole."""
+        rows, cols, signs = self._coords
+        return sp.csr_matrix((signs, (np.searchsorted(entries, rows), cols)),
+                             shape=(entries.size, self.shape[1]))
 
 
 def stacked(top: StampMap, bottom: StampMap) -> StampMap:

@@ -48,6 +48,20 @@ def make_block(info: str, body: str, path: str, fence_line: int) -> Block:
     return Block(name, argument, entries, SourceSpan(path, fence_line))
 
 
+def at_most_once(block: Block, key: str, what: str) -> Entry | None:
+    """The entry ``key`` of ``block`` or None; an error if it is given twice or left empty."""
+    found = block.all(key)
+    if len(found) > 1:
+        raise GuideError(
+            f"{what} gives '{key}:' twice (first at line {found[0].span.line}); keep one",
+            found[1].span,
+        )
+    if found and not found[0].value:
+        raise GuideError(f"'{key}:' is empty; write its value after it or drop the line",
+                         found[0].span)
+    return found[0] if found else None
+
+
 def require_single(block: Block, key: str, what: str) -> Entry:
     """The one entry ``key`` of ``block``; an error naming the block if missing or repeated."""
     found = block.all(key)

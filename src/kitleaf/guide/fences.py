@@ -18,25 +18,49 @@ def block_header(info: str) -> tuple[str, str]:
     return name, argument.strip()
 
 
-def is_ours(token: Token, path: str) -> bool:
+def is_ours(token: Token, lines: list[str], path: str) -> bool:
     """Whether ``token`` is a kit or stage block; an error for one that almost is.
 
-    A misspelt or capitalised name (```Stage, ```stgae) would turn a stage into a code sample
-    without a word, and a block inside a quote or a list would be cut out of its container
-    when the page is assembled, so both are refused at the fence's line.
+    A misspelt or capitalised name (```Stage, ```stgae) or a fence indented into a code block
+    would turn a stage into a code sample without a word, a block inside a quote or a list
+    would be cut out of its container when the page is assembled, and a fence never closed
+    swallows the rest of the guide: each is refused at the fence's line. ``lines`` are the
+    guide's lines, to see whether the fence was closed.
     """
-    if token.type != "fence" or token.map is None:
+    if token.map is None or token.type not in ("fence", "code_block"):
         return False
-    name = block_header(token.info)[0]
     # token.map is 0-based; the fence line itself is map[0] + 1 in 1-based lines.
     span = SourceSpan(path, token.map[0] + 1)
+    if token.type == "code_block":
+        _refuse_indented(token.content, span)
+        return False
+    name = block_header(token.info)[0]
     if name not in BLOCK_NAMES:
         _refuse_near_miss(name, span)
         return False
     if token.level > 0:
         raise GuideError(f"a {name} block cannot stand inside a quote or a list; start its "
                          "fence at the beginning of a line, outside any '>' or list item", span)
+    _refuse_unclosed(token, lines, name, span)
     return True
+
+
+def _refuse_indented(content: str, span: SourceSpan) -> None:
+    first = content.lstrip().split("\n", 1)[0]
+    name = block_header(first.lstrip("`~"))[0] if first[:3] in ("```", "~~~") else ""
+    if name in BLOCK_NAMES:
+        raise GuideError(f"this {name} block is indented four spaces or more, so it reads as a "
+                         "code sample; start its fence at the beginning of the line", span)
+
+
+def _refuse_unclosed(token: Token, lines: list[str], name: str, span: SourceSpan) -> None:
+    """A fence runs to its closing line, or to the end of the guide when there is none."""
+    last = lines[token.map[1] - 1].strip() if token.map[1] - 1 < len(lines) else ""
+    closed = token.map[1] - token.map[0] > 1 and last.startswith(token.markup) \
+        and not last.strip(token.markup[0])
+    if not closed:
+        raise GuideError(f"this {name} block is never closed; end it with a line of "
+                         f"{token.markup} after its last entry", span)
 
 
 def _refuse_near_miss(name: str, span: SourceSpan) -> None:

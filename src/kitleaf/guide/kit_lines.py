@@ -5,10 +5,9 @@ from __future__ import annotations
 import re
 
 from kitleaf.errors import GuideError
-from kitleaf.guide.model import Block, Entry, Knob
+from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob
 from kitleaf.guide.slug import slug_for
 
-_DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
 _CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
 _HOURS = re.compile(r"^(\d+(?:\.\d*)?)\s*(?:h|hours?)$")
 
@@ -27,7 +26,7 @@ def read_knobs(entries: tuple[Entry, ...]) -> tuple[Knob, ...]:
 def read_knob(entry: Entry) -> Knob:
     name, sep, designator = entry.value.partition("=")
     name, designator = name.strip(), designator.strip()
-    if not sep or not name or not _DESIGNATOR.match(designator):
+    if not sep or not name or not DESIGNATOR.match(designator):
         raise GuideError(
             f"cannot read knob {entry.value!r}; write the knob's name and its pot, "
             "like 'Gain = VR1'",

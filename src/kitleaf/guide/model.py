@@ -2,9 +2,13 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 from kitleaf.errors import SourceSpan
+
+# A designator as the trade writes it (R3, LED1, U1A, ENC1), of a length a silk screen holds.
+DESIGNATOR = re.compile(r"^[A-Z]{1,6}[0-9]{1,5}[A-Z]?$")
 
 
 @dataclass(frozen=True)
@@ -81,6 +85,7 @@ class KitBlock:
     extra: tuple[Entry, ...]
     span: SourceSpan
     supply_span: SourceSpan | None = None  # the 'supply:' line
+    code_span: SourceSpan | None = None  # the 'code:' line
 
 
 @dataclass(frozen=True)

@@ -8,10 +8,10 @@ from pathlib import Path
 from markdown_it import MarkdownIt
 
 from kitleaf.errors import GuideError, SourceSpan
-from kitleaf.guide.blocks import make_block, require_single
+from kitleaf.guide.blocks import at_most_once, make_block, require_single
 from kitleaf.guide.fences import is_ours
 from kitleaf.guide.kit_lines import check_battery, read_knobs
-from kitleaf.guide.model import Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
+from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
 from kitleaf.guide.slug import guide_slug
 from kitleaf.guide.source import checked_text, read_text
 
@@ -19,11 +19,13 @@ KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow",
 }
+# Optional kit keys that may be given once (a second line would be silently ignored).
+SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
 EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
-_ID = re.compile(r"^[a-z][a-z0-9-]*$")
-_DESIGNATOR = re.compile(r"^[A-Z]+[0-9]+[A-Z]?$")
+# Stage ids name files of the site: short, plain names.
+_ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")
 
 
 def markdown_parser() -> MarkdownIt:
@@ -54,8 +56,9 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
 
 def find_blocks(text: str, path: str):
     """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
+    lines = text.splitlines()
     for token in markdown_parser().parse(text):
-        if is_ours(token, path):
+        if is_ours(token, lines, path):
             yield make_block(token.info, token.content, path, token.map[0] + 1)
 
 
@@ -66,12 +69,13 @@ def read_stage(block: Block) -> StageBlock:
                          block.span)
     if not _ID.match(stage_id):
         raise GuideError(
-            f"stage id {stage_id!r} must be lower-case letters, digits and hyphens, like 'boost'",
+            f"stage id {stage_id!r} must be lower-case letters, digits and hyphens (at most 40), "
+            "like 'boost'",
             block.span,
         )
     what = f"stage '{stage_id}'"
     kind = require_single(block, "kind", what)
-    title = block.first("title")
+    title = at_most_once(block, "title", what)
     rest = tuple(e for e in block.entries if e.key not in ("kind", "title"))
     return StageBlock(stage_id, kind.value.strip(), title.value if title else stage_id,
                       rest, block.span, kind.span)
@@ -98,18 +102,22 @@ def read_kit(block: Block) -> KitBlock:
                 entry.span,
             )
     value = {k: _required(block, k) for k in ("title", "code", "supply")}
-    optional = {k: (block.first(k).value if block.first(k) else "")
-                for k in ("revision", "summary")}
+    once = {k: at_most_once(block, k, "the kit block") for k in SINGLE_KEYS}
+    for caution in block.all("caution"):
+        if not caution.value:
+            raise GuideError("'caution:' is empty; write the caution after it or drop the line",
+                             caution.span)
     check_battery(block)
     return KitBlock(
         title=value["title"].value, code=value["code"].value, supply=value["supply"].value,
-        revision=optional["revision"] or "A", summary=optional["summary"],
+        revision=once["revision"].value if once["revision"] else "A",
+        summary=once["summary"].value if once["summary"] else "",
         knobs=read_knobs(block.all("knob")),
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
-        source=block.first("source"), load=block.first("load"), order=block.first("order"),
+        source=once["source"], load=once["load"], order=once["order"],
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
-        span=block.span, supply_span=value["supply"].span,
+        span=block.span, supply_span=value["supply"].span, code_span=value["code"].span,
     )
 
 
@@ -123,7 +131,7 @@ def _required(block: Block, key: str) -> Entry:
 
 def read_hardware(entry) -> HardwareLine:
     designator, _, description = entry.value.strip().partition(" ")
-    if not _DESIGNATOR.match(designator) or not description.strip():
+    if not DESIGNATOR.match(designator) or not description.strip():
         raise GuideError(
             f"cannot read hardware {entry.value!r}; write a designator and what it is, "
             "like 'J1 input jack, 6.35 mm mono'",

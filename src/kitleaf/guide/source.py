@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 from kitleaf.errors import GuideError, SourceSpan
@@ -10,6 +11,10 @@ from kitleaf.errors import GuideError, SourceSpan
 # not a guide, and Markdown parsing time grows with it.
 LARGEST_GUIDE = 2_000_000
 _BOM = "\ufeff"
+# Control characters (an escape sequence, a backspace, a NUL) and the bidirectional overrides
+# that make text read other than it is stored: none belongs in a guide. Tab, line ends and
+# form feed are a text file's own.
+_HIDDEN = re.compile("[\x00-\x08\x0b\x0e-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
 
 
 def read_text(path: Path) -> str:
@@ -38,11 +43,15 @@ def decoded(data: bytes, path: str) -> str:
 
 
 def checked_text(text: str, path: str) -> str:
-    """``text`` without a leading byte-order mark; a NUL character means a binary file."""
+    """``text`` without a leading byte-order mark; a control character is refused at its line
+    (a NUL means a binary file)."""
     text = text.removeprefix(_BOM)
-    nul = text.find("\x00")
-    if nul >= 0:
-        line = text.count("\n", 0, nul) + 1
+    found = _HIDDEN.search(text)
+    if found is None:
+        return text
+    span = SourceSpan(path, text.count("\n", 0, found.start()) + 1)
+    if found[0] == "\x00":
         raise GuideError("the file holds a NUL character, so it is not a text guide; save the "
-                         "guide as plain UTF-8 text", SourceSpan(path, line))
-    return text
+                         "guide as plain UTF-8 text", span)
+    raise GuideError(f"the line holds the control character {found[0]!r}, which shows as "
+                     "nothing or rewrites the terminal; delete it", span)

@@ -8,6 +8,7 @@ from pathlib import Path
 import jinja2
 
 from kitleaf.display import FORMATTERS
+from kitleaf.render.verdicts import check_rows
 
 DEFAULT_THEME = "default"
 
@@ -38,4 +39,5 @@ def make_environment(themes: list[Path]) -> jinja2.Environment:
         lstrip_blocks=True,
     )
     env.filters.update(FORMATTERS)
+    env.globals["check_rows"] = check_rows
     return env

@@ -19,7 +19,7 @@ from markdown_it.rules_inline import StateInline
 
 from kitleaf.display import range_text
 from kitleaf.errors import SourceSpan
-from kitleaf.render.prose import PLUGINS
+from kitleaf.render.prose import register_plugin
 from kitleaf.specs.lookup import Computed, lookup
 
 TOKEN = "computed_value"
@@ -80,11 +80,10 @@ def _render(renderer, tokens, idx, options, env) -> str:
     return f'<span class="computed" title="{title}">{shown}</span>'
 
 
+@register_plugin("computed-values")
 def computed_values_plugin(md: MarkdownIt) -> None:
     """Register the ``{=name}`` syntax on a parser (``md.use`` style)."""
     md.inline.ruler.before("link", TOKEN, _reference)
     md.core.ruler.after("inline", f"{TOKEN}_resolve", _resolve)
     md.add_render_rule(TOKEN, _render)
 
-
-PLUGINS["computed-values"] = computed_values_plugin

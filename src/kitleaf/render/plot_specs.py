@@ -47,7 +47,12 @@ def _title(specs: KitSpecs, knob: str, count: int) -> str:
         return ""
     if not others:
         return f"{knob} knob turned"
-    return f"{knob} knob turned, {' and '.join(others)} at 50 %"
+    return f"{knob} knob turned, {_listed(others)} at 50 %"
+
+
+def _listed(names: list[str]) -> str:
+    """Names as a sentence lists them: "Gain", "Gain and Tone", "Gain, Tone and Level"."""
+    return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} and {names[-1]}"
 
 
 def _corners(low: Range | None, high: Range | None) -> tuple[tuple[float, str], ...]:

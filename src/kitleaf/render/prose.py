@@ -5,24 +5,38 @@ from __future__ import annotations
 import re
 from collections.abc import Callable
 from dataclasses import dataclass
+from urllib.parse import unquote
 
 from markdown_it import MarkdownIt
 
 from kitleaf.guide.fences import BLOCK_NAMES, block_header
 from kitleaf.guide.parse import markdown_parser
+from kitleaf.registry import add, load
 
 # Markdown plugins by name: a plugin takes the parser and returns nothing (``md.use`` style).
 PLUGINS: dict[str, Callable[[MarkdownIt], None]] = {}
+# The modules of kitleaf.render defining plugins, in the order the parser uses them (see
+# kitleaf.registry); loaded when a renderer is made, since they import this module.
+MODULES = ("inline", "placement")
 # NUL cannot come from guide text (CommonMark replaces it), so these markers are safe to split on.
-_MARK = re.compile("\x00(kit|stage):([a-z0-9-]*)\x00")
+_MARK = re.compile("\x00(kit|stage|section):([a-z0-9-]*)\x00")
+# The URL schemes a link or image in prose may name; a link to any other (javascript:, data:,
+# vbscript:, file:) stays plain text. A URL without a scheme is a path from the page.
+LINK_SCHEMES = frozenset({"http", "https", "mailto"})
+_SCHEME = re.compile(r"([a-z][a-z0-9+.-]*):", re.IGNORECASE)
+# What a browser drops from a URL before it reads the scheme ("java\tscript:" is javascript:);
+# judged after percent-decoding too, so no encoding of it passes as a path.
+_IGNORED_IN_URL = re.compile(r"[\x00-\x20\x7f]")
 
 
 @dataclass(frozen=True)
 class Piece:
-    """A run of rendered prose (``kind == "html"``) or the place of a block (``kit``/``stage``)."""
+    """A run of rendered prose (``kind == "html"``), the place of a block (``kit``/``stage``) or
+    of a computed section (``section``); ``headed`` when it follows a heading of the maker's."""
 
     kind: str
     content: str
+    headed: bool = False
 
 
 def prose_renderer() -> MarkdownIt:
@@ -37,15 +51,25 @@ def prose_renderer() -> MarkdownIt:
         return default_fence(tokens, idx, options, env)
 
     md.add_render_rule("fence", fence)
-    _load_plugins()
+    md.validateLink = safe_link
+    load("kitleaf.render", MODULES)  # imported once; later calls find them loaded
     for plugin in PLUGINS.values():
         md.use(plugin)
     return md
 
 
-def _load_plugins() -> None:
-    # Our own plugins register themselves in PLUGINS when their module is imported.
-    import kitleaf.render.inline  # noqa: F401
+def register_plugin(name: str):
+    """Decorator: make a plugin function available to the prose renderer as ``name``."""
+    def register(plugin: Callable[[MarkdownIt], None]):
+        return add(PLUGINS, name, plugin, "prose plugin")
+
+    return register
+
+
+def safe_link(url: str) -> bool:
+    """Whether prose may link to ``url``: a path from the page, or a web or mail address."""
+    scheme = _SCHEME.match(_IGNORED_IN_URL.sub("", unquote(url)))
+    return scheme is None or scheme[1].lower() in LINK_SCHEMES
 
 
 def render_prose(text: str, env: dict | None = None) -> tuple[Piece, ...]:

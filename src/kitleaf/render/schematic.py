@@ -1,4 +1,4 @@
-"""Schematic drawing: the one place that speaks schemdraw, behind a small sheet of our own.
+"""Schematic drawing: schemdraw's public elements behind a small sheet of our own.
 
 A :class:`SchematicSheet` is the canvas a stage kind draws on: it implements the drawing
 protocol the circuit layer states (:class:`kitleaf.circuit.drawing.Sheet`: grid units, y
@@ -6,25 +6,20 @@ upwards, the rows a kind draws on). Every element is added explicitly to
 the sheet's own drawing: no drawing stack, no global configuration. Pins have our semantic names
 and are mapped to schemdraw anchors in :data:`ANCHORS` alone. Beside it: ``schematic_text``
 (words and where they sit), ``schematic_devices`` (transistors and op-amps on a sheet),
-``schematic_reuse`` (elements placed and written once per process), ``schematic_probes`` and
-``schematic_overview``.
+``schemdraw_adapter`` (the one user of schemdraw's internals: elements placed and written once
+per process), ``schematic_probes`` and ``schematic_overview``.
 """
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping, Sequence
 
-import schemdraw
 import schemdraw.elements as elm
-from schemdraw.segments import SegmentText
-from schemdraw.transform import Transform
-from schemdraw.types import BBox
-from schemdraw.util import Point as SdPoint
+from schemdraw.segments import Segment
 
 from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
-from kitleaf.render import schematic_reuse as reuse
+from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
 from kitleaf.render.schematic_text import (
     ALIGN,
@@ -63,10 +58,35 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
 }
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
                  "diode": elm.Diode, "led": elm.LED}
-# Multi-pin symbols, each facing the way the drawings use it (the op-amp with + above -).
-_DEVICE = {"npn": lambda: elm.BjtNpn(circle=True), "pnp": lambda: elm.BjtPnp(circle=True),
-           "njf": lambda: elm.JFetN().reverse(), "pjf": lambda: elm.JFetP().reverse(),
-           "opamp": lambda: elm.Opamp(leads=True).flip()}
+
+
+class JfetSymbol(elm.JFet):
+    """A JFET drawn to IEEE 315 (as IEC 60617): the gate arrow points into an N channel and out
+    of a P channel. schemdraw's own JFetN and JFetP glyphs point the other way."""
+
+    def __init__(self, channel: str, **kwargs) -> None:
+        super().__init__(**kwargs)
+        gate_x, gate_y = self.anchors["gate"]
+        bar_x = self.segments[0].path[2][0]  # the channel bar; the gate lead runs right from it
+        near, far = bar_x + 0.1, bar_x + 0.3  # the span schemdraw's own arrow takes
+        tail, head = (far, near) if channel == "n" else (near, far)
+        self.segments.append(Segment([(tail, gate_y), (head, gate_y)], arrow="->",
+                                     arrowwidth=self.params["arrowwidth"],
+                                     arrowlength=self.params["arrowlength"]))
+
+
+# Multi-pin symbols facing the way the drawings use them: a BJT or JFET with collector or drain
+# up (mirrored for a PNP or P-channel part, emitter or source up), the op-amp with + above -.
+# schemdraw draws its PNP emitter-up, so ours starts flipped; flip() sets, it does not toggle.
+_DEVICE = {"npn": lambda flip: elm.BjtNpn(circle=True).flip() if flip else elm.BjtNpn(circle=True),
+           "pnp": lambda flip: elm.BjtPnp(circle=True) if flip else elm.BjtPnp(circle=True).flip(),
+           "njf": lambda flip: _flipped(JfetSymbol("n").reverse(), flip),
+           "pjf": lambda flip: _flipped(JfetSymbol("p").reverse(), flip),
+           "opamp": lambda flip: elm.Opamp(leads=True).flip()}
+
+
+def _flipped(element: elm.Element, flip: bool) -> elm.Element:
+    return element.flip() if flip else element
 
 
 class SchematicSheet:
@@ -82,7 +102,7 @@ class SchematicSheet:
         self.spots: dict[tuple[str, str], Point] = {}
         self._text_boxes: list[Box] = []
         self._element_boxes: list[Box] = []  # each element's, without its text, once placed
-        self._drawing = _Drawing(canvas="svg", show=False)
+        self._drawing = adapter.SheetDrawing(canvas="svg", show=False)
         self._drawing.config(unit=3, fontsize=FONT_SIZE, font=FONT, lw=1.4, margin=0.4,
                              color="black")
 
@@ -148,9 +168,9 @@ class SchematicSheet:
                ) -> tuple[dict[str, Point], Point]:
         """The symbol of a multi-pin ``family`` with ``pin`` (else its first) at ``at``, flipped
         top to bottom if asked, unlabelled: its pins by our names, and its centre."""
-        drawn = _DEVICE[family]()
+        drawn = _DEVICE[family](flip)
         anchor = ANCHORS[family][pin or next(iter(ANCHORS[family]))]
-        drawn = self._add((drawn.flip() if flip else drawn).anchor(anchor).at(at))
+        drawn = self._add(drawn.anchor(anchor).at(at))
         centre = drawn.absanchors["center"]
         pins = {name: self.pin(drawn, family, name) for name in ANCHORS[family]}
         return pins, (centre.x, centre.y)
@@ -248,67 +268,15 @@ class SchematicSheet:
 
     def _add(self, element: elm.Element) -> elm.Element:
         """Add ``element`` and return it placed: use the returned one, which may be an equal
-        element placed earlier in this process (see :func:`reuse.placed_once`)."""
+        element placed earlier in this process (see :func:`adapter.placed_once`)."""
         # Every element gets its own direction: schemdraw would otherwise turn it the way the
         # previously added element pointed. Two-terminal parts are set by their endpoints.
         if not isinstance(element, elm.Element2Term):
             element.theta(0)
-        placed = reuse.placed_once(element, self._drawing.place)
+        placed = adapter.placed_once(element, self._drawing.place)
         self._drawing.put(placed)
         self._element_boxes.append(placed.bare)
         return placed.element
-
-
-class _Drawing(schemdraw.Drawing):
-    """A drawing that measures each element once, when placed, and draws each placed element
-    once per process (:mod:`kitleaf.render.schematic_reuse`)."""
-
-    _known: Box = reuse.NOTHING  # schemdraw's box of nothing
-
-    def __init__(self, **kwargs) -> None:
-        super().__init__(**kwargs)
-        self._placed: list[reuse.Placed] = []
-
-    def place(self, element: elm.Element) -> reuse.Placed:
-        """``element`` placed as :meth:`add` would, but not added."""
-        reuse.flatten_defaults(element)
-        self._here, self._theta = element._place(self._here, self._theta, **self.dwgparams)
-        reuse.settle(element, _Transform)
-        return reuse.Placed(element, *reuse.measured(element, SegmentText))
-
-    def put(self, placed: reuse.Placed) -> None:
-        self.elements.append(placed.element)
-        self._placed.append(placed)
-        self._known = reuse.union(self._known, placed.whole)
-
-    def get_bbox(self) -> BBox:
-        return BBox(*self._known)
-
-    def document(self, title: str) -> str:
-        """The sheet's SVG, the same document schemdraw writes."""
-        head = self.draw(show=False).getimage("svg").decode("utf-8")
-        return reuse.svg_document(head, self._parts, title)
-
-    def _drawelements(self) -> None:
-        self._parts = [part for placed in self._placed
-                       for part in reuse.drawn_once(placed, self.fig)]
-
-
-class _Transform(Transform):
-    """schemdraw's transform with the same float operations in the same order, minus the
-    per-step point objects: scale about the local shift, rotate, then shift."""
-
-    def __init__(self, of: Transform) -> None:
-        super().__init__(of.theta, of.shift, of.localshift, of.zoom)
-        radians = math.radians(of.theta)
-        self._cos, self._sin = math.cos(radians), math.sin(radians)
-
-    def transform(self, pt) -> SdPoint:
-        x = (pt[0] + self.localshift[0]) * self.zoom[0]
-        y = (pt[1] + self.localshift[1]) * self.zoom[1]
-        co, so = self._cos, self._sin
-        return SdPoint((0 + x * co + y * -so + 0 + self.shift[0],
-                        0 + x * so + y * co + 0 + self.shift[1]))
 
 
 def render_stage_svg(kit_circuit, stage) -> str:

@@ -10,7 +10,8 @@ from kitleaf.values import format_db, format_value
 def headline(specs: KitSpecs) -> tuple[tuple[str, str], ...]:
     """Name-value pairs for the index card."""
     rows = [("Gain at 1 kHz", range_text(specs.gain_db, "db"))]
-    gains = [p.gain_db.nominal for p in specs.knob_sweep]
+    # each knob alone at every step, and the knobs together at the ends of their travel
+    gains = [p.gain_db.nominal for p in specs.knob_sweep + specs.knob_ends]
     if gains:
         rows[0] = ("Gain range", f"{format_db(min(gains))} to {format_db(max(gains))}")
     rows.append(("Input impedance", format_value(specs.input_impedance.nominal, "resistance")))

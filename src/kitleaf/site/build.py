@@ -8,6 +8,7 @@ cache is pruned of what this build did not use (:mod:`kitleaf.site.prune`).
 
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -15,9 +16,10 @@ from pathlib import Path
 from kitleaf.errors import BuildError, ErrorList, KitleafError, SourceSpan
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.pages import render_page
-from kitleaf.site.cache import Cache, default_cache_dir
+from kitleaf.site.cache import Cache, check_cache_folder, default_cache_dir
 from kitleaf.site.changes import compare
 from kitleaf.site.discover import find_guides, site_root_for
+from kitleaf.site.errata import errata_view, next_history
 from kitleaf.site.fingerprint import theme_fingerprint
 from kitleaf.site.manifest import MANIFEST_NAME, dump_manifest, make_manifest, read_manifest
 from kitleaf.site.output_folder import check_output_folder
@@ -25,6 +27,7 @@ from kitleaf.site.pool import default_jobs, run_guides
 from kitleaf.site.progress import Progress
 from kitleaf.site.prune import DEFAULT_POLICY, PrunePolicy, PruneReport, prune
 from kitleaf.site.publish import publish
+from kitleaf.site.unique import check_slugs, reused_codes
 
 CHANGES_PAGE = "changes.html"
 
@@ -54,21 +57,27 @@ class BuildReport:
 
 
 def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
-               cache_dir: Path | None = None, use_cache: bool = True, strict: bool = False,
-               progress=None, prune_policy: PrunePolicy = DEFAULT_POLICY) -> BuildReport:
+               cache_dir: Path | None = None, use_cache: bool = True,
+               fail_on_findings: bool = False, progress=None,
+               prune_policy: PrunePolicy = DEFAULT_POLICY) -> BuildReport:
     """Build every guide under ``target`` into ``out_dir``; on any error nothing is written.
 
-    With ``strict``, a guide's design-rule finding is an error too (:func:`finding_errors`).
+    With ``fail_on_findings``, a guide's design-rule finding is an error too
+    (:func:`finding_errors`).
     """
     started = time.perf_counter()
     paths = find_guides(target)
     check_output_folder(Path(out_dir), target)  # before any work: a refused folder is untouched
     themes = theme_dirs(site_root_for(target))
+    static = static_files(themes)  # read first: a theme that cannot be published stops here
     cache = Cache(cache_dir or default_cache_dir(out_dir)) if use_cache else None
-    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress, strict)
-    if strict and (refused := finding_errors(outputs)):
+    if cache:
+        check_cache_folder(cache.root, Path(out_dir), chosen=cache_dir is not None)
+    outputs, rebuilt = collect(paths, themes, cache, jobs or default_jobs(), progress,
+                               fail_on_findings)
+    if fail_on_findings and (refused := finding_errors(outputs)):
         raise BuildFailed(refused)  # the guides stay cached; nothing is published
-    files, changes = site_files(outputs, themes, Path(out_dir))
+    files, changes = site_files(outputs, themes, static, Path(out_dir))
     result = publish(Path(out_dir), files)
     pruned = prune(cache.root, cache.used, prune_policy) if cache else PruneReport()
     warnings = tuple(f"{p}: {w}" for p, o in zip(paths, outputs, strict=True) for w in o.warnings)
@@ -78,9 +87,10 @@ def build_site(target: Path, out_dir: Path, *, jobs: int | None = None,
 
 
 def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: int,
-            stream=None, strict: bool = False) -> tuple[list, int]:
+            stream=None, fail_on_findings: bool = False) -> tuple[list, int]:
     """Every guide's output, from the cache or built; every guide's error, not just the first
-    (with ``strict``, the other guides' findings beside them, as ``check --strict`` lists them).
+    (with ``fail_on_findings``, the other guides' findings beside them, as ``check
+    --fail-on-findings`` lists them).
     The guides that built are cached even when another failed, so fixing it rebuilds it alone."""
     theme_key = theme_fingerprint(themes)
     # Keyed by file name, not path: the same folder moved or copied elsewhere stays cached.
@@ -98,8 +108,10 @@ def collect(paths: list[Path], themes: list[Path], cache: Cache | None, jobs: in
             cache.used.update(uses)
             cache.store("guide", keys[i], (output, uses))
     if any(isinstance(o, KitleafError) for o in outputs):
-        raise BuildFailed(failures(outputs, strict))
-    check_slugs(paths, outputs)
+        raise BuildFailed(failures(outputs, fail_on_findings))
+    check_slugs(paths, [o.card.slug for o in outputs])
+    if reused := reused_codes([(o.card.code, o.code_span) for o in outputs]):
+        raise BuildFailed(reused)
     return outputs, len(todo)
 
 
@@ -113,35 +125,27 @@ def cached_guide(cache: Cache, key: str):
     return output
 
 
-def failures(outputs: list, strict: bool) -> list[KitleafError]:
-    """In guide order, each failed guide's error and, with ``strict``, the others' findings."""
+def failures(outputs: list, fail_on_findings: bool) -> list[KitleafError]:
+    """In guide order, each failed guide's error and, with ``fail_on_findings``, the others'
+    findings."""
     errors: list[KitleafError] = []
     for output in outputs:
         if isinstance(output, KitleafError):
             errors.append(output)
-        elif strict:
+        elif fail_on_findings:
             errors += finding_errors([output])
     return errors
 
 
 def finding_errors(outputs: list) -> list[KitleafError]:
     """Each guide's design-rule findings as its error, one line per finding, as ``kitleaf check
-    --strict`` prints them: ``path:line: error: message [rule]``."""
+    --fail-on-findings`` prints them: ``path:line: error: message [rule]``."""
     errors = [[f.as_error() for f in o.findings] for o in outputs]
     return [found[0] if len(found) == 1 else ErrorList(found) for found in errors if found]
 
 
-def check_slugs(paths: list[Path], outputs: list) -> None:
-    seen: dict[str, Path] = {}
-    for path, output in zip(paths, outputs, strict=True):
-        slug = output.card.slug
-        if slug in seen:
-            raise BuildError(f"{path.name} and {seen[slug].name} both make the pages '{slug}/'; "
-                             "rename one of the files", SourceSpan(str(path), 1))
-        seen[slug] = path
-
-
-def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, dict]:
+def site_files(outputs: list, themes: list[Path], static: dict[str, bytes],
+               out_dir: Path) -> tuple[dict, dict]:
     """Every file of the site, and the change record against the published manifest."""
     files: dict[str, bytes] = {}
     for output in outputs:
@@ -149,12 +153,14 @@ def site_files(outputs: list, themes: list[Path], out_dir: Path) -> tuple[dict, 
     env = make_environment(themes)
     cards = sorted((o.card for o in outputs), key=lambda c: (c.code, c.slug))
     files["index.html"] = render_page(env, "index.html", {"cards": cards, "root": ""}, "index")
-    files.update(static_files(themes))
+    files.update(static)
     guides = {o.card.slug: o.record for o in outputs}
-    changes = compare(read_manifest(out_dir), {"guides": guides})
-    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes))
-    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {"changes": changes, "root": ""},
-                                      CHANGES_PAGE)
+    published = read_manifest(out_dir)
+    changes = compare(published, {"guides": guides})
+    history = next_history(published, guides)
+    files[MANIFEST_NAME] = dump_manifest(make_manifest(guides, changes, history))
+    files[CHANGES_PAGE] = render_page(env, CHANGES_PAGE, {
+        "changes": changes, "errata": errata_view(history), "root": ""}, CHANGES_PAGE)
     return files, changes
 
 
@@ -163,6 +169,20 @@ def static_files(themes: list[Path]) -> dict[str, bytes]:
     files: dict[str, bytes] = {}
     for theme in reversed(themes):
         static = theme / "static"
-        for path in sorted(p for p in static.rglob("*") if p.is_file()):
+        for path in own_files(static):
             files[f"static/{path.relative_to(static).as_posix()}"] = path.read_bytes()
     return files
+
+
+def own_files(folder: Path) -> list[Path]:
+    """Every file under ``folder``, sorted; a symbolic link is an error, not followed, so a
+    link to a file elsewhere on the machine is never published."""
+    found: list[Path] = []
+    for here, dirs, files in os.walk(folder):  # a linked folder is listed, never entered
+        for name in sorted(dirs + files):
+            if (Path(here) / name).is_symlink():
+                raise BuildError("a symbolic link in the theme's static folder; kitleaf "
+                                 "publishes only the theme's own files, so copy the file in",
+                                 SourceSpan(str(Path(here) / name)))
+        found += [Path(here) / name for name in files]
+    return sorted(found)

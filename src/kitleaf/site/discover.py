@@ -13,11 +13,11 @@ def find_guides(target: Path) -> list[Path]:
         return [target]
     if not target.is_dir():
         raise BuildError(f"no such folder or guide: {target}; give a folder of .md guides",
-                         SourceSpan(str(target), 1))
+                         SourceSpan(str(target)))
     guides = sorted(p for p in target.glob("*.md") if not p.name.startswith((".", "_")))
     if not guides:
         raise BuildError(f"no guides (*.md) in {target}; write one with 'kitleaf new NAME'",
-                         SourceSpan(str(target), 1))
+                         SourceSpan(str(target)))
     return guides
 
 

@@ -14,10 +14,13 @@ from urllib.parse import quote
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.faults.solve import solve_faults
+from kitleaf.faults.symptoms import page_data, symptom_rows
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
+from kitleaf.render.placement import SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
@@ -48,17 +51,20 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": render_prose(guide.text, prose_env(guide.path, checks.values)),
+        "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
+        "sections": SECTIONS,
         "checks": checks,
         "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
+        "symptoms": cached_symptoms(cache, kit),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), quote(f"{slug}/index.html"))  # a relative URL, encoded
     record = guide_record(Path(path).name, kit.parts(), specs)
-    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings)
+    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
+                       guide.kit.code_span or guide.kit.span)
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
@@ -87,6 +93,23 @@ def plot_svg(cache: Cache, plot: ResponsePlot) -> bytes:
     return cached_svg(cache, "plot", plot, lambda: render_response_svg(plot))
 
 
+def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
+    """The symptom table and the ranking form's data, re-solved only when the circuit moved
+    (not when prose moves its lines: nothing in them carries a location)."""
+    key = cache.key("symptoms", canonical_pair(kit)[0])
+
+    def solve() -> dict:
+        readings = solve_faults(kit)
+        return {"rows": symptom_rows(readings), "data": page_data(readings)}
+
+    found = cache.load("symptoms", key)
+    if isinstance(found, dict):
+        return found
+    symptoms = solve()
+    cache.store("symptoms", key, symptoms)
+    return symptoms
+
+
 def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
     """The solved specs, re-solved only when a block of the guide or the kit's circuit changed.
 
@@ -107,7 +130,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
 @functools.lru_cache(maxsize=4)
 def theme_environment(themes: tuple[Path, ...]):
     """One Jinja environment per process and theme: templates compile once per worker, not
-    once per guide, and Jinja still reloads a template whose file changed (``kitleaf serve``)."""
+    once per guide, and Jinja still reloads a template whose file changed (``kitleaf proof``)."""
     return make_environment(list(themes))
 
 

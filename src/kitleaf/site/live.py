@@ -1,4 +1,4 @@
-"""The preview server of ``kitleaf serve``: the built site on loopback, reloading on each rebuild.
+"""The preview server of ``kitleaf proof``: the built site on loopback, reloading on each rebuild.
 
 HTML pages get a small script as they are served (never on disk, so a served site and a built
 site are the same bytes). The script polls ``/__kitleaf/stamp``, which only this server
@@ -17,7 +17,7 @@ from urllib.parse import unquote, urlsplit
 
 LOOPBACK = "127.0.0.1"
 STAMP_PATH = "/__kitleaf/stamp"
-RELOAD_SCRIPT = """<script>/* kitleaf serve: live reload */
+RELOAD_SCRIPT = """<script>/* kitleaf proof: live reload */
 (function () {
   var seen = null;
   function show(errors) {
@@ -127,6 +127,6 @@ def make_server(root: Path, state: LiveState, host: str = LOOPBACK,
 
 
 def start(server: http.server.ThreadingHTTPServer) -> threading.Thread:
-    thread = threading.Thread(target=server.serve_forever, name="kitleaf-serve", daemon=True)
+    thread = threading.Thread(target=server.serve_forever, name="kitleaf-proof", daemon=True)
     thread.start()
     return thread

@@ -1,6 +1,6 @@
 """The build manifest: each guide's parts and computed specs, kept in the output as JSON.
 
-``manifest.json`` (schema ``kitleaf-manifest/1``) is what the next build compares against to
+``kitleaf-manifest.json`` (schema ``kitleaf-manifest/1``) is what the next build compares against to
 report which parts changed value and which specs moved. It holds no timestamps and sorts its
 keys, so an unchanged site gives an unchanged manifest.
 """
@@ -16,7 +16,7 @@ from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.model import KitSpecs
 
 SCHEMA = "kitleaf-manifest/1"
-MANIFEST_NAME = "manifest.json"
+MANIFEST_NAME = "kitleaf-manifest.json"
 
 
 def part_record(part: Part) -> dict[str, Any]:
@@ -41,9 +41,12 @@ def without_curves(specs: dict[str, Any]) -> dict[str, Any]:
     return kept
 
 
-def make_manifest(guides: dict[str, dict], changes: dict) -> dict[str, Any]:
-    """The whole manifest: guides by slug and the change record of this publish."""
-    return {"schema": SCHEMA, "guides": dict(sorted(guides.items())), "changes": changes}
+def make_manifest(guides: dict[str, dict], changes: dict,
+                  history: dict | None = None) -> dict[str, Any]:
+    """The whole manifest: guides by slug, the change record of this publish and the errata
+    history of every kit revision (:mod:`kitleaf.site.errata`)."""
+    manifest = {"schema": SCHEMA, "guides": dict(sorted(guides.items())), "changes": changes}
+    return manifest if history is None else {**manifest, "history": history}
 
 
 def dump_manifest(manifest: dict[str, Any]) -> bytes:

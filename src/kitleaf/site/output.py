@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from kitleaf.errors import SourceSpan
 from kitleaf.render.pages import Card
 from kitleaf.specs.finding import Finding
 
@@ -18,8 +19,10 @@ class GuideOutput:
     record: dict | None = None
     notes: tuple[str, ...] = ()  # the specs' notes (not located)
     findings: tuple[Finding, ...] = ()  # design-rule findings no ``allow:`` line silences
+    code_span: SourceSpan | None = None  # the kit's 'code:' line, for a code given twice
 
     @property
     def warnings(self) -> tuple[str, ...]:
-        """What does not stop the build (unless ``--strict``): notes, then findings' lines."""
+        """What does not stop the build (unless ``--fail-on-findings``): notes, then findings'
+        lines."""
         return self.notes + tuple(f.line() for f in self.findings)

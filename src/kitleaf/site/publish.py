@@ -76,7 +76,7 @@ def publish(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
         result = plan(out_dir, files)
         if not result.touched and out_dir.is_dir():
             return result
-        staging = Path(tempfile.mkdtemp(prefix=_prefix(out_dir, STAGING), dir=out_dir.parent))
+        staging = new_folder(out_dir, STAGING)
         try:
             fill(staging, out_dir, files, set(result.written))
             swap(staging, out_dir)
@@ -85,18 +85,42 @@ def publish(out_dir: Path, files: Mapping[str, bytes]) -> PublishResult:
     return result
 
 
+def new_folder(out_dir: Path, role: str) -> Path:
+    """A fresh folder beside the output with the mode a ``mkdir`` would give it: mkdtemp's
+    0700 would swap in a site that a web server running as another user cannot read."""
+    folder = Path(tempfile.mkdtemp(prefix=_prefix(out_dir, role), dir=out_dir.parent))
+    os.chmod(folder, 0o777 & ~current_umask())
+    return folder
+
+
+def current_umask() -> int:
+    """The process's umask, read from /proc where it can be (setting it to read it would
+    briefly change it for every thread)."""
+    try:
+        status = Path("/proc/self/status").read_text()
+        return int(next(line for line in status.splitlines() if line.startswith("Umask:"))
+                   .split()[1], 8)
+    except (OSError, StopIteration, ValueError, IndexError):
+        mask = os.umask(0o022)
+        os.umask(mask)
+        return mask
+
+
 @contextlib.contextmanager
 def locked(out_dir: Path) -> Iterator[None]:
-    """One publish at a time per output (a ``build`` beside a running ``serve``)."""
+    """One publish at a time per folder of outputs (a ``build`` beside a running ``proof``).
+
+    The lock is taken on the output's parent folder itself, so no lock file is left there.
+    """
     if fcntl is None:
         yield
         return
-    with open(out_dir.parent / f".{out_dir.name}.lock", "a+b") as handle:
+    handle = os.open(out_dir.parent, os.O_RDONLY)
+    try:
         fcntl.flock(handle, fcntl.LOCK_EX)
-        try:
-            yield
-        finally:
-            fcntl.flock(handle, fcntl.LOCK_UN)
+        yield
+    finally:
+        os.close(handle)  # closing releases the lock
 
 
 def fill(staging: Path, out_dir: Path, files: Mapping[str, bytes], changed: set[str]) -> None:
@@ -130,7 +154,7 @@ def swap(staging: Path, out_dir: Path) -> None:
     if exchange(staging, out_dir):
         return
     retired = Path(tempfile.mkdtemp(prefix=_prefix(out_dir, RETIRED), dir=out_dir.parent))
-    os.rmdir(retired)
+    os.rmdir(retired)  # only its unique name is wanted
     os.replace(out_dir, retired)  # the window without a site is one syscall wide
     os.replace(staging, out_dir)
     os.replace(retired, staging)

@@ -113,11 +113,18 @@ def _reader(quantity: str, entry: Entry):
     return read
 
 
-def holds(claim: Claim, computed: Computed) -> bool:
-    """True if the whole tolerance range of ``computed`` lies within the claim's bounds."""
-    value = computed.value
+def judged_span(value) -> tuple[float, float]:
+    """The span a claim is judged over: the tolerance range widened to take in the nominal
+    value (a spread of samples need not hold the nominal build where a part is pushed to an
+    extreme, and the nominal build is one the maker may solder)."""
     low = value.nominal if value.low is None else min(value.low, value.nominal)
     high = value.nominal if value.high is None else max(value.high, value.nominal)
+    return low, high
+
+
+def holds(claim: Claim, computed: Computed) -> bool:
+    """True if the whole tolerance range of ``computed`` lies within the claim's bounds."""
+    low, high = judged_span(computed.value)
     return ((claim.low is None or low >= claim.low)
             and (claim.high is None or high <= claim.high))
 
@@ -128,8 +135,8 @@ def broken(claim: Claim, computed: Computed) -> SpecError:
     if value.low is None or value.high is None:
         spread = "range not computed: nominal only"
     else:
-        spread = (f"range {_show(value.low, computed.quantity)}–"
-                  f"{_show(value.high, computed.quantity)}")
+        low, high = (_show(x, computed.quantity) for x in judged_span(value))
+        spread = f"range {low}{' to ' if '-' in low + high else '–'}{high}"
     return SpecError(f"claim '{claim.entry.value}' ({computed.label}) does not hold: computed "
                      f"{nominal} ({spread}); correct the parts or the claim", claim.entry.span)
 

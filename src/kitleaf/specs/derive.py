@@ -6,16 +6,18 @@ as one batch per kit state (knob positions and supply), never as a loop of singl
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import replace
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
 from kitleaf.engine.elements import OpAmp
-from kitleaf.errors import KitleafError
+from kitleaf.errors import KitleafError, SolveError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
 from kitleaf.specs.headroom import MARGINS, margins
+from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
 from kitleaf.specs.model import (
     SAMPLES,
@@ -30,9 +32,9 @@ from kitleaf.specs.model import (
 )
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
-from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.shorts import check_supply
+from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
 
-KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
 FRESH_BATTERY_V = 9.6
 
@@ -44,11 +46,20 @@ class SolvedKit:
         self.kit = kit
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
+        check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
         self.sweeps = {k.designator: tuple(self._state(k.designator, p) for p in KNOB_STEPS)
                        for k in kit.knobs}
+        self._check_sweeps()
         self.supplies = supplies(kit.supply_v)
         self.by_supply = (self.base, *(KitState(kit, self.nominal, s.volts, self.base)
                                        for s in self.supplies[1:]))
+
+    def _check_sweeps(self) -> None:
+        """No knob setting shorts the supply (a pot's end leg is about 1 ohm)."""
+        for knob in self.kit.knobs:
+            for position, state in zip(KNOB_STEPS, self.sweeps[knob.designator], strict=True):
+                check_supply(self.kit, state.nominal.batch.system,
+                             f" with {knob.name} at {position * 100:.0f} %")
 
     def _state(self, designator: str, position: float) -> KitState:
         if position == self.nominal[designator]:
@@ -67,12 +78,18 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
     """Every spec of the kit and its stages, computed from the parts.
 
     An engine error (a solve that did not converge, say) is placed at the guide line of the
-    part or stage it names, so the maker sees where to look.
+    part or stage it names, so the maker sees where to look, or else at the kit block. A numeric
+    warning (an overflow, a NaN) stops the solve too: figures past it would be silently wrong.
     """
     try:
-        return _derive(guide, kit)
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", RuntimeWarning)
+            return _derive(guide, kit)
+    except RuntimeWarning as warning:
+        raise SolveError(f"the numbers ran out of range while solving ({warning}); look for a "
+                         "part value or device far from the usual", guide.kit.span) from None
     except KitleafError as exc:
-        raise kit.locate(exc) from None
+        raise kit.locate(exc).located(guide.kit.span) from None
 
 
 def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
@@ -87,6 +104,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
         knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs),
+        knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
         high_corner_hz=base.range(m.corner(INPUT, OUTPUT, 1)),
@@ -95,7 +113,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         supply_current=base.range(m.supply_current(None)),
         freqs=tuple(float(f) for f in FREQS),
         curves=curves(solved, INPUT, OUTPUT, kit.knobs),
-        notes=notes(stages),
+        notes=notes(stages, kit),
         band_gain_db=base.range(m.band_gain_db(INPUT, OUTPUT)),
         headroom=kit_headroom(solved),
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
@@ -155,9 +173,13 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
     kit, base = solved.kit, solved.base
     voltages = stage_voltages(solved, stage)
     if not kit.kind(stage).signal:
-        meters = tuple(supply_meter(s.id) for s in kit.signal_stages)
+        if kit.metered(stage):
+            current = m.supply_current(supply_meter(stage.id))
+        else:  # the power section: what no stage's meter takes
+            current = m.supply_current(None, tuple(supply_meter(s.id) for s in kit.stages
+                                                   if kit.metered(s)))
         return StageSpecs(stage.id, stage.kind, stage.title, False, voltages, (), None, None,
-                          None, None, None, base.range(m.supply_current(None, meters)))
+                          None, None, None, base.range(current))
     node_in, node_out = kit.stage_nodes(stage.id)
     knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
     return StageSpecs(
@@ -223,8 +245,11 @@ def kit_headroom(solved: SolvedKit) -> Headroom | None:
     return stage_headroom(solved, solved.kit.signal_stages, OUTPUT)
 
 
-def notes(stages: tuple[StageSpecs, ...]) -> tuple[str, ...]:
-    """Findings a builder should hear about: a device with no room to swing at its bias."""
-    return tuple(f"stage '{s.id}': {s.headroom.limit} leaves no room to swing at this bias"
+def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
+    """Findings a builder should hear about, each a ``path:line: warning:`` line at its stage's
+    block: a device with no room to swing at its bias."""
+    spans = {s.id: s.span for s in kit.stages}
+    return tuple(f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room "
+                 "to swing at this bias"
                  for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 

@@ -105,6 +105,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "gain_db_1khz": _range(specs.gain_db),
         "band_gain_db": _range(specs.band_gain_db),
         "gain_db_1khz_by_knob": _sweep(specs.knob_sweep),
+        "gain_db_1khz_knob_ends": _sweep(specs.knob_ends),
         "low_corner_hz": _range(specs.low_corner_hz),
         "high_corner_hz": _range(specs.high_corner_hz),
         "input_impedance_ohm_1khz": _range(specs.input_impedance),

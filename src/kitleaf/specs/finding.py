@@ -24,7 +24,8 @@ class Finding:
         return f"{self.span}: {kind}: {self.message} [{self.rule}]"
 
     def as_error(self) -> SpecError:
-        """The finding as an error (``--strict``): ``path:line: error: message [rule]``."""
+        """The finding as an error (``--fail-on-findings``): ``path:line: error: message
+        [rule]``."""
         return SpecError(f"{self.message} [{self.rule}]", self.span)
 
     def __str__(self) -> str:

@@ -52,7 +52,7 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
     for stage in specs.stages:
         _add_specs(found, stage.id, stage, stage.title)
         for v, node in zip(stage.voltages, local[stage.id], strict=True):
-            name = f"{stage.id}.{_point_name(v.device, v.pin, node)}"
+            name = f"{stage.id}.{point_name(v.device, v.pin, node)}"
             spelling = "" if v.device else f"{stage.id}.{'.'.join(map(slug, v.label.split()))}"
             found[name] = Computed(name, v.volts, "voltage", f"{v.label}, DC to ground",
                                    spelling)
@@ -123,7 +123,7 @@ def _knob_words(point: KnobPoint) -> str:
     return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in point.positions)
 
 
-def _point_name(device: str, pin: str, node: str) -> str:
+def point_name(device: str, pin: str, node: str) -> str:
     """``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
     if not device:
         return slug(node)

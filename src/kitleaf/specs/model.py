@@ -183,6 +183,9 @@ class KitSpecs:
     samples: int = 0
     seed: int = 0
     drive: Drive | None = None
+    # The gain (nominal parts) with the knobs together at the ends of their travel:
+    # specs/knob_ends.py says which combinations.
+    knob_ends: tuple[KnobPoint, ...] = ()
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

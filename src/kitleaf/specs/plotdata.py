@@ -6,13 +6,11 @@ import numpy as np
 
 from kitleaf.specs.model import Curve
 from kitleaf.specs.response import to_db
-from kitleaf.specs.solve import KitState
+from kitleaf.specs.solve import KNOB_STEPS, KitState
 
 
 def curves(solved, node_in: str, node_out: str, knobs) -> tuple[Curve, ...]:
     """One nominal curve per position of each knob in ``knobs``; one curve if there is none."""
-    from kitleaf.specs.derive import KNOB_STEPS  # derive imports this module
-
     if not knobs:
         return (Curve("", None, _db(solved.base, node_in, node_out)),)
     return tuple(Curve(k.name, pos, _db(state, node_in, node_out))

@@ -6,12 +6,14 @@ capacitor should see at most 80 % of its voltage rating, a resistor or pot dissi
 checked against 1/4 W and a pot against 1/8 W, the usual sizes in kits; a polarised capacitor
 with no stated rating is flagged, since it cannot be bought without one; an unpolarised one is
 not checked (common practice, no source). The stress is the worst over the knob settings the
-rules solve (knobs at half way, then each knob alone at every swept position).
+rules solve (knobs at half way, then each knob alone at every swept position) and over the
+builds drawn within part tolerances (the design rules' context picks it, see
+specs/rules/_context.py).
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
 
@@ -49,6 +51,7 @@ class Stress:
 
     value: float
     words: str = ""
+    bound: str = ""  # "up to " when the value is a percentile of the builds, not the nominal
 
 
 def _across(op, a: str, b: str) -> float:
@@ -69,19 +72,20 @@ _STRESS: Mapping[str, Callable] = MappingProxyType({
 })
 
 
-def worst_stresses(parts: Iterable, settings: Iterable) -> dict[str, Stress]:
-    """Designator -> the worst stress of each rated part over ``settings`` (each with ``words``,
-    ``circuit`` and its operating point ``op``); the first setting wins a tie."""
-    worst: dict[str, Stress] = {}
-    rated = {p.designator: p.type for p in parts if p.type in _STRESS}
-    for setting in settings:
-        placed = {e.name: e for e in setting.circuit.elements}
-        for designator, part_type in rated.items():
-            if designator in placed:
-                value = _STRESS[part_type](setting.op, placed[designator])
-                if designator not in worst or value > worst[designator].value:
-                    worst[designator] = Stress(value, setting.words)
-    return worst
+def part_stress(part_type: str, op, element, factor=1.0):
+    """A part's stress at an operating point; per build where ``op`` gives arrays and
+    ``factor`` holds each build's drawn value multiplier (it scales a resistor, or both legs
+    of a pot alike, so the power at the same voltages goes as one over it)."""
+    value = _STRESS[part_type](op, element)
+    return value / factor if LIMITS[part_type].quantity == "power" else value
+
+
+def derated_limit(part_type: str, rating: float | None) -> float | None:
+    """The most stress a part may take: its derated rating, or the assumed one's; None for a
+    part that states no rating and has none assumed (a capacitor)."""
+    limit = LIMITS[part_type]
+    used = rating or limit.assumed
+    return None if used is None else limit.derating * used * (1 + 1e-9)
 
 
 def _show(x: float, quantity: str) -> str:
@@ -104,14 +108,14 @@ def rating_problem(designator: str, part_type: str, rating: float | None,
         return None
     value = abs(stress.value)
     verb = "dissipates" if limit.quantity == "power" else "sees"
-    seen = f"{designator} {verb} {_show(value, limit.quantity)}"
+    seen = f"{designator} {verb} {stress.bound}{_show(value, limit.quantity)}"
     seen += f" ({stress.words})" if stress.words else ""
     used = rating or limit.assumed
     if used is None:
         if dielectric not in POLARISED:
             return None
         return f"{seen} but states no rating; use {_suggest(value, limit)}"
-    if value <= limit.derating * used * (1 + 1e-9):
+    if value <= derated_limit(part_type, rating):
         return None
     over = "over its" if value > used else f"over {limit.derating:.0%} of its"
     stated = "" if rating else " (assumed: none stated)"

@@ -98,6 +98,10 @@ def idle_at_dc(state: KitState, pots: set[str]) -> bool:
     return True
 
 
+# Where each knob is set when the kit is solved across its travel (0..1 of rotation).
+KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
+
+
 def nominal_positions(kit: KitCircuit) -> dict[str, float]:
     """Every knob at half its rotation: the state the voltage table and headline assume."""
     return {knob.designator: 0.5 for knob in kit.knobs}

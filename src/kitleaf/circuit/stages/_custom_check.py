@@ -15,6 +15,8 @@ from kitleaf.circuit.stages.custom import (
 )
 from kitleaf.errors import CircuitError
 
+TWO_TERMINALS = ("resistor", "capacitor", "inductor", "diode", "led")
+
 
 def check_custom(stage: Stage) -> None:
     known = set(own_nodes(stage)) | set(CHAIN_NODES)
@@ -38,12 +40,22 @@ def _key(chain: str) -> str:
 
 
 def _check_aliases(stage: Stage, known: set[str]) -> None:
-    own = set(own_nodes(stage))
+    """Each alias names a declared node, and no node or connection is named twice (a
+    node that were both the input and the supply would short the two)."""
+    own, named = set(own_nodes(stage)), {}
     for key in ALIASES:
         for entry in stage.extra.get(key, ()):
-            if entry.value.strip() not in own:
-                raise CircuitError(_unknown(stage, f"'{key}:'", entry.value.strip(), own),
-                                   entry.span)
+            node = entry.value.strip()
+            if node not in own:
+                raise CircuitError(_unknown(stage, f"'{key}:'", node, own), entry.span)
+            for earlier, clash in ((key, f"'{key}:' is given twice"),
+                                   (node, f"node '{node}' is named twice")):
+                if earlier in named:
+                    raise CircuitError(
+                        f"stage '{stage.id}', '{key}: {node}': {clash} (first at line "
+                        f"{named[earlier]}); a connection takes one node and a node stands "
+                        "for one connection", entry.span)
+            named[key] = named[node] = entry.span.line
 
 
 def _check_part(stage: Stage, part, known: set[str]) -> None:
@@ -56,6 +68,12 @@ def _check_part(stage: Stage, part, known: set[str]) -> None:
         raise CircuitError(
             f"stage '{stage.id}', part {part.designator}: a {part.type} joins "
             f"{' or '.join(map(str, counts))} nodes ({shown}); {len(nodes)} given", part.span)
+    joined = {aliases(stage).get(n, n) for n in nodes}
+    if part.type in TWO_TERMINALS and len(joined) == 1:
+        raise CircuitError(
+            f"stage '{stage.id}', part {part.designator}: both its pins join '{joined.pop()}', so "
+            "it does nothing (or stands for a wire); give it the two nodes it sits between",
+            part.span)
     for node in nodes:
         if node not in known:
             raise CircuitError(_unknown(stage, f"part {part.designator}", node, known), part.span)

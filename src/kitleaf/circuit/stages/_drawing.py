@@ -125,15 +125,17 @@ def _draw_output(sheet: Sheet, d: TransistorDrawing, node: Point) -> None:
     sheet.dot(node)
     sheet.wire(node, (start, y))
     sheet.part(d.output_cap, (start, y), (start + 2.2, y))
+    # the pulldown runs down to ground, so it stands clear of the bypass network, not across it
     draw_volume_out(sheet, d.volume, (start + 2.2, y), max(start + 4.2, bypass_right + 1.4),
-                    d.pulldown)
+                    d.pulldown, pulldown_from=bypass_right + 0.4 if d.bypass else 0.0)
 
 
 def draw_volume_out(sheet: Sheet, volume: Part | None, at: Point, x: float,
-                    pulldown: Part | None = None) -> None:
-    """From ``at``, the optional pulldown, the volume pot at column ``x`` and the OUT port."""
+                    pulldown: Part | None = None, pulldown_from: float = 0.0) -> None:
+    """From ``at``, the optional pulldown (at ``pulldown_from`` or right of it), the volume pot
+    at column ``x`` and the OUT port."""
     if pulldown is not None:
-        column = (at[0] + 0.8, at[1])
+        column = (max(at[0] + 0.8, pulldown_from), at[1])
         sheet.wire(at, column)
         sheet.dot(column)
         sheet.part(pulldown, column, (column[0], GROUND_Y), side="right")

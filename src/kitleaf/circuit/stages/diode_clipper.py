@@ -24,7 +24,10 @@ ROLES = (
 
 
 def stack(wiring, parts, prefix: str, anode_up: bool) -> None:
-    """Diodes in series from ``out`` to ground, conducting for one polarity of the output."""
+    """Diodes in series from ``out`` to ground, conducting for one polarity of the output
+    (none: both roles are optional, a clipper may clip one polarity only)."""
+    if not parts:
+        return
     nodes = ["out"] + [f"{prefix}{i}" for i in range(1, len(parts))] + ["0"]
     for part, top, bottom in zip(parts, nodes[:-1], nodes[1:], strict=True):
         wiring.place(part, *((top, bottom) if anode_up else (bottom, top)))

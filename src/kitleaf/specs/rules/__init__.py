@@ -1,4 +1,5 @@
-"""The registry of design rules: each module in this package registers the rule it defines.
+"""The registry of design rules: the modules of this package, in order, each registering the
+rule it defines (see :mod:`kitleaf.registry`).
 
 A rule is a function from a :class:`RuleContext` to its findings. ``allow:`` lines in the kit
 block or a stage block silence one rule for one part, stage or the kit, with a stated reason
@@ -8,14 +9,13 @@ that the page shows: ``allow: RULE SUBJECT: REASON``.
 from __future__ import annotations
 
 import difflib
-import importlib
-import pkgutil
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, replace
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.errors import SpecError
 from kitleaf.guide.model import Entry, Guide
+from kitleaf.registry import add, load
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.rules._context import Finding, RuleContext
 
@@ -31,16 +31,34 @@ class Rule:
 
 RULES: dict[str, Rule] = {}
 
+# The modules defining rules, in the order the rules run and docs/claims-and-rules.md lists
+# them. A new rule is one new module here plus its tests; a test fails while a module of this
+# folder is not listed.
+MODULES = (
+    "cap_polarity",
+    "cap_voltage",
+    "resistor_power",
+    "coupling_corner",
+    "treble_corner",
+    "transistor_region",
+    "opamp_headroom",
+    "bias_path",
+    "led_current",
+    "pot_taper",
+    "input_impedance",
+    "e_series",
+    "battery_life",
+    "unused_half",
+)
+
 
 def register(rule_id: str, summary: str):
     """Decorator: make a check function available as rule ``rule_id``."""
-    def add(check: Callable[[RuleContext], Iterable[Finding]]):
-        if rule_id in RULES:
-            raise ValueError(f"design rule {rule_id!r} is registered twice")
-        RULES[rule_id] = Rule(rule_id, summary, check)
+    def register_check(check: Callable[[RuleContext], Iterable[Finding]]):
+        add(RULES, rule_id, Rule(rule_id, summary, check), "design rule")
         return check
 
-    return add
+    return register_check
 
 
 @dataclass(frozen=True)
@@ -78,7 +96,7 @@ def allow_entries(guide: Guide, kit: KitCircuit) -> tuple[Allow, ...]:
 def check_rules(ctx: RuleContext) -> tuple[Finding, ...]:
     """Every rule's findings, sorted by line; silenced ones carry their reason."""
     allows = allow_entries(ctx.guide, ctx.kit)
-    found = [f for rule_id in sorted(RULES) for f in RULES[rule_id].check(ctx)]
+    found = [f for rule in RULES.values() for f in rule.check(ctx)]
     reasons = {(a.rule, a.subject): a.reason for a in allows}
     found = [replace(f, allowed=reasons.get((f.rule, f.subject.lower()), "")) for f in found]
     used = {(f.rule, f.subject.lower()) for f in found}
@@ -92,13 +110,6 @@ def _unused(allow: Allow) -> Finding:
                    f"nothing about {allow.subject}; remove the line", allow.entry.span)
 
 
-def _load_all() -> None:
-    # A new rule is one new module in this folder; nothing else needs editing.
-    for module in sorted(m.name for m in pkgutil.iter_modules(__path__)):
-        if not module.startswith("_"):
-            importlib.import_module(f"{__name__}.{module}")
-
-
-_load_all()
+load(__name__, MODULES)
 
 __all__ = ["RULES", "Allow", "Finding", "Rule", "RuleContext", "check_rules", "register"]

@@ -1,21 +1,34 @@
-"""What a design rule reads: the guide, the solved kit at every knob position, and findings."""
+"""What a design rule reads: the guide, the solved kit at every knob position over the
+tolerance spread, and findings."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, replace
 from functools import cached_property
+
+import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import Part
-from kitleaf.engine import OperatingPoint, solve_dc
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
-from kitleaf.specs.derive import KNOB_STEPS
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
-from kitleaf.specs.model import KitSpecs
-from kitleaf.specs.ratings import Stress, worst_stresses
-from kitleaf.specs.solve import nominal_positions
+from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
+from kitleaf.specs.rules._settings import DcSetting, Reading
+from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
+from kitleaf.values import format_value
+
+# A rule finds a knob setting where the nominal build fails, or where at least this share of
+# the builds drawn within part tolerances fails: the 5th-95th percentile spread claims use.
+SHARE_LIMIT = 0.05
+# Values that move less than this (relative) over the knob settings do not depend on them.
+KNOB_FREE = 1e-3
+EVERY_SETTING = "at every knob setting"
+
+
 
 
 def drive_words(positions: tuple[tuple[str, float], ...]) -> str:
@@ -26,12 +39,49 @@ def drive_words(positions: tuple[tuple[str, float], ...]) -> str:
 
 
 @dataclass(frozen=True)
-class DcSetting:
-    """The kit's DC operating point at one setting of its knobs, with words for that setting."""
+class Verdict:
+    """Where a rule's test fails most: the state, whether the nominal build fails there and
+    the share of tolerance builds that do."""
 
-    words: str
-    circuit: object
-    op: OperatingPoint
+    state: DcSetting
+    nominal: bool
+    share: float
+    everywhere: bool  # the same outcome at every knob setting
+    knobs: bool = True  # the kit has knobs to name
+
+    @property
+    def where(self) -> str:
+        """`` with KNOB at P %``, `` at every knob setting``, or nothing for a kit without
+        knobs; with its leading space."""
+        if not self.knobs:
+            return ""
+        return f" {EVERY_SETTING}" if self.everywhere else f" with {self.state.words}"
+
+    def builds(self) -> str:
+        """Words for how many builds fail, for the end of a finding's first clause."""
+        count = "all builds" if self.share >= 1.0 else f"{int(self.share * 100)} % of builds"
+        if self.nominal and self.share < SHARE_LIMIT:
+            return f"with nominal parts (in only {count} within part tolerances)"
+        if self.nominal:
+            return f"with nominal parts and in {count} within part tolerances"
+        return f"in {count} within part tolerances, though not with nominal parts"
+
+
+def past_limit(value: Range | None, limit: float, above: bool, quantity: str) -> str | None:
+    """Words saying that a computed value lies past ``limit`` (over it when ``above``), after
+    its nominal value in a finding; None when neither the nominal value nor the 5th-95th
+    percentile spread (at least 5 % of builds) goes past it."""
+    if value is None:
+        return None
+    side, edge = ("above", value.high) if above else ("below", value.low)
+    past = (lambda x: x > limit) if above else (lambda x: x < limit)
+    shown = format_value(limit, quantity)
+    if past(value.nominal):
+        return f", {side} {shown}"
+    if edge is not None and past(edge):
+        return (f", but {side} {shown} in at least {SHARE_LIMIT * 100:g} % of builds within part "
+                f"tolerances ({'up' if above else 'down'} to {format_value(edge, quantity)})")
+    return None
 
 
 @dataclass
@@ -52,16 +102,76 @@ class RuleContext:
                 if pos != nominal[knob.designator]:
                     words = f"{knob.name} at {round(pos * 100)} %"
                     settings.append((words, {**nominal, knob.designator: pos}))
-        return tuple(self._solve(words, positions) for words, positions in settings)
+        base = KitState(self.kit, nominal)
+        memo: dict = {}
+        return tuple(DcSetting(words, base if i == 0 else KitState(self.kit, positions, near=base),
+                               memo) for i, (words, positions) in enumerate(settings))
 
-    def _solve(self, words: str, positions: dict) -> DcSetting:
-        circuit = self.kit.netlist(positions)
-        return DcSetting(words, circuit, solve_dc(circuit))
+    def worst(self, fails: Callable[[Reading], Sequence[bool]]) -> Verdict | None:
+        """The state where ``fails`` (a reading -> whether each build fails) finds the most:
+        the nominal build first, then the largest share of tolerance builds; None when the
+        nominal build passes everywhere and fewer than SHARE_LIMIT of the builds fail."""
+        found, outcomes = None, set()
+        for state in self.states:
+            nominal = bool(np.asarray(fails(state.nominal))[0])
+            share = float(np.mean(np.asarray(fails(state.samples))))
+            outcomes.add((nominal, share))
+            if (nominal or share >= SHARE_LIMIT) and (
+                    found is None or (nominal, share) > (found.nominal, found.share)):
+                found = Verdict(state, nominal, share, False)
+        return None if found is None else replace(found, everywhere=len(outcomes) == 1,
+                                                  knobs=bool(self.kit.knobs))
+
+    @staticmethod
+    def shown(verdict: Verdict, measure: Callable[[Reading], np.ndarray],
+              high: bool = True) -> tuple[float, str]:
+        """The value a finding shows, with words before it: the nominal build's where it
+        fails, else the 95th percentile of the tolerance builds (5th with ``high`` False),
+        which lies past the limit since at least SHARE_LIMIT of them fail."""
+        if verdict.nominal:
+            return float(np.asarray(measure(verdict.state.nominal))[0]), ""
+        values = np.asarray(measure(verdict.state.samples), float)
+        percentile = 100.0 * (1.0 - SHARE_LIMIT) if high else 100.0 * SHARE_LIMIT
+        value = float(np.percentile(values, percentile, method="inverted_cdf"))
+        return value, "up to " if high else "as little as "
+
+    def setting(self, state: DcSetting, value: Callable[[Reading], float]) -> str:
+        """`` with KNOB at P %`` for ``state``, or `` at every knob setting`` when ``value``
+        (nominal) does not depend on the knobs, since naming a knob position would send the
+        maker to turn it; nothing for a kit without knobs. With its leading space."""
+        if not self.kit.knobs:
+            return ""
+        seen = [value(s.nominal) for s in self.states]
+        scale = max(abs(v) for v in seen)
+        if max(seen) - min(seen) <= KNOB_FREE * scale:
+            return f" {EVERY_SETTING}"
+        return f" with {state.words}"
 
     @cached_property
     def stresses(self) -> dict[str, Stress]:
         """Each rated part's worst DC stress over the knob states (see specs/ratings.py)."""
-        return worst_stresses(self.parts, self.states)
+        return {p.designator: self._stress(p) for p in self.parts if p.type in LIMITS}
+
+    def _stress(self, part: Part) -> Stress:
+        """Where the nominal build or SHARE_LIMIT of the builds exceed the part's derated
+        rating, the stress that shows it (the nominal build's, else the 95th percentile of
+        the builds); otherwise the nominal build's worst, the first setting winning a tie."""
+        element = self.states[0].circuit.element(part.designator)
+
+        def stress(reading: Reading) -> np.ndarray:
+            return part_stress(part.type, reading, element, reading.factor(part.designator))
+
+        def nominal(reading: Reading) -> float:
+            return float(stress(reading)[0])
+
+        limit = derated_limit(part.type, part.rating)
+        verdict = None if limit is None else self.worst(lambda r: stress(r) > limit)
+        if verdict is None:
+            value, i = max((nominal(s.nominal), -i) for i, s in enumerate(self.states))
+            return Stress(value, self.setting(self.states[-i], nominal).strip())
+        value, bound = self.shown(verdict, stress)
+        where = self.setting(verdict.state, nominal).strip()
+        return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:

@@ -1,4 +1,5 @@
-"""Rule cap-voltage: a capacitor whose DC voltage exceeds 80 % of its rating at any knob position.
+"""Rule cap-voltage: a capacitor whose DC voltage exceeds 80 % of its rating at any knob
+position, in the nominal build or in 5 % of the builds within part tolerances.
 
 The limit, and the flag on a polarised capacitor that states no rating, are the BOM's too:
 both read specs/ratings.py.

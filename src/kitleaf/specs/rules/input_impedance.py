@@ -1,4 +1,5 @@
-"""Rule input-impedance: a kit driven by a passive pickup that loads it below about 500 kΩ.
+"""Rule input-impedance: a kit driven by a passive pickup that loads it below about 500 kΩ,
+in the nominal build or in 5 % of the builds within part tolerances.
 
 A passive pickup loses treble into less than about 500 kΩ (common practice, no source); the
 rule applies only where the kit block's ``source:`` is a pickup (the default).
@@ -7,7 +8,7 @@ rule applies only where the kit block's ``source:`` is a pickup (the default).
 from __future__ import annotations
 
 from kitleaf.specs.rules import register
-from kitleaf.specs.rules._context import RuleContext
+from kitleaf.specs.rules._context import RuleContext, past_limit
 from kitleaf.values import format_value
 
 RULE = "input-impedance"
@@ -16,10 +17,11 @@ LIMIT_OHM = 500e3  # common practice, no source
 
 @register(RULE, "a kit input impedance below about 500 kΩ behind a passive pickup")
 def check(ctx: RuleContext):
-    z = ctx.specs.input_impedance.nominal
-    if ctx.kit.source.is_pickup and z < LIMIT_OHM:
+    z = ctx.specs.input_impedance
+    words = past_limit(z, LIMIT_OHM, False, "resistance")
+    if ctx.kit.source.is_pickup and words is not None:
         source = ctx.guide.kit.source
         yield ctx.kit_finding(RULE, (
-            f"the kit's input impedance is {format_value(z, 'resistance')}, below "
-            f"{format_value(LIMIT_OHM, 'resistance')}: it dulls a passive pickup; raise the "
-            "input bias resistors or put a buffer first"), source.span if source else None)
+            f"the kit's input impedance is {format_value(z.nominal, 'resistance')}{words}: it "
+            "dulls a passive pickup; raise the input bias resistors or put a buffer first"),
+            source.span if source else None)

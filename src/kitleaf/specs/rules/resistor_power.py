@@ -1,4 +1,5 @@
-"""Rule resistor-power: a resistor or pot dissipating over half its power rating.
+"""Rule resistor-power: a resistor or pot dissipating over half its power rating, in the
+nominal build or in 5 % of the builds within part tolerances.
 
 The limit, and the rating assumed for a part that states none, are the BOM's too: both read
 specs/ratings.py.

@@ -1,4 +1,5 @@
-"""Rule treble-corner: a signal stage whose high corner (-3 dB) lies below 10 kHz.
+"""Rule treble-corner: a signal stage whose high corner (-3 dB) lies below 10 kHz, in the
+nominal build or in 5 % of the builds within part tolerances.
 
 A guitar signal carries useful treble to about 10 kHz (common practice, no source); a stage
 that cuts below it darkens the sound unless that is its purpose (a tone stage).
@@ -7,7 +8,7 @@ that cuts below it darkens the sound unless that is its purpose (a tone stage).
 from __future__ import annotations
 
 from kitleaf.specs.rules import register
-from kitleaf.specs.rules._context import RuleContext
+from kitleaf.specs.rules._context import RuleContext, past_limit
 from kitleaf.values import format_value
 
 RULE = "treble-corner"
@@ -18,9 +19,9 @@ LIMIT_HZ = 10e3  # common practice, no source
 def check(ctx: RuleContext):
     for stage in ctx.kit.signal_stages:
         corner = ctx.specs.stage(stage.id).high_corner_hz
-        if corner is not None and corner.nominal < LIMIT_HZ:
+        words = past_limit(corner, LIMIT_HZ, False, "frequency")
+        if words is not None:
             yield ctx.finding(RULE, stage, (
                 f"stage '{stage.id}' cuts the treble: its high corner is "
-                f"{format_value(corner.nominal, 'frequency')}, below "
-                f"{format_value(LIMIT_HZ, 'frequency')}; check the capacitors that roll off "
-                "the top"))
+                f"{format_value(corner.nominal, 'frequency')}{words}; check the capacitors "
+                "that roll off the top"))

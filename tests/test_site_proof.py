@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from kitleaf.commands.serve import ignores, watched_paths
+from kitleaf.commands.proof import ignores, watched_paths
 from kitleaf.site.live import STAMP_PATH, LiveState, make_server, start
 
 PAGE = b"<!doctype html>\n<html><body>\n<p>guide</p>\n</body>\n</html>\n"
@@ -17,7 +17,7 @@ PAGE = b"<!doctype html>\n<html><body>\n<p>guide</p>\n</body>\n</html>\n"
 
 @pytest.fixture
 def served(tmp_path: Path):
-    root = tmp_path / "site"
+    root = tmp_path / "published"
     (root / "kit").mkdir(parents=True)
     (root / "index.html").write_bytes(PAGE)
     (root / "kit" / "plot.svg").write_bytes(b"<svg/>\n")
@@ -74,14 +74,15 @@ def test_missing_page_after_a_failed_build_shows_the_error(served):
 
 
 def test_watch_filter_skips_the_output_and_cache(tmp_path: Path):
-    wanted = ignores(tmp_path / "site")
+    wanted = ignores(tmp_path / "published")
     assert wanted(None, str(tmp_path / "guides" / "a.md"))
-    assert not wanted(None, str(tmp_path / "site" / "index.html"))
-    assert not wanted(None, str(tmp_path / ".site.new-1" / "index.html"))
+    assert not wanted(None, str(tmp_path / "published" / "index.html"))
+    assert not wanted(None, str(tmp_path / ".published.new-1" / "index.html"))
     assert not wanted(None, str(tmp_path / ".kitleaf-cache" / "plot" / "ab"))
 
 
 def test_watched_paths_include_the_site_theme(tmp_path: Path):
     (tmp_path / "guides").mkdir()
     (tmp_path / "themes" / "default").mkdir(parents=True)
+    (tmp_path / "models").mkdir()  # nothing reads it, so it is not watched
     assert watched_paths(tmp_path / "guides") == [tmp_path / "guides", tmp_path / "themes"]

@@ -1,18 +1,29 @@
-"""Schematic elements placed, measured and written once per process, for every later sheet.
+"""The one module that uses schemdraw's private internals: a drawing whose elements are placed,
+measured and written once per process, for every later sheet.
 
 The same kind draws the same wires and symbols in every guide, so an element asked for again at
 the same place is taken from :data:`PLACED` with its boxes and its SVG text instead of being
-placed and drawn anew. The elements and figures are schemdraw's, handed in by
-:mod:`kitleaf.render.schematic` (the one module that imports schemdraw); nothing here changes a
-byte of what schemdraw would write.
+placed and drawn anew. Nothing here changes a byte of what schemdraw would write: the tests
+compare a sheet written here with the same elements written through schemdraw's public
+``Drawing.add`` and ``get_imagedata``, and fail loudly when a schemdraw release moves an
+internal this module reads (underscored attributes of ``Drawing``, ``Element`` and the SVG
+figure). :mod:`kitleaf.render.schematic` uses schemdraw's public elements and this drawing.
 """
 
 from __future__ import annotations
 
+import math
 import xml.etree.ElementTree as ET
 from collections import ChainMap
 from collections.abc import Callable
 from dataclasses import dataclass, field
+
+import schemdraw
+import schemdraw.elements as elm
+from schemdraw.segments import SegmentText
+from schemdraw.transform import Transform
+from schemdraw.types import BBox
+from schemdraw.util import Point as SdPoint
 
 from kitleaf.render.schematic_text import Box, normalise_svg, tidy_svg
 
@@ -71,24 +82,23 @@ def flatten_defaults(element) -> None:
     element.params = ChainMap(element._userparams, element.elmparams, flat, element._dwgparams)
 
 
-def settle(element, fast_transform: type) -> None:
+def settle(element) -> None:
     """Freeze a placed element for the writer: its parameters as one flat dict (schemdraw looks
-    them up through a deep chain for every segment) and its transform as ``fast_transform``, the
-    same arithmetic without per-step objects. Neither changes once the element is placed; the
-    output is the same."""
+    them up through a deep chain for every segment) and its transform as a
+    :class:`FastTransform`, the same arithmetic without per-step objects. Neither changes once
+    the element is placed; the output is the same."""
     element.params = dict(element.params)
-    element.transform = fast_transform(element.transform)
+    element.transform = FastTransform(element.transform)
 
 
-def measured(element, text_segment: type) -> tuple[Box, Box]:
-    """A placed element's box in sheet coordinates without and with its text (segments of
-    schemdraw's ``text_segment`` class), in one pass: the same numbers as schemdraw's
-    ``get_bbox(transform=True)``."""
+def measured(element) -> tuple[Box, Box]:
+    """A placed element's box in sheet coordinates without and with its text, in one pass:
+    the same numbers as schemdraw's ``get_bbox(transform=True)``."""
     bare = whole = NOTHING
     for segment in element.segments:
         b = segment.xform(element.transform).get_bbox()
         whole = union(whole, b)
-        if not isinstance(segment, text_segment):
+        if not isinstance(segment, SegmentText):
             bare = union(bare, b)
     return bare, whole
 
@@ -129,3 +139,55 @@ def svg_document(head: str, parts: list[tuple[int, str]], title: str) -> str:
     if not head.endswith(" />"):  # the root alone, as an empty element
         raise RuntimeError("schemdraw wrote more than the SVG root around the elements")
     return normalise_svg(f"{head[:-3]}>{body}</svg>", title, tidy=(0, len(head) - 3))
+
+
+class SheetDrawing(schemdraw.Drawing):
+    """A drawing that measures each element once, when placed, and draws each placed element
+    once per process (see :func:`placed_once`, :func:`drawn_once`)."""
+
+    _known: Box = NOTHING  # schemdraw's box of nothing
+
+    def __init__(self, **kwargs) -> None:
+        super().__init__(**kwargs)
+        self._placed: list[Placed] = []
+
+    def place(self, element: elm.Element) -> Placed:
+        """``element`` placed as :meth:`add` would, but not added."""
+        flatten_defaults(element)
+        self._here, self._theta = element._place(self._here, self._theta, **self.dwgparams)
+        settle(element)
+        return Placed(element, *measured(element))
+
+    def put(self, placed: Placed) -> None:
+        self.elements.append(placed.element)
+        self._placed.append(placed)
+        self._known = union(self._known, placed.whole)
+
+    def get_bbox(self) -> BBox:
+        return BBox(*self._known)
+
+    def document(self, title: str) -> str:
+        """The sheet's SVG, the same document schemdraw writes."""
+        head = self.draw(show=False).getimage("svg").decode("utf-8")
+        return svg_document(head, self._parts, title)
+
+    def _drawelements(self) -> None:
+        self._parts = [part for placed in self._placed
+                       for part in drawn_once(placed, self.fig)]
+
+
+class FastTransform(Transform):
+    """schemdraw's transform with the same float operations in the same order, minus the
+    per-step point objects: scale about the local shift, rotate, then shift."""
+
+    def __init__(self, of: Transform) -> None:
+        super().__init__(of.theta, of.shift, of.localshift, of.zoom)
+        radians = math.radians(of.theta)
+        self._cos, self._sin = math.cos(radians), math.sin(radians)
+
+    def transform(self, pt) -> SdPoint:
+        x = (pt[0] + self.localshift[0]) * self.zoom[0]
+        y = (pt[1] + self.localshift[1]) * self.zoom[1]
+        co, so = self._cos, self._sin
+        return SdPoint((0 + x * co + y * -so + 0 + self.shift[0],
+                        0 + x * so + y * co + 0 + self.shift[1]))
