@@ -30,15 +30,20 @@ for (const name of ["alert", "confirm", "prompt", "print", "open"]) {
 }
 """
 # Anything in the document that runs script now or on a click, hover or load: script and
-# frame elements, event-handler attributes, links and sources with a scheme other than the
+# frame elements (but the theme's own: its scripts in static/, JSON data it embeds, a form that
+# posts nowhere), event-handler attributes, links and sources with a scheme other than the
 # page's own file, the web or mail; on a page, style blocks and style attributes the theme did
 # not write (a drawing styles itself, its text escaped as the ran-nothing check shows).
 SUSPECTS = """JSON.stringify((() => {
   const found = [], html = document.contentType === "text/html";
   for (const e of document.querySelectorAll("*")) {
     const tag = e.localName;
-    if (["script", "iframe", "frame", "object", "embed", "base", "form", "foreignObject"
-         ].includes(tag) || (html && tag === "style")) found.push("<" + tag + ">");
+    const ours = (tag === "script" && (e.type === "application/json" ||
+                                       (e.src || "").startsWith("%STATIC%")))
+                 || (tag === "form" && !e.hasAttribute("action") && !e.hasAttribute("target"));
+    if (!ours && (["script", "iframe", "frame", "object", "embed", "base", "form",
+                   "foreignObject"].includes(tag) || (html && tag === "style")))
+      found.push("<" + tag + ">");
     for (const a of e.attributes) {
       if (a.name.toLowerCase().startsWith("on")) found.push(tag + " " + a.name);
       if (html && a.name === "style" && !e.classList.contains("band"))
@@ -71,12 +76,15 @@ def browser():
         yield running
 
 
-def opened(browser: Browser, path: Path) -> tuple[list[str], list[str], str]:
-    """What ran on the page, what in it could still run, and its text as shown."""
+def opened(browser: Browser, path: Path, static: Path | None = None
+           ) -> tuple[list[str], list[str], str]:
+    """What ran on the page, what in it could still run, and its text as shown; ``static`` is
+    the folder of the theme's own scripts."""
     page = Page(browser, path.as_uri(), first_script=RECORDER)
     ran = page.evaluate("JSON.stringify(window.kitleafRan)")
     text = page.evaluate("document.documentElement.textContent")
-    return json.loads(ran), json.loads(page.evaluate(SUSPECTS)), text
+    ours = (static or path.parent / "static").as_uri() + "/"
+    return json.loads(ran), json.loads(page.evaluate(SUSPECTS.replace("%STATIC%", ours))), text
 
 
 def documents(site: Path) -> list[str]:
@@ -88,13 +96,13 @@ def test_nothing_runs_and_nothing_waits_to_run(site, browser):
     names = documents(site)
     assert {"index.html", "changes.html", f"{SLUG}/index.html", f"{SLUG}/bom.html",
             f"{SLUG}/response.svg", f"{SLUG}/overview.svg"} <= set(names)
-    found = {name: opened(browser, site / name)[:2] for name in names}
+    found = {name: opened(browser, site / name, site / "static")[:2] for name in names}
     assert {name: seen for name, seen in found.items() if seen != ([], [])} == {}
 
 
 def test_the_guide_page_shows_the_payloads_as_text(site, browser):
     """The hostile words reach the page, as words: the build did not just drop them."""
-    _, _, text = opened(browser, site / SLUG / "index.html")
+    _, _, text = opened(browser, site / SLUG / "index.html", site / "static")
     for shown in ("<script>alert(10)</script>", "<img src=x onerror=\"alert(11)\">",
                   "[a link](javascript:alert(14))", "<script>alert(9)</script>",
                   "Boost <script>alert(25)</script>", "<style>body{display:none}</style>"):
@@ -112,7 +120,9 @@ def test_the_checks_see_a_script_that_runs_and_one_that_waits(browser, tmp_path)
     """The harness itself: a page outside the site whose script runs and whose link waits."""
     (tmp_path / "bad.html").write_text(
         '<!doctype html><img src="none.png" onerror="alert(1)">'
-        '<a href="javascript:alert(2)">x</a><p style="color: red">y</p>')
+        '<a href="javascript:alert(2)">x</a><p style="color: red">y</p>'
+        '<form action="https://example.org/"></form><script>var a = 1;</script>')
     ran, suspects, _ = opened(browser, tmp_path / "bad.html")
     assert ran == ["alert(1)"]
-    assert set(suspects) == {"img onerror", "a href=javascript:alert(2)", "p style"}
+    assert set(suspects) == {"img onerror", "a href=javascript:alert(2)", "p style", "<form>",
+                             "<script>"}

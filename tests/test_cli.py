@@ -313,3 +313,10 @@ def test_the_command_line_loads_numpy_only_after_setting_threads():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout
     assert out.strip() == "False"
+
+
+def test_new_guides_with_the_same_initials_get_their_own_codes(tmp_path, capsys):
+    for name in ("Fern Fuzz", "Fast Fuzz"):
+        assert main(["new", name, "--dir", str(tmp_path)]) == 0
+    assert main(["check", str(tmp_path), "--fail-on-findings"]) == 0, capsys.readouterr().err
+    assert "code: FF-2" in (tmp_path / "fast-fuzz.md").read_text(encoding="utf-8")

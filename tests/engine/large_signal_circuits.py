@@ -12,9 +12,13 @@ from kitleaf.engine import Circuit
 SETTLE_S = 0.04  # 40 ms: over 15 of the slowest time constant below
 
 
+def _driven(title: str) -> Circuit:
+    """A 9 V supply and the AC drive at ``in``."""
+    return Circuit(title).vsource("VCC", "vcc", "0", dc=9.0).vsource("VIN", "in", "0", ac=1.0)
+
+
 def _supplied(title: str) -> Circuit:
-    c = Circuit(title).vsource("VCC", "vcc", "0", dc=9.0).vsource("VIN", "in", "0", ac=1.0)
-    return c.vsource("VREF", "ref", "0", dc=4.5)
+    return _driven(title).vsource("VREF", "ref", "0", dc=4.5)
 
 
 def _series_clipper(title: str, ohms: float, model: str) -> Circuit:
@@ -44,8 +48,7 @@ def led_clipper() -> Circuit:
 
 def common_emitter() -> Circuit:
     """A 2N3904 common-emitter stage (gain about 4) that saturates and cuts off when driven."""
-    c = Circuit("common emitter").vsource("VCC", "vcc", "0", dc=9.0)
-    c.vsource("VIN", "in", "0", ac=1.0)
+    c = _driven("common emitter")
     c.capacitor("C1", "in", "b", 220e-9).resistor("R1", "vcc", "b", 47e3)
     c.resistor("R2", "b", "0", 10e3).bjt("Q1", "c", "b", "e", "2N3904")
     c.resistor("RC", "vcc", "c", 4.7e3).resistor("RE", "e", "0", 1e3)
@@ -54,8 +57,7 @@ def common_emitter() -> Circuit:
 
 def jfet_common_source() -> Circuit:
     """A J201 common-source stage with an unbypassed source resistor."""
-    c = Circuit("JFET common source").vsource("VCC", "vcc", "0", dc=9.0)
-    c.vsource("VIN", "in", "0", ac=1.0)
+    c = _driven("JFET common source")
     c.capacitor("C1", "in", "g", 22e-9).resistor("RG", "g", "0", 100e3)
     c.jfet("Q1", "d", "g", "s", "J201").resistor("RD", "vcc", "d", 6.8e3)
     c.resistor("RS", "s", "0", 470.0)
@@ -65,8 +67,7 @@ def jfet_common_source() -> Circuit:
 def direct_coupled_fuzz() -> Circuit:
     """Two NPN stages, the first's collector straight into the second's base, biased by
     feedback from the second's emitter to the first's base."""
-    c = Circuit("two-transistor fuzz").vsource("VCC", "vcc", "0", dc=9.0)
-    c.vsource("VIN", "in", "0", ac=1.0)
+    c = _driven("two-transistor fuzz")
     c.capacitor("C1", "in", "b1", 100e-9).bjt("Q1", "c1", "b1", "0", "2N5088")
     c.resistor("RC1", "vcc", "c1", 47e3).bjt("Q2", "c2", "c1", "e2", "2N5088")
     c.resistor("RC2", "vcc", "c2", 6.8e3).resistor("RE2", "e2", "0", 1e3)
@@ -85,8 +86,7 @@ def opamp_rail_clip() -> Circuit:
 
 def emitter_follower() -> Circuit:
     """A 2N3904 emitter follower into a 4.7 kohm load: it cuts off on deep negative swings."""
-    c = Circuit("emitter follower").vsource("VCC", "vcc", "0", dc=9.0)
-    c.vsource("VIN", "in", "0", ac=1.0)
+    c = _driven("emitter follower")
     c.capacitor("C1", "in", "b", 47e-9).resistor("R1", "vcc", "b", 100e3)
     c.resistor("R2", "b", "0", 100e3).bjt("Q1", "vcc", "b", "e", "2N3904")
     c.resistor("RE", "e", "0", 10e3)

@@ -21,6 +21,8 @@ def ranking_text(title: str, readings: Readings, ranking: Ranking,
              f"{readings.supply_v:g} V, {b.text}.", ""]
     lines += _table(readings, ranking, measured)
     lines.append("")
+    if readings.unsolved:
+        lines += [unsolved_text(readings), ""]
     if ranking.fits_good:
         lines.append("These readings fit a good build. If the kit still does not work, check "
                      "what no DC reading shows (the jacks, the footswitch wiring, the signal "
@@ -66,6 +68,7 @@ def ranking_json(guide: str, readings: Readings, ranking: Ranking,
         "black_probe": ranking.black,
         "readings": measured,
         "fits_good_build": ranking.fits_good,
+        "not_computed": [f.key for f in readings.unsolved],
         "candidates": [
             {"fault": c.fault.key, "kind": c.fault.kind, "part": c.fault.part,
              "text": c.fault.text, "probability": round(c.probability, 4),
@@ -83,3 +86,9 @@ def points_text(readings: Readings, black_key: str) -> str:
     width = max(len(p.name) for p in readings.probes)
     return "\n".join(f"{p.name:<{width}}  {meter_volts(readings.centre[0, i, b]):>8}  {p.label}"
                      for i, p in enumerate(readings.probes))
+
+
+def unsolved_text(readings: Readings) -> str:
+    """The faults left out of every ranking because no DC operating point was found."""
+    return ("Not ranked: kitleaf found no DC operating point for "
+            + "; ".join(f.text for f in readings.unsolved) + ".")

@@ -15,6 +15,7 @@ import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.engine.batch import solve_batch
+from kitleaf.errors import SolveError
 from kitleaf.faults.board import R_OFF, Board, build_board, meter_switch
 from kitleaf.faults.catalogue import catalogue
 from kitleaf.faults.model import GOOD, Fault
@@ -37,6 +38,9 @@ class Readings:
     centre: np.ndarray = field(repr=False)
     low: np.ndarray = field(repr=False)
     high: np.ndarray = field(repr=False)
+    # Faults whose DC operating point the engine could not find: left out of every ranking,
+    # and named wherever the faults are listed.
+    unsolved: tuple[Fault, ...] = ()
 
     def index(self, key: str) -> int:
         return next(i for i, f in enumerate(self.faults) if f.key == key)
@@ -48,7 +52,35 @@ def solve_faults(kit: KitCircuit, supply_v: float | None = None,
     points = probes(kit)
     board = build_board(kit, supply_v, _meters(points))
     faults = (GOOD, *(f for f in catalogue(kit, board) if f.dc_visible))
-    return readings_of(board, faults, points, samples)
+    try:
+        return readings_of(board, faults, points, samples)
+    except SolveError:
+        return _readings_by_halves(board, faults, points, samples)
+
+
+def _readings_by_halves(board: Board, faults: tuple[Fault, ...], points: tuple[Probe, ...],
+                        samples: int) -> Readings:
+    """The faults solved in ever smaller batches, so the few a batch cannot solve (a chip
+    reversed on a rail the model cannot settle) are set aside alone; the good build must
+    solve."""
+    solved, unsolved = _split_solve(board, faults, points, samples)
+    if not solved or solved[0].faults[0] is not GOOD:
+        raise SolveError("the good build's DC operating point did not converge")
+    stack = lambda name: np.concatenate([getattr(r, name) for r in solved])  # noqa: E731
+    return Readings(tuple(f for r in solved for f in r.faults), points, board.supply_v,
+                    stack("centre"), stack("low"), stack("high"), tuple(unsolved))
+
+
+def _split_solve(board, faults, points, samples) -> tuple[list[Readings], list[Fault]]:
+    try:
+        return [readings_of(board, faults, points, samples)], []
+    except SolveError:
+        if len(faults) == 1:
+            return [], list(faults)
+    half = len(faults) // 2
+    first, lost_first = _split_solve(board, faults[:half], points, samples)
+    second, lost_second = _split_solve(board, faults[half:], points, samples)
+    return first + second, lost_first + lost_second
 
 
 def _pairs(points: tuple[Probe, ...]) -> tuple[tuple[str, str], ...]:

@@ -14,6 +14,7 @@ from urllib.parse import quote
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.faults.report import unsolved_text
 from kitleaf.faults.solve import solve_faults
 from kitleaf.faults.symptoms import page_data, symptom_rows
 from kitleaf.guide import parse_guide
@@ -100,7 +101,8 @@ def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
 
     def solve() -> dict:
         readings = solve_faults(kit)
-        return {"rows": symptom_rows(readings), "data": page_data(readings)}
+        return {"rows": symptom_rows(readings), "data": page_data(readings),
+                "unsolved": unsolved_text(readings) if readings.unsolved else ""}
 
     found = cache.load("symptoms", key)
     if isinstance(found, dict):

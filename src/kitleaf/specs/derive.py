@@ -103,7 +103,9 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
-        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs),
+        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs,
+                              impedances(kit, first, kit.stage_nodes(first)[0],
+                                         last, kit.stage_nodes(last)[1])),
         knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
@@ -182,13 +184,13 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
                           None, None, None, base.range(current))
     node_in, node_out = kit.stage_nodes(stage.id)
     knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
+    z = impedances(kit, stage.id, node_in, stage.id, node_out)
     return StageSpecs(
         stage.id, stage.kind, stage.title, True, voltages,
-        knob_sweep(solved, node_in, node_out, knobs),
+        knob_sweep(solved, node_in, node_out, knobs, z),
         base.range(m.gain_db(node_in, node_out)),
         base.range(m.corner(node_in, node_out, 0)), base.range(m.corner(node_in, node_out, 1)),
-        base.range(m.input_impedance(stage.id, node_in)),
-        base.range(output_measure(kit, stage.id, node_out)),
+        base.range(z[0]), base.range(z[1]),
         base.range(m.supply_current(supply_meter(stage.id))),
         curves=curves(solved, node_in, node_out, knobs),
         band_gain_db=base.range(m.band_gain_db(node_in, node_out)),
@@ -207,9 +209,17 @@ def output_measure(kit: KitCircuit, stage_id: str, node_out: str) -> m.Measure:
     return m.output_impedance(node_out, None, kit.load)
 
 
-def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs) -> tuple[KnobPoint, ...]:
-    """Gain at 1 kHz at each step of each knob, the other knobs at half way."""
-    return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)))
+def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
+               node_out: str) -> tuple[m.Measure, m.Measure]:
+    """The input impedance of stage ``first`` and the output impedance of stage ``last``."""
+    return m.input_impedance(first, node_in), output_measure(kit, last, node_out)
+
+
+def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs,
+               z: tuple[m.Measure, m.Measure]) -> tuple[KnobPoint, ...]:
+    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way."""
+    return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)),
+                           state.range(z[0]), state.range(z[1]))
                  for k in knobs
                  for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
 

@@ -31,7 +31,9 @@ def _range(r: Range | None, scale: float = 1.0) -> dict | None:
 
 
 def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
-    return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db)}
+    return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
+             "input_impedance_ohm_1khz": _range(p.input_impedance),
+             "output_impedance_ohm_1khz": _range(p.output_impedance)}
             for p in points]
 
 
@@ -103,6 +105,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
         "gain_db_1khz": _range(specs.gain_db),
+        "gain_db_1khz_from_source": _range(specs.source_gain_db),
         "band_gain_db": _range(specs.band_gain_db),
         "gain_db_1khz_by_knob": _sweep(specs.knob_sweep),
         "gain_db_1khz_knob_ends": _sweep(specs.knob_ends),

@@ -17,6 +17,7 @@ import numpy as np
 from kitleaf.circuit.chain import DEFAULT_LOAD, INPUT, LOW_Z, OUTPUT, KitCircuit
 from kitleaf.circuit.kind import Stage
 from kitleaf.specs import measures as m
+from kitleaf.specs.model import SOURCE_GAIN_LABEL
 from kitleaf.specs.response import band_peak
 from kitleaf.specs.solve import KitState, View, nominal_positions
 
@@ -102,7 +103,7 @@ def source_loading(kit: KitCircuit, base: KitState) -> Comparison | None:
     view = base.nominal
     jack, source = _peak(INPUT)(view), _peak(SOURCE_NODE)(view)
     rows = (
-        Row("gain at 1 kHz", "db", _value(m.gain_db(INPUT, OUTPUT), view),
+        Row(SOURCE_GAIN_LABEL, "db", _value(m.gain_db(INPUT, OUTPUT), view),
             _value(m.gain_db(SOURCE_NODE, OUTPUT), view)),
         Row("highest gain, 10 Hz to 40 kHz", "db", float(jack[0][0]), float(source[0][0])),
         Row("where the highest gain lies", "frequency", float(jack[1][0]), float(source[1][0])),

@@ -28,6 +28,10 @@ FIELDS = (
     ("supply_current", "current", "current", "current draw"),
 )
 
+# KnobPoint field -> the same, for the figures given at every knob position.
+KNOB_FIELDS = tuple(f for f in FIELDS if f[0] in ("gain_db", "input_impedance",
+                                                    "output_impedance"))
+
 
 @dataclass(frozen=True)
 class Computed:
@@ -46,6 +50,10 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
     """Every name a guide may use, in a stable order."""
     found: dict[str, Computed] = {}
     _add_specs(found, KIT, specs, "the kit")
+    if specs.source_gain_db is not None:
+        found[f"{KIT}.gain-from-source"] = Computed(
+            f"{KIT}.gain-from-source", specs.source_gain_db, "db",
+            "gain at 1 kHz from the source's own voltage, the kit")
     found[f"{KIT}.supply"] = Computed(f"{KIT}.supply", Range(specs.supply_v), "voltage",
                                       "supply voltage")
     local = {s.id: [tp.node for tp in kit.kind(s).test_points(s)] for s in kit.stages}
@@ -71,9 +79,12 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
             full = f"{prefix}.{name}"
             found[full] = Computed(full, value, quantity, f"{label}, {title}")
     for point in specs.knob_sweep:
-        full = f"{prefix}.gain.{_knob_suffix(point)}"
-        found[full] = Computed(full, point.gain_db, "db",
-                               f"gain at 1 kHz, {title}, {_knob_words(point)}")
+        for field, name, quantity, label in KNOB_FIELDS:
+            value = getattr(point, field)
+            if value is not None:
+                full = f"{prefix}.{name}.{_knob_suffix(point)}"
+                found[full] = Computed(full, value, quantity,
+                                       f"{label}, {title}, {_knob_words(point)}")
     if specs.drive is not None:
         for setting in specs.drive.settings:
             _add_drive(found, prefix, setting, title)

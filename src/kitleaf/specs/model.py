@@ -17,6 +17,7 @@ if TYPE_CHECKING:  # loading.py solves circuits, which in turn build these recor
 # writing specs does not import the engine)
 SAMPLES = 200  # enough for stable 5th and 95th percentiles at the shown precision
 SEED = 1
+SOURCE_GAIN_LABEL = "gain at 1 kHz"  # the source-loading table's row for the gain
 
 
 @dataclass(frozen=True)
@@ -30,10 +31,13 @@ class Range:
 
 @dataclass(frozen=True)
 class KnobPoint:
-    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation)."""
+    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation), and the
+    impedances there (None where not measured: the knob ends, the power section)."""
 
     positions: tuple[tuple[str, float], ...]
     gain_db: Range
+    input_impedance: Range | None = None
+    output_impedance: Range | None = None
 
 
 @dataclass(frozen=True)
@@ -189,3 +193,13 @@ class KitSpecs:
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)
+
+    @property
+    def source_gain_db(self) -> Range | None:
+        """Gain at 1 kHz from the source's own voltage (nominal parts), as the page's
+        source-loading table has it; None for a low-impedance source (no such table)."""
+        if self.source_loading is None:
+            return None
+        gain = next((r.second for r in self.source_loading.rows
+                     if r.label == SOURCE_GAIN_LABEL), None)
+        return None if gain is None else Range(gain)

@@ -12,8 +12,13 @@ import numpy as np
 from kitleaf.specs.sampled import Batch
 
 REFERENCE_HZ = 1000.0
-# The plotted and searched band: 10 Hz to 40 kHz, log-spaced, with 1 kHz itself on the grid.
+# The plotted band: 10 Hz to 40 kHz, log-spaced, with 1 kHz itself on the grid.
 FREQS = np.unique(np.append(np.geomspace(10.0, 40e3, 160), REFERENCE_HZ))
+# The corner search reaches far beyond the plotted band, so a corner is reported wherever it
+# lies; the plotted grid is kept inside it, so the band gain and its frequency stay the same.
+SEARCH_LOW_HZ, SEARCH_HIGH_HZ = 0.1, 10e6
+SEARCH = np.unique(np.concatenate((np.geomspace(SEARCH_LOW_HZ, FREQS[0], 81), FREQS,
+                                   np.geomspace(FREQS[-1], SEARCH_HIGH_HZ, 97))))
 AGREEMENT = 1e-6  # pole-residue against direct solve, relative to the largest node voltage
 FALSE_POSITION_STEPS = 8  # solves per crossing: far below the shown three figures
 
@@ -73,41 +78,41 @@ def band_peak(h: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def corners(sweep: Sweep, node_in: str, node_out: str) -> tuple[np.ndarray, np.ndarray]:
     """Per sample, the low and high -3.01 dB frequencies walking away from the band peak.
 
-    The grid brackets each crossing and bisection in log f on the exact response (solved
+    The peak is the highest gain on the plotted band; the walk goes on over :data:`SEARCH`,
+    which brackets each crossing, and regula falsi in log f on the exact response (solved
     afresh at each trial frequency) pins it down; NaN where the response stays within 3 dB
-    to the edge of the band.
+    down to :data:`SEARCH_LOW_HZ` or up to :data:`SEARCH_HIGH_HZ`.
     """
-    grid_h = sweep.ratio(node_in, node_out)
-
     def response(freqs: np.ndarray) -> np.ndarray:
         x = sweep.at(freqs, [node_in, node_out])
         return x[:, :, 1] / x[:, :, 0]
 
-    peak_db, start = band_peak(grid_h)
+    wide = response(SEARCH)
+    peak_db, start = band_peak(sweep.ratio(node_in, node_out))
     target = 10.0 ** (peak_db / 20.0) / np.sqrt(2.0)
-    mags = np.abs(grid_h)
+    mags = np.abs(wide)
     return (_crossing(response, mags, target, start, upward=False),
             _crossing(response, mags, target, start, upward=True))
 
 
 def _crossing(response, mags: np.ndarray, target: np.ndarray, start: np.ndarray,
               upward: bool) -> np.ndarray:
-    """Per sample, the first grid step from ``start`` where |response| drops below
-    ``target``, then the crossing inside it in log f; NaN when there is none.
+    """Per sample, the first step of :data:`SEARCH` from ``start`` where |response| drops
+    below ``target``, then the crossing inside it in log f; NaN when there is none.
 
     The crossing is found by regula falsi with the Illinois step (Dahlquist and Björck,
     Numerical Methods, 6.2.3): on a smooth response it gains several digits per solve, where
     bisection gains one bit, and every step keeps the crossing bracketed."""
-    side = FREQS[None, :] > start[:, None] if upward else FREQS[None, :] < start[:, None]
+    side = SEARCH[None, :] > start[:, None] if upward else SEARCH[None, :] < start[:, None]
     below = (mags < target[:, None]) & side
     walk = below if upward else below[:, ::-1]
     first = np.argmax(walk, axis=1)
     found = walk[np.arange(first.size), first]
-    outer_i = first if upward else FREQS.size - 1 - first
-    inner_i = np.clip(outer_i - 1 if upward else outer_i + 1, 0, FREQS.size - 1)
+    outer_i = first if upward else SEARCH.size - 1 - first
+    inner_i = np.clip(outer_i - 1 if upward else outer_i + 1, 0, SEARCH.size - 1)
     rows = np.arange(first.size)
     log_target = np.log(target)
-    inner, outer = np.log(FREQS[inner_i]), np.log(FREQS[outer_i])
+    inner, outer = np.log(SEARCH[inner_i]), np.log(SEARCH[outer_i])
     g_in = np.log(np.maximum(mags[rows, inner_i], 1e-300)) - log_target  # >= 0: above
     g_out = np.log(np.maximum(mags[rows, outer_i], 1e-300)) - log_target  # < 0: below
     for _ in range(FALSE_POSITION_STEPS):

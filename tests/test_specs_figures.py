@@ -1,0 +1,128 @@
+"""Figures beyond the headline: the gain from the source's own voltage, impedances at every
+knob position and corners outside the plotted band."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from tests.engine.ngspice_run import ac_sweep, half_power_corners
+from tests.stages.kits import POWER, guide_text, stage_block
+
+from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
+from kitleaf.guide import parse_guide
+from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.export import specs_to_json
+from kitleaf.specs.lookup import computed_values
+
+# Inverting gain -Rf/Rin = -1 (0 dB), input impedance Rin (Horowitz & Hill, The Art of
+# Electronics 3e, 4.2.1); the 100 µF input cap is a short at 1 kHz.
+INVERTING = stage_block("inv", "opamp-inverting", "input: R3 10k",
+                        "input-cap: C3 100u electrolytic",
+                        "opamp: U1A TL072", "feedback: R4 10k", "output-cap: C4 10u")
+
+
+def specs_of(*blocks: str, knobs: tuple[str, ...] = (), **kit):
+    text = guide_text(*blocks, **kit)
+    # The kit block's closing fence is the first bare one.
+    text = text.replace("```\n", "".join(f"knob: {k}\n" for k in knobs) + "```\n", 1)
+    guide = parse_guide("test.md", text)
+    kit_circuit = build_circuit(guide)
+    return kit_circuit, derive_specs(guide, kit_circuit)
+
+
+def divider_db(r_top: float, r_bottom: float) -> float:
+    """A voltage divider's ratio in dB (Horowitz & Hill 3e, 1.2.3)."""
+    return 20 * math.log10(r_bottom / (r_top + r_bottom))
+
+
+class TestGainFromTheSource:
+    def test_a_10k_source_into_a_10k_input_loses_6_db(self):
+        kit, specs = specs_of(POWER, INVERTING, source="10k")
+        from_source = specs_to_json(specs)["gain_db_1khz_from_source"]
+        expected = specs.gain_db.nominal + divider_db(10e3, 10e3)
+        assert from_source["nominal"] == pytest.approx(expected, abs=0.02)
+        named = computed_values(specs, kit)["kit.gain-from-source"]
+        assert named.value.nominal == pytest.approx(expected, abs=0.02)
+
+    def test_a_low_impedance_source_has_no_separate_figure(self):
+        kit, specs = specs_of(POWER, INVERTING)
+        assert specs_to_json(specs)["gain_db_1khz_from_source"] is None
+        assert "kit.gain-from-source" not in computed_values(specs, kit)
+
+
+VOLUME = stage_block("vol", "volume", "volume: VR1 B100k")
+
+
+def parallel(a: float, b: float) -> float:
+    return a * b / (a + b)
+
+
+class TestImpedancesAtEveryKnobPosition:
+    """A linear 100k volume pot from a 100 Ω source into the 1 MΩ load: at rotation p the
+    input sees (1-p)R in series with pR || 1M, the output (1-p)R + 100 Ω in parallel with pR
+    (series and parallel resistors and a divider's Thevenin equivalent, Horowitz & Hill 3e,
+    1.2.2-1.2.5)."""
+
+    def test_the_json_names_and_page_rows_follow_the_pot(self):
+        kit, specs = specs_of(POWER, VOLUME, knobs=("Level = VR1",))
+        by_knob = specs_to_json(specs)["gain_db_1khz_by_knob"]
+        names = computed_values(specs, kit)
+        for point in by_knob:
+            p = point["knobs"]["Level"]
+            z_in = (1 - p) * 100e3 + parallel(p * 100e3, 1e6)
+            z_out = parallel((1 - p) * 100e3 + 100, p * 100e3) if 0 < p < 1 else None
+            got_in = point["input_impedance_ohm_1khz"]["nominal"]
+            assert got_in == pytest.approx(z_in, rel=0.01)
+            name = f"kit.input-impedance.level-{round(p * 100)}"
+            assert names[name].value.nominal == pytest.approx(z_in, rel=0.01)
+            if z_out is not None:
+                got_out = point["output_impedance_ohm_1khz"]["nominal"]
+                assert got_out == pytest.approx(z_out, rel=0.01)
+                stage_name = f"vol.output-impedance.level-{round(p * 100)}"
+                assert names[stage_name].value.nominal == pytest.approx(z_out, rel=0.01)
+
+
+def rc_corner(r: float, c: float) -> float:
+    """f = 1 / (2 pi R C) (Horowitz & Hill, The Art of Electronics 3e, 1.7.1)."""
+    return 1 / (2 * math.pi * r * c)
+
+
+class TestCornersOutsideThePlottedBand:
+    """RC stages into the 1 MΩ load; a gain is output over input voltage, so the source's
+    resistance drops out and R is the stage's resistor in parallel with the load
+    (Horowitz & Hill 3e, 1.7.1 and 1.2.5)."""
+
+    def test_a_high_pass_corner_near_3_hz(self):
+        kit, specs = specs_of(POWER, stage_block("hp", "high-pass", "series-cap: C1 560n film",
+                                                 "shunt-resistor: R1 100k"))
+        expected = rc_corner(parallel(100e3, 1e6), 560e-9)
+        low = specs_to_json(specs)["low_corner_hz"]["nominal"]
+        assert expected < 10.0
+        assert low == pytest.approx(expected, rel=0.01)
+        assert computed_values(specs, kit)["hp.low-corner"].value.nominal == pytest.approx(
+            expected, rel=0.01)
+
+    def test_a_low_pass_corner_near_80_khz(self):
+        kit, specs = specs_of(POWER, stage_block("lp", "low-pass", "series-resistor: R1 2k",
+                                                 "shunt-cap: C1 1n film"))
+        expected = rc_corner(parallel(2e3, 1e6), 1e-9)
+        high = specs_to_json(specs)["high_corner_hz"]["nominal"]
+        assert expected > 40e3
+        assert high == pytest.approx(expected, rel=0.01)
+
+
+@pytest.mark.slow
+def test_corners_beyond_the_band_agree_with_ngspice():
+    """A high-pass into a low-pass, corners near 3 Hz and 80 kHz, against Debian's ngspice."""
+    blocks = (POWER, stage_block("hp", "high-pass", "series-cap: C1 560n film",
+                                 "shunt-resistor: R1 100k"),
+              stage_block("lp", "low-pass", "series-resistor: R2 2k", "shunt-cap: C2 1n film"))
+    kit, specs = specs_of(*blocks)
+    freqs, theirs = ac_sweep(kit.netlist({}), SOURCE, [INPUT, OUTPUT], 0.1, 10e6,
+                             per_decade=400)
+    low, high = half_power_corners(freqs, theirs[OUTPUT] / theirs[INPUT], 1000.0)
+    assert low < 10.0 and high > 40e3
+    assert specs.low_corner_hz.nominal == pytest.approx(low, rel=0.005)
+    assert specs.high_corner_hz.nominal == pytest.approx(high, rel=0.005)
