@@ -22,7 +22,7 @@ from kitleaf.engine.batch import BatchResult
 from kitleaf.engine.harmonics import Distortion, distortion
 from kitleaf.engine.newton import extend
 from kitleaf.engine.reduce import partition
-from kitleaf.engine.reduced_shooting import members, shoot
+from kitleaf.engine.reduced_shooting import members, shoot, start_at
 from kitleaf.engine.stepper import Drive, History, advance
 from kitleaf.errors import SolveError
 
@@ -107,9 +107,13 @@ def _solve(batches: Sequence[BatchResult], source: str, levels: np.ndarray, freq
     built = members(batches, source, levels, omega, rows, points)
     if built is None:
         return _solve_full(batches, source, levels, freq, rows, points, None)
-    mem, x0 = built
-    shot = shoot(mem, x0, batches[0].system.cap_columns()[0], partition(batches[0].system).keep,
-                 len(rows), points)
+    mem, history = built
+    start = start_at(history, batches[0].system.cap_columns()[0],
+                     partition(batches[0].system).keep)
+    # a member gone to NaN or infinity is flagged unsettled by its steps and solved again
+    # below; its numbers must not stop the batch on the way
+    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+        shot = shoot(mem, start, len(rows), points)
     waves = np.concatenate([shot.waves[..., -1:], shot.waves[..., :-1]], axis=-1)
     ok = shot.done.copy()
     reasons = np.full(ok.size, "", dtype=object)

@@ -30,8 +30,8 @@ from kitleaf.engine.reduced_steps import (
 )
 
 MAX_SHOTS = 12
-SHOT_RELTOL = 1e-9  # the ports' mismatch allowed, as the full shooting's (periodic.py)
-SHOT_DRIVE = 1e-4
+SHOT_RELTOL = 1e-9  # the ports' mismatch allowed: of each port's value,
+SHOT_DRIVE = 3e-4  # and of the member's drive level
 
 
 def members(batches: Sequence[BatchResult], source: str, levels: np.ndarray, omega: float,
@@ -109,52 +109,80 @@ def _member_order(variants: int, count: int, samples: int) -> np.ndarray:
 
 
 @dataclass
+class Start:
+    """Where a pass begins, per member: the kept unknowns at t = 0, -h, -2h, the ports at
+    0 and -h side by side (B, 2m), and each step's first guess (steps, B, t) or None."""
+
+    x_t: list[np.ndarray]
+    q: np.ndarray
+    trail: np.ndarray | None = None
+
+    def take(self, idx: np.ndarray) -> Start:
+        return Start([x[idx] for x in self.x_t], self.q[idx],
+                     None if self.trail is None else self.trail[:, idx])
+
+
+def start_at(history: np.ndarray, ports: np.ndarray, keep: np.ndarray) -> Start:
+    """The start of full unknowns ``history`` (3, B, n) at t = 0, -h, -2h."""
+    return Start([x[:, keep] for x in history],
+                 np.concatenate([history[0] @ ports, history[1] @ ports], axis=1))
+
+
+@dataclass
 class Shot:
-    """Each member's period (B, outputs, steps), start ports, and how it ended."""
+    """Each member's period (B, outputs, steps), how it ended, and where its last pass
+    began (with the shooting's last correction applied when it had not settled)."""
 
     waves: np.ndarray
-    ports: np.ndarray
     done: np.ndarray
     failed: np.ndarray
     passes: int
+    last: Start
 
 
-def shoot(mem: Members, history: np.ndarray, ports: np.ndarray, keep: np.ndarray,
-          outputs_count: int, steps: int) -> Shot:
-    """Newton on the start's two port values until a period ends where it began, from
-    ``history`` (3, B, n) at t = 0, -h, -2h. A settled (or failed) member keeps its last
-    period and leaves the batch."""
-    count = history.shape[1]
+def shoot(mem: Members, first: Start, outputs_count: int, steps: int,
+          tolerance: tuple[float, float] = (SHOT_RELTOL, SHOT_DRIVE),
+          max_shots: int = MAX_SHOTS) -> Shot:
+    """Newton on the start's two port values until a period ends where it began (within
+    ``tolerance``: a share of each port's value and of the member's drive level). A
+    settled (or failed) member keeps its last period and leaves the batch."""
+    count = first.q.shape[0]
     h = 2.0 * np.pi / mem.omega / steps
-    x_t = [x[:, keep] for x in history]
-    xe = [mem.extended(x_t[0], 0.0), mem.extended(x_t[1], -h)]
-    start = np.concatenate([history[0] @ ports, history[1] @ ports], axis=1)
-    st = _started(x_t, xe, start, mem.devices.junctions(xe[0]))
+    xe = [mem.extended(first.x_t[0], 0.0), mem.extended(first.x_t[1], -h)]
+    start, trail = first.q, first.trail
+    st = _started(first.x_t, xe, start, mem.devices.junctions(xe[0]))
     waves = np.zeros((count, outputs_count, steps))
     done, failed = np.zeros(count, bool), np.zeros(count, bool)
-    active, part, trail = np.arange(count), mem, None
+    last = Start([x.copy() for x in first.x_t], start.copy(),
+                 np.zeros((steps, *first.x_t[0].shape)))
+    active, part = np.arange(count), mem
     passes = 0
-    for passes in range(1, MAX_SHOTS + 1):
-        trail = _period(part, st, steps, trail, waves, active)
+    for passes in range(1, max_shots + 1):
+        solved, moves = _period(part, st, steps, trail, waves, active)
+        last.trail[:, active] = solved
         failed[active] = st.failed
         end = np.concatenate(st.q, axis=1)  # (q_N, q_N-1) against (q_0, q_-1)
         residual = end - start
-        allowed = SHOT_RELTOL * np.abs(start) + SHOT_DRIVE * part.amplitude[:, None] + 1e-15
+        allowed = tolerance[0] * np.abs(start) + tolerance[1] * part.amplitude[:, None] + 1e-15
         settled = ~st.failed & np.all(np.abs(residual) <= allowed, axis=1)
         done[active] = settled
         going = ~settled & ~st.failed
-        if not going.any() or passes == MAX_SHOTS:
+        for k, x in enumerate(st.x_t):
+            last.x_t[k][active] = x
+        last.q[active] = start
+        if not going.any() or passes == max_shots:
             break
         idx = np.flatnonzero(going)
         monodromy = np.concatenate(st.sens, axis=1)[idx] - np.eye(start.shape[1])
         delta = -np.einsum("bmk,bk->bm", np.linalg.pinv(monodromy), residual[idx])
         start = start[idx] + delta
+        last.q[active[idx]] = start
         st = _started([x[idx] for x in st.x_t], [x[idx] for x in st.xe], start,
                       [v[idx] for v in st.vstar])
         # each step's guess for the next pass: where the last pass's linearisation puts it
-        trail = trail[0][:, idx] + np.einsum("sbtk,bk->sbt", trail[1][:, idx], delta)
+        trail = solved[:, idx] + np.einsum("sbtk,bk->sbt", moves[:, idx], delta)
         active, part = active[idx], part.take(idx)
-    return Shot(waves, start[:, :start.shape[1] // 2], done, failed, passes)
+    return Shot(waves, done, failed, passes, last)
 
 
 def _started(x_t: list, xe: list, start: np.ndarray, vstar: list) -> StepState:

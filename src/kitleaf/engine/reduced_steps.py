@@ -28,14 +28,19 @@ from kitleaf.engine.batch_lu import block, solve_many
 from kitleaf.engine.nonlinear import Devices
 from kitleaf.engine.reduce import Partition
 
-RELTOL = 1e-6  # Newton's per-step tolerance, relative (as the full stepper's)
-VNTOL = 1e-8  # volts
+RELTOL = 1e-5  # Newton's per-step tolerance, relative
+VNTOL = 1e-7  # volts
 ABSTOL = 1e-9  # amperes, kept branch rows
 MAX_NEWTON = 40
 # After this many iterations a step is cut to DAMP_STEP volts (or amperes) at most: an
 # op-amp's saturated input stage against its clamp can make plain Newton cycle
 DAMP_AFTER = 12
 DAMP_STEP = 1.0
+# A step retried from the last point damps from the first iteration (an op-amp input
+# stage and clamp that diverge at once), then, if still unsettled, from the twelfth (a
+# junction that needs a few long steps first); either may take longer
+RETRY_DAMP_AFTER = (0, 12)
+RETRY_NEWTON = 80
 
 
 def bdf2(h: float) -> tuple[float, float, float]:
@@ -180,12 +185,16 @@ def step(mem: Members, st: StepState, t: float, h: float,
     du = lin.d[:, :, None] * (c1 * st.sens[0] + c2 * st.sens[1])
     a = math.sin(mem.omega * t) * mem.amplitude
     rhs_lin = lin.z[:, 0] + a[:, None] * lin.z[:, 1] - _mv(lin.h_mat, u)
-    guess = _predict(st.x_t) if guess is None else guess.copy()
+    predicted = _predict(st.x_t)
+    # a member without a guess of its own (NaN) takes the extrapolation
+    guess = predicted if guess is None else np.where(np.isnan(guess), predicted, guess)
     x, jac, settled, caps, st.vstar = _newton(mem, st.xe, st.vstar, st.failed, t, (c0, c1, c2),
                                               rhs_lin, guess)
-    retry = np.flatnonzero(~settled & ~st.failed)
-    if retry.size:  # from the last point itself, junctions evaluated there
-        _retry(mem, st, t, (c0, c1, c2), rhs_lin, retry, (x, jac, settled, caps))
+    for damp_after in RETRY_DAMP_AFTER:  # from the last point itself, damped soon or late
+        retry = np.flatnonzero(~settled & ~st.failed)
+        if retry.size:
+            _retry(mem, st, t, (c0, c1, c2), rhs_lin, retry, (x, jac, settled, caps),
+                   damp_after)
     sens_rhs = -(lin.h_mat @ du)
     if caps.shape[1] and st.sens_x is not None:
         cap_t = mem.cap_inc[:x.shape[1]]
@@ -242,7 +251,7 @@ def _predict(xs: list[np.ndarray]) -> np.ndarray:
 
 
 def _retry(mem: Members, st: StepState, t: float, weights: tuple, rhs_lin: np.ndarray,
-           idx: np.ndarray, solved: tuple) -> None:
+           idx: np.ndarray, solved: tuple, damp_after: int) -> None:
     """Newton again for the members ``idx`` whose step did not settle from the guess, from
     the last point and in damped steps (a guess extrapolated across a clipping corner can
     land far off, where an op-amp's saturated input stage and its clamp make Newton cycle);
@@ -251,7 +260,7 @@ def _retry(mem: Members, st: StepState, t: float, weights: tuple, rhs_lin: np.nd
     xe = [x[idx] for x in st.xe]
     vstar = sub.devices.junctions(xe[0])
     again = _newton(sub, xe, vstar, st.failed[idx], t, weights, rhs_lin[idx],
-                    st.x_t[0][idx].copy(), damp_after=0)
+                    st.x_t[0][idx].copy(), damp_after=damp_after, limit=RETRY_NEWTON)
     for whole, part in zip(solved, again[:4], strict=True):
         whole[idx] = part
     for whole, part in zip(st.vstar, again[4], strict=True):
@@ -259,40 +268,79 @@ def _retry(mem: Members, st: StepState, t: float, weights: tuple, rhs_lin: np.nd
 
 
 def _newton(mem: Members, xe_hist: list, vstar: list, failed: np.ndarray, t: float,
-            weights: tuple, rhs_lin: np.ndarray, x: np.ndarray, damp_after: int = DAMP_AFTER):
+            weights: tuple, rhs_lin: np.ndarray, x: np.ndarray, damp_after: int = DAMP_AFTER,
+            limit: int | None = None):
     """Newton with junction limiting on the kept rows from ``x``, the devices last
     evaluated at ``vstar``; returns x, the last Jacobian, the settled flags, the junction
-    capacitances used (B, caps) and the junction voltages last evaluated."""
-    lin, devices, inc = mem.linear, mem.devices, mem.cap_inc
+    capacitances used (B, caps) and the junction voltages last evaluated. Settled members
+    leave the iteration once they are a good share of it (the rest cost what they cost)."""
+    inc = mem.cap_inc
     c0, c1, c2 = weights
-    size = x.shape[1]
-    tol_abs = np.where(np.arange(size) < mem.node_count, VNTOL, ABSTOL)
-    cap_t = inc[:size]
-    caps = (devices.cap_values(devices.junctions(xe_hist[0])) if inc.shape[1]
+    cap_t = inc[:x.shape[1]]
+    caps = (mem.devices.cap_values(mem.devices.junctions(xe_hist[0])) if inc.shape[1]
             else np.zeros((x.shape[0], 0)))
-    cap_hist = (c1 * xe_hist[0] + c2 * xe_hist[1]) @ inc
-    jac_base = lin.a_red + c0 * (cap_t * caps[:, None, :]) @ cap_t.T
+    eq = _Equations(mem.linear.a_red + c0 * (cap_t * caps[:, None, :]) @ cap_t.T, rhs_lin,
+                    caps, (c1 * xe_hist[0] + c2 * xe_hist[1]) @ inc, c0)
+    x, vstar = x.copy(), [v.copy() for v in vstar]
+    jac = np.empty_like(eq.jac_base)
     settled = np.zeros(x.shape[0], bool)
-    for iteration in range(MAX_NEWTON):
-        xe = mem.extended(x, t)
-        cap_i = (caps * (c0 * (xe @ inc) + cap_hist)) @ cap_t.T
-        residual = _mv(lin.a_red, x) + cap_i - rhs_lin
-        vraw = devices.junctions(xe)
-        vlim = [bank.limit(vr, vs) for bank, vr, vs in
-                zip(devices.banks, vraw, vstar, strict=True)]
-        limited = np.zeros(x.shape[0], bool)
-        for vr, vl in zip(vraw, vlim, strict=True):
-            limited |= np.any(vr != vl, axis=(1, 2))
-        currents, dev_jac = devices.linearise(vlim, vraw)
-        jac = jac_base + dev_jac
-        vstar = vlim
-        with np.errstate(invalid="ignore", over="ignore"):
-            dx = solve_each(jac, -(residual + currents)[..., None])[..., 0]
-            if iteration >= damp_after:  # a cycle (a saturated stage's Newton): walk out
-                dx *= np.minimum(1.0, DAMP_STEP / np.max(np.abs(dx), axis=1))[:, None]
-            x = x + dx
-            small = np.all(np.abs(dx) <= RELTOL * np.abs(x) + tol_abs, axis=1)
-        settled = small & ~limited & np.isfinite(dx).all(axis=1)
-        if (settled | failed).all():
+    idx, sub, sub_eq = np.arange(x.shape[0]), mem, eq
+    for iteration in range(MAX_NEWTON if limit is None else limit):
+        xs, js, vs, ok = _iteration(sub, sub_eq, x[idx], [v[idx] for v in vstar], t,
+                                    iteration >= damp_after)
+        x[idx], jac[idx] = xs, js
+        for whole, part in zip(vstar, vs, strict=True):
+            whole[idx] = part
+        settled[idx] |= ok
+        going = ~settled[idx] & ~failed[idx]
+        if not going.any():
             break
+        if np.count_nonzero(going) < SHRINK * idx.size:
+            idx = idx[going]
+            sub, sub_eq = mem.take(idx), eq.take(idx)
     return x, jac, settled, caps, vstar
+
+
+SHRINK = 0.5  # the iteration drops its settled members once they are half of it
+
+
+@dataclass
+class _Equations:
+    """One step's equations beside the devices: the linear Jacobian, the right-hand side,
+    the junction capacitances and their history term."""
+
+    jac_base: np.ndarray
+    rhs: np.ndarray
+    caps: np.ndarray
+    cap_hist: np.ndarray
+    c0: float
+
+    def take(self, idx: np.ndarray) -> _Equations:
+        return _Equations(self.jac_base[idx], self.rhs[idx], self.caps[idx],
+                          self.cap_hist[idx], self.c0)
+
+
+def _iteration(mem: Members, eq: _Equations, x: np.ndarray, vstar: list, t: float,
+               damp: bool):
+    """One Newton iteration: the new x, the Jacobian, the junction voltages evaluated and
+    which members settled (an unlimited step within tolerance)."""
+    devices, inc = mem.devices, mem.cap_inc
+    cap_t = inc[:x.shape[1]]
+    tol_abs = np.where(np.arange(x.shape[1]) < mem.node_count, VNTOL, ABSTOL)
+    xe = mem.extended(x, t)
+    cap_i = (eq.caps * (eq.c0 * (xe @ inc) + eq.cap_hist)) @ cap_t.T
+    residual = _mv(mem.linear.a_red, x) + cap_i - eq.rhs
+    vraw = devices.junctions(xe)
+    vlim = [bank.limit(vr, vs) for bank, vr, vs in zip(devices.banks, vraw, vstar, strict=True)]
+    limited = np.zeros(x.shape[0], bool)
+    for vr, vl in zip(vraw, vlim, strict=True):
+        limited |= np.any(vr != vl, axis=(1, 2))
+    currents, dev_jac = devices.linearise(vlim, vraw)
+    jac = eq.jac_base + dev_jac
+    with np.errstate(invalid="ignore", over="ignore"):
+        dx = solve_each(jac, -(residual + currents)[..., None])[..., 0]
+        if damp:  # a cycle (a saturated stage's Newton): walk out
+            dx *= np.minimum(1.0, DAMP_STEP / np.max(np.abs(dx), axis=1))[:, None]
+        x = x + dx
+        small = np.all(np.abs(dx) <= RELTOL * np.abs(x) + tol_abs, axis=1)
+    return x, jac, vlim, small & ~limited & np.isfinite(dx).all(axis=1)

@@ -26,7 +26,7 @@ from kitleaf.specs.model import Drive, DrivePoint, DriveSetting
 LEVELS = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
 PLAYING = (0.1, 0.3, 1.0)
 DRIVE_HZ = 1000.0
-POINTS = 128  # per period: harmonics up to the 63rd, the first five shown
+POINTS = 64  # per period: harmonics up to the 31st, the first five shown
 CLEAN_THD = 0.01  # 1 %: the clean limit
 DRIVEN_THD = 0.10  # 10 %: where a stage is driven
 CLIPPED_THD = 0.01  # below this at the top level a stage has not met its swing limits
