@@ -26,7 +26,7 @@ from kitleaf.engine.reduced_shooting import members, shoot, start_at
 from kitleaf.engine.stepper import Drive, History, advance
 from kitleaf.errors import SolveError
 
-POINTS = 256  # output points per period
+POINTS = 96  # steps and output points per period (docs/engine.md: the accuracy it keeps)
 MAX_SHOTS = 12
 # The ports' mismatch x(T) - x(0) allowed: this share of the port's value plus this share of
 # the member's drive level (a ramp left over would leak into every harmonic).

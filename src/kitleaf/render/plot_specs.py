@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent
+from kitleaf.display import percent, thd_text
 from kitleaf.render.plot import Panel, ResponsePlot, Trace
-from kitleaf.specs.model import Curve, KitSpecs, Range
+from kitleaf.render.plot_drive import CurvePanel, DrivePicture, WavePanel
+from kitleaf.specs.model import Curve, Drive, KitSpecs, Range
 from kitleaf.values import format_value
 
 
@@ -59,3 +60,44 @@ def _corners(low: Range | None, high: Range | None) -> tuple[tuple[float, str], 
     """The nominal -3 dB corners with their labels, knobs at half way."""
     return tuple((r.nominal, f"−3 dB {format_value(r.nominal, 'frequency')}")
                  for r in (low, high) if r is not None)
+
+
+def wave_picture(specs: KitSpecs) -> DrivePicture | None:
+    """The kit's output over two cycles at each playing level, knobs at half way; None
+    when the large-signal figures were not computed."""
+    drive = specs.drive
+    if drive is None or drive.base.error:
+        return None
+    panels = tuple(WavePanel(p.level, f"{format_value(p.level, 'voltage')} pickup peak: "
+                                      f"THD {thd_text(p.thd)}, output "
+                                      f"{format_value(p.peak, 'voltage')} peak", p.wave)
+                   for p in drive.base.points)
+    return DrivePicture(f"{specs.title}: output beside the pickup, knobs at half way", panels)
+
+
+def drive_picture(specs: KitSpecs) -> DrivePicture | None:
+    """THD and output peak against the pickup level, one line per position of each knob
+    (a panel pair per knob; one pair, knobs at half way, for a kit without knobs)."""
+    drive = specs.drive
+    if drive is None or drive.base.error:
+        return None
+    panels = []
+    for knob in [name for name, _ in specs.knobs] or [""]:
+        settings = _knob_settings(drive, knob)
+        title = _title(specs, knob, len(specs.knobs)) or "Knobs fixed"
+        band = drive.band if knob == (specs.knobs[0][0] if specs.knobs else "") else ()
+        panels.append(CurvePanel(f"THD, {title}", "thd",
+                                 tuple((lb, s.thd) for lb, s in settings), band))
+        panels.append(CurvePanel(f"Output peak, {title}", "volts",
+                                 tuple((lb, s.peak) for lb, s in settings)))
+    return DrivePicture(f"{specs.title}: distortion and output against the pickup level",
+                        tuple(panels), drive.levels)
+
+
+def _knob_settings(drive: Drive, knob: str) -> list:
+    """(label, setting) for each computed position of ``knob``, in order of position."""
+    if not knob:
+        return [("nominal parts", drive.base)]
+    found = [(dict(s.positions)[knob], s) for s in drive.settings
+             if s.positions and s.positions[0][0] == knob and not s.error]
+    return [(f"{knob} {percent(pos)}", s) for pos, s in sorted(found, key=lambda f: f[0])]

@@ -23,7 +23,8 @@ from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
 from kitleaf.render.placement import SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
-from kitleaf.render.plot_specs import kit_plot, stage_plot
+from kitleaf.render.plot_drive import render_drive_svg
+from kitleaf.render.plot_specs import drive_picture, kit_plot, stage_plot, wave_picture
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
@@ -48,10 +49,12 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
     files[f"{slug}/overview.svg"] = overview
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
+    drive_files = drive_pictures(cache, specs, slug, files)
     checks = verify(guide, kit, specs)  # a broken claim stops the guide here
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
+        "drive_pictures": drive_files,
         "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
         "sections": SECTIONS,
         "checks": checks,
@@ -83,6 +86,19 @@ def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
             entry["plot"] = f"{stage.id}-response.svg"
         assets[stage.id] = entry
     return files, assets
+
+
+def drive_pictures(cache: Cache, specs: KitSpecs, slug: str, files: dict) -> dict[str, str]:
+    """The large-signal pictures (none where the figures were not computed) into ``files``;
+    their names by picture."""
+    found = {}
+    for name, picture in (("drive-waves", wave_picture(specs)),
+                          ("drive-curve", drive_picture(specs))):
+        if picture is not None:
+            files[f"{slug}/{name}.svg"] = cached_svg(cache, "drive", picture,
+                                                     lambda p=picture: render_drive_svg(p))
+            found[name] = f"{name}.svg"
+    return found
 
 
 def cached_svg(cache: Cache, kind: str, inputs: object, draw) -> bytes:

@@ -26,7 +26,7 @@ from kitleaf.specs.model import Drive, DrivePoint, DriveSetting
 LEVELS = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
 PLAYING = (0.1, 0.3, 1.0)
 DRIVE_HZ = 1000.0
-POINTS = 64  # per period: harmonics up to the 31st, the first five shown
+POINTS = 96  # per period: harmonics up to the 47th, the first five shown
 CLEAN_THD = 0.01  # 1 %: the clean limit
 DRIVEN_THD = 0.10  # 10 %: where a stage is driven
 CLIPPED_THD = 0.01  # below this at the top level a stage has not met its swing limits
@@ -83,16 +83,19 @@ def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
     d = result.distortion(node)
     thd, peak = d.thd[index, :, 0], d.peak[index, :, 0]
     levels = result.levels
-    points = tuple(_point(d, index, int(np.flatnonzero(levels == lv)[0]), lv) for lv in PLAYING)
+    wave = result.wave(node)
+    points = tuple(_point(d, wave, index, int(np.flatnonzero(levels == lv)[0]), lv)
+                   for lv in PLAYING)
     up, down = _swing(result, d, index, node, devices, circuit)
     return DriveSetting(positions, crossing(levels, thd, CLEAN_THD),
                         crossing(levels, thd, DRIVEN_THD), points,
                         tuple(float(x) for x in thd), tuple(float(x) for x in peak), up, down)
 
 
-def _point(d, index: int, i: int, level: float) -> DrivePoint:
+def _point(d, wave: np.ndarray, index: int, i: int, level: float) -> DrivePoint:
     return DrivePoint(level, float(d.thd[index, i, 0]), float(d.peak[index, i, 0]),
-                      tuple(float(a) for a in d.amplitudes[index, i, 0]))
+                      tuple(float(a) for a in d.amplitudes[index, i, 0]),
+                      tuple(round(float(v), 6) for v in wave[index, i, 0]))
 
 
 def _swing(result: PeriodicResult, d, index: int, node: str, devices: tuple, circuit):

@@ -1,4 +1,4 @@
-"""The specs as JSON (schema ``kitleaf-specs/1``, documented in docs/specs-json.md)."""
+"""The specs as JSON (schema ``kitleaf-specs/2``, documented in docs/specs-json.md)."""
 
 from __future__ import annotations
 

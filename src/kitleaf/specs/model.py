@@ -91,6 +91,8 @@ class DrivePoint:
     thd: float
     peak: float
     harmonics: tuple[float, ...]
+    # the output over one period from the sine's zero crossing going up (not in the JSON)
+    wave: tuple[float, ...] = field(default=(), repr=False)
 
 
 @dataclass(frozen=True)
@@ -123,6 +125,9 @@ class Drive:
     freq: float = 1000.0
     # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
     rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
+    # THD's 5th and 95th percentiles at each level over part-tolerance samples, knobs at
+    # half way (empty when not run)
+    band: tuple = ()
 
     @property
     def base(self) -> DriveSetting:

@@ -49,6 +49,10 @@ MODULES = (
     "e_series",
     "battery_life",
     "unused_half",
+    "large_signal",
+    "clips_when_clean",
+    "asymmetric_clip",
+    "opamp_rail",
 )
 
 
