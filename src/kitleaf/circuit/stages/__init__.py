@@ -22,6 +22,7 @@ MODULES = (
     "opamp_spare",
     "power",
     "tone_cut",
+    "tone_stack",
     "volume",
 )
 
