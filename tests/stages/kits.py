@@ -165,4 +165,12 @@ bass-cap: C41 22n
 bass: VR41 A1M
 mid-cap: C42 22n
 mid: VR42 B25k
+===
+blend
+kind: tone-blend
+low-resistor: R43 39k
+low-cap: C43 10n
+high-cap: C44 4n7
+high-resistor: R44 22k
+tone: VR43 B100k
 """.split("===\n"))

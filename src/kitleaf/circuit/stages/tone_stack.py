@@ -5,7 +5,8 @@ is the output. The slope resistor drives the bass cap (to the bottom of the treb
 the mid cap (to the mid pot's wiper); the bass pot, a variable resistor, joins the treble pot's
 bottom to the top of the mid pot, whose other end is grounded. With every knob at half way the
 stack scoops the middle of the band and loses 10 to 20 dB; it wants a low-impedance driver
-and a high-impedance load. A fixed resistor may stand in for the mid pot (a two-knob stack).
+and a high-impedance load. A fixed resistor under the mid pot keeps the scoop from its full
+depth; without a mid pot, the resistor is the whole mid control (a two-knob stack).
 """
 
 from __future__ import annotations
@@ -25,14 +26,16 @@ ROLES = (
                                 "to the mid control; more bass clockwise"),
     capacitor_role("mid-cap", "from the slope resistor to the mid pot's wiper"),
     Role("mid", ("pot",), required=False,
-         help="mid pot: cw end to the bass pot, wiper to the mid cap, ccw end to ground"),
-    resistor_role("mid-resistor", "a fixed resistor to ground in place of the mid pot",
+         help="mid pot: cw end to the bass pot, wiper to the mid cap, ccw end to ground (or "
+              "to the mid resistor)"),
+    resistor_role("mid-resistor", "fixed resistor to ground: under the mid pot it limits the "
+                                  "scoop; without one it is the whole mid control",
                   required=False),
 )
 
 # Drawing columns and rows, in grid units.
 LEFT_X, POT_X = 1.2, 6.0
-TOP_Y, JOIN_Y, MID_TOP_Y = 10.4, 6.6, 3.4
+TOP_Y, JOIN_Y, MID_TOP_Y, MID_FOOT_Y = 12.0, 8.2, 5.0, 2.4
 
 
 @register
@@ -48,24 +51,21 @@ class ToneStack(StageKind):
         wiring.place(part("slope"), "in", "a")
         wiring.place(part("bass-cap"), "a", "b")
         rheostat(wiring, part("bass"), "b", "m")  # more resistance, more bass, clockwise
+        fixed = part("mid-resistor")
         if part("mid") is not None:
-            wiring.place(part("mid"), "0", "w", "m")
+            foot = "f" if fixed else "0"
+            wiring.place(part("mid"), foot, "w", "m")
+            wiring.place(fixed, foot, "0")
             wiring.place(part("mid-cap"), "a", "w")
         else:
-            wiring.place(part("mid-resistor"), "m", "0")
+            wiring.place(fixed, "m", "0")
             wiring.place(part("mid-cap"), "a", "m")
 
     def check(self, stage: Stage) -> None:
-        pot, fixed = stage.part("mid"), stage.part("mid-resistor")
-        if pot is None and fixed is None:
+        if stage.part("mid") is None and stage.part("mid-resistor") is None:
             raise CircuitError(
                 f"stage '{stage.id}' (tone-stack) has no mid control; add a pot "
                 "'mid: VR3 B25k' or a fixed resistor 'mid-resistor: R5 10k'", stage.span)
-        if pot is not None and fixed is not None:
-            raise CircuitError(
-                f"stage '{stage.id}', role 'mid-resistor': {fixed.designator} stands in place "
-                f"of the mid pot, but the stage has the mid pot {pot.designator} too; keep one "
-                "of the two lines", fixed.span)
 
     def knob_roles(self) -> tuple[str, ...]:
         return ("treble", "mid", "bass")
@@ -98,14 +98,16 @@ class ToneStack(StageKind):
         """The mid pot (or resistor) from the bass pot down to ground, the mid cap into it."""
         top, bottom = (POT_X, MID_TOP_Y), (POT_X, GROUND_Y)
         sheet.dot(top)  # the bass pot, its wiper's tie and the mid control meet here
-        pot = stage.part("mid")
+        pot, fixed = stage.part("mid"), stage.part("mid-resistor")
         if pot is not None:
-            into = sheet.pot(pot, bottom, top, side="right")
+            foot = (POT_X, MID_FOOT_Y) if fixed else bottom
+            into = sheet.pot(pot, foot, top, side="right")
+            sheet.part(fixed, foot, bottom, side="right")
         else:  # the mid cap joins below the tie, so the two wires do not run together
             into = (POT_X, MID_TOP_Y - 0.8)
             sheet.wire(top, into)
             sheet.dot(into)
-            sheet.part(stage.part("mid-resistor"), into, bottom, side="right")
+            sheet.part(fixed, into, bottom, side="right")
         sheet.ground(bottom)
         sheet.dot(node_a)
         sheet.wire(node_a, (LEFT_X, into[1]))
