@@ -28,6 +28,7 @@ from kitleaf.specs.model import (
 )
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
+from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
 from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
 
@@ -138,9 +139,10 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
     node_in, node_out = kit.stage_nodes(stage.id)
     knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
     z = impedances(kit, stage.id, node_in, stage.id, node_out)
+    scoops = kit.kind(stage).shapes_response
     return StageSpecs(
         stage.id, stage.kind, stage.title, True, voltages,
-        knob_sweep(solved, node_in, node_out, knobs, z),
+        knob_sweep(solved, node_in, node_out, knobs, z, scoops),
         base.range(m.gain_db(node_in, node_out)),
         base.range(m.corner(node_in, node_out, 0)), base.range(m.corner(node_in, node_out, 1)),
         base.range(z[0]), base.range(z[1]),
@@ -150,6 +152,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         headroom=stage_headroom(solved, (stage,), node_out),
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
+        scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
     )
 
 
@@ -169,10 +172,12 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
 
 
 def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs,
-               z: tuple[m.Measure, m.Measure]) -> tuple[KnobPoint, ...]:
-    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way."""
+               z: tuple[m.Measure, m.Measure], scoops: bool = False) -> tuple[KnobPoint, ...]:
+    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way
+    (and the deepest dip, nominal parts, where ``scoops`` asks for it)."""
     return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)),
-                           state.range(z[0]), state.range(z[1]))
+                           state.range(z[0]), state.range(z[1]),
+                           scoop(state, node_in, node_out, spread=False) if scoops else None)
                  for k in knobs
                  for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
 

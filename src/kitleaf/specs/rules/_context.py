@@ -10,6 +10,7 @@ from functools import cached_property
 import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
@@ -165,6 +166,11 @@ class RuleContext:
         value, bound = self.shown(verdict, stress)
         where = self.setting(verdict.state, nominal).strip()
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
+
+    def corner_stages(self) -> tuple[Stage, ...]:
+        """The signal stages whose corners the rules judge: all but passive tone controls."""
+        return tuple(s for s in self.kit.signal_stages
+                     if not self.kit.kind(s).shapes_response)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:
