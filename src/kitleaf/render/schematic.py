@@ -334,7 +334,7 @@ def plus_pins_of(stage, orientations: Mapping) -> dict[str, int]:
 def draw_stage(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None
                ) -> SchematicSheet:
     """The sheet of one stage, drawn by its kind, with its test points marked."""
-    sheet = SchematicSheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"},
+    sheet = SchematicSheet(stage.title, nets={"supply": kit_circuit.supply_label},
                            plus_pins=plus_pins)
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet

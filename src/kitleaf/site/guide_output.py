@@ -15,6 +15,7 @@ from urllib.parse import quote
 from kitleaf.bom import BUILD_ORDER, bom_lines, fitting_notes, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.harness import build_harness
 from kitleaf.faults.report import unsolved_text
 from kitleaf.faults.solve import solve_faults
 from kitleaf.faults.symptoms import page_data, symptom_rows
@@ -28,6 +29,8 @@ from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import plus_pins_of, render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
+from kitleaf.render.wiring_list import wiring_rows
+from kitleaf.render.wiring_svg import render_wiring_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
@@ -51,6 +54,10 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
     files[f"{slug}/overview.svg"] = overview
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
+    harness = build_harness(guide, kit)
+    if harness is not None:
+        files[f"{slug}/wiring.svg"] = render_wiring_svg(
+            harness, f"Off-board wiring of {guide.kit.title}").encode()
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
@@ -61,6 +68,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                              checks.orientations),
         "bom_headings": dict(BUILD_ORDER),
         "symptoms": cached_symptoms(cache, kit),
+        "harness": harness, "wiring_rows": wiring_rows(harness) if harness else (),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
@@ -81,7 +89,7 @@ def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,
         # polarised capacitors go, nothing else.
         plus = plus_pins_of(stage, orientations)
         files[f"{slug}/{stage.id}-schematic.svg"] = cached_svg(
-            cache, "schematic", (stage, kit.supply_v, sorted(plus.items())),
+            cache, "schematic", (stage, kit.supply_label, sorted(plus.items())),
             lambda s=stage, p=plus: render_stage_svg(kit, s, p))
         entry = {"schematic": f"{stage.id}-schematic.svg", "plot": None}
         plot = stage_plot(specs, stage.id)
