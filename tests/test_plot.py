@@ -145,10 +145,20 @@ def test_a_panel_title_lists_the_other_knobs_as_a_sentence_does():
 
     from kitleaf.render.plot_specs import _title
     specs = SimpleNamespace(knobs=(("Drive", "VR1"), ("Tone", "VR2"), ("Level", "VR3"),
-                                   ("Blend", "VR4")))
+                                   ("Blend", "VR4")), switches=())
     assert _title(specs, "Tone", 4) == "Tone knob turned, Drive, Level and Blend at 50 %"
-    assert _title(SimpleNamespace(knobs=specs.knobs[:2]), "Tone", 2) == (
+    assert _title(SimpleNamespace(knobs=specs.knobs[:2], switches=()), "Tone", 2) == (
         "Tone knob turned, Drive at 50 %")
+
+
+def test_a_panel_title_says_where_the_switches_rest():
+    from types import SimpleNamespace
+
+    from kitleaf.render.plot_specs import _title
+    specs = SimpleNamespace(knobs=(("Level", "VR1"),),
+                            switches=(("Clip", "S1", ("diodes", "LEDs", "off")),))
+    assert _title(specs, "Level", 2) == "Level knob turned, Clip set to diodes"
+    assert _title(specs, "Clip", 2) == "Clip switch set, Level at 50 %"
 
 
 def test_svg_shows_labels_corners_and_band():

@@ -72,10 +72,23 @@ def percent(fraction: float) -> str:
     return f"{round(fraction * 100):d} %"
 
 
+def setting(name: str, position: float | str) -> str:
+    """A knob's or a switch's setting in words: "Level at 50 %", "Clip set to LEDs"."""
+    if isinstance(position, str):
+        return f"{name} set to {position}"
+    return f"{name} at {percent(position)}"
+
+
+def settings(positions) -> str:
+    """Several settings, as a table row names them: "Level at 50 %, Clip set to LEDs"."""
+    return ", ".join(setting(name, position) for name, position in positions)
+
+
 # Every number a page shows goes through one of these (the templates' filters, by name).
 FORMATTERS: dict[str, Callable[..., str]] = {
     "si": si,
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "settings": settings,
 }

@@ -12,6 +12,7 @@ from types import MappingProxyType
 
 from kitleaf.bom.pinouts import DIODE_VIEW, Pinout, pinout_for
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.switches import form_of
 from kitleaf.display import power_text
 from kitleaf.errors import ValueFormatError
 from kitleaf.marking import Band, capacitor_code, resistor_bands
@@ -119,6 +120,17 @@ def _led(part: Part) -> PartDescription:
     return PartDescription(model, model, _words(part.attrs.get("size")), polarity=POLARITY["led"])
 
 
+def _switch(part: Part) -> PartDescription:
+    """A switch as it is bought: its form, the positions of a toggle with off positions, and
+    how many positions a rotary has."""
+    form = form_of(part)
+    function = part.attrs.get("function")
+    what = "rotary switch" if form.throw_count > 2 else "toggle switch"
+    shown = " ".join(filter(None, (part.attrs["form"], function)))
+    return PartDescription(shown, f"{shown} {what}",
+                           _words(f"{form.positions} positions", part.attrs.get("mount")))
+
+
 def _hardware(part: Part) -> PartDescription:
     return PartDescription(part.text, part.text)
 
@@ -134,6 +146,7 @@ _DESCRIBERS: Mapping[str, Callable[[Part], PartDescription]] = MappingProxyType(
         "bjt": _device,
         "jfet": _device,
         "opamp": _device,
+        "switch": _switch,
         "hardware": _hardware,
     }
 )

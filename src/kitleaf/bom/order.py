@@ -41,6 +41,7 @@ _TYPE_GROUP: Mapping[str, str] = MappingProxyType(
         "inductor": "inductor",
         "led": "led",
         "pot": "pot",
+        "switch": "switch",
     }
 )
 

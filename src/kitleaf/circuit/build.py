@@ -11,12 +11,14 @@ from kitleaf.circuit.chain import (
     KitCircuit,
     KnobRef,
     SignalSource,
+    SwitchRef,
     input_meter,
 )
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.resolve import resolve_stage
 from kitleaf.circuit.stages import KINDS
+from kitleaf.circuit.switches import form_of
 from kitleaf.engine.elements import Capacitor, terminals
 from kitleaf.engine.topology import check_topology
 from kitleaf.errors import CircuitError, KitleafError
@@ -39,6 +41,7 @@ def build_circuit(guide: Guide) -> KitCircuit:
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),
         supply_v=_volts(guide.kit.supply, guide.kit.supply_span or guide.kit.span),
+        switches=_switches(guide, stages),
     )
     _check_dc_paths(kit)
     return kit
@@ -149,6 +152,44 @@ def _knobs(guide: Guide, stages: list[Stage]) -> tuple[KnobRef, ...]:
             )
         knobs.append(KnobRef(knob.name, knob.designator, pots[knob.designator].stage_id))
     return tuple(knobs)
+
+
+def _switches(guide: Guide, stages: list[Stage]) -> tuple[SwitchRef, ...]:
+    """Each ``switch:`` line against its part: one name per position of the part's form, and
+    every switch on the board named by a line (its positions are states of the kit)."""
+    parts = {p.designator: p for s in stages for p in s.all_parts() if p.type == "switch"}
+    found = []
+    for switch in guide.kit.switches:
+        part = parts.get(switch.designator)
+        if part is None:
+            raise CircuitError(
+                f"switch '{switch.name}' is {switch.designator}, but no stage has a switch "
+                f"{switch.designator}; switches: {', '.join(sorted(parts)) or 'none'}",
+                switch.span)
+        count = form_of(part).positions
+        if len(switch.positions) != count:
+            raise CircuitError(
+                f"switch '{switch.name}' names {len(switch.positions)} positions, but "
+                f"{part.designator} ({_form_words(part)}, line {part.span.line}) has {count}; "
+                "name each position once, in the switch's order", switch.span)
+        found.append(SwitchRef(switch.name, part.designator, part.stage_id, switch.positions))
+    named = {s.designator for s in found}
+    for part in parts.values():
+        if part.designator not in named:
+            raise CircuitError(
+                f"{part.designator} is a switch no 'switch:' line of the kit block names; add "
+                f"one naming its {form_of(part).positions} positions, like 'switch: Clip = "
+                f"{part.designator}: {', '.join(_SAMPLE_NAMES[:form_of(part).positions])}'",
+                part.span)
+    return tuple(found)
+
+
+_SAMPLE_NAMES = ("first", "second", "third", "fourth", "fifth", "sixth", "seventh", "eighth",
+                 "ninth", "tenth", "eleventh", "twelfth", "thirteenth")
+
+
+def _form_words(part: Part) -> str:
+    return " ".join(filter(None, (part.attrs["form"], part.attrs.get("function"))))
 
 
 def _source(entry: Entry | None) -> SignalSource:

@@ -8,6 +8,7 @@ from dataclasses import replace
 from types import MappingProxyType
 
 from kitleaf.circuit.parts import PART_QUANTITY, Part
+from kitleaf.circuit.switches import is_function, read_form
 from kitleaf.errors import CircuitError, KitleafError, SourceSpan
 from kitleaf.guide.model import DESIGNATOR, Entry
 from kitleaf.values import parse_rating, parse_tolerance, parse_value
@@ -17,11 +18,12 @@ PREFIX_TYPES = (
     ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp",)),
     ("R", ("resistor",)), ("C", ("capacitor",)), ("L", ("inductor",)), ("P", ("pot",)),
     ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp",)),
+    ("SW", ("switch",)), ("S", ("switch",)),
 )
 EXAMPLES = {
     "resistor": "R3 10k", "capacitor": "C2 100n film", "inductor": "L1 100mH",
     "pot": "VR1 100k log", "diode": "D1 1N4148", "led": "LED1 red", "bjt": "Q1 2N3904",
-    "jfet": "Q1 J201", "opamp": "U1 TL072",
+    "jfet": "Q1 J201", "opamp": "U1 TL072", "switch": "S1 SPDT on-off-on",
 }
 DIELECTRICS = {
     "film", "polyester", "polypropylene", "ceramic", "c0g", "np0", "x7r", "mica",
@@ -125,6 +127,8 @@ def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, w
 
 
 def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> Part:
+    if part_type == "switch":
+        return _switch(designator, value_text, rest, span)
     attrs: dict[str, str] = {}
     tolerance = rating = None
     for word in rest:
@@ -145,6 +149,21 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
         tolerance = DEFAULT_TOLERANCE.get(attrs.get("dielectric", part_type), 0.10)
     return Part(designator, part_type, value_text, span, value=value, model=model,
                 tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs))
+
+
+def _switch(designator: str, form: str, rest: list[str], span) -> Part:
+    """A switch: its form (SPDT...), an optional toggle function (on-off-on) and key=value."""
+    attrs = {"form": form.upper()}
+    for word in rest:
+        if is_function(word) and "function" not in attrs:
+            attrs["function"] = word.lower()
+        elif (match := _KEYVALUE.match(word)) is not None:
+            _key_value(match[1], match[2], attrs)
+        else:
+            raise CircuitError(f"unknown attribute {word!r}; a switch takes its positions "
+                               "(on-off-on) and key=value (mount=panel)")
+    read_form(attrs["form"], attrs.get("function"))
+    return Part(designator, "switch", form, span, attrs=MappingProxyType(attrs))
 
 
 def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):

@@ -20,6 +20,7 @@ PART_QUANTITY: Mapping[str, str | None] = MappingProxyType(
         "bjt": None,
         "jfet": None,
         "opamp": None,
+        "switch": None,
         "hardware": None,
     }
 )

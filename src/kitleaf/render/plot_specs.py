@@ -38,16 +38,21 @@ def _panels(specs: KitSpecs, curves: tuple[Curve, ...], low, high, corners
 def _label(curve: Curve) -> str:
     if not curve.knob:
         return "nominal parts"
+    if isinstance(curve.position, str):
+        return f"{curve.knob}: {curve.position}"
     return f"{curve.knob} {percent(curve.position)}"
 
 
 def _title(specs: KitSpecs, knob: str, count: int) -> str:
-    others = [name for name, _ in specs.knobs if name != knob]
+    """What the panel sweeps, and where the other knobs and switches stay."""
     if not knob:
         return ""
-    if not others:
-        return f"{knob} knob turned"
-    return f"{knob} knob turned, {_listed(others)} at 50 %"
+    switched = any(name == knob for name, _, _ in specs.switches)
+    turned = f"{knob} switch set" if switched else f"{knob} knob turned"
+    others = [name for name, _ in specs.knobs if name != knob]
+    held = ([f"{_listed(others)} at 50 %"] if others else []) + [
+        f"{name} set to {positions[0]}" for name, _, positions in specs.switches if name != knob]
+    return ", ".join([turned, *held])
 
 
 def _listed(names: list[str]) -> str:

@@ -2,15 +2,17 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent, range_text
+from kitleaf.display import range_text, settings
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
+    width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
              f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
-             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
+               for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
              f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
@@ -30,7 +32,7 @@ def specs_to_text(specs: KitSpecs) -> str:
 
 
 def _knobs(point: KnobPoint) -> str:
-    return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
+    return settings(point.positions)
 
 
 def _swing(h: Headroom | None) -> str:

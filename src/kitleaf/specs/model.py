@@ -31,10 +31,11 @@ class Range:
 
 @dataclass(frozen=True)
 class KnobPoint:
-    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation), and the
-    impedances there (None where not measured: the knob ends, the power section)."""
+    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation) or its
+    switches at given positions (by name), and the impedances there (None where not
+    measured: the knob ends, the power section)."""
 
-    positions: tuple[tuple[str, float], ...]
+    positions: tuple[tuple[str, float | str], ...]
     gain_db: Range
     input_impedance: Range | None = None
     output_impedance: Range | None = None
@@ -66,11 +67,12 @@ class Voltage:
 
 @dataclass(frozen=True)
 class Curve:
-    """Gain in dB over ``KitSpecs.freqs`` with one knob at one position (others at half way);
-    ``knob`` is empty for the single curve of a stage no knob acts on."""
+    """Gain in dB over ``KitSpecs.freqs`` with one knob or switch at one position (a
+    fraction of rotation, or a switch position's name), the others at their nominal
+    settings; ``knob`` is empty for the single curve of a stage no control acts on."""
 
     knob: str
-    position: float | None
+    position: float | str | None
     gain_db: tuple[float, ...]
 
 
@@ -136,6 +138,8 @@ class KitSpecs:
     band_high: tuple[float, ...] = ()
     supplies: tuple[Supply, ...] = ()
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
+    # (switch name, designator, position names), as the kit block says
+    switches: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
     samples: int = 0
     seed: int = 0
     # The gain (nominal parts) with the knobs together at the ends of their travel:

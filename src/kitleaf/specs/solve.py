@@ -7,6 +7,7 @@ from functools import cached_property
 
 import numpy as np
 
+from kitleaf.circuit.chain import KNOB_STEPS as KNOB_STEPS  # where the specs read it
 from kitleaf.circuit.chain import SOURCE, KitCircuit
 from kitleaf.engine.elements import Pot
 from kitleaf.specs.model import Range
@@ -98,10 +99,7 @@ def idle_at_dc(state: KitState, pots: set[str]) -> bool:
     return True
 
 
-# Where each knob is set when the kit is solved across its travel (0..1 of rotation).
-KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
-
-
 def nominal_positions(kit: KitCircuit) -> dict[str, float]:
-    """Every knob at half its rotation: the state the voltage table and headline assume."""
-    return {knob.designator: 0.5 for knob in kit.knobs}
+    """Every knob at half its rotation and every switch at its first position: the state
+    the voltage table and headline figures assume."""
+    return {control.designator: control.nominal for control in kit.controls}
