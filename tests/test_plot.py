@@ -141,24 +141,24 @@ def test_one_panel_per_knob_and_one_curve_per_position():
 
 
 def test_a_panel_title_lists_the_other_knobs_as_a_sentence_does():
-    from types import SimpleNamespace
-
     from kitleaf.render.plot_specs import _title
-    specs = SimpleNamespace(knobs=(("Drive", "VR1"), ("Tone", "VR2"), ("Level", "VR3"),
-                                   ("Blend", "VR4")), switches=())
-    assert _title(specs, "Tone", 4) == "Tone knob turned, Drive, Level and Blend at 50 %"
-    assert _title(SimpleNamespace(knobs=specs.knobs[:2], switches=()), "Tone", 2) == (
-        "Tone knob turned, Drive at 50 %")
+    knobs = ["Drive", "Tone", "Level", "Blend"]
+    assert _title("Tone", knobs) == "Tone knob turned, Drive, Level and Blend at 50 %"
+    assert _title("Tone", knobs[:2]) == "Tone knob turned, Drive at 50 %"
+
+
+def test_a_stage_plot_names_only_the_knobs_of_that_stage():
+    _, _, specs = solved("heron-opamp-boost")
+    titles = [p.title for s in specs.stages if (plot := stage_plot(specs, s.id))
+              for p in plot.panels]
+    assert titles and all("at 50 %" not in t for t in titles), titles
 
 
 def test_a_panel_title_says_where_the_switches_rest():
-    from types import SimpleNamespace
-
     from kitleaf.render.plot_specs import _title
-    specs = SimpleNamespace(knobs=(("Level", "VR1"),),
-                            switches=(("Clip", "S1", ("diodes", "LEDs", "off")),))
-    assert _title(specs, "Level", 2) == "Level knob turned, Clip set to diodes"
-    assert _title(specs, "Clip", 2) == "Clip switch set, Level at 50 %"
+    rests = {"Level": 0.0, "Clip": "diodes"}
+    assert _title("Level", ["Level", "Clip"], rests) == "Level knob turned, Clip set to diodes"
+    assert _title("Clip", ["Level", "Clip"], rests) == "Clip switch set, Level at 50 %"
 
 
 def test_svg_shows_labels_corners_and_band():

@@ -14,24 +14,26 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
         return None
     corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
     return ResponsePlot(f"{stage.title}: gain from its input to its output", specs.freqs,
-                        _panels(specs, stage.curves, stage.band_low, stage.band_high, corners))
+                        _panels(stage.curves, stage.band_low, stage.band_high, corners))
 
 
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
     corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
     return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
                         specs.freqs,
-                        _panels(specs, specs.curves, specs.band_low, specs.band_high, corners))
+                        _panels(specs.curves, specs.band_low, specs.band_high, corners))
 
 
-def _panels(specs: KitSpecs, curves: tuple[Curve, ...], low, high, corners
+def _panels(curves: tuple[Curve, ...], low, high, corners
             ) -> tuple[Panel, ...]:
-    """One panel per knob, in the kit block's order; one unnamed panel when no knob acts."""
+    """One panel per knob or switch, in the kit block's order; one unnamed panel when no
+    knob acts."""
     knobs = list(dict.fromkeys(c.knob for c in curves))
+    rests = {c.knob: c.position for c in reversed(curves)}  # each control's first step
     panels = []
     for knob in knobs:
         mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
-        panels.append(Panel(_title(specs, knob, len(knobs)), mine, low, high, corners))
+        panels.append(Panel(_title(knob, knobs, rests), mine, low, high, corners))
     return tuple(panels)
 
 
@@ -43,15 +45,17 @@ def _label(curve: Curve) -> str:
     return f"{curve.knob} {percent(curve.position)}"
 
 
-def _title(specs: KitSpecs, knob: str, count: int) -> str:
-    """What the panel sweeps, and where the other knobs and switches stay."""
+def _title(knob: str, knobs: list[str], rests: dict | None = None) -> str:
+    """The panel's title; it names only the knobs and switches of the plotted curves (a
+    stage's plot is not moved by another stage's knob, so naming that knob would mislead).
+    ``rests`` gives a switch's first position by its name (where it rests meanwhile)."""
     if not knob:
         return ""
-    switched = any(name == knob for name, _, _ in specs.switches)
-    turned = f"{knob} switch set" if switched else f"{knob} knob turned"
-    others = [name for name, _ in specs.knobs if name != knob]
+    switches = {name: rest for name, rest in (rests or {}).items() if isinstance(rest, str)}
+    turned = f"{knob} switch set" if knob in switches else f"{knob} knob turned"
+    others = [name for name in knobs if name != knob and name not in switches]
     held = ([f"{_listed(others)} at 50 %"] if others else []) + [
-        f"{name} set to {positions[0]}" for name, _, positions in specs.switches if name != knob]
+        f"{name} set to {switches[name]}" for name in knobs if name != knob and name in switches]
     return ", ".join([turned, *held])
 
 
