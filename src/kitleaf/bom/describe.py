@@ -97,6 +97,14 @@ def _pot(part: Part) -> PartDescription:
                    _words(part.attrs.get("shaft"), part.attrs.get("size")))
 
 
+def _trimmer(part: Part) -> PartDescription:
+    """A trimmer is bought by its track value; it is set on the bench (the guide says how)."""
+    rkm = format_rkm(part.value, "resistance")
+    return PartDescription(rkm, f"{format_value(part.value, 'resistance')} trimmer",
+                           _words(part.attrs.get("package"), part.attrs.get("size")),
+                           notes=("set on the bench: see the set-up step",))
+
+
 def _pinout_notes(model: str, pinout: Pinout | None) -> tuple[str, ...]:
     if pinout is None:
         return (f"{model} is not in kitleaf's pinout table: check the supplier's data sheet",)
@@ -141,6 +149,7 @@ _DESCRIBERS: Mapping[str, Callable[[Part], PartDescription]] = MappingProxyType(
         "capacitor": _capacitor,
         "inductor": _inductor,
         "pot": _pot,
+        "trimmer": _trimmer,
         "diode": _device,
         "led": _led,
         "bjt": _device,

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 
 from kitleaf.circuit.chain import (
     DEFAULT_LOAD,
@@ -19,6 +20,7 @@ from kitleaf.circuit.parts import Part
 from kitleaf.circuit.resolve import resolve_stage
 from kitleaf.circuit.stages import KINDS
 from kitleaf.circuit.switches import form_of
+from kitleaf.circuit.trim import read_trims, trim_positions
 from kitleaf.engine.elements import Capacitor, terminals
 from kitleaf.engine.topology import check_topology
 from kitleaf.errors import CircuitError, KitleafError
@@ -30,8 +32,12 @@ from kitleaf.values import format_value, parse_value
 SUPPLY_RANGE = (1.0, 60.0)
 
 
-def build_circuit(guide: Guide) -> KitCircuit:
-    """Resolve every stage of ``guide`` and check the kit holds together as one circuit."""
+def build_circuit(guide: Guide, set_trimmers: bool = True) -> KitCircuit:
+    """Resolve every stage of ``guide`` and check the kit holds together as one circuit.
+
+    With ``set_trimmers``, each trimmer is set where its ``trim:`` line says (a DC solve per
+    try); without, the kit is good for what does not depend on positions (the parts list).
+    """
     stages = _in_order(guide, [resolve_stage(b) for b in guide.stages])
     hardware = tuple(Part(h.designator, "hardware", h.description, h.span)
                      for h in guide.kit.hardware)
@@ -44,7 +50,10 @@ def build_circuit(guide: Guide) -> KitCircuit:
         switches=_switches(guide, stages),
     )
     _check_dc_paths(kit)
-    return kit
+    targets = read_trims(kit)
+    if not targets or not set_trimmers:
+        return kit
+    return replace(kit, trims=targets, presets=tuple(trim_positions(kit, targets).items()))
 
 
 def _in_order(guide: Guide, stages: list[Stage]) -> list[Stage]:
@@ -103,6 +112,7 @@ def _check_dc_paths(kit: KitCircuit) -> None:
         chain = kit.signal_stages
         for left, right in zip(chain, chain[1:], strict=False):
             _check_joint(kit, circuit, left, right)
+        _check_direct_outputs(chain, circuit)
         check_topology(circuit.elements)
     except CircuitError:
         raise
@@ -127,6 +137,30 @@ def _check_joint(kit: KitCircuit, circuit, left: Stage, right: Stage) -> None:
         "the caps' junction sits at 0 V",
         first.span,
     )
+
+
+def _check_direct_outputs(chain: tuple[Stage, ...], circuit) -> None:
+    """A stage with ``output-coupling: direct`` drives the next stage's input cap, and only
+    that: anything else at the next stage's input would take the stage's DC."""
+    for i, stage in enumerate(chain):
+        if stage.options.get("output-coupling") != "direct":
+            continue
+        if i + 1 == len(chain):
+            raise CircuitError(
+                f"stage '{stage.id}' has 'output-coupling: direct' but is the last stage: its "
+                "DC would reach the output jack and the amplifier; couple it through an "
+                "output cap", stage.span)
+        after = chain[i + 1]
+        node = f"{after.id}.in"  # the next stage's side of its input meter
+        touching = [e for e in circuit.elements
+                    if node in terminals(e) and e.name != input_meter(after.id)]
+        dc = [e.name for e in touching if not isinstance(e, Capacitor)]
+        if dc or not touching:
+            raise CircuitError(
+                f"stage '{stage.id}' has 'output-coupling: direct', but stage '{after.id}' "
+                f"({after.kind}) takes DC at its input ({', '.join(dc) or 'nothing'} there, no "
+                "input cap); give it an input cap or couple stage "
+                f"'{stage.id}' through an output cap", stage.span)
 
 
 def _named(part: Part) -> str:

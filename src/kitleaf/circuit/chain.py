@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import cached_property
 from types import MappingProxyType
 
 from kitleaf.circuit.kind import Stage, StageKind
@@ -133,8 +134,11 @@ class Wiring:
             c.capacitor(d, *names, part.value, tol=tol)
         elif part.type == "inductor":
             c.inductor(d, *names, part.value, tol=tol)
-        elif part.type == "pot":
+        elif part.type == "pot" or part.type == "trimmer" and len(names) == 3:
             c.pot(d, *names, part.value, position=self.position(d),
+                  taper=part.attrs["taper"], tol=tol)
+        elif part.type == "trimmer":  # in a resistor's place: the wiper tied to the cw end
+            c.pot(d, names[0], names[1], names[1], part.value, position=self.position(d),
                   taper=part.attrs["taper"], tol=tol)
         else:
             getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.model)
@@ -170,6 +174,21 @@ class KitCircuit:
     load: float
     supply_v: float
     switches: tuple[SwitchRef, ...] = ()
+    # Trimmers: their set-up targets and the positions that reach them (circuit/trim.py);
+    # every netlist takes these positions unless told otherwise.
+    trims: tuple = ()
+    presets: tuple[tuple[str, float], ...] = ()  # (trimmer, position 0..1)
+
+    @cached_property
+    def cache(self) -> dict:
+        """What upper layers derive once per kit object (each trimmer's position in every
+        tolerance build, say); a changed kit (``dataclasses.replace``) starts empty."""
+        return {}
+
+    def rest_positions(self) -> dict[str, float]:
+        """Every knob half way and every switch at its first position: where the voltage
+        table and the headline figures are read."""
+        return {control.designator: control.nominal for control in self.controls}
 
     @property
     def controls(self) -> tuple[KnobRef | SwitchRef, ...]:
@@ -218,7 +237,7 @@ class KitCircuit:
     def netlist(self, positions: Mapping[str, float] | None = None,
                 supply_v: float | None = None) -> Circuit:
         """A fresh engine circuit of the whole kit at the given knob positions and supply."""
-        positions = MappingProxyType(dict(positions or {}))
+        positions = MappingProxyType({**dict(self.presets), **(positions or {})})
         circuit = Circuit()
         volts = self.supply_v if supply_v is None else supply_v
         circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=volts)

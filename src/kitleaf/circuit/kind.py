@@ -10,6 +10,7 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Entry
+from kitleaf.guide.slug import slug_for
 
 if TYPE_CHECKING:  # the wiring context lives in chain.py, which imports this module
     from kitleaf.circuit.chain import Wiring
@@ -50,6 +51,15 @@ class TestPoint:
     pin: str = ""
 
 
+def point_name(device: str, pin: str, node: str) -> str:
+    """A test point's name in claims, prose and ``trim:`` lines (after its stage id):
+    ``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
+    if not device:
+        return slug_for(node)
+    pin = f"pin{pin}" if pin.isdigit() else slug_for(pin)
+    return f"{device.lower()}.{pin}"
+
+
 @dataclass(frozen=True)
 class Stage:
     """A stage block resolved against its kind: parts by role and the chosen options."""
@@ -65,6 +75,8 @@ class Stage:
     # ``claim:`` and ``allow:`` lines, which every kind takes (kitleaf.specs.claims and .rules).
     claims: tuple[Entry, ...] = ()
     allows: tuple[Entry, ...] = ()
+    # ``trim:`` lines: a trimmer and the test-point voltage it is set to (circuit/trim.py).
+    trims: tuple[Entry, ...] = ()
 
     def part(self, role: str) -> Part | None:
         """The single part playing ``role``, or None if the optional role is empty."""

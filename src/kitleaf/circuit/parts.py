@@ -15,6 +15,7 @@ PART_QUANTITY: Mapping[str, str | None] = MappingProxyType(
         "capacitor": "capacitance",
         "inductor": "inductance",
         "pot": "resistance",
+        "trimmer": "resistance",
         "diode": None,
         "led": None,
         "bjt": None,

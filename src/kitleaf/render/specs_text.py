@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from kitleaf.display import range_text, settings
+from kitleaf.display import range_text, settings, trim_instruction, trim_travel
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 
 
@@ -20,6 +20,8 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              f"  output headroom    {_swing(specs.headroom)}"]
+    for trim in specs.trims:
+        lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:

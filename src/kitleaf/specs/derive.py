@@ -32,6 +32,7 @@ from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.shorts import check_supply
 from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.trim import trims
 
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
 FRESH_BATTERY_V = 9.6
@@ -122,6 +123,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         switches=tuple((s.name, s.designator, s.positions) for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
+        trims=trims(kit),
     )
 
 

@@ -98,4 +98,8 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "headroom_v_peak": _headroom(specs.headroom),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
+        "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,
+                   "point_number": t.number, "volts": _num(t.volts),
+                   "position": _range(t.position), "out_of_reach": _num(t.out_of_reach)}
+                  for t in specs.trims],
     }

@@ -13,6 +13,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import point_name
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
@@ -97,14 +98,6 @@ def _knob_suffix(point: KnobPoint) -> str:
 
 def _knob_words(point: KnobPoint) -> str:
     return settings(point.positions)
-
-
-def point_name(device: str, pin: str, node: str) -> str:
-    """``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
-    if not device:
-        return slug(node)
-    pin = f"pin{pin}" if pin.isdigit() else slug(pin)
-    return f"{device.lower()}.{pin}"
 
 
 def candidates(name: str, scope: str | None) -> tuple[str, ...]:

@@ -77,6 +77,23 @@ class Curve:
 
 
 @dataclass(frozen=True)
+class Trim:
+    """A trimmer's set-up: the test point (its label, its number in its stage's voltage table)
+    the builder watches, the voltage to turn it to, and the position (0..1 of its travel,
+    clockwise) that reaches it, nominal and over the tolerance builds (each build needs its
+    own); ``out_of_reach`` is the share of builds whose trimmer cannot get there."""
+
+    designator: str
+    stage_id: str
+    stage_title: str
+    label: str
+    number: int
+    volts: float
+    position: Range
+    out_of_reach: float = 0.0
+
+
+@dataclass(frozen=True)
 class Headroom:
     """Peak output swing before a device leaves its linear region, and what limits it."""
 
@@ -145,6 +162,8 @@ class KitSpecs:
     # The gain (nominal parts) with the knobs together at the ends of their travel:
     # specs/knob_ends.py says which combinations.
     knob_ends: tuple[KnobPoint, ...] = ()
+    # Each trimmer's set-up instruction, in the guide's order (specs/trim.py).
+    trims: tuple[Trim, ...] = ()
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)
