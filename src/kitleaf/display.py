@@ -84,6 +84,13 @@ def settings(positions) -> str:
     return ", ".join(setting(name, position) for name, position in positions)
 
 
+def at_rest(switches) -> str:
+    """Where the controls stay while another is swept (``KitSpecs.switches``): "knobs at
+    half way" and each switch at its first position."""
+    return ", ".join(["knobs at half way"] + [setting(name, positions[0])
+                                              for name, _, positions in switches])
+
+
 def trim_instruction(trim) -> str:
     """The bench step that sets a trimmer (a specs ``Trim``): "Turn TR1 until Q1 drain
     (point 2 of Boost) reads 4.50 V."."""
@@ -112,5 +119,6 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "figure": figure,
     "settings": settings,
     "trim_instruction": trim_instruction,
+    "at_rest": at_rest,
     "trim_travel": trim_travel,
 }

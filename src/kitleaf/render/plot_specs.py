@@ -33,7 +33,8 @@ def _panels(curves: tuple[Curve, ...], low, high, corners
     panels = []
     for knob in knobs:
         mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
-        panels.append(Panel(_title(knob, knobs, rests), mine, low, high, corners))
+        solid = 0 if isinstance(rests.get(knob), str) else None  # a switch at rest
+        panels.append(Panel(_title(knob, knobs, rests), mine, low, high, corners, solid))
     return tuple(panels)
 
 
