@@ -51,6 +51,18 @@ class TestNominal:
         wanted = (9.0 - 4.5) / (ie * 135 / 136) / 10e3
         assert dict(kit.presets)["TR1"] == pytest.approx(wanted, rel=0.05)
 
+    def test_a_bias_trimmer_is_set_from_half_way_not_into_saturation(self):
+        # With the top of the divider near 0 ohms the transistor saturates and its collector
+        # reads 4.5 V a second time; the bench (and kitleaf) turns from half way, reaching the
+        # active-region setting. Hand analysis (Sedra & Smith, divider bias): IC = 4.5 V / RC,
+        # VB = VE + VBE (0.65 V, from memory), RTOP = (VCC - VB) / (VB / R2 + IC / beta).
+        _, kit = kit_of(boost(collector="R3 4k7").replace("bias-top: R1 82k",
+                                                          "bias-top: TR1 B500k"))
+        ic = 4.5 / 4.7e3
+        vb = ic * 136 / 135 * 1e3 + 0.65
+        top = (9.0 - vb) / (vb / 18e3 + ic / 135)
+        assert dict(kit.presets)["TR1"] * 500e3 == pytest.approx(top, rel=0.05)
+
     def test_every_netlist_takes_the_trimmed_position(self):
         _, kit = kit_of()
         assert dc_at(kit, "boost.c") == pytest.approx(4.5, abs=2e-3)

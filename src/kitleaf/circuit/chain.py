@@ -14,7 +14,7 @@ from kitleaf.circuit.parts import Part
 from kitleaf.circuit.stages import KINDS
 from kitleaf.circuit.switches import contacts, form_of, wired_poles
 from kitleaf.engine import Circuit, get_model
-from kitleaf.engine.elements import terminals
+from kitleaf.engine.elements import POT_END_RESISTANCE, taper_fraction, terminals
 from kitleaf.errors import CircuitError, KitleafError
 
 GROUND = "0"
@@ -137,9 +137,9 @@ class Wiring:
         elif part.type == "pot" or part.type == "trimmer" and len(names) == 3:
             c.pot(d, *names, part.value, position=self.position(d),
                   taper=part.attrs["taper"], tol=tol)
-        elif part.type == "trimmer":  # in a resistor's place: the wiper tied to the cw end
-            c.pot(d, names[0], names[1], names[1], part.value, position=self.position(d),
-                  taper=part.attrs["taper"], tol=tol)
+        elif part.type == "trimmer":  # in a resistor's place: the track it is set to
+            track = taper_fraction(part.attrs["taper"], self.position(d))
+            c.resistor(d, *names, max(part.value * track, POT_END_RESISTANCE), tol=tol)
         else:
             getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.model)
 

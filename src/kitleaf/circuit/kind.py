@@ -37,6 +37,12 @@ class Option:
     choices: tuple[str, ...]
     default: str
     help: str = ""
+    # (choice, roles it leaves no place for): a stage making that choice gives none of them.
+    excludes: tuple[tuple[str, tuple[str, ...]], ...] = ()
+
+    def excluded(self, choice: str) -> tuple[str, ...]:
+        """The roles ``choice`` leaves no place for."""
+        return dict(self.excludes).get(choice, ())
 
 
 @dataclass(frozen=True)

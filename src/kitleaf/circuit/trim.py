@@ -2,8 +2,9 @@
 
 A stage block's ``trim: TR1 sets q1.collector to 4.5 V`` says how the builder sets trimmer
 TR1 on the bench: turn it until that test point reads 4.5 V. kitleaf finds the position that
-gives it with nominal parts (knobs half way, switches at their first position), and every
-figure of the kit is then solved with the trimmer there.
+gives it with nominal parts (knobs half way, switches at their first position), turning from
+half way as a trimmer comes (where the point reads the target twice, the crossing nearer the
+middle), and every figure of the kit is then solved with the trimmer there.
 """
 
 from __future__ import annotations
@@ -128,9 +129,14 @@ def _position(kit, target: TrimTarget, found: dict[str, float]) -> float:
 
     grid = [i / (GRID - 1) for i in range(GRID)]
     misses = [off_target(p) for p in grid]
-    for i in range(GRID - 1):
-        if misses[i] == 0.0 or misses[i] * misses[i + 1] < 0.0:
-            return _bisect(off_target, grid[i], grid[i + 1], misses[i])
+    # Turned from half way, as trimmers come: the crossing nearest the middle of the travel
+    # (a transistor driven into saturation may read the target a second time near one end).
+    spans = sorted((i for i in range(GRID - 1)
+                    if misses[i] == 0.0 or misses[i] * misses[i + 1] < 0.0),
+                   key=lambda i: abs(grid[i] + grid[i + 1] - 1.0))
+    if spans:
+        i = spans[0]
+        return _bisect(off_target, grid[i], grid[i + 1], misses[i])
     if misses[-1] == 0.0:
         return 1.0
     reached = [m + target.volts for m in misses]

@@ -60,7 +60,8 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
     "pot": {"ccw": "start", "cw": "end", "wiper": "tap"},
 }
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
-                 "diode": elm.Diode, "led": elm.LED}
+                 "diode": elm.Diode, "led": elm.LED,
+                 "trimmer": elm.ResistorVar}  # in a resistor's place: a variable resistor
 
 
 class JfetSymbol(elm.JFet):
@@ -119,9 +120,6 @@ class SchematicSheet:
         the higher DC voltage.
         """
         if part is None:
-            return
-        if part.type == "trimmer":  # in a resistor's place: a variable resistor
-            self.rheostat(part, a, b, side)
             return
         if part.type in ("diode", "led"):
             self.spots.setdefault((part.designator, "anode"), a)

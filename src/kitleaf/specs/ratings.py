@@ -71,7 +71,10 @@ _STRESS: Mapping[str, Callable] = MappingProxyType({
     "capacitor": lambda op, e: abs(_across(op, e.a, e.b)),
     "resistor": lambda op, e: _across(op, e.a, e.b) ** 2 / e.value,
     "pot": _pot_watts,
-    "trimmer": _pot_watts,
+    # in a resistor's place a trimmer is the resistance it is set to; in a custom stage's
+    # divider, a pot
+    "trimmer": lambda op, e: (_pot_watts(op, e) if hasattr(e, "legs")
+                              else _across(op, e.a, e.b) ** 2 / e.value),
 })
 
 

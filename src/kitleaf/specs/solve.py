@@ -84,7 +84,11 @@ class KitState:
             from kitleaf.specs.trim import trimmed_positions  # it solves states of its own
 
             trims = trimmed_positions(self.kit)
-        return trim_scale(self.circuit, trims) if trims else None
+        if not trims:
+            return None
+        set_at = {**dict(self.kit.presets), **self.positions}
+        tapers = {p.designator: p.attrs["taper"] for p in self.kit.parts() if p.designator in trims}
+        return trim_scale(self.circuit, trims, set_at, tapers)
 
     def range(self, measure: Callable[[View], np.ndarray]) -> Range | None:
         """``measure`` nominally and its 5th-95th percentiles over the samples; None when the
@@ -100,15 +104,18 @@ class KitState:
         return Range(nominal, float(low), float(high))
 
 
-def trim_scale(circuit, trims: Mapping[str, np.ndarray]) -> np.ndarray:
-    """Multipliers (samples, elements): 1, but for each trimmer wired as a variable resistor
-    (wiper to its cw end, the resistance the ccw leg) the ratio of the track its build's
-    position leaves to the one the netlist's position does."""
+def trim_scale(circuit, trims: Mapping[str, np.ndarray], set_at: Mapping[str, float],
+               tapers: Mapping[str, str]) -> np.ndarray:
+    """Multipliers (samples, elements): 1, but for each trimmer in a resistor's place (a
+    resistor element of its name, set at ``set_at``) the ratio of the track its build's
+    position gives to the one the netlist's does. A trimmer wired as a divider (a pot
+    element, in a custom stage) keeps the netlist's position."""
     size = len(next(iter(trims.values())))
     scale = np.ones((size, len(circuit.elements)))
     for k, e in enumerate(circuit.elements):
-        if isinstance(e, Pot) and e.name in trims and e.w == e.cw:
-            scale[:, k] = _track(e.taper, trims[e.name]) / _track(e.taper, e.position)
+        if e.name in trims and not isinstance(e, Pot):
+            taper = tapers[e.name]
+            scale[:, k] = _track(taper, trims[e.name]) / _track(taper, [set_at[e.name]])[0]
     return scale
 
 

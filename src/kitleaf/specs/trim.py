@@ -64,7 +64,8 @@ def _solved(kit) -> dict[str, tuple[np.ndarray, np.ndarray]]:
 
 def _positions(kit, target, earlier: dict[str, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
     """Where each build crosses the target, linear between the two grid positions it crosses
-    at (the first crossing along the travel), and the reachable position closest to it."""
+    at (the crossing nearest the middle of the travel), and the reachable position closest
+    to it."""
     grid = np.linspace(0.0, 1.0, GRID)
     rest = kit.rest_positions()
     states: list[KitState] = []
@@ -75,7 +76,8 @@ def _positions(kit, target, earlier: dict[str, np.ndarray]) -> tuple[np.ndarray,
     misses = np.stack([s.samples.batch.voltage(target.node) for s in states],
                       axis=1) - target.volts
     needed = np.full(misses.shape[0], np.nan)
-    for k in range(GRID - 2, -1, -1):
+    # the crossing nearest the middle of the travel wins, as for the nominal parts
+    for k in sorted(range(GRID - 1), key=lambda k: -abs(grid[k] + grid[k + 1] - 1.0)):
         a, b = misses[:, k], misses[:, k + 1]
         crossing = (a == 0.0) | (a * b < 0.0)
         share = np.divide(a, a - b, out=np.zeros_like(a), where=crossing)

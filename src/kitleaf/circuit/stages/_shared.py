@@ -135,7 +135,8 @@ def resistor_role(name: str, help: str, required: bool = True) -> Role:
 OUTPUT_COUPLING = Option(
     "output-coupling", ("cap", "direct"), "cap",
     help="cap: the output cap blocks DC; direct: no output cap, the stage drives the next "
-         "stage's input cap straight from its output node (one coupling cap between the two)")
+         "stage's input cap straight from its output node (one coupling cap between the two)",
+    excludes=(("direct", ("output-cap", "pulldown", "volume")),))
 
 
 def output_roles(source: str) -> tuple[Role, ...]:
@@ -161,7 +162,7 @@ def check_output(stage: Stage, kind_name: str) -> None:
             f"stage '{stage.id}' ({kind_name}) is missing its 'output-cap' part (coupling "
             "capacitor to the output); add a line 'output-cap: ...', or 'output-coupling: "
             "direct' where the next stage's input cap blocks the DC", stage.span)
-    for role in ("output-cap", "pulldown", "volume") if direct else ():
+    for role in OUTPUT_COUPLING.excluded("direct") if direct else ():
         part = stage.part(role)
         if part is not None:
             raise CircuitError(
