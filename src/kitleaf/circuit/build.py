@@ -15,6 +15,7 @@ from kitleaf.circuit.chain import (
     SwitchRef,
     input_meter,
 )
+from kitleaf.circuit.harness import build_harness
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.resolve import resolve_stage
@@ -50,6 +51,7 @@ def build_circuit(guide: Guide, set_trimmers: bool = True) -> KitCircuit:
         switches=_switches(guide, stages),
     )
     _check_dc_paths(kit)
+    build_harness(guide, kit)  # read now, so a wiring mistake is named by every command
     targets = read_trims(kit)
     if not targets or not set_trimmers:
         return kit

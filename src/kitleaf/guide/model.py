@@ -98,6 +98,7 @@ class KitBlock:
     supply_span: SourceSpan | None = None  # the 'supply:' line
     code_span: SourceSpan | None = None  # the 'code:' line
     switches: tuple[Switch, ...] = ()
+    bypass: Entry | None = None  # how the footswitch wires the kit in and out of the signal
 
 
 @dataclass(frozen=True)
