@@ -3,6 +3,8 @@ every figure solved with each build trimmed."""
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 from tests.engine.ngspice_run import ac_sweep, operating_point
@@ -165,3 +167,25 @@ def test_the_trimmed_kit_agrees_with_ngspice():
 def test_a_trimmer_beside_a_power_stage_is_set_from_the_rail():
     _, kit = kit_of(POWER, boost())
     assert dc_at(kit, "boost.c") == pytest.approx(4.5, abs=2e-3)
+
+
+def test_the_page_shows_each_switch_position_and_the_set_up_step(tmp_path):
+    """A guide with a toggle and a trimmer (invented), built as a site."""
+    from tests.site_pages import parse_page
+
+    from kitleaf.site.build import build_site
+
+    guides = tmp_path / "guides"
+    guides.mkdir()
+    source = Path(__file__).parent / "fixtures" / "pages" / "switch-and-trimmer.md"
+    (guides / source.name).write_text(source.read_text(encoding="utf-8"), encoding="utf-8")
+    build_site(guides, tmp_path / "published", jobs=1, use_cache=False)
+    page = parse_page(tmp_path / "published" / "switch-and-trimmer" / "index.html")
+    rows = [th.all_text() for th in page.iter("th")]
+    for position in ("diodes", "LEDs", "off"):
+        assert f"Clip set to {position}" in rows
+    assert "Gain at 1 kHz, knobs at half way, Clip set to diodes" in rows
+    set_up = page.find_all("div", "set-up")[0].all_text()
+    assert "Turn TR1 until Q1 drain (point 2 of JFET boost) reads 4.50 V." in set_up
+    bom = (tmp_path / "published" / "switch-and-trimmer" / "bom.html").read_text()
+    assert "SPDT on-off-on" in bom and "TR1" in bom
