@@ -129,6 +129,15 @@ class TestKit:
         assert [p.positions[0][1] for p in stage.knob_sweep] == ["partial", "none", "full"]
         assert specs.switches == (("Bypass", "S1", ("partial", "none", "full")),)
 
+    def test_the_knob_ends_take_every_switch_position(self):
+        # the gain range of the index card: Level fully up with the full bypass is the top
+        parsed, kit = kit_of()
+        specs = derive_specs(parsed, kit)
+        ends = {p.positions: p.gain_db.nominal for p in specs.knob_ends}
+        assert set(ends) == {(("Level", e), ("Bypass", n)) for e in (0.0, 1.0)
+                             for n in ("partial", "none", "full")}
+        assert max(ends, key=ends.get) == (("Level", 1.0), ("Bypass", "full"))
+
     def test_a_claim_names_a_position(self):
         parsed, kit = kit_of()
         values = computed_values(derive_specs(parsed, kit), kit)
