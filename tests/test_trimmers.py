@@ -189,3 +189,15 @@ def test_the_page_shows_each_switch_position_and_the_set_up_step(tmp_path):
     assert "Turn TR1 until Q1 drain (point 2 of JFET boost) reads 4.50 V." in set_up
     bom = (tmp_path / "published" / "switch-and-trimmer" / "bom.html").read_text()
     assert "SPDT on-off-on" in bom and "TR1" in bom
+
+
+def test_a_custom_stage_takes_a_trimmer_on_two_or_three_nodes():
+    # a JFET's drain load: two nodes make it a variable resistor, three a pot whose wiper
+    # feeds another part; either way the drain is set to the target
+    for nodes, extra in (("@ vcc c", ()), ("@ vcc c w", ("part: R2 100k @ w 0",))):
+        block = stage_block("core", "custom", "nodes: b c w", "part: C1 1u @ in b",
+                            "part: R1 1M @ b 0", "part: Q1 J201 @ c b 0",
+                            f"part: TR1 B50k {nodes}", *extra, "part: C2 1u @ c out",
+                            "test-point: Q1 drain = c", "trim: TR1 sets c to 4.5 V")
+        _, kit = kit_of(block)
+        assert dc_at(kit, "core.c") == pytest.approx(4.5, abs=2e-3), nodes

@@ -66,7 +66,9 @@ def _check_part(stage: Stage, part, known: set[str]) -> None:
         _check_switch(stage, part, nodes, known)
         return
     pins = PIN_NAMES[part.type]
-    counts = (3, 5) if part.type == "opamp" else (len(pins),)
+    # an op-amp may leave its supply pins to VCC and ground; a trimmer may be a variable
+    # resistor between two nodes
+    counts = {"opamp": (3, 5), "trimmer": (2, 3)}.get(part.type, (len(pins),))
     if len(nodes) not in counts:
         shown = " ".join(pins[:3]) + (" [v+ v-]" if part.type == "opamp" else "") \
             if part.type == "opamp" else " ".join(pins)
