@@ -199,5 +199,5 @@ def test_a_custom_stage_takes_a_trimmer_on_two_or_three_nodes():
                             "part: R1 1M @ b 0", "part: Q1 J201 @ c b 0",
                             f"part: TR1 B50k {nodes}", *extra, "part: C2 1u @ c out",
                             "test-point: Q1 drain = c", "trim: TR1 sets c to 4.5 V")
-        _, kit = kit_of(block)
+        _, kit = kit_of(block, stage_block("level", "volume", "volume: VR1 B100k"))
         assert dc_at(kit, "core.c") == pytest.approx(4.5, abs=2e-3), nodes

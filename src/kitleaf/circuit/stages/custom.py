@@ -25,7 +25,8 @@ CHAIN_NODES = ("in", "out", "vcc", "vref", "0")
 ALIASES = {"input": "in", "output": "out", "supply": "vcc", "reference": "vref"}
 PIN_NAMES = {
     "resistor": ("a", "b"), "capacitor": ("a", "b"), "inductor": ("a", "b"),
-    "pot": ("ccw", "wiper", "cw"), "trimmer": ("ccw", "wiper", "cw"), "diode": ("anode", "cathode"), "led": ("anode", "cathode"),
+    "pot": ("ccw", "wiper", "cw"), "trimmer": ("ccw", "wiper", "cw"),
+    "diode": ("anode", "cathode"), "led": ("anode", "cathode"),
     "bjt": ("collector", "base", "emitter"), "jfet": ("drain", "gate", "source"),
     "opamp": ("+in", "-in", "out", "v+", "v-"),
     "switch": ("common", "throws..."),  # pole by pole; the count comes from the form
