@@ -10,7 +10,7 @@ input impedance at 1 kHz, or the kit's load after the last stage.
 
 from __future__ import annotations
 
-from kitleaf.display import percent
+from kitleaf.display import settings
 from kitleaf.specs.model import Range
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext, past_limit
@@ -36,8 +36,7 @@ def check(ctx: RuleContext):
             continue
         words = past_limit(z_out, load.nominal / RATIO, True, "resistance")
         if words is not None:
-            knob = worst.positions[0] if worst else None
-            where = f", {knob[0]} at {percent(knob[1])}" if knob else ""
+            where = f", {settings(worst.positions)}" if worst else ""
             yield ctx.finding(RULE, stage, (
                 f"stage '{stage.id}' has an output impedance of "
                 f"{format_value(z_out.nominal, 'resistance')} (at 1 kHz{where}){words}, a "
