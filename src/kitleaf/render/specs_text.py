@@ -21,7 +21,11 @@ def specs_to_text(specs: KitSpecs) -> str:
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines.append(f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}")
+            lines += [f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}",
+                      f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
+                      f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
+                      f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
+                      f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
