@@ -36,7 +36,7 @@ from kitleaf.render.schematic_geometry import (
 from kitleaf.render.schematic_record import Point, SheetRecord
 
 CHAIN = ("in", "out", "vcc", "vref", "0", "supply")  # a stage's connections, named as such
-UNORDERED = ("resistor", "inductor")  # a builder may fit these either way round
+UNORDERED = ("resistor", "inductor", "trimmer")  # a builder may fit these either way round
 
 
 @dataclass(frozen=True)
@@ -244,10 +244,19 @@ def check_record(record: SheetRecord, netlist: StageNetlist) -> list[str]:
             + leader_problems(record, netlist, node_of))
 
 
-def check_stage(kit, stage: Stage) -> list[str]:
-    """Every problem of the stage's drawing, as :func:`render_stage_svg` draws it."""
+def plus_problems(record: SheetRecord, plus_pins: Mapping[str, int]) -> list[str]:
+    """A polarised capacitor whose + is drawn at the end the computed DC puts lower."""
+    return [f"{designator}: its + is drawn at pin {record.plus[designator] + 1}, but pin "
+            f"{pin + 1} sits higher" for designator, pin in sorted(plus_pins.items())
+            if designator in record.plus and record.plus[designator] != pin]
+
+
+def check_stage(kit, stage: Stage, plus_pins: Mapping[str, int] | None = None) -> list[str]:
+    """Every problem of the stage's drawing, as :func:`render_stage_svg` draws it with the
+    polarised capacitors' + pins ``plus_pins``."""
     from kitleaf.render.schematic import draw_stage
 
-    sheet = draw_stage(kit, stage)
+    sheet = draw_stage(kit, stage, plus_pins)
     sheet.mark_junctions()  # as writing it would
-    return check_record(sheet.record, stage_netlist(stage))
+    return (check_record(sheet.record, stage_netlist(stage))
+            + plus_problems(sheet.record, plus_pins or {}))
