@@ -50,7 +50,8 @@ def test_the_makers_introduction_comes_first_then_the_sections_before_the_body()
 
 def test_a_placed_section_stands_where_the_maker_put_it_and_the_rest_keep_their_defaults():
     names = [c for k, c, _ in order(GUIDE) if k in ("stage", "section")]
-    assert names == ["glance", "checks", "cautions", "boost", "voltages", "level", "faults"]
+    assert names == ["glance", "checks", "cautions", "boost", "voltages", "level", "wiring",
+                     "faults"]
 
 
 def test_a_stage_right_after_a_makers_heading_takes_it_as_its_own():
@@ -71,7 +72,7 @@ def test_a_wrong_marker_is_a_located_error(marker, message):
 
 
 def test_every_section_has_a_template():
-    assert set(SECTIONS) == {"glance", "checks", "cautions", "voltages", "faults"}
+    assert set(SECTIONS) == {"glance", "checks", "cautions", "wiring", "voltages", "faults"}
 
 
 # Two headings with nothing but closing and opening tags between them (common practice, no
@@ -79,9 +80,9 @@ def test_every_section_has_a_template():
 HEADINGS_IN_A_ROW = re.compile(r"</h[1-6]>(?:\s|</?(?:div|section)[^>]*>)*<h[1-6][ >]")
 
 
-def test_no_demo_guide_page_has_two_headings_in_a_row(tmp_path):
+def test_no_demo_site_page_has_two_headings_in_a_row(tmp_path):
     site = build_demo_site(tmp_path)
-    for page in site.glob("*/index.html"):
+    for page in site.rglob("*.html"):
         html = page.read_text(encoding="utf-8")
         assert HEADINGS_IN_A_ROW.search(html) is None, page
     guide = (site / "heron-opamp-boost" / "index.html").read_text(encoding="utf-8")

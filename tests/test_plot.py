@@ -141,14 +141,24 @@ def test_one_panel_per_knob_and_one_curve_per_position():
 
 
 def test_a_panel_title_lists_the_other_knobs_as_a_sentence_does():
-    from types import SimpleNamespace
-
     from kitleaf.render.plot_specs import _title
-    specs = SimpleNamespace(knobs=(("Drive", "VR1"), ("Tone", "VR2"), ("Level", "VR3"),
-                                   ("Blend", "VR4")))
-    assert _title(specs, "Tone", 4) == "Tone knob turned, Drive, Level and Blend at 50 %"
-    assert _title(SimpleNamespace(knobs=specs.knobs[:2]), "Tone", 2) == (
-        "Tone knob turned, Drive at 50 %")
+    knobs = ["Drive", "Tone", "Level", "Blend"]
+    assert _title("Tone", knobs) == "Tone knob turned, Drive, Level and Blend at 50 %"
+    assert _title("Tone", knobs[:2]) == "Tone knob turned, Drive at 50 %"
+
+
+def test_a_stage_plot_names_only_the_knobs_of_that_stage():
+    _, _, specs = solved("heron-opamp-boost")
+    titles = [p.title for s in specs.stages if (plot := stage_plot(specs, s.id))
+              for p in plot.panels]
+    assert titles and all("at 50 %" not in t for t in titles), titles
+
+
+def test_a_panel_title_says_where_the_switches_rest():
+    from kitleaf.render.plot_specs import _title
+    rests = {"Level": 0.0, "Clip": "diodes"}
+    assert _title("Level", ["Level", "Clip"], rests) == "Level knob turned, Clip set to diodes"
+    assert _title("Clip", ["Level", "Clip"], rests) == "Clip switch set, Level at 50 %"
 
 
 def test_svg_shows_labels_corners_and_band():
@@ -313,3 +323,11 @@ def test_a_band_with_gaps_is_drawn_as_separate_closed_outlines():
     [outline] = [e for e in root.iter(f"{SVG}path") if e.get("style") == "fill: #c9ced6"]
     runs = re.findall(r"M[^MZ]*Z", outline.get("d"))
     assert len(runs) == 2 and "".join(runs) == outline.get("d")
+
+
+def test_a_switch_panel_draws_its_resting_position_solid():
+    from kitleaf.render.plot_draw import STYLES, style_of
+    # the first position is the band's state, as half way is a knob's
+    assert style_of(0, 3, solid=0) == STYLES[2]
+    assert [style_of(i, 3, solid=0) for i in (1, 2)] == [STYLES[0], STYLES[1]]
+    assert style_of(2, 5) == STYLES[2]  # knobs keep their order

@@ -46,6 +46,14 @@ def gain_at(kit: KitCircuit, freq: float, node: str = "output", positions=None) 
     return complex(ac.transfer(node)[0])
 
 
+def response(kit: KitCircuit, freqs: np.ndarray, positions=None, node_in: str = "input",
+             node_out: str = "output") -> np.ndarray:
+    """The complex gain from ``node_in`` to ``node_out`` (the kit's jacks unless named)."""
+    circuit = kit.netlist(positions)
+    ac = solve_ac(circuit, solve_dc(circuit), freqs, source="VIN")
+    return ac.transfer(node_out) / ac.transfer(node_in)
+
+
 def dc_at(kit: KitCircuit, node: str, positions=None) -> float:
     return solve_dc(kit.netlist(positions)).voltage(node)
 
@@ -148,4 +156,38 @@ test-point: Q4 collector = c
 vol
 kind: volume
 volume: VR5 A100k
+===
+stack
+kind: tone-stack
+treble-cap: C40 220p
+slope: R40 47k
+treble: VR40 A250k
+bass-cap: C41 22n
+bass: VR41 A1M
+mid-cap: C42 22n
+mid: VR42 B25k
+===
+blend
+kind: tone-blend
+low-resistor: R43 39k
+low-cap: C43 10n
+high-cap: C44 4n7
+high-resistor: R44 22k
+tone: VR43 B100k
+===
+active
+kind: tone-active
+input-cap: C45 4u7 film
+bass-in: R45 10k
+bass: VR44 B100k
+bass-out: R46 10k
+bass-cap-in: C46 22n
+bass-cap-out: C47 22n
+treble-in: R47 2k2
+treble: VR45 B100k
+treble-out: R48 2k2
+treble-cap: C48 10n
+opamp: U2A TL072
+output-cap: C49 10u film
+pulldown: R49 1M
 """.split("===\n"))

@@ -2,15 +2,25 @@
 
 from __future__ import annotations
 
-from kitleaf.display import level_text, percent, range_text, si, thd_text
+from kitleaf.display import (
+    level_text,
+    range_text,
+    settings,
+    si,
+    thd_text,
+    trim_instruction,
+    trim_travel,
+)
 from kitleaf.specs.model import Drive, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
+    width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
              f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
-             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
+               for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
              f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
@@ -18,10 +28,16 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              *_drive_lines(specs.drive)]
+    for trim in specs.trims:
+        lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines.append(f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}")
+            lines += [f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}",
+                      f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
+                      f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
+                      f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
+                      f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
@@ -30,7 +46,7 @@ def specs_to_text(specs: KitSpecs) -> str:
 
 
 def _knobs(point: KnobPoint) -> str:
-    return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
+    return settings(point.positions)
 
 
 def _drive_lines(drive: Drive | None) -> list[str]:

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
@@ -24,6 +24,7 @@ from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.polarity import Orientation
 from kitleaf.specs.ratings import Stress
 from kitleaf.specs.rules import Finding, RuleContext, check_rules
 from kitleaf.values import parse_value
@@ -131,18 +132,14 @@ def holds(claim: Claim, computed: Computed) -> bool:
 
 def broken(claim: Claim, computed: Computed) -> SpecError:
     value = computed.value
-    nominal = _show(value.nominal, computed.quantity)
+    nominal = figure(value.nominal, computed.quantity)
     if value.low is None or value.high is None:
         spread = "range not computed: nominal only"
     else:
-        low, high = (_show(x, computed.quantity) for x in judged_span(value))
+        low, high = (figure(x, computed.quantity) for x in judged_span(value))
         spread = f"range {low}{' to ' if '-' in low + high else '–'}{high}"
     return SpecError(f"claim '{claim.entry.value}' ({computed.label}) does not hold: computed "
                      f"{nominal} ({spread}); correct the parts or the claim", claim.entry.span)
-
-
-def _show(x: float, quantity: str) -> str:
-    return figure(x, quantity)
 
 
 def check_claims(guide: Guide, kit: KitCircuit,
@@ -173,6 +170,8 @@ class Checks:
     findings: tuple[Finding, ...]
     # Each rated part's worst DC stress, for the BOM's rating warnings (specs/ratings.py).
     stresses: Mapping[str, Stress]
+    # Which way each polarised capacitor goes, for the drawing and the BOM (specs/polarity.py).
+    orientations: Mapping[str, Orientation] = field(default_factory=dict)
 
     def claims_for(self, scope: str) -> tuple[Verified, ...]:
         return tuple(c for c in self.claims if c.scope == scope)
@@ -192,4 +191,4 @@ def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> Checks:
     claims = check_claims(guide, kit, values)
     ctx = RuleContext(guide, kit, specs)
     return Checks(MappingProxyType(values), claims, check_rules(ctx),
-                  MappingProxyType(ctx.stresses))
+                  MappingProxyType(ctx.stresses), MappingProxyType(ctx.orientations))

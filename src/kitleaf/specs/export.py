@@ -10,6 +10,7 @@ from kitleaf.specs.model import (
     KitSpecs,
     KnobPoint,
     Range,
+    Scoop,
     StageSpecs,
     Voltage,
 )
@@ -33,7 +34,8 @@ def _range(r: Range | None, scale: float = 1.0) -> dict | None:
 def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
     return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
              "input_impedance_ohm_1khz": _range(p.input_impedance),
-             "output_impedance_ohm_1khz": _range(p.output_impedance)}
+             "output_impedance_ohm_1khz": _range(p.output_impedance),
+             "scoop": _scoop(p.scoop)}
             for p in points]
 
 
@@ -59,6 +61,10 @@ def _drive(d: Drive | None) -> dict | None:
         return None
     return {"freq_hz": _num(d.freq), "levels_v_peak": [_num(x) for x in d.levels],
             "settings": [_setting(s) for s in d.settings]}
+
+
+def _scoop(s: Scoop | None) -> dict | None:
+    return None if s is None else {"depth_db": _range(s.depth_db), "freq_hz": _range(s.hz)}
 
 
 def _voltage(v: Voltage, specs: KitSpecs) -> dict:
@@ -89,6 +95,7 @@ def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
         "drive": _drive(s.drive),
+        "scoop": _scoop(s.scoop),
         "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
         if s.signal else None,
     }
@@ -100,7 +107,9 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "schema": SCHEMA,
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
                 "supply_v": _num(specs.supply_v),
-                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs]},
+                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs],
+                "switches": [{"name": n, "switch": d, "positions": list(p)}
+                             for n, d, p in specs.switches]},
         "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
@@ -117,4 +126,8 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "drive": _drive(specs.drive),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
+        "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,
+                   "point_number": t.number, "volts": _num(t.volts),
+                   "position": _range(t.position), "out_of_reach": _num(t.out_of_reach)}
+                  for t in specs.trims],
     }

@@ -112,7 +112,7 @@ def _draw_bypass(sheet: Sheet, d: TransistorDrawing, lower: Point) -> None:
 def _chain_part(sheet: Sheet, part: Part, a: Point, b: Point, side: str | None = None,
                 plus: Point | None = None) -> None:
     if part.type == "pot":
-        sheet.rheostat(part, a, b, side=side)
+        sheet.rheostat(part, a, b, side=side, grows=False)  # the gain pot: clockwise, more gain
     else:
         sheet.part(part, a, b, side=side, plus=plus)
 
@@ -124,6 +124,8 @@ def _draw_output(sheet: Sheet, d: TransistorDrawing, node: Point) -> None:
     start = x + 1.0
     sheet.dot(node)
     sheet.wire(node, (start, y))
+    if d.output_cap is None:  # a direct output
+        sheet.wire((start, y), (start + 2.2, y))
     sheet.part(d.output_cap, (start, y), (start + 2.2, y))
     # the pulldown runs down to ground, so it stands clear of the bypass network, not across it
     draw_volume_out(sheet, d.volume, (start + 2.2, y), max(start + 4.2, bypass_right + 1.4),
@@ -140,7 +142,9 @@ def draw_volume_out(sheet: Sheet, volume: Part | None, at: Point, x: float,
         sheet.dot(column)
         sheet.part(pulldown, column, (column[0], GROUND_Y), side="right")
         sheet.ground((column[0], GROUND_Y))
-        at, x = column, max(x, column[0] + 2.4)
+        # the volume pot's label (left of it) clear of the pulldown's (right of it)
+        room = sheet.label_room(pulldown) + (sheet.label_room(volume) if volume else 0.0)
+        at, x = column, max(x, column[0] + 2.4, column[0] + room + 0.4)
     if volume is None:
         sheet.wire(at, (x, at[1]))
         sheet.port((x, at[1]), "OUT", "right")

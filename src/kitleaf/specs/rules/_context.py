@@ -10,15 +10,18 @@ from functools import cached_property
 import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
+from kitleaf.display import setting
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.specs.polarity import Orientation, orientations
 from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
 from kitleaf.specs.rules._settings import DcSetting, Reading
-from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
+from kitleaf.specs.solve import KitState, nominal_positions
 from kitleaf.values import format_value
 
 # A rule finds a knob setting where the nominal build fails, or where at least this share of
@@ -94,14 +97,15 @@ class RuleContext:
 
     @cached_property
     def states(self) -> tuple[DcSetting, ...]:
-        """Knobs at half way, then each knob alone at every swept position (DC only)."""
+        """Knobs at half way (switches at their first position), then each knob or switch
+        alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
         settings = [("knobs at half way", nominal)]
-        for knob in self.kit.knobs:
-            for pos in KNOB_STEPS:
-                if pos != nominal[knob.designator]:
-                    words = f"{knob.name} at {round(pos * 100)} %"
-                    settings.append((words, {**nominal, knob.designator: pos}))
+        for control in self.kit.controls:
+            for pos, shown in control.steps:
+                if pos != nominal[control.designator]:
+                    words = setting(control.name, shown)
+                    settings.append((words, {**nominal, control.designator: pos}))
         base = KitState(self.kit, nominal)
         memo: dict = {}
         return tuple(DcSetting(words, base if i == 0 else KitState(self.kit, positions, near=base),
@@ -120,7 +124,7 @@ class RuleContext:
                     found is None or (nominal, share) > (found.nominal, found.share)):
                 found = Verdict(state, nominal, share, False)
         return None if found is None else replace(found, everywhere=len(outcomes) == 1,
-                                                  knobs=bool(self.kit.knobs))
+                                                  knobs=bool(self.kit.controls))
 
     @staticmethod
     def shown(verdict: Verdict, measure: Callable[[Reading], np.ndarray],
@@ -139,7 +143,7 @@ class RuleContext:
         """`` with KNOB at P %`` for ``state``, or `` at every knob setting`` when ``value``
         (nominal) does not depend on the knobs, since naming a knob position would send the
         maker to turn it; nothing for a kit without knobs. With its leading space."""
-        if not self.kit.knobs:
+        if not self.kit.controls:
             return ""
         seen = [value(s.nominal) for s in self.states]
         scale = max(abs(v) for v in seen)
@@ -172,6 +176,16 @@ class RuleContext:
         value, bound = self.shown(verdict, stress)
         where = self.setting(verdict.state, nominal).strip()
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
+
+    def corner_stages(self) -> tuple[Stage, ...]:
+        """The signal stages whose corners the rules judge: all but passive tone controls."""
+        return tuple(s for s in self.kit.signal_stages
+                     if not self.kit.kind(s).shapes_response)
+
+    @cached_property
+    def orientations(self) -> dict[str, Orientation]:
+        """Each polarised capacitor's + end over the knob states (see specs/polarity.py)."""
+        return orientations(self)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:
