@@ -106,7 +106,7 @@ def drive_picture(specs: KitSpecs) -> DrivePicture | None:
     panels = []
     for knob in [name for name, _ in specs.knobs] or [""]:
         settings = _knob_settings(drive, knob)
-        title = _title(specs, knob, len(specs.knobs)) or "Knobs fixed"
+        title = _title(knob, [name for name, _ in specs.knobs]) or "Knobs fixed"
         band = drive.band if knob == (specs.knobs[0][0] if specs.knobs else "") else ()
         panels.append(CurvePanel(f"THD, {title}", "thd",
                                  tuple((lb, s.thd) for lb, s in settings), band))

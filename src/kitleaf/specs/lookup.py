@@ -19,6 +19,7 @@ from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
 from kitleaf.guide.slug import slug_for as slug
 from kitleaf.specs.model import DriveSetting, KitSpecs, KnobPoint, Range, Scoop, StageSpecs
+from kitleaf.values import format_value
 
 KIT = "kit"
 # Spec field -> (name, quantity, what it is); the same for the kit and each stage.
@@ -113,7 +114,7 @@ def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> N
     """A setting's figures (none when not computed), named with its knob positions."""
     point = KnobPoint(setting.positions, Range(0.0))
     suffix = f".{_knob_suffix(point)}" if setting.positions else ""
-    where = f"{title}, {_knob_words(point)}" if setting.positions else f"{title}, knobs at half"
+    where = f"{title}, {_knob_words(point)}" if setting.positions else f"{title}, knobs at half way"
 
     def add(name: str, value: float | None, quantity: str, label: str) -> None:
         if value is not None:
@@ -123,9 +124,9 @@ def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> N
     for field, name, quantity, label in DRIVE_FIELDS:
         add(name, getattr(setting, field), quantity, label)
     for p in setting.points:
-        level = level_name(p.level)
-        add(f"thd.{level}", p.thd, "thd", f"THD at {level} pickup peak")
-        add(f"peak.{level}", p.peak, "voltage", f"output peak at {level} pickup peak")
+        level, words = level_name(p.level), format_value(p.level, "voltage")
+        add(f"thd.{level}", p.thd, "thd", f"THD at {words} pickup peak")
+        add(f"peak.{level}", p.peak, "voltage", f"output peak at {words} pickup peak")
     for name, swing, side in (("swing-up", setting.swing_up, "above"),
                               ("swing-down", setting.swing_down, "below")):
         add(name, None if swing is None else swing[0], "voltage",
