@@ -9,7 +9,7 @@ import pytest
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import reduced_steps, stepper
-from kitleaf.errors import SpecError
+from kitleaf.errors import GuideError, SpecError
 from kitleaf.guide.parse import parse_guide
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
@@ -17,6 +17,7 @@ from kitleaf.specs.export import specs_to_json
 from rules_kits import GUIDE
 
 ALDER = Path(__file__).resolve().parents[1] / "guides" / "alder-drive.md"
+ASKING = GUIDE.replace("supply: 9 V\n", "supply: 9 V\nlarge-signal: yes\n", 1)
 
 
 def solved(text: str, path: str = "alder.md"):
@@ -57,7 +58,7 @@ class TestAlderDrive:
     def test_the_json_carries_the_drive_object(self, alder):
         guide, kit, specs = alder
         data = specs_to_json(specs)
-        assert data["schema"] == "kitleaf-specs/2"
+        assert data["schema"] == "kitleaf-specs/1"  # keys only added: drive beside the headroom
         drive = data["drive"]
         assert drive["freq_hz"] == 1000.0 and len(drive["settings"]) == len(specs.drive.settings)
         first = drive["settings"][0]
@@ -110,10 +111,24 @@ class TestRules:
         for module, name in ((stepper, "MAX_NEWTON"), (reduced_steps, "MAX_NEWTON"),
                              (reduced_steps, "RETRY_NEWTON")):
             monkeypatch.setattr(module, name, 1)
-        guide, kit, specs = solved(GUIDE, "boost.md")
+        guide, kit, specs = solved(ASKING, "boost.md")
         assert specs.drive.base.error
         found = [f for f in verify(guide, kit, specs).findings if f.rule == "large-signal"]
         assert len(found) == 1
         message = found[0].message
         assert "stage 'boost'" in message and "mV pickup peak" in message
         assert "knobs at half way" in message or "Level at" in message
+
+
+class TestAsking:
+    def test_a_kit_that_does_not_ask_keeps_its_dc_headroom(self):
+        _, _, specs = solved(GUIDE, "boost.md")
+        assert specs.drive is None and specs.headroom is not None
+        data = specs_to_json(specs)
+        assert data["drive"] is None and data["headroom_v_peak"] is not None
+
+    def test_a_value_other_than_yes_or_no_is_located(self):
+        text = ASKING.replace("large-signal: yes", "large-signal: maybe")
+        with pytest.raises(GuideError, match="neither yes nor no") as caught:
+            parse_guide("boost.md", text)
+        assert caught.value.span.line == text.splitlines().index("large-signal: maybe") + 1

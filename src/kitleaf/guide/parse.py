@@ -18,12 +18,13 @@ from kitleaf.guide.source import checked_text, read_text
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "switch", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
+    "large-signal",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
 SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
-               "bypass")
+               "bypass", "large-signal")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
-EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
+EXTRA_KEYS = ("battery", "battery-life", "claim", "allow", "large-signal")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
 # Stage ids name files of the site: short, plain names.
 _ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")
@@ -94,6 +95,22 @@ def check_unique_ids(stages: tuple[StageBlock, ...]) -> None:
         seen[stage.id] = stage
 
 
+LARGE_SIGNAL = ("yes", "no")
+
+
+def check_large_signal(entry: Entry | None) -> None:
+    """``large-signal: yes`` asks for the large-signal figures (they cost a few seconds)."""
+    if entry is not None and entry.value.strip().lower() not in LARGE_SIGNAL:
+        raise GuideError(f"'large-signal: {entry.value}' is neither yes nor no; write "
+                         "'large-signal: yes' for the figures under a pickup's drive, or drop "
+                         "the line", entry.span)
+
+
+def wants_large_signal(kit: KitBlock) -> bool:
+    """Whether the kit block asks for the large-signal figures."""
+    return any(e.key == "large-signal" and e.value.strip().lower() == "yes" for e in kit.extra)
+
+
 def read_kit(block: Block) -> KitBlock:
     for entry in block.entries:
         if entry.key not in KIT_KEYS:
@@ -109,6 +126,7 @@ def read_kit(block: Block) -> KitBlock:
             raise GuideError("'caution:' is empty; write the caution after it or drop the line",
                              caution.span)
     check_battery(block)
+    check_large_signal(once["large-signal"])
     knobs = read_knobs(block.all("knob"))
     return KitBlock(
         title=value["title"].value, code=value["code"].value, supply=value["supply"].value,

@@ -11,7 +11,7 @@ from kitleaf.display import (
     trim_instruction,
     trim_travel,
 )
-from kitleaf.specs.model import Drive, KitSpecs, KnobPoint
+from kitleaf.specs.model import Drive, Headroom, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
@@ -27,7 +27,8 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  input impedance    {range_text(specs.input_impedance, 'resistance')}",
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
-             *_drive_lines(specs.drive)]
+             *(_drive_lines(specs.drive) if specs.drive else
+               [f"  output headroom    {_swing(specs.headroom)}"])]
     for trim in specs.trims:
         lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
@@ -47,6 +48,10 @@ def specs_to_text(specs: KitSpecs) -> str:
 
 def _knobs(point: KnobPoint) -> str:
     return settings(point.positions)
+
+
+def _swing(h: Headroom | None) -> str:
+    return "–" if h is None else f"{range_text(h.volts, 'voltage')} peak ({h.limit})"
 
 
 def _drive_lines(drive: Drive | None) -> list[str]:

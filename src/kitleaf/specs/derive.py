@@ -16,6 +16,7 @@ from kitleaf.display import setting
 from kitleaf.engine.elements import OpAmp
 from kitleaf.errors import KitleafError, SolveError
 from kitleaf.guide.model import Guide
+from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
 from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
 from kitleaf.specs.headroom import MARGINS, margins
@@ -101,9 +102,11 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
 def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
     solved = SolvedKit(kit)
     base = solved.base
-    driven = Driven(solved)
+    # the large-signal sweep costs seconds: only for a kit that asks for it
+    driven = Driven(solved) if wants_large_signal(guide.kit) else None
     stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
-                   if kit.kind(s).signal else stage_specs(solved, s) for s in kit.stages)
+                   if driven and kit.kind(s).signal else stage_specs(solved, s)
+                   for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
     return KitSpecs(
@@ -130,7 +133,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         switches=tuple((s.name, s.designator, s.positions) for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
-        drive=driven.kit(),
+        drive=driven.kit() if driven else None,
         trims=trims(kit),
     )
 

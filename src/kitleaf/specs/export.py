@@ -1,4 +1,4 @@
-"""The specs as JSON (schema ``kitleaf-specs/2``, documented in docs/specs-json.md)."""
+"""The specs as JSON (schema ``kitleaf-specs/1``, documented in docs/specs-json.md)."""
 
 from __future__ import annotations
 
@@ -7,6 +7,7 @@ from kitleaf.specs.model import (
     Curve,
     Drive,
     DriveSetting,
+    Headroom,
     KitSpecs,
     KnobPoint,
     Range,
@@ -15,7 +16,7 @@ from kitleaf.specs.model import (
     Voltage,
 )
 
-SCHEMA = "kitleaf-specs/2"
+SCHEMA = "kitleaf-specs/1"
 
 
 def _num(x: float | None, figures: int = 6) -> float | None:
@@ -56,6 +57,10 @@ def _setting(s: DriveSetting) -> dict:
             "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down)}
 
 
+def _headroom(h: Headroom | None) -> dict | None:
+    return None if h is None else {**_range(h.volts), "limit": h.limit}
+
+
 def _drive(d: Drive | None) -> dict | None:
     if d is None:
         return None
@@ -94,6 +99,7 @@ def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
         "input_impedance_ohm_1khz": _range(s.input_impedance),
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
+        "headroom_v_peak": _headroom(s.headroom),
         "drive": _drive(s.drive),
         "scoop": _scoop(s.scoop),
         "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
@@ -123,6 +129,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "input_impedance_ohm_1khz": _range(specs.input_impedance),
         "output_impedance_ohm_1khz": _range(specs.output_impedance),
         "supply_current_ma": _range(specs.supply_current, 1e3),
+        "headroom_v_peak": _headroom(specs.headroom),
         "drive": _drive(specs.drive),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
