@@ -29,7 +29,7 @@ from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import plus_pins_of, render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
-from kitleaf.render.wiring_list import wiring_rows
+from kitleaf.render.wiring_list import wires_by_part, wiring_rows
 from kitleaf.render.wiring_svg import render_wiring_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
@@ -69,6 +69,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "bom_headings": dict(BUILD_ORDER),
         "symptoms": cached_symptoms(cache, kit),
         "harness": harness, "wiring_rows": wiring_rows(harness) if harness else (),
+        "wired_by": wires_by_part(harness),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
