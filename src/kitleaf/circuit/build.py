@@ -13,6 +13,7 @@ from kitleaf.circuit.chain import (
     SignalSource,
     input_meter,
 )
+from kitleaf.circuit.devices import read_devices
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.resolve import resolve_stage
@@ -30,7 +31,8 @@ SUPPLY_RANGE = (1.0, 60.0)
 
 def build_circuit(guide: Guide) -> KitCircuit:
     """Resolve every stage of ``guide`` and check the kit holds together as one circuit."""
-    stages = _in_order(guide, [resolve_stage(b) for b in guide.stages])
+    devices = read_devices(guide)
+    stages = _in_order(guide, [resolve_stage(b, devices) for b in guide.stages])
     hardware = tuple(Part(h.designator, "hardware", h.description, h.span)
                      for h in guide.kit.hardware)
     _check_designators(stages, hardware)
@@ -39,6 +41,7 @@ def build_circuit(guide: Guide) -> KitCircuit:
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),
         supply_v=_volts(guide.kit.supply, guide.kit.supply_span or guide.kit.span),
+        warnings=devices.warnings,
     )
     _check_dc_paths(kit)
     return kit

@@ -91,7 +91,7 @@ class Wiring:
             c.pot(d, *names, part.value, position=self.position(d),
                   taper=part.attrs["taper"], tol=tol)
         else:
-            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.model)
+            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.device or part.model)
 
     def internal(self, method: str, name: str, *nodes: str, **kwargs) -> None:
         """Add an element that is not a part (an ideal source, say), named within the stage."""
@@ -111,6 +111,8 @@ class KitCircuit:
     source: SignalSource
     load: float
     supply_v: float
+    # Located warning lines from reading the guide's own device models.
+    warnings: tuple[str, ...] = ()
 
     def kind(self, stage: Stage) -> StageKind:
         return KINDS[stage.kind]
@@ -179,7 +181,7 @@ class KitCircuit:
         rail = "vcc" if self.has_power_stage else SUPPLY
         for missing, used in unused_halves(self.parts()):
             circuit.isource(f"{missing}.quiescent", rail, GROUND,
-                            dc=get_model(used.model).get("IQ"))
+                            dc=get_model(used.device or used.model).get("IQ"))
 
     def rails_used(self, stage: Stage) -> tuple[str, ...]:
         """Which of the power section's rails, ``vcc`` and ``vref``, the stage's parts join."""

@@ -7,6 +7,7 @@ import shlex
 from dataclasses import replace
 from types import MappingProxyType
 
+from kitleaf.circuit.devices import NO_DEVICES, GuideDevices
 from kitleaf.circuit.parts import PART_QUANTITY, Part
 from kitleaf.errors import CircuitError, KitleafError, SourceSpan
 from kitleaf.guide.model import DESIGNATOR, Entry
@@ -53,8 +54,10 @@ def types_for_designator(designator: str) -> tuple[str, ...]:
     return ()
 
 
-def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
-    """The part written on ``entry`` for a role accepting ``accepted`` part types."""
+def read_part(entry: Entry, accepted: tuple[str, ...], where: str,
+              devices: GuideDevices = NO_DEVICES) -> Part:
+    """The part written on ``entry`` for a role accepting ``accepted`` part types; a
+    semiconductor's model is the guide's own (``devices``) or else the library's."""
     try:
         words = shlex.split(entry.value)
     except ValueError:
@@ -67,9 +70,9 @@ def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
             entry.span,
         )
     designator, value_text, rest = words[0], words[1], words[2:]
-    part_type = _choose_type(designator, accepted, entry.span, where, value_text)
+    part_type = _choose_type(designator, accepted, entry.span, where, value_text, devices)
     try:
-        part = _make_part(designator, part_type, value_text, rest, entry.span)
+        part = _make_part(designator, part_type, value_text, rest, entry.span, devices)
     except KitleafError as exc:
         raise CircuitError(f"{where}, {designator}: {exc.message}", entry.span) from None
     if nodes is None:
@@ -85,19 +88,34 @@ def split_nodes(words: list[str]) -> tuple[list[str], list[str] | None]:
     return words[:at], words[at + 1:]
 
 
-def device_model(part_type: str, value_text: str) -> str:
-    """The engine model a semiconductor's value names; an LED is written by its colour."""
-    if part_type == "led" and not value_text.upper().startswith("LED"):
+def device_model(part_type: str, value_text: str, devices: GuideDevices = NO_DEVICES) -> str:
+    """The model a semiconductor's value names; an LED is written by its colour, or by the
+    name of a model of the guide's own."""
+    if part_type == "led" and not value_text.upper().startswith("LED") \
+            and devices.find(value_text) is None:
         return f"LED-{value_text.upper()}"
     return value_text
 
 
-def _by_model(matching: list[str], value_text: str) -> str:
-    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+def find_device(name: str, devices: GuideDevices = NO_DEVICES):
+    """The guide's own model called ``name``, else the library's; an error naming both."""
     from kitleaf.engine.models import get_model  # the model library loads on first use
 
+    own = devices.find(name)
+    if own is not None:
+        return own
     try:
-        kind = get_model(value_text).kind
+        return get_model(name)
+    except KitleafError as exc:
+        own = ", ".join(m.name for m in devices.models.values())
+        raise CircuitError(f"{exc.message}{'; the guide defines ' + own if own else ''}; or "
+                           f"define {name} in a block ```device {name}") from None
+
+
+def _by_model(matching: list[str], value_text: str, devices: GuideDevices) -> str:
+    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+    try:
+        kind = find_device(value_text, devices).kind
     except KitleafError:
         return matching[0]
     found = _MODEL_TYPES.get(kind)
@@ -108,11 +126,11 @@ _MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet"}
 
 
 def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str,
-                 value_text: str = "") -> str:
+                 value_text: str = "", devices: GuideDevices = NO_DEVICES) -> str:
     by_prefix = types_for_designator(designator)
     matching = [t for t in accepted if t in by_prefix]
     if len(matching) > 1:
-        return _by_model(matching, value_text)
+        return _by_model(matching, value_text, devices)
     if matching:
         return matching[0]
     wanted = " or ".join(accepted)
@@ -124,18 +142,20 @@ def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, w
     )
 
 
-def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> Part:
+def _make_part(designator: str, part_type: str, value_text: str, rest, span,
+               devices: GuideDevices = NO_DEVICES) -> Part:
     attrs: dict[str, str] = {}
     tolerance = rating = None
     for word in rest:
         tolerance, rating = _read_attribute(word, part_type, attrs, tolerance, rating)
     quantity = PART_QUANTITY[part_type]
-    value = model = None
+    value = model = device = None
     if part_type == "pot" and value_text[:1] in TAPER_LETTERS and len(value_text) > 1:
         _set_once(attrs, "taper", TAPER_LETTERS[value_text[0]], value_text)
         value_text = value_text[1:]
     if quantity is None:
-        model = device_model(part_type, value_text)
+        model = device_model(part_type, value_text, devices)
+        device = find_device(model, devices)
     else:
         value = parse_value(value_text, quantity)
     if part_type == "pot" and "taper" not in attrs:
@@ -144,7 +164,8 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
     if tolerance is None and part_type in ("resistor", "pot", "inductor", "capacitor"):
         tolerance = DEFAULT_TOLERANCE.get(attrs.get("dielectric", part_type), 0.10)
     return Part(designator, part_type, value_text, span, value=value, model=model,
-                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs))
+                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs),
+                device=device)
 
 
 def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):

@@ -6,6 +6,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
 
+from kitleaf.engine.models import DeviceModel
 from kitleaf.errors import SourceSpan
 
 # Part types and the SI quantity their value is in (None: named by a device model instead).
@@ -33,6 +34,7 @@ class Part:
     are named by ``model`` instead. ``tolerance`` is a fraction (0.05 for 5 %). ``rating`` is the
     stated voltage rating of a capacitor in volts or the power rating of a resistor in watts.
     ``attrs`` keeps every other word written on the part line (dielectric, taper, package...).
+    ``device`` is the engine model ``model`` names: the guide's own or the library's.
     """
 
     designator: str
@@ -46,6 +48,7 @@ class Part:
     attrs: Mapping[str, str] = field(default_factory=dict)
     role: str = ""
     stage_id: str = ""
+    device: DeviceModel | None = None
 
     @property
     def dielectric(self) -> str | None:

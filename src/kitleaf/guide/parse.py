@@ -9,6 +9,7 @@ from markdown_it import MarkdownIt
 
 from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import at_most_once, make_block, require_single
+from kitleaf.guide.device_blocks import read_devices
 from kitleaf.guide.fences import is_ours
 from kitleaf.guide.kit_lines import check_battery, read_knobs
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
@@ -51,11 +52,13 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
                          kits[1].span)
     stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
     check_unique_ids(stages)
-    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages)
+    devices = read_devices([b for b in blocks if b.name == "device"])
+    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages, devices)
 
 
 def find_blocks(text: str, path: str):
-    """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
+    """Our fenced blocks (info string ``kit``, ``stage ...`` or ``device ...``) in document
+    order."""
     lines = text.splitlines()
     for token in markdown_parser().parse(text):
         if is_ours(token, lines, path):

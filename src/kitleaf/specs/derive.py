@@ -209,10 +209,12 @@ def kit_headroom(solved: SolvedKit) -> Headroom | None:
 
 
 def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
-    """Findings a builder should hear about, each a ``path:line: warning:`` line at its stage's
-    block: a device with no room to swing at its bias."""
+    """Findings a builder should hear about, each a ``path:line: warning:`` line: what reading
+    the guide's device models raised, then a device with no room to swing at its bias (at its
+    stage's block)."""
     spans = {s.id: s.span for s in kit.stages}
-    return tuple(f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room "
-                 "to swing at this bias"
-                 for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
+    return kit.warnings + tuple(
+        f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room to swing "
+        "at this bias"
+        for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 

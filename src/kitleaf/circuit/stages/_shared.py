@@ -22,6 +22,8 @@ SUPPLY_PINS = {"vpos": "8", "vneg": "4"}
 
 def family(part: Part) -> str:
     """The engine's kind of a semiconductor's model (npn, pnp, njf, pjf, diode, opamp)."""
+    if part.device is not None:
+        return part.device.kind
     from kitleaf.engine.models import get_model  # the model library loads on first use
 
     try:
