@@ -134,6 +134,7 @@ _DESCRIBERS: Mapping[str, Callable[[Part], PartDescription]] = MappingProxyType(
         "bjt": _device,
         "jfet": _device,
         "opamp": _device,
+        "pump": _device,
         "hardware": _hardware,
     }
 )

@@ -16,6 +16,7 @@ from kitleaf.circuit.chain import (
 from kitleaf.circuit.devices import read_devices
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import check_rails
 from kitleaf.circuit.resolve import resolve_stage
 from kitleaf.circuit.stages import KINDS
 from kitleaf.engine.elements import Capacitor, terminals
@@ -37,6 +38,7 @@ def build_circuit(guide: Guide) -> KitCircuit:
                      for h in guide.kit.hardware)
     _check_designators(stages, hardware)
     _check_power(stages)
+    check_rails(stages)
     kit = KitCircuit(
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),

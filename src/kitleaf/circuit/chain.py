@@ -10,6 +10,7 @@ from types import MappingProxyType
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.packages import unused_halves
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import DOUBLED_NODE, NEGATIVE_NODE, rail_nodes
 from kitleaf.circuit.stages import KINDS
 from kitleaf.engine import Circuit, get_model
 from kitleaf.engine.elements import terminals
@@ -78,6 +79,8 @@ class Wiring:
         """Add ``part`` between the local ``nodes`` (in the part type's pin order)."""
         if part is None:
             return
+        if part.type == "opamp" and nodes[4:] == ("0",):
+            nodes = (*nodes[:4], "vee")  # the negative supply pin: ground, or the - rail
         names = [self.node(n) for n in nodes]
         c, d = self.circuit, part.designator
         tol = part.tolerance or 0.0
@@ -92,6 +95,21 @@ class Wiring:
                   taper=part.attrs["taper"], tol=tol)
         else:
             getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.device or part.model)
+
+    def pump(self, part: Part, inp: str, out: str, ratio: float, flying: Part) -> None:
+        """A charge-pump chip wired as a doubler (``ratio`` 2) or inverter (-1), averaged:
+        its switches' resistance plus the flying capacitor's 1 / (f C), and its own draw.
+
+        The flying capacitor charges to the input's voltage on every cycle; it stands from
+        the input to a node held at ground by a gigaohm, so its rating and polarity are
+        checked at that voltage while it loads nothing."""
+        model = part.device
+        rout = model.get("ROUT") + 1.0 / (model.get("FOSC") * flying.value)
+        self.circuit.pump(part.designator, self.node(inp), self.node(out), GROUND, ratio, rout)
+        self.circuit.isource(f"{part.designator}.quiescent", self.node(inp), GROUND,
+                             dc=model.get("IQ"))
+        self.place(flying, inp, "flying")
+        self.internal("resistor", "flying-hold", "flying", "0", value=1e9)
 
     def internal(self, method: str, name: str, *nodes: str, **kwargs) -> None:
         """Add an element that is not a part (an ideal source, say), named within the stage."""
@@ -178,8 +196,9 @@ class KitCircuit:
     def _unused_halves(self, circuit: Circuit) -> None:
         """The half of a dual op-amp no stage uses still draws its quiescent current (the
         design rule unused-half asks for a stage that ties its inputs)."""
-        rail = "vcc" if self.has_power_stage else SUPPLY
+        stages = {s.id: s for s in self.stages}
         for missing, used in unused_halves(self.parts()):
+            rail = self._nodes(stages[used.stage_id])["vcc"]
             circuit.isource(f"{missing}.quiescent", rail, GROUND,
                             dc=get_model(used.device or used.model).get("IQ"))
 
@@ -200,8 +219,10 @@ class KitCircuit:
         return self._nodes(stage).get(local) or f"{stage.id}.{local}"
 
     def _nodes(self, stage: Stage) -> dict[str, str]:
-        rails = {"0": GROUND, "vcc": "vcc" if self.has_power_stage else SUPPLY,
-                 "vref": "vref", "supply": SUPPLY}
+        main = "vcc" if self.has_power_stage else SUPPLY
+        rails = {"0": GROUND, **rail_nodes(stage.rails, main), "supply": SUPPLY}
+        if KINDS[stage.kind].provides_power:
+            rails.update(v2=DOUBLED_NODE, vneg=NEGATIVE_NODE)
         if KINDS[stage.kind].signal:
             rails["in"], rails["out"] = self.stage_nodes(stage.id)
         return rails

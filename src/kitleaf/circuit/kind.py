@@ -65,6 +65,9 @@ class Stage:
     # ``claim:`` and ``allow:`` lines, which every kind takes (kitleaf.specs.claims and .rules).
     claims: tuple[Entry, ...] = ()
     allows: tuple[Entry, ...] = ()
+    # The supply rails the stage runs on (kitleaf.circuit.rails.RAILS), and the line saying so.
+    rails: str = "main"
+    rails_entry: Entry | None = None
 
     def part(self, role: str) -> Part | None:
         """The single part playing ``role``, or None if the optional role is empty."""

@@ -15,14 +15,14 @@ from kitleaf.values import parse_rating, parse_tolerance, parse_value
 
 # Designator prefixes of the trade (common practice, no source), longest first.
 PREFIX_TYPES = (
-    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp",)),
+    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp", "pump")),
     ("R", ("resistor",)), ("C", ("capacitor",)), ("L", ("inductor",)), ("P", ("pot",)),
-    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp",)),
+    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp", "pump")),
 )
 EXAMPLES = {
     "resistor": "R3 10k", "capacitor": "C2 100n film", "inductor": "L1 100mH",
     "pot": "VR1 100k log", "diode": "D1 1N4148", "led": "LED1 red", "bjt": "Q1 2N3904",
-    "jfet": "Q1 J201", "opamp": "U1 TL072",
+    "jfet": "Q1 J201", "opamp": "U1 TL072", "pump": "U3 7660",
 }
 DIELECTRICS = {
     "film", "polyester", "polypropylene", "ceramic", "c0g", "np0", "x7r", "mica",
@@ -122,7 +122,8 @@ def _by_model(matching: list[str], value_text: str, devices: GuideDevices) -> st
     return found if found in matching else matching[0]
 
 
-_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet"}
+_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet", "opamp": "opamp",
+                "pump": "pump"}
 
 
 def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str,

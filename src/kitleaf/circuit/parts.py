@@ -21,6 +21,7 @@ PART_QUANTITY: Mapping[str, str | None] = MappingProxyType(
         "bjt": None,
         "jfet": None,
         "opamp": None,
+        "pump": None,
         "hardware": None,
     }
 )

@@ -10,12 +10,14 @@ from kitleaf.circuit.devices import NO_DEVICES, GuideDevices
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.partline import read_part
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import read_rails
 from kitleaf.circuit.stages import KINDS
 from kitleaf.errors import CircuitError
 from kitleaf.guide.model import Entry, StageBlock
 
-# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules.
-GENERIC_KEYS = ("claim", "allow")
+# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules,
+# the supply rails it runs on.
+GENERIC_KEYS = ("claim", "allow", "rails")
 
 
 def kind_of(block: StageBlock) -> StageKind:
@@ -74,7 +76,8 @@ def resolve_stage(block: StageBlock, devices: GuideDevices = NO_DEVICES) -> Stag
                   MappingProxyType(chosen), block.span,
                   MappingProxyType({k: tuple(v) for k, v in extra.items()
                                     if k not in GENERIC_KEYS}),
-                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())))
+                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())),
+                  **read_rails(block.id, kind, extra.get("rails", [])))
     kind.check(stage)
     return stage
 

@@ -18,12 +18,13 @@ from kitleaf.guide.source import checked_text, read_text
 
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
-    "source", "load", "order", "battery", "battery-life", "claim", "allow",
+    "source", "load", "order", "battery", "battery-life", "claim", "allow", "adapter-ripple",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
-SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life")
+SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
+               "adapter-ripple")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
-EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
+EXTRA_KEYS = ("battery", "battery-life", "claim", "allow", "adapter-ripple")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
 # Stage ids name files of the site: short, plain names.
 _ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent, range_text
+from kitleaf.display import hum_text, percent, range_text
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 
 
@@ -18,6 +18,9 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              f"  output headroom    {_swing(specs.headroom)}"]
+    if specs.hum is not None:
+        lines.append(f"  hum at the output  {hum_text(specs.hum)}")
+        lines.extend(f"    {_knobs(p):<15}{hum_text(p.hum)}" for p in specs.knob_sweep)
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:

@@ -11,6 +11,7 @@ import warnings
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
 from kitleaf.errors import KitleafError, SolveError
+from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.headroom import MARGINS, margins
@@ -94,12 +95,14 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
     stages = tuple(stage_specs(solved, s) for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
+    ripple = stated_ripple(guide)
+    hum = None if ripple is None else m.hum(OUTPUT, *ripple)
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
         knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs,
                               impedances(kit, first, kit.stage_nodes(first)[0],
-                                         last, kit.stage_nodes(last)[1])),
+                                         last, kit.stage_nodes(last)[1]), hum),
         knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
@@ -117,7 +120,14 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
+        ripple=ripple, hum=None if hum is None else base.range(hum),
     )
+
+
+def stated_ripple(guide: Guide) -> tuple[float, float] | None:
+    """The adapter's ripple the kit block states (volts peak to peak, hertz), if it does."""
+    entry = next((e for e in guide.kit.extra if e.key == "adapter-ripple"), None)
+    return None if entry is None else adapter_ripple(entry)
 
 
 def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:
@@ -169,10 +179,13 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
 
 
 def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs,
-               z: tuple[m.Measure, m.Measure]) -> tuple[KnobPoint, ...]:
-    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way."""
+               z: tuple[m.Measure, m.Measure], hum: m.Measure | None = None
+               ) -> tuple[KnobPoint, ...]:
+    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way,
+    and the hum at the output where the kit states its adapter's ripple."""
     return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)),
-                           state.range(z[0]), state.range(z[1]))
+                           state.range(z[0]), state.range(z[1]),
+                           None if hum is None else state.range(hum))
                  for k in knobs
                  for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
 

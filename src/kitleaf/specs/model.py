@@ -38,6 +38,7 @@ class KnobPoint:
     gain_db: Range
     input_impedance: Range | None = None
     output_impedance: Range | None = None
+    hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
 
 
 @dataclass(frozen=True)
@@ -107,6 +108,7 @@ class StageSpecs:
     band_high: tuple[float, ...] = ()
     # The stage alone (low-Z source, 1 MΩ load) against in its place: see specs/loading.py.
     loading: Comparison | None = None
+    hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
 
 
 @dataclass(frozen=True)
@@ -141,6 +143,10 @@ class KitSpecs:
     # The gain (nominal parts) with the knobs together at the ends of their travel:
     # specs/knob_ends.py says which combinations.
     knob_ends: tuple[KnobPoint, ...] = ()
+    # The adapter's ripple as the kit block states it (volts peak to peak, hertz), and the
+    # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
+    ripple: tuple[float, float] | None = None
+    hum: Range | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

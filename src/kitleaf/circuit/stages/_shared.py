@@ -8,9 +8,10 @@ from kitleaf.errors import CircuitError, KitleafError
 
 # Engine model kinds by the part type a role takes (see kitleaf.engine.models).
 FAMILIES = {"bjt": ("npn", "pnp"), "jfet": ("njf", "pjf"), "opamp": ("opamp",),
-            "diode": ("diode",), "led": ("diode",)}
+            "diode": ("diode",), "led": ("diode",), "pump": ("pump",)}
 FAMILY_NAMES = {"npn": "NPN BJT", "pnp": "PNP BJT", "njf": "N-channel JFET",
-                "pjf": "P-channel JFET", "diode": "diode", "opamp": "op-amp"}
+                "pjf": "P-channel JFET", "diode": "diode", "opamp": "op-amp",
+                "pump": "charge pump"}
 # Pins of one section of an 8-pin dual op-amp (TL072, NE5532, LM358 share the pinout;
 # datasheet pin diagrams, from memory): section A, section B, then the supply pins.
 DUAL_PINS = {
