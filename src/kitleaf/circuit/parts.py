@@ -5,9 +5,12 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
+from typing import TYPE_CHECKING
 
-from kitleaf.engine.models import DeviceModel
 from kitleaf.errors import SourceSpan
+
+if TYPE_CHECKING:  # parts are read without loading the engine (a cached rebuild, the BOM)
+    from kitleaf.engine.models import DeviceModel
 
 # Part types and the SI quantity their value is in (None: named by a device model instead).
 PART_QUANTITY: Mapping[str, str | None] = MappingProxyType(
