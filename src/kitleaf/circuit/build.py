@@ -14,6 +14,7 @@ from kitleaf.circuit.chain import (
     input_meter,
 )
 from kitleaf.circuit.devices import read_devices
+from kitleaf.circuit.harness import build_harness
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.rails import check_rails
@@ -46,6 +47,7 @@ def build_circuit(guide: Guide) -> KitCircuit:
         warnings=devices.warnings,
     )
     _check_dc_paths(kit)
+    build_harness(guide, kit)  # read now, so a wiring mistake is named by every command
     return kit
 
 
