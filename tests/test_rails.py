@@ -27,10 +27,10 @@ def power(pump: str = "doubler", *extra: str) -> str:
     lines = ["reverse-diode: D1 1N5817", "bulk-cap: C10 100u electrolytic 25V",
              "vref-top: R10 10k", "vref-bottom: R11 10k", "vref-cap: C11 10u electrolytic 25V"]
     if pump != "none":
-        lines += [f"charge-pump: {pump}", "pump: U2 7660", "pump-cap: C12 10u electrolytic 25V",
-                  "reservoir-cap: C13 47u electrolytic 25V"]
+        lines += [f"{pump}: U2 7660", f"{pump}-cap: C12 10u electrolytic 25V",
+                  f"{pump}-reservoir: C13 47u electrolytic 25V"]
     if pump == "doubler":
-        lines += ["pump-diode: D2 1N5817", "pump-diode: D3 1N5817"]
+        lines += ["doubler-diode: D2 1N5817", "doubler-diode: D3 1N5817"]
     return stage_block("power", "power", *lines, *extra)
 
 
@@ -115,24 +115,32 @@ class TestRailErrors:
 
     def test_the_inverter_makes_no_doubled_rail(self):
         error = located_error(power("inverter"), gain("doubled"), spare("doubled"))
-        assert "'charge-pump: doubler'" in error.message
+        assert "'doubler: U9 7660'" in error.message
 
     @pytest.mark.parametrize("blocks, words", [
         ((power("doubler"), gain("sideways"), spare(None)), "'sideways' is not one of"),
         ((power("doubler"), gain("doubled", "rails: doubled"), spare(None)), "'rails:' twice"),
         ((power("doubler", "rails: doubled"), gain(None), spare(None)), "makes the rails"),
-        ((power("none", "pump: U2 7660"), gain(None), spare(None)), "belongs to a charge pump"),
-        ((power("inverter", "pump-diode: D4 1N5817"), gain(None), spare(None)),
-         "only a doubler has diodes"),
+        ((power("none", "doubler: U2 7660"), gain(None), spare(None)),
+         "needs a 'doubler-cap' part"),
+        ((power("inverter", "doubler-diode: D4 1N5817"), gain(None), spare(None)),
+         "needs a 'doubler' part"),
     ])
     def test_bad_rail_lines(self, blocks, words):
         assert words in located_error(*blocks).message
 
     def test_pump_without_its_parts(self):
         blocks = (stage_block("power", "power", "bulk-cap: C10 100u electrolytic",
-                              "charge-pump: doubler", "pump: U2 7660"), gain(None), spare(None))
-        error = located_error(*blocks)
-        assert "needs a 'pump-cap:' part" in error.message
+                              "inverter: U2 7660", "inverter-cap: C12 10u electrolytic"),
+                  gain(None), spare(None))
+        assert "needs a 'inverter-reservoir' part" in located_error(*blocks).message
+
+    def test_both_pumps_at_once(self):
+        both = power("doubler", "inverter: U3 7660", "inverter-cap: C14 10u electrolytic 25V",
+                     "inverter-reservoir: C15 47u electrolytic 25V")
+        _, kit = kit_of(both, gain("bipolar"), spare("bipolar"))
+        op = solve_dc(kit.netlist())
+        assert op.voltage("v2") > 16.0 and op.voltage("vee") < -8.0
 
 
 class TestHum:

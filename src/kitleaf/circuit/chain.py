@@ -108,8 +108,9 @@ class Wiring:
         self.circuit.pump(part.designator, self.node(inp), self.node(out), GROUND, ratio, rout)
         self.circuit.isource(f"{part.designator}.quiescent", self.node(inp), GROUND,
                              dc=model.get("IQ"))
-        self.place(flying, inp, "flying")
-        self.internal("resistor", "flying-hold", "flying", "0", value=1e9)
+        held = f"{part.designator}.flying"
+        self.place(flying, inp, held)
+        self.internal("resistor", f"{held}-hold", held, "0", value=1e9)
 
     def internal(self, method: str, name: str, *nodes: str, **kwargs) -> None:
         """Add an element that is not a part (an ideal source, say), named within the stage."""
@@ -227,7 +228,7 @@ class KitCircuit:
         main = "vcc" if self.has_power_stage else SUPPLY
         rails = {"0": GROUND, **rail_nodes(stage.rails, main), "supply": SUPPLY}
         if KINDS[stage.kind].provides_power:
-            rails.update(v2=DOUBLED_NODE, vneg=NEGATIVE_NODE)
+            rails.update(v2=DOUBLED_NODE, vee=NEGATIVE_NODE)
         if KINDS[stage.kind].signal:
             rails["in"], rails["out"] = self.stage_nodes(stage.id)
         return rails

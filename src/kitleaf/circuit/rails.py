@@ -1,9 +1,9 @@
 """Supply rails: which a power stage makes, which a stage runs on, and their circuit nodes.
 
 Every kit has the main rail (VCC, from the supply through the power stage) and ground. A
-power stage with a charge pump makes one more: a doubler the doubled rail (about twice VCC,
-for op-amps on 18 V from a 9 V supply), an inverter the negative rail (about -VCC, for
-op-amps on +-9 V). A stage names its rails with ``rails:``; on ``doubled`` its VCC is the
+power stage's charge pumps make more: a doubler the doubled rail (about twice VCC, for
+op-amps on 18 V from a 9 V supply), an inverter the negative rail (about -VCC, for op-amps
+on +-9 V). A stage names its rails with ``rails:``; on ``doubled`` its VCC is the
 doubled rail (and the reference, when the power stage's divider sits across it, half of
 it); on ``bipolar`` its op-amps' negative supply pins go to the negative rail and its
 reference is ground.
@@ -21,7 +21,7 @@ RAILS = (MAIN, DOUBLED, BIPOLAR)
 # Circuit nodes of the rails a charge pump makes.
 DOUBLED_NODE = "v2"
 NEGATIVE_NODE = "vee"
-# Which pump configuration makes which rail.
+# Which role of a power stage (the pump chip) makes which rail.
 MADE_BY: Mapping[str, str] = MappingProxyType({DOUBLED: "doubler", BIPOLAR: "inverter"})
 
 
@@ -35,9 +35,8 @@ def read_rails(stage_id: str, kind, entries) -> dict:
         raise CircuitError(f"stage '{stage_id}' gives 'rails:' twice (first at line "
                            f"{entry.span.line}); keep one", entries[1].span)
     if kind.provides_power:
-        raise CircuitError(f"stage '{stage_id}' makes the rails; say which it makes with "
-                           "'charge-pump: doubler' or 'charge-pump: inverter' instead",
-                           entry.span)
+        raise CircuitError(f"stage '{stage_id}' makes the rails; its 'doubler:' and "
+                           "'inverter:' chips say which", entry.span)
     value = entry.value.strip().lower()
     if value not in RAILS:
         raise CircuitError(f"stage '{stage_id}', 'rails:': {entry.value.strip()!r} is not one "
@@ -47,14 +46,14 @@ def read_rails(stage_id: str, kind, entries) -> dict:
 
 def check_rails(stages) -> None:
     """Every rail a stage runs on is made by a power stage; else an error at its line."""
-    made = {MAIN} | {rail for s in stages for rail, pump in MADE_BY.items()
-                     if s.options.get("charge-pump") == pump}
+    made = {MAIN} | {rail for s in stages for rail, role in MADE_BY.items()
+                     if s.part(role) is not None}
     for stage in stages:
         if stage.rails not in made:
             raise CircuitError(
                 f"stage '{stage.id}' runs on the {stage.rails} rail, but no power stage makes "
-                f"it; give the power stage 'charge-pump: {MADE_BY[stage.rails]}' and its "
-                "pump parts, or drop the 'rails:' line", stage.rails_entry.span)
+                f"it; give the power stage a charge pump, '{MADE_BY[stage.rails]}: U9 7660' "
+                "with its capacitors, or drop the 'rails:' line", stage.rails_entry.span)
 
 
 def rail_nodes(rails: str, main: str) -> dict[str, str]:

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from kitleaf.circuit.drawing import GROUND_Y, Sheet
 from kitleaf.circuit.kind import Stage
+from kitleaf.circuit.stages._pump import draw_pumps
 
 RAIL = 8.0
 STEP = 2.4  # between the branches hanging off the rail, at least
@@ -26,12 +27,15 @@ def draw_power(stage: Stage, sheet: Sheet) -> None:
     for cap in (part("bulk-cap"), part("filter-cap")):
         if cap is not None:
             rail_end, free_x = _branch(sheet, rail_end, free_x, [cap])
-    if part("pump"):
-        rail_end, free_x = _draw_pump(stage, sheet, rail_end, free_x)
-    if part("vref-top"):
+    rail_end, free_x = draw_pumps(stage, sheet, RAIL, rail_end, free_x, _next_column)
+    # a divider across the doubled rail comes last, so the VCC rail runs on past nothing
+    across_v2 = part("doubler") is not None
+    if part("vref-top") and not across_v2:
         rail_end, free_x = _draw_reference(stage, sheet, rail_end, free_x)
     if part("led"):
-        _branch(sheet, rail_end, free_x, [part("led-resistor"), part("led")])
+        rail_end, free_x = _branch(sheet, rail_end, free_x, [part("led-resistor"), part("led")])
+    if part("vref-top") and across_v2:
+        _draw_reference(stage, sheet, rail_end, free_x)
 
 
 def _next_column(sheet: Sheet, x: float, parts) -> float:
@@ -65,45 +69,17 @@ def _branch(sheet: Sheet, rail_end: float, x_new: float, parts) -> tuple[float, 
     return x_new, _next_column(sheet, x_new, parts)
 
 
-def _draw_pump(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tuple[float, float]:
-    """The pump chip as a block fed from the rail, its flying cap on its left, its output
-    (through a doubler's diodes) to the rail it makes, with the reservoir cap to ground."""
-    part, mode = stage.part, stage.options["charge-pump"]
-    chip = part("pump")
-    x += 2.8  # room for the flying cap and its label on the block's left
-    sheet.wire((rail_end, RAIL), (x, RAIL), (x, 6.0))
-    sheet.dot((x, RAIL))
-    sheet.block((x - 0.9, 3.0), 1.8, 3.0, [chip.designator, chip.text, mode])
-    sheet.wire((x, 3.0), (x, GROUND_Y))
-    sheet.ground((x, GROUND_Y))
-    sheet.wire((x - 0.9, 5.2), (x - 1.6, 5.2))
-    sheet.part(part("pump-cap"), (x - 1.6, 5.2), (x - 1.6, 3.8), side="left")
-    sheet.wire((x - 1.6, 3.8), (x - 0.9, 3.8))
-    end = x + 0.9
-    for diode in stage.parts.get("pump-diode", ()):
-        sheet.part(diode, (end, 4.5), (end + STEP, 4.5))
-        end += STEP
-    out = (end + 1.2, 4.5)
-    sheet.wire((end, 4.5), out)
-    sheet.dot(out)
-    reservoir = part("reservoir-cap")
-    if mode == "inverter":
-        sheet.part(reservoir, (out[0], GROUND_Y), out, side="right")  # + lead to ground
-    else:
-        sheet.part(reservoir, out, (out[0], GROUND_Y), side="right")
-    sheet.ground((out[0], GROUND_Y))
-    label = (_next_column(sheet, out[0], [reservoir]) - 0.6, 4.5)
-    sheet.wire(out, label)
-    sheet.net_label(label, "v2" if mode == "doubler" else "vee", "right")
-    return x, label[0] + STEP
-
-
 def _draw_reference(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tuple[float, float]:
     """The divider down column ``x``, VREF taken from its middle, its cap beside it.
 
     Returns where the rail now ends and the next free column."""
-    sheet.wire((rail_end, RAIL), (x, RAIL))
-    sheet.dot((x, RAIL))
+    if stage.part("doubler"):  # the divider sits across the doubled rail
+        sheet.net_label((x, RAIL), "v2", "above")
+        x_rail = rail_end
+    else:
+        sheet.wire((rail_end, RAIL), (x, RAIL))
+        sheet.dot((x, RAIL))
+        x_rail = x
     middle = (x, (RAIL + GROUND_Y) / 2)
     sheet.part(stage.part("vref-top"), (x, RAIL), middle, side="right")
     sheet.part(stage.part("vref-bottom"), middle, (x, GROUND_Y), side="right")
@@ -119,4 +95,4 @@ def _draw_reference(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tu
     end = (_next_column(sheet, tap[0], [cap]) - 1.0 if cap is not None else tap[0] + 1.2, middle[1])
     sheet.wire(tap, end)
     sheet.net_label(end, "vref", "right")
-    return x, end[0] + STEP
+    return x_rail, end[0] + STEP

@@ -4,12 +4,8 @@ and the power-on LED. It joins the supply terminal to the rail VCC the other sta
 Protection is a series diode (its drop is lost from VCC) or a shunt diode across the supply
 that conducts, and blows the adapter's fuse or current limit, only when the plug is reversed.
 
-A charge pump fed from VCC makes one more rail (kitleaf.circuit.rails): as a doubler the
-doubled rail (the reference divider then sits across it), as an inverter the negative rail.
-It is the engine's averaged pump: the chip's switch resistance plus the flying capacitor's
-1 / (f C), its own quiescent draw, the reservoir capacitor on the new rail, and a doubler's
-diodes in series on the way out (each loses its forward drop, as in the chip's usual doubler
-circuit).
+Charge pumps fed from VCC make more rails (``_pump.py``): a doubler the doubled rail (the
+reference divider then sits across it), an inverter the negative rail.
 """
 
 from __future__ import annotations
@@ -17,6 +13,7 @@ from __future__ import annotations
 from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Option, Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
+from kitleaf.circuit.stages._pump import check_pumps, place_pumps, pump_roles
 from kitleaf.circuit.stages._shared import (
     capacitor_role,
     check_part_family,
@@ -37,23 +34,12 @@ ROLES = (
     capacitor_role("vref-cap", "smoothing capacitor on the reference", required=False),
     Role("led", ("led",), required=False, help="power-on indicator, e.g. LED1 red"),
     resistor_role("led-resistor", "series resistor setting the LED current", required=False),
-    Role("pump", ("pump",), required=False,
-         help="charge-pump chip, e.g. U9 7660, with 'charge-pump: doubler' or 'inverter'"),
-    capacitor_role("pump-cap", "the pump's flying capacitor, e.g. C20 10u electrolytic",
-                   required=False),
-    capacitor_role("reservoir-cap", "on the rail the pump makes, e.g. C21 47u electrolytic",
-                   required=False),
-    Role("pump-diode", ("diode",), required=False, many=True,
-         help="a doubler's diodes, in series from the chip to the doubled rail"),
+    *pump_roles(),
 )
-# The pump's parts, needed as soon as a charge pump is chosen.
-PUMP_ROLES = ("pump", "pump-cap", "reservoir-cap")
 OPTIONS = (
     Option("reverse-protection", ("series", "shunt"), "series",
            help="series: the diode carries the supply current; shunt: it sits across the "
                 "supply and only conducts when the plug is reversed"),
-    Option("charge-pump", ("none", "doubler", "inverter"), "none",
-           help="doubler: a doubled rail (18 V from 9 V); inverter: a negative rail (+-9 V)"),
 )
 
 
@@ -75,27 +61,13 @@ class Power(StageKind):
             wiring.internal("vsource", "link", after, "vcc", dc=0.0)  # a plain wire
         wiring.place(part("bulk-cap"), "vcc", "0")
         wiring.place(part("filter-cap"), "vcc", "0")
-        self._pump(stage, wiring)
-        top = "v2" if stage.options["charge-pump"] == "doubler" else "vcc"
+        place_pumps(stage, wiring)
+        top = "v2" if part("doubler") else "vcc"
         wiring.place(part("vref-top"), top, "vref")
         wiring.place(part("vref-bottom"), "vref", "0")
         wiring.place(part("vref-cap"), "vref", "0")
         wiring.place(part("led-resistor"), "vcc", "led")
         wiring.place(part("led"), "led", "0")
-
-    def _pump(self, stage: Stage, wiring) -> None:
-        """The charge pump from VCC to the rail it makes (nothing when there is none)."""
-        mode, part = stage.options["charge-pump"], stage.part
-        if mode == "inverter":
-            wiring.pump(part("pump"), "vcc", "vneg", -1.0, part("pump-cap"))
-            wiring.place(part("reservoir-cap"), "0", "vneg")
-        elif mode == "doubler":
-            diodes = stage.parts.get("pump-diode", ())
-            nodes = [f"pump{i}" for i in range(len(diodes))] + ["v2"]
-            wiring.pump(part("pump"), "vcc", nodes[0], 2.0, part("pump-cap"))
-            for diode, a, k in zip(diodes, nodes, nodes[1:], strict=False):
-                wiring.place(diode, a, k)
-            wiring.place(part("reservoir-cap"), "v2", "0")
 
     def _protection(self, stage: Stage, wiring) -> str:
         """Place the protection diode; returns the node after it."""
@@ -117,36 +89,16 @@ class Power(StageKind):
         if stage.options["reverse-protection"] == "shunt" and not stage.part("reverse-diode"):
             raise CircuitError(f"stage '{stage.id}': 'reverse-protection: shunt' needs a "
                                "'reverse-diode: ...' part", stage.span)
-        self._check_pump(stage)
-
-    def _check_pump(self, stage: Stage) -> None:
-        mode = stage.options["charge-pump"]
-        check_part_family(stage, "pump", stage.part("pump"), ("pump",))
-        for diode in stage.parts.get("pump-diode", ()):
-            check_part_family(stage, "pump-diode", diode, ("diode",))
-            if mode != "doubler":
-                raise CircuitError(f"stage '{stage.id}', role 'pump-diode': only a doubler "
-                                   "has diodes on its output; drop it or make the pump "
-                                   "'charge-pump: doubler'", diode.span)
-        for role in PUMP_ROLES:
-            found = stage.part(role)
-            if mode == "none" and found is not None:
-                raise CircuitError(f"stage '{stage.id}', role '{role}': {found.designator} "
-                                   "belongs to a charge pump; add 'charge-pump: doubler' or "
-                                   "'charge-pump: inverter'", found.span)
-            if mode != "none" and found is None:
-                raise CircuitError(f"stage '{stage.id}': 'charge-pump: {mode}' needs a "
-                                   f"'{role}:' part", stage.span)
+        check_pumps(stage)
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         points = [TestPoint("VCC (supply after protection)", "vcc")]
         if stage.part("vref-top"):
             points.append(TestPoint("VREF (mid-rail reference)", "vref"))
-        mode = stage.options["charge-pump"]
-        if mode != "none":
-            rail = ("V2 (doubled rail)", "v2") if mode == "doubler" else \
-                ("VEE (negative rail)", "vneg")
-            points.append(TestPoint(*rail))
+        if stage.part("doubler"):
+            points.append(TestPoint("V2 (doubled rail)", "v2"))
+        if stage.part("inverter"):
+            points.append(TestPoint("VEE (negative rail)", "vee"))
         if stage.part("led"):
             points.append(TestPoint(f"{stage.part('led').designator} anode", "led",
                                     stage.part("led").designator, "anode"))
