@@ -79,7 +79,7 @@ class Wiring:
         """Add ``part`` between the local ``nodes`` (in the part type's pin order)."""
         if part is None:
             return
-        if part.type == "opamp" and nodes[4:] == ("0",):
+        if part.type == "opamp" and nodes[4:] == ("0",) and "vee" in self._nodes:
             nodes = (*nodes[:4], "vee")  # the negative supply pin: ground, or the - rail
         names = [self.node(n) for n in nodes]
         c, d = self.circuit, part.designator
