@@ -46,6 +46,13 @@ def gain_at(kit: KitCircuit, freq: float, node: str = "output", positions=None) 
     return complex(ac.transfer(node)[0])
 
 
+def response(kit: KitCircuit, freqs: np.ndarray, positions=None) -> np.ndarray:
+    """The kit's complex gain from its input jack to its output jack at ``freqs``."""
+    circuit = kit.netlist(positions)
+    ac = solve_ac(circuit, solve_dc(circuit), freqs, source="VIN")
+    return ac.transfer("output") / ac.transfer("input")
+
+
 def dc_at(kit: KitCircuit, node: str, positions=None) -> float:
     return solve_dc(kit.netlist(positions)).voltage(node)
 
@@ -148,4 +155,22 @@ test-point: Q4 collector = c
 vol
 kind: volume
 volume: VR5 A100k
+===
+stack
+kind: tone-stack
+treble-cap: C40 220p
+slope: R40 47k
+treble: VR40 A250k
+bass-cap: C41 22n
+bass: VR41 A1M
+mid-cap: C42 22n
+mid: VR42 B25k
+===
+blend
+kind: tone-blend
+low-resistor: R43 39k
+low-cap: C43 10n
+high-cap: C44 4n7
+high-resistor: R44 22k
+tone: VR43 B100k
 """.split("===\n"))

@@ -15,7 +15,7 @@ from kitleaf.circuit.offboard import Lug, Piece
 
 Point = tuple[float, float]
 
-WIDTH, HEIGHT = 760.0, 610.0
+WIDTH, HEIGHT = 760.0, 586.0
 # The box of each piece by role: left, top, width, height.
 BOXES = {
     "input-jack": (20.0, 60.0, 120.0, 120.0),
@@ -24,7 +24,7 @@ BOXES = {
     "dc-jack": (620.0, 330.0, 120.0, 120.0),
     "battery": (20.0, 300.0, 120.0, 100.0),
     "led": (525.0, 220.0, 50.0, 80.0),
-    BOARD: (60.0, 490.0, 640.0, 90.0),
+    BOARD: (60.0, 490.0, 640.0, 66.0),
 }
 LUG_STEP = 34.0
 

@@ -70,11 +70,11 @@ def _resistor(harness: Harness, pad: Point) -> str:
     resistor = harness.led_resistor
     return "\n".join([
         f'<path d="M {pad[0]:.1f} {top:.1f} V {top + 8:.1f} H {x:.1f} V {top + 18:.1f} '
-        f'M {x:.1f} {top + 46:.1f} V {top + 58:.1f}" stroke="#555555" fill="none"/>',
+        f'M {x:.1f} {top + 46:.1f} V {top + 54:.1f}" stroke="#555555" fill="none"/>',
         f'<rect x="{x - 5:.1f}" y="{top + 18:.1f}" width="10" height="28" fill="#ffffff" '
         'stroke="#555555"/>',
-        _text(f"{resistor.designator} {resistor.text}", (x - 9.0, top + 40.0), "end"),
-        _text("to VCC", (x, top + 72.0), "middle"),
+        _text(f"{resistor.designator} {resistor.text}", (x - 9.0, top + 36.0), "end"),
+        _text("to VCC", (x - 9.0, top + 52.0), "end"),
     ])
 
 

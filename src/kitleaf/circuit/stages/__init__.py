@@ -21,7 +21,9 @@ MODULES = (
     "opamp_non_inverting",
     "opamp_spare",
     "power",
+    "tone_blend",
     "tone_cut",
+    "tone_stack",
     "volume",
 )
 
