@@ -16,8 +16,8 @@ from kitleaf.errors import CircuitError
 from kitleaf.guide.model import Entry, StageBlock
 
 # Keys every stage takes whatever its kind: claims about its numbers, silenced design rules,
-# the supply rails it runs on.
-GENERIC_KEYS = ("claim", "allow", "rails")
+# the supply rails it runs on, the set-up targets of its trimmers.
+GENERIC_KEYS = ("claim", "allow", "rails", "trim")
 
 
 def kind_of(block: StageBlock) -> StageKind:
@@ -77,6 +77,7 @@ def resolve_stage(block: StageBlock, devices: GuideDevices = NO_DEVICES) -> Stag
                   MappingProxyType({k: tuple(v) for k, v in extra.items()
                                     if k not in GENERIC_KEYS}),
                   claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())),
+                  trims=tuple(extra.get("trim", ())),
                   **read_rails(block.id, kind, extra.get("rails", [])))
     kind.check(stage)
     return stage

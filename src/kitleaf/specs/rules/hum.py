@@ -9,7 +9,7 @@ a series resistor before a larger bulk capacitor, or a larger capacitor on the r
 
 from __future__ import annotations
 
-from kitleaf.display import dbv
+from kitleaf.display import dbv, settings
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext, past_limit
 from kitleaf.values import format_value
@@ -25,7 +25,7 @@ def check(ctx: RuleContext):
         return
     points = [(p, p.hum) for p in specs.knob_sweep if p.hum is not None]
     where, worst = max([("with the knobs at half way", specs.hum)]
-                       + [(_setting(p), hum) for p, hum in points],
+                       + [(f"with {settings(p.positions)}", hum) for p, hum in points],
                        key=lambda found: found[1].high or found[1].nominal)
     words = past_limit(worst, LIMIT_V, True, "voltage")
     if words is None:
@@ -37,6 +37,3 @@ def check(ctx: RuleContext):
         f"{where}{words}; filter the supply more (a series resistor before a larger bulk "
         "capacitor) or the reference (a larger reference capacitor)"), entry.span)
 
-
-def _setting(point) -> str:
-    return "with " + ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in point.positions)
