@@ -17,6 +17,7 @@ from kitleaf.guide.model import Guide
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.specs.polarity import Orientation, orientations
 from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
 from kitleaf.specs.rules._settings import DcSetting, Reading
 from kitleaf.specs.solve import KitState, nominal_positions
@@ -167,6 +168,11 @@ class RuleContext:
         value, bound = self.shown(verdict, stress)
         where = self.setting(verdict.state, nominal).strip()
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
+
+    @cached_property
+    def orientations(self) -> dict[str, Orientation]:
+        """Each polarised capacitor's + end over the knob states (see specs/polarity.py)."""
+        return orientations(self)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:
