@@ -84,21 +84,37 @@ class RuleContext:
     guide: Guide
     kit: KitCircuit
     specs: KitSpecs
+    solved: object | None = None  # the specs' SolvedKit, whose states the rules share
 
     @cached_property
     def states(self) -> tuple[DcSetting, ...]:
         """Knobs at half way, then each knob alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
-        settings = [("knobs at half way", nominal)]
+        settings = [("knobs at half way", None, 0.5)]
         for knob in self.kit.knobs:
             for pos in KNOB_STEPS:
                 if pos != nominal[knob.designator]:
-                    words = f"{knob.name} at {round(pos * 100)} %"
-                    settings.append((words, {**nominal, knob.designator: pos}))
-        base = KitState(self.kit, nominal)
+                    settings.append((f"{knob.name} at {round(pos * 100)} %", knob.designator,
+                                     pos))
         memo: dict = {}
-        return tuple(DcSetting(words, base if i == 0 else KitState(self.kit, positions, near=base),
-                               memo) for i, (words, positions) in enumerate(settings))
+        return tuple(DcSetting(words, self._state(designator, pos), memo)
+                     for words, designator, pos in settings)
+
+    def _state(self, designator: str | None, pos: float) -> KitState:
+        """The kit with knob ``designator`` at ``pos`` and the others half way (None: all
+        half way), from the shared solved states when there are some."""
+        if self.solved is not None:
+            if designator is None:
+                return self.solved.base
+            return self.solved.sweeps[designator][KNOB_STEPS.index(pos)]
+        if designator is None:
+            return self._base
+        return KitState(self.kit, {**nominal_positions(self.kit), designator: pos},
+                        near=self._base)
+
+    @cached_property
+    def _base(self) -> KitState:
+        return KitState(self.kit, nominal_positions(self.kit))
 
     def worst(self, fails: Callable[[Reading], Sequence[bool]]) -> Verdict | None:
         """The state where ``fails`` (a reading -> whether each build fails) finds the most:
