@@ -2,15 +2,17 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent, range_text
+from kitleaf.display import range_text, settings, trim_instruction, trim_travel
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
+    width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
              f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
-             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
+               for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
              f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
@@ -18,6 +20,8 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              f"  output headroom    {_swing(specs.headroom)}"]
+    for trim in specs.trims:
+        lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
@@ -34,7 +38,7 @@ def specs_to_text(specs: KitSpecs) -> str:
 
 
 def _knobs(point: KnobPoint) -> str:
-    return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
+    return settings(point.positions)
 
 
 def _swing(h: Headroom | None) -> str:

@@ -9,6 +9,7 @@ from kitleaf.specs.model import (
     KitSpecs,
     KnobPoint,
     Range,
+    Scoop,
     StageSpecs,
     Voltage,
 )
@@ -32,8 +33,13 @@ def _range(r: Range | None, scale: float = 1.0) -> dict | None:
 def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
     return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
              "input_impedance_ohm_1khz": _range(p.input_impedance),
-             "output_impedance_ohm_1khz": _range(p.output_impedance)}
+             "output_impedance_ohm_1khz": _range(p.output_impedance),
+             "scoop": _scoop(p.scoop)}
             for p in points]
+
+
+def _scoop(s: Scoop | None) -> dict | None:
+    return None if s is None else {"depth_db": _range(s.depth_db), "freq_hz": _range(s.hz)}
 
 
 def _headroom(h: Headroom | None) -> dict | None:
@@ -68,6 +74,7 @@ def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
         "headroom_v_peak": _headroom(s.headroom),
+        "scoop": _scoop(s.scoop),
         "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
         if s.signal else None,
     }
@@ -79,7 +86,9 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "schema": SCHEMA,
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
                 "supply_v": _num(specs.supply_v),
-                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs]},
+                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs],
+                "switches": [{"name": n, "switch": d, "positions": list(p)}
+                             for n, d, p in specs.switches]},
         "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
@@ -96,4 +105,8 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "headroom_v_peak": _headroom(specs.headroom),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
+        "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,
+                   "point_number": t.number, "volts": _num(t.volts),
+                   "position": _range(t.position), "out_of_reach": _num(t.out_of_reach)}
+                  for t in specs.trims],
     }

@@ -115,15 +115,19 @@ def solve_nominal(circuit) -> Batch:
 
 
 def solve_samples(circuit, samples: int = SAMPLES, seed: int = SEED,
-                  start: np.ndarray | None = None, nominal: Batch | None = None) -> Batch:
-    """``samples`` seeded variants within part tolerances and device spreads (uniform).
+                  start: np.ndarray | None = None, nominal: Batch | None = None,
+                  scale: np.ndarray | None = None) -> Batch:
+    """``samples`` seeded variants within part tolerances and device spreads (uniform);
+    ``scale`` (samples, elements) multiplies each sample's drawn part values (a trimmer
+    turned where that build needs it).
 
     Newton starts every sample at the nominal operating point (``nominal``, this circuit's
     :func:`solve_nominal`, saves solving it again), or at ``start`` (samples, n): the same
     samples solved in a nearby state, such as another knob position.
     """
     known = None if nominal is None else nominal.system
-    return Batch(solve_batch(circuit, samples, seed, "uniform", start, nominal=known))
+    return Batch(solve_batch(circuit, samples, seed, "uniform", start, nominal=known,
+                             scale=scale))
 
 
 def solve_alike(circuit, like: Batch) -> Batch:

@@ -7,7 +7,12 @@ from collections.abc import Sequence
 from kitleaf.circuit.drawing import GROUND_Y, Sheet
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.parts import Part
-from kitleaf.circuit.stages._shared import check_family, opamp_pins
+from kitleaf.circuit.stages._shared import (
+    OUTPUT_COUPLING,
+    check_family,
+    check_output,
+    opamp_pins,
+)
 
 
 class OpampKind(StageKind):
@@ -15,9 +20,11 @@ class OpampKind(StageKind):
     reference, with a gain pot and a volume pot a player may turn."""
 
     needs_reference = True
+    options = (OUTPUT_COUPLING,)
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "opamp", ("opamp",))
+        check_output(stage, self.name)
 
     def knob_roles(self) -> tuple[str, ...]:
         return ("gain", "volume")
@@ -37,9 +44,10 @@ def feedback_rows(stage: Stage, with_gain: bool) -> list[list[Part]]:
     return rows
 
 
-def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Sequence[Part]
-                    ) -> tuple[dict, tuple]:
-    """The op-amp, its feedback ``rows`` below it, and the ``leg`` from the - input to ground.
+def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Sequence[Part],
+                    leg_to: str = "0") -> tuple[dict, tuple]:
+    """The op-amp, its feedback ``rows`` below it, and the ``leg`` from the - input to ground
+    (``leg_to`` "vref": to the reference).
 
     Returns the op-amp pins and the output node, where the output network starts.
     """
@@ -62,7 +70,7 @@ def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Seq
         sheet.dot((right, top_y - ROW_GAP * i))
     if leg:
         sheet.dot((minus[0], bottom_y))
-        draw_leg(sheet, leg, (minus[0], bottom_y), (minus[0], GROUND_Y))
+        draw_leg(sheet, leg, (minus[0], bottom_y), (minus[0], GROUND_Y), leg_to)
     node = (right, pins["out"][1])
     sheet.dot(node)
     return pins, node
@@ -90,8 +98,9 @@ def _row(sheet: Sheet, row: Sequence[Part], start, end) -> None:
             sheet.part(part, a, b, side="below")
 
 
-def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom) -> None:
-    """Parts in series down a vertical leg to ground, labelled on the right."""
+def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom, to: str = "0") -> None:
+    """Parts in series down a vertical leg to ground (``to`` "vref": to the reference),
+    labelled on the right."""
     step = (top[1] - bottom[1]) / len(leg)
     for i, part in enumerate(leg):
         a, b = (top[0], top[1] - step * i), (top[0], top[1] - step * (i + 1))
@@ -99,7 +108,10 @@ def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom) -> None:
             sheet.rheostat(part, a, b, side="right", grows=False)  # clockwise, more gain
         else:
             sheet.part(part, a, b, side="right")
-    sheet.ground(bottom)
+    if to == "vref":
+        sheet.net_label(bottom, "vref", "below")
+    else:
+        sheet.ground(bottom)
 
 
 def draw_output(sheet: Sheet, stage: Stage, node) -> None:
@@ -107,5 +119,7 @@ def draw_output(sheet: Sheet, stage: Stage, node) -> None:
     from kitleaf.circuit.stages._drawing import draw_volume_out
 
     x, y = node
+    if stage.part("output-cap") is None:  # a direct output
+        sheet.wire((x, y), (x + 2.2, y))
     sheet.part(stage.part("output-cap"), (x, y), (x + 2.2, y))
     draw_volume_out(sheet, stage.part("volume"), (x + 2.2, y), x + 4.0, stage.part("pulldown"))
