@@ -8,6 +8,7 @@ as one batch per kit state (knob positions and supply), never as a loop of singl
 from __future__ import annotations
 
 import warnings
+from contextlib import contextmanager
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
@@ -77,17 +78,31 @@ def supplies(rated_v: float) -> tuple[Supply, ...]:
     return (Supply("adapter", rated_v),)
 
 
-def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    """Every spec of the kit and its stages, computed from the parts.
+def derive_specs(guide: Guide, kit: KitCircuit, solved: SolvedKit | None = None) -> KitSpecs:
+    """Every spec of the kit and its stages, computed from the parts; ``solved``, the kit's
+    :func:`solve_kit`, when the caller shares it with the design rules (see verify).
 
     An engine error (a solve that did not converge, say) is placed at the guide line of the
     part or stage it names, so the maker sees where to look, or else at the kit block. A numeric
     warning (an overflow, a NaN) stops the solve too: figures past it would be silently wrong.
     """
+    with _located(guide, kit):
+        return _derive(guide, kit, solved or SolvedKit(kit))
+
+
+def solve_kit(guide: Guide, kit: KitCircuit) -> SolvedKit:
+    """The kit's solved states (knobs at half way, each knob's sweep, the supplies), solved
+    once for the specs and the design rules alike; errors placed as derive_specs places them."""
+    with _located(guide, kit):
+        return SolvedKit(kit)
+
+
+@contextmanager
+def _located(guide: Guide, kit: KitCircuit):
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("error", RuntimeWarning)
-            return _derive(guide, kit)
+            yield
     except RuntimeWarning as warning:
         raise SolveError(f"the numbers ran out of range while solving ({warning}); look for a "
                          "part value or device far from the usual", guide.kit.span) from None
@@ -95,8 +110,7 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
         raise kit.locate(exc).located(guide.kit.span) from None
 
 
-def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    solved = SolvedKit(kit)
+def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
     stages = tuple(stage_specs(solved, s) for s in kit.stages)
     chain = kit.signal_stages
