@@ -19,9 +19,10 @@ SAMPLES = {
     "resistor": ("10k",), "capacitor": ("100n film", "10u electrolytic 25V"),
     "inductor": ("100mH",), "pot": ("B100k",), "diode": ("1N4148",), "led": ("red",),
     "bjt": ("2N3904", "2N3906"), "jfet": ("J201", "2N5460"), "opamp": ("TL072",),
+    "pump": ("7660",),
 }
 PREFIX = {"resistor": "R", "capacitor": "C", "inductor": "L", "pot": "VR", "diode": "D",
-          "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U"}
+          "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U", "pump": "U"}
 FLAVOURS = ("npn-film", "pnp-electrolytic")
 VOLUME = stage_block("vol", "volume", "volume: VR99 A100k")
 # After a stage whose output carries its DC (an option leaving out its output roles): a

@@ -227,6 +227,16 @@ class SchematicSheet:
         self.record.blocks.append((x, y, x + width, y + height))
         self.label("\n".join(lines), (x + width / 2, y + height / 2), "centre")
 
+    def chip(self, part: Part, lower_left: Point, width: float, height: float,
+             pins: Mapping[str, Point], role: str) -> None:
+        """A chip as a labelled rectangle, its pins by name on its edges (a part, unlike a
+        block of text)."""
+        x, y = lower_left
+        self._add(elm.Rect(corner1=(0, 0), corner2=(width, height)).at((x, y)))
+        self.label("\n".join([part.designator, part.text, role]),
+                   (x + width / 2, y + height / 2), "centre")
+        self.record.part(part.designator, part.type, dict(pins))
+
     # -- connections ---------------------------------------------------------------------------
     def wire(self, *points: Point) -> None:
         """A wire through ``points``, drawn as straight segments."""

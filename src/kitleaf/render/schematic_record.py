@@ -25,6 +25,7 @@ PIN_ORDER = {
     "npn": ("collector", "base", "emitter"), "pnp": ("collector", "base", "emitter"),
     "njf": ("drain", "gate", "source"), "pjf": ("drain", "gate", "source"),
     "opamp": ("non_inv", "inv", "out", "vpos", "vneg"),
+    "pump": ("inp", "out", "ref"),
 }
 # Ports name the stage's own connections.
 PORT_NETS = {"IN": "in", "OUT": "out"}

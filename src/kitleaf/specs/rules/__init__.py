@@ -53,6 +53,7 @@ MODULES = (
     "unused_half",
     "custom_drawing",
     "trim_reach",
+    "hum",
 )
 
 
