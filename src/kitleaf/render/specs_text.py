@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from kitleaf.display import (
+    hum_text,
     level_text,
     range_text,
     settings,
@@ -29,6 +30,9 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              *(_drive_lines(specs.drive) if specs.drive else
                [f"  output headroom    {_swing(specs.headroom)}"])]
+    if specs.hum is not None:
+        lines.append(f"  hum at the output  {hum_text(specs.hum)}")
+        lines.extend(f"    {_knobs(p):<{width}}{hum_text(p.hum)}" for p in specs.knob_sweep)
     for trim in specs.trims:
         lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
@@ -39,6 +43,9 @@ def specs_to_text(specs: KitSpecs) -> str:
                       f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
                       f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
                       f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
+        if s.scoop is not None:
+            lines.append(f"    mid scoop        {range_text(s.scoop.depth_db, 'db')} at "
+                         f"{range_text(s.scoop.hz, 'frequency')}")
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))

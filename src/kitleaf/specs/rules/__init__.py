@@ -51,11 +51,13 @@ MODULES = (
     "e_series",
     "battery_life",
     "unused_half",
+    "custom_drawing",
     "trim_reach",
     "large_signal",
     "clips_when_clean",
     "asymmetric_clip",
     "opamp_rail",
+    "hum",
 )
 
 
