@@ -140,10 +140,11 @@ def test_headroom_names_a_device_of_the_kit():
 def test_json_is_versioned_stable_and_reproducible():
     guide, kit, specs = solved("heron-opamp-boost")
     data = specs_to_json(specs)
-    assert data["schema"] == SCHEMA == "kitleaf-specs/2"
+    assert data["schema"] == SCHEMA == "kitleaf-specs/1"
     for key in ("gain_db_1khz", "band_gain_db", "low_corner_hz", "high_corner_hz",
                 "input_impedance_ohm_1khz", "output_impedance_ohm_1khz", "supply_current_ma",
-                "drive", "gain_db_1khz_by_knob", "response", "stages", "supplies"):
+                "headroom_v_peak", "drive", "gain_db_1khz_by_knob", "response", "stages",
+                "supplies"):
         assert key in data
     assert set(data["gain_db_1khz"]) == {"nominal", "low", "high"}
     assert [k["name"] for k in data["kit"]["knobs"]] == ["Gain", "Level"]

@@ -3,7 +3,7 @@
 Two pictures per kit: the output over two cycles at each playing level beside the pickup's
 own sine (one panel per level), and the drive curve: THD and output peak against the pickup
 level, one line per position of each knob (others at half way), the part-tolerance band
-shaded behind the knobs-at-half line. The sheet is 300 pt (400 CSS px) wide with 9 pt text
+shaded behind the knobs-at-half line. The sheet is 262 pt (349 CSS px) wide with 9 pt text
 and more, so every label stays 9 px or larger on a 390 px phone, where the figure keeps its
 drawn size.
 """
@@ -21,8 +21,8 @@ from kitleaf.render.plot_draw import FONT_PT, LEGEND_PT, LINE_EM, Frame
 from kitleaf.render.plot_svg import SvgDocument, num, polyline
 from kitleaf.values import format_value
 
-WIDTH_PT = 300.0
-LEFT_PT, RIGHT_PT = 46.0, 10.0
+WIDTH_PT = 262.0
+LEFT_PT, RIGHT_PT = 46.0, 16.0
 PANEL_HEIGHT_PT = 110.0
 TITLE_PT = 10.0
 GAP_PT = 10.0
@@ -62,11 +62,11 @@ class DrivePicture:
 
 def render_drive_svg(picture: DrivePicture) -> str:
     """The picture as SVG text; the same picture always gives the same bytes."""
-    title_lines = _wrap(picture.title, 46)
+    title_lines = _wrap(picture.title, 40)
     y = 8.0 + len(title_lines) * LINE_EM * TITLE_PT + 6.0
     frames = []
     for panel in picture.panels:
-        y += LINE_EM * FONT_PT * len(_wrap(panel.title, 50)) + 3.0
+        y += LINE_EM * FONT_PT * len(_wrap(panel.title, 48)) + 3.0
         frames.append(y)
         y += PANEL_HEIGHT_PT + 3.5 + 3.5 + 2 * LINE_EM * FONT_PT + GAP_PT
     sheet = SvgDocument(WIDTH_PT, y, title=picture.title)
@@ -75,7 +75,7 @@ def render_drive_svg(picture: DrivePicture) -> str:
         sheet.text(8.0, 8.0 + k * LINE_EM * TITLE_PT, text, TITLE_PT, extra="; font-weight: 700")
     prefix = "d" + hashlib.sha256(picture.title.encode()).hexdigest()[:8]
     for i, (panel, top) in enumerate(zip(picture.panels, frames, strict=True)):
-        lines = _wrap(panel.title, 50)
+        lines = _wrap(panel.title, 48)
         for k, text in enumerate(lines):
             sheet.text(LEFT_PT, top - 3.0 - (len(lines) - k) * LINE_EM * FONT_PT, text, FONT_PT)
         name = f"{prefix}-{i + 1}"
