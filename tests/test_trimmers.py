@@ -184,7 +184,7 @@ def test_the_page_shows_each_switch_position_and_the_set_up_step(tmp_path):
     rows = [th.all_text() for th in page.iter("th")]
     for position in ("diodes", "LEDs", "off"):
         assert f"Clip set to {position}" in rows
-    assert "Gain at 1 kHz, knobs at half way, Clip set to diodes" in rows
+    assert "Gain at 1 kHz, knobs at half way, Clip set to off" in rows
     set_up = page.find_all("div", "set-up")[0].all_text()
     assert "Turn TR1 until Q1 drain (point 2 of JFET boost) reads 4.50 V." in set_up
     bom = (tmp_path / "published" / "switch-and-trimmer" / "bom.html").read_text()
