@@ -30,6 +30,9 @@ def specs_to_text(specs: KitSpecs) -> str:
                       f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
                       f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
                       f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
+        if s.scoop is not None:
+            lines.append(f"    mid scoop        {range_text(s.scoop.depth_db, 'db')} at "
+                         f"{range_text(s.scoop.hz, 'frequency')}")
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
