@@ -174,6 +174,9 @@ class SchematicSheet:
         wired = [t for t in throws if t is not None]
         for at in (common, *wired):
             self._add(elm.Dot(radius=0.09, open=True).at(at))
+        pins = [common, *wired]  # the pole as the drawing checker reads it (S1:p1)
+        self.record.part(f"{part.designator}:p{pole}", "pole",
+                         {str(i): at for i, at in enumerate(pins)})
         rest = form_of(part).throws[0]
         aim = throws[rest] if rest is not None and rest < len(throws) else None
         if aim is None:

@@ -68,8 +68,23 @@ def stage_netlist(stage: Stage) -> StageNetlist:
 
     named = {p.designator for p in stage.all_parts()}
     parts = {e.name: tuple(map(local, terminals(e))) for e in circuit.elements if e.name in named}
+    parts.update(_poles(circuit, named, local))
     alias = {n.removeprefix(prefix): local(n) for n in links.parent if local(n) != n}
     return StageNetlist(parts, alias)
+
+
+def _poles(circuit, named: set[str], local) -> dict[str, tuple[str, ...]]:
+    """Each switch pole (``S1:p1``) as one part: its common, then each wired throw in
+    position order, from its contacts (``S1:p1t2`` joins the common to throw 2)."""
+    contacts: dict[str, list[tuple[int, str, str]]] = {}
+    for e in circuit.elements:
+        designator, _, contact = e.name.partition(":")
+        pole, _, throw = contact.partition("t")
+        if designator in named and pole.startswith("p") and throw.isdigit():
+            common, to = terminals(e)
+            contacts.setdefault(f"{designator}:{pole}", []).append((int(throw), common, to))
+    return {name: (local(found[0][1]), *(local(to) for _, _, to in sorted(found)))
+            for name, found in contacts.items()}
 
 
 class Joins:

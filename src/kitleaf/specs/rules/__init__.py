@@ -49,6 +49,7 @@ MODULES = (
     "e_series",
     "battery_life",
     "unused_half",
+    "trim_reach",
 )
 
 
