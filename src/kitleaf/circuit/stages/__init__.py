@@ -21,6 +21,7 @@ MODULES = (
     "opamp_non_inverting",
     "opamp_spare",
     "power",
+    "tone_active",
     "tone_blend",
     "tone_cut",
     "tone_stack",

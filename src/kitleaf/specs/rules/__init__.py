@@ -46,6 +46,8 @@ MODULES = (
     "led_current",
     "pot_taper",
     "input_impedance",
+    "tone_drive",
+    "tone_load",
     "e_series",
     "battery_life",
     "unused_half",

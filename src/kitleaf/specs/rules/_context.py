@@ -10,6 +10,7 @@ from functools import cached_property
 import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.display import setting
 from kitleaf.errors import SourceSpan
@@ -168,6 +169,11 @@ class RuleContext:
         value, bound = self.shown(verdict, stress)
         where = self.setting(verdict.state, nominal).strip()
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
+
+    def corner_stages(self) -> tuple[Stage, ...]:
+        """The signal stages whose corners the rules judge: all but passive tone controls."""
+        return tuple(s for s in self.kit.signal_stages
+                     if not self.kit.kind(s).shapes_response)
 
     @cached_property
     def orientations(self) -> dict[str, Orientation]:
