@@ -7,6 +7,7 @@ functions, so a figure reads the same on the page and on the command line.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 
 from kitleaf.values import format_db, format_value
@@ -60,6 +61,21 @@ def range_text(value, quantity: str) -> str:
     # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
     joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
     return f"{nominal} ({low}{joiner}{high})"
+
+
+def dbv(volts: float) -> float:
+    """RMS volts in decibels relative to 1 V RMS (dBV)."""
+    return 20.0 * math.log10(volts) if volts > 0 else -math.inf
+
+
+def hum_text(value) -> str:
+    """Hum at the output as RMS volts with its spread, and the nominal in dBV:
+    "120 µV (98–145) RMS, -78.4 dBV"."""
+    if value is None:
+        return DASH
+    level = dbv(value.nominal)
+    shown = f"{level:.1f}" if math.isfinite(level) else "below -300"
+    return f"{range_text(value, 'voltage')} RMS, {shown} dBV"
 
 
 def power_text(watts: float) -> str:
@@ -117,6 +133,7 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "hum_text": hum_text,
     "settings": settings,
     "trim_instruction": trim_instruction,
     "at_rest": at_rest,

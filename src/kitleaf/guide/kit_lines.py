@@ -1,16 +1,22 @@
-"""The kit block's lines with a grammar of their own: knobs, switches and the battery's
-capacity and life."""
+"""The kit block's lines with a grammar of their own: knobs, switches, the battery's capacity
+and life, and the adapter's ripple."""
 
 from __future__ import annotations
 
 import re
 
-from kitleaf.errors import GuideError
+from kitleaf.errors import GuideError, KitleafError
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob, Switch
 from kitleaf.guide.slug import slug_for
+from kitleaf.values import parse_value
 
 _CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
 _HOURS = re.compile(r"^(\d+(?:\.\d*)?)\s*(?:h|hours?)$")
+_RIPPLE = re.compile(r"^(.+?)\s*(?:p-?p\s*)?at\s+(.+)$")
+# What an adapter's ripple may be: up to 2 V peak to peak, at twice a mains frequency of
+# 50 or 60 Hz or a harmonic of it up to 1 kHz (common practice, no source)
+RIPPLE_VOLTS = (1e-6, 2.0)
+RIPPLE_HZ = (50.0, 1000.0)
 
 
 def read_knobs(entries: tuple[Entry, ...]) -> tuple[Knob, ...]:
@@ -106,11 +112,35 @@ def battery_life_hours(entry: Entry) -> float:
 
 
 def check_battery(block: Block) -> None:
-    """Both battery lines read now, so a mistake is named even where no rule reads them."""
+    """Both battery lines and the ripple read now, so a mistake is named even where nothing
+    reads them."""
     for entry in block.all("battery"):
         battery_capacity_ah(entry)
     for entry in block.all("battery-life"):
         battery_life_hours(entry)
+    for entry in block.all("adapter-ripple"):
+        adapter_ripple(entry)
+
+
+def adapter_ripple(entry: Entry) -> tuple[float, float]:
+    """An ``adapter-ripple:`` line as (volts peak to peak, hertz): "20 mV at 120 Hz"."""
+    example = "'adapter-ripple: 20 mV at 120 Hz' (peak to peak, at twice the mains frequency)"
+    match = _RIPPLE.match(entry.value.strip())
+    try:
+        if match is None:
+            raise GuideError("")
+        volts = parse_value(match[1].removesuffix("pp").strip(), "voltage")
+        hz = parse_value(match[2], "frequency")
+    except KitleafError as exc:
+        why = f" ({exc.message})" if exc.message else ""
+        raise GuideError(f"cannot read 'adapter-ripple: {entry.value}'{why}; write it like "
+                         f"{example}", entry.span) from None
+    for value, (low, high), what in ((volts, RIPPLE_VOLTS, "V"), (hz, RIPPLE_HZ, "Hz")):
+        if not low <= value <= high:
+            raise GuideError(f"'adapter-ripple: {entry.value}' is outside what an adapter "
+                             f"gives ({low:g} to {high:g} {what}); write it like {example}",
+                             entry.span)
+    return volts, hz
 
 
 def _read(entry: Entry, pattern: re.Pattern, example: str, hint: str = "") -> re.Match:

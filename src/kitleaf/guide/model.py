@@ -103,13 +103,15 @@ class KitBlock:
 
 @dataclass(frozen=True)
 class Guide:
-    """One kit's guide: its source text, kit block and stage blocks in document order."""
+    """One kit's guide: its source text, kit block, stage blocks in document order and its
+    own device models (``device NAME`` blocks, read by :mod:`kitleaf.circuit.devices`)."""
 
     path: str
     slug: str
     text: str
     kit: KitBlock
     stages: tuple[StageBlock, ...]
+    devices: tuple[Block, ...] = ()
 
     def stage(self, stage_id: str) -> StageBlock:
         return next(s for s in self.stages if s.id == stage_id)

@@ -36,7 +36,7 @@ from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
 from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
-from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.derive import SolvedKit, derive_specs, solve_kit
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.polarity import Orientation
 
@@ -46,9 +46,10 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     cache = cache or NoCache()
     guide = parse_guide(path)
     kit = build_circuit(guide)
-    specs = cached_specs(cache, guide, kit)
+    solved = solve_kit(guide, kit)  # the design rules read it even when the specs are cached
+    specs = cached_specs(cache, guide, kit, solved)
     slug = guide.slug
-    checks = verify(guide, kit, specs)  # a broken claim stops the guide here
+    checks = verify(guide, kit, specs, solved)  # a broken claim stops the guide here
     files, assets = stage_files(cache, kit, specs, slug, checks.orientations)
     overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
@@ -137,7 +138,8 @@ def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
     return symptoms
 
 
-def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
+def cached_specs(cache: Cache, guide, kit: KitCircuit,
+                 solved: SolvedKit | None = None) -> KitSpecs:
     """The solved specs, re-solved only when a block of the guide or the kit's circuit changed.
 
     Prose is not part of the key, nor are line numbers; specs that carry a location are stored
@@ -149,7 +151,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
         found = cache.load("specs", key)
         if isinstance(found, KitSpecs):
             return found
-    specs = derive_specs(guide, kit)
+    specs = derive_specs(guide, kit, solved)
     cache.store("specs", located if contains_span(specs) else plain, specs)
     return specs
 

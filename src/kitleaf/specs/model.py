@@ -49,6 +49,7 @@ class KnobPoint:
     input_impedance: Range | None = None
     output_impedance: Range | None = None
     scoop: Scoop | None = None  # nominal parts; for passive tone controls only
+    hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
 
 
 @dataclass(frozen=True)
@@ -139,6 +140,7 @@ class StageSpecs:
     # The deepest dip, knobs at half way, for a passive tone control (None: not one, or its
     # response does not dip by MIN_SCOOP_DB); each knob step's is on its knob_sweep point.
     scoop: Scoop | None = None
+    hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
 
 
 @dataclass(frozen=True)
@@ -177,6 +179,10 @@ class KitSpecs:
     knob_ends: tuple[KnobPoint, ...] = ()
     # Each trimmer's set-up instruction, in the guide's order (specs/trim.py).
     trims: tuple[Trim, ...] = ()
+    # The adapter's ripple as the kit block states it (volts peak to peak, hertz), and the
+    # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
+    ripple: tuple[float, float] | None = None
+    hum: Range | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)
