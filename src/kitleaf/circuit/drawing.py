@@ -86,6 +86,10 @@ class Sheet(Protocol):
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the previous or next stage ("IN", "OUT")."""
 
+    def probe(self, at: Point, node: str) -> None:
+        """Where a builder may probe the stage's own ``node`` (a custom stage's test point);
+        nothing is drawn."""
+
     # -- words ---------------------------------------------------------------------------------
     def part_label(self, part: Part) -> str:
         """The words a part is labelled with (designator over value)."""

@@ -139,6 +139,7 @@ class SchematicSheet:
             a, b = (b, a) if pin == 1 else (a, b)
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
+        self.record.shape(part.designator, self._element_boxes[-1], a, b)
         self.label(part_label(part), label_point(a, b, side, LABEL_GAP[part.type]),
                    side or default_side(a, b))
 
@@ -150,6 +151,7 @@ class SchematicSheet:
         """
         drawn = elm.Potentiometer().endpoints(ccw, cw)
         drawn = self._add(drawn.flip() if wiper_right else drawn)
+        self.record.shape(part.designator, self._element_boxes[-1], ccw, cw)
         side = side or default_side(ccw, cw)
         self.label(part_label(part), label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
         wiper = self.pin(drawn, "pot", "wiper")
@@ -280,6 +282,10 @@ class SchematicSheet:
         self.record.name(at, PORT_NETS.get(name, name.lower()))
         self.spots.setdefault(("", name.lower()), at)
         self.label(name, nudge(at, side, 0.3), side)
+
+    def probe(self, at: Point, node: str) -> None:
+        """Where a builder may probe the stage's own ``node``; nothing is drawn."""
+        self.spots.setdefault(("", node), at)
 
     def ring(self, centre: Point, radius: float) -> None:
         """An open circle (a test point's marker)."""

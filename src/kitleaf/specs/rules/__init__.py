@@ -51,6 +51,7 @@ MODULES = (
     "e_series",
     "battery_life",
     "unused_half",
+    "custom_drawing",
     "trim_reach",
     "hum",
 )
