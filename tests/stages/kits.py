@@ -8,6 +8,8 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.engine import solve_ac, solve_dc
 from kitleaf.guide.parse import parse_guide
+from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.model import KitSpecs
 
 POWER = """\
 ```stage power
@@ -29,6 +31,16 @@ def guide_text(*blocks: str, supply: str = "9V", source: str = "low-z", load: st
     kit = ["```kit", "title: Fernbrook Test Kit", "code: FB-T1", f"supply: {supply}",
            f"source: {source}"] + ([f"load: {load}"] if load else []) + ["```", ""]
     return "\n".join(kit) + "\n".join(blocks)
+
+
+def specs_of(*blocks: str, knobs: tuple[str, ...] = (), **kit) -> tuple[KitCircuit, KitSpecs]:
+    """The kit of ``blocks`` and its specs; ``knobs`` are kit-block lines such as 'Gain = VR1'."""
+    text = guide_text(*blocks, **kit)
+    # The kit block's closing fence is the first bare one.
+    text = text.replace("```\n", "".join(f"knob: {k}\n" for k in knobs) + "```\n", 1)
+    guide = parse_guide("test.md", text)
+    kit_circuit = build_circuit(guide)
+    return kit_circuit, derive_specs(guide, kit_circuit)
 
 
 def stage_block(stage_id: str, kind: str, *lines: str) -> str:
@@ -148,4 +160,22 @@ test-point: Q4 collector = c
 vol
 kind: volume
 volume: VR5 A100k
+===
+softclip
+kind: opamp-soft-clip
+input-cap: C40 100n
+bias: R40 1M
+opamp: U2A TL072
+feedback: R41 10k
+gain: VR40 A500k
+feedback-cap: C41 100p
+clip-series: R42 1k
+clip-positive: D40 1N4148
+clip-negative: D41 1N4148
+clip-negative: D42 1N4148
+gain-resistor: R43 4k7
+gain-cap: C42 1u
+output-cap: C43 1u
+pulldown: R44 1M
+volume: VR41 A100k
 """.split("===\n"))

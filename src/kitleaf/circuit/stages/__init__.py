@@ -19,6 +19,7 @@ MODULES = (
     "jfet_common_source",
     "opamp_inverting",
     "opamp_non_inverting",
+    "opamp_soft_clip",
     "opamp_spare",
     "power",
     "tone_cut",

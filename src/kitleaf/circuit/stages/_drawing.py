@@ -140,7 +140,9 @@ def draw_volume_out(sheet: Sheet, volume: Part | None, at: Point, x: float,
         sheet.dot(column)
         sheet.part(pulldown, column, (column[0], GROUND_Y), side="right")
         sheet.ground((column[0], GROUND_Y))
-        at, x = column, max(x, column[0] + 2.4)
+        # the pot's label (on its left) stays clear of the pulldown's (on its right)
+        room = sheet.label_room(pulldown) + (sheet.label_room(volume) if volume else 0.0)
+        at, x = column, max(x, column[0] + 2.4, column[0] + room + 0.4)
     if volume is None:
         sheet.wire(at, (x, at[1]))
         sheet.port((x, at[1]), "OUT", "right")
