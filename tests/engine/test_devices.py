@@ -52,6 +52,15 @@ class TestShockleyDiode:
         assert 1.9 < forward_voltage("LED-GREEN", 10e-3) < 2.3
         # germanium signal diodes conduct at roughly 0.3 V at 1 mA (common practice, no source)
         assert 0.2 < forward_voltage("GE-SIGNAL", 1e-3) < 0.4
+        assert forward_voltage("1N34A", 1e-3) == forward_voltage("GE-SIGNAL", 1e-3)
+
+    @pytest.mark.parametrize("model, low, high", [
+        # yellow near 2.0 V, blue and white (InGaN) near 3.0-3.2 V at 10 mA (common
+        # practice, no source)
+        ("LED-YELLOW", 1.9, 2.2), ("LED blue", 2.8, 3.3), ("LED-WHITE", 2.9, 3.4),
+    ])
+    def test_more_led_colours(self, model, low, high):
+        assert low < forward_voltage(model, 10e-3) < high
 
 
 def biased_bjt(model, vbe: float, vce: float) -> dict:
@@ -79,6 +88,17 @@ class TestGummelPoon:
         assert high["ic"] / low["ic"] == pytest.approx((1 + 11.35 / 50) / (1 + 1.35 / 50),
                                                        rel=1e-6)
 
+    def test_zero_early_voltage_and_knee_current_mean_off(self):
+        # SPICE reads VAF = 0 and IKF = 0 as "no Early effect" and "no high-injection
+        # roll-off" (SPICE3 user's manual, BJT model parameters, from memory): IC then stays
+        # IS exp(VBE / VT) whatever VCE (Ebers-Moll, textbook)
+        model = DeviceModel("test-off", "npn", {"IS": 1e-15, "BF": 200.0, "VAF": 0.0,
+                                                "VAR": 0.0, "IKF": 0.0, "IKR": 0.0})
+        low, high = biased_bjt(model, 0.75, 2.0), biased_bjt(model, 0.75, 12.0)
+        assert high["ic"] == pytest.approx(1e-15 * math.exp(0.75 / VT), rel=1e-6)
+        assert low["ic"] == pytest.approx(high["ic"], rel=1e-6)
+        assert model.get("VAF") == math.inf
+
     def test_beta_droops_at_low_and_high_current(self):
         low = biased_bjt("2N3904", 0.45, 5.0)
         mid = biased_bjt("2N3904", 0.65, 5.0)
@@ -88,6 +108,21 @@ class TestGummelPoon:
         # high injection), as datasheet hFE curves show (common practice, no source)
         assert low["beta"] < 0.6 * mid["beta"]
         assert high["beta"] < 0.8 * mid["beta"]
+
+    def test_germanium_pnp_leaks(self):
+        # a germanium small-signal PNP: VBE about 0.2 V at 1 mA, and with its base open the
+        # collector-base leakage, multiplied by hFE, draws 100-500 uA at 9 V (ICEO; common
+        # practice, no source)
+        q = biased_bjt("AC128", -0.2, -5.0)
+        assert 0.3e-3 < -q["ic"] < 3e-3
+        c = Circuit().vsource("VCC", "c", "0", dc=-9.0).resistor("RB", "b", "0", 10e6)
+        leak = solve_dc(c.bjt("Q1", "c", "b", "0", "AC128")).device("Q1")
+        assert 100e-6 < -leak["ic"] < 500e-6
+        # with its emitter open the leakage is ICBO alone: a few microamps (from memory)
+        c = Circuit().vsource("VCB", "c", "0", dc=-9.0).vsource("VE", "e", "x", dc=0.0)
+        c.resistor("RE", "x", "0", 1e12)
+        icbo = solve_dc(c.bjt("Q1", "c", "0", "e", "AC128")).device("Q1")
+        assert 1e-6 < -icbo["ic"] < 10e-6
 
     def test_pnp_mirrors_npn(self):
         npn = DeviceModel("test-n", "npn", {"IS": 1e-15, "BF": 150.0, "VAF": 60.0})

@@ -85,6 +85,27 @@ class TestDiodeStrings(OracleCase):
         return c.diode("D7", "h", "vcc", "1N4148").resistor("R3", "h", "0", 1e3)  # reverse
 
 
+class TestMoreLibraryParts(AcOracleCase):
+    """The LEDs, the germanium PNP with its leakage, the MPF102 and the RC4558."""
+
+    outputs = ("out", "o2")
+
+    def circuit(self) -> Circuit:
+        c = Circuit("more library parts").vsource("VCC", "vcc", "0", dc=9.0)
+        for i, colour in enumerate(("YELLOW", "BLUE", "WHITE"), start=1):
+            c.resistor(f"RL{i}", "vcc", f"l{i}", 1e3).diode(f"D{i}", f"l{i}", "0",
+                                                            f"LED-{colour}")
+        c.vsource("VIN", "in", "0", ac=1.0).capacitor("C1", "in", "b", 1e-6)
+        c.resistor("RB", "b", "0", 470e3).bjt("Q1", "c", "b", "e", "AC128")
+        c.resistor("RE", "vcc", "e", 4.7e3).resistor("RC", "c", "0", 2.2e3)
+        c.capacitor("C2", "c", "g", 100e-9).resistor("RG", "g", "0", 1e6)
+        c.jfet("Q2", "vcc", "g", "out", "MPF102").resistor("RS", "out", "0", 2.2e3)
+        c.resistor("R1", "vcc", "r", 100e3).resistor("R2", "r", "0", 100e3)
+        c.capacitor("C3", "out", "p2", 100e-9).resistor("R3", "p2", "r", 1e6)
+        c.opamp("U1A", "p2", "n2", "o2", "vcc", "0", "4558").resistor("RF", "o2", "n2", 47e3)
+        return c.resistor("RN", "n2", "x2", 4.7e3).capacitor("CN", "x2", "0", 10e-6)
+
+
 class TestBiasedDiodeSmallSignal(AcOracleCase):
     def circuit(self) -> Circuit:
         c = Circuit("biased diode").vsource("VCC", "vcc", "0", dc=9.0)

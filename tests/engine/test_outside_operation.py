@@ -79,12 +79,13 @@ class TestJunctionBreakdown:
         bv = get_model(model).get("BVEBO")
         npn = get_model(model).kind == "npn"
         sign = 1.0 if npn else -1.0
-        # the emitter driven 9 V beyond the base through 10 kohm, collector open to ground
-        c = Circuit().vsource("V1", "v", "0", dc=9.0 * sign).resistor("R1", "v", "e", 10e3)
+        # the emitter driven 15 V beyond the base (past every rating of the library) through
+        # 10 kohm, collector open to ground
+        c = Circuit().vsource("V1", "v", "0", dc=15.0 * sign).resistor("R1", "v", "e", 10e3)
         c.bjt("Q1", "c", "0", "e", model).resistor("RC", "c", "0", 1e6)
         op = solve_dc(c)
         veb = sign * op.voltage("e")
-        amps = (9.0 - veb) / 10e3
+        amps = (15.0 - veb) / 10e3
         ohmic = amps * (get_model(model).get("RB") + get_model(model).get("RE"))
         # a breakdown junction's exponential knee: V = BV + VT ln(I / I_BV) plus the series
         # resistances' drop, with V(BR)EBO specified at 10 uA of emitter current (datasheet

@@ -35,6 +35,14 @@ DIODES = (
            CJO=2.97e-12, M=0.33, VJ=0.75, BV=5.0, IBV=10e-6),
     _diode("LED-GREEN", "5 mm green (GaP) LED, Vf ~2.1 V at 10 mA", IS=1.5e-11, N=4.0, RS=2.0,
            CJO=3e-12, M=0.33, VJ=0.75, BV=5.0, IBV=10e-6),
+    _diode("LED-YELLOW", "5 mm yellow LED, Vf ~2.0 V at 10 mA", IS=1.78e-11, N=3.8, RS=2.0,
+           CJO=3e-12, M=0.33, VJ=0.75, BV=5.0, IBV=10e-6),
+    # InGaN blue and white (a blue die under a phosphor) LEDs: about 3 V at 10 mA, with a
+    # larger series resistance than the red and yellow ones
+    _diode("LED-BLUE", "5 mm blue (InGaN) LED, Vf ~3.0 V at 10 mA", IS=2.79e-14, N=4.2,
+           RS=6.0, CJO=20e-12, M=0.33, VJ=2.5, BV=5.0, IBV=10e-6),
+    _diode("LED-WHITE", "5 mm white (InGaN and phosphor) LED, Vf ~3.1 V at 10 mA",
+           IS=2.11e-14, N=4.3, RS=6.0, CJO=20e-12, M=0.33, VJ=2.5, BV=5.0, IBV=10e-6),
 )
 
 
@@ -68,6 +76,15 @@ BJTS = (
     _bjt("2N3906", "pnp", "general-purpose PNP, hFE 100-300", (0.5, 1.5), IS=1.41e-15,
          BF=180.7, VAF=18.7, IKF=80e-3, ISE=0.0, NE=1.5, BR=4.977, RB=10.0, RC=2.5,
          CJE=8.063e-12, MJE=0.3677, CJC=9.728e-12, MJC=0.5776, TF=179.3e-12, BVEBO=5.0),
+    # Germanium: VBE about 0.2 V at 1 mA (IS), hFE 60-175, a slow part (fT ~1.5 MHz: TF),
+    # and the collector-base leakage ICBO of a few microamps that germanium is known for,
+    # as the collector junction's leakage term ISC (NC 2, saturating within a few tenths of
+    # a volt of reverse bias); biased from a base resistor it is multiplied by hFE, the
+    # 100-300 uA "leakage" fuzz builders measure (common practice, no source)
+    _bjt("AC128", "pnp", "germanium PNP with collector leakage, hFE 60-175", (0.65, 1.9),
+         IS=4e-7, BF=90.0, VAF=30.0, IKF=0.5, ISE=1e-8, NE=2.0, ISC=2.5e-6, NC=2.0, BR=5.0,
+         RB=100.0, RC=0.5, CJE=60e-12, VJE=0.3, MJE=0.4, CJC=30e-12, VJC=0.3, MJC=0.4,
+         TF=100e-9, BVEBO=10.0),
 )
 
 
@@ -83,6 +100,10 @@ JFETS = (
     _jfet("2N5457", "njf", "general-purpose N-JFET: VGS(off) -0.5..-6 V, IDSS 1..5 mA",
           (-6.0, -0.5), (1e-3, 5e-3), VTO=-1.372, BETA=1.125e-3, LAMBDA=2.3e-3,
           IS=181.3e-15, RD=1.0, RS=1.0, CGS=4.06e-12, CGD=4.06e-12, PB=0.5),
+    # BETA = IDSS / VTO**2 at about 9 mA and -3 V
+    _jfet("MPF102", "njf", "general-purpose N-JFET: VGS(off) -0.5..-8 V, IDSS 2..20 mA",
+          (-8.0, -0.5), (2e-3, 20e-3), VTO=-3.0, BETA=1e-3, LAMBDA=0.02, IS=1e-14,
+          RD=2.0, RS=2.0, CGS=4.5e-12, CGD=2e-12, PB=0.6),
     # SPICE writes a P-JFET's pinch-off in the device frame, negative like an N-JFET's.
     _jfet("2N5460", "pjf", "general-purpose P-JFET: VGS(off) +0.75..+6 V, IDSS 1..5 mA",
           (-6.0, -0.75), (1e-3, 5e-3), VTO=-1.8, BETA=0.8e-3, LAMBDA=6e-3, IS=1e-14,
@@ -106,12 +127,24 @@ OPAMPS = (
         "SR": 0.3e6, "ILIM": 20e-3,
     }, {}, _MEMORY, "dual single-supply op-amp; inputs and output reach the negative rail; "
        "its PNP inputs push their bias current out"),
+    DeviceModel("RC4558", "opamp", {
+        "AOL": 1e5, "GBW": 3e6, "RIN": 5e6, "ROUT": 75.0, "SWING_HI": 1.5,
+        "SWING_LO": 1.5, "CM_HI": 2.0, "CM_LO": 2.0, "IQ": 1.25e-3, "IB": 40e-9,
+        "SR": 1.7e6, "ILIM": 25e-3,
+    }, {}, _MEMORY, "dual bipolar op-amp common in drive pedals; its NPN inputs draw their "
+       "bias current in"),
 )
 
 LIBRARY: tuple[DeviceModel, ...] = DIODES + BJTS + JFETS + OPAMPS
 
 for _model in LIBRARY:
     register_model(_model.name, _model)
-# Short aliases the trade uses for the LEDs.
-register_model("LED red", DIODES[4])
-register_model("LED green", DIODES[5])
+# Short aliases the trade uses for the LEDs, and the generic type names of library parts.
+ALIASES = {
+    "LED red": "LED-RED", "LED green": "LED-GREEN", "LED yellow": "LED-YELLOW",
+    "LED blue": "LED-BLUE", "LED white": "LED-WHITE", "1N34A": "GE-SIGNAL",
+    "4558": "RC4558",
+}
+_BY_NAME = {m.name: m for m in LIBRARY}
+for _alias, _name in ALIASES.items():
+    register_model(_alias, _BY_NAME[_name])

@@ -48,6 +48,10 @@ _NON_NEGATIVE = {"ISE", "ISC", "RS", "RB", "RE", "RC", "RD", "CJO", "CJE", "CJC"
 _ANY_SIGN = {"VTO", "IB"}  # a threshold; a bias current that flows out of a PNP input
 # Parameters whose infinity means "effect off"; every other one must be finite.
 _MAY_BE_INFINITE = {"VAF", "VAR", "IKF", "IKR", "BV"}
+# Parameters SPICE reads as "effect off" when written as zero (an Early voltage or a knee
+# current of 0 is taken as infinite; SPICE3 user's manual, BJT model table, from memory):
+# stored as infinity, so the equations never divide by it.
+ZERO_MEANS_OFF = frozenset({"VAF", "VAR", "IKF", "IKR"})
 # Bounds beyond which a parameter is absurd or breaks the model's equations (low, high; the
 # high end excluded): the depletion capacitance divides by 1 - FC and is meant for gradings
 # below one (SPICE clamps FC at 0.95 and grading at 0.9, from memory); emission coefficients
@@ -82,13 +86,15 @@ class DeviceModel:
         if self.kind not in DEFAULTS:
             raise ModelError(f"model {self.name!r}: unknown kind {self.kind!r}, "
                              f"use one of {', '.join(sorted(DEFAULTS))}")
-        for key, value in self.params.items():
+        params = {k: (INF if k in ZERO_MEANS_OFF and v == 0 else v)
+                  for k, v in self.params.items()}
+        for key, value in params.items():
             _check_param(self, key, value)
         allowed = DEFAULTS[self.kind].keys() | _DERIVED_SPREADS.get(self.kind, set())
         for key, (low, high) in self.spread.items():
             if key not in allowed or not low <= high:
                 raise ModelError(f"model {self.name!r}: bad spread for {key!r}")
-        object.__setattr__(self, "params", MappingProxyType(dict(self.params)))
+        object.__setattr__(self, "params", MappingProxyType(params))
         object.__setattr__(self, "spread", MappingProxyType(dict(self.spread)))
 
     def get(self, key: str) -> float:
