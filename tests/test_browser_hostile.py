@@ -70,12 +70,6 @@ def site(tmp_path_factory) -> Path:
     return root / "published"
 
 
-@pytest.fixture(scope="module")
-def browser():
-    with Browser(require_tool("chromium")) as running:
-        yield running
-
-
 def opened(browser: Browser, path: Path, static: Path | None = None
            ) -> tuple[list[str], list[str], str]:
     """What ran on the page, what in it could still run, and its text as shown; ``static`` is

@@ -7,12 +7,12 @@ import json
 
 import pytest
 
-from chromium_pipe import Browser, Page, require_tool
+from chromium_pipe import Page
 from kitleaf.circuit.build import build_circuit
 from kitleaf.faults.rank import rank
 from kitleaf.faults.solve import solve_faults
 from kitleaf.guide import parse_guide
-from site_pages import DEMO_GUIDES, build_demo_site
+from site_pages import DEMO_GUIDES
 
 pytestmark = pytest.mark.slow
 HERON = "heron-opamp-boost"
@@ -28,15 +28,8 @@ navigator.sendBeacon = (u) => { seen(u); return false; };"""
 
 
 @pytest.fixture(scope="module")
-def site(tmp_path_factory):
-    require_tool("chromium")
-    return build_demo_site(tmp_path_factory.mktemp("pinpoint"))
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with Browser(require_tool("chromium")) as running:
-        yield running
+def site(demo_site):
+    return demo_site
 
 
 def fill_and_rank(page: Page, readings: dict[str, str], black: str) -> list[str]:

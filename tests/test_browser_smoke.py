@@ -6,8 +6,8 @@ import json
 
 import pytest
 
-from chromium_pipe import Browser, Page, require_tool
-from site_pages import DEMO_GUIDES, build_demo_site
+from chromium_pipe import Page
+from site_pages import DEMO_GUIDES
 
 pytestmark = pytest.mark.slow
 
@@ -19,15 +19,8 @@ IMAGES = "JSON.stringify([...document.images].map(i => [i.getAttribute('src'), i
 
 
 @pytest.fixture(scope="module")
-def site(tmp_path_factory):
-    require_tool("chromium")
-    return build_demo_site(tmp_path_factory.mktemp("smoke"))
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with Browser(require_tool("chromium")) as running:
-        yield running
+def site(demo_site):
+    return demo_site
 
 
 @pytest.mark.parametrize("name", PAGES)

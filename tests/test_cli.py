@@ -213,6 +213,15 @@ def test_a_long_word_is_cut_in_the_error_line(tmp_path, capsys):
     assert len(err[0]) < 400 and "x…[2000" in err[0]
 
 
+def test_a_long_path_in_an_error_line_is_kept_whole(tmp_path, capsys):
+    deep = tmp_path.joinpath(*["folder-with-a-long-name"] * 6)
+    deep.mkdir(parents=True)
+    missing = deep / "guides"
+    assert main(["check", str(missing)]) == 1
+    err = capsys.readouterr().err
+    assert f"no such folder or guide: {missing};" in err and "characters]" not in err
+
+
 def test_a_knob_named_with_accents_keeps_its_letters_in_names(tmp_path, capsys):
     # The Brookside's prose shows {=kit.gain.level-100}: with the knob spelt 'Lével' the name
     # is still 'level', not 'l-vel'.

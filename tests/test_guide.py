@@ -108,6 +108,17 @@ class TestHostileFiles:
             parse_guide(path)
         assert info.value.span.line == 14
 
+    @pytest.mark.parametrize("ending", ["\r", "\r\n"], ids=["cr", "crlf"])
+    def test_old_and_windows_line_ends_keep_every_line_number(self, tmp_path, ending):
+        path = tmp_path / "ends.md"
+        path.write_bytes(GUIDE.replace("\n", ending).encode("utf-8"))
+        assert parse_guide(path).stages[0].span.line == 16
+        latin = GUIDE.replace("More prose.", "Caf\xe9 prose.").replace("\n", ending)
+        path.write_bytes(latin.encode("latin-1"))
+        with pytest.raises(GuideError) as info:
+            parse_guide(path)
+        assert info.value.span.line == 14
+
     def test_binary_file_is_refused_at_its_first_nul(self, tmp_path):
         path = tmp_path / "binary.md"
         path.write_bytes(b"```kit\ntitle: X\n\x00\x01\x02")

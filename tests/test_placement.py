@@ -79,9 +79,9 @@ def test_every_section_has_a_template():
 HEADINGS_IN_A_ROW = re.compile(r"</h[1-6]>(?:\s|</?(?:div|section)[^>]*>)*<h[1-6][ >]")
 
 
-def test_no_demo_guide_page_has_two_headings_in_a_row(tmp_path):
+def test_no_demo_site_page_has_two_headings_in_a_row(tmp_path):
     site = build_demo_site(tmp_path)
-    for page in site.glob("*/index.html"):
+    for page in site.rglob("*.html"):
         html = page.read_text(encoding="utf-8")
         assert HEADINGS_IN_A_ROW.search(html) is None, page
     guide = (site / "heron-opamp-boost" / "index.html").read_text(encoding="utf-8")

@@ -141,14 +141,17 @@ def test_one_panel_per_knob_and_one_curve_per_position():
 
 
 def test_a_panel_title_lists_the_other_knobs_as_a_sentence_does():
-    from types import SimpleNamespace
-
     from kitleaf.render.plot_specs import _title
-    specs = SimpleNamespace(knobs=(("Drive", "VR1"), ("Tone", "VR2"), ("Level", "VR3"),
-                                   ("Blend", "VR4")))
-    assert _title(specs, "Tone", 4) == "Tone knob turned, Drive, Level and Blend at 50 %"
-    assert _title(SimpleNamespace(knobs=specs.knobs[:2]), "Tone", 2) == (
-        "Tone knob turned, Drive at 50 %")
+    knobs = ["Drive", "Tone", "Level", "Blend"]
+    assert _title("Tone", knobs) == "Tone knob turned, Drive, Level and Blend at 50 %"
+    assert _title("Tone", knobs[:2]) == "Tone knob turned, Drive at 50 %"
+
+
+def test_a_stage_plot_names_only_the_knobs_of_that_stage():
+    _, _, specs = solved("heron-opamp-boost")
+    titles = [p.title for s in specs.stages if (plot := stage_plot(specs, s.id))
+              for p in plot.panels]
+    assert titles and all("at 50 %" not in t for t in titles), titles
 
 
 def test_svg_shows_labels_corners_and_band():

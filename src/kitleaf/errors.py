@@ -12,6 +12,9 @@ from dataclasses import dataclass
 # An echoed word longer than this is cut: a line of the guide can be any length.
 LONGEST_ECHO = 60
 _LONG_WORD = re.compile(rf"\S{{{LONGEST_ECHO + 1},}}")
+# A path is kept whole (the user needs all of it to find the file) up to the longest path a
+# POSIX system accepts (PATH_MAX, 4096 on Linux; common practice, no source).
+LONGEST_PATH = 4096
 
 
 def printable(text: str, cut: bool = True) -> str:
@@ -21,7 +24,14 @@ def printable(text: str, cut: bool = True) -> str:
     shown = "".join(ch if ch.isprintable() else repr(ch)[1:-1] for ch in text)
     if not cut:
         return shown
-    return _LONG_WORD.sub(lambda m: f"{m[0][:LONGEST_ECHO]}…[{len(m[0])} characters]", shown)
+    return _LONG_WORD.sub(_cut_word, shown)
+
+
+def _cut_word(found: re.Match[str]) -> str:
+    word = found[0]
+    if "/" in word and len(word) <= LONGEST_PATH:
+        return word
+    return f"{word[:LONGEST_ECHO]}…[{len(word)} characters]"
 
 
 def printable_line(line: str) -> str:

@@ -11,6 +11,8 @@ from kitleaf.errors import GuideError, SourceSpan
 # not a guide, and Markdown parsing time grows with it.
 LARGEST_GUIDE = 2_000_000
 _BOM = "\ufeff"
+# A line ends at LF, CR LF or a lone CR (an old Mac save), as markdown-it counts lines.
+_LINE_END = re.compile(rb"\r\n?|\n")
 # Control characters (an escape sequence, a backspace, a NUL) and the bidirectional overrides
 # that make text read other than it is stored: none belongs in a guide. Tab, line ends and
 # form feed are a text file's own.
@@ -37,7 +39,7 @@ def decoded(data: bytes, path: str) -> str:
     try:
         return checked_text(data.decode("utf-8"), path)
     except UnicodeDecodeError as exc:
-        line = data.count(b"\n", 0, exc.start) + 1
+        line = len(_LINE_END.findall(data, 0, exc.start)) + 1
         raise GuideError(f"byte 0x{data[exc.start]:02x} is not UTF-8 text ({exc.reason}); save "
                          "the guide as UTF-8", SourceSpan(path, line)) from None
 
@@ -45,7 +47,8 @@ def decoded(data: bytes, path: str) -> str:
 def checked_text(text: str, path: str) -> str:
     """``text`` without a leading byte-order mark; a control character is refused at its line
     (a NUL means a binary file)."""
-    text = text.removeprefix(_BOM)
+    # One line end everywhere, so every later count of lines agrees with markdown-it's.
+    text = text.removeprefix(_BOM).replace("\r\n", "\n").replace("\r", "\n")
     found = _HIDDEN.search(text)
     if found is None:
         return text

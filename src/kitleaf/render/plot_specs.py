@@ -14,24 +14,24 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
         return None
     corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
     return ResponsePlot(f"{stage.title}: gain from its input to its output", specs.freqs,
-                        _panels(specs, stage.curves, stage.band_low, stage.band_high, corners))
+                        _panels(stage.curves, stage.band_low, stage.band_high, corners))
 
 
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
     corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
     return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
                         specs.freqs,
-                        _panels(specs, specs.curves, specs.band_low, specs.band_high, corners))
+                        _panels(specs.curves, specs.band_low, specs.band_high, corners))
 
 
-def _panels(specs: KitSpecs, curves: tuple[Curve, ...], low, high, corners
+def _panels(curves: tuple[Curve, ...], low, high, corners
             ) -> tuple[Panel, ...]:
     """One panel per knob, in the kit block's order; one unnamed panel when no knob acts."""
     knobs = list(dict.fromkeys(c.knob for c in curves))
     panels = []
     for knob in knobs:
         mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
-        panels.append(Panel(_title(specs, knob, len(knobs)), mine, low, high, corners))
+        panels.append(Panel(_title(knob, knobs), mine, low, high, corners))
     return tuple(panels)
 
 
@@ -41,8 +41,10 @@ def _label(curve: Curve) -> str:
     return f"{curve.knob} {percent(curve.position)}"
 
 
-def _title(specs: KitSpecs, knob: str, count: int) -> str:
-    others = [name for name, _ in specs.knobs if name != knob]
+def _title(knob: str, knobs: list[str]) -> str:
+    """The panel's title; it names only the knobs of the plotted curves (a stage's plot is
+    not moved by another stage's knob, so naming that knob would mislead)."""
+    others = [name for name in knobs if name != knob]
     if not knob:
         return ""
     if not others:

@@ -19,13 +19,14 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.display import figure
 from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.ratings import Stress
 from kitleaf.specs.rules import Finding, RuleContext, check_rules
-from kitleaf.values import format_db, format_value, parse_value
+from kitleaf.values import parse_value
 
 _CLAIM = re.compile(r"^(?P<name>[A-Za-z0-9][A-Za-z0-9._-]*)\s+(?:(?P<op>below|above)\s+"
                     r"(?P<limit>.+)|between\s+(?P<low>.+?)\s+and\s+(?P<high>.+))$")
@@ -123,18 +124,14 @@ def holds(claim: Claim, computed: Computed) -> bool:
 
 def broken(claim: Claim, computed: Computed) -> SpecError:
     value = computed.value
-    nominal = _show(value.nominal, computed.quantity)
+    nominal = figure(value.nominal, computed.quantity)
     if value.low is None or value.high is None:
         spread = "range not computed: nominal only"
     else:
-        low, high = (_show(x, computed.quantity) for x in judged_span(value))
+        low, high = (figure(x, computed.quantity) for x in judged_span(value))
         spread = f"range {low}{' to ' if '-' in low + high else '–'}{high}"
     return SpecError(f"claim '{claim.entry.value}' ({computed.label}) does not hold: computed "
                      f"{nominal} ({spread}); correct the parts or the claim", claim.entry.span)
-
-
-def _show(x: float, quantity: str) -> str:
-    return format_db(x) if quantity == "db" else format_value(x, quantity)
 
 
 def check_claims(guide: Guide, kit: KitCircuit,
