@@ -43,6 +43,11 @@ def specs_of(*blocks: str, knobs: tuple[str, ...] = (), **kit) -> tuple[KitCircu
     return kit_circuit, derive_specs(guide, kit_circuit)
 
 
+def line_of(text: str, start: str) -> int:
+    """The 1-based line of ``text`` that starts with ``start``."""
+    return 1 + next(i for i, line in enumerate(text.splitlines()) if line.startswith(start))
+
+
 def stage_block(stage_id: str, kind: str, *lines: str) -> str:
     return "\n".join([f"```stage {stage_id}", f"kind: {kind}", *lines, "```", ""])
 
@@ -178,4 +183,40 @@ gain-cap: C42 1u
 output-cap: C43 1u
 pulldown: R44 1M
 volume: VR41 A100k
+===
+fuzz
+kind: direct-coupled-fuzz
+input-cap: C50 2u2
+input-transistor: Q50 2N5088
+input-collector: R50 33k
+output-transistor: Q51 2N5088
+output-collector: R51 8k2
+output-emitter: R52 1k
+feedback: R53 100k
+gain: VR50 B1k
+bypass-cap: C51 22u electrolytic
+output-cap: C52 100n
+pulldown: R54 1M
+volume: VR51 A500k
+===
+jbuf
+kind: jfet-source-follower
+input-cap: C55 100n
+gate: R55 10M
+bias-top: R56 1M
+bias-bottom: R57 1M
+transistor: Q55 2N5457
+drain: R58 100R
+source: R59 10k
+output-cap: C56 10u
+pulldown: R60 1M
+===
+outbuf
+kind: output-buffer
+input-cap: C60 1u
+follower: U2B TL072
+bias: R61 1M
+output-cap: C61 10u
+pulldown: R62 100k
+output-resistor: R63 470R
 """.split("===\n"))

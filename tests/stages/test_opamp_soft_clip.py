@@ -10,6 +10,7 @@ from tests.stages.kits import (
     dc_at,
     gain_at,
     guide_text,
+    line_of,
     make_kit,
     specs_of,
     stage_block,
@@ -81,10 +82,6 @@ def test_test_points_are_the_opamp_pins():
     kit = make_kit(POWER, drive())
     stage = kit.stages[1]
     assert [p.pin for p in kit.kind(stage).test_points(stage)] == ["3", "2", "1", "8"]
-
-
-def line_of(text: str, start: str) -> int:
-    return 1 + next(i for i, line in enumerate(text.splitlines()) if line.startswith(start))
 
 
 class TestBadInput:

@@ -95,6 +95,11 @@ class StageKind:
     provides_power: ClassVar[bool] = False
     needs_reference: ClassVar[bool] = False
 
+    def needs_reference_for(self, stage: Stage) -> bool:
+        """Whether this stage joins the mid-rail reference (a kind whose variants differ
+        answers per stage)."""
+        return self.needs_reference
+
     def build(self, stage: Stage, wiring: Wiring) -> None:
         """Add the stage's elements to the engine circuit through ``wiring``."""
         raise NotImplementedError

@@ -32,12 +32,12 @@ BIASED_INPUT_ROLES = (
 )
 
 
-def place_biased_input(stage: Stage, wiring, minus: str = "m") -> None:
-    """Input cap to the + input ``p``, its bias resistor to VREF, and the op-amp from ``p``
-    and ``minus`` to its output ``o``."""
+def place_biased_input(stage: Stage, wiring, minus: str = "m", device: str = "opamp") -> None:
+    """Input cap to the + input ``p``, its bias resistor to VREF, and the op-amp (the part in
+    role ``device``) from ``p`` and ``minus`` to its output ``o``."""
     wiring.place(stage.part("input-cap"), "in", "p")
     wiring.place(stage.part("bias"), "p", "vref")
-    wiring.place(stage.part("opamp"), "p", minus, "o", "vcc", "0")
+    wiring.place(stage.part(device), "p", minus, "o", "vcc", "0")
 
 
 def draw_biased_input(sheet: Sheet, stage: Stage) -> None:

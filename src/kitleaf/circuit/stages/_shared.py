@@ -63,6 +63,21 @@ def require_together(stage: Stage, needs: str, needed: str) -> None:
             f"beside it; add a line '{needed}: ...' or drop {part.designator}", part.span)
 
 
+def need_role(stage: Stage, role: str, why: str) -> None:
+    """A role optional in the kind that this stage's variant (``why``) cannot do without."""
+    if stage.part(role) is None:
+        raise CircuitError(f"stage '{stage.id}' ({stage.kind}) {why} needs a '{role}' part; "
+                           f"add a line '{role}: ...'", stage.span)
+
+
+def refuse_role(stage: Stage, role: str, why: str) -> None:
+    """A part in a role this stage's variant has no place for, refused at its line."""
+    part = stage.part(role)
+    if part is not None:
+        raise CircuitError(f"stage '{stage.id}', role '{role}': {why}; drop "
+                           f"{part.designator} or change the stage", part.span)
+
+
 def rheostat(wiring, part: Part | None, a: str, b: str, grows: bool = True) -> None:
     """A pot as a variable resistor from ``a`` to ``b``, its wiper tied to one end.
 
