@@ -35,8 +35,10 @@ class Sheet(Protocol):
             wiper_right: bool = False) -> Point:
         """A pot from ``ccw`` to ``cw``; returns where its wiper arrow starts."""
 
-    def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None) -> None:
-        """A pot used as a variable resistor: its wiper tied to the ``b`` end."""
+    def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None,
+                 grows: bool = True) -> None:
+        """A pot used as a variable resistor, its wiper tied to the ``b`` end: ccw at ``a``
+        when its resistance ``grows`` clockwise, else at ``b`` (as the kind wires it)."""
 
     def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
                    ) -> dict[str, Point]:

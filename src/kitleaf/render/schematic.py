@@ -21,6 +21,8 @@ from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
 from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
+from kitleaf.render.schematic_geometry import junctions
+from kitleaf.render.schematic_record import PORT_NETS, SheetRecord
 from kitleaf.render.schematic_text import (
     ALIGN,
     FONT_SIZE,
@@ -101,6 +103,7 @@ class SchematicSheet:
         # Where a builder could probe: (device, pin) for device pins, ("", net) for nets.
         self.spots: dict[tuple[str, str], Point] = {}
         self._text_boxes: list[Box] = []
+        self.record = SheetRecord()  # what was drawn, as data, for the drawing checker
         self._element_boxes: list[Box] = []  # each element's, without its text, once placed
         self._drawing = adapter.SheetDrawing(canvas="svg", show=False)
         self._drawing.config(unit=3, fontsize=FONT_SIZE, font=FONT, lw=1.4, margin=0.4,
@@ -119,7 +122,11 @@ class SchematicSheet:
         if part.type in ("diode", "led"):
             self.spots.setdefault((part.designator, "anode"), a)
             self.spots.setdefault((part.designator, "cathode"), b)
+        self.record.part(part.designator, part.type, {"a": a, "b": b, "anode": a, "cathode": b})
+        self.record.body(part.designator, a, b)
         polar = part.type == "capacitor" and part.polarised
+        if polar:
+            self.record.plus[part.designator] = 1 if plus == b else 0
         if polar and plus == b:
             a, b = b, a
         kwargs = {"polar": True} if polar else {}
@@ -137,12 +144,18 @@ class SchematicSheet:
         drawn = self._add(drawn.flip() if wiper_right else drawn)
         side = side or default_side(ccw, cw)
         self.label(part_label(part), label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
-        return self.pin(drawn, "pot", "wiper")
+        wiper = self.pin(drawn, "pot", "wiper")
+        self.record.part(part.designator, "pot", {"ccw": ccw, "wiper": wiper, "cw": cw})
+        self.record.body(part.designator, ccw, cw)
+        return wiper
 
-    def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None) -> None:
-        """A pot used as a variable resistor: its wiper tied to the ``b`` end."""
+    def rheostat(self, part: Part, a: Point, b: Point, side: str | None = None,
+                 grows: bool = True) -> None:
+        """A pot used as a variable resistor from ``a`` to ``b``, its wiper tied to the ``b``
+        end: its ccw end at ``a`` when its resistance ``grows`` clockwise, else at ``b``."""
         side = side or default_side(a, b)
-        wiper = self.pot(part, a, b, side, wiper_right=wiper_side(a, b) == side)
+        ccw, cw = (a, b) if grows else (b, a)
+        wiper = self.pot(part, ccw, cw, side, wiper_right=wiper_side(ccw, cw) == side)
         bend = (b[0], wiper[1]) if abs(a[1] - b[1]) < 1e-9 else (wiper[0], b[1])
         self.wire(wiper, bend, b)
 
@@ -179,6 +192,7 @@ class SchematicSheet:
         """A labelled rectangle (a custom stage, or one stage of the kit overview)."""
         x, y = lower_left
         self._add(elm.Rect(corner1=(0, 0), corner2=(width, height)).at((x, y)))
+        self.record.blocks.append((x, y, x + width, y + height))
         self.label("\n".join(lines), (x + width / 2, y + height / 2), "centre")
 
     # -- connections ---------------------------------------------------------------------------
@@ -187,10 +201,12 @@ class SchematicSheet:
         for a, b in zip(points, points[1:], strict=False):
             if a != b:
                 self._add(elm.Line().endpoints(a, b))
+                self.record.wire(a, b)
 
     def dot(self, at: Point) -> None:
         """A junction dot where three or more wires meet."""
         self._add(elm.Dot(radius=0.09).at(at))
+        self.record.dot(at)
 
     def terminal(self, at: Point) -> None:
         """A ground symbol at the bottom of the sheet, a VCC rail at the top, else nothing."""
@@ -201,28 +217,38 @@ class SchematicSheet:
 
     def ground(self, at: Point) -> None:
         self._add(elm.Ground(lead=False).at(at))
+        self.record.name(at, "0")
 
     def rail(self, at: Point, net: str = "vcc") -> None:
         """A supply connection pointing up, labelled with the net's name (VCC, VREF...)."""
         self._add(elm.Vdd(lead=False).at(at))
+        self.record.name(at, net)
         self.spots.setdefault(("", net), at)
         self.label(self.nets.get(net, net.upper()), (at[0], at[1] + 0.35), "above")
 
     def net_label(self, at: Point, net: str, side: str = "below") -> None:
         """A net named at a wire's end without a symbol (a reference fed from elsewhere)."""
         self._add(elm.Dot(radius=0.09).at(at))
+        self.record.name(at, net)
         self.spots.setdefault(("", net), at)
         self.label(self.nets.get(net, net.upper()), nudge(at, side, 0.25), side)
 
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the next or previous stage: an open circle with its name."""
         self._add(elm.Dot(open=True, radius=0.12).at(at))
+        self.record.name(at, PORT_NETS.get(name, name.lower()))
         self.spots.setdefault(("", name.lower()), at)
         self.label(name, nudge(at, side, 0.3), side)
 
     def ring(self, centre: Point, radius: float) -> None:
         """An open circle (a test point's marker)."""
         self._add(elm.Dot(open=True, radius=radius).at(centre).zorder(1))  # under its number
+
+    def leader(self, node: str, at: Point, end: Point, ring: Point) -> None:
+        """A test point's leader from ``at`` on its node to ``end`` at its ring: a line, but
+        no wire of the circuit."""
+        self._add(elm.Line().endpoints(at, end))
+        self.record.leader(node, at, ring)
 
     # -- text ----------------------------------------------------------------------------------
     def part_label(self, part: Part) -> str:
@@ -245,6 +271,7 @@ class SchematicSheet:
             at = (at[0] - LABEL_NUDGE, at[1] - LABEL_NUDGE)
         self._add(elm.Label().at(at).label(text, halign=halign, valign=valign, fontsize=size))
         self._text_boxes.append(text_box(text, at, size, halign, valign))
+        self.record.texts.append((text, self._text_boxes[-1]))
 
     # -- what is drawn ------------------------------------------------------------------------
     def occupied(self) -> list[Box]:
@@ -264,7 +291,15 @@ class SchematicSheet:
 
     def svg(self) -> str:
         """The sheet as an SVG document, byte-identical for the same drawing."""
+        self.mark_junctions()
         return self._drawing.document(self.title)
+
+    def mark_junctions(self) -> None:
+        """A dot wherever three or more lines meet and one ends there (a kind need not know
+        that the next branch will join its wire)."""
+        for at in junctions(self.record):
+            if at not in self.record.dots:
+                self.dot(at)
 
     def _add(self, element: elm.Element) -> elm.Element:
         """Add ``element`` and return it placed: use the returned one, which may be an equal
@@ -281,12 +316,17 @@ class SchematicSheet:
 
 def render_stage_svg(kit_circuit, stage) -> str:
     """The schematic of one stage, drawn by its kind."""
+    return draw_stage(kit_circuit, stage).svg()
+
+
+def draw_stage(kit_circuit, stage) -> SchematicSheet:
+    """The sheet of one stage, drawn by its kind, with its test points marked."""
     sheet = SchematicSheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"})
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 
     mark_test_points(sheet, kit_circuit.kind(stage).test_points(stage))
-    return sheet.svg()
+    return sheet
 
 
 def render_overview_svg(kit_circuit, headline: Mapping[str, str]) -> str:

@@ -28,6 +28,7 @@ def draw_transistor(sheet: SchematicSheet, part: Part, family: str, base: Point,
     """A BJT or JFET with its base or gate at ``base`` (flipped top to bottom if ``mirror``),
     labelled to the right of its pins; every pin is a probe spot."""
     pins, centre = sheet.device(family, base, flip=mirror)
+    sheet.record.part(part.designator, family, pins)
     sheet.spots.update({(part.designator, name): at for name, at in pins.items()})
     sheet.label(part_label(part), (max(p[0] for p in pins.values()) + 0.5, centre[1]), "right")
     return pins
@@ -38,6 +39,7 @@ def draw_opamp(sheet: SchematicSheet, part: Part, non_inv: Point, pin_numbers: M
     """An op-amp with its + input at ``non_inv``, its supply pins led to VCC and ground, and the
     package pin number from ``pin_numbers`` beside each named pin (each a probe spot)."""
     pins, _ = sheet.device("opamp", non_inv, pin="non_inv")
+    sheet.record.part(part.designator, "opamp", pins)
     top, bottom = pins["vpos"], pins["vneg"]
     sheet.wire(top, (top[0], top[1] + SUPPLY_LEAD))
     sheet.rail((top[0], top[1] + SUPPLY_LEAD))

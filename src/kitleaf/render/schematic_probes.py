@@ -34,7 +34,7 @@ def mark_test_points(sheet: SchematicSheet, test_points: Sequence) -> None:
     for number, tp in enumerate(test_points, 1):
         at = sheet.spots.get(spot_key(tp))
         if at is not None:
-            _marker(sheet, at, str(number), _free_place(sheet, at))
+            _marker(sheet, tp.node, at, str(number), _free_place(sheet, at))
     _legend(sheet, [f"{n} {_legend_label(tp, sheet)}" for n, tp in enumerate(test_points, 1)])
 
 
@@ -68,10 +68,10 @@ def _meets(a, b) -> bool:
     return a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3]
 
 
-def _marker(sheet: SchematicSheet, at: Point, number: str, centre: Point) -> None:
+def _marker(sheet: SchematicSheet, node: str, at: Point, number: str, centre: Point) -> None:
     dx, dy = centre[0] - at[0], centre[1] - at[1]
     reach = 1 - RADIUS / math.hypot(dx, dy)
-    sheet.wire(at, (round(at[0] + dx * reach, 4), round(at[1] + dy * reach, 4)))
+    sheet.leader(node, at, (round(at[0] + dx * reach, 4), round(at[1] + dy * reach, 4)), centre)
     sheet.ring(centre, RADIUS)
     sheet.text(number, centre, size=FONT_SIZE * 0.7, side="centre", exact=True)
 

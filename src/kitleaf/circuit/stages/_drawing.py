@@ -140,7 +140,7 @@ def _draw_bypass(sheet: Sheet, d: TransistorDrawing, lower: Point) -> None:
 def _chain_part(sheet: Sheet, part: Part, a: Point, b: Point, side: str | None = None,
                 plus: Point | None = None) -> None:
     if part.type == "pot":
-        sheet.rheostat(part, a, b, side=side)
+        sheet.rheostat(part, a, b, side=side, grows=False)  # the gain pot: clockwise, more gain
     else:
         sheet.part(part, a, b, side=side, plus=plus)
 
@@ -170,7 +170,7 @@ def draw_volume_out(sheet: Sheet, volume: Part | None, at: Point, x: float,
         sheet.dot(column)
         sheet.part(pulldown, column, (column[0], GROUND_Y), side="right")
         sheet.ground((column[0], GROUND_Y))
-        # the pot's label (on its left) stays clear of the pulldown's (on its right)
+        # the volume pot's label (left of it) clear of the pulldown's (right of it)
         room = sheet.label_room(pulldown) + (sheet.label_room(volume) if volume else 0.0)
         at, x = column, max(x, column[0] + 2.4, column[0] + room + 0.4)
     if series is not None:

@@ -53,6 +53,7 @@ def draw_biased_input(sheet: Sheet, stage: Stage) -> None:
 
 PLUS_Y = 8.0  # the + input's row; the - input sits 1.25 below it
 ROW_GAP = 1.6  # between the parallel rows of the feedback network
+TIE_ROOM = 0.6  # between a pot's tied end and the wire down the row's end
 
 
 def feedback_rows(stage: Stage, with_gain: bool) -> list[list[Part]]:
@@ -78,7 +79,9 @@ def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Seq
     right = max(pins["out"][0] + 0.6, minus[0] + width)
     for i, row in enumerate(rows):
         y = row_y(pins, i)
-        _row(sheet, row, (minus[0], y), (right, y))
+        ends = ((minus[0], y), (right, y))
+        # drawn as the kinds wire them: resistor and pot from the - input, the cap from the output
+        _row(sheet, row, *(ends[::-1] if row[0].type == "capacitor" else ends))
     bottom_y = row_y(pins, len(rows) - 1)
     sheet.wire(minus, (minus[0], bottom_y))
     sheet.wire(pins["out"], (right, pins["out"][1]), (right, bottom_y))
@@ -103,7 +106,14 @@ def _shown_pins(opamp: Part) -> dict[str, str]:
 
 
 def _row(sheet: Sheet, row: Sequence[Part], start, end) -> None:
-    """Parts in series along one feedback row, labelled below so the op-amp stays clear."""
+    """Parts in series along one feedback row, labelled below so the op-amp stays clear.
+
+    A pot ending the row stops short of its end, so its wiper's tie drops beside the wire
+    that runs down there, not along it."""
+    if row[-1].type == "pot":
+        short = (end[0] - TIE_ROOM * (1 if end[0] > start[0] else -1), end[1])
+        sheet.wire(short, end)
+        end = short
     step = (end[0] - start[0]) / len(row)
     for i, part in enumerate(row):
         a, b = (start[0] + step * i, start[1]), (start[0] + step * (i + 1), start[1])
@@ -119,7 +129,7 @@ def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom) -> None:
     for i, part in enumerate(leg):
         a, b = (top[0], top[1] - step * i), (top[0], top[1] - step * (i + 1))
         if part.type == "pot":
-            sheet.rheostat(part, a, b, side="right")
+            sheet.rheostat(part, a, b, side="right", grows=False)  # clockwise, more gain
         else:
             sheet.part(part, a, b, side="right")
     sheet.ground(bottom)

@@ -55,8 +55,7 @@ def _branch(sheet: Sheet, rail_end: float, x_new: float, parts) -> tuple[float, 
     """Parts in series from the rail at ``x_new`` down to ground.
 
     Returns where the rail now ends and the next free column."""
-    sheet.wire((rail_end, RAIL), (x_new, RAIL))
-    sheet.dot((x_new, RAIL))
+    sheet.wire((rail_end, RAIL), (x_new, RAIL))  # the sheet dots it once another branch joins
     step = (RAIL - GROUND_Y) / len(parts)
     for i, part in enumerate(parts):
         sheet.part(part, (x_new, RAIL - step * i), (x_new, RAIL - step * (i + 1)), side="right")

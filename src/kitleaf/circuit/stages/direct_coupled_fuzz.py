@@ -198,7 +198,7 @@ class FuzzDrawing:
         for i, p in enumerate(chain):
             a, b = self.at(x, 4.9 - step * i), self.at(x, 4.9 - step * (i + 1))
             if p.type == "pot":
-                sheet.rheostat(p, a, b, side="right")
+                sheet.rheostat(p, a, b, side="right", grows=False)  # clockwise, more gain
             else:
                 sheet.part(p, a, b, side="right", plus=b if self.mirrored else a)
         sheet.terminal(self.at(x, GROUND_Y))

@@ -64,7 +64,7 @@ class OpampSoftClip(OpampKind):
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
         place_biased_input(stage, wiring)
-        series(wiring, [(part("feedback"), True), (part("gain"), True)], "o", "m", "fb")
+        series(wiring, [(part("feedback"), True), (part("gain"), True)], "m", "o", "fb")
         wiring.place(part("feedback-cap"), "o", "m")
         knee = "k" if part("clip-series") else "o"
         wiring.place(part("clip-series"), "o", "k")
@@ -112,8 +112,8 @@ def draw_clip_rows(sheet: Sheet, stacks: list[tuple[tuple[Part, ...], bool]],
     sheet.wire((right, top), (right, ys[0]))
     for (stack, anode_right), y in zip(stacks, ys, strict=True):
         step = (bus - left) / len(stack)
-        for i, diode in enumerate(stack):
-            a, b = (left + step * i, y), (left + step * (i + 1), y)
+        for i, diode in enumerate(stack):  # the first diode of a stack at the knee's end
+            a, b = (bus - step * (i + 1), y), (bus - step * i, y)
             sheet.part(diode, *((b, a) if anode_right else (a, b)), side="below")
     if series_part is not None:
         sheet.part(series_part, (right, ys[0]), (bus, ys[0]), side="below")

@@ -9,6 +9,8 @@ jack from loading the follower itself.
 
 from __future__ import annotations
 
+from types import MappingProxyType
+
 from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.parts import Part
@@ -27,8 +29,6 @@ from kitleaf.circuit.stages._shared import (
 )
 from kitleaf.circuit.stages.common_emitter import transistor_rails
 
-TRANSISTOR_ROLES = ("bias-top", "bias-bottom", "emitter")
-OPAMP_ROLES = ("bias",)
 ROLES = (
     capacitor_role("input-cap", "coupling capacitor from the stage input to the follower"),
     Role("follower", ("bjt", "opamp"),
@@ -58,6 +58,11 @@ class OutputBuffer(StageKind):
     name = "output-buffer"
     summary = "output buffer: an emitter follower or an op-amp follower, a series resistor"
     roles = ROLES
+    variant_role = "follower"
+    variant_roles = MappingProxyType({"bjt": ("bias-top", "bias-bottom", "emitter"),
+                                      "opamp": ("bias",)})
+    VARIANT_NAMES = MappingProxyType({"bjt": "a transistor follower",
+                                      "opamp": "an op-amp follower"})
 
     def needs_reference_for(self, stage: Stage) -> bool:
         return is_opamp(stage)
@@ -82,13 +87,13 @@ class OutputBuffer(StageKind):
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "follower", ("npn", "pnp", "opamp"))
-        used, other, variant = ((OPAMP_ROLES, TRANSISTOR_ROLES, "an op-amp follower")
-                                if is_opamp(stage) else
-                                (TRANSISTOR_ROLES, OPAMP_ROLES, "a transistor follower"))
-        for role in used:
+        mine = stage.part("follower").type
+        variant = self.VARIANT_NAMES[mine]
+        for role in self.variant_roles[mine]:
             need_role(stage, role, f"as {variant}")
-        for role in other:
-            refuse_role(stage, role, f"{variant} has no '{role}'")
+        for other, roles in self.variant_roles.items():
+            for role in roles if other != mine else ():
+                refuse_role(stage, role, f"{variant} has no '{role}'")
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         device = stage.part("follower")
