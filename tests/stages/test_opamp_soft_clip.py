@@ -15,7 +15,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_stage
+from tests.stages.spice_oracle import check_large_signal, check_stage
 
 from kitleaf.engine import solve_batch
 from kitleaf.engine.periodic import periodic_steady_state
@@ -117,3 +117,23 @@ def test_every_figure_agrees_with_ngspice(clip):
     block = drive("gain: VR1 A500k", "feedback-cap: C4 100p", "volume: VR2 A100k", clip=clip)
     kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"))
     check_stage(kit, specs, "drive")
+
+
+# Quick coupling (a few milliseconds) so that ngspice's transient settles.
+QUICK = stage_block("drive", "opamp-soft-clip", "input-cap: C1 22n film", "bias: R1 100k",
+                    "opamp: U1A TL072", "feedback: R2 10k", "gain: VR1 B100k",
+                    "gain-resistor: R3 1k", "gain-cap: C2 1u film", "output-cap: C3 100n",
+                    "pulldown: R5 100k")
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("clip", [
+    DIODES,
+    ("clip-series: R4 2k2", "clip-positive: D1 1N4148", "clip-positive: D3 1N4148",
+     "clip-negative: LED1 red"),
+], ids=["silicon-pair", "series-resistor-asymmetric"])
+def test_clipping_agrees_with_ngspice(clip):
+    block = QUICK.replace("pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *clip)))
+    kit = make_kit(POWER, block, load="100k")
+    for position in (0.0, 1.0):
+        check_large_signal(kit, {"VR1": position}, "drive.o", (0.05, 0.5))
