@@ -29,6 +29,7 @@ LAYERS: tuple[tuple[str, ...], ...] = (
     ("specs",),
     ("bom",),
     ("faults",),
+    ("audio",),
     ("render",),
     ("site",),
     ("commands",),
@@ -39,6 +40,7 @@ RANK = {name: rank for rank, layer in enumerate(LAYERS) for name in layer}
 OWNERS = {
     "schemdraw": {"kitleaf.render.schematic", "kitleaf.render.schemdraw_adapter"},
     "matplotlib": {"kitleaf.render.plot"},
+    "soundfile": {"kitleaf.audio.encode"},
 }
 
 

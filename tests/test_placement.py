@@ -50,7 +50,8 @@ def test_the_makers_introduction_comes_first_then_the_sections_before_the_body()
 
 def test_a_placed_section_stands_where_the_maker_put_it_and_the_rest_keep_their_defaults():
     names = [c for k, c, _ in order(GUIDE) if k in ("stage", "section")]
-    assert names == ["glance", "checks", "cautions", "boost", "voltages", "level", "faults"]
+    assert names == ["glance", "checks", "cautions", "boost", "voltages", "level", "wiring",
+                     "faults"]
 
 
 def test_a_stage_right_after_a_makers_heading_takes_it_as_its_own():
@@ -71,7 +72,7 @@ def test_a_wrong_marker_is_a_located_error(marker, message):
 
 
 def test_every_section_has_a_template():
-    assert set(SECTIONS) == {"glance", "checks", "cautions", "voltages", "faults"}
+    assert set(SECTIONS) == {"glance", "checks", "cautions", "wiring", "voltages", "faults"}
 
 
 # Two headings with nothing but closing and opening tags between them (common practice, no

@@ -63,6 +63,13 @@ def gain_at(kit: KitCircuit, freq: float, node: str = "output", positions=None) 
     return complex(ac.transfer(node)[0])
 
 
+def response(kit: KitCircuit, freqs: np.ndarray, positions=None) -> np.ndarray:
+    """The kit's complex gain from its input jack to its output jack at ``freqs``."""
+    circuit = kit.netlist(positions)
+    ac = solve_ac(circuit, solve_dc(circuit), freqs, source="VIN")
+    return ac.transfer("output") / ac.transfer("input")
+
+
 def dc_at(kit: KitCircuit, node: str, positions=None) -> float:
     return solve_dc(kit.netlist(positions)).voltage(node)
 
@@ -166,57 +173,75 @@ vol
 kind: volume
 volume: VR5 A100k
 ===
+stack
+kind: tone-stack
+treble-cap: C40 220p
+slope: R40 47k
+treble: VR40 A250k
+bass-cap: C41 22n
+bass: VR41 A1M
+mid-cap: C42 22n
+mid: VR42 B25k
+===
+blend
+kind: tone-blend
+low-resistor: R43 39k
+low-cap: C43 10n
+high-cap: C44 4n7
+high-resistor: R44 22k
+tone: VR43 B100k
+===
 softclip
 kind: opamp-soft-clip
-input-cap: C40 100n
-bias: R40 1M
+input-cap: C140 100n
+bias: R140 1M
 opamp: U2A TL072
-feedback: R41 10k
-gain: VR40 A500k
-feedback-cap: C41 100p
-clip-series: R42 1k
-clip-positive: D40 1N4148
-clip-negative: D41 1N4148
-clip-negative: D42 1N4148
-gain-resistor: R43 4k7
-gain-cap: C42 1u
-output-cap: C43 1u
-pulldown: R44 1M
-volume: VR41 A100k
+feedback: R141 10k
+gain: VR140 A500k
+feedback-cap: C141 100p
+clip-series: R142 1k
+clip-positive: D140 1N4148
+clip-negative: D141 1N4148
+clip-negative: D142 1N4148
+gain-resistor: R143 4k7
+gain-cap: C142 1u
+output-cap: C143 1u
+pulldown: R144 1M
+volume: VR141 A100k
 ===
 fuzz
 kind: direct-coupled-fuzz
-input-cap: C50 2u2
-input-transistor: Q50 2N5088
-input-collector: R50 33k
-output-transistor: Q51 2N5088
-output-collector: R51 8k2
-output-emitter: R52 1k
-feedback: R53 100k
-gain: VR50 B1k
-bypass-cap: C51 22u electrolytic
-output-cap: C52 100n
-pulldown: R54 1M
-volume: VR51 A500k
+input-cap: C150 2u2
+input-transistor: Q150 2N5088
+input-collector: R150 33k
+output-transistor: Q151 2N5088
+output-collector: R151 8k2
+output-emitter: R152 1k
+feedback: R153 100k
+gain: VR150 B1k
+bypass-cap: C151 22u electrolytic
+output-cap: C152 100n
+pulldown: R154 1M
+volume: VR151 A500k
 ===
 jbuf
 kind: jfet-source-follower
-input-cap: C55 100n
-gate: R55 10M
-bias-top: R56 1M
-bias-bottom: R57 1M
-transistor: Q55 2N5457
-drain: R58 100R
-source: R59 10k
-output-cap: C56 10u
-pulldown: R60 1M
+input-cap: C155 100n
+gate: R155 10M
+bias-top: R156 1M
+bias-bottom: R157 1M
+transistor: Q155 2N5457
+drain: R158 100R
+source: R159 10k
+output-cap: C156 10u
+pulldown: R160 1M
 ===
 outbuf
 kind: output-buffer
-input-cap: C60 1u
+input-cap: C160 1u
 follower: U2B TL072
-bias: R61 1M
-output-cap: C61 10u
-pulldown: R62 100k
-output-resistor: R63 470R
+bias: R161 1M
+output-cap: C161 10u
+pulldown: R162 100k
+output-resistor: R163 470R
 """.split("===\n"))

@@ -13,6 +13,7 @@ from kitleaf.circuit.chain import (
     SignalSource,
     input_meter,
 )
+from kitleaf.circuit.harness import build_harness
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.circuit.resolve import resolve_stage
@@ -41,6 +42,7 @@ def build_circuit(guide: Guide) -> KitCircuit:
         supply_v=_volts(guide.kit.supply, guide.kit.supply_span or guide.kit.span),
     )
     _check_dc_paths(kit)
+    build_harness(guide, kit)  # read now, so a wiring mistake is named by every command
     return kit
 
 

@@ -120,6 +120,11 @@ class KitCircuit:
         return tuple(s for s in self.stages if KINDS[s.kind].signal)
 
     @property
+    def supply_label(self) -> str:
+        """The supply terminal's name on the schematic and on the board's pad: '+9 V'."""
+        return f"+{self.supply_v:g} V"
+
+    @property
     def has_power_stage(self) -> bool:
         return any(KINDS[s.kind].provides_power for s in self.stages)
 

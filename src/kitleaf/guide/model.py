@@ -86,6 +86,7 @@ class KitBlock:
     span: SourceSpan
     supply_span: SourceSpan | None = None  # the 'supply:' line
     code_span: SourceSpan | None = None  # the 'code:' line
+    bypass: Entry | None = None  # how the footswitch wires the kit in and out of the signal
 
 
 @dataclass(frozen=True)

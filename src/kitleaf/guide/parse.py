@@ -17,10 +17,11 @@ from kitleaf.guide.source import checked_text, read_text
 
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
-    "source", "load", "order", "battery", "battery-life", "claim", "allow",
+    "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
-SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life")
+SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
+               "bypass")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
 EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
@@ -115,7 +116,7 @@ def read_kit(block: Block) -> KitBlock:
         knobs=read_knobs(block.all("knob")),
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
-        source=once["source"], load=once["load"], order=once["order"],
+        source=once["source"], load=once["load"], order=once["order"], bypass=once["bypass"],
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
         span=block.span, supply_span=value["supply"].span, code_span=value["code"].span,
     )

@@ -4,8 +4,8 @@ A paragraph that is only ``{@name}`` places the computed section ``name`` there 
 :data:`SECTIONS`); a plain Markdown viewer shows the marker as written. Unplaced sections take
 their default places: the maker's introduction (the prose before its first heading or block)
 comes first, then the kit at a glance, the checks and the cautions, then the rest of the guide,
-then the voltage table and the fault finder. A stage or section right after a maker's heading
-takes that heading as its own, so no two headings stand in a row.
+then the off-board wiring, the voltage table and the fault finder. A stage or section right
+after a maker's heading takes that heading as its own, so no two headings stand in a row.
 """
 
 from __future__ import annotations
@@ -24,7 +24,7 @@ from kitleaf.render.prose import Piece, register_plugin
 # Section name -> its template, in default order; the first three stand before the guide's
 # body, the others after it.
 SECTIONS = {"glance": "_kit_specs.html", "checks": "_claims.html",
-            "cautions": "_cautions.html", "voltages": "_voltages.html",
+            "cautions": "_cautions.html", "wiring": "_wiring.html", "voltages": "_voltages.html",
             "faults": "_symptoms.html"}
 BEFORE_BODY = ("glance", "checks", "cautions")
 TOKEN = "section_place"

@@ -321,7 +321,7 @@ def render_stage_svg(kit_circuit, stage) -> str:
 
 def draw_stage(kit_circuit, stage) -> SchematicSheet:
     """The sheet of one stage, drawn by its kind, with its test points marked."""
-    sheet = SchematicSheet(stage.title, nets={"supply": f"+{kit_circuit.supply_v:g} V"})
+    sheet = SchematicSheet(stage.title, nets={"supply": kit_circuit.supply_label})
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 

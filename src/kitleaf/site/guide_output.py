@@ -14,6 +14,7 @@ from urllib.parse import quote
 from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.harness import build_harness
 from kitleaf.faults.report import unsolved_text
 from kitleaf.faults.solve import solve_faults
 from kitleaf.faults.symptoms import page_data, symptom_rows
@@ -27,6 +28,8 @@ from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
+from kitleaf.render.wiring_list import wiring_rows
+from kitleaf.render.wiring_svg import render_wiring_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
@@ -48,6 +51,10 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
     files[f"{slug}/overview.svg"] = overview
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
+    harness = build_harness(guide, kit)
+    if harness is not None:
+        files[f"{slug}/wiring.svg"] = render_wiring_svg(
+            harness, f"Off-board wiring of {guide.kit.title}").encode()
     checks = verify(guide, kit, specs)  # a broken claim stops the guide here
     env = theme_environment(tuple(themes))
     context = {
@@ -58,6 +65,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
         "bom_headings": dict(BUILD_ORDER),
         "symptoms": cached_symptoms(cache, kit),
+        "harness": harness, "wiring_rows": wiring_rows(harness) if harness else (),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)

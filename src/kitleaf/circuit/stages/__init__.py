@@ -25,7 +25,9 @@ MODULES = (
     "opamp_spare",
     "output_buffer",
     "power",
+    "tone_blend",
     "tone_cut",
+    "tone_stack",
     "volume",
 )
 
