@@ -20,6 +20,7 @@ from tests.stages.spice_oracle import check_large_signal, check_stage
 from kitleaf.engine import solve_batch
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.errors import CircuitError
+from kitleaf.render.specs_text import specs_to_text
 
 DIODES = ("clip-positive: D1 1N4148", "clip-negative: D2 1N4148")
 
@@ -76,6 +77,15 @@ def test_leds_clip_later_than_silicon_diodes():
     # (about 1.6-1.8 V against 0.6-0.7 V; common practice, no source)
     leds = drive("gain: VR1 B100k", clip=("clip-positive: LED1 red", "clip-negative: LED2 red"))
     assert peak_out(leds, 0.5) > 2 * peak_out(drive("gain: VR1 B100k"), 0.5)
+
+
+def test_its_gain_is_shown_as_a_small_signal_figure():
+    kit, specs = specs_of(POWER, drive(), stage_block("tone", "low-pass", "series-resistor: R9 1k",
+                                                       "shunt-cap: C9 1n"))
+    assert [s.clips for s in specs.stages] == [False, True, False] and specs.clips
+    text = specs_to_text(specs)
+    assert "  small-signal gain  " in text and "    small-signal gain " in text
+    assert "    gain at 1 kHz    " in text  # the low-pass after it does not clip
 
 
 def test_test_points_are_the_opamp_pins():

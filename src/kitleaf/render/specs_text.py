@@ -9,7 +9,7 @@ from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
-             f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
+             f"  {_gain_words(specs.clips) + ' ':<19}{range_text(specs.gain_db, 'db')}",
              *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
@@ -21,12 +21,17 @@ def specs_to_text(specs: KitSpecs) -> str:
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines.append(f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}")
+            lines.append(f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}")
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
             lines.append(f"    {v.label:<16} {readings}")
     return "\n".join(lines)
+
+
+def _gain_words(clips: bool) -> str:
+    """A clipping stage's gain holds for small signals only, and says so."""
+    return "small-signal gain" if clips else "gain at 1 kHz"
 
 
 def _knobs(point: KnobPoint) -> str:

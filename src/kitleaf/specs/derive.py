@@ -117,6 +117,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
+        clips=any(s.clips for s in stages),
     )
 
 
@@ -150,6 +151,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         headroom=stage_headroom(solved, (stage,), node_out),
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
+        clips=kit.kind(stage).clips,
     )
 
 

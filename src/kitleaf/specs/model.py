@@ -107,6 +107,8 @@ class StageSpecs:
     band_high: tuple[float, ...] = ()
     # The stage alone (low-Z source, 1 MΩ load) against in its place: see specs/loading.py.
     loading: Comparison | None = None
+    # The stage clips by design: its gain figures hold for small signals only.
+    clips: bool = False
 
 
 @dataclass(frozen=True)
@@ -136,6 +138,7 @@ class KitSpecs:
     band_high: tuple[float, ...] = ()
     supplies: tuple[Supply, ...] = ()
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
+    clips: bool = False  # a stage clips by design: the gain figures hold for small signals
     samples: int = 0
     seed: int = 0
     # The gain (nominal parts) with the knobs together at the ends of their travel:

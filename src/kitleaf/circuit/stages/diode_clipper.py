@@ -32,6 +32,7 @@ class DiodeClipper(StageKind):
     name = "diode-clipper"
     summary = "hard clipping: series resistor, diode stacks from the output to ground"
     roles = ROLES
+    clips = True
 
     def build(self, stage: Stage, wiring) -> None:
         cap = stage.part("input-cap")

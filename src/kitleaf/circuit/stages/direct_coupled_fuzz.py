@@ -52,6 +52,7 @@ class DirectCoupledFuzz(StageKind):
     name = "direct-coupled-fuzz"
     summary = "two-transistor fuzz: direct-coupled pair, DC feedback from the second emitter"
     roles = ROLES
+    clips = True
 
     def build(self, stage: Stage, wiring) -> None:
         collector_rail, emitter_rail = transistor_rails(is_flipped(stage, "input-transistor"))

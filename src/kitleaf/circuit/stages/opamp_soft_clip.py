@@ -60,6 +60,7 @@ class OpampSoftClip(OpampKind):
     name = "opamp-soft-clip"
     summary = "op-amp drive with diodes or LEDs across the feedback: soft clipping"
     roles = ROLES
+    clips = True
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
