@@ -24,6 +24,10 @@ PREFIX = {"resistor": "R", "capacitor": "C", "inductor": "L", "pot": "VR", "diod
           "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U"}
 FLAVOURS = ("npn-film", "pnp-electrolytic")
 VOLUME = stage_block("vol", "volume", "volume: VR99 A100k")
+# After a stage whose output carries its DC (an option leaving out its output roles): a
+# stage that takes its input through a cap.
+CAP_LOAD = stage_block("vol", "high-pass", "series-cap: C99 100n film",
+                       "shunt-resistor: R99 100k")
 
 
 @dataclass(frozen=True)
@@ -51,11 +55,19 @@ def variants() -> Iterator[Variant]:
             continue
         for flavour, flavour_name in enumerate(FLAVOURS):
             for name, roles, options, types in kind_role_sets(kind):
+                left_out = _left_out(kind, options)
                 block = stage_block("stage", kind.name, *options,
-                                    *part_lines(kind, roles, flavour, types))
+                                    *part_lines(kind, roles - left_out, flavour, types))
                 blocks = (block, VOLUME) if kind.provides_power else (
+                    (POWER, block, CAP_LOAD) if left_out else
                     (POWER, block) if kind.signal else (POWER, block, VOLUME))
                 yield Variant(kind.name, f"{flavour_name}-{name}", blocks)
+
+
+def _left_out(kind: StageKind, options: tuple[str, ...]) -> set[str]:
+    """The roles the chosen options leave no place for."""
+    chosen = dict(line.split(": ", 1) for line in options)
+    return {role for o in kind.options for role in o.excluded(chosen[o.name])}
 
 
 def kind_role_sets(kind: StageKind

@@ -282,3 +282,20 @@ def test_equal_elements_are_placed_once_and_the_table_stays_bounded(monkeypatch)
     assert len(schemdraw_adapter.PLACED) == 1
     SchematicSheet().wire((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 2.0))  # three new, room for one
     assert len(schemdraw_adapter.PLACED) == 2
+
+
+def test_a_switch_pole_shows_its_contacts_and_rests_on_its_first_position():
+    from kitleaf.circuit.partline import read_part
+    from kitleaf.errors import SourceSpan
+    from kitleaf.guide.model import Entry
+
+    part = read_part(Entry("clip-switch", "S1 DPDT on-off-on", SourceSpan("g.md", 3)),
+                     ("switch",), "here")
+    sheet = SchematicSheet()
+    sheet.switch(part, 1, (0.0, 5.0), [(1.0, 5.5), (1.0, 4.5)])
+    sheet.switch(part, 2, (0.0, 2.0), [(1.0, 2.5), None])
+    svg = sheet.svg()
+    assert svg.count("<circle") == 5  # two commons, three wired throws
+    assert svg.count("<path") == 2  # a lever a pole
+    assert [t for t, _ in texts(svg)].count("S1") == 1  # one label for both poles
+    assert "DPDT on-off-on" in svg

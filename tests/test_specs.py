@@ -158,6 +158,17 @@ def test_text_uses_the_trade_units():
     assert "e-0" not in text  # no raw floats
 
 
+def test_text_gives_each_signal_stage_its_corners_and_impedances():
+    from kitleaf.display import range_text
+    _, _, specs = solved("heron-opamp-boost")
+    text = specs_to_text(specs)
+    gain = next(s for s in specs.stages if s.id == "gain")
+    block = text[text.index("stage gain"):text.index("stage level")]
+    assert f"low corner       {range_text(gain.low_corner_hz, 'frequency')}" in block
+    assert f"output impedance {range_text(gain.output_impedance, 'resistance')}" in block
+    assert "corner" not in text[text.index("stage power"):text.index("stage gain")]
+
+
 def test_an_engine_error_is_placed_at_the_part_it_names(monkeypatch):
     # A solve that fails inside derive_specs must still point at the guide line of its part.
     from pathlib import Path

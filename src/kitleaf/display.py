@@ -72,10 +72,53 @@ def percent(fraction: float) -> str:
     return f"{round(fraction * 100):d} %"
 
 
+def setting(name: str, position: float | str) -> str:
+    """A knob's or a switch's setting in words: "Level at 50 %", "Clip set to LEDs"."""
+    if isinstance(position, str):
+        return f"{name} set to {position}"
+    return f"{name} at {percent(position)}"
+
+
+def settings(positions) -> str:
+    """Several settings, as a table row names them: "Level at 50 %, Clip set to LEDs"."""
+    return ", ".join(setting(name, position) for name, position in positions)
+
+
+def at_rest(switches) -> str:
+    """Where the controls stay while another is swept (``KitSpecs.switches``): "knobs at
+    half way" and each switch at its first position."""
+    return ", ".join(["knobs at half way"] + [setting(name, positions[0])
+                                              for name, _, positions in switches])
+
+
+def trim_instruction(trim) -> str:
+    """The bench step that sets a trimmer (a specs ``Trim``): "Turn TR1 until Q1 drain
+    (point 2 of Boost) reads 4.50 V."."""
+    return (f"Turn {trim.designator} until {trim.label} (point {trim.number} of "
+            f"{trim.stage_title}) reads {meter_volts(trim.volts)}.")
+
+
+def trim_travel(trim) -> str:
+    """Where the trimmer ends up, nominal and over the tolerance builds, in words."""
+    p = trim.position
+    words = f"With nominal parts it sits at {percent(p.nominal)} of its travel clockwise"
+    if p.low is not None and p.high is not None:
+        low, high = percent(p.low).removesuffix(" %"), percent(p.high)
+        words += f"; builds within part tolerances need {low}–{high}"
+    if trim.out_of_reach > 0.0:
+        words += (f"; in {max(1, round(trim.out_of_reach * 100))} % of builds it runs out of "
+                  "travel before getting there")
+    return words + "."
+
+
 # Every number a page shows goes through one of these (the templates' filters, by name).
 FORMATTERS: dict[str, Callable[..., str]] = {
     "si": si,
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "settings": settings,
+    "trim_instruction": trim_instruction,
+    "at_rest": at_rest,
+    "trim_travel": trim_travel,
 }

@@ -40,6 +40,12 @@ class Sheet(Protocol):
         """A pot used as a variable resistor, its wiper tied to the ``b`` end: ccw at ``a``
         when its resistance ``grows`` clockwise, else at ``b`` (as the kind wires it)."""
 
+    def switch(self, part: Part, pole: int, common: Point,
+               throws: Sequence[Point | None]) -> None:
+        """Pole ``pole`` (1, 2...) of a switch: open contacts at its common and at each throw
+        (None: a throw wired to nothing), the lever resting where the switch's first position
+        puts it; the first pole carries the label."""
+
     def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
                    ) -> dict[str, Point]:
         """A BJT (npn/pnp) or JFET (njf/pjf) with its base or gate at ``base``; its pins by

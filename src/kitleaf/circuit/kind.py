@@ -10,6 +10,7 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Entry
+from kitleaf.guide.slug import slug_for
 
 if TYPE_CHECKING:  # the wiring context lives in chain.py, which imports this module
     from kitleaf.circuit.chain import Wiring
@@ -36,6 +37,12 @@ class Option:
     choices: tuple[str, ...]
     default: str
     help: str = ""
+    # (choice, roles it leaves no place for): a stage making that choice gives none of them.
+    excludes: tuple[tuple[str, tuple[str, ...]], ...] = ()
+
+    def excluded(self, choice: str) -> tuple[str, ...]:
+        """The roles ``choice`` leaves no place for."""
+        return dict(self.excludes).get(choice, ())
 
 
 @dataclass(frozen=True)
@@ -48,6 +55,15 @@ class TestPoint:
     node: str
     device: str = ""
     pin: str = ""
+
+
+def point_name(device: str, pin: str, node: str) -> str:
+    """A test point's name in claims, prose and ``trim:`` lines (after its stage id):
+    ``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
+    if not device:
+        return slug_for(node)
+    pin = f"pin{pin}" if pin.isdigit() else slug_for(pin)
+    return f"{device.lower()}.{pin}"
 
 
 @dataclass(frozen=True)
@@ -65,6 +81,8 @@ class Stage:
     # ``claim:`` and ``allow:`` lines, which every kind takes (kitleaf.specs.claims and .rules).
     claims: tuple[Entry, ...] = ()
     allows: tuple[Entry, ...] = ()
+    # ``trim:`` lines: a trimmer and the test-point voltage it is set to (circuit/trim.py).
+    trims: tuple[Entry, ...] = ()
 
     def part(self, role: str) -> Part | None:
         """The single part playing ``role``, or None if the optional role is empty."""

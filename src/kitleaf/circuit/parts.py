@@ -15,11 +15,13 @@ PART_QUANTITY: Mapping[str, str | None] = MappingProxyType(
         "capacitor": "capacitance",
         "inductor": "inductance",
         "pot": "resistance",
+        "trimmer": "resistance",
         "diode": None,
         "led": None,
         "bjt": None,
         "jfet": None,
         "opamp": None,
+        "switch": None,
         "hardware": None,
     }
 )

@@ -13,8 +13,9 @@ from kitleaf.circuit.stages import KINDS
 from kitleaf.errors import CircuitError
 from kitleaf.guide.model import Entry, StageBlock
 
-# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules.
-GENERIC_KEYS = ("claim", "allow")
+# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules,
+# the set-up targets of its trimmers.
+GENERIC_KEYS = ("claim", "allow", "trim")
 
 
 def kind_of(block: StageBlock) -> StageKind:
@@ -72,7 +73,8 @@ def resolve_stage(block: StageBlock) -> Stage:
                   MappingProxyType(chosen), block.span,
                   MappingProxyType({k: tuple(v) for k, v in extra.items()
                                     if k not in GENERIC_KEYS}),
-                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())))
+                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())),
+                  trims=tuple(extra.get("trim", ())))
     kind.check(stage)
     return stage
 

@@ -22,7 +22,7 @@ from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
 from kitleaf.engine.ports import PoleResidue, modal, port_form
-from kitleaf.engine.reduce import partition, solve_reduced
+from kitleaf.engine.reduce import Reduced, partition, reduce_problem, solve_reduced
 from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
 from kitleaf.errors import SolveError
 
@@ -44,6 +44,8 @@ class BatchResult:
     vstar: list | None = field(default=None, repr=False, compare=False)
     # a nominal batch's reduced Jacobian, for the first step of samples started from it
     chord: np.ndarray | None = field(default=None, repr=False, compare=False)
+    # the DC reduction of ``problem`` when Newton made one (the AC response reuses it)
+    reduced: Reduced | None = field(default=None, repr=False, compare=False)
 
     @property
     def size(self) -> int:
@@ -156,8 +158,20 @@ class BatchResult:
         pole-residue form, checked per sample at ``check_hz``; call it with frequencies."""
         rows = list(range(len(self.layout.nodes))) if rows is None else rows
         ports = port_form(self.system, partition(self.system), self.problem, self.x,
-                          self.factors, rhs[None, :], rows)
+                          self.factors, rhs[None, :], rows, self._reduction)
         return modal(ports, check_hz)
+
+    @cached_property
+    def _reduction(self) -> Reduced | None:
+        """The DC reduction (G_LL eliminated once), from Newton or made here: the response
+        then works on the device rows and never forms an n x n matrix per sample."""
+        part = partition(self.system)
+        if self.reduced is not None or part is None or not self.problem.devices.banks:
+            return self.reduced
+        try:
+            return reduce_problem(self.problem, part)
+        except SolveError:
+            return None
 
 
 def solve_batch(circuit, samples: int | None = None, seed: int = 1,
@@ -177,7 +191,7 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
     system = compile_circuit(circuit)
     if samples is None:
         problem, factors = _nominal(system)
-        state = nominal_state(system, problem, 1)
+        state, reduced = nominal_state(system, problem, 1), None
     else:
         if distribution not in DISTRIBUTIONS or samples < 1:
             raise SolveError(f"a batch needs samples >= 1 and a distribution in "
@@ -187,10 +201,11 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
                              f"{len(system.elements)}), got {scale.shape}")
         problem, factors, _ = draw_problem(system, samples, seed, distribution, scale, spread)
         state = _started(system, problem, samples, start, nominal)
-        solve_reduced(problem, state, partition(system))
+        reduced = solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),
                        factors, system, problem, state.vstar,
-                       state.chord if samples is None else None)
+                       state.chord if samples is None else None,
+                       None if samples is None else reduced)
 
 
 def share_operating_point(result: BatchResult, circuit) -> BatchResult:

@@ -1,11 +1,12 @@
-"""The kit block's lines with a grammar of their own: knobs and the battery's capacity and life."""
+"""The kit block's lines with a grammar of their own: knobs, switches and the battery's
+capacity and life."""
 
 from __future__ import annotations
 
 import re
 
 from kitleaf.errors import GuideError
-from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob
+from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob, Switch
 from kitleaf.guide.slug import slug_for
 
 _CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
@@ -38,14 +39,58 @@ def read_knob(entry: Entry) -> Knob:
     return Knob(name, designator, entry.span)
 
 
-def _refuse_twice(knob: Knob, other: Knob) -> None:
+def read_switches(entries: tuple[Entry, ...], knobs: tuple[Knob, ...]) -> tuple[Switch, ...]:
+    """The ``switch:`` lines; a switch has its own name (apart from every knob's too), its own
+    part and at least two positions, each named apart from the others."""
+    switches: list[Switch] = []
+    for entry in entries:
+        switch = read_switch(entry)
+        for other in (*knobs, *switches):
+            _refuse_twice(switch, other)
+        switches.append(switch)
+    return tuple(switches)
+
+
+def read_switch(entry: Entry) -> Switch:
+    name, sep, rest = entry.value.partition("=")
+    designator, colon, listed = rest.partition(":")
+    name, designator = name.strip(), designator.strip()
+    positions = tuple(p.strip() for p in listed.split(","))
+    if not sep or not colon or not name or not DESIGNATOR.match(designator) or len(
+            positions) < 2 or not all(positions):
+        raise GuideError(
+            f"cannot read switch {entry.value!r}; write the switch's name, its part and a name "
+            "for each position in order, like 'Clip = S1: diodes, LEDs, off'", entry.span)
+    if not slug_for(name):
+        raise GuideError(f"switch {name!r} needs a letter a-z or a digit in its name (claims "
+                         "and prose name it by them)", entry.span)
+    seen: dict[str, str] = {}
+    for position in positions:
+        slug = slug_for(position)
+        if not slug or slug in seen:
+            why = (f"is written like '{seen[slug]}'" if slug else
+                   "needs a letter a-z or a digit")
+            raise GuideError(f"switch '{name}': position {position!r} {why}; claims name a "
+                             "position by its letters and digits, so give each its own name",
+                             entry.span)
+        seen[slug] = position
+    return Switch(name, designator, positions, entry.span)
+
+
+def _refuse_twice(knob: Knob | Switch, other: Knob | Switch) -> None:
     first = f"first at line {other.span.line}"
     if knob.designator == other.designator:
-        raise GuideError(f"{knob.designator} is turned by two knobs ('{other.name}', {first}); "
-                         "a pot has one knob, so keep one line", knob.span)
+        raise GuideError(f"{knob.designator} is turned by two {_what(knob, other)} "
+                         f"('{other.name}', {first}); a part has one, so keep one line",
+                         knob.span)
     if slug_for(knob.name) == slug_for(other.name):
-        raise GuideError(f"two knobs are named {knob.name!r} ({first}, '{other.name}'); give "
-                         "each knob its own name", knob.span)
+        raise GuideError(f"two {_what(knob, other)} are named {knob.name!r} ({first}, "
+                         f"'{other.name}'); give each its own name", knob.span)
+
+
+def _what(one: Knob | Switch, other: Knob | Switch) -> str:
+    kinds = {type(one), type(other)}
+    return "knobs" if kinds == {Knob} else "switches" if kinds == {Switch} else "controls"
 
 
 def battery_capacity_ah(entry: Entry) -> float:

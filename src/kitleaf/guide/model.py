@@ -68,6 +68,17 @@ class Knob:
 
 
 @dataclass(frozen=True)
+class Switch:
+    """A switch on the enclosure, named for the builder: its part and the maker's name for
+    each of its positions, in the switch's own order (the first is where it rests)."""
+
+    name: str
+    designator: str
+    positions: tuple[str, ...]
+    span: SourceSpan
+
+
+@dataclass(frozen=True)
 class KitBlock:
     """The kit block: what the kit is and what hangs off the board."""
 
@@ -86,6 +97,7 @@ class KitBlock:
     span: SourceSpan
     supply_span: SourceSpan | None = None  # the 'supply:' line
     code_span: SourceSpan | None = None  # the 'code:' line
+    switches: tuple[Switch, ...] = ()
     bypass: Entry | None = None  # how the footswitch wires the kit in and out of the signal
 
 

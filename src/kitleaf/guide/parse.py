@@ -10,13 +10,13 @@ from markdown_it import MarkdownIt
 from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import at_most_once, make_block, require_single
 from kitleaf.guide.fences import is_ours
-from kitleaf.guide.kit_lines import check_battery, read_knobs
+from kitleaf.guide.kit_lines import check_battery, read_knobs, read_switches
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
 from kitleaf.guide.slug import guide_slug
 from kitleaf.guide.source import checked_text, read_text
 
 KIT_KEYS = {
-    "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
+    "title", "code", "revision", "supply", "summary", "knob", "switch", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
@@ -109,11 +109,12 @@ def read_kit(block: Block) -> KitBlock:
             raise GuideError("'caution:' is empty; write the caution after it or drop the line",
                              caution.span)
     check_battery(block)
+    knobs = read_knobs(block.all("knob"))
     return KitBlock(
         title=value["title"].value, code=value["code"].value, supply=value["supply"].value,
         revision=once["revision"].value if once["revision"] else "A",
         summary=once["summary"].value if once["summary"] else "",
-        knobs=read_knobs(block.all("knob")),
+        knobs=knobs, switches=read_switches(block.all("switch"), knobs),
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
         source=once["source"], load=once["load"], order=once["order"], bypass=once["bypass"],

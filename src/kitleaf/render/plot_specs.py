@@ -26,30 +26,38 @@ def kit_plot(specs: KitSpecs) -> ResponsePlot:
 
 def _panels(curves: tuple[Curve, ...], low, high, corners
             ) -> tuple[Panel, ...]:
-    """One panel per knob, in the kit block's order; one unnamed panel when no knob acts."""
+    """One panel per knob or switch, in the kit block's order; one unnamed panel when no
+    knob acts."""
     knobs = list(dict.fromkeys(c.knob for c in curves))
+    rests = {c.knob: c.position for c in reversed(curves)}  # each control's first step
     panels = []
     for knob in knobs:
         mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
-        panels.append(Panel(_title(knob, knobs), mine, low, high, corners))
+        solid = 0 if isinstance(rests.get(knob), str) else None  # a switch at rest
+        panels.append(Panel(_title(knob, knobs, rests), mine, low, high, corners, solid))
     return tuple(panels)
 
 
 def _label(curve: Curve) -> str:
     if not curve.knob:
         return "nominal parts"
+    if isinstance(curve.position, str):
+        return f"{curve.knob}: {curve.position}"
     return f"{curve.knob} {percent(curve.position)}"
 
 
-def _title(knob: str, knobs: list[str]) -> str:
-    """The panel's title; it names only the knobs of the plotted curves (a stage's plot is
-    not moved by another stage's knob, so naming that knob would mislead)."""
-    others = [name for name in knobs if name != knob]
+def _title(knob: str, knobs: list[str], rests: dict | None = None) -> str:
+    """The panel's title; it names only the knobs and switches of the plotted curves (a
+    stage's plot is not moved by another stage's knob, so naming that knob would mislead).
+    ``rests`` gives a switch's first position by its name (where it rests meanwhile)."""
     if not knob:
         return ""
-    if not others:
-        return f"{knob} knob turned"
-    return f"{knob} knob turned, {_listed(others)} at 50 %"
+    switches = {name: rest for name, rest in (rests or {}).items() if isinstance(rest, str)}
+    turned = f"{knob} switch set" if knob in switches else f"{knob} knob turned"
+    others = [name for name in knobs if name != knob and name not in switches]
+    held = ([f"{_listed(others)} at 50 %"] if others else []) + [
+        f"{name} set to {switches[name]}" for name in knobs if name != knob and name in switches]
+    return ", ".join([turned, *held])
 
 
 def _listed(names: list[str]) -> str:

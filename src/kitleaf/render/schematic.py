@@ -19,6 +19,7 @@ from schemdraw.segments import Segment
 
 from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.switches import form_of
 from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
 from kitleaf.render.schematic_geometry import junctions
@@ -59,7 +60,8 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
     "pot": {"ccw": "start", "cw": "end", "wiper": "tap"},
 }
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
-                 "diode": elm.Diode, "led": elm.LED}
+                 "diode": elm.Diode, "led": elm.LED,
+                 "trimmer": elm.ResistorVar}  # in a resistor's place: a variable resistor
 
 
 class JfetSymbol(elm.JFet):
@@ -158,6 +160,26 @@ class SchematicSheet:
         wiper = self.pot(part, ccw, cw, side, wiper_right=wiper_side(ccw, cw) == side)
         bend = (b[0], wiper[1]) if abs(a[1] - b[1]) < 1e-9 else (wiper[0], b[1])
         self.wire(wiper, bend, b)
+
+    def switch(self, part: Part, pole: int, common: Point,
+               throws: Sequence[Point | None]) -> None:
+        """Pole ``pole`` of a switch: open contacts at the common and each wired throw, the
+        lever from the common towards the throw of the switch's first position (half way
+        between the throws where that position joins nothing); the first pole is labelled."""
+        wired = [t for t in throws if t is not None]
+        for at in (common, *wired):
+            self._add(elm.Dot(radius=0.09, open=True).at(at))
+        rest = form_of(part).throws[0]
+        aim = throws[rest] if rest is not None and rest < len(throws) else None
+        if aim is None:
+            aim = (sum(t[0] for t in wired) / len(wired), sum(t[1] for t in wired) / len(wired))
+        reach = 0.85  # the lever stops short of the contact, as switches are drawn
+        tip = (common[0] + reach * (aim[0] - common[0]), common[1] + reach * (aim[1] - common[1]))
+        self._add(elm.Line().endpoints(common, tip))
+        if pole == 1:
+            side = "below" if all(t[1] >= common[1] for t in wired) else "above"
+            self.label(part_label(part), (common[0], common[1] + (-0.3 if side == "below"
+                                                                    else 0.3)), side)
 
     def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
                    ) -> dict[str, Point]:

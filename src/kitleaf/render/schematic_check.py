@@ -36,7 +36,7 @@ from kitleaf.render.schematic_geometry import (
 from kitleaf.render.schematic_record import Point, SheetRecord
 
 CHAIN = ("in", "out", "vcc", "vref", "0", "supply")  # a stage's connections, named as such
-UNORDERED = ("resistor", "inductor")  # a builder may fit these either way round
+UNORDERED = ("resistor", "inductor", "trimmer")  # a builder may fit these either way round
 
 
 @dataclass(frozen=True)

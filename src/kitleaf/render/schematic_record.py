@@ -18,6 +18,7 @@ PLACES = 3  # points are compared rounded to a thousandth of a grid unit
 PIN_ORDER = {
     "resistor": ("a", "b"), "capacitor": ("a", "b"), "inductor": ("a", "b"),
     "diode": ("anode", "cathode"), "led": ("anode", "cathode"), "pot": ("ccw", "wiper", "cw"),
+    "trimmer": ("a", "b"),  # in a resistor's place: a variable resistor
     "npn": ("collector", "base", "emitter"), "pnp": ("collector", "base", "emitter"),
     "njf": ("drain", "gate", "source"), "pjf": ("drain", "gate", "source"),
     "opamp": ("non_inv", "inv", "out", "vpos", "vneg"),

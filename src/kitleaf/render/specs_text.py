@@ -2,15 +2,17 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent, range_text
+from kitleaf.display import range_text, settings, trim_instruction, trim_travel
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
+    width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
              f"  {_gain_words(specs.clips) + ' ':<19}{range_text(specs.gain_db, 'db')}",
-             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
+               for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
              f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
@@ -18,10 +20,16 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              f"  output headroom    {_swing(specs.headroom)}"]
+    for trim in specs.trims:
+        lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines.append(f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}")
+            lines += [f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}",
+                      f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
+                      f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
+                      f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
+                      f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
@@ -35,7 +43,7 @@ def _gain_words(clips: bool) -> str:
 
 
 def _knobs(point: KnobPoint) -> str:
-    return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
+    return settings(point.positions)
 
 
 def _swing(h: Headroom | None) -> str:

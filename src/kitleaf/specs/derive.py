@@ -1,4 +1,5 @@
-"""derive_specs: the kit solved at every knob position, measured into :class:`KitSpecs`.
+"""derive_specs: the kit solved at every knob and switch position, measured into
+:class:`KitSpecs`.
 
 Every figure comes with its 5th-95th percentile spread over seeded tolerance samples, solved
 as one batch per kit state (knob positions and supply), never as a loop of single solves.
@@ -10,6 +11,7 @@ import warnings
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
+from kitleaf.display import setting
 from kitleaf.errors import KitleafError, SolveError
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
@@ -29,33 +31,36 @@ from kitleaf.specs.model import (
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.shorts import check_supply
-from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
+from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.trim import trims
 
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
 FRESH_BATTERY_V = 9.6
 
 
 class SolvedKit:
-    """The kit's solved states: nominal knobs, each knob's sweep, and the battery supply."""
+    """The kit's solved states: nominal settings, each knob's and switch's sweep, and the
+    battery supply."""
 
     def __init__(self, kit: KitCircuit) -> None:
         self.kit = kit
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
         check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
-        self.sweeps = {k.designator: tuple(self._state(k.designator, p) for p in KNOB_STEPS)
-                       for k in kit.knobs}
+        self.sweeps = {c.designator: tuple(self._state(c.designator, p) for p, _ in c.steps)
+                       for c in kit.controls}
         self._check_sweeps()
         self.supplies = supplies(kit.supply_v)
         self.by_supply = (self.base, *(KitState(kit, self.nominal, s.volts, self.base)
                                        for s in self.supplies[1:]))
 
     def _check_sweeps(self) -> None:
-        """No knob setting shorts the supply (a pot's end leg is about 1 ohm)."""
-        for knob in self.kit.knobs:
-            for position, state in zip(KNOB_STEPS, self.sweeps[knob.designator], strict=True):
+        """No knob or switch setting shorts the supply (a pot's end leg is about 1 ohm)."""
+        for control in self.kit.controls:
+            for (_, shown), state in zip(control.steps, self.sweeps[control.designator],
+                                         strict=True):
                 check_supply(self.kit, state.nominal.batch.system,
-                             f" with {knob.name} at {position * 100:.0f} %")
+                             f" with {setting(control.name, shown)}")
 
     def _state(self, designator: str, position: float) -> KitState:
         if position == self.nominal[designator]:
@@ -97,7 +102,7 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
-        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs,
+        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.controls,
                               impedances(kit, first, kit.stage_nodes(first)[0],
                                          last, kit.stage_nodes(last)[1])),
         knob_ends=knob_ends(kit, solved.base),
@@ -108,15 +113,17 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         output_impedance=stage(stages, last).output_impedance,
         supply_current=base.range(m.supply_current(None)),
         freqs=tuple(float(f) for f in FREQS),
-        curves=curves(solved, INPUT, OUTPUT, kit.knobs),
+        curves=curves(solved, INPUT, OUTPUT, kit.controls),
         notes=notes(stages, kit),
         band_gain_db=base.range(m.band_gain_db(INPUT, OUTPUT)),
         headroom=kit_headroom(solved),
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
         supplies=solved.supplies,
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
+        switches=tuple((s.name, s.designator, s.positions) for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
+        trims=trims(kit),
         clips=any(s.clips for s in stages),
     )
 
@@ -137,7 +144,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         return StageSpecs(stage.id, stage.kind, stage.title, False, voltages, (), None, None,
                           None, None, None, base.range(current))
     node_in, node_out = kit.stage_nodes(stage.id)
-    knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
+    knobs = tuple(k for k in kit.controls if k.stage_id == stage.id)
     z = impedances(kit, stage.id, node_in, stage.id, node_out)
     return StageSpecs(
         stage.id, stage.kind, stage.title, True, voltages,
@@ -170,13 +177,15 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
     return m.input_impedance(first, node_in), output_measure(kit, last, node_out)
 
 
-def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs,
+def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
                z: tuple[m.Measure, m.Measure]) -> tuple[KnobPoint, ...]:
-    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way."""
-    return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)),
+    """Gain and impedances at 1 kHz at each step of each knob and switch in ``controls``,
+    the others at their nominal settings."""
+    return tuple(KnobPoint(((c.name, shown),), state.range(m.gain_db(node_in, node_out)),
                            state.range(z[0]), state.range(z[1]))
-                 for k in knobs
-                 for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
+                 for c in controls
+                 for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
+                                              strict=True))
 
 
 def stage_voltages(solved: SolvedKit, stage: Stage) -> tuple[Voltage, ...]:

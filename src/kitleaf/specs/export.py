@@ -79,7 +79,9 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "schema": SCHEMA,
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
                 "supply_v": _num(specs.supply_v),
-                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs]},
+                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs],
+                "switches": [{"name": n, "switch": d, "positions": list(p)}
+                             for n, d, p in specs.switches]},
         "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
@@ -96,4 +98,8 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "headroom_v_peak": _headroom(specs.headroom),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
+        "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,
+                   "point_number": t.number, "volts": _num(t.volts),
+                   "position": _range(t.position), "out_of_reach": _num(t.out_of_reach)}
+                  for t in specs.trims],
     }

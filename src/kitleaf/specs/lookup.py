@@ -1,7 +1,8 @@
 """Names for every computed value of a kit, so prose and claims can refer to them.
 
 A name is dotted and lower-case: ``kit.gain``, ``boost.low-corner``, ``boost.gain.level-100``
-(the gain with the Level knob fully clockwise), ``boost.q1.collector`` (a test point),
+(the gain with the Level knob fully clockwise), ``drive.gain.clip-leds`` (with the Clip
+switch set to its position "LEDs"), ``boost.q1.collector`` (a test point),
 ``power.vref``, ``r3`` (a part's value). docs/claims-and-rules.md lists them all.
 """
 
@@ -12,7 +13,9 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import point_name
 from kitleaf.circuit.parts import PART_QUANTITY
+from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
 from kitleaf.guide.slug import slug_for as slug
 from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
@@ -88,19 +91,13 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
 
 
 def _knob_suffix(point: KnobPoint) -> str:
-    return ".".join(f"{slug(name)}-{round(pos * 100)}" for name, pos in point.positions)
+    """``level-100`` for a knob at 100 %, ``clip-leds`` for a switch set to "LEDs"."""
+    return ".".join(f"{slug(name)}-{slug(pos) if isinstance(pos, str) else round(pos * 100)}"
+                    for name, pos in point.positions)
 
 
 def _knob_words(point: KnobPoint) -> str:
-    return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in point.positions)
-
-
-def point_name(device: str, pin: str, node: str) -> str:
-    """``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
-    if not device:
-        return slug(node)
-    pin = f"pin{pin}" if pin.isdigit() else slug(pin)
-    return f"{device.lower()}.{pin}"
+    return settings(point.positions)
 
 
 def candidates(name: str, scope: str | None) -> tuple[str, ...]:

@@ -31,10 +31,11 @@ class Range:
 
 @dataclass(frozen=True)
 class KnobPoint:
-    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation), and the
-    impedances there (None where not measured: the knob ends, the power section)."""
+    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation) or its
+    switches at given positions (by name), and the impedances there (None where not
+    measured: the knob ends, the power section)."""
 
-    positions: tuple[tuple[str, float], ...]
+    positions: tuple[tuple[str, float | str], ...]
     gain_db: Range
     input_impedance: Range | None = None
     output_impedance: Range | None = None
@@ -66,12 +67,30 @@ class Voltage:
 
 @dataclass(frozen=True)
 class Curve:
-    """Gain in dB over ``KitSpecs.freqs`` with one knob at one position (others at half way);
-    ``knob`` is empty for the single curve of a stage no knob acts on."""
+    """Gain in dB over ``KitSpecs.freqs`` with one knob or switch at one position (a
+    fraction of rotation, or a switch position's name), the others at their nominal
+    settings; ``knob`` is empty for the single curve of a stage no control acts on."""
 
     knob: str
-    position: float | None
+    position: float | str | None
     gain_db: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class Trim:
+    """A trimmer's set-up: the test point (its label, its number in its stage's voltage table)
+    the builder watches, the voltage to turn it to, and the position (0..1 of its travel,
+    clockwise) that reaches it, nominal and over the tolerance builds (each build needs its
+    own); ``out_of_reach`` is the share of builds whose trimmer cannot get there."""
+
+    designator: str
+    stage_id: str
+    stage_title: str
+    label: str
+    number: int
+    volts: float
+    position: Range
+    out_of_reach: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -138,12 +157,16 @@ class KitSpecs:
     band_high: tuple[float, ...] = ()
     supplies: tuple[Supply, ...] = ()
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
+    # (switch name, designator, position names), as the kit block says
+    switches: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
     clips: bool = False  # a stage clips by design: the gain figures hold for small signals
     samples: int = 0
     seed: int = 0
     # The gain (nominal parts) with the knobs together at the ends of their travel:
     # specs/knob_ends.py says which combinations.
     knob_ends: tuple[KnobPoint, ...] = ()
+    # Each trimmer's set-up instruction, in the guide's order (specs/trim.py).
+    trims: tuple[Trim, ...] = ()
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

@@ -152,6 +152,8 @@ def _draw_output(sheet: Sheet, d: TransistorDrawing, node: Point) -> None:
     start = x + 1.0
     sheet.dot(node)
     sheet.wire(node, (start, y))
+    if d.output_cap is None:  # a direct output
+        sheet.wire((start, y), (start + 2.2, y))
     sheet.part(d.output_cap, (start, y), (start + 2.2, y))
     # the pulldown runs down to ground, so it stands clear of the bypass network, not across it
     draw_volume_out(sheet, d.volume, (start + 2.2, y), max(start + 4.2, bypass_right + 1.4),

@@ -8,7 +8,14 @@ from collections.abc import Sequence
 from kitleaf.circuit.drawing import GROUND_Y, Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind
 from kitleaf.circuit.parts import Part
-from kitleaf.circuit.stages._shared import capacitor_role, check_family, opamp_pins, resistor_role
+from kitleaf.circuit.stages._shared import (
+    OUTPUT_COUPLING,
+    capacitor_role,
+    check_family,
+    check_output,
+    opamp_pins,
+    resistor_role,
+)
 
 
 class OpampKind(StageKind):
@@ -16,9 +23,11 @@ class OpampKind(StageKind):
     reference, with a gain pot and a volume pot a player may turn."""
 
     needs_reference = True
+    options = (OUTPUT_COUPLING,)
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "opamp", ("opamp",))
+        check_output(stage, self.name)
 
     def knob_roles(self) -> tuple[str, ...]:
         return ("gain", "volume")
@@ -66,9 +75,10 @@ def feedback_rows(stage: Stage, with_gain: bool) -> list[list[Part]]:
 
 
 def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Sequence[Part],
-                    min_width: float = 2.4) -> tuple[dict, tuple]:
-    """The op-amp, its feedback ``rows`` below it, and the ``leg`` from the - input to ground;
-    the rows span ``min_width`` at least (room for networks a kind draws below them).
+                    leg_to: str = "0", min_width: float = 2.4) -> tuple[dict, tuple]:
+    """The op-amp, its feedback ``rows`` below it, and the ``leg`` from the - input to ground
+    (``leg_to`` "vref": to the reference); the rows span ``min_width`` at least (room for
+    networks a kind draws below them).
 
     Returns the op-amp pins and the output node, where the output network starts.
     """
@@ -90,7 +100,7 @@ def draw_opamp_core(sheet: Sheet, stage: Stage, rows: list[list[Part]], leg: Seq
         sheet.dot((right, row_y(pins, i)))
     if leg:
         sheet.dot((minus[0], bottom_y))
-        draw_leg(sheet, leg, (minus[0], bottom_y), (minus[0], GROUND_Y))
+        draw_leg(sheet, leg, (minus[0], bottom_y), (minus[0], GROUND_Y), leg_to)
     node = (right, pins["out"][1])
     sheet.dot(node)
     return pins, node
@@ -123,8 +133,9 @@ def _row(sheet: Sheet, row: Sequence[Part], start, end) -> None:
             sheet.part(part, a, b, side="below")
 
 
-def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom) -> None:
-    """Parts in series down a vertical leg to ground, labelled on the right."""
+def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom, to: str = "0") -> None:
+    """Parts in series down a vertical leg to ground (``to`` "vref": to the reference),
+    labelled on the right."""
     step = (top[1] - bottom[1]) / len(leg)
     for i, part in enumerate(leg):
         a, b = (top[0], top[1] - step * i), (top[0], top[1] - step * (i + 1))
@@ -132,7 +143,10 @@ def draw_leg(sheet: Sheet, leg: Sequence[Part], top, bottom) -> None:
             sheet.rheostat(part, a, b, side="right", grows=False)  # clockwise, more gain
         else:
             sheet.part(part, a, b, side="right")
-    sheet.ground(bottom)
+    if to == "vref":
+        sheet.net_label(bottom, "vref", "below")
+    else:
+        sheet.ground(bottom)
 
 
 def draw_output(sheet: Sheet, stage: Stage, node) -> None:
@@ -140,5 +154,7 @@ def draw_output(sheet: Sheet, stage: Stage, node) -> None:
     from kitleaf.circuit.stages._drawing import draw_volume_out
 
     x, y = node
+    if stage.part("output-cap") is None:  # a direct output
+        sheet.wire((x, y), (x + 2.2, y))
     sheet.part(stage.part("output-cap"), (x, y), (x + 2.2, y))
     draw_volume_out(sheet, stage.part("volume"), (x + 2.2, y), x + 4.0, stage.part("pulldown"))

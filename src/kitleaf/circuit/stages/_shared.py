@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from kitleaf.circuit.kind import Role, Stage, TestPoint
+from kitleaf.circuit.kind import Option, Role, Stage, TestPoint
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import CircuitError, KitleafError
 
@@ -165,11 +165,23 @@ def resistor_role(name: str, help: str, required: bool = True) -> Role:
     return Role(name, ("resistor",), required, help=help)
 
 
+# A gain stage's output: through its output cap (the default), or straight from its output
+# node into the next stage, whose own input cap then blocks the DC (one coupling cap between
+# the two stages instead of two in a row).
+OUTPUT_COUPLING = Option(
+    "output-coupling", ("cap", "direct"), "cap",
+    help="cap: the output cap blocks DC; direct: no output cap, the stage drives the next "
+         "stage's input cap straight from its output node (one coupling cap between the two)",
+    excludes=(("direct", ("output-cap", "pulldown", "volume")),))
+
+
 def output_roles(source: str) -> tuple[Role, ...]:
     """The output cap from ``source`` (the collector, the drain...), its pulldown and the
-    optional volume pot: the same three roles end every gain stage."""
+    optional volume pot: the same three roles end every gain stage. The output cap is
+    required unless ``output-coupling: direct`` (:func:`check_output`)."""
     return (
-        capacitor_role("output-cap", f"coupling capacitor from {source} to the output"),
+        capacitor_role("output-cap", f"coupling capacitor from {source} to the output "
+                       "(required unless 'output-coupling: direct')", required=False),
         resistor_role("pulldown", "from the output cap to ground: keeps it charged, no pop",
                       required=False),
         Role("volume", ("pot",), required=False,
@@ -177,8 +189,30 @@ def output_roles(source: str) -> tuple[Role, ...]:
     )
 
 
+def check_output(stage: Stage, kind_name: str) -> None:
+    """An output cap unless the output is direct, and then none, nor a pulldown or volume pot
+    (they would sit at the stage's DC voltage)."""
+    direct = stage.options.get("output-coupling") == "direct"
+    if not direct and stage.part("output-cap") is None:
+        raise CircuitError(
+            f"stage '{stage.id}' ({kind_name}) is missing its 'output-cap' part (coupling "
+            "capacitor to the output); add a line 'output-cap: ...', or 'output-coupling: "
+            "direct' where the next stage's input cap blocks the DC", stage.span)
+    for role in OUTPUT_COUPLING.excluded("direct") if direct else ():
+        part = stage.part(role)
+        if part is not None:
+            raise CircuitError(
+                f"stage '{stage.id}', role '{role}': with 'output-coupling: direct' the "
+                f"output carries the stage's DC, so {part.designator} has no place; drop it "
+                "or couple through an output cap", part.span)
+
+
 def place_output(stage: Stage, wiring, node: str) -> None:
-    """Output cap from ``node``, its pulldown, then the volume pot (cw to the cap, wiper out)."""
+    """Output cap from ``node``, its pulldown, then the volume pot (cw to the cap, wiper out);
+    with a direct output, ``node`` joins the output through a 0 V source (a wire)."""
+    if stage.options.get("output-coupling") == "direct":
+        wiring.internal("vsource", "direct", node, "out", dc=0.0)
+        return
     volume = stage.part("volume")
     after = "v" if volume else "out"
     wiring.place(stage.part("output-cap"), node, after)

@@ -5,6 +5,7 @@ Syntax (one entry per line)::
     nodes: b c e                  # the stage's own node names
     part: R1 470k @ vcc b         # a part, '@', then the nodes it joins in pin order
     part: Q1 2N5089 @ c b e       # BJT c b e; JFET d g s; pot ccw wiper cw; diode anode cathode
+    part: S1 SPDT @ out d1 d2     # a switch: per pole the common, then each throw ('-': none)
     input: b                      # optional: which own node is the stage input (else 'in')
     test-point: Q1 collector = c  # a labelled node for the builder's meter
 
@@ -24,10 +25,13 @@ CHAIN_NODES = ("in", "out", "vcc", "vref", "0")
 ALIASES = {"input": "in", "output": "out", "supply": "vcc", "reference": "vref"}
 PIN_NAMES = {
     "resistor": ("a", "b"), "capacitor": ("a", "b"), "inductor": ("a", "b"),
-    "pot": ("ccw", "wiper", "cw"), "diode": ("anode", "cathode"), "led": ("anode", "cathode"),
+    "pot": ("ccw", "wiper", "cw"), "trimmer": ("ccw", "wiper", "cw"),
+    "diode": ("anode", "cathode"), "led": ("anode", "cathode"),
     "bjt": ("collector", "base", "emitter"), "jfet": ("drain", "gate", "source"),
     "opamp": ("+in", "-in", "out", "v+", "v-"),
+    "switch": ("common", "throws..."),  # pole by pole; the count comes from the form
 }
+UNWIRED = "-"  # a switch throw wired to nothing
 PART_TYPES = tuple(t for t in PART_QUANTITY if t != "hardware")
 
 
@@ -69,7 +73,9 @@ class Custom(StageKind):
         alias = aliases(stage)
         for part in stage.parts["part"]:
             nodes = [alias.get(n, n) for n in part_nodes(part)]
-            if part.type in ("bjt", "jfet") or part.type == "opamp" and len(nodes) == 5:
+            if part.type == "switch":
+                wiring.place(part, *(None if n == UNWIRED else n for n in nodes))
+            elif part.type in ("bjt", "jfet") or part.type == "opamp" and len(nodes) == 5:
                 wiring.place(part, *nodes)
             elif part.type == "opamp":
                 wiring.place(part, *nodes, "vcc", "0")

@@ -17,8 +17,10 @@ from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
     FAMILY_NAMES,
+    OUTPUT_COUPLING,
     capacitor_role,
     check_family,
+    check_output,
     family,
     is_flipped,
     output_roles,
@@ -52,6 +54,7 @@ class DirectCoupledFuzz(StageKind):
     name = "direct-coupled-fuzz"
     summary = "two-transistor fuzz: direct-coupled pair, DC feedback from the second emitter"
     roles = ROLES
+    options = (OUTPUT_COUPLING,)
     clips = True
 
     def build(self, stage: Stage, wiring) -> None:
@@ -72,6 +75,7 @@ class DirectCoupledFuzz(StageKind):
     def check(self, stage: Stage) -> None:
         check_family(stage, "input-transistor", ("npn", "pnp"))
         check_family(stage, "output-transistor", ("npn", "pnp"))
+        check_output(stage, self.name)
         first, second = stage.part("input-transistor"), stage.part("output-transistor")
         if family(first) != family(second):
             raise CircuitError(

@@ -14,8 +14,10 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
+    OUTPUT_COUPLING,
     capacitor_role,
     check_family,
+    check_output,
     is_flipped,
     output_roles,
     place_output,
@@ -45,6 +47,7 @@ class JfetSourceFollower(StageKind):
     name = "jfet-source-follower"
     summary = "JFET buffer: very high input impedance, gain just under one"
     roles = ROLES
+    options = (OUTPUT_COUPLING,)
 
     def build(self, stage: Stage, wiring) -> None:
         drain_rail, source_rail = transistor_rails(is_flipped(stage, "transistor"))
@@ -61,6 +64,7 @@ class JfetSourceFollower(StageKind):
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "transistor", ("njf", "pjf"))
+        check_output(stage, self.name)
         require_together(stage, "bias-top", "bias-bottom")
         require_together(stage, "bias-bottom", "bias-top")
 

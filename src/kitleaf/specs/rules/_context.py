@@ -11,6 +11,7 @@ import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import Part
+from kitleaf.display import setting
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
 from kitleaf.specs.finding import Finding
@@ -18,7 +19,7 @@ from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
 from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
 from kitleaf.specs.rules._settings import DcSetting, Reading
-from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
+from kitleaf.specs.solve import KitState, nominal_positions
 from kitleaf.values import format_value
 
 # A rule finds a knob setting where the nominal build fails, or where at least this share of
@@ -87,14 +88,15 @@ class RuleContext:
 
     @cached_property
     def states(self) -> tuple[DcSetting, ...]:
-        """Knobs at half way, then each knob alone at every swept position (DC only)."""
+        """Knobs at half way (switches at their first position), then each knob or switch
+        alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
         settings = [("knobs at half way", nominal)]
-        for knob in self.kit.knobs:
-            for pos in KNOB_STEPS:
-                if pos != nominal[knob.designator]:
-                    words = f"{knob.name} at {round(pos * 100)} %"
-                    settings.append((words, {**nominal, knob.designator: pos}))
+        for control in self.kit.controls:
+            for pos, shown in control.steps:
+                if pos != nominal[control.designator]:
+                    words = setting(control.name, shown)
+                    settings.append((words, {**nominal, control.designator: pos}))
         base = KitState(self.kit, nominal)
         memo: dict = {}
         return tuple(DcSetting(words, base if i == 0 else KitState(self.kit, positions, near=base),
@@ -113,7 +115,7 @@ class RuleContext:
                     found is None or (nominal, share) > (found.nominal, found.share)):
                 found = Verdict(state, nominal, share, False)
         return None if found is None else replace(found, everywhere=len(outcomes) == 1,
-                                                  knobs=bool(self.kit.knobs))
+                                                  knobs=bool(self.kit.controls))
 
     @staticmethod
     def shown(verdict: Verdict, measure: Callable[[Reading], np.ndarray],
@@ -132,7 +134,7 @@ class RuleContext:
         """`` with KNOB at P %`` for ``state``, or `` at every knob setting`` when ``value``
         (nominal) does not depend on the knobs, since naming a knob position would send the
         maker to turn it; nothing for a kit without knobs. With its leading space."""
-        if not self.kit.knobs:
+        if not self.kit.controls:
             return ""
         seen = [value(s.nominal) for s in self.states]
         scale = max(abs(v) for v in seen)
