@@ -19,9 +19,10 @@ SAMPLES = {
     "resistor": ("10k",), "capacitor": ("100n film", "10u electrolytic 25V"),
     "inductor": ("100mH",), "pot": ("B100k",), "diode": ("1N4148",), "led": ("red",),
     "bjt": ("2N3904", "2N3906"), "jfet": ("J201", "2N5460"), "opamp": ("TL072",),
+    "switch": ("SPDT", "SP3T"),
 }
 PREFIX = {"resistor": "R", "capacitor": "C", "inductor": "L", "pot": "VR", "diode": "D",
-          "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U"}
+          "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U", "switch": "S"}
 FLAVOURS = ("npn-film", "pnp-electrolytic")
 VOLUME = stage_block("vol", "volume", "volume: VR99 A100k")
 # After a stage whose output carries its DC (an option leaving out its output roles): a
@@ -35,6 +36,7 @@ class Variant:
     kind: str
     name: str
     blocks: tuple[str, ...]  # the guide's stage blocks, the variant's stage among them
+    kit_lines: tuple[str, ...] = ()  # the kit block's own lines: a switch's positions
 
     @property
     def every_role(self) -> bool:
@@ -56,12 +58,12 @@ def variants() -> Iterator[Variant]:
         for flavour, flavour_name in enumerate(FLAVOURS):
             for name, roles, options, types in kind_role_sets(kind):
                 left_out = _left_out(kind, options)
-                block = stage_block("stage", kind.name, *options,
-                                    *part_lines(kind, roles - left_out, flavour, types))
+                lines = part_lines(kind, roles - left_out, flavour, types)
+                block = stage_block("stage", kind.name, *options, *lines)
                 blocks = (block, VOLUME) if kind.provides_power else (
                     (POWER, block, CAP_LOAD) if left_out else
                     (POWER, block) if kind.signal else (POWER, block, VOLUME))
-                yield Variant(kind.name, f"{flavour_name}-{name}", blocks)
+                yield Variant(kind.name, f"{flavour_name}-{name}", blocks, switch_lines(lines))
 
 
 def _left_out(kind: StageKind, options: tuple[str, ...]) -> set[str]:
@@ -102,6 +104,15 @@ def role_sets(kind: StageKind, needed: set[str] = frozenset(), left_out: set[str
         for choice in option.choices:
             lines = base[:i] + (f"{option.name}: {choice}",) + base[i + 1:]
             yield f"{option.name}-{choice}", every, lines
+
+
+def switch_lines(lines: list[str]) -> tuple[str, ...]:
+    """A kit-block line naming each switch's positions (SPDT two, SP3T three)."""
+    found = [line.split(": ", 1)[1].split()[:2] for line in lines]
+    counts = {"SPDT": 2, "SP3T": 3}
+    return tuple(f"switch: Switch {d} = {d}: " + ", ".join(f"way {i + 1}"
+                                                         for i in range(counts[form]))
+                 for d, form in found if form in counts)
 
 
 def part_lines(kind: StageKind, roles: set[str], flavour: int, types: dict[str, str]

@@ -26,10 +26,12 @@ led-resistor: R92 4k7
 """
 
 
-def guide_text(*blocks: str, supply: str = "9V", source: str = "low-z", load: str = "") -> str:
-    """A whole guide: the kit block, then ``blocks`` (each a stage block's text)."""
+def guide_text(*blocks: str, supply: str = "9V", source: str = "low-z", load: str = "",
+               lines: tuple[str, ...] = ()) -> str:
+    """A whole guide: the kit block (with its extra ``lines``, such as 'switch: Clip = S1:
+    diodes, LEDs'), then ``blocks`` (each a stage block's text)."""
     kit = ["```kit", "title: Fernbrook Test Kit", "code: FB-T1", f"supply: {supply}",
-           f"source: {source}"] + ([f"load: {load}"] if load else []) + ["```", ""]
+           f"source: {source}"] + ([f"load: {load}"] if load else []) + [*lines, "```", ""]
     return "\n".join(kit) + "\n".join(blocks)
 
 

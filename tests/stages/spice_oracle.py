@@ -51,13 +51,16 @@ def check_voltages(kit: KitCircuit, stage: StageSpecs) -> None:
 
 
 def check_knob_points(kit: KitCircuit, stage: StageSpecs) -> None:
-    """Gain, input and output impedance at every knob step (or once, with no knob)."""
-    designators = dict(kit.knobs and ((k.name, k.designator) for k in kit.knobs))
+    """Gain, input and output impedance at every knob step and switch position (or once,
+    with neither)."""
+    # each control's setting as a point names it (a knob's rotation, a switch's position name)
+    settings = {c.name: (c.designator, {shown: value for value, shown in c.steps})
+                for c in kit.controls}
     points = stage.knob_sweep or (None,)
     for point in points:
         positions = nominal_positions(kit)
-        if point is not None:
-            positions.update({designators[name]: pos for name, pos in point.positions})
+        for name, shown in point.positions if point is not None else ():
+            positions[settings[name][0]] = settings[name][1][shown]
         gain_db, z_in, z_out = one_khz(kit, stage.id, positions)
         figures = point or stage
         # ngspice oracle: gain within 0.1 dB, impedances within 2 %

@@ -20,6 +20,7 @@ from tests.stages.spice_oracle import check_large_signal, check_stage
 from kitleaf.engine import solve_batch
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.errors import CircuitError
+from kitleaf.render.schematic_check import check_stage as check_stage_drawing
 from kitleaf.render.specs_text import specs_to_text
 
 DIODES = ("clip-positive: D1 1N4148", "clip-negative: D2 1N4148")
@@ -147,3 +148,88 @@ def test_clipping_agrees_with_ngspice(clip):
     kit = make_kit(POWER, block, load="100k")
     for position in (0.0, 1.0):
         check_large_signal(kit, {"VR1": position}, "drive.o", (0.05, 0.5))
+
+
+def switched(form: str = "SPDT", *extra: str) -> str:
+    """The drive with a switch choosing silicon diodes or red LEDs (or, SP3T, neither)."""
+    return drive("gain: VR1 B100k", f"clip-switch: S1 {form}", "alt-positive: LED1 red",
+                 "alt-negative: LED2 red", *extra)
+
+
+SWITCH_LINE = {"SPDT": "switch: Clip = S1: silicon, leds",
+               "SP3T": "switch: Clip = S1: silicon, leds, off",
+               "SPDT on-off-on": "switch: Clip = S1: silicon, off, leds"}
+
+
+def peak_at(form: str, position: int, level: float = 0.5) -> float:
+    kit = make_kit(POWER, switched(form), load="10M", lines=(SWITCH_LINE[form],))
+    result = periodic_steady_state([solve_batch(kit.netlist({"S1": position}))], "VIN",
+                                   [level], 1000.0, nodes=["drive.o", "drive.p"])
+    assert result.converged.all(), result.reasons
+    return float(np.max(result.wave("drive.o")[0, 0, 0] - result.wave("drive.p")[0, 0, 0]))
+
+
+class TestSwitchedPair:
+    def test_each_position_clips_with_its_own_pair(self):
+        # silicon about 0.5 V at this current, red LEDs well over twice that (common practice,
+        # no source); with no pair the feedback swing is the op-amp's to the rail
+        silicon, leds, off = (peak_at("SP3T", p) for p in (0, 1, 2))
+        assert 0.4 < silicon < 0.75
+        assert leds > 2 * silicon
+        assert off > leds
+
+    def test_a_centre_off_toggle_rests_unclipped_in_the_middle(self):
+        assert peak_at("SPDT on-off-on", 1) == pytest.approx(peak_at("SP3T", 2), rel=0.01)
+        assert peak_at("SPDT on-off-on", 2) == pytest.approx(peak_at("SP3T", 1), rel=0.01)
+
+    def test_the_small_signal_gain_is_the_same_in_every_position(self):
+        kit = make_kit(POWER, switched("SP3T"), load="10M", lines=(SWITCH_LINE["SP3T"],))
+        gains = [abs(gain_at(kit, 1e3, positions={"S1": p})) for p in (0, 1, 2)]
+        # resting at 0 V, silicon diodes shunt Rf by some 10 MOhm (Shockley: Is / (n Vt)),
+        # LEDs by far more: well under 1 % of gain either way
+        assert gains == pytest.approx([gains[2]] * 3, rel=0.01)
+
+    def test_a_second_pair_without_a_switch_is_refused_at_its_line(self):
+        block = drive("alt-positive: LED1 red")
+        with pytest.raises(CircuitError, match="only a switch can choose") as caught:
+            make_kit(POWER, block)
+        assert caught.value.span.line == line_of(guide_text(POWER, block), "alt-positive")
+
+    def test_a_one_throw_switch_cannot_choose_a_second_pair(self):
+        block = switched("SPST")
+        lines = ("switch: Clip = S1: silicon, off",)
+        with pytest.raises(CircuitError, match="fit a SPDT") as caught:
+            make_kit(POWER, block, lines=lines)
+        assert caught.value.span.line == line_of(guide_text(POWER, block, lines=lines),
+                                                 "clip-switch")
+
+    def test_a_one_throw_switch_takes_the_pair_in_and_out(self):
+        block = drive("gain: VR1 B100k", "clip-switch: S1 SPST")
+        kit = make_kit(POWER, block, load="10M", lines=("switch: Clip = S1: in, out",))
+        assert kit.switches[0].positions == ("in", "out")
+
+    def test_a_transistor_in_the_second_pair_is_refused_at_its_line(self):
+        block = switched("SPDT", "alt-negative: Q9 2N3904")
+        with pytest.raises(CircuitError) as caught:
+            make_kit(POWER, block, lines=(SWITCH_LINE["SPDT"],))
+        assert caught.value.span.line == line_of(
+            guide_text(POWER, block, lines=(SWITCH_LINE["SPDT"],)), "alt-negative: Q9")
+
+    @pytest.mark.parametrize("form", sorted(SWITCH_LINE))
+    def test_the_drawing_is_its_netlist(self, form):
+        kit = make_kit(POWER, switched(form, "clip-series: R4 1k"), lines=(SWITCH_LINE[form],))
+        assert check_stage_drawing(kit, kit.stages[1]) == []
+
+
+@pytest.mark.slow
+def test_every_switch_position_agrees_with_ngspice():
+    block = switched("SP3T", "feedback-cap: C4 100p", "volume: VR2 A100k")
+    kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"),
+                          lines=(SWITCH_LINE["SP3T"],))
+    check_stage(kit, specs, "drive")
+    kit = make_kit(POWER, QUICK.replace("pulldown: R5 100k", "\n".join((
+        "pulldown: R5 100k", *DIODES, "clip-switch: S1 SP3T", "alt-positive: LED1 red",
+        "alt-negative: LED2 red"))), load="100k", lines=(SWITCH_LINE["SP3T"],))
+    # the LEDs' position (the silicon pair is checked above); with no pair the op-amp
+    # clips at its rails, which tests/engine/test_ngspice_tran.py covers
+    check_large_signal(kit, {"VR1": 1.0, "S1": 1.0}, "drive.o", (0.05, 0.5))
