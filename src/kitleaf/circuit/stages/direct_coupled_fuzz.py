@@ -215,6 +215,8 @@ class FuzzDrawing:
         part, (x, y) = self.stage.part, self.collector
         start = max(right, x + 1.0)
         self.sheet.wire(self.collector, (start, y))
+        if part("output-cap") is None:  # a direct output
+            self.sheet.wire((start, y), (start + 2.2, y))
         self.sheet.part(part("output-cap"), (start, y), (start + 2.2, y))
         draw_volume_out(self.sheet, part("volume"), (start + 2.2, y), start + 4.2,
                         part("pulldown"))
