@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 from tests.drawing_variants import variants
-from tests.stages.kits import EVERY_KIND, make_kit
+from tests.stages.kits import EVERY_KIND, make_kit, stage_block
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.parts import Part
@@ -179,3 +179,39 @@ def test_the_every_kind_kit_draws_its_netlist(stage):
 def test_every_demo_stage_draws_its_netlist(path):
     kit = build_circuit(parse_guide(path))
     assert {s.id: check_stage(kit, s) for s in kit.stages} == {s.id: [] for s in kit.stages}
+
+
+def _switched(sheet: SchematicSheet, throws) -> StageNetlist:
+    """IN to a toggle's common; its two throws each to a resistor to ground, drawn right
+    (the netlist as stage_netlist reads a switch: a pole's common, then its throws)."""
+    from kitleaf.circuit.partline import read_part
+    from kitleaf.guide.model import Entry
+
+    switch = read_part(Entry("part", "S1 SPDT", SourceSpan("test.md", 1)), ("switch",), "here")
+    sheet.port((0.0, 5.0), "IN")
+    sheet.switch(switch, 1, (0.0, 5.0), throws)
+    for designator, at in (("R1", (1.0, 6.0)), ("R2", (1.0, 4.0))):
+        sheet.part(_part(designator), at, (3.0, at[1]))
+        sheet.ground((3.0, at[1]))
+    return StageNetlist({"S1:p1": ("in", "a", "b"), "R1": ("a", "0"), "R2": ("b", "0")}, {})
+
+
+def test_a_switch_is_checked_pole_by_pole():
+    sheet = SchematicSheet()
+    netlist = _switched(sheet, [(1.0, 6.0), (1.0, 4.0)])
+    assert check_record(sheet.record, netlist) == []
+    crossed = SchematicSheet()  # its throws drawn the other way round
+    netlist = _switched(crossed, [(1.0, 4.0), (1.0, 6.0)])
+    assert any("joins the nodes" in p for p in check_record(crossed.record, netlist))
+
+
+def test_the_netlist_reads_a_switch_pole_from_its_contacts():
+    from kitleaf.circuit.resolve import resolve_stage
+    from kitleaf.render.schematic_check import stage_netlist
+
+    text = stage_block("clip", "custom", "nodes: d l", "part: R1 4k7 @ in out",
+                       "part: S1 SP3T @ out d - l", "part: D1 1N4148 @ d 0",
+                       "part: D2 1N4148 @ l 0")
+    guide = parse_guide("test.md", "```kit\ntitle: T\ncode: T-1\nsupply: 9 V\n```\n" + text)
+    stage = resolve_stage(guide.stages[0])
+    assert stage_netlist(stage).parts["S1:p1"] == ("out", "d", "l")  # the unwired throw left out

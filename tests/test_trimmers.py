@@ -201,3 +201,24 @@ def test_a_custom_stage_takes_a_trimmer_on_two_or_three_nodes():
                             "test-point: Q1 drain = c", "trim: TR1 sets c to 4.5 V")
         _, kit = kit_of(block, stage_block("level", "volume", "volume: VR1 B100k"))
         assert dc_at(kit, "core.c") == pytest.approx(4.5, abs=2e-3), nodes
+
+
+def test_a_trimmer_that_runs_out_of_travel_in_some_builds_is_a_finding():
+    # A J201's drain current spreads widely (its data sheet's IDSS range, from memory): with
+    # a 25k drain trimmer some builds cannot reach 4.5 V at all
+    from kitleaf.specs.claims import verify
+
+    jfet = stage_block("boost", "jfet-common-source", "input-cap: C1 100n film",
+                       "gate: R1 1M", "transistor: Q1 J201", "drain: TR1 B25k",
+                       "source: R3 1k", "output-cap: C2 1u film", "volume: VR1 B100k",
+                       "trim: TR1 sets q1.drain to 4.5 V")
+    messages = {}
+    for name, block in (("jfet", jfet), ("boost", boost())):
+        parsed, kit = kit_of(block)
+        specs = derive_specs(parsed, kit)
+        messages[name] = [f.message for f in verify(parsed, kit, specs).findings
+                          if f.rule == "trim-reach"]
+        assert (specs.trims[0].out_of_reach >= 0.05) == (name == "jfet")
+    assert messages["boost"] == []
+    assert len(messages["jfet"]) == 1
+    assert messages["jfet"][0].startswith("TR1 cannot bring Q1 drain to 4.50 V in ")

@@ -65,11 +65,12 @@ def gain_at(kit: KitCircuit, freq: float, node: str = "output", positions=None) 
     return complex(ac.transfer(node)[0])
 
 
-def response(kit: KitCircuit, freqs: np.ndarray, positions=None) -> np.ndarray:
-    """The kit's complex gain from its input jack to its output jack at ``freqs``."""
+def response(kit: KitCircuit, freqs: np.ndarray, positions=None, node_in: str = "input",
+             node_out: str = "output") -> np.ndarray:
+    """The complex gain from ``node_in`` to ``node_out`` (the kit's jacks unless named)."""
     circuit = kit.netlist(positions)
     ac = solve_ac(circuit, solve_dc(circuit), freqs, source="VIN")
-    return ac.transfer("output") / ac.transfer("input")
+    return ac.transfer(node_out) / ac.transfer(node_in)
 
 
 def dc_at(kit: KitCircuit, node: str, positions=None) -> float:
@@ -193,11 +194,27 @@ high-cap: C44 4n7
 high-resistor: R44 22k
 tone: VR43 B100k
 ===
+active
+kind: tone-active
+input-cap: C45 4u7 film
+bass-in: R45 10k
+bass: VR44 B100k
+bass-out: R46 10k
+bass-cap-in: C46 22n
+bass-cap-out: C47 22n
+treble-in: R47 2k2
+treble: VR45 B100k
+treble-out: R48 2k2
+treble-cap: C48 10n
+opamp: U2A TL072
+output-cap: C49 10u film
+pulldown: R49 1M
+===
 softclip
 kind: opamp-soft-clip
 input-cap: C140 100n
 bias: R140 1M
-opamp: U2A TL072
+opamp: U3A TL072
 feedback: R141 10k
 gain: VR140 A500k
 feedback-cap: C141 100p
@@ -241,7 +258,7 @@ pulldown: R160 1M
 outbuf
 kind: output-buffer
 input-cap: C160 1u
-follower: U2B TL072
+follower: U3B TL072
 bias: R161 1M
 output-cap: C161 10u
 pulldown: R162 100k

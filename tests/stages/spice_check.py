@@ -68,3 +68,32 @@ def check_corners(kit: KitCircuit, stage: StageSpecs) -> None:
         assert (ours is None) == (ref is None)
         if ref is not None:
             assert ours.nominal == pytest.approx(ref, rel=0.01)
+
+
+def dip_from(freqs: np.ndarray, h: np.ndarray) -> tuple[float, float]:
+    """The deepest dip on a dense sweep by brute force: for each point, the lower of the
+    highest gains on either side of it, less its own gain; the largest, and where."""
+    db = 20 * np.log10(np.abs(h))
+    depth = [min(db[: i + 1].max(), db[i:].max()) - db[i] for i in range(db.size)]
+    i = int(np.argmax(depth))
+    return depth[i], float(freqs[i])
+
+
+def check_scoops(kit: KitCircuit, stage: StageSpecs) -> None:
+    """The mid scoop with the knobs at half way and at every knob step: depth within 0.05 dB,
+    frequency within 2 % (a flat-bottomed dip puts its lowest point less exactly)."""
+    require_ngspice()
+    nominal = {k.designator: 0.5 for k in kit.knobs}
+    names = {k.name: k.designator for k in kit.knobs}
+    settings = [(nominal, stage.scoop)] + [
+        ({**nominal, names[p.positions[0][0]]: p.positions[0][1]}, p.scoop)
+        for p in stage.knob_sweep]
+    for positions, ours in settings:
+        freqs, theirs = ac_sweep(kit.netlist(positions), SOURCE, [INPUT, OUTPUT], *BAND,
+                                 per_decade=400)
+        depth, hz = dip_from(freqs, theirs[OUTPUT] / theirs[INPUT])
+        if ours is None:
+            assert depth < 1.0, positions
+            continue
+        assert ours.depth_db.nominal == pytest.approx(depth, abs=0.05), positions
+        assert ours.hz.nominal == pytest.approx(hz, rel=0.02), positions

@@ -5,10 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from tests.stages.kits import POWER, guide_text, make_kit, response, stage_block
-from tests.stages.spice_check import check_corners, check_knob_steps
+from tests.stages.spice_check import check_corners, check_knob_steps, check_scoops
 from tests.test_specs_figures import specs_of
 
 from kitleaf.errors import CircuitError
+from kitleaf.specs.lookup import computed_values
 
 BLEND = stage_block("tone", "tone-blend", "low-resistor: R1 39k", "low-cap: C1 10n",
                     "high-cap: C2 4n7", "high-resistor: R2 22k", "tone: VR1 B100k")
@@ -64,6 +65,19 @@ def test_half_way_scoops_the_middle():
     assert 0 < dip < freqs.size - 1 and min(db[0], db[-1]) - db[dip] > 3.0
 
 
+def test_the_half_way_scoop_lies_between_the_two_rc_corners_and_is_named():
+    # the low-pass corner 1 / (2 pi 39k 10n) = 408 Hz, the high-pass 1 / (2 pi 22k 4n7) =
+    # 1.54 kHz (first-order RC, Horowitz & Hill 3e, 1.7.1): the paths cross between them
+    kit, specs = specs_of(POWER, BLEND, knobs=("Tone = VR1",))
+    scoop = specs.stage("tone").scoop
+    assert 408.0 < scoop.hz.nominal < 1540.0 and scoop.depth_db.nominal > 3.0
+    names = computed_values(specs, kit)
+    assert names["tone.scoop-depth"].value == scoop.depth_db
+    assert names["tone.scoop-frequency.tone-50"].value.nominal == pytest.approx(
+        scoop.hz.nominal)
+    assert "tone.scoop-depth.tone-0" not in names  # fully dark, the response never dips
+
+
 def test_a_part_of_the_wrong_type_is_refused_at_its_line():
     text = BLEND.replace("tone: VR1 B100k", "tone: R9 100k")
     with pytest.raises(CircuitError, match="'tone'") as caught:
@@ -83,3 +97,9 @@ def test_gain_and_impedances_at_every_knob_step_agree_with_ngspice():
 def test_corners_agree_with_ngspice():
     kit, specs = specs_of(POWER, BLEND, knobs=("Tone = VR1",), source="4k7")
     check_corners(kit, specs.stage("tone"))
+
+
+@pytest.mark.slow
+def test_the_mid_scoop_at_every_knob_step_agrees_with_ngspice():
+    kit, specs = specs_of(POWER, BLEND, knobs=("Tone = VR1",), source="4k7")
+    check_scoops(kit, specs.stage("tone"))

@@ -7,7 +7,7 @@ import itertools
 import numpy as np
 import pytest
 from tests.stages.kits import POWER, guide_text, make_kit, response, stage_block
-from tests.stages.spice_check import check_corners, check_knob_steps
+from tests.stages.spice_check import check_corners, check_knob_steps, check_scoops
 from tests.test_specs_figures import specs_of
 
 from kitleaf.errors import CircuitError
@@ -160,3 +160,9 @@ def test_gain_and_impedances_at_every_knob_step_agree_with_ngspice():
 def test_corners_agree_with_ngspice():
     kit, specs = specs_of(POWER, FERN_STACK, knobs=FERN_KNOBS, source="4k7")
     check_corners(kit, specs.stage("tone"))
+
+
+@pytest.mark.slow
+def test_the_mid_scoop_at_every_knob_step_agrees_with_ngspice():
+    kit, specs = specs_of(POWER, FERN_STACK, knobs=FERN_KNOBS, source="4k7")
+    check_scoops(kit, specs.stage("tone"))

@@ -109,6 +109,9 @@ class StageKind:
     extra_keys: ClassVar[tuple[str, ...]] = ()
     # False for stages off the signal path, such as the power section.
     signal: ClassVar[bool] = True
+    # True for a passive tone control, whose corners move with its knob by design: the rules
+    # on a stage's corners (coupling-corner, treble-corner) leave it alone.
+    shapes_response: ClassVar[bool] = False
     # True for the stage that provides the supply rail and the mid-rail reference.
     provides_power: ClassVar[bool] = False
     needs_reference: ClassVar[bool] = False

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent
+from kitleaf.circuit.stages import KINDS
+from kitleaf.display import figure, percent
 from kitleaf.render.plot import Panel, ResponsePlot, Trace
-from kitleaf.specs.model import Curve, KitSpecs, Range
+from kitleaf.specs.model import Curve, KitSpecs, Range, Scoop
 from kitleaf.values import format_value
 
 
@@ -12,7 +13,10 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
     stage = specs.stage(stage_id)
     if not stage.signal or not stage.curves:
         return None
-    corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
+    if KINDS[stage.kind].shapes_response:  # its corners follow its knobs: mark the scoop
+        corners = _scoop(stage.scoop)
+    else:
+        corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
     return ResponsePlot(f"{stage.title}: gain from its input to its output", specs.freqs,
                         _panels(stage.curves, stage.band_low, stage.band_high, corners))
 
@@ -63,6 +67,14 @@ def _title(knob: str, knobs: list[str], rests: dict | None = None) -> str:
 def _listed(names: list[str]) -> str:
     """Names as a sentence lists them: "Gain", "Gain and Tone", "Gain, Tone and Level"."""
     return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} and {names[-1]}"
+
+
+def _scoop(scoop: Scoop | None) -> tuple[tuple[float, str], ...]:
+    """The deepest dip with the knobs at half way, marked where it lies; none without one."""
+    if scoop is None:
+        return ()
+    where = format_value(scoop.hz.nominal, "frequency")
+    return ((scoop.hz.nominal, f"scoop {figure(scoop.depth_db.nominal, 'db')} at {where}"),)
 
 
 def _corners(low: Range | None, high: Range | None) -> tuple[tuple[float, str], ...]:

@@ -99,8 +99,12 @@ class SchematicSheet:
     It is the :class:`kitleaf.circuit.drawing.Sheet` a stage kind draws on, plus what the
     test-point markers and the overview need (text, rings, devices, what is occupied)."""
 
-    def __init__(self, title: str = "", nets: Mapping[str, str] | None = None) -> None:
+    def __init__(self, title: str = "", nets: Mapping[str, str] | None = None,
+                 plus_pins: Mapping[str, int] | None = None) -> None:
         self.title = title
+        # Each polarised capacitor's + pin from the computed DC (0: its first node, as its
+        # kind places it); a part not named here takes the kind's ``plus`` hint.
+        self.plus_pins = dict(plus_pins or {})
         self.nets = {"vcc": "VCC", "vref": "VREF", "supply": "+V IN", **(nets or {})}
         # Where a builder could probe: (device, pin) for device pins, ("", net) for nets.
         self.spots: dict[tuple[str, str], Point] = {}
@@ -114,10 +118,11 @@ class SchematicSheet:
     # -- parts ---------------------------------------------------------------------------------
     def part(self, part: Part | None, a: Point, b: Point, side: str | None = None,
              plus: Point | None = None) -> None:
-        """A two-terminal part from ``a`` to ``b`` (a diode's anode at ``a``), labelled.
+        """A two-terminal part from ``a`` (its first node) to ``b`` (a diode's anode at
+        ``a``), labelled.
 
-        An electrolytic's + lead is at ``a`` unless ``plus`` names ``b``, the end that sits at
-        the higher DC voltage.
+        An electrolytic's + lead is at the end the computed DC puts higher (``plus_pins``),
+        else at ``a`` unless the kind's ``plus`` hint names ``b``.
         """
         if part is None:
             return
@@ -128,9 +133,9 @@ class SchematicSheet:
         self.record.body(part.designator, a, b)
         polar = part.type == "capacitor" and part.polarised
         if polar:
-            self.record.plus[part.designator] = 1 if plus == b else 0
-        if polar and plus == b:
-            a, b = b, a
+            pin = self.plus_pins.get(part.designator, 1 if plus == b else 0)
+            self.record.plus[part.designator] = pin
+            a, b = (b, a) if pin == 1 else (a, b)
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
         self.label(part_label(part), label_point(a, b, side, LABEL_GAP[part.type]),
@@ -169,6 +174,9 @@ class SchematicSheet:
         wired = [t for t in throws if t is not None]
         for at in (common, *wired):
             self._add(elm.Dot(radius=0.09, open=True).at(at))
+        pins = [common, *wired]  # the pole as the drawing checker reads it (S1:p1)
+        self.record.part(f"{part.designator}:p{pole}", "pole",
+                         {str(i): at for i, at in enumerate(pins)})
         rest = form_of(part).throws[0]
         aim = throws[rest] if rest is not None and rest < len(throws) else None
         if aim is None:
@@ -336,14 +344,23 @@ class SchematicSheet:
         return placed.element
 
 
-def render_stage_svg(kit_circuit, stage) -> str:
-    """The schematic of one stage, drawn by its kind."""
-    return draw_stage(kit_circuit, stage).svg()
+def render_stage_svg(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None) -> str:
+    """The schematic of one stage, drawn by its kind; ``plus_pins`` gives each polarised
+    capacitor's + pin from the computed DC (:func:`plus_pins_of`)."""
+    return draw_stage(kit_circuit, stage, plus_pins).svg()
 
 
-def draw_stage(kit_circuit, stage) -> SchematicSheet:
+def plus_pins_of(stage, orientations: Mapping) -> dict[str, int]:
+    """The + pin of each of the stage's polarised capacitors, from the specs' orientations."""
+    return {p.designator: orientations[p.designator].plus_pin for p in stage.all_parts()
+            if p.designator in orientations}
+
+
+def draw_stage(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None
+               ) -> SchematicSheet:
     """The sheet of one stage, drawn by its kind, with its test points marked."""
-    sheet = SchematicSheet(stage.title, nets={"supply": kit_circuit.supply_label})
+    sheet = SchematicSheet(stage.title, nets={"supply": kit_circuit.supply_label},
+                           plus_pins=plus_pins)
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 

@@ -19,6 +19,8 @@ PIN_ORDER = {
     "resistor": ("a", "b"), "capacitor": ("a", "b"), "inductor": ("a", "b"),
     "diode": ("anode", "cathode"), "led": ("anode", "cathode"), "pot": ("ccw", "wiper", "cw"),
     "trimmer": ("a", "b"),  # in a resistor's place: a variable resistor
+    # a switch pole: its common, then each throw wired to something, in position order
+    "pole": tuple(str(i) for i in range(16)),
     "npn": ("collector", "base", "emitter"), "pnp": ("collector", "base", "emitter"),
     "njf": ("drain", "gate", "source"), "pjf": ("drain", "gate", "source"),
     "opamp": ("non_inv", "inv", "out", "vpos", "vneg"),

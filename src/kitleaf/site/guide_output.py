@@ -8,10 +8,11 @@ draws. Pages are cheap and always rendered; publishing writes them only if their
 from __future__ import annotations
 
 import functools
+from collections.abc import Mapping
 from pathlib import Path
 from urllib.parse import quote
 
-from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
+from kitleaf.bom import BUILD_ORDER, bom_lines, fitting_notes, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.harness import build_harness
@@ -26,9 +27,9 @@ from kitleaf.render.placement import SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
-from kitleaf.render.schematic import render_overview_svg, render_stage_svg
+from kitleaf.render.schematic import plus_pins_of, render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
-from kitleaf.render.wiring_list import wiring_rows
+from kitleaf.render.wiring_list import wires_by_part, wiring_rows
 from kitleaf.render.wiring_svg import render_wiring_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
@@ -37,6 +38,7 @@ from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.polarity import Orientation
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:
@@ -46,7 +48,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     kit = build_circuit(guide)
     specs = cached_specs(cache, guide, kit)
     slug = guide.slug
-    files, assets = stage_files(cache, kit, specs, slug)
+    checks = verify(guide, kit, specs)  # a broken claim stops the guide here
+    files, assets = stage_files(cache, kit, specs, slug, checks.orientations)
     overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
     files[f"{slug}/overview.svg"] = overview
@@ -55,17 +58,18 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     if harness is not None:
         files[f"{slug}/wiring.svg"] = render_wiring_svg(
             harness, f"Off-board wiring of {guide.kit.title}").encode()
-    checks = verify(guide, kit, specs)  # a broken claim stops the guide here
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
         "sections": SECTIONS,
         "checks": checks,
-        "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
+        "bom": fitting_notes(rating_warnings(bom_lines(kit.parts()), checks.stresses),
+                             checks.orientations),
         "bom_headings": dict(BUILD_ORDER),
         "symptoms": cached_symptoms(cache, kit),
         "harness": harness, "wiring_rows": wiring_rows(harness) if harness else (),
+        "wired_by": wires_by_part(harness),
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
@@ -76,14 +80,18 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                        guide.kit.code_span or guide.kit.span)
 
 
-def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
+def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,
+                orientations: Mapping[str, Orientation]):
     """Each stage's schematic and, for a signal stage, its response plot."""
     files: dict[str, bytes] = {}
     assets = {}
     for stage in kit.stages:
-        # A stage's drawing depends on its own parts and the supply label, nothing else.
+        # A stage's drawing depends on its own parts, the supply label and which way its
+        # polarised capacitors go, nothing else.
+        plus = plus_pins_of(stage, orientations)
         files[f"{slug}/{stage.id}-schematic.svg"] = cached_svg(
-            cache, "schematic", (stage, kit.supply_v), lambda s=stage: render_stage_svg(kit, s))
+            cache, "schematic", (stage, kit.supply_label, sorted(plus.items())),
+            lambda s=stage, p=plus: render_stage_svg(kit, s, p))
         entry = {"schematic": f"{stage.id}-schematic.svg", "plot": None}
         plot = stage_plot(specs, stage.id)
         if plot is not None:

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
@@ -24,6 +24,7 @@ from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.polarity import Orientation
 from kitleaf.specs.ratings import Stress
 from kitleaf.specs.rules import Finding, RuleContext, check_rules
 from kitleaf.values import parse_value
@@ -162,6 +163,8 @@ class Checks:
     findings: tuple[Finding, ...]
     # Each rated part's worst DC stress, for the BOM's rating warnings (specs/ratings.py).
     stresses: Mapping[str, Stress]
+    # Which way each polarised capacitor goes, for the drawing and the BOM (specs/polarity.py).
+    orientations: Mapping[str, Orientation] = field(default_factory=dict)
 
     def claims_for(self, scope: str) -> tuple[Verified, ...]:
         return tuple(c for c in self.claims if c.scope == scope)
@@ -181,4 +184,4 @@ def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> Checks:
     claims = check_claims(guide, kit, values)
     ctx = RuleContext(guide, kit, specs)
     return Checks(MappingProxyType(values), claims, check_rules(ctx),
-                  MappingProxyType(ctx.stresses))
+                  MappingProxyType(ctx.stresses), MappingProxyType(ctx.orientations))

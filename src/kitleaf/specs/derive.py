@@ -30,6 +30,7 @@ from kitleaf.specs.model import (
 )
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
+from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
 from kitleaf.specs.solve import KitState, nominal_positions
 from kitleaf.specs.trim import trims
@@ -146,9 +147,10 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
     node_in, node_out = kit.stage_nodes(stage.id)
     knobs = tuple(k for k in kit.controls if k.stage_id == stage.id)
     z = impedances(kit, stage.id, node_in, stage.id, node_out)
+    scoops = kit.kind(stage).shapes_response
     return StageSpecs(
         stage.id, stage.kind, stage.title, True, voltages,
-        knob_sweep(solved, node_in, node_out, knobs, z),
+        knob_sweep(solved, node_in, node_out, knobs, z, scoops),
         base.range(m.gain_db(node_in, node_out)),
         base.range(m.corner(node_in, node_out, 0)), base.range(m.corner(node_in, node_out, 1)),
         base.range(z[0]), base.range(z[1]),
@@ -158,6 +160,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         headroom=stage_headroom(solved, (stage,), node_out),
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
+        scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
         clips=kit.kind(stage).clips,
     )
 
@@ -178,11 +181,13 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
 
 
 def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
-               z: tuple[m.Measure, m.Measure]) -> tuple[KnobPoint, ...]:
+               z: tuple[m.Measure, m.Measure], scoops: bool = False) -> tuple[KnobPoint, ...]:
     """Gain and impedances at 1 kHz at each step of each knob and switch in ``controls``,
-    the others at their nominal settings."""
+    the others at their nominal settings (and the deepest dip, nominal parts, where
+    ``scoops`` asks for it)."""
     return tuple(KnobPoint(((c.name, shown),), state.range(m.gain_db(node_in, node_out)),
-                           state.range(z[0]), state.range(z[1]))
+                           state.range(z[0]), state.range(z[1]),
+                           scoop(state, node_in, node_out, spread=False) if scoops else None)
                  for c in controls
                  for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                               strict=True))

@@ -9,6 +9,7 @@ from kitleaf.specs.model import (
     KitSpecs,
     KnobPoint,
     Range,
+    Scoop,
     StageSpecs,
     Voltage,
 )
@@ -32,8 +33,13 @@ def _range(r: Range | None, scale: float = 1.0) -> dict | None:
 def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
     return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
              "input_impedance_ohm_1khz": _range(p.input_impedance),
-             "output_impedance_ohm_1khz": _range(p.output_impedance)}
+             "output_impedance_ohm_1khz": _range(p.output_impedance),
+             "scoop": _scoop(p.scoop)}
             for p in points]
+
+
+def _scoop(s: Scoop | None) -> dict | None:
+    return None if s is None else {"depth_db": _range(s.depth_db), "freq_hz": _range(s.hz)}
 
 
 def _headroom(h: Headroom | None) -> dict | None:
@@ -68,6 +74,7 @@ def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
         "headroom_v_peak": _headroom(s.headroom),
+        "scoop": _scoop(s.scoop),
         "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
         if s.signal else None,
     }

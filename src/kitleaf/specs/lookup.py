@@ -18,7 +18,7 @@ from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
 from kitleaf.guide.slug import slug_for as slug
-from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
+from kitleaf.specs.model import KitSpecs, KnobPoint, Range, Scoop, StageSpecs
 
 KIT = "kit"
 # Spec field -> (name, quantity, what it is); the same for the kit and each stage.
@@ -81,6 +81,7 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
         if value is not None:
             full = f"{prefix}.{name}"
             found[full] = Computed(full, value, quantity, f"{label}, {title}")
+    _add_scoop(found, prefix, "", getattr(specs, "scoop", None), title)
     for point in specs.knob_sweep:
         for field, name, quantity, label in KNOB_FIELDS:
             value = getattr(point, field)
@@ -88,6 +89,19 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
                 full = f"{prefix}.{name}.{_knob_suffix(point)}"
                 found[full] = Computed(full, value, quantity,
                                        f"{label}, {title}, {_knob_words(point)}")
+        _add_scoop(found, prefix, f".{_knob_suffix(point)}", point.scoop,
+                   f"{title}, {_knob_words(point)}")
+
+
+def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title: str) -> None:
+    """A passive tone control's mid scoop: its depth and where it lies (see specs/scoop.py)."""
+    if scoop is None:
+        return
+    for name, value, quantity, label in (("scoop-depth", scoop.depth_db, "db", "mid scoop depth"),
+                                         ("scoop-frequency", scoop.hz, "frequency",
+                                          "mid scoop frequency")):
+        full = f"{prefix}.{name}{suffix}"
+        found[full] = Computed(full, value, quantity, f"{label}, {title}")
 
 
 def _knob_suffix(point: KnobPoint) -> str:

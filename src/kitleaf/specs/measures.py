@@ -12,7 +12,7 @@ import numpy as np
 
 from kitleaf.circuit.chain import input_meter
 from kitleaf.specs.headroom import Margin, headroom
-from kitleaf.specs.response import REFERENCE_HZ, band_peak, corners, to_db
+from kitleaf.specs.response import REFERENCE_HZ, band_peak, corners, deepest_dip, to_db
 from kitleaf.specs.solve import View
 
 Measure = Callable[[View], np.ndarray]
@@ -34,6 +34,15 @@ def corner(node_in: str, node_out: str, side: int) -> Measure:
     def measure(v: View) -> np.ndarray:
         return v.once(("corners", node_in, node_out),
                       lambda: corners(v.sweep, node_in, node_out))[side]
+    return measure
+
+
+def scoop(node_in: str, node_out: str, side: int) -> Measure:
+    """The deepest dip of the response over the plotted band: its depth in dB (side 0) or its
+    frequency (side 1)."""
+    def measure(v: View) -> np.ndarray:
+        return v.once(("scoop", node_in, node_out),
+                      lambda: deepest_dip(v.sweep.ratio(node_in, node_out)))[side]
     return measure
 
 

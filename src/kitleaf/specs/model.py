@@ -30,6 +30,15 @@ class Range:
 
 
 @dataclass(frozen=True)
+class Scoop:
+    """The deepest dip of a tone stage's response, 10 Hz to 40 kHz: how far it falls below the
+    lower of the highest gains on either side of it, and where."""
+
+    depth_db: Range
+    hz: Range
+
+
+@dataclass(frozen=True)
 class KnobPoint:
     """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation) or its
     switches at given positions (by name), and the impedances there (None where not
@@ -39,6 +48,7 @@ class KnobPoint:
     gain_db: Range
     input_impedance: Range | None = None
     output_impedance: Range | None = None
+    scoop: Scoop | None = None  # nominal parts; for passive tone controls only
 
 
 @dataclass(frozen=True)
@@ -126,6 +136,9 @@ class StageSpecs:
     band_high: tuple[float, ...] = ()
     # The stage alone (low-Z source, 1 MΩ load) against in its place: see specs/loading.py.
     loading: Comparison | None = None
+    # The deepest dip, knobs at half way, for a passive tone control (None: not one, or its
+    # response does not dip by MIN_SCOOP_DB); each knob step's is on its knob_sweep point.
+    scoop: Scoop | None = None
     # The stage clips by design: its gain figures hold for small signals only.
     clips: bool = False
 

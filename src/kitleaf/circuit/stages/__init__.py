@@ -25,6 +25,7 @@ MODULES = (
     "opamp_spare",
     "output_buffer",
     "power",
+    "tone_active",
     "tone_blend",
     "tone_cut",
     "tone_stack",

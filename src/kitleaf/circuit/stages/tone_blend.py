@@ -34,6 +34,7 @@ class ToneBlend(StageKind):
     name = "tone-blend"
     summary = "one-knob tone: the pot fades from a low-pass path to a high-pass path"
     roles = ROLES
+    shapes_response = True
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part

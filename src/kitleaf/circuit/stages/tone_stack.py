@@ -43,6 +43,7 @@ class ToneStack(StageKind):
     name = "tone-stack"
     summary = "passive three-knob tone stack: treble, mid and bass"
     roles = ROLES
+    shapes_response = True
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part

@@ -46,9 +46,12 @@ MODULES = (
     "led_current",
     "pot_taper",
     "input_impedance",
+    "tone_drive",
+    "tone_load",
     "e_series",
     "battery_life",
     "unused_half",
+    "trim_reach",
 )
 
 

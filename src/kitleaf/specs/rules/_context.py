@@ -10,6 +10,7 @@ from functools import cached_property
 import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
 from kitleaf.display import setting
 from kitleaf.errors import SourceSpan
@@ -17,6 +18,7 @@ from kitleaf.guide.model import Guide
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.specs.polarity import Orientation, orientations
 from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
 from kitleaf.specs.rules._settings import DcSetting, Reading
 from kitleaf.specs.solve import KitState, nominal_positions
@@ -167,6 +169,16 @@ class RuleContext:
         value, bound = self.shown(verdict, stress)
         where = self.setting(verdict.state, nominal).strip()
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
+
+    def corner_stages(self) -> tuple[Stage, ...]:
+        """The signal stages whose corners the rules judge: all but passive tone controls."""
+        return tuple(s for s in self.kit.signal_stages
+                     if not self.kit.kind(s).shapes_response)
+
+    @cached_property
+    def orientations(self) -> dict[str, Orientation]:
+        """Each polarised capacitor's + end over the knob states (see specs/polarity.py)."""
+        return orientations(self)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:

@@ -2,9 +2,10 @@
 nominal build or in 5 % of the builds within part tolerances.
 
 The audio band runs from 20 Hz to 20 kHz (common practice, no source); a coupling or bypass
-capacitor that cuts inside it thins the low strings unless that is the stage's purpose. The
-finding names the stage's capacitor that sets the corner: the one whose tenfold value lowers
-the nominal corner most (a capacitor far from the corner barely moves it).
+capacitor that cuts inside it thins the low strings unless that is the stage's purpose (a
+passive tone control, whose corners move with its knob, is left alone). The finding names the
+stage's capacitor that sets the corner: the one whose tenfold value lowers the nominal corner
+most (a capacitor far from the corner barely moves it).
 """
 
 from __future__ import annotations
@@ -29,7 +30,7 @@ SETS = 0.2
 
 @register(RULE, "a signal stage's low corner above 20 Hz")
 def check(ctx: RuleContext):
-    for stage in ctx.kit.signal_stages:
+    for stage in ctx.corner_stages():
         corner = ctx.specs.stage(stage.id).low_corner_hz
         words = past_limit(corner, LIMIT_HZ, True, "frequency")
         if words is None:
