@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 from tests.stages.kits import POWER, guide_text, make_kit, response, stage_block
 from tests.stages.spice_check import check_corners, check_knob_steps, check_scoops
 from tests.test_specs_figures import specs_of
 
+from kitleaf.display import range_text
 from kitleaf.errors import CircuitError
+from kitleaf.render.specs_text import specs_to_text
 from kitleaf.specs.lookup import computed_values
 
 BLEND = stage_block("tone", "tone-blend", "low-resistor: R1 39k", "low-cap: C1 10n",
@@ -76,6 +80,8 @@ def test_the_half_way_scoop_lies_between_the_two_rc_corners_and_is_named():
     assert names["tone.scoop-frequency.tone-50"].value.nominal == pytest.approx(
         scoop.hz.nominal)
     assert "tone.scoop-depth.tone-0" not in names  # fully dark, the response never dips
+    # `kitleaf specs` prints it under the stage
+    assert f"mid scoop        {range_text(scoop.depth_db, 'db')} at" in specs_to_text(specs)
 
 
 def test_a_part_of_the_wrong_type_is_refused_at_its_line():
@@ -103,3 +109,17 @@ def test_corners_agree_with_ngspice():
 def test_the_mid_scoop_at_every_knob_step_agrees_with_ngspice():
     kit, specs = specs_of(POWER, BLEND, knobs=("Tone = VR1",), source="4k7")
     check_scoops(kit, specs.stage("tone"))
+
+
+def test_the_page_and_the_plot_show_the_scoop(tmp_path):
+    from kitleaf.site.guide_output import process_guide
+
+    theme = Path(__file__).resolve().parents[2] / "themes" / "default"
+    guide = tmp_path / "blend.md"
+    guide.write_text(guide_text(POWER, BLEND).replace("```\n", "knob: Tone = VR1\n```\n", 1),
+                     encoding="utf-8")
+    files = dict(process_guide(guide, [theme]).files)
+    page = next(v for k, v in files.items() if k.endswith("index.html")).decode()
+    plot = next(v for k, v in files.items() if k.endswith("tone-response.svg")).decode()
+    assert "Mid scoop (deepest dip)" in page and "Tone at 75 %" in page
+    assert "scoop " in plot and "−3 dB" not in plot  # the scoop marked instead of corners
