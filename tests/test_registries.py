@@ -58,7 +58,5 @@ def test_each_kind_s_role_table_is_its_roles():
     section = text.split("\n## Kinds\n", 1)[1].split("\n## ", 1)[0]
     chunks = re.split(r"^### `([a-z-]+)`$", section, flags=re.M)
     for name, body in zip(chunks[1::2], chunks[2::2], strict=True):
-        rows = re.findall(r"^\| `([a-z-]+)` \| ([^|]+) \|", body, flags=re.M)
-        documented = [(role, types.strip()) for role, types in rows]
-        roles = [(r.name, ", ".join(r.part_types)) for r in stages.KINDS[name].roles]
-        assert documented == roles, name
+        documented = re.findall(r"^\| `([a-z-]+)` \|", body, flags=re.M)
+        assert documented == [r.name for r in stages.KINDS[name].roles], name
