@@ -116,7 +116,7 @@ class TestStageSchematic:
             assert f"{number} {tp.label}" in legend, tp.label  # the voltage table's wording
         rings = [c for c in ET.fromstring(svg).iter(f"{SVG}circle")
                  if abs(float(c.get("r")) - RING_PT) < 0.01]
-        drawn = 0 if stage.kind == "custom" else len(points)  # a custom block shows no nodes
+        drawn = len(points)  # a custom stage's too: its nodes are drawn as rows
         assert len(rings) == drawn
         assert all(str(n) in words for n in range(1, drawn + 1))
 
@@ -223,7 +223,7 @@ def test_overview_power_feeds_exactly_the_stages_that_use_its_rails():
     blocks = rects(svg)
     power = blocks[-1]  # drawn last, below the chain
     fed = {i for i, s in enumerate(KIT.signal_stages) if KIT.rails_used(s)}
-    assert fed == {0, 1, 2, 3, 4, 9, 13}  # the transistor, op-amp and custom stages
+    assert fed == {0, 1, 2, 3, 4, 9, 13, 14, 15, 16, 17}  # the transistor, op-amp and custom stages
     assert wired_to(svg, power) == fed | {len(blocks) - 1}
     words = [t for t, _ in texts(svg)]
     assert "VCC, VREF" in words

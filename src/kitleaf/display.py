@@ -7,6 +7,7 @@ functions, so a figure reads the same on the page and on the command line.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 
 from kitleaf.values import format_db, format_value
@@ -48,6 +49,8 @@ def range_text(value, quantity: str) -> str:
     """A spec as the trade writes it, with its tolerance spread: "25.8 dB (24.9–26.6)"."""
     if value is None:
         return DASH
+    if quantity == "current" and _below_meter(value):
+        return NO_CURRENT
     nominal = _one(value.nominal, quantity)
     if value.low is None or value.high is None:
         return nominal
@@ -60,6 +63,32 @@ def range_text(value, quantity: str) -> str:
     # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
     joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
     return f"{nominal} ({low}{joiner}{high})"
+
+
+# A current below what a multimeter's lowest range resolves (about 0.1 µA; common practice,
+# no source) is the solver's rounding, not a draw: a stage that draws nothing says so.
+SMALLEST_CURRENT = 1e-9
+NO_CURRENT = "none (under 1 nA)"
+
+
+def _below_meter(value) -> bool:
+    ends = [x for x in (value.nominal, value.low, value.high) if x is not None]
+    return all(abs(x) < SMALLEST_CURRENT for x in ends)
+
+
+def dbv(volts: float) -> float:
+    """RMS volts in decibels relative to 1 V RMS (dBV)."""
+    return 20.0 * math.log10(volts) if volts > 0 else -math.inf
+
+
+def hum_text(value) -> str:
+    """Hum at the output as RMS volts with its spread, and the nominal in dBV:
+    "120 µV (98–145) RMS, -78.4 dBV"."""
+    if value is None:
+        return DASH
+    level = dbv(value.nominal)
+    shown = f"{level:.1f}" if math.isfinite(level) else "below -300"
+    return f"{range_text(value, 'voltage')} RMS, {shown} dBV"
 
 
 def power_text(watts: float) -> str:
@@ -86,9 +115,9 @@ def settings(positions) -> str:
 
 def at_rest(switches) -> str:
     """Where the controls stay while another is swept (``KitSpecs.switches``): "knobs at
-    half way" and each switch at its first position."""
-    return ", ".join(["knobs at half way"] + [setting(name, positions[0])
-                                              for name, _, positions in switches])
+    half way" and each switch at the position it rests at."""
+    return ", ".join(["knobs at half way"] + [setting(name, rest)
+                                              for name, _, _, rest in switches])
 
 
 def trim_instruction(trim) -> str:
@@ -117,6 +146,7 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "hum_text": hum_text,
     "settings": settings,
     "trim_instruction": trim_instruction,
     "at_rest": at_rest,

@@ -23,7 +23,7 @@ from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
-from kitleaf.render.placement import SECTIONS, arrange
+from kitleaf.render.placement import ABSENT_KEY, SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
@@ -62,7 +62,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
+        "pieces": arrange(render_prose(guide.text, page_env(guide.path, checks, harness))),
         "sections": SECTIONS,
         "checks": checks,
         "bom": fitting_notes(rating_warnings(bom_lines(kit.parts()), checks.stresses),
@@ -79,6 +79,15 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     record = guide_record(Path(path).name, kit.parts(), specs)
     return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
                        guide.kit.code_span or guide.kit.span)
+
+
+def page_env(path: str, checks, harness) -> dict:
+    """The prose env of the guide page: its computed values, and the sections it cannot show."""
+    env = prose_env(path, checks.values)
+    if harness is None:
+        env[ABSENT_KEY] = {"wiring": "add 'bypass: true' (or buffered, none) to the kit block "
+                                     "to draw the off-board wiring"}
+    return env
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,

@@ -14,6 +14,7 @@ from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply
 from kitleaf.circuit.kind import Stage
 from kitleaf.display import setting
 from kitleaf.errors import KitleafError, SolveError
+from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.headroom import MARGINS, margins
@@ -114,12 +115,14 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     stages = tuple(stage_specs(solved, s) for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
+    ripple = stated_ripple(guide)
+    hum = None if ripple is None else m.hum(OUTPUT, *ripple)
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
         knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.controls,
                               impedances(kit, first, kit.stage_nodes(first)[0],
-                                         last, kit.stage_nodes(last)[1])),
+                                         last, kit.stage_nodes(last)[1]), hum=hum),
         knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
@@ -135,11 +138,20 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
         supplies=solved.supplies,
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
-        switches=tuple((s.name, s.designator, s.positions) for s in kit.switches),
+        switches=tuple((s.name, s.designator, s.positions, s.positions[s.rest])
+                       for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
         trims=trims(kit),
+        ripple=ripple, hum=None if hum is None else base.range(hum),
+        clips=any(s.clips for s in stages),
     )
+
+
+def stated_ripple(guide: Guide) -> tuple[float, float] | None:
+    """The adapter's ripple the kit block states (volts peak to peak, hertz), if it does."""
+    entry = next((e for e in guide.kit.extra if e.key == "adapter-ripple"), None)
+    return None if entry is None else adapter_ripple(entry)
 
 
 def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:
@@ -174,6 +186,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
+        clips=kit.kind(stage).clips,
     )
 
 
@@ -193,13 +206,17 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
 
 
 def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
-               z: tuple[m.Measure, m.Measure], scoops: bool = False) -> tuple[KnobPoint, ...]:
+               z: tuple[m.Measure, m.Measure], scoops: bool = False,
+               hum: m.Measure | None = None) -> tuple[KnobPoint, ...]:
     """Gain and impedances at 1 kHz at each step of each knob and switch in ``controls``,
     the others at their nominal settings (and the deepest dip, nominal parts, where
-    ``scoops`` asks for it)."""
+    ``scoops`` asks for it; the hum at the output where the kit states its adapter's
+    ripple)."""
     return tuple(KnobPoint(((c.name, shown),), state.range(m.gain_db(node_in, node_out)),
                            state.range(z[0]), state.range(z[1]),
-                           scoop(state, node_in, node_out, spread=False) if scoops else None)
+                           scoop=scoop(state, node_in, node_out, spread=False) if scoops
+                           else None,
+                           hum=None if hum is None else state.range(hum))
                  for c in controls
                  for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                               strict=True))
@@ -237,10 +254,12 @@ def kit_headroom(solved: SolvedKit) -> Headroom | None:
 
 
 def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
-    """Findings a builder should hear about, each a ``path:line: warning:`` line at its stage's
-    block: a device with no room to swing at its bias."""
+    """Findings a builder should hear about, each a ``path:line: warning:`` line: what reading
+    the guide's device models raised, then a device with no room to swing at its bias (at its
+    stage's block)."""
     spans = {s.id: s.span for s in kit.stages}
-    return tuple(f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room "
-                 "to swing at this bias"
-                 for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
+    return kit.warnings + tuple(
+        f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room to swing "
+        "at this bias"
+        for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 
