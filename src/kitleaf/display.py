@@ -102,9 +102,9 @@ def settings(positions) -> str:
 
 def at_rest(switches) -> str:
     """Where the controls stay while another is swept (``KitSpecs.switches``): "knobs at
-    half way" and each switch at its first position."""
-    return ", ".join(["knobs at half way"] + [setting(name, positions[0])
-                                              for name, _, positions in switches])
+    half way" and each switch at the position it rests at."""
+    return ", ".join(["knobs at half way"] + [setting(name, rest)
+                                              for name, _, _, rest in switches])
 
 
 def trim_instruction(trim) -> str:

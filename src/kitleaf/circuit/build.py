@@ -212,7 +212,8 @@ def _switches(guide: Guide, stages: list[Stage]) -> tuple[SwitchRef, ...]:
                 f"switch '{switch.name}' names {len(switch.positions)} positions, but "
                 f"{part.designator} ({_form_words(part)}, line {part.span.line}) has {count}; "
                 "name each position once, in the switch's order", switch.span)
-        found.append(SwitchRef(switch.name, part.designator, part.stage_id, switch.positions))
+        found.append(SwitchRef(switch.name, part.designator, part.stage_id, switch.positions,
+                               switch.rest))
     named = {s.designator for s in found}
     for part in parts.values():
         if part.designator not in named:

@@ -77,13 +77,14 @@ class KnobRef:
 @dataclass(frozen=True)
 class SwitchRef:
     """A switch of the kit: its name, its part, the stage it sits in and the maker's name
-    for each of its positions, in the switch's order; the first is where it sits while the
+    for each of its positions, in the switch's order, and the one it rests at while the
     knobs and other switches are swept."""
 
     name: str
     designator: str
     stage_id: str
     positions: tuple[str, ...]
+    rest: int = 0  # the position it rests at while the rest of the kit is swept
 
     @property
     def steps(self) -> tuple[tuple[float, str], ...]:
@@ -92,7 +93,7 @@ class SwitchRef:
 
     @property
     def nominal(self) -> float:
-        return 0.0
+        return float(self.rest)
 
 
 class Wiring:
@@ -207,7 +208,7 @@ class KitCircuit:
         return {}
 
     def rest_positions(self) -> dict[str, float]:
-        """Every knob half way and every switch at its first position: where the voltage
+        """Every knob half way and every switch where it rests: where the voltage
         table and the headline figures are read."""
         return {control.designator: control.nominal for control in self.controls}
 
@@ -263,7 +264,8 @@ class KitCircuit:
     def netlist(self, positions: Mapping[str, float] | None = None,
                 supply_v: float | None = None) -> Circuit:
         """A fresh engine circuit of the whole kit at the given knob positions and supply."""
-        positions = MappingProxyType({**dict(self.presets), **(positions or {})})
+        rests = {s.designator: s.nominal for s in self.switches}
+        positions = MappingProxyType({**rests, **dict(self.presets), **(positions or {})})
         circuit = Circuit()
         volts = self.supply_v if supply_v is None else supply_v
         circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=volts)

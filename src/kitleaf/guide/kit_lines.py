@@ -45,6 +45,9 @@ def read_knob(entry: Entry) -> Knob:
     return Knob(name, designator, entry.span)
 
 
+REST_MARK = "*"  # after a switch position's name: the position it rests at
+
+
 def read_switches(entries: tuple[Entry, ...], knobs: tuple[Knob, ...]) -> tuple[Switch, ...]:
     """The ``switch:`` lines; a switch has its own name (apart from every knob's too), its own
     part and at least two positions, each named apart from the others."""
@@ -61,12 +64,19 @@ def read_switch(entry: Entry) -> Switch:
     name, sep, rest = entry.value.partition("=")
     designator, colon, listed = rest.partition(":")
     name, designator = name.strip(), designator.strip()
-    positions = tuple(p.strip() for p in listed.split(","))
+    marked = [p.strip() for p in listed.split(",")]
+    rests = [i for i, p in enumerate(marked) if p.endswith(REST_MARK)]
+    positions = tuple(p.removesuffix(REST_MARK).strip() for p in marked)
+    if len(rests) > 1:
+        raise GuideError(f"switch '{name.strip()}' marks {len(rests)} positions with "
+                         f"'{REST_MARK}'; mark the one it rests at, or none (the first)",
+                         entry.span)
     if not sep or not colon or not name or not DESIGNATOR.match(designator) or len(
             positions) < 2 or not all(positions):
         raise GuideError(
             f"cannot read switch {entry.value!r}; write the switch's name, its part and a name "
-            "for each position in order, like 'Clip = S1: diodes, LEDs, off'", entry.span)
+            "for each position in order, like 'Clip = S1: diodes, off*, LEDs' (the '*' marks "
+            "where it rests; the first if none)", entry.span)
     if not slug_for(name):
         raise GuideError(f"switch {name!r} needs a letter a-z or a digit in its name (claims "
                          "and prose name it by them)", entry.span)
@@ -80,7 +90,7 @@ def read_switch(entry: Entry) -> Switch:
                              "position by its letters and digits, so give each its own name",
                              entry.span)
         seen[slug] = position
-    return Switch(name, designator, positions, entry.span)
+    return Switch(name, designator, positions, entry.span, rests[0] if rests else 0)
 
 
 def _refuse_twice(knob: Knob | Switch, other: Knob | Switch) -> None:

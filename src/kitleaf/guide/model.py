@@ -70,12 +70,14 @@ class Knob:
 @dataclass(frozen=True)
 class Switch:
     """A switch on the enclosure, named for the builder: its part and the maker's name for
-    each of its positions, in the switch's own order (the first is where it rests)."""
+    each of its positions, in the switch's own order; ``rest`` is the one it rests at while
+    the rest of the kit is swept (the first unless the guide marks another)."""
 
     name: str
     designator: str
     positions: tuple[str, ...]
     span: SourceSpan
+    rest: int = 0
 
 
 @dataclass(frozen=True)

@@ -138,7 +138,8 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
         supplies=solved.supplies,
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
-        switches=tuple((s.name, s.designator, s.positions) for s in kit.switches),
+        switches=tuple((s.name, s.designator, s.positions, s.positions[s.rest])
+                       for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
         trims=trims(kit),

@@ -101,8 +101,8 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
                 "supply_v": _num(specs.supply_v),
                 "knobs": [{"name": n, "pot": d} for n, d in specs.knobs],
-                "switches": [{"name": n, "switch": d, "positions": list(p)}
-                             for n, d, p in specs.switches]},
+                "switches": [{"name": n, "switch": d, "positions": list(p), "rest": r}
+                             for n, d, p, r in specs.switches]},
         "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],

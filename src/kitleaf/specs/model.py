@@ -85,6 +85,7 @@ class Curve:
     knob: str
     position: float | str | None
     gain_db: tuple[float, ...]
+    at_rest: bool = False  # the position the control rests at (a knob's half way)
 
 
 @dataclass(frozen=True)
@@ -170,8 +171,8 @@ class KitSpecs:
     band_high: tuple[float, ...] = ()
     supplies: tuple[Supply, ...] = ()
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
-    # (switch name, designator, position names), as the kit block says
-    switches: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
+    # (switch name, designator, position names, the one it rests at), as the kit block says
+    switches: tuple[tuple[str, str, tuple[str, ...], str], ...] = ()
     samples: int = 0
     seed: int = 0
     # The gain (nominal parts) with the knobs together at the ends of their travel:

@@ -91,7 +91,7 @@ class RuleContext:
 
     @cached_property
     def states(self) -> tuple[DcSetting, ...]:
-        """Knobs at half way (switches at their first position), then each knob or switch
+        """Knobs at half way (switches where they rest), then each knob or switch
         alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
         settings = [("knobs at half way", None, 0)]
