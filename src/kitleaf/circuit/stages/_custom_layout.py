@@ -25,6 +25,7 @@ from kitleaf.circuit.stages._custom_plan import (
 )
 
 EDGE = 0.0  # the left edge, where named connections sit
+RAIL_STUB = 0.5  # from VCC's line up to its rail symbol
 
 
 def draw_netlist(stage: Stage, sheet: Sheet) -> None:
@@ -52,8 +53,9 @@ def _draw_row(sheet: Sheet, node: str, y: float, xs: list[float], right: float) 
         sheet.port(at, "IN", "left")
     elif node == "out":
         sheet.port(at, "OUT", "right")
-    elif node == "vcc":
-        sheet.rail(at)
+    elif node == "vcc":  # on a stub, so the rail's bar does not lie along the line
+        sheet.wire(at, (at[0], y + RAIL_STUB))
+        sheet.rail((at[0], y + RAIL_STUB))
     elif node == "0":
         sheet.ground(at)
     elif node == "vref":
