@@ -19,9 +19,10 @@ SAMPLES = {
     "resistor": ("10k",), "capacitor": ("100n film", "10u electrolytic 25V"),
     "inductor": ("100mH",), "pot": ("B100k",), "diode": ("1N4148",), "led": ("red",),
     "bjt": ("2N3904", "2N3906"), "jfet": ("J201", "2N5460"), "opamp": ("TL072",),
+    "pump": ("7660",),
 }
 PREFIX = {"resistor": "R", "capacitor": "C", "inductor": "L", "pot": "VR", "diode": "D",
-          "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U"}
+          "led": "LED", "bjt": "Q", "jfet": "Q", "opamp": "U", "pump": "U"}
 FLAVOURS = ("npn-film", "pnp-electrolytic")
 VOLUME = stage_block("vol", "volume", "volume: VR99 A100k")
 # After a stage whose output carries its DC (an option leaving out its output roles): a
@@ -102,3 +103,37 @@ def part_lines(kind: StageKind, roles: set[str], flavour: int) -> list[str]:
             values = SAMPLES[part_type]
             lines.append(f"{role.name}: {designator} {values[min(flavour, len(values) - 1)]}")
     return lines
+
+
+# Parts a generated netlist draws from: (part type, designator prefix, values, pin count).
+NETLIST_PARTS = (
+    ("resistor", "R", ("10k", "470k", "2k2"), 2), ("capacitor", "C", ("100n film",
+     "10u electrolytic 25V", "470p ceramic"), 2), ("diode", "D", ("1N4148",), 2),
+    ("led", "LED", ("red",), 2), ("pot", "VR", ("B100k",), 3),
+    ("bjt", "Q", ("2N3904", "2N3906"), 3), ("jfet", "Q", ("J201", "2N5460"), 3),
+    ("opamp", "U", ("TL072",), 3),
+)
+
+
+def random_netlist(rng, parts: int) -> str:
+    """A custom stage of ``parts`` parts on random nodes, then a resistor to ground from each
+    own node (seeded by ``rng``, a random.Random):
+    every pin on a stage connection or one of a few own nodes, IN and OUT both used, no part
+    with both ends of a resistor, track or channel on one node."""
+    own = [f"n{i}" for i in range(1, max(2, parts // 3) + 1)]
+    pool = ["in", "out", "vcc", "0", "vref"] + own
+    counts: dict[str, int] = {}
+    lines = ["nodes: " + " ".join(own)]
+    for i in range(parts):
+        part_type, prefix, values, pins = rng.choice(NETLIST_PARTS)
+        counts[prefix] = counts.get(prefix, 0) + 1
+        designator = f"{prefix}{counts[prefix]}" + ("A" if part_type == "opamp" else "")
+        if part_type == "opamp" and counts[prefix] > 1:
+            designator = f"U{counts[prefix]}A"
+        first = ["in", "out"][i] if i < 2 else rng.choice(pool)  # IN and OUT joined
+        nodes = [first] + rng.sample([n for n in pool if n != first], pins - 1)
+        rng.shuffle(nodes)
+        lines.append(f"part: {designator} {rng.choice(values)} @ {' '.join(nodes)}")
+    # a DC path to ground from every own node, as the solver asks (these are parts too)
+    lines += [f"part: R{900 + i} 1M @ {node} 0" for i, node in enumerate(own)]
+    return stage_block("stage", "custom", *lines)

@@ -9,7 +9,7 @@ import pytest
 
 from kitleaf.errors import RenderError
 from kitleaf.render.inline import prose_env
-from kitleaf.render.placement import SECTIONS, arrange
+from kitleaf.render.placement import ABSENT_KEY, SECTIONS, arrange
 from kitleaf.render.prose import render_prose
 from site_pages import build_demo_site
 
@@ -87,3 +87,13 @@ def test_no_demo_site_page_has_two_headings_in_a_row(tmp_path):
         assert HEADINGS_IN_A_ROW.search(html) is None, page
     guide = (site / "heron-opamp-boost" / "index.html").read_text(encoding="utf-8")
     assert guide.index("cleanest boost") < guide.index("The kit at a glance")
+
+
+def test_the_wiring_placed_in_a_guide_without_a_bypass_scheme_is_a_located_error():
+    text = GUIDE.replace("{@voltages}", "{@wiring}")
+    env = {**prose_env("order.md", {}), ABSENT_KEY: {"wiring": "add 'bypass: true'"}}
+    with pytest.raises(RenderError, match="add 'bypass: true'") as raised:
+        render_prose(text, env)
+    assert raised.value.span.line == text.splitlines().index("{@wiring}") + 1
+    assert [p.content for p in render_prose(text, prose_env("order.md", {}))
+            if p.kind == "section"] == ["wiring"]

@@ -73,3 +73,20 @@ def test_an_electrolytic_at_zero_volts_is_a_finding():
     assert [f.subject for f in found] == ["C50"]
     assert "does not say which way it goes" in found[0].message
     assert not checks.orientations["C50"].settled
+
+
+def test_an_electrolytic_shorted_only_at_one_knob_end_is_no_finding():
+    # VR6 across C60 shorts it with the knob at 0 %; every other setting holds it forward,
+    # which settles its way round (the + to the VCC side through R60)
+    block = stage_block("set", "custom", "nodes: m", "part: R60 10k @ vcc m",
+                        "part: VR6 B1k @ m 0 0", "part: C60 22u electrolytic 25V @ m 0",
+                        "part: C61 100n film @ in m", "part: R61 100k @ m out",
+                        "part: R62 1M @ out 0")
+    text = guide_text(POWER, block).replace("source: low-z", "source: low-z\nknob: Set = VR6")
+    guide = parse_guide("test.md", text)
+    kit = build_circuit(guide)
+    checks = verify(guide, kit, derive_specs(guide, kit))
+    c60 = checks.orientations["C60"]
+    assert c60.setting == "Set at 0 %" and abs(c60.margin) < 0.01  # shorted there
+    assert c60.settled and c60.plus_pin == 0
+    assert [f for f in checks.findings if f.rule == "cap-polarity"] == []

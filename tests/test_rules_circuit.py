@@ -13,8 +13,15 @@ from tests.stages.kits import EVERY_KIND, guide_text
 from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import solve_batch
 from kitleaf.guide.parse import parse_guide
-from kitleaf.specs.derive import derive_specs
+from kitleaf.specs import measures as m
+from kitleaf.specs import sampled
+from kitleaf.specs.claims import verify
+from kitleaf.specs.derive import derive_specs, solve_kit
 from kitleaf.specs.model import SAMPLES, SEED
+from kitleaf.specs.rules import RuleContext
+from kitleaf.specs.rules.coupling_corner import setting_capacitor
+from kitleaf.specs.sampled import solve_nominal
+from kitleaf.specs.solve import View
 from rules_kits import BUFFER, GUIDE, KIT, OPAMP, POWER, findings, swapped
 
 
@@ -55,6 +62,38 @@ class TestCouplingCorner:
     def test_100n_into_1m_cuts_at_1_6_hz(self):
         # 1 / (2π · 1 MΩ · 100 nF) = 1.59 Hz, under 20 Hz.
         assert findings(filter_guide(high_pass("C1 100n film", "R1 1M")), "coupling-corner") == []
+
+
+class TestSharedStates:
+    def test_the_rules_read_the_specs_solved_states_and_find_the_same(self, monkeypatch):
+        g = parse_guide("test.md", swapped(("C1 1u film 63V", "C1 1n film 63V")))
+        kit = build_circuit(g)
+        solved = solve_kit(g, kit)
+        specs = derive_specs(g, kit, solved)
+        alone = verify(g, kit, specs)  # the rules solve their own states
+        solves = []
+        real = sampled.solve_batch
+        monkeypatch.setattr(sampled, "solve_batch",
+                            lambda c, *a, **k: solves.append(a) or real(c, *a, **k))
+        shared = verify(g, kit, specs, solved)
+        # no tolerance batch is solved again: every rule read the specs' samples
+        assert [a for a in solves if a and a[0] is not None] == []
+        assert [f.line() for f in shared.findings] == [f.line() for f in alone.findings]
+        assert shared.stresses == alone.stresses
+
+    def test_a_tenfold_capacitor_keeps_the_operating_point_and_moves_the_corner(self):
+        # a capacitor carries no DC current, so the changed kit is solved at the kit's own
+        # operating point; its corner equals a fresh solve's
+        g = parse_guide("test.md", swapped(("C1 1u film 63V", "C1 1n film 63V")))
+        kit = build_circuit(g)
+        solved = solve_kit(g, kit)
+        ctx = RuleContext(g, kit, derive_specs(g, kit, solved), solved)
+        stage = kit.signal_stages[0]
+        part, moved = setting_capacitor(ctx, stage)
+        changed = ctx.states[0].circuit.replaced(part.designator,
+                                                 value=part.value * 10.0)
+        fresh = m.corner(*kit.stage_nodes(stage.id), 0)(View(solve_nominal(changed)))[0]
+        assert moved == pytest.approx(fresh, rel=1e-9)
 
 
 class TestTrebleCorner:

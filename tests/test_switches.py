@@ -127,7 +127,7 @@ class TestKit:
             ("Bypass", "partial"), ("Bypass", "none"), ("Bypass", "full")]
         stage = specs.stage("boost")
         assert [p.positions[0][1] for p in stage.knob_sweep] == ["partial", "none", "full"]
-        assert specs.switches == (("Bypass", "S1", ("partial", "none", "full")),)
+        assert specs.switches == (("Bypass", "S1", ("partial", "none", "full"), "partial"),)
 
     def test_the_knob_ends_take_every_switch_position(self):
         # the gain range of the index card: Level fully up with the full bypass is the top
@@ -137,6 +137,28 @@ class TestKit:
         assert set(ends) == {(("Level", e), ("Bypass", n)) for e in (0.0, 1.0)
                              for n in ("partial", "none", "full")}
         assert max(ends, key=ends.get) == (("Level", 1.0), ("Bypass", "full"))
+
+    def test_a_marked_position_is_where_the_switch_rests(self):
+        parsed, kit = kit_of(switch="switch: Bypass = S1: partial, none*, full")
+        assert kit.switches[0].rest == 1
+        # every netlist rests there unless told otherwise: the unbypassed gain, RC/RE halved
+        # by the level pot (as test_positions_are_states_of_the_netlist)
+        assert abs(gain_at(kit, 1e3)) == pytest.approx(4.7 * 0.5, rel=0.15)
+        specs = derive_specs(parsed, kit)
+        by_setting = {p.positions: p.gain_db.nominal for p in specs.knob_sweep}
+        assert specs.gain_db.nominal == pytest.approx(by_setting[(("Bypass", "none"),)])
+        assert specs.switches[0][3] == "none"
+        assert [c.position for c in specs.curves if c.at_rest] == [0.5, "none"]
+        from kitleaf.render.plot_specs import kit_plot
+
+        level, bypass = kit_plot(specs).panels
+        assert (level.solid, bypass.solid) == (None, 1)  # the band's curve is drawn solid
+        assert level.title == "Level knob turned, Bypass set to none"
+
+    @pytest.mark.parametrize("line", ["switch: Bypass = S1: partial*, none*, full"])
+    def test_one_rest_at_most(self, line):
+        with pytest.raises(GuideError, match="marks 2 positions with"):
+            kit_of(switch=line)
 
     def test_a_claim_names_a_position(self):
         parsed, kit = kit_of()

@@ -184,7 +184,7 @@ def test_the_page_shows_each_switch_position_and_the_set_up_step(tmp_path):
     rows = [th.all_text() for th in page.iter("th")]
     for position in ("diodes", "LEDs", "off"):
         assert f"Clip set to {position}" in rows
-    assert "Gain at 1 kHz, knobs at half way, Clip set to diodes" in rows
+    assert "Gain at 1 kHz, knobs at half way, Clip set to off" in rows
     set_up = page.find_all("div", "set-up")[0].all_text()
     assert "Turn TR1 until Q1 drain (point 2 of JFET boost) reads 4.50 V." in set_up
     bom = (tmp_path / "published" / "switch-and-trimmer" / "bom.html").read_text()
@@ -222,3 +222,23 @@ def test_a_trimmer_that_runs_out_of_travel_in_some_builds_is_a_finding():
     assert messages["boost"] == []
     assert len(messages["jfet"]) == 1
     assert messages["jfet"][0].startswith("TR1 cannot bring Q1 drain to 4.50 V in ")
+
+
+def test_pinpoint_names_a_trimmer_never_set_up(capsys):
+    """The bench: the toggle-and-trimmer guide with TR1 left fully anticlockwise, read with a
+    10 Mohm meter (the netlist at that position, not the fault's own edit)."""
+    import json
+
+    from kitleaf.cli import main
+    from kitleaf.engine import solve_dc
+    from kitleaf.faults.probes import METER_OHMS
+
+    path = Path(__file__).parent / "fixtures" / "pages" / "switch-and-trimmer.md"
+    kit = build_circuit(parse_guide(path))
+    words = []
+    for label, node in (("boost.q1.drain", "boost.d"), ("boost.q1.source", "boost.s")):
+        circuit = kit.netlist({"TR1": 0.0}).resistor("METER", node, "0", METER_OHMS)
+        words.append(f"{label}={solve_dc(circuit).voltage(node):.2f}")
+    assert main(["pinpoint", str(path), *words, "--json"]) == 0
+    first = json.loads(capsys.readouterr().out)["candidates"][0]
+    assert "TR1:at:ccw" in {first["fault"], *first["reads_the_same_as"]}

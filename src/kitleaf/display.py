@@ -7,6 +7,7 @@ functions, so a figure reads the same on the page and on the command line.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 
 from kitleaf.values import format_db, format_value
@@ -62,6 +63,21 @@ def range_text(value, quantity: str) -> str:
     return f"{nominal} ({low}{joiner}{high})"
 
 
+def dbv(volts: float) -> float:
+    """RMS volts in decibels relative to 1 V RMS (dBV)."""
+    return 20.0 * math.log10(volts) if volts > 0 else -math.inf
+
+
+def hum_text(value) -> str:
+    """Hum at the output as RMS volts with its spread, and the nominal in dBV:
+    "120 µV (98–145) RMS, -78.4 dBV"."""
+    if value is None:
+        return DASH
+    level = dbv(value.nominal)
+    shown = f"{level:.1f}" if math.isfinite(level) else "below -300"
+    return f"{range_text(value, 'voltage')} RMS, {shown} dBV"
+
+
 def power_text(watts: float) -> str:
     """A power rating as the trade writes it: "1/4 W", "1 W", "200 mW"."""
     return _WATT_FRACTIONS.get(watts) or format_value(watts, "power")
@@ -86,9 +102,9 @@ def settings(positions) -> str:
 
 def at_rest(switches) -> str:
     """Where the controls stay while another is swept (``KitSpecs.switches``): "knobs at
-    half way" and each switch at its first position."""
-    return ", ".join(["knobs at half way"] + [setting(name, positions[0])
-                                              for name, _, positions in switches])
+    half way" and each switch at the position it rests at."""
+    return ", ".join(["knobs at half way"] + [setting(name, rest)
+                                              for name, _, _, rest in switches])
 
 
 def trim_instruction(trim) -> str:
@@ -117,6 +133,7 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "hum_text": hum_text,
     "settings": settings,
     "trim_instruction": trim_instruction,
     "at_rest": at_rest,

@@ -155,6 +155,7 @@ _DESCRIBERS: Mapping[str, Callable[[Part], PartDescription]] = MappingProxyType(
         "bjt": _device,
         "jfet": _device,
         "opamp": _device,
+        "pump": _device,
         "switch": _switch,
         "hardware": _hardware,
     }

@@ -23,9 +23,9 @@ def fitting_text(orientation: Orientation) -> str:
     plus, minus = format_value(o.plus_v, "voltage"), format_value(o.minus_v, "voltage")
     where = "" if o.setting == HALF_WAY else f" (with {o.setting}, where it is least)"
     if not o.settled:
-        return (f"{o.designator}: under {format_value(NEAR_ZERO, 'voltage')} DC across it "
-                f"({plus} against {minus}{where}), so neither way round is set by the circuit; "
-                "see the design-rule findings")
+        return (f"{o.designator}: under {format_value(NEAR_ZERO, 'voltage')} DC across it at "
+                "every knob setting, so neither way round is set by the circuit; see the "
+                "design-rule findings")
     return f"{o.designator}: + lead to the {plus} side, − lead to the {minus} side{where}"
 
 

@@ -39,6 +39,7 @@ _TYPE_GROUP: Mapping[str, str] = MappingProxyType(
         "bjt": "semiconductor",
         "jfet": "semiconductor",
         "opamp": "semiconductor",
+        "pump": "semiconductor",
         "inductor": "inductor",
         "led": "led",
         "pot": "pot",

@@ -15,9 +15,11 @@ from kitleaf.circuit.chain import (
     SwitchRef,
     input_meter,
 )
+from kitleaf.circuit.devices import read_devices
 from kitleaf.circuit.harness import build_harness
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import check_rails
 from kitleaf.circuit.resolve import resolve_stage
 from kitleaf.circuit.stages import KINDS
 from kitleaf.circuit.switches import form_of
@@ -39,16 +41,18 @@ def build_circuit(guide: Guide, set_trimmers: bool = True) -> KitCircuit:
     With ``set_trimmers``, each trimmer is set where its ``trim:`` line says (a DC solve per
     try); without, the kit is good for what does not depend on positions (the parts list).
     """
-    stages = _in_order(guide, [resolve_stage(b) for b in guide.stages])
+    devices = read_devices(guide)
+    stages = _in_order(guide, [resolve_stage(b, devices) for b in guide.stages])
     hardware = tuple(Part(h.designator, "hardware", h.description, h.span)
                      for h in guide.kit.hardware)
     _check_designators(stages, hardware)
     _check_power(stages)
+    check_rails(stages)
     kit = KitCircuit(
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),
         supply_v=_volts(guide.kit.supply, guide.kit.supply_span or guide.kit.span),
-        switches=_switches(guide, stages),
+        switches=_switches(guide, stages), warnings=devices.warnings,
     )
     _check_dc_paths(kit)
     build_harness(guide, kit)  # read now, so a wiring mistake is named by every command
@@ -208,7 +212,8 @@ def _switches(guide: Guide, stages: list[Stage]) -> tuple[SwitchRef, ...]:
                 f"switch '{switch.name}' names {len(switch.positions)} positions, but "
                 f"{part.designator} ({_form_words(part)}, line {part.span.line}) has {count}; "
                 "name each position once, in the switch's order", switch.span)
-        found.append(SwitchRef(switch.name, part.designator, part.stage_id, switch.positions))
+        found.append(SwitchRef(switch.name, part.designator, part.stage_id, switch.positions,
+                               switch.rest))
     named = {s.designator for s in found}
     for part in parts.values():
         if part.designator not in named:

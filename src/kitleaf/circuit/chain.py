@@ -11,6 +11,7 @@ from types import MappingProxyType
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.packages import unused_halves
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import DOUBLED_NODE, NEGATIVE_NODE, rail_nodes
 from kitleaf.circuit.stages import KINDS
 from kitleaf.circuit.switches import contacts, form_of, wired_poles
 from kitleaf.engine import Circuit, get_model
@@ -76,13 +77,14 @@ class KnobRef:
 @dataclass(frozen=True)
 class SwitchRef:
     """A switch of the kit: its name, its part, the stage it sits in and the maker's name
-    for each of its positions, in the switch's order; the first is where it sits while the
+    for each of its positions, in the switch's order, and the one it rests at while the
     knobs and other switches are swept."""
 
     name: str
     designator: str
     stage_id: str
     positions: tuple[str, ...]
+    rest: int = 0  # the position it rests at while the rest of the kit is swept
 
     @property
     def steps(self) -> tuple[tuple[float, str], ...]:
@@ -91,7 +93,7 @@ class SwitchRef:
 
     @property
     def nominal(self) -> float:
-        return 0.0
+        return float(self.rest)
 
 
 class Wiring:
@@ -125,6 +127,8 @@ class Wiring:
         if part.type == "switch":
             self._switch(part, nodes)
             return
+        if part.type == "opamp" and nodes[4:] == ("0",) and "vee" in self._nodes:
+            nodes = (*nodes[:4], "vee")  # the negative supply pin: ground, or the - rail
         names = [self.node(n) for n in nodes]
         c, d = self.circuit, part.designator
         tol = part.tolerance or 0.0
@@ -141,7 +145,23 @@ class Wiring:
             track = taper_fraction(part.attrs["taper"], self.position(d))
             c.resistor(d, *names, max(part.value * track, POT_END_RESISTANCE), tol=tol)
         else:
-            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.model)
+            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.device or part.model)
+
+    def pump(self, part: Part, inp: str, out: str, ratio: float, flying: Part) -> None:
+        """A charge-pump chip wired as a doubler (``ratio`` 2) or inverter (-1), averaged:
+        its switches' resistance plus the flying capacitor's 1 / (f C), and its own draw.
+
+        The flying capacitor charges to the input's voltage on every cycle; it stands from
+        the input to a node held at ground by a gigaohm, so its rating and polarity are
+        checked at that voltage while it loads nothing."""
+        model = part.device
+        rout = model.get("ROUT") + 1.0 / (model.get("FOSC") * flying.value)
+        self.circuit.pump(part.designator, self.node(inp), self.node(out), GROUND, ratio, rout)
+        self.circuit.isource(f"{part.designator}.quiescent", self.node(inp), GROUND,
+                             dc=model.get("IQ"))
+        held = f"{part.designator}.flying"
+        self.place(flying, inp, held)
+        self.internal("resistor", f"{held}-hold", held, "0", value=1e9)
 
     def _switch(self, part: Part, nodes: tuple[str | None, ...]) -> None:
         form = form_of(part)
@@ -178,6 +198,8 @@ class KitCircuit:
     # every netlist takes these positions unless told otherwise.
     trims: tuple = ()
     presets: tuple[tuple[str, float], ...] = ()  # (trimmer, position 0..1)
+    # Located warning lines from reading the guide's own device models.
+    warnings: tuple[str, ...] = ()
 
     @cached_property
     def cache(self) -> dict:
@@ -186,7 +208,7 @@ class KitCircuit:
         return {}
 
     def rest_positions(self) -> dict[str, float]:
-        """Every knob half way and every switch at its first position: where the voltage
+        """Every knob half way and every switch where it rests: where the voltage
         table and the headline figures are read."""
         return {control.designator: control.nominal for control in self.controls}
 
@@ -242,7 +264,8 @@ class KitCircuit:
     def netlist(self, positions: Mapping[str, float] | None = None,
                 supply_v: float | None = None) -> Circuit:
         """A fresh engine circuit of the whole kit at the given knob positions and supply."""
-        positions = MappingProxyType({**dict(self.presets), **(positions or {})})
+        rests = {s.designator: s.nominal for s in self.switches}
+        positions = MappingProxyType({**rests, **dict(self.presets), **(positions or {})})
         circuit = Circuit()
         volts = self.supply_v if supply_v is None else supply_v
         circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=volts)
@@ -264,10 +287,11 @@ class KitCircuit:
     def _unused_halves(self, circuit: Circuit) -> None:
         """The half of a dual op-amp no stage uses still draws its quiescent current (the
         design rule unused-half asks for a stage that ties its inputs)."""
-        rail = "vcc" if self.has_power_stage else SUPPLY
+        stages = {s.id: s for s in self.stages}
         for missing, used in unused_halves(self.parts()):
+            rail = self._nodes(stages[used.stage_id])["vcc"]
             circuit.isource(f"{missing}.quiescent", rail, GROUND,
-                            dc=get_model(used.model).get("IQ"))
+                            dc=get_model(used.device or used.model).get("IQ"))
 
     def rails_used(self, stage: Stage) -> tuple[str, ...]:
         """Which of the power section's rails, ``vcc`` and ``vref``, the stage's parts join."""
@@ -286,8 +310,10 @@ class KitCircuit:
         return self._nodes(stage).get(local) or f"{stage.id}.{local}"
 
     def _nodes(self, stage: Stage) -> dict[str, str]:
-        rails = {"0": GROUND, "vcc": "vcc" if self.has_power_stage else SUPPLY,
-                 "vref": "vref", "supply": SUPPLY}
+        main = "vcc" if self.has_power_stage else SUPPLY
+        rails = {"0": GROUND, **rail_nodes(stage.rails, main), "supply": SUPPLY}
+        if KINDS[stage.kind].provides_power:
+            rails.update(v2=DOUBLED_NODE, vee=NEGATIVE_NODE)
         if KINDS[stage.kind].signal:
             rails["in"], rails["out"] = self.stage_nodes(stage.id)
         return rails

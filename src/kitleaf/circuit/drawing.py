@@ -59,6 +59,11 @@ class Sheet(Protocol):
     def block(self, lower_left: Point, width: float, height: float, lines: Sequence[str]) -> None:
         """A labelled rectangle, ``lines`` centred in it."""
 
+    def chip(self, part: Part, lower_left: Point, width: float, height: float,
+             pins: Mapping[str, Point], role: str) -> None:
+        """A chip drawn as a rectangle with its designator, value and ``role`` in it, its
+        pins by name at the given points on its edges (a charge pump: inp, out, ref)."""
+
     # -- connections ---------------------------------------------------------------------------
     def wire(self, *points: Point) -> None:
         """A wire through ``points``, drawn as straight segments."""
@@ -80,6 +85,10 @@ class Sheet(Protocol):
 
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the previous or next stage ("IN", "OUT")."""
+
+    def probe(self, at: Point, node: str) -> None:
+        """Where a builder may probe the stage's own ``node`` (a custom stage's test point);
+        nothing is drawn."""
 
     # -- words ---------------------------------------------------------------------------------
     def part_label(self, part: Part) -> str:

@@ -81,6 +81,9 @@ class Stage:
     # ``claim:`` and ``allow:`` lines, which every kind takes (kitleaf.specs.claims and .rules).
     claims: tuple[Entry, ...] = ()
     allows: tuple[Entry, ...] = ()
+    # The supply rails the stage runs on (kitleaf.circuit.rails.RAILS), and the line saying so.
+    rails: str = "main"
+    rails_entry: Entry | None = None
     # ``trim:`` lines: a trimmer and the test-point voltage it is set to (circuit/trim.py).
     trims: tuple[Entry, ...] = ()
 

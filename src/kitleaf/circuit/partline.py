@@ -7,6 +7,7 @@ import shlex
 from dataclasses import replace
 from types import MappingProxyType
 
+from kitleaf.circuit.devices import NO_DEVICES, GuideDevices
 from kitleaf.circuit.parts import PART_QUANTITY, Part
 from kitleaf.circuit.switches import is_function, read_form
 from kitleaf.errors import CircuitError, KitleafError, SourceSpan
@@ -15,15 +16,15 @@ from kitleaf.values import parse_rating, parse_tolerance, parse_value
 
 # Designator prefixes of the trade (common practice, no source), longest first.
 PREFIX_TYPES = (
-    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp",)),
+    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp", "pump")),
     ("R", ("resistor",)), ("C", ("capacitor",)), ("L", ("inductor",)), ("P", ("pot",)),
-    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp",)),
+    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp", "pump")),
     ("SW", ("switch",)), ("S", ("switch",)), ("TR", ("trimmer",)),
 )
 EXAMPLES = {
     "resistor": "R3 10k", "capacitor": "C2 100n film", "inductor": "L1 100mH",
     "pot": "VR1 100k log", "diode": "D1 1N4148", "led": "LED1 red", "bjt": "Q1 2N3904",
-    "jfet": "Q1 J201", "opamp": "U1 TL072", "switch": "S1 SPDT on-off-on",
+    "jfet": "Q1 J201", "opamp": "U1 TL072", "pump": "U3 7660", "switch": "S1 SPDT on-off-on",
     "trimmer": "TR1 50k",
 }
 DIELECTRICS = {
@@ -58,8 +59,10 @@ def types_for_designator(designator: str) -> tuple[str, ...]:
     return ()
 
 
-def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
-    """The part written on ``entry`` for a role accepting ``accepted`` part types."""
+def read_part(entry: Entry, accepted: tuple[str, ...], where: str,
+              devices: GuideDevices = NO_DEVICES) -> Part:
+    """The part written on ``entry`` for a role accepting ``accepted`` part types; a
+    semiconductor's model is the guide's own (``devices``) or else the library's."""
     try:
         words = shlex.split(entry.value)
     except ValueError:
@@ -72,9 +75,9 @@ def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
             entry.span,
         )
     designator, value_text, rest = words[0], words[1], words[2:]
-    part_type = _choose_type(designator, accepted, entry.span, where, value_text)
+    part_type = _choose_type(designator, accepted, entry.span, where, value_text, devices)
     try:
-        part = _make_part(designator, part_type, value_text, rest, entry.span)
+        part = _make_part(designator, part_type, value_text, rest, entry.span, devices)
     except KitleafError as exc:
         raise CircuitError(f"{where}, {designator}: {exc.message}", entry.span) from None
     if nodes is None:
@@ -90,36 +93,52 @@ def split_nodes(words: list[str]) -> tuple[list[str], list[str] | None]:
     return words[:at], words[at + 1:]
 
 
-def device_model(part_type: str, value_text: str) -> str:
-    """The engine model a semiconductor's value names; an LED is written by its colour."""
-    if part_type == "led" and not value_text.upper().startswith("LED"):
+def device_model(part_type: str, value_text: str, devices: GuideDevices = NO_DEVICES) -> str:
+    """The model a semiconductor's value names; an LED is written by its colour, or by the
+    name of a model of the guide's own."""
+    if part_type == "led" and not value_text.upper().startswith("LED") \
+            and devices.find(value_text) is None:
         return f"LED-{value_text.upper()}"
     return value_text
 
 
-def _by_model(matching: list[str], value_text: str) -> str:
-    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+def find_device(name: str, devices: GuideDevices = NO_DEVICES):
+    """The guide's own model called ``name``, else the library's; an error naming both."""
     from kitleaf.engine.models import get_model  # the model library loads on first use
 
+    own = devices.find(name)
+    if own is not None:
+        return own
     try:
-        kind = get_model(value_text).kind
+        return get_model(name)
+    except KitleafError as exc:
+        own = ", ".join(m.name for m in devices.models.values())
+        raise CircuitError(f"{exc.message}{'; the guide defines ' + own if own else ''}; or "
+                           f"define {name} in a block ```device {name}") from None
+
+
+def _by_model(matching: list[str], value_text: str, devices: GuideDevices) -> str:
+    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+    try:
+        kind = find_device(value_text, devices).kind
     except KitleafError:
         return matching[0]
     found = _MODEL_TYPES.get(kind)
     return found if found in matching else matching[0]
 
 
-_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet"}
+_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet", "opamp": "opamp",
+                "pump": "pump"}
 
 
 def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str,
-                 value_text: str = "") -> str:
+                 value_text: str = "", devices: GuideDevices = NO_DEVICES) -> str:
     by_prefix = types_for_designator(designator)
     # Set once on the bench, a trimmer stands wherever a resistor does.
     allowed = (*accepted, "trimmer") if "resistor" in accepted else accepted
     matching = [t for t in allowed if t in by_prefix]
     if len(matching) > 1:
-        return _by_model(matching, value_text)
+        return _by_model(matching, value_text, devices)
     if matching:
         return matching[0]
     wanted = " or ".join(accepted)
@@ -131,7 +150,8 @@ def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, w
     )
 
 
-def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> Part:
+def _make_part(designator: str, part_type: str, value_text: str, rest, span,
+               devices: GuideDevices = NO_DEVICES) -> Part:
     if part_type == "switch":
         return _switch(designator, value_text, rest, span)
     attrs: dict[str, str] = {}
@@ -139,12 +159,13 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
     for word in rest:
         tolerance, rating = _read_attribute(word, part_type, attrs, tolerance, rating)
     quantity = PART_QUANTITY[part_type]
-    value = model = None
+    value = model = device = None
     if part_type in PINNED and value_text[:1] in TAPER_LETTERS and len(value_text) > 1:
         _set_once(attrs, "taper", TAPER_LETTERS[value_text[0]], value_text)
         value_text = value_text[1:]
     if quantity is None:
-        model = device_model(part_type, value_text)
+        model = device_model(part_type, value_text, devices)
+        device = find_device(model, devices)
     else:
         value = parse_value(value_text, quantity)
     if part_type == "trimmer":
@@ -155,7 +176,8 @@ def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> 
     if tolerance is None and part_type in ("resistor", "inductor", "capacitor", *PINNED):
         tolerance = DEFAULT_TOLERANCE.get(attrs.get("dielectric", part_type), 0.10)
     return Part(designator, part_type, value_text, span, value=value, model=model,
-                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs))
+                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs),
+                device=device)
 
 
 def _switch(designator: str, form: str, rest: list[str], span) -> Part:

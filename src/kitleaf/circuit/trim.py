@@ -2,7 +2,7 @@
 
 A stage block's ``trim: TR1 sets q1.collector to 4.5 V`` says how the builder sets trimmer
 TR1 on the bench: turn it until that test point reads 4.5 V. kitleaf finds the position that
-gives it with nominal parts (knobs half way, switches at their first position), turning from
+gives it with nominal parts (knobs half way, switches where they rest), turning from
 half way as a trimmer comes (where the point reads the target twice, the crossing nearer the
 middle), and every figure of the kit is then solved with the trimmer there.
 """

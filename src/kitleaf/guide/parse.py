@@ -9,6 +9,7 @@ from markdown_it import MarkdownIt
 
 from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import at_most_once, make_block, require_single
+from kitleaf.guide.device_blocks import read_devices
 from kitleaf.guide.fences import is_ours
 from kitleaf.guide.kit_lines import check_battery, read_knobs, read_switches
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
@@ -18,12 +19,13 @@ from kitleaf.guide.source import checked_text, read_text
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "switch", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
+    "adapter-ripple",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
 SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
-               "bypass")
+               "bypass", "adapter-ripple")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
-EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
+EXTRA_KEYS = ("battery", "battery-life", "claim", "allow", "adapter-ripple")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
 # Stage ids name files of the site: short, plain names.
 _ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")
@@ -52,11 +54,13 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
                          kits[1].span)
     stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
     check_unique_ids(stages)
-    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages)
+    devices = read_devices([b for b in blocks if b.name == "device"])
+    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages, devices)
 
 
 def find_blocks(text: str, path: str):
-    """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
+    """Our fenced blocks (info string ``kit``, ``stage ...`` or ``device ...``) in document
+    order."""
     lines = text.splitlines()
     for token in markdown_parser().parse(text):
         if is_ours(token, lines, path):

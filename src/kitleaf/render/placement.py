@@ -27,6 +27,8 @@ SECTIONS = {"glance": "_kit_specs.html", "checks": "_claims.html",
             "cautions": "_cautions.html", "wiring": "_wiring.html", "voltages": "_voltages.html",
             "faults": "_symptoms.html"}
 BEFORE_BODY = ("glance", "checks", "cautions")
+# The prose env's key for sections this guide has nothing to show in: name -> what to add.
+ABSENT_KEY = "absent_sections"
 TOKEN = "section_place"
 _MARKER = re.compile(r"\{@\s*([A-Za-z0-9_-]*)\s*\}")
 _ENDS_WITH_HEADING = re.compile(r"</h[1-6]>\s*$")
@@ -57,6 +59,10 @@ def _place(state: StateCore) -> None:
         if name not in SECTIONS:
             raise RenderError(f"'{{@{name}}}' places no section; the sections are "
                               f"{', '.join(SECTIONS)}", span)
+        absent = state.env.get(ABSENT_KEY, {})
+        if name in absent:
+            raise RenderError(f"'{{@{name}}}' places a section this guide has nothing for; "
+                              f"{absent[name]}", span)
         if name in placed:
             raise RenderError(f"'{{@{name}}}' is placed twice (first at line {placed[name]}); "
                               "keep one", span)

@@ -33,11 +33,13 @@ def _panels(curves: tuple[Curve, ...], low, high, corners
     """One panel per knob or switch, in the kit block's order; one unnamed panel when no
     knob acts."""
     knobs = list(dict.fromkeys(c.knob for c in curves))
-    rests = {c.knob: c.position for c in reversed(curves)}  # each control's first step
+    rests = {c.knob: c.position for c in curves if c.at_rest}
     panels = []
     for knob in knobs:
         mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
-        solid = 0 if isinstance(rests.get(knob), str) else None  # a switch at rest
+        resting = [c.at_rest for c in curves if c.knob == knob]
+        # a switch's resting position is the band's curve, drawn solid
+        solid = resting.index(True) if isinstance(rests.get(knob), str) else None
         panels.append(Panel(_title(knob, knobs, rests), mine, low, high, corners, solid))
     return tuple(panels)
 
@@ -53,7 +55,7 @@ def _label(curve: Curve) -> str:
 def _title(knob: str, knobs: list[str], rests: dict | None = None) -> str:
     """The panel's title; it names only the knobs and switches of the plotted curves (a
     stage's plot is not moved by another stage's knob, so naming that knob would mislead).
-    ``rests`` gives a switch's first position by its name (where it rests meanwhile)."""
+    ``rests`` gives the position each rests at by its name (a switch's by its name)."""
     if not knob:
         return ""
     switches = {name: rest for name, rest in (rests or {}).items() if isinstance(rest, str)}

@@ -138,6 +138,7 @@ class SchematicSheet:
             a, b = (b, a) if pin == 1 else (a, b)
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
+        self.record.shape(part.designator, self._element_boxes[-1], a, b)
         self.label(part_label(part), label_point(a, b, side, LABEL_GAP[part.type]),
                    side or default_side(a, b))
 
@@ -149,6 +150,7 @@ class SchematicSheet:
         """
         drawn = elm.Potentiometer().endpoints(ccw, cw)
         drawn = self._add(drawn.flip() if wiper_right else drawn)
+        self.record.shape(part.designator, self._element_boxes[-1], ccw, cw)
         side = side or default_side(ccw, cw)
         self.label(part_label(part), label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
         wiper = self.pin(drawn, "pot", "wiper")
@@ -225,6 +227,16 @@ class SchematicSheet:
         self.record.blocks.append((x, y, x + width, y + height))
         self.label("\n".join(lines), (x + width / 2, y + height / 2), "centre")
 
+    def chip(self, part: Part, lower_left: Point, width: float, height: float,
+             pins: Mapping[str, Point], role: str) -> None:
+        """A chip as a labelled rectangle, its pins by name on its edges (a part, unlike a
+        block of text)."""
+        x, y = lower_left
+        self._add(elm.Rect(corner1=(0, 0), corner2=(width, height)).at((x, y)))
+        self.label("\n".join([part.designator, part.text, role]),
+                   (x + width / 2, y + height / 2), "centre")
+        self.record.part(part.designator, part.type, dict(pins))
+
     # -- connections ---------------------------------------------------------------------------
     def wire(self, *points: Point) -> None:
         """A wire through ``points``, drawn as straight segments."""
@@ -269,6 +281,10 @@ class SchematicSheet:
         self.record.name(at, PORT_NETS.get(name, name.lower()))
         self.spots.setdefault(("", name.lower()), at)
         self.label(name, nudge(at, side, 0.3), side)
+
+    def probe(self, at: Point, node: str) -> None:
+        """Where a builder may probe the stage's own ``node``; nothing is drawn."""
+        self.spots.setdefault(("", node), at)
 
     def ring(self, centre: Point, radius: float) -> None:
         """An open circle (a test point's marker)."""

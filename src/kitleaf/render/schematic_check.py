@@ -21,6 +21,7 @@ from kitleaf.circuit.stages import KINDS
 from kitleaf.engine import Circuit
 from kitleaf.engine.elements import VSource, terminals
 from kitleaf.render.schematic_geometry import (
+    TEXT_AIR,
     arms,
     box_meets,
     boxes_meet,
@@ -235,7 +236,13 @@ def text_problems(record: SheetRecord) -> list[str]:
     lines = list(record.wires) + [(a, b) for _, a, b in record.bodies]
     problems += [f"a line runs through the words {t!r}" for t, box in words
                  if any(box_meets(box, a, b) for a, b in lines)]
+    problems += [f"the words {t!r} lie over the symbol of {designator}" for t, box in words
+                 for designator, shape in record.shapes if boxes_meet(_shrunk(box), shape)]
     return problems
+
+
+def _shrunk(box, air: float = TEXT_AIR):
+    return (box[0] + air, box[1] + air, box[2] - air, box[3] - air)
 
 
 def leader_problems(record: SheetRecord, netlist: StageNetlist, node_of: Mapping[Point, str]

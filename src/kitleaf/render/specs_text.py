@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from kitleaf.display import range_text, settings, trim_instruction, trim_travel
+from kitleaf.display import hum_text, range_text, settings, trim_instruction, trim_travel
 from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
 
 
@@ -20,6 +20,9 @@ def specs_to_text(specs: KitSpecs) -> str:
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              f"  output headroom    {_swing(specs.headroom)}"]
+    if specs.hum is not None:
+        lines.append(f"  hum at the output  {hum_text(specs.hum)}")
+        lines.extend(f"    {_knobs(p):<{width}}{hum_text(p.hum)}" for p in specs.knob_sweep)
     for trim in specs.trims:
         lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:

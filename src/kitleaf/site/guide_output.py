@@ -23,7 +23,7 @@ from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
-from kitleaf.render.placement import SECTIONS, arrange
+from kitleaf.render.placement import ABSENT_KEY, SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_specs import kit_plot, stage_plot
 from kitleaf.render.prose import render_prose
@@ -36,7 +36,7 @@ from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
 from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
-from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.derive import SolvedKit, derive_specs, solve_kit
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.polarity import Orientation
 
@@ -46,9 +46,10 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     cache = cache or NoCache()
     guide = parse_guide(path)
     kit = build_circuit(guide)
-    specs = cached_specs(cache, guide, kit)
+    solved = solve_kit(guide, kit)  # the design rules read it even when the specs are cached
+    specs = cached_specs(cache, guide, kit, solved)
     slug = guide.slug
-    checks = verify(guide, kit, specs)  # a broken claim stops the guide here
+    checks = verify(guide, kit, specs, solved)  # a broken claim stops the guide here
     files, assets = stage_files(cache, kit, specs, slug, checks.orientations)
     overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
@@ -61,7 +62,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
+        "pieces": arrange(render_prose(guide.text, page_env(guide.path, checks, harness))),
         "sections": SECTIONS,
         "checks": checks,
         "bom": fitting_notes(rating_warnings(bom_lines(kit.parts()), checks.stresses),
@@ -78,6 +79,15 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     record = guide_record(Path(path).name, kit.parts(), specs)
     return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
                        guide.kit.code_span or guide.kit.span)
+
+
+def page_env(path: str, checks, harness) -> dict:
+    """The prose env of the guide page: its computed values, and the sections it cannot show."""
+    env = prose_env(path, checks.values)
+    if harness is None:
+        env[ABSENT_KEY] = {"wiring": "add 'bypass: true' (or buffered, none) to the kit block "
+                                     "to draw the off-board wiring"}
+    return env
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,
@@ -128,7 +138,8 @@ def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
     return symptoms
 
 
-def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
+def cached_specs(cache: Cache, guide, kit: KitCircuit,
+                 solved: SolvedKit | None = None) -> KitSpecs:
     """The solved specs, re-solved only when a block of the guide or the kit's circuit changed.
 
     Prose is not part of the key, nor are line numbers; specs that carry a location are stored
@@ -140,7 +151,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
         found = cache.load("specs", key)
         if isinstance(found, KitSpecs):
             return found
-    specs = derive_specs(guide, kit)
+    specs = derive_specs(guide, kit, solved)
     cache.store("specs", located if contains_span(specs) else plain, specs)
     return specs
 

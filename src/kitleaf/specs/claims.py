@@ -178,10 +178,12 @@ class Checks:
         return tuple(f for f in self.findings if not f.allowed)
 
 
-def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> Checks:
-    """Claims checked (a broken one raises SpecError) and every design rule run."""
+def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs, solved=None) -> Checks:
+    """Claims checked (a broken one raises SpecError) and every design rule run; the rules
+    read ``solved`` (the kit's :func:`~kitleaf.specs.derive.solve_kit`, shared with the
+    specs) or solve the states they need themselves."""
     values = computed_values(specs, kit)
     claims = check_claims(guide, kit, values)
-    ctx = RuleContext(guide, kit, specs)
+    ctx = RuleContext(guide, kit, specs, solved)
     return Checks(MappingProxyType(values), claims, check_rules(ctx),
                   MappingProxyType(ctx.stresses), MappingProxyType(ctx.orientations))

@@ -8,11 +8,13 @@ as one batch per kit state (knob positions and supply), never as a loop of singl
 from __future__ import annotations
 
 import warnings
+from contextlib import contextmanager
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
 from kitleaf.display import setting
 from kitleaf.errors import KitleafError, SolveError
+from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.specs import measures as m
 from kitleaf.specs.headroom import MARGINS, margins
@@ -76,17 +78,31 @@ def supplies(rated_v: float) -> tuple[Supply, ...]:
     return (Supply("adapter", rated_v),)
 
 
-def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    """Every spec of the kit and its stages, computed from the parts.
+def derive_specs(guide: Guide, kit: KitCircuit, solved: SolvedKit | None = None) -> KitSpecs:
+    """Every spec of the kit and its stages, computed from the parts; ``solved``, the kit's
+    :func:`solve_kit`, when the caller shares it with the design rules (see verify).
 
     An engine error (a solve that did not converge, say) is placed at the guide line of the
     part or stage it names, so the maker sees where to look, or else at the kit block. A numeric
     warning (an overflow, a NaN) stops the solve too: figures past it would be silently wrong.
     """
+    with _located(guide, kit):
+        return _derive(guide, kit, solved or SolvedKit(kit))
+
+
+def solve_kit(guide: Guide, kit: KitCircuit) -> SolvedKit:
+    """The kit's solved states (knobs at half way, each knob's sweep, the supplies), solved
+    once for the specs and the design rules alike; errors placed as derive_specs places them."""
+    with _located(guide, kit):
+        return SolvedKit(kit)
+
+
+@contextmanager
+def _located(guide: Guide, kit: KitCircuit):
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("error", RuntimeWarning)
-            return _derive(guide, kit)
+            yield
     except RuntimeWarning as warning:
         raise SolveError(f"the numbers ran out of range while solving ({warning}); look for a "
                          "part value or device far from the usual", guide.kit.span) from None
@@ -94,18 +110,19 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
         raise kit.locate(exc).located(guide.kit.span) from None
 
 
-def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    solved = SolvedKit(kit)
+def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
     stages = tuple(stage_specs(solved, s) for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
+    ripple = stated_ripple(guide)
+    hum = None if ripple is None else m.hum(OUTPUT, *ripple)
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
         knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.controls,
                               impedances(kit, first, kit.stage_nodes(first)[0],
-                                         last, kit.stage_nodes(last)[1])),
+                                         last, kit.stage_nodes(last)[1]), hum=hum),
         knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
@@ -121,11 +138,19 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
         supplies=solved.supplies,
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
-        switches=tuple((s.name, s.designator, s.positions) for s in kit.switches),
+        switches=tuple((s.name, s.designator, s.positions, s.positions[s.rest])
+                       for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
         trims=trims(kit),
+        ripple=ripple, hum=None if hum is None else base.range(hum),
     )
+
+
+def stated_ripple(guide: Guide) -> tuple[float, float] | None:
+    """The adapter's ripple the kit block states (volts peak to peak, hertz), if it does."""
+    entry = next((e for e in guide.kit.extra if e.key == "adapter-ripple"), None)
+    return None if entry is None else adapter_ripple(entry)
 
 
 def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:
@@ -179,13 +204,17 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
 
 
 def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
-               z: tuple[m.Measure, m.Measure], scoops: bool = False) -> tuple[KnobPoint, ...]:
+               z: tuple[m.Measure, m.Measure], scoops: bool = False,
+               hum: m.Measure | None = None) -> tuple[KnobPoint, ...]:
     """Gain and impedances at 1 kHz at each step of each knob and switch in ``controls``,
     the others at their nominal settings (and the deepest dip, nominal parts, where
-    ``scoops`` asks for it)."""
+    ``scoops`` asks for it; the hum at the output where the kit states its adapter's
+    ripple)."""
     return tuple(KnobPoint(((c.name, shown),), state.range(m.gain_db(node_in, node_out)),
                            state.range(z[0]), state.range(z[1]),
-                           scoop(state, node_in, node_out, spread=False) if scoops else None)
+                           scoop=scoop(state, node_in, node_out, spread=False) if scoops
+                           else None,
+                           hum=None if hum is None else state.range(hum))
                  for c in controls
                  for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                               strict=True))
@@ -223,10 +252,12 @@ def kit_headroom(solved: SolvedKit) -> Headroom | None:
 
 
 def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
-    """Findings a builder should hear about, each a ``path:line: warning:`` line at its stage's
-    block: a device with no room to swing at its bias."""
+    """Findings a builder should hear about, each a ``path:line: warning:`` line: what reading
+    the guide's device models raised, then a device with no room to swing at its bias (at its
+    stage's block)."""
     spans = {s.id: s.span for s in kit.stages}
-    return tuple(f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room "
-                 "to swing at this bias"
-                 for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
+    return kit.warnings + tuple(
+        f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room to swing "
+        "at this bias"
+        for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from kitleaf.display import dbv
 from kitleaf.specs.model import (
     SAMPLES,
     Curve,
@@ -34,12 +35,25 @@ def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
     return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
              "input_impedance_ohm_1khz": _range(p.input_impedance),
              "output_impedance_ohm_1khz": _range(p.output_impedance),
-             "scoop": _scoop(p.scoop)}
+             "scoop": _scoop(p.scoop),
+             "hum_mv_rms": _range(p.hum, 1e3), "hum_dbv": _dbv(p.hum)}
             for p in points]
 
 
 def _scoop(s: Scoop | None) -> dict | None:
     return None if s is None else {"depth_db": _range(s.depth_db), "freq_hz": _range(s.hz)}
+
+
+def _dbv(r: Range | None) -> dict | None:
+    """RMS volts as dB relative to 1 V RMS (the higher the hum, the higher the figure)."""
+    if r is None:
+        return None
+    levels = (None if x is None else max(dbv(x), -300.0) for x in (r.nominal, r.low, r.high))
+    return _range(Range(*levels))
+
+
+def _ripple(ripple: tuple[float, float] | None) -> dict | None:
+    return None if ripple is None else {"mv_pp": _num(ripple[0] * 1e3), "hz": _num(ripple[1])}
 
 
 def _headroom(h: Headroom | None) -> dict | None:
@@ -87,8 +101,8 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
                 "supply_v": _num(specs.supply_v),
                 "knobs": [{"name": n, "pot": d} for n, d in specs.knobs],
-                "switches": [{"name": n, "switch": d, "positions": list(p)}
-                             for n, d, p in specs.switches]},
+                "switches": [{"name": n, "switch": d, "positions": list(p), "rest": r}
+                             for n, d, p, r in specs.switches]},
         "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
@@ -103,6 +117,9 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _range(specs.output_impedance),
         "supply_current_ma": _range(specs.supply_current, 1e3),
         "headroom_v_peak": _headroom(specs.headroom),
+        "adapter_ripple": _ripple(specs.ripple),
+        "hum_mv_rms": _range(specs.hum, 1e3),
+        "hum_dbv": _dbv(specs.hum),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
         "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,

@@ -51,11 +51,11 @@ def knob_ends(kit, base: KitState) -> tuple[KnobPoint, ...]:
 def switch_settings(switches) -> list[list[tuple]]:
     """(switch, position, its name) for each switch, in every combination of positions up to
     EVERY_SWITCH_SETTING of them; with more, each switch alone at each position (the others
-    at their first)."""
+    where they rest)."""
     steps = [s.steps for s in switches]
     if math.prod(len(x) for x in steps) <= EVERY_SWITCH_SETTING:
         return [[(s, p, shown) for s, (p, shown) in zip(switches, combo, strict=True)]
                 for combo in itertools.product(*steps)]
-    rest = [(s, *s.steps[0]) for s in switches]
+    rest = [(s, *s.steps[s.rest]) for s in switches]
     return [rest] + [rest[:i] + [(s, p, shown)] + rest[i + 1:]
-                     for i, s in enumerate(switches) for p, shown in s.steps[1:]]
+                     for i, s in enumerate(switches) for p, shown in s.steps if p != s.nominal]

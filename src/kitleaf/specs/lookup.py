@@ -29,11 +29,12 @@ FIELDS = (
     ("input_impedance", "input-impedance", "resistance", "input impedance at 1 kHz"),
     ("output_impedance", "output-impedance", "resistance", "output impedance at 1 kHz"),
     ("supply_current", "current", "current", "current draw"),
+    ("hum", "hum", "voltage", "hum at the output from the adapter's ripple (RMS)"),
 )
 
 # KnobPoint field -> the same, for the figures given at every knob position.
 KNOB_FIELDS = tuple(f for f in FIELDS if f[0] in ("gain_db", "input_impedance",
-                                                    "output_impedance"))
+                                                    "output_impedance", "hum"))
 
 
 @dataclass(frozen=True)

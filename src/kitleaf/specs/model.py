@@ -49,6 +49,7 @@ class KnobPoint:
     input_impedance: Range | None = None
     output_impedance: Range | None = None
     scoop: Scoop | None = None  # nominal parts; for passive tone controls only
+    hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
 
 
 @dataclass(frozen=True)
@@ -84,6 +85,7 @@ class Curve:
     knob: str
     position: float | str | None
     gain_db: tuple[float, ...]
+    at_rest: bool = False  # the position the control rests at (a knob's half way)
 
 
 @dataclass(frozen=True)
@@ -139,6 +141,7 @@ class StageSpecs:
     # The deepest dip, knobs at half way, for a passive tone control (None: not one, or its
     # response does not dip by MIN_SCOOP_DB); each knob step's is on its knob_sweep point.
     scoop: Scoop | None = None
+    hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
 
 
 @dataclass(frozen=True)
@@ -168,8 +171,8 @@ class KitSpecs:
     band_high: tuple[float, ...] = ()
     supplies: tuple[Supply, ...] = ()
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
-    # (switch name, designator, position names), as the kit block says
-    switches: tuple[tuple[str, str, tuple[str, ...]], ...] = ()
+    # (switch name, designator, position names, the one it rests at), as the kit block says
+    switches: tuple[tuple[str, str, tuple[str, ...], str], ...] = ()
     samples: int = 0
     seed: int = 0
     # The gain (nominal parts) with the knobs together at the ends of their travel:
@@ -177,6 +180,10 @@ class KitSpecs:
     knob_ends: tuple[KnobPoint, ...] = ()
     # Each trimmer's set-up instruction, in the guide's order (specs/trim.py).
     trims: tuple[Trim, ...] = ()
+    # The adapter's ripple as the kit block states it (volts peak to peak, hertz), and the
+    # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
+    ripple: tuple[float, float] | None = None
+    hum: Range | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

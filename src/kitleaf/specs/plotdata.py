@@ -15,10 +15,10 @@ def curves(solved, node_in: str, node_out: str, controls) -> tuple[Curve, ...]:
     there is none."""
     if not controls:
         return (Curve("", None, _db(solved.base, node_in, node_out)),)
-    return tuple(Curve(c.name, shown, _db(state, node_in, node_out))
+    return tuple(Curve(c.name, shown, _db(state, node_in, node_out), pos == c.nominal)
                  for c in controls
-                 for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
-                                              strict=True))
+                 for (pos, shown), state in zip(c.steps, solved.sweeps[c.designator],
+                                                strict=True))
 
 
 def _db(state: KitState, node_in: str, node_out: str) -> tuple[float, ...]:

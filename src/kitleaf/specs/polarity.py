@@ -1,5 +1,7 @@
 """Which way each polarised capacitor is fitted, from the solved kit's DC: its + lead on the
-side that stays higher at every knob setting, judged at the setting where the margin is least.
+side that stays higher at every knob setting, judged at the setting where the margin is least;
+a capacitor held forward by less than :data:`NEAR_ZERO` at every setting has no way round the
+circuit sets.
 
 The orientation is kept by the capacitor's pins as its stage kind places it (pin 1 is the
 first node), which is how the drawing's ends are linked to the circuit's nodes, so the
@@ -12,8 +14,8 @@ from dataclasses import dataclass
 
 from kitleaf.specs.ratings import POLARISED
 
-# Less DC than this across a polarised capacitor at its worst knob setting leaves its
-# orientation to chance (our own threshold, no source).
+# Less DC than this across a polarised capacitor at every knob setting leaves its orientation
+# to chance (our own threshold, no source).
 NEAR_ZERO = 0.1
 
 
@@ -28,6 +30,7 @@ class Orientation:
     plus_v: float  # the DC at each end, at the setting with the least margin
     minus_v: float
     setting: str  # words for that setting ("knobs at half way", "Gain at 0 %"...)
+    peak: float  # the forward DC at the setting where it is most
 
     @property
     def margin(self) -> float:
@@ -36,8 +39,9 @@ class Orientation:
 
     @property
     def settled(self) -> bool:
-        """Whether the circuit holds it forward by more than :data:`NEAR_ZERO` everywhere."""
-        return self.margin >= NEAR_ZERO
+        """Whether the circuit holds it forward by :data:`NEAR_ZERO` or more at some setting
+        (which sets its way round)."""
+        return self.peak >= NEAR_ZERO
 
 
 def orientations(ctx) -> dict[str, Orientation]:
@@ -61,6 +65,7 @@ def orient(ctx, designator: str) -> Orientation:
     plus_pin = 0 if first_up >= second_up else 1
     sign = 1.0 if plus_pin == 0 else -1.0
     a, b, words = min(ends, key=lambda e: sign * (e[0] - e[1]))
+    peak = max(sign * (e[0] - e[1]) for e in ends)
     nodes = (element.a, element.b)
     return Orientation(designator, plus_pin, nodes[plus_pin], nodes[1 - plus_pin],
-                       a if plus_pin == 0 else b, b if plus_pin == 0 else a, words)
+                       a if plus_pin == 0 else b, b if plus_pin == 0 else a, words, peak)

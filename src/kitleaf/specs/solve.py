@@ -144,6 +144,6 @@ def idle_at_dc(state: KitState, pots: set[str]) -> bool:
 
 
 def nominal_positions(kit: KitCircuit) -> dict[str, float]:
-    """Every knob at half its rotation and every switch at its first position: the state
+    """Every knob at half its rotation and every switch where it rests: the state
     the voltage table and headline figures assume."""
     return kit.rest_positions()

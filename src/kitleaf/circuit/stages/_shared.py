@@ -8,10 +8,11 @@ from kitleaf.errors import CircuitError, KitleafError
 
 # Engine model kinds by the part type a role takes (see kitleaf.engine.models).
 FAMILIES = {"bjt": ("npn", "pnp"), "jfet": ("njf", "pjf"), "opamp": ("opamp",),
-            "diode": ("diode",), "led": ("diode",)}
+            "diode": ("diode",), "led": ("diode",), "pump": ("pump",)}
 # With the article each takes as it is read aloud ("an NPN", "a PNP").
 FAMILY_NAMES = {"npn": "an NPN BJT", "pnp": "a PNP BJT", "njf": "an N-channel JFET",
-                "pjf": "a P-channel JFET", "diode": "a diode", "opamp": "an op-amp"}
+                "pjf": "a P-channel JFET", "diode": "a diode", "opamp": "an op-amp",
+                "pump": "a charge pump"}
 # Pins of one section of an 8-pin dual op-amp (TL072, NE5532, LM358 share the pinout;
 # datasheet pin diagrams, from memory): section A, section B, then the supply pins.
 DUAL_PINS = {
@@ -23,6 +24,8 @@ SUPPLY_PINS = {"vpos": "8", "vneg": "4"}
 
 def family(part: Part) -> str:
     """The engine's kind of a semiconductor's model (npn, pnp, njf, pjf, diode, opamp)."""
+    if part.device is not None:
+        return part.device.kind
     from kitleaf.engine.models import get_model  # the model library loads on first use
 
     try:

@@ -64,7 +64,7 @@ def test_point_lines(stage: Stage) -> list[tuple[str, str, object]]:
 @register
 class Custom(StageKind):
     name = "custom"
-    summary = "a netlist written in the guide, drawn as a labelled block"
+    summary = "a netlist written in the guide, drawn by automatic placement"
     roles = (Role("part", PART_TYPES, many=True, nodes=True,
                   help="a part and the nodes it joins: 'R1 470k @ vcc b'"),)
     extra_keys = ("nodes", "input", "output", "supply", "reference", "test-point")
@@ -94,5 +94,10 @@ class Custom(StageKind):
 
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._custom_check import draw_custom
+        from kitleaf.circuit.stages._custom_layout import draw_netlist
+        from kitleaf.circuit.stages._custom_plan import layout_problem
 
-        draw_custom(stage, sheet)
+        if layout_problem(stage) is None:
+            draw_netlist(stage, sheet)
+        else:  # the design rule custom-drawing says why
+            draw_custom(stage, sheet)

@@ -51,7 +51,9 @@ MODULES = (
     "e_series",
     "battery_life",
     "unused_half",
+    "custom_drawing",
     "trim_reach",
+    "hum",
 )
 
 

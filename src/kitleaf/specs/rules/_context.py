@@ -87,22 +87,36 @@ class RuleContext:
     guide: Guide
     kit: KitCircuit
     specs: KitSpecs
+    solved: object | None = None  # the specs' SolvedKit, whose states the rules share
 
     @cached_property
     def states(self) -> tuple[DcSetting, ...]:
-        """Knobs at half way (switches at their first position), then each knob or switch
+        """Knobs at half way (switches where they rest), then each knob or switch
         alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
-        settings = [("knobs at half way", nominal)]
+        settings = [("knobs at half way", None, 0)]
         for control in self.kit.controls:
-            for pos, shown in control.steps:
+            for k, (pos, shown) in enumerate(control.steps):
                 if pos != nominal[control.designator]:
-                    words = setting(control.name, shown)
-                    settings.append((words, {**nominal, control.designator: pos}))
-        base = KitState(self.kit, nominal)
+                    settings.append((setting(control.name, shown), control, k))
         memo: dict = {}
-        return tuple(DcSetting(words, base if i == 0 else KitState(self.kit, positions, near=base),
-                               memo) for i, (words, positions) in enumerate(settings))
+        return tuple(DcSetting(words, self._state(control, k), memo)
+                     for words, control, k in settings)
+
+    def _state(self, control, k: int) -> KitState:
+        """The kit with ``control`` at its step ``k`` and the others at their nominal
+        settings (None: all nominal), from the shared solved states when there are some."""
+        if self.solved is not None:
+            return self.solved.base if control is None else self.solved.sweeps[
+                control.designator][k]
+        if control is None:
+            return self._base
+        positions = {**nominal_positions(self.kit), control.designator: control.steps[k][0]}
+        return KitState(self.kit, positions, near=self._base)
+
+    @cached_property
+    def _base(self) -> KitState:
+        return KitState(self.kit, nominal_positions(self.kit))
 
     def worst(self, fails: Callable[[Reading], Sequence[bool]]) -> Verdict | None:
         """The state where ``fails`` (a reading -> whether each build fails) finds the most:

@@ -5,7 +5,7 @@ A polarised capacitor is fitted with its + lead to the side that stays higher ov
 sweep (specs/polarity.py; the drawing and the BOM show the same). It is reversed if some knob
 position drives it more than REVERSE_LIMIT the other way, in the nominal build or in 5 % of
 the builds within part tolerances: then no orientation keeps it forward-biased. Held forward by
-less than NEAR_ZERO at its worst setting, its orientation is a guess.
+less than NEAR_ZERO at every setting, its orientation is a guess.
 """
 
 from __future__ import annotations
@@ -58,8 +58,8 @@ def check(ctx: RuleContext):
 
 
 def _unsettled(part, orientation: Orientation, knobs: bool) -> str:
-    where = f" with {orientation.setting}" if knobs else ""
-    return (f"{part.designator} ({part.dielectric}) has only "
-            f"{format_value(orientation.margin, 'voltage')} DC across it{where} (less than "
+    where = " at any knob setting" if knobs else ""
+    return (f"{part.designator} ({part.dielectric}) has at most "
+            f"{format_value(orientation.peak, 'voltage')} DC across it{where} (less than "
             f"{format_value(NEAR_ZERO, 'voltage')}), so the circuit does not say which way it "
             "goes; use a film or bipolar capacitor, or bias one side")

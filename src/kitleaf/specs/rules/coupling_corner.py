@@ -17,7 +17,7 @@ from kitleaf.circuit.parts import Part
 from kitleaf.specs import measures as m
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext, past_limit
-from kitleaf.specs.sampled import solve_nominal
+from kitleaf.specs.sampled import solve_alike
 from kitleaf.specs.solve import View
 from kitleaf.values import format_value
 
@@ -54,13 +54,14 @@ def _advice(ctx: RuleContext, stage: Stage) -> str:
 def setting_capacitor(ctx: RuleContext, stage: Stage) -> tuple[Part, float] | None:
     """The stage's capacitor whose tenfold value lowers the nominal low corner most, with the
     corner it then gives (NaN: below the band searched); None when none moves it by SETS."""
-    circuit = ctx.states[0].circuit  # the knobs at half way, as the stage's specs are
-    measure = m.corner(*ctx.kit.stage_nodes(stage.id), 0)
+    base = ctx.states[0]  # the knobs at half way, as the stage's specs are
+    circuit, measure = base.circuit, m.corner(*ctx.kit.stage_nodes(stage.id), 0)
 
     def corner(changed) -> float:
-        return float(measure(View(solve_nominal(changed)))[0])
+        # a capacitor carries no DC current: the changed kit keeps the operating point
+        return float(measure(View(solve_alike(changed, base.nominal.batch)))[0])
 
-    start = corner(circuit)
+    start = float(measure(base.view)[0])
     best = None
     for part in (p for p in stage.all_parts() if p.type == "capacitor"):
         value = circuit.element(part.designator).value
