@@ -106,6 +106,15 @@ class TestRails:
         assert found["doubled"] > 2.2 * found[None] and found["bipolar"] > 2.2 * found[None]
 
 
+    def test_drawing_names_the_rails_the_stage_is_on(self):
+        from kitleaf.render.schematic import render_stage_svg
+
+        for pump, rails, shown in (("doubler", "doubled", ">V2<"), ("inverter", "bipolar",
+                                                                    ">0 V<")):
+            _, kit = kit_of(power(pump), gain(rails), spare(rails))
+            assert shown in render_stage_svg(kit, kit.stages[1])
+
+
 class TestRailErrors:
     def test_a_rail_no_power_stage_makes(self):
         blocks = (power("none"), gain("doubled"), spare(None))

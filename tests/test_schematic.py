@@ -223,7 +223,7 @@ def test_overview_power_feeds_exactly_the_stages_that_use_its_rails():
     blocks = rects(svg)
     power = blocks[-1]  # drawn last, below the chain
     fed = {i for i, s in enumerate(KIT.signal_stages) if KIT.rails_used(s)}
-    assert fed == {0, 1, 2, 3, 4, 9, 13}  # the transistor, op-amp and custom stages
+    assert fed == {0, 1, 2, 3, 4, 9, 13, 14, 15, 16, 17}  # the transistor, op-amp and custom stages
     assert wired_to(svg, power) == fed | {len(blocks) - 1}
     words = [t for t, _ in texts(svg)]
     assert "VCC, VREF" in words

@@ -164,7 +164,7 @@ def test_every_variant_of_every_kind_draws_its_netlist(variant):
     from kitleaf.errors import CircuitError
 
     try:
-        kit = make_kit(*variant.blocks)
+        kit = make_kit(*variant.blocks, lines=variant.kit_lines)
     except CircuitError:  # a kind may refuse some roles alone (one needs another), not all
         assert not variant.every_role, variant.id
         return

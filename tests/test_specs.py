@@ -211,3 +211,12 @@ def test_the_heron_counts_both_halves_of_its_dual_op_amp():
     assert specs.stage("spare").supply_current.nominal == pytest.approx(1.4e-3, rel=0.01)
     parts = sum(s.supply_current.nominal for s in specs.stages if s.supply_current)
     assert specs.supply_current.nominal == pytest.approx(parts, rel=1e-6)
+
+
+def test_a_draw_below_a_meters_reach_reads_as_none_not_as_a_figure():
+    # A power stage with no LED draws nothing: the solver leaves femtoamperes of rounding,
+    # which must not be printed as a current (or as a negative one).
+    from kitleaf.display import range_text
+    from kitleaf.specs.model import Range
+    assert range_text(Range(6.51e-15, -2.71e-14, 2.48e-14), "current") == "none (under 1 nA)"
+    assert range_text(Range(2.11e-3, 2.02e-3, 2.20e-3), "current") == "2.11 mA (2.02–2.2)"

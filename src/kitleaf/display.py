@@ -49,6 +49,8 @@ def range_text(value, quantity: str) -> str:
     """A spec as the trade writes it, with its tolerance spread: "25.8 dB (24.9–26.6)"."""
     if value is None:
         return DASH
+    if quantity == "current" and _below_meter(value):
+        return NO_CURRENT
     nominal = _one(value.nominal, quantity)
     if value.low is None or value.high is None:
         return nominal
@@ -61,6 +63,17 @@ def range_text(value, quantity: str) -> str:
     # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
     joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
     return f"{nominal} ({low}{joiner}{high})"
+
+
+# A current below what a multimeter's lowest range resolves (about 0.1 µA; common practice,
+# no source) is the solver's rounding, not a draw: a stage that draws nothing says so.
+SMALLEST_CURRENT = 1e-9
+NO_CURRENT = "none (under 1 nA)"
+
+
+def _below_meter(value) -> bool:
+    ends = [x for x in (value.nominal, value.low, value.high) if x is not None]
+    return all(abs(x) < SMALLEST_CURRENT for x in ends)
 
 
 def dbv(volts: float) -> float:

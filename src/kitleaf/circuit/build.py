@@ -102,7 +102,7 @@ def _check_designators(stages: list[Stage], hardware: tuple[Part, ...]) -> None:
 def _check_power(stages: list[Stage]) -> None:
     has_reference = any(KINDS[s.kind].provides_power for s in stages)
     for stage in stages:
-        if KINDS[stage.kind].needs_reference and not has_reference:
+        if KINDS[stage.kind].needs_reference_for(stage) and not has_reference:
             raise CircuitError(
                 f"stage '{stage.id}' ({stage.kind}) needs the mid-rail reference; add a power "
                 "stage with a reference divider",

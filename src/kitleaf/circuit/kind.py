@@ -118,6 +118,18 @@ class StageKind:
     # True for the stage that provides the supply rail and the mid-rail reference.
     provides_power: ClassVar[bool] = False
     needs_reference: ClassVar[bool] = False
+    # True for a stage that clips by design (diodes in or after it, a fuzz pair): its gain is
+    # a small-signal figure, true only below the clipping knee, and is shown as such.
+    clips: ClassVar[bool] = False
+    # A kind built in variants: the role whose part picks the variant, and for each part type
+    # that role takes, the roles only that variant has (a stage fills only its own variant's).
+    variant_role: ClassVar[str] = ""
+    variant_roles: ClassVar[Mapping[str, tuple[str, ...]]] = {}
+
+    def needs_reference_for(self, stage: Stage) -> bool:
+        """Whether this stage joins the mid-rail reference (a kind whose variants differ
+        answers per stage)."""
+        return self.needs_reference
 
     def build(self, stage: Stage, wiring: Wiring) -> None:
         """Add the stage's elements to the engine circuit through ``wiring``."""

@@ -56,6 +56,11 @@ def check_rails(stages) -> None:
                 "with its capacitors, or drop the 'rails:' line", stage.rails_entry.span)
 
 
+def rail_labels(rails: str) -> dict[str, str]:
+    """How a stage's drawing names its rails when they are not the main ones."""
+    return {DOUBLED: {"vcc": "V2"}, BIPOLAR: {"vref": "0 V"}}.get(rails, {})
+
+
 def rail_nodes(rails: str, main: str) -> dict[str, str]:
     """A stage's local rail names (``vcc``, ``vref``, ``vee``) as circuit nodes."""
     nodes = {"vcc": main, "vref": "vref", "vee": "0"}

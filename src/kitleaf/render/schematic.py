@@ -19,6 +19,7 @@ from schemdraw.segments import Segment
 
 from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import rail_labels
 from kitleaf.circuit.switches import form_of
 from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
@@ -375,8 +376,8 @@ def plus_pins_of(stage, orientations: Mapping) -> dict[str, int]:
 def draw_stage(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None
                ) -> SchematicSheet:
     """The sheet of one stage, drawn by its kind, with its test points marked."""
-    sheet = SchematicSheet(stage.title, nets={"supply": kit_circuit.supply_label},
-                           plus_pins=plus_pins)
+    nets = {"supply": kit_circuit.supply_label, **rail_labels(stage.rails)}
+    sheet = SchematicSheet(stage.title, nets=nets, plus_pins=plus_pins)
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 

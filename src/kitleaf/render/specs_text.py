@@ -10,7 +10,7 @@ def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
     width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
-             f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
+             f"  {_gain_words(specs.clips) + ' ':<19}{range_text(specs.gain_db, 'db')}",
              *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
                for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
@@ -28,7 +28,7 @@ def specs_to_text(specs: KitSpecs) -> str:
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines += [f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}",
+            lines += [f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}",
                       f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
                       f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
                       f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
@@ -41,6 +41,11 @@ def specs_to_text(specs: KitSpecs) -> str:
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
             lines.append(f"    {v.label:<16} {readings}")
     return "\n".join(lines)
+
+
+def _gain_words(clips: bool) -> str:
+    """A clipping stage's gain holds for small signals only, and says so."""
+    return "small-signal gain" if clips else "gain at 1 kHz"
 
 
 def _knobs(point: KnobPoint) -> str:

@@ -144,6 +144,7 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         source_loading=source_loading(kit, base),
         trims=trims(kit),
         ripple=ripple, hum=None if hum is None else base.range(hum),
+        clips=any(s.clips for s in stages),
     )
 
 
@@ -185,6 +186,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
+        clips=kit.kind(stage).clips,
     )
 
 

@@ -142,6 +142,8 @@ class StageSpecs:
     # response does not dip by MIN_SCOOP_DB); each knob step's is on its knob_sweep point.
     scoop: Scoop | None = None
     hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
+    # The stage clips by design: its gain figures hold for small signals only.
+    clips: bool = False
 
 
 @dataclass(frozen=True)
@@ -173,6 +175,7 @@ class KitSpecs:
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
     # (switch name, designator, position names, the one it rests at), as the kit block says
     switches: tuple[tuple[str, str, tuple[str, ...], str], ...] = ()
+    clips: bool = False  # a stage clips by design: the gain figures hold for small signals
     samples: int = 0
     seed: int = 0
     # The gain (nominal parts) with the knobs together at the ends of their travel:

@@ -67,6 +67,21 @@ def require_together(stage: Stage, needs: str, needed: str) -> None:
             f"beside it; add a line '{needed}: ...' or drop {part.designator}", part.span)
 
 
+def need_role(stage: Stage, role: str, why: str) -> None:
+    """A role optional in the kind that this stage's variant (``why``) cannot do without."""
+    if stage.part(role) is None:
+        raise CircuitError(f"stage '{stage.id}' ({stage.kind}) {why} needs a '{role}' part; "
+                           f"add a line '{role}: ...'", stage.span)
+
+
+def refuse_role(stage: Stage, role: str, why: str) -> None:
+    """A part in a role this stage's variant has no place for, refused at its line."""
+    part = stage.part(role)
+    if part is not None:
+        raise CircuitError(f"stage '{stage.id}', role '{role}': {why}; drop "
+                           f"{part.designator} or change the stage", part.span)
+
+
 def rheostat(wiring, part: Part | None, a: str, b: str, grows: bool = True) -> None:
     """A pot as a variable resistor from ``a`` to ``b``, its wiper tied to one end.
 
@@ -95,6 +110,27 @@ def series(wiring, chain: list[tuple[Part | None, bool]], start: str, end: str, 
             rheostat(wiring, part, a, b, grows)
         else:
             wiring.place(part, a, b)
+
+
+def diode_stack(wiring, parts, top: str, bottom: str, prefix: str, anode_up: bool) -> None:
+    """Diodes in series from ``top`` to ``bottom``, conducting from ``top`` when ``anode_up``
+    (none: a clipper may clip one polarity only). Inner nodes are ``prefix1``, ``prefix2``..."""
+    if not parts:
+        return
+    nodes = [top] + [f"{prefix}{i}" for i in range(1, len(parts))] + [bottom]
+    for part, a, b in zip(parts, nodes[:-1], nodes[1:], strict=True):
+        wiring.place(part, *((a, b) if anode_up else (b, a)))
+
+
+def check_diodes(stage: Stage, roles: tuple[str, ...]) -> None:
+    """Every part in ``roles`` is a diode or an LED, and the roles hold one at least."""
+    if not any(stage.parts.get(role) for role in roles):
+        example = " and/or ".join(f"'{role}: D{i + 1} 1N4148'" for i, role in enumerate(roles))
+        raise CircuitError(f"stage '{stage.id}' ({stage.kind}) has no diodes; add {example}",
+                           stage.span)
+    for role in roles:
+        for part in stage.parts.get(role, ()):
+            check_part_family(stage, role, part, ("diode",))
 
 
 def section(part: Part) -> str:

@@ -12,11 +12,13 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Option, Role, Stage, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._opamp import (
-    PLUS_Y,
+    BIASED_INPUT_ROLES,
     OpampKind,
+    draw_biased_input,
     draw_opamp_core,
     draw_output,
     feedback_rows,
+    place_biased_input,
 )
 from kitleaf.circuit.stages._shared import (
     capacitor_role,
@@ -35,9 +37,7 @@ GAIN_RETURN = Option(
          "reference, which holds the output there without a gain cap")
 
 ROLES = (
-    capacitor_role("input-cap", "coupling capacitor from the stage input to the + input"),
-    resistor_role("bias", "from the + input to the reference VREF; sets the input impedance"),
-    Role("opamp", ("opamp",), help="one section of the op-amp: U1A TL072 (pins 1-3) or U1B"),
+    *BIASED_INPUT_ROLES,
     resistor_role("feedback", "feedback resistor Rf, output to - input"),
     capacitor_role("feedback-cap", "across Rf: rolls off the highs", required=False),
     resistor_role("gain-resistor", "Rg, from the - input towards ground; sets the top gain"),
@@ -66,9 +66,7 @@ class OpampNonInverting(OpampKind):
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
-        wiring.place(part("input-cap"), "in", "p")
-        wiring.place(part("bias"), "p", "vref")
-        wiring.place(part("opamp"), "p", "m", "o", "vcc", "0")
+        place_biased_input(stage, wiring)
         wiring.place(part("feedback"), "o", "m")
         wiring.place(part("feedback-cap"), "o", "m")
         chain = [(part("gain-resistor"), True), (part("gain"), False), (part("gain-cap"), True)]
@@ -81,13 +79,7 @@ class OpampNonInverting(OpampKind):
 
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         part = stage.part
-        sheet.port((0.0, PLUS_Y), "IN", "left")
-        sheet.part(part("input-cap"), (0.0, PLUS_Y), (2.2, PLUS_Y), plus=(2.2, PLUS_Y))
-        node = (3.2, PLUS_Y)
-        sheet.wire((2.2, PLUS_Y), node, (4.6, PLUS_Y))
-        sheet.dot(node)
-        sheet.part(part("bias"), node, (3.2, PLUS_Y - 2.6), side="left")
-        sheet.net_label((3.2, PLUS_Y - 2.6), "vref", "below")
+        draw_biased_input(sheet, stage)
         leg = [p for p in (part("gain-resistor"), part("gain"), part("gain-cap")) if p]
         _, out = draw_opamp_core(sheet, stage, feedback_rows(stage, False), leg,
                                  "vref" if stage.options["gain-return"] == "vref" else "0")
