@@ -120,7 +120,7 @@ class TestErrors:
 
     def test_kind_must_fit_the_role(self):
         error = error_of("FB-J1", device("FB-J1", "type: njf", "vto: -1"))
-        assert "is a N-channel JFET; this kind takes a NPN BJT or PNP BJT" in error.message
+        assert "is an N-channel JFET; this kind takes an NPN BJT or a PNP BJT" in error.message
 
     @pytest.mark.parametrize("header, words", [
         ("```device", "needs a name after 'device'"),

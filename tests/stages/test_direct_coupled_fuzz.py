@@ -104,7 +104,7 @@ class TestBadInput:
 
     def test_a_jfet_is_refused_at_its_line(self):
         block = fuzz("2N5088", second="J201")
-        with pytest.raises(CircuitError, match="this kind takes a NPN BJT or PNP BJT") \
+        with pytest.raises(CircuitError, match="this kind takes an NPN BJT or a PNP BJT") \
                 as caught:
             make_kit(POWER, block)
         assert caught.value.span.line == line_of(guide_text(POWER, block), "output-transistor")

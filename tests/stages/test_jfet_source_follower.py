@@ -96,7 +96,7 @@ class TestBadInput:
 
     def test_a_bipolar_transistor_is_refused_at_its_line(self):
         block = follower("Q1 2N3904")
-        with pytest.raises(CircuitError, match="takes a N-channel JFET or P-channel JFET") \
+        with pytest.raises(CircuitError, match="takes an N-channel JFET or a P-channel JFET") \
                 as caught:
             make_kit(POWER, block)
         assert caught.value.span.line == line_of(guide_text(POWER, block), "transistor:")

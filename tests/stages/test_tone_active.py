@@ -76,6 +76,7 @@ def test_each_knob_turns_its_own_band_up_clockwise():
     ("bass: R9 100k", "bass: VR1 B100k", "'bass'"),
     ("treble-cap: R9 10k", "treble-cap: C4 10n", "'treble-cap'"),
     ("opamp: Q9 2N3904", "opamp: U1A TL072", "'opamp'"),
+    ("opamp: U9 2N3904", "opamp: U1A TL072", "U9 2N3904 is an NPN BJT; this kind takes an op-amp"),
 ])
 def test_a_part_of_the_wrong_type_is_refused_at_its_line(wrong, line, words):
     text = ACTIVE.replace(line, wrong)

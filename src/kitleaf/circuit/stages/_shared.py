@@ -9,9 +9,10 @@ from kitleaf.errors import CircuitError, KitleafError
 # Engine model kinds by the part type a role takes (see kitleaf.engine.models).
 FAMILIES = {"bjt": ("npn", "pnp"), "jfet": ("njf", "pjf"), "opamp": ("opamp",),
             "diode": ("diode",), "led": ("diode",), "pump": ("pump",)}
-FAMILY_NAMES = {"npn": "NPN BJT", "pnp": "PNP BJT", "njf": "N-channel JFET",
-                "pjf": "P-channel JFET", "diode": "diode", "opamp": "op-amp",
-                "pump": "charge pump"}
+# With the article each takes as it is read aloud ("an NPN", "a PNP").
+FAMILY_NAMES = {"npn": "an NPN BJT", "pnp": "a PNP BJT", "njf": "an N-channel JFET",
+                "pjf": "a P-channel JFET", "diode": "a diode", "opamp": "an op-amp",
+                "pump": "a charge pump"}
 # Pins of one section of an 8-pin dual op-amp (TL072, NE5532, LM358 share the pinout;
 # datasheet pin diagrams, from memory): section A, section B, then the supply pins.
 DUAL_PINS = {
@@ -46,8 +47,8 @@ def check_part_family(stage: Stage, role: str, part: Part | None, allowed: tuple
     if found not in allowed:
         wanted = " or ".join(FAMILY_NAMES[a] for a in allowed)
         raise CircuitError(
-            f"stage '{stage.id}', role '{role}': {part.designator} {part.model} is a "
-            f"{FAMILY_NAMES.get(found, found)}; this kind takes a {wanted}", part.span)
+            f"stage '{stage.id}', role '{role}': {part.designator} {part.model} is "
+            f"{FAMILY_NAMES.get(found, f'a {found}')}; this kind takes {wanted}", part.span)
 
 
 def is_flipped(stage: Stage, role: str) -> bool:
