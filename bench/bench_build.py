@@ -99,9 +99,13 @@ def four_stage_guide(base: str, donors: list[str], number: int, rng: random.Rand
     return vary(CLAIM.sub("", text), rng)
 
 
-def make_site(root: Path, count: int) -> Path:
+def make_site(root: Path, count: int, large_signal: str | None = None) -> Path:
+    """``count`` guides of four stages under ``root/guides``; with ``large_signal`` ("yes"
+    or "no") every kit block says so (the demo guides ask for those figures or not)."""
     demos = [p.read_text() for p in sorted(DEMO.glob("*.md"))]
-    """``count`` guides of four stages under ``root/guides``."""
+    if large_signal is not None:
+        demos = [re.sub(r"^large-signal: .*\n", "", d, flags=re.M).replace(
+            "supply: 9 V\n", f"supply: 9 V\nlarge-signal: {large_signal}\n", 1) for d in demos]
     guides = root / "guides"
     guides.mkdir(parents=True)
     rng = random.Random(2024)
@@ -199,6 +203,9 @@ def main() -> int:
     p.add_argument("--guides", type=int, default=100)
     p.add_argument("--jobs", type=int, default=None)
     p.add_argument("--keep", type=Path, help="build here and keep it, instead of a temp dir")
+    p.add_argument("--large-signal", choices=("yes", "no"),
+                   help="every guide asks for the large-signal figures, or none does "
+                        "(default: as its demo guide says)")
     args = p.parse_args()
     keep_freed_memory()  # as the kitleaf command does before it builds
     # The pipeline's imports (about 1 s) are paid once, before any timing, as a running
@@ -208,7 +215,7 @@ def main() -> int:
     root = args.keep or Path(tempfile.mkdtemp(prefix="kitleaf-bench-"))
     jobs = args.jobs or default_jobs()
     try:
-        run(root, args.guides, jobs)
+        run(root, args.guides, jobs, args.large_signal)
     except BuildFailed as failed:
         print("\n".join(str(e) for e in failed.errors[:5]), file=sys.stderr)
         raise
@@ -218,8 +225,8 @@ def main() -> int:
     return 0
 
 
-def run(root: Path, count: int, jobs: int) -> None:
-    guides, out = make_site(root, count), root / "published"
+def run(root: Path, count: int, jobs: int, large_signal: str | None = None) -> None:
+    guides, out = make_site(root, count, large_signal), root / "published"
     with TreeMemory() as memory:
         cold, report = timed(build_site, guides, out, jobs=jobs)
     same, again = timed(build_site, guides, out, jobs=jobs)

@@ -37,9 +37,10 @@ ROWS = """JSON.stringify([...document.querySelectorAll('.check-table')].map(t =>
     transform: getComputedStyle(r.querySelector('.verdict-words')).textTransform,
   })),
 })))"""
-# Every box of the checks and the bench notes: its borders and background, as computed.
+# Every box of the checks, the bench notes and the wiring's cautions: its borders and
+# background, as computed.
 BOXES = """JSON.stringify([...document.querySelectorAll(
-    '.checks, .checks *, .bench-notes, .bench-notes *')].map(e => {
+    '.checks, .checks *, .bench-notes, .bench-notes *, .wiring-notes, .wiring-notes *')].map(e => {
   const s = getComputedStyle(e);
   return {tag: e.tagName, cls: e.className, background: s.backgroundColor,
           widths: [s.borderTopWidth, s.borderRightWidth, s.borderBottomWidth,

@@ -127,9 +127,9 @@ def count_solves(monkeypatch) -> list[str]:
     for module in (kitleaf.commands.check, kitleaf.site.guide_output):
         solve = module.derive_specs
 
-        def counted(guide, kit, _solve=solve):
+        def counted(guide, kit, solved=None, _solve=solve):
             calls.append(Path(guide.path).name)
-            return _solve(guide, kit)
+            return _solve(guide, kit, solved)
 
         monkeypatch.setattr(module, "derive_specs", counted)
     return calls
@@ -255,7 +255,7 @@ def test_a_numeric_warning_in_the_solve_is_a_located_error(monkeypatch, capsys):
 
     import kitleaf.specs.derive as derive
 
-    def overflowing(guide, kit):
+    def overflowing(guide, kit, solved):
         return np.float64(1e308) * 10.0
 
     monkeypatch.setattr(derive, "_derive", overflowing)

@@ -10,7 +10,9 @@ import pytest
 
 from chromium_pipe import Browser, Page, require_tool
 from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.harness import build_harness
 from kitleaf.guide import parse_guide
+from kitleaf.render.wiring_list import wiring_rows
 from kitleaf.site.build import build_site
 from site_pages import DEMO_GUIDES, build_demo_site
 from test_bom_print import PAGE_POINTS, has_word, page_count_and_size, page_texts
@@ -20,6 +22,7 @@ pytestmark = pytest.mark.slow
 SLUGS = sorted(p.stem for p in DEMO_GUIDES.glob("*.md"))
 HEADED = "brookside-boost"  # printed once more with the voltages under the maker's own heading
 MAKER_HEADING = "Measure the voltages"
+WIRING = "Wiring the jacks, footswitch and power"
 FOOTER = re.compile(r"^Page (\d+) of (\d+)$")
 
 
@@ -108,3 +111,38 @@ def test_every_designator_is_printed(printed, name, paper):
     missing = [p.designator for p in kit.parts() if not has_word(text, p.designator)]
     assert missing == []
 
+
+
+@pytest.mark.parametrize(("name", "paper"), CASES)
+def test_the_wiring_opens_a_page_holding_its_whole_drawing_and_list(printed, name, paper):
+    """The drawing (its labels are text in the PDF) and every wire of the list on one page,
+    before the voltages unless the maker placed those in the guide's own text."""
+    pages = printed[name, paper]
+    slug = HEADED if name == "headed" else name
+    guide = parse_guide(DEMO_GUIDES / f"{slug}.md")
+    harness = build_harness(guide, build_circuit(guide))
+    opening = [n for n, text in enumerate(pages) if body_of(text)[0] == WIRING]
+    assert len(opening) == 1
+    page = " ".join(lines_of(pages[opening[0]]))
+    for label in ("The board: pads as the schematic names them", "switched lug", "centre pin",
+                  "cathode (-)", "IN", "OUT", "GND", "+9 V"):
+        assert label in page, label
+    rows = wiring_rows(harness)
+    for end in {text for row in rows for text in (row.start, row.end)}:
+        assert page.count(end) >= sum((row.start, row.end).count(end) for row in rows), end
+    assert "take precedence over this guide" in page
+    voltages = [n for n, text in enumerate(pages) if body_of(text)[0] == "Voltages to measure"]
+    assert name == "headed" or opening[0] < voltages[0]
+
+
+@pytest.mark.parametrize(("name", "paper"), CASES)
+def test_a_wrong_reading_and_its_causes_stay_on_one_page(printed, name, paper):
+    """The symptom list's readings never split: each cause printed sits on the page of its
+    reading, so a page never opens with a cause numbered past 1 without its reading."""
+    pages = printed[name, paper]
+    start = next(n for n, text in enumerate(pages) if "When a reading is wrong" in text)
+    for text in pages[start + 1:]:
+        first = body_of(text)[0]
+        if first == "Bill of materials":
+            break
+        assert not re.match(r"^[2-9]\. ", first), first

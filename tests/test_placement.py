@@ -4,12 +4,13 @@ and never two headings in a row."""
 from __future__ import annotations
 
 import re
+from pathlib import Path
 
 import pytest
 
 from kitleaf.errors import RenderError
 from kitleaf.render.inline import prose_env
-from kitleaf.render.placement import SECTIONS, arrange
+from kitleaf.render.placement import ABSENT_KEY, SECTIONS, arrange
 from kitleaf.render.prose import render_prose
 from site_pages import build_demo_site
 
@@ -45,13 +46,13 @@ def order(text: str) -> list[tuple[str, str, bool]]:
 def test_the_makers_introduction_comes_first_then_the_sections_before_the_body():
     kinds = order(GUIDE)
     assert kinds[0] == ("html", "<p>Our small", False)
-    assert [c for k, c, _ in kinds[1:4]] == ["glance", "checks", "cautions"]
+    assert [c for k, c, _ in kinds[1:5]] == ["glance", "previews", "checks", "cautions"]
 
 
 def test_a_placed_section_stands_where_the_maker_put_it_and_the_rest_keep_their_defaults():
     names = [c for k, c, _ in order(GUIDE) if k in ("stage", "section")]
-    assert names == ["glance", "checks", "cautions", "boost", "voltages", "level", "wiring",
-                     "faults"]
+    assert names == ["glance", "previews", "checks", "cautions", "boost", "voltages", "level",
+                     "wiring", "faults"]
 
 
 def test_a_stage_right_after_a_makers_heading_takes_it_as_its_own():
@@ -72,7 +73,10 @@ def test_a_wrong_marker_is_a_located_error(marker, message):
 
 
 def test_every_section_has_a_template():
-    assert set(SECTIONS) == {"glance", "checks", "cautions", "wiring", "voltages", "faults"}
+    assert set(SECTIONS) == {"glance", "previews", "checks", "cautions", "wiring", "voltages",
+                             "faults"}
+    templates = Path(__file__).parents[1] / "themes" / "default" / "templates"
+    assert all((templates / name).is_file() for name in SECTIONS.values())
 
 
 # Two headings with nothing but closing and opening tags between them (common practice, no
@@ -87,3 +91,13 @@ def test_no_demo_site_page_has_two_headings_in_a_row(tmp_path):
         assert HEADINGS_IN_A_ROW.search(html) is None, page
     guide = (site / "heron-opamp-boost" / "index.html").read_text(encoding="utf-8")
     assert guide.index("cleanest boost") < guide.index("The kit at a glance")
+
+
+def test_the_wiring_placed_in_a_guide_without_a_bypass_scheme_is_a_located_error():
+    text = GUIDE.replace("{@voltages}", "{@wiring}")
+    env = {**prose_env("order.md", {}), ABSENT_KEY: {"wiring": "add 'bypass: true'"}}
+    with pytest.raises(RenderError, match="add 'bypass: true'") as raised:
+        render_prose(text, env)
+    assert raised.value.span.line == text.splitlines().index("{@wiring}") + 1
+    assert [p.content for p in render_prose(text, prose_env("order.md", {}))
+            if p.kind == "section"] == ["wiring"]

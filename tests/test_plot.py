@@ -154,6 +154,13 @@ def test_a_stage_plot_names_only_the_knobs_of_that_stage():
     assert titles and all("at 50 %" not in t for t in titles), titles
 
 
+def test_a_panel_title_says_where_the_switches_rest():
+    from kitleaf.render.plot_specs import _title
+    rests = {"Level": 0.0, "Clip": "diodes"}
+    assert _title("Level", ["Level", "Clip"], rests) == "Level knob turned, Clip set to diodes"
+    assert _title("Clip", ["Level", "Clip"], rests) == "Clip switch set, Level at 50 %"
+
+
 def test_svg_shows_labels_corners_and_band():
     _, _, specs = solved("brookside-boost")
     svg = render_response_svg(kit_plot(specs))
@@ -316,3 +323,11 @@ def test_a_band_with_gaps_is_drawn_as_separate_closed_outlines():
     [outline] = [e for e in root.iter(f"{SVG}path") if e.get("style") == "fill: #c9ced6"]
     runs = re.findall(r"M[^MZ]*Z", outline.get("d"))
     assert len(runs) == 2 and "".join(runs) == outline.get("d")
+
+
+def test_a_switch_panel_draws_its_resting_position_solid():
+    from kitleaf.render.plot_draw import STYLES, style_of
+    # the first position is the band's state, as half way is a knob's
+    assert style_of(0, 3, solid=0) == STYLES[2]
+    assert [style_of(i, 3, solid=0) for i in (1, 2)] == [STYLES[0], STYLES[1]]
+    assert style_of(2, 5) == STYLES[2]  # knobs keep their order

@@ -51,3 +51,12 @@ def test_a_name_registered_twice_is_refused():
     with pytest.raises(ValueError, match="registered twice"):
         add(family, "one", 2, "test member")
     assert add(family, "two", 2, "test member") == 2 and family == {"one": 1, "two": 2}
+
+
+def test_each_kind_s_role_table_is_its_roles():
+    text = (DOCS / "stage-kinds.md").read_text(encoding="utf-8")
+    section = text.split("\n## Kinds\n", 1)[1].split("\n## ", 1)[0]
+    chunks = re.split(r"^### `([a-z-]+)`$", section, flags=re.M)
+    for name, body in zip(chunks[1::2], chunks[2::2], strict=True):
+        documented = re.findall(r"^\| `([a-z-]+)` \|", body, flags=re.M)
+        assert documented == [r.name for r in stages.KINDS[name].roles], name

@@ -13,7 +13,15 @@ from tests.stages.kits import EVERY_KIND, guide_text
 from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import solve_batch
 from kitleaf.guide.parse import parse_guide
+from kitleaf.specs import measures as m
+from kitleaf.specs import sampled
+from kitleaf.specs.claims import verify
+from kitleaf.specs.derive import derive_specs, solve_kit
 from kitleaf.specs.model import SAMPLES, SEED
+from kitleaf.specs.rules import RuleContext
+from kitleaf.specs.rules.coupling_corner import setting_capacitor
+from kitleaf.specs.sampled import solve_nominal
+from kitleaf.specs.solve import View
 from rules_kits import BUFFER, GUIDE, KIT, OPAMP, POWER, findings, swapped
 
 
@@ -54,6 +62,38 @@ class TestCouplingCorner:
     def test_100n_into_1m_cuts_at_1_6_hz(self):
         # 1 / (2π · 1 MΩ · 100 nF) = 1.59 Hz, under 20 Hz.
         assert findings(filter_guide(high_pass("C1 100n film", "R1 1M")), "coupling-corner") == []
+
+
+class TestSharedStates:
+    def test_the_rules_read_the_specs_solved_states_and_find_the_same(self, monkeypatch):
+        g = parse_guide("test.md", swapped(("C1 1u film 63V", "C1 1n film 63V")))
+        kit = build_circuit(g)
+        solved = solve_kit(g, kit)
+        specs = derive_specs(g, kit, solved)
+        alone = verify(g, kit, specs)  # the rules solve their own states
+        solves = []
+        real = sampled.solve_batch
+        monkeypatch.setattr(sampled, "solve_batch",
+                            lambda c, *a, **k: solves.append(a) or real(c, *a, **k))
+        shared = verify(g, kit, specs, solved)
+        # no tolerance batch is solved again: every rule read the specs' samples
+        assert [a for a in solves if a and a[0] is not None] == []
+        assert [f.line() for f in shared.findings] == [f.line() for f in alone.findings]
+        assert shared.stresses == alone.stresses
+
+    def test_a_tenfold_capacitor_keeps_the_operating_point_and_moves_the_corner(self):
+        # a capacitor carries no DC current, so the changed kit is solved at the kit's own
+        # operating point; its corner equals a fresh solve's
+        g = parse_guide("test.md", swapped(("C1 1u film 63V", "C1 1n film 63V")))
+        kit = build_circuit(g)
+        solved = solve_kit(g, kit)
+        ctx = RuleContext(g, kit, derive_specs(g, kit, solved), solved)
+        stage = kit.signal_stages[0]
+        part, moved = setting_capacitor(ctx, stage)
+        changed = ctx.states[0].circuit.replaced(part.designator,
+                                                 value=part.value * 10.0)
+        fresh = m.corner(*kit.stage_nodes(stage.id), 0)(View(solve_nominal(changed)))[0]
+        assert moved == pytest.approx(fresh, rel=1e-9)
 
 
 class TestTrebleCorner:
@@ -208,3 +248,62 @@ class TestUnusedHalf:
     def test_a_spare_stage_ties_it(self):
         spare = "```stage spare\nkind: opamp-spare\nopamp: U1B TL072\ntie: vref\n```\n"
         assert findings(filter_guide(OPAMP) + "\n" + spare, "unused-half") == []
+
+
+class TestPassiveToneControls:
+    def test_a_tone_stack_is_not_judged_by_its_corners(self):
+        # half way, the stack's response has a bass shelf and a mid scoop, so its -3 dB points
+        # from the band's peak fall inside the audio band: its purpose, not a fault
+        stack = ("```stage stack\nkind: tone-stack\ntreble-cap: C1 220p\nslope: R1 47k\n"
+                 "treble: VR1 A250k\nbass-cap: C2 22n\nbass: VR2 A1M\nmid-cap: C3 22n\n"
+                 "mid: VR3 B25k\n```\n")
+        text = filter_guide(stack)
+        assert findings(text, "coupling-corner") == findings(text, "treble-corner") == []
+        guide = parse_guide("test.md", text)
+        specs = derive_specs(guide, build_circuit(guide))
+        assert specs.stage("stack").high_corner_hz.nominal < 10e3  # under the rule's limit
+
+
+STACK = ("```stage stack\nkind: tone-stack\ntreble-cap: C1 220p\nslope: R1 47k\n"
+         "treble: VR1 A250k\nbass-cap: C2 22n\nbass: VR2 A1M\nmid-cap: C3 22n\nmid: VR3 B25k\n"
+         "```\n")
+FOLLOWER = ("```stage buffer\nkind: emitter-follower\ninput-cap: C4 100n film\n"
+            "bias-top: R4 1M\nbias-bottom: R5 1M\ntransistor: Q1 2N3904\nemitter: R6 10k\n"
+            "output-cap: C5 4u7 film\npulldown: R7 1M\n```\n")
+
+
+class TestToneDrive:
+    def test_a_pickup_straight_into_a_stack_is_too_soft_a_driver(self):
+        # about 16 kΩ at 1 kHz: 6.5 kΩ and 2.5 H in series (15.7 kΩ of reactance), the 250 kΩ
+        # and 470 pF across (hand calculation), against a tenth of the stack's ~45 kΩ or more
+        found = findings(filter_guide(STACK, source="pickup"), "tone-drive")
+        assert [f.subject for f in found] == ["stack"]
+        assert "the passive guitar pickup" in found[0].message
+
+    def test_a_follower_in_front_drives_it_well(self):
+        # an emitter follower's output impedance is tens of ohms (Horowitz & Hill 3e, 2.2.4)
+        assert findings(filter_guide(FOLLOWER + "\n" + STACK, source="pickup"),
+                        "tone-drive") == []
+
+    def test_a_10k_source_is_named_and_can_be_allowed(self):
+        text = filter_guide(STACK, source="10k")
+        assert [f.subject for f in findings(text, "tone-drive")] == ["stack"]
+        allowed = text.replace("mid: VR3 B25k\n", "mid: VR3 B25k\nallow: tone-drive stack: "
+                               "the board's own buffer drives it\n")
+        assert [f.allowed for f in findings(allowed, "tone-drive")] == [
+            "the board's own buffer drives it"]
+
+
+class TestToneLoad:
+    def test_a_stack_into_a_transistor_stage_is_loaded_down(self):
+        # the stack's output impedance climbs to about 240 kΩ with the treble up, against
+        # the ~80 kΩ of a 470k/100k divider (hand calculation) behind it
+        gain = ("```stage gain\nkind: common-emitter\ninput-cap: C6 100n film\n"
+                "bias-top: R8 470k\nbias-bottom: R9 100k\ntransistor: Q2 2N5089\n"
+                "collector: R20 10k\nemitter: R21 1k\noutput-cap: C7 1u film\n```\n")
+        found = findings(filter_guide(FOLLOWER + "\n" + STACK + "\n" + gain), "tone-load")
+        assert [f.subject for f in found] == ["stack"]
+        assert "stage 'gain'" in found[0].message
+
+    def test_the_kit_load_of_1m_is_enough(self):
+        assert findings(filter_guide(FOLLOWER + "\n" + STACK), "tone-load") == []

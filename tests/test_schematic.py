@@ -116,7 +116,7 @@ class TestStageSchematic:
             assert f"{number} {tp.label}" in legend, tp.label  # the voltage table's wording
         rings = [c for c in ET.fromstring(svg).iter(f"{SVG}circle")
                  if abs(float(c.get("r")) - RING_PT) < 0.01]
-        drawn = 0 if stage.kind == "custom" else len(points)  # a custom block shows no nodes
+        drawn = len(points)  # a custom stage's too: its nodes are drawn as rows
         assert len(rings) == drawn
         assert all(str(n) in words for n in range(1, drawn + 1))
 
@@ -223,7 +223,7 @@ def test_overview_power_feeds_exactly_the_stages_that_use_its_rails():
     blocks = rects(svg)
     power = blocks[-1]  # drawn last, below the chain
     fed = {i for i, s in enumerate(KIT.signal_stages) if KIT.rails_used(s)}
-    assert fed == {0, 1, 2, 3, 4, 9}  # the transistor, op-amp and custom stages
+    assert fed == {0, 1, 2, 3, 4, 9, 13, 14, 15, 16, 17}  # the transistor, op-amp and custom stages
     assert wired_to(svg, power) == fed | {len(blocks) - 1}
     words = [t for t, _ in texts(svg)]
     assert "VCC, VREF" in words
@@ -282,3 +282,20 @@ def test_equal_elements_are_placed_once_and_the_table_stays_bounded(monkeypatch)
     assert len(schemdraw_adapter.PLACED) == 1
     SchematicSheet().wire((0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 2.0))  # three new, room for one
     assert len(schemdraw_adapter.PLACED) == 2
+
+
+def test_a_switch_pole_shows_its_contacts_and_rests_on_its_first_position():
+    from kitleaf.circuit.partline import read_part
+    from kitleaf.errors import SourceSpan
+    from kitleaf.guide.model import Entry
+
+    part = read_part(Entry("clip-switch", "S1 DPDT on-off-on", SourceSpan("g.md", 3)),
+                     ("switch",), "here")
+    sheet = SchematicSheet()
+    sheet.switch(part, 1, (0.0, 5.0), [(1.0, 5.5), (1.0, 4.5)])
+    sheet.switch(part, 2, (0.0, 2.0), [(1.0, 2.5), None])
+    svg = sheet.svg()
+    assert svg.count("<circle") == 5  # two commons, three wired throws
+    assert svg.count("<path") == 2  # a lever a pole
+    assert [t for t, _ in texts(svg)].count("S1") == 1  # one label for both poles
+    assert "DPDT on-off-on" in svg

@@ -7,11 +7,12 @@ carry a dot, wires that only cross do not; a part's pins touch only their own ne
 
 from __future__ import annotations
 
+import random
 from pathlib import Path
 
 import pytest
-from tests.drawing_variants import variants
-from tests.stages.kits import EVERY_KIND, make_kit
+from tests.drawing_variants import random_netlist, variants
+from tests.stages.kits import EVERY_KIND, POWER, guide_text, make_kit, stage_block
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.parts import Part
@@ -19,6 +20,8 @@ from kitleaf.errors import SourceSpan
 from kitleaf.guide.parse import parse_guide
 from kitleaf.render.schematic import SchematicSheet
 from kitleaf.render.schematic_check import StageNetlist, check_record, check_stage
+from kitleaf.specs.claims import verify
+from kitleaf.specs.derive import derive_specs
 
 EVERY = make_kit(*EVERY_KIND)
 DEMO = sorted((Path(__file__).parents[1] / "guides").glob("*.md"))
@@ -161,7 +164,7 @@ def test_every_variant_of_every_kind_draws_its_netlist(variant):
     from kitleaf.errors import CircuitError
 
     try:
-        kit = make_kit(*variant.blocks)
+        kit = make_kit(*variant.blocks, lines=variant.kit_lines)
     except CircuitError:  # a kind may refuse some roles alone (one needs another), not all
         assert not variant.every_role, variant.id
         return
@@ -169,8 +172,7 @@ def test_every_variant_of_every_kind_draws_its_netlist(variant):
     assert check_stage(kit, stage) == []
 
 
-@pytest.mark.parametrize("stage", [s for s in EVERY.stages if s.kind != "custom"],
-                         ids=lambda s: s.id)
+@pytest.mark.parametrize("stage", EVERY.stages, ids=lambda s: s.id)
 def test_the_every_kind_kit_draws_its_netlist(stage):
     assert check_stage(EVERY, stage) == []
 
@@ -179,3 +181,65 @@ def test_the_every_kind_kit_draws_its_netlist(stage):
 def test_every_demo_stage_draws_its_netlist(path):
     kit = build_circuit(parse_guide(path))
     assert {s.id: check_stage(kit, s) for s in kit.stages} == {s.id: [] for s in kit.stages}
+
+
+# Seeded custom netlists of 3 to 25 random parts (and a resistor to ground from each of their
+# own nodes): each is drawn as a schematic, not a text box.
+NETLISTS = [random_netlist(random.Random(seed), 3 + seed) for seed in range(23)]
+
+
+@pytest.mark.parametrize("block", NETLISTS, ids=lambda b: f"{b.count('part:')}-parts")
+def test_a_generated_custom_netlist_is_drawn_as_its_schematic(block):
+    kit = make_kit(POWER, block)
+    stage = next(s for s in kit.stages if s.id == "stage")
+    assert check_stage(kit, stage) == []
+
+
+def test_a_netlist_the_placement_cannot_draw_is_a_text_box_with_a_located_warning():
+    # an op-amp supplied from VREF and ground, which the placement does not lead to rails
+    block = stage_block("odd", "custom", "part: U1A TL072 @ n out out vref 0",
+                        "part: R1 100k @ in n", "part: R2 100k @ n 0", "nodes: n")
+    guide = parse_guide("test.md", guide_text(POWER, block))
+    kit = build_circuit(guide)
+    stage = next(s for s in kit.stages if s.id == "odd")
+    assert check_stage(kit, stage) == ["the stage is drawn as a box of text, not as a schematic"]
+    found = [f for f in verify(guide, kit, derive_specs(guide, kit)).findings
+             if f.rule == "custom-drawing"]
+    assert [(f.subject, f.span.line) for f in found] == [("odd", stage.span.line)]
+    assert "U1A takes its supply from vref and 0, not VCC and ground" in found[0].message
+
+
+def _switched(sheet: SchematicSheet, throws) -> StageNetlist:
+    """IN to a toggle's common; its two throws each to a resistor to ground, drawn right
+    (the netlist as stage_netlist reads a switch: a pole's common, then its throws)."""
+    from kitleaf.circuit.partline import read_part
+    from kitleaf.guide.model import Entry
+
+    switch = read_part(Entry("part", "S1 SPDT", SourceSpan("test.md", 1)), ("switch",), "here")
+    sheet.port((0.0, 5.0), "IN")
+    sheet.switch(switch, 1, (0.0, 5.0), throws)
+    for designator, at in (("R1", (1.0, 6.0)), ("R2", (1.0, 4.0))):
+        sheet.part(_part(designator), at, (3.0, at[1]))
+        sheet.ground((3.0, at[1]))
+    return StageNetlist({"S1:p1": ("in", "a", "b"), "R1": ("a", "0"), "R2": ("b", "0")}, {})
+
+
+def test_a_switch_is_checked_pole_by_pole():
+    sheet = SchematicSheet()
+    netlist = _switched(sheet, [(1.0, 6.0), (1.0, 4.0)])
+    assert check_record(sheet.record, netlist) == []
+    crossed = SchematicSheet()  # its throws drawn the other way round
+    netlist = _switched(crossed, [(1.0, 4.0), (1.0, 6.0)])
+    assert any("joins the nodes" in p for p in check_record(crossed.record, netlist))
+
+
+def test_the_netlist_reads_a_switch_pole_from_its_contacts():
+    from kitleaf.circuit.resolve import resolve_stage
+    from kitleaf.render.schematic_check import stage_netlist
+
+    text = stage_block("clip", "custom", "nodes: d l", "part: R1 4k7 @ in out",
+                       "part: S1 SP3T @ out d - l", "part: D1 1N4148 @ d 0",
+                       "part: D2 1N4148 @ l 0")
+    guide = parse_guide("test.md", "```kit\ntitle: T\ncode: T-1\nsupply: 9 V\n```\n" + text)
+    stage = resolve_stage(guide.stages[0])
+    assert stage_netlist(stage).parts["S1:p1"] == ("out", "d", "l")  # the unwired throw left out

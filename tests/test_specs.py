@@ -143,7 +143,8 @@ def test_json_is_versioned_stable_and_reproducible():
     assert data["schema"] == SCHEMA == "kitleaf-specs/1"
     for key in ("gain_db_1khz", "band_gain_db", "low_corner_hz", "high_corner_hz",
                 "input_impedance_ohm_1khz", "output_impedance_ohm_1khz", "supply_current_ma",
-                "headroom_v_peak", "gain_db_1khz_by_knob", "response", "stages", "supplies"):
+                "headroom_v_peak", "drive", "gain_db_1khz_by_knob", "response", "stages",
+                "supplies"):
         assert key in data
     assert set(data["gain_db_1khz"]) == {"nominal", "low", "high"}
     assert [k["name"] for k in data["kit"]["knobs"]] == ["Gain", "Level"]
@@ -156,6 +157,17 @@ def test_text_uses_the_trade_units():
     text = specs_to_text(specs)
     assert "kΩ" in text and "mA" in text and "Hz" in text and " dB (" in text
     assert "e-0" not in text  # no raw floats
+
+
+def test_text_gives_each_signal_stage_its_corners_and_impedances():
+    from kitleaf.display import range_text
+    _, _, specs = solved("heron-opamp-boost")
+    text = specs_to_text(specs)
+    gain = next(s for s in specs.stages if s.id == "gain")
+    block = text[text.index("stage gain"):text.index("stage level")]
+    assert f"low corner       {range_text(gain.low_corner_hz, 'frequency')}" in block
+    assert f"output impedance {range_text(gain.output_impedance, 'resistance')}" in block
+    assert "corner" not in text[text.index("stage power"):text.index("stage gain")]
 
 
 def test_an_engine_error_is_placed_at_the_part_it_names(monkeypatch):
@@ -200,3 +212,12 @@ def test_the_heron_counts_both_halves_of_its_dual_op_amp():
     assert specs.stage("spare").supply_current.nominal == pytest.approx(1.4e-3, rel=0.01)
     parts = sum(s.supply_current.nominal for s in specs.stages if s.supply_current)
     assert specs.supply_current.nominal == pytest.approx(parts, rel=1e-6)
+
+
+def test_a_draw_below_a_meters_reach_reads_as_none_not_as_a_figure():
+    # A power stage with no LED draws nothing: the solver leaves femtoamperes of rounding,
+    # which must not be printed as a current (or as a negative one).
+    from kitleaf.display import range_text
+    from kitleaf.specs.model import Range
+    assert range_text(Range(6.51e-15, -2.71e-14, 2.48e-14), "current") == "none (under 1 nA)"
+    assert range_text(Range(2.11e-3, 2.02e-3, 2.20e-3), "current") == "2.11 mA (2.02–2.2)"

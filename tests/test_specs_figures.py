@@ -7,12 +7,9 @@ import math
 
 import pytest
 from tests.engine.ngspice_run import ac_sweep, half_power_corners
-from tests.stages.kits import POWER, guide_text, stage_block
+from tests.stages.kits import POWER, specs_of, stage_block
 
-from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
-from kitleaf.guide import parse_guide
-from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.lookup import computed_values
 
@@ -21,15 +18,6 @@ from kitleaf.specs.lookup import computed_values
 INVERTING = stage_block("inv", "opamp-inverting", "input: R3 10k",
                         "input-cap: C3 100u electrolytic",
                         "opamp: U1A TL072", "feedback: R4 10k", "output-cap: C4 10u")
-
-
-def specs_of(*blocks: str, knobs: tuple[str, ...] = (), **kit):
-    text = guide_text(*blocks, **kit)
-    # The kit block's closing fence is the first bare one.
-    text = text.replace("```\n", "".join(f"knob: {k}\n" for k in knobs) + "```\n", 1)
-    guide = parse_guide("test.md", text)
-    kit_circuit = build_circuit(guide)
-    return kit_circuit, derive_specs(guide, kit_circuit)
 
 
 def divider_db(r_top: float, r_bottom: float) -> float:

@@ -12,7 +12,7 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.harness import BOARD, Harness, build_harness
 from kitleaf.circuit.offboard import Lug, switch_lug
 from kitleaf.guide import parse_guide
-from kitleaf.render.wiring_list import lug_words, wiring_rows
+from kitleaf.render.wiring_list import lug_words, wires_by_part, wiring_rows
 from kitleaf.render.wiring_svg import render_wiring_svg
 from site_pages import DEMO_GUIDES
 
@@ -215,3 +215,16 @@ def test_every_lug_named_and_no_two_lugs_on_one_spot(slug):
 def test_the_drawing_is_the_same_bytes_every_time():
     harness = demo("heron-opamp-boost")
     assert render_wiring_svg(harness, "x") == render_wiring_svg(demo("heron-opamp-boost"), "x")
+
+
+@pytest.mark.parametrize("slug", SLUGS)
+def test_each_wired_piece_knows_its_wires_for_the_parts_list(slug):
+    harness = demo(slug)
+    by_part = wires_by_part(harness)
+    for number, wire in enumerate(harness.wires, start=1):
+        for lug in (wire.a, wire.b):
+            assert lug.owner == BOARD or number in by_part[lug.owner]
+    assert BOARD not in by_part
+    assert sum(map(len, by_part.values())) == sum(
+        len({w.a.owner, w.b.owner} - {BOARD}) for w in harness.wires)
+    assert wires_by_part(None) == {}

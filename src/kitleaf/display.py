@@ -7,6 +7,7 @@ functions, so a figure reads the same on the page and on the command line.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 
 from kitleaf.values import format_db, format_value
@@ -29,6 +30,8 @@ def figure(value: float | None, quantity: str) -> str:
 def _one(value: float, quantity: str) -> str:
     if quantity == "db":
         return format_db(value)
+    if quantity == "thd":
+        return thd_text(value)
     if quantity == "meter":
         return meter_volts(value)
     return format_value(value, quantity)
@@ -48,6 +51,8 @@ def range_text(value, quantity: str) -> str:
     """A spec as the trade writes it, with its tolerance spread: "25.8 dB (24.9–26.6)"."""
     if value is None:
         return DASH
+    if quantity == "current" and _below_meter(value):
+        return NO_CURRENT
     nominal = _one(value.nominal, quantity)
     if value.low is None or value.high is None:
         return nominal
@@ -62,14 +67,93 @@ def range_text(value, quantity: str) -> str:
     return f"{nominal} ({low}{joiner}{high})"
 
 
+# A current below what a multimeter's lowest range resolves (about 0.1 µA; common practice,
+# no source) is the solver's rounding, not a draw: a stage that draws nothing says so.
+SMALLEST_CURRENT = 1e-9
+NO_CURRENT = "none (under 1 nA)"
+
+
+def _below_meter(value) -> bool:
+    ends = [x for x in (value.nominal, value.low, value.high) if x is not None]
+    return all(abs(x) < SMALLEST_CURRENT for x in ends)
+
+
+def dbv(volts: float) -> float:
+    """RMS volts in decibels relative to 1 V RMS (dBV)."""
+    return 20.0 * math.log10(volts) if volts > 0 else -math.inf
+
+
+def hum_text(value) -> str:
+    """Hum at the output as RMS volts with its spread, and the nominal in dBV:
+    "120 µV (98–145) RMS, -78.4 dBV"."""
+    if value is None:
+        return DASH
+    level = dbv(value.nominal)
+    shown = f"{level:.1f}" if math.isfinite(level) else "below -300"
+    return f"{range_text(value, 'voltage')} RMS, {shown} dBV"
+
+
 def power_text(watts: float) -> str:
     """A power rating as the trade writes it: "1/4 W", "1 W", "200 mW"."""
     return _WATT_FRACTIONS.get(watts) or format_value(watts, "power")
 
 
+def thd_text(fraction: float) -> str:
+    """Distortion as a percentage to three figures: "0.42 %", "38.1 %", "112 %"."""
+    return f"{fraction * 100:.3g} %"
+
+
+def level_text(level: float | None, levels: tuple[float, ...]) -> str:
+    """A drive level found on a sweep of ``levels``: "140 mV", or past either end of it."""
+    if level is None:
+        return f"above {format_value(levels[-1], 'voltage')}"
+    if level <= levels[0]:
+        return f"{format_value(levels[0], 'voltage')} or below"
+    return format_value(level, "voltage")
+
+
 def percent(fraction: float) -> str:
     """A knob position as a share of its rotation: "25 %"."""
     return f"{round(fraction * 100):d} %"
+
+
+def setting(name: str, position: float | str) -> str:
+    """A knob's or a switch's setting in words: "Level at 50 %", "Clip set to LEDs"."""
+    if isinstance(position, str):
+        return f"{name} set to {position}"
+    return f"{name} at {percent(position)}"
+
+
+def settings(positions) -> str:
+    """Several settings, as a table row names them: "Level at 50 %, Clip set to LEDs"."""
+    return ", ".join(setting(name, position) for name, position in positions)
+
+
+def at_rest(switches) -> str:
+    """Where the controls stay while another is swept (``KitSpecs.switches``): "knobs at
+    half way" and each switch at the position it rests at."""
+    return ", ".join(["knobs at half way"] + [setting(name, rest)
+                                              for name, _, _, rest in switches])
+
+
+def trim_instruction(trim) -> str:
+    """The bench step that sets a trimmer (a specs ``Trim``): "Turn TR1 until Q1 drain
+    (point 2 of Boost) reads 4.50 V."."""
+    return (f"Turn {trim.designator} until {trim.label} (point {trim.number} of "
+            f"{trim.stage_title}) reads {meter_volts(trim.volts)}.")
+
+
+def trim_travel(trim) -> str:
+    """Where the trimmer ends up, nominal and over the tolerance builds, in words."""
+    p = trim.position
+    words = f"With nominal parts it sits at {percent(p.nominal)} of its travel clockwise"
+    if p.low is not None and p.high is not None:
+        low, high = percent(p.low).removesuffix(" %"), percent(p.high)
+        words += f"; builds within part tolerances need {low}–{high}"
+    if trim.out_of_reach > 0.0:
+        words += (f"; in {max(1, round(trim.out_of_reach * 100))} % of builds it runs out of "
+                  "travel before getting there")
+    return words + "."
 
 
 # Every number a page shows goes through one of these (the templates' filters, by name).
@@ -78,4 +162,11 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "range_text": range_text,
     "percent": percent,
     "figure": figure,
+    "thd_text": thd_text,
+    "level_text": level_text,
+    "hum_text": hum_text,
+    "settings": settings,
+    "trim_instruction": trim_instruction,
+    "at_rest": at_rest,
+    "trim_travel": trim_travel,
 }

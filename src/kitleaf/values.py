@@ -351,3 +351,31 @@ def format_range(lo: float, hi: float, quantity: str) -> str:
     if low_unit == high_unit:
         return f"{low_number}–{high_number} {high_unit}"
     return f"{low}–{high}"
+
+
+# A model parameter: a signed decimal, an optional exponent and an optional SI prefix.
+_PARAMETER = re.compile(r"^([-+]?(?:\d+(?:\.\d*)?|\.\d+))(?:[eE]([-+]?\d+))?([a-zA-Z]*)$")
+_PARAMETER_PREFIX: Mapping[str, int] = MappingProxyType(
+    {"f": -15, "p": -12, "n": -9, "u": -6, "m": -3, "k": 3, "G": 9, "T": 12}
+)
+
+
+def parse_number(text: str) -> float:
+    """A device model's parameter, ``2.5e-6``, ``2.5u``, ``-1.2`` or ``40``, as a float.
+
+    SI prefixes from f to T are read; M and meg are refused, since SPICE reads M as milli
+    and SI as mega.
+    """
+    _check_length(text, "a number", "write it like 2.5e-6 or 2.5u")
+    match = _PARAMETER.match(_normalise(text))
+    if match is None or (match[3] and match[3] not in _PARAMETER_PREFIX):
+        hint = " (M means milli to SPICE and mega to SI: write 1e6 or 1e-3)" \
+            if match is not None and match[3].lower() in ("m", "meg") else ""
+        raise ValueFormatError(f"cannot read {text.strip()!r} as a number{hint}; write it "
+                               "like 2.5e-6, 2.5u or 40")
+    power = _PARAMETER_PREFIX.get(match[3], 0) + int(match[2] or 0)
+    value = float(f"{match[1]}e{power}")
+    if not math.isfinite(value):
+        raise ValueFormatError(f"cannot read {text.strip()!r}: it is out of range; write a "
+                               "number like 2.5e-6")
+    return value

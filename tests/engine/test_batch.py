@@ -77,6 +77,32 @@ class TestSamplesMatchSingleSolves:
         fast = batch.response(rhs, list(range(batch.layout.size)))(FREQS)
         np.testing.assert_allclose(fast, direct, rtol=1e-9, atol=1e-12)
 
+    @pytest.mark.parametrize("build", BUILDS)
+    def test_node_response_in_the_reduced_frame_equals_the_direct_solve(self, build):
+        # the default rows (every node) are answered on the device rows of the DC
+        # reduction, which a sample batch keeps from its Newton solve and a nominal one
+        # makes on first use; either way equal to the direct solve (a linear identity)
+        for batch in (solve_batch(build(), samples=40, seed=7), solve_batch(build())):
+            assert batch._reduction is not None
+            rhs = batch.excitation("VIN")
+            nodes = len(batch.layout.nodes)
+            direct = batch.solve_ac(FREQS, rhs)[:, :, :nodes]
+            scale = np.abs(direct).max(axis=2, keepdims=True)
+            fast = batch.response(rhs)(FREQS)
+            np.testing.assert_allclose(np.abs(fast - direct) / scale, 0.0, atol=1e-9)
+
+    def test_residues_only_for_the_rows_read(self):
+        batch = solve_batch(rc.boost(), samples=16, seed=8)
+        form = batch.response(batch.excitation("VIN"))
+        row = batch.layout.row("out")
+        one = form.take([row])
+        assert "residues" not in form.__dict__  # the whole form's were never formed
+        assert one.residues.shape[1] == 1
+        # through the modes (no residues) the same response, to rounding
+        np.testing.assert_allclose(form.through_modes(FREQS)[:, :, row], one(FREQS)[:, :, 0],
+                                   rtol=1e-12)
+        assert "residues" not in form.__dict__
+
     @pytest.mark.parametrize("build", [rc.boost, rc.jfet_common_source, rc.non_inverting])
     def test_device_reports_and_part_factors(self, build):
         circuit = build()

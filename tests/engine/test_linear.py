@@ -124,3 +124,19 @@ class TestMeasurements:
         low, high = band_gain_db(ac, "out", 20.0, 20e3)
         # a 1:1 divider halves the voltage, -6.02 dB at every frequency (textbook)
         assert low == pytest.approx(-6.0206, abs=1e-4) and high == pytest.approx(low, abs=1e-12)
+
+
+class TestChargePump:
+    def test_averaged_doubler_and_inverter(self):
+        # an ideal switched-capacitor converter, averaged: Vout = k Vin - Rout Iout, and
+        # without loss the input carries k times the output current (charge conservation;
+        # common practice, no source)
+        c = Circuit().vsource("V1", "in", "0", dc=9.0)
+        c.pump("P1", "in", "v2", "0", 2.0, 50.0).resistor("RL", "v2", "0", 10e3)
+        c.pump("P2", "in", "vm", "0", -1.0, 50.0).resistor("RL2", "vm", "0", 4.7e3)
+        op = solve_dc(c)
+        i2, im = 18.0 / (10e3 + 50.0), -9.0 / (4.7e3 + 50.0)
+        assert op.voltage("v2") == pytest.approx(i2 * 10e3, rel=1e-9)
+        assert op.voltage("vm") == pytest.approx(im * 4.7e3, rel=1e-9)
+        assert op.current("P1") == pytest.approx(-i2, rel=1e-9)  # delivered: negative
+        assert -op.current("V1") == pytest.approx(2 * i2 - im, rel=1e-9)

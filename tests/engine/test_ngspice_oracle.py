@@ -106,6 +106,34 @@ class TestMoreLibraryParts(AcOracleCase):
         return c.resistor("RN", "n2", "x2", 4.7e3).capacitor("CN", "x2", "0", 10e-6)
 
 
+class TestChargePumpRails(AcOracleCase):
+    """A doubler and an inverter (averaged) feeding op-amps on 18 V and on +-9 V, with the
+    supply's own ripple as the source: ngspice's E, F and V elements against the pump."""
+
+    source = "VSUP"
+    outputs = ("v2", "vm", "o1", "o2")
+
+    def circuit(self) -> Circuit:
+        c = Circuit("charge-pump rails").vsource("VSUP", "sup", "0", dc=9.0, ac=1.0)
+        c.diode("D1", "sup", "v", "1N5817").capacitor("C1", "v", "0", 100e-6)
+        c.pump("P1", "v", "v2", "0", 2.0, 60.0).capacitor("C2", "v2", "0", 47e-6)
+        c.pump("P2", "v", "vm", "0", -1.0, 60.0).capacitor("C3", "vm", "0", 47e-6)
+        c.resistor("R1", "v2", "r", 10e3).resistor("R2", "r", "0", 10e3)
+        c.capacitor("C4", "r", "0", 1e-6).opamp("U1A", "r", "n1", "o1", "v2", "0", "TL072")
+        c.resistor("RF1", "o1", "n1", 100e3).resistor("RG1", "n1", "x1", 10e3)
+        c.capacitor("CG1", "x1", "0", 10e-6).resistor("RL1", "o1", "0", 10e3)
+        c.opamp("U1B", "0", "n2", "o2", "v", "vm", "RC4558").resistor("RF2", "o2", "n2", 47e3)
+        return c.resistor("RG2", "n2", "0", 4.7e3).resistor("RL2", "o2", "0", 10e3)
+
+    def test_pump_currents(self):
+        require_ngspice()
+        c = self.circuit()
+        ours, theirs = solve_dc(c), operating_point(c)
+        for name in ("P1", "P2", "VSUP"):
+            # ngspice oracle: branch current of a source within 1 %
+            assert ours.current(name) == pytest.approx(theirs[name], rel=0.01), name
+
+
 class TestBiasedDiodeSmallSignal(AcOracleCase):
     def circuit(self) -> Circuit:
         c = Circuit("biased diode").vsource("VCC", "vcc", "0", dc=9.0)

@@ -6,7 +6,16 @@ import math
 import numpy as np
 import pytest
 
-from kitleaf.engine import Circuit, gain_db_at, solve_ac, solve_batch, solve_dc, stepper
+from kitleaf.engine import (
+    Circuit,
+    gain_db_at,
+    periodic,
+    reduced_steps,
+    solve_ac,
+    solve_batch,
+    solve_dc,
+    stepper,
+)
 from kitleaf.engine.harmonics import distortion
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.errors import SolveError
@@ -75,7 +84,7 @@ class TestSmallSignalLimit:
         louder = base.replaced("RE", value=200.0)
         res = periodic_steady_state([solve_batch(base), solve_batch(louder)], "VIN",
                                     [0.01, 0.02], 1000.0, nodes=["out", "c"])
-        assert res.wave("out").shape == (2, 2, 1, 256)
+        assert res.wave("out").shape == (2, 2, 1, periodic.POINTS)
         amp = res.distortion("out").amplitudes[..., 0, 0]
         # less emitter resistance, more gain; twice the level, about twice the output
         assert amp[1, 0] > amp[0, 0]
@@ -138,6 +147,8 @@ class TestBadDrives:
         # Newton allowed a single iteration cannot settle a clipping diode's steps: the
         # member is flagged with its reason, never returned as a figure
         monkeypatch.setattr(stepper, "MAX_NEWTON", 1)
+        monkeypatch.setattr(reduced_steps, "MAX_NEWTON", 1)
+        monkeypatch.setattr(reduced_steps, "RETRY_NEWTON", 1)
         c = Circuit().vsource("VIN", "in", "0", ac=1.0).resistor("R1", "in", "b", 1e3)
         c.diode("D1", "b", "0", "1N4148").capacitor("C1", "b", "0", 1e-9)
         res = periodic_steady_state([solve_batch(c)], "VIN", [2.0], 1000.0, nodes=["b"],

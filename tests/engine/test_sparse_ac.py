@@ -111,6 +111,20 @@ def test_a_large_circuit_never_forms_its_dense_matrices(monkeypatch):
     batch.impedance("out3", [1000.0], opened="M4")
 
 
+def test_a_large_batch_keeps_no_dense_conductance_matrix():
+    # G (samples, n, n) is rebuilt from the parts when read, so a solved state does not hold
+    # a quadratic array; the rebuilt G is the solve's, and the answers read through it agree
+    batch = solve_batch(boost_chain(), samples=40, seed=2)
+    assert batch.stored.g is None
+    rhs = batch.excitation("VIN")
+    direct = batch.solve_ac(FREQS, rhs)[:, :, :len(batch.layout.nodes)]
+    fast = batch.response(rhs)(FREQS)
+    scale = np.abs(direct).max(axis=2, keepdims=True)
+    np.testing.assert_allclose(np.abs(fast - direct) / scale, 0.0, atol=1e-9)
+    np.testing.assert_array_equal(batch.problem.g,
+                                  batch.system.conductances(batch.factors))
+
+
 def test_a_single_samples_large_stamp_map_stays_sparse():
     # a dense map holds columns x n^2 values: cubic in the circuit (650 MB at forty stages)
     from kitleaf.engine.compile import compile_circuit

@@ -8,6 +8,8 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.engine import solve_ac, solve_dc
 from kitleaf.guide.parse import parse_guide
+from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.model import KitSpecs
 
 POWER = """\
 ```stage power
@@ -24,11 +26,28 @@ led-resistor: R92 4k7
 """
 
 
-def guide_text(*blocks: str, supply: str = "9V", source: str = "low-z", load: str = "") -> str:
-    """A whole guide: the kit block, then ``blocks`` (each a stage block's text)."""
+def guide_text(*blocks: str, supply: str = "9V", source: str = "low-z", load: str = "",
+               lines: tuple[str, ...] = ()) -> str:
+    """A whole guide: the kit block (with its extra ``lines``, such as 'switch: Clip = S1:
+    diodes, LEDs'), then ``blocks`` (each a stage block's text)."""
     kit = ["```kit", "title: Fernbrook Test Kit", "code: FB-T1", f"supply: {supply}",
-           f"source: {source}"] + ([f"load: {load}"] if load else []) + ["```", ""]
+           f"source: {source}"] + ([f"load: {load}"] if load else []) + [*lines, "```", ""]
     return "\n".join(kit) + "\n".join(blocks)
+
+
+def specs_of(*blocks: str, knobs: tuple[str, ...] = (), **kit) -> tuple[KitCircuit, KitSpecs]:
+    """The kit of ``blocks`` and its specs; ``knobs`` are kit-block lines such as 'Gain = VR1'."""
+    text = guide_text(*blocks, **kit)
+    # The kit block's closing fence is the first bare one.
+    text = text.replace("```\n", "".join(f"knob: {k}\n" for k in knobs) + "```\n", 1)
+    guide = parse_guide("test.md", text)
+    kit_circuit = build_circuit(guide)
+    return kit_circuit, derive_specs(guide, kit_circuit)
+
+
+def line_of(text: str, start: str) -> int:
+    """The 1-based line of ``text`` that starts with ``start``."""
+    return 1 + next(i for i, line in enumerate(text.splitlines()) if line.startswith(start))
 
 
 def stage_block(stage_id: str, kind: str, *lines: str) -> str:
@@ -44,6 +63,14 @@ def gain_at(kit: KitCircuit, freq: float, node: str = "output", positions=None) 
     circuit = kit.netlist(positions)
     ac = solve_ac(circuit, solve_dc(circuit), np.array([freq]), source="VIN")
     return complex(ac.transfer(node)[0])
+
+
+def response(kit: KitCircuit, freqs: np.ndarray, positions=None, node_in: str = "input",
+             node_out: str = "output") -> np.ndarray:
+    """The complex gain from ``node_in`` to ``node_out`` (the kit's jacks unless named)."""
+    circuit = kit.netlist(positions)
+    ac = solve_ac(circuit, solve_dc(circuit), freqs, source="VIN")
+    return ac.transfer(node_out) / ac.transfer(node_in)
 
 
 def dc_at(kit: KitCircuit, node: str, positions=None) -> float:
@@ -148,4 +175,92 @@ test-point: Q4 collector = c
 vol
 kind: volume
 volume: VR5 A100k
+===
+stack
+kind: tone-stack
+treble-cap: C40 220p
+slope: R40 47k
+treble: VR40 A250k
+bass-cap: C41 22n
+bass: VR41 A1M
+mid-cap: C42 22n
+mid: VR42 B25k
+===
+blend
+kind: tone-blend
+low-resistor: R43 39k
+low-cap: C43 10n
+high-cap: C44 4n7
+high-resistor: R44 22k
+tone: VR43 B100k
+===
+active
+kind: tone-active
+input-cap: C45 4u7 film
+bass-in: R45 10k
+bass: VR44 B100k
+bass-out: R46 10k
+bass-cap-in: C46 22n
+bass-cap-out: C47 22n
+treble-in: R47 2k2
+treble: VR45 B100k
+treble-out: R48 2k2
+treble-cap: C48 10n
+opamp: U2A TL072
+output-cap: C49 10u film
+pulldown: R49 1M
+===
+softclip
+kind: opamp-soft-clip
+input-cap: C140 100n
+bias: R140 1M
+opamp: U3A TL072
+feedback: R141 10k
+gain: VR140 A500k
+feedback-cap: C141 100p
+clip-series: R142 1k
+clip-positive: D140 1N4148
+clip-negative: D141 1N4148
+clip-negative: D142 1N4148
+gain-resistor: R143 4k7
+gain-cap: C142 1u
+output-cap: C143 1u
+pulldown: R144 1M
+volume: VR141 A100k
+===
+fuzz
+kind: direct-coupled-fuzz
+input-cap: C150 2u2
+input-transistor: Q150 2N5088
+input-collector: R150 33k
+output-transistor: Q151 2N5088
+output-collector: R151 8k2
+output-emitter: R152 1k
+feedback: R153 100k
+gain: VR150 B1k
+bypass-cap: C151 22u electrolytic
+output-cap: C152 100n
+pulldown: R154 1M
+volume: VR151 A500k
+===
+jbuf
+kind: jfet-source-follower
+input-cap: C155 100n
+gate: R155 10M
+bias-top: R156 1M
+bias-bottom: R157 1M
+transistor: Q155 2N5457
+drain: R158 100R
+source: R159 10k
+output-cap: C156 10u
+pulldown: R160 1M
+===
+outbuf
+kind: output-buffer
+input-cap: C160 1u
+follower: U3B TL072
+bias: R161 1M
+output-cap: C161 10u
+pulldown: R162 100k
+output-resistor: R163 470R
 """.split("===\n"))

@@ -95,7 +95,7 @@ class TestBadInput:
         assert err.value.span.line == 16  # the volume line
 
     def test_jfet_model_in_a_bjt_role(self):
-        with pytest.raises(CircuitError, match=r"Q1 J201 is a N-channel JFET"):
+        with pytest.raises(CircuitError, match=r"Q1 J201 is an N-channel JFET"):
             make_kit(ce(transistor="Q1 J201"))
 
     def test_unknown_kind_lists_the_kinds(self):

@@ -1,5 +1,6 @@
 """The bill of materials: lines to buy and find, build order, CSV, batch orders, rating checks."""
 
+from kitleaf.bom.fitting import fitting_notes
 from kitleaf.bom.lines import BomLine, bom_lines, natural_key
 from kitleaf.bom.order import BUILD_ORDER
 from kitleaf.bom.pinouts import PINOUTS, Pinout, pinout_for
@@ -18,6 +19,7 @@ __all__ = [
     "bom_csv",
     "bom_lines",
     "bom_text",
+    "fitting_notes",
     "natural_key",
     "order_csv",
     "order_text",

@@ -12,6 +12,7 @@ from types import MappingProxyType
 
 from kitleaf.bom.pinouts import DIODE_VIEW, Pinout, pinout_for
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.switches import form_of
 from kitleaf.display import power_text
 from kitleaf.errors import ValueFormatError
 from kitleaf.marking import Band, capacitor_code, resistor_bands
@@ -96,6 +97,14 @@ def _pot(part: Part) -> PartDescription:
                    _words(part.attrs.get("shaft"), part.attrs.get("size")))
 
 
+def _trimmer(part: Part) -> PartDescription:
+    """A trimmer is bought by its track value; it is set on the bench (the guide says how)."""
+    rkm = format_rkm(part.value, "resistance")
+    return PartDescription(rkm, f"{format_value(part.value, 'resistance')} trimmer",
+                           _words(part.attrs.get("package"), part.attrs.get("size")),
+                           notes=("set on the bench: see the set-up step",))
+
+
 def _pinout_notes(model: str, pinout: Pinout | None) -> tuple[str, ...]:
     if pinout is None:
         return (f"{model} is not in kitleaf's pinout table: check the supplier's data sheet",)
@@ -119,6 +128,17 @@ def _led(part: Part) -> PartDescription:
     return PartDescription(model, model, _words(part.attrs.get("size")), polarity=POLARITY["led"])
 
 
+def _switch(part: Part) -> PartDescription:
+    """A switch as it is bought: its form, the positions of a toggle with off positions, and
+    how many positions a rotary has."""
+    form = form_of(part)
+    function = part.attrs.get("function")
+    what = "rotary switch" if form.throw_count > 2 else "toggle switch"
+    shown = " ".join(filter(None, (part.attrs["form"], function)))
+    return PartDescription(shown, f"{shown} {what}",
+                           _words(f"{form.positions} positions", part.attrs.get("mount")))
+
+
 def _hardware(part: Part) -> PartDescription:
     return PartDescription(part.text, part.text)
 
@@ -129,11 +149,14 @@ _DESCRIBERS: Mapping[str, Callable[[Part], PartDescription]] = MappingProxyType(
         "capacitor": _capacitor,
         "inductor": _inductor,
         "pot": _pot,
+        "trimmer": _trimmer,
         "diode": _device,
         "led": _led,
         "bjt": _device,
         "jfet": _device,
         "opamp": _device,
+        "pump": _device,
+        "switch": _switch,
         "hardware": _hardware,
     }
 )

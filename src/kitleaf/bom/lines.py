@@ -59,6 +59,7 @@ class BomLine:
     polarity: str | None = None
     notes: tuple[str, ...] = ()
     warnings: tuple[RatingWarning, ...] = ()
+    fitting: tuple[str, ...] = ()  # which way round each polarised capacitor goes (bom/fitting)
     spans: tuple[SourceSpan, ...] = ()  # where each designator's part is written, in order
 
     @property

@@ -1,6 +1,6 @@
 """The build order: lowest parts first, so the board lies flat on the bench while soldering.
 
-Resistors, diodes, IC sockets, small capacitors, transistors and chips, inductors,
+Resistors, diodes, IC sockets, small capacitors, transistors and chips, trimmers, inductors,
 electrolytics, LEDs, then the off-board parts: pots, jacks, switches, other hardware
 (common practice, no source).
 """
@@ -19,6 +19,7 @@ BUILD_ORDER: tuple[tuple[str, str], ...] = (
     ("socket", "IC sockets"),
     ("capacitor", "Capacitors"),
     ("semiconductor", "Transistors and ICs"),
+    ("trimmer", "Trimmers"),
     ("inductor", "Inductors"),
     ("polarised", "Electrolytic capacitors"),
     ("led", "LEDs"),
@@ -38,9 +39,12 @@ _TYPE_GROUP: Mapping[str, str] = MappingProxyType(
         "bjt": "semiconductor",
         "jfet": "semiconductor",
         "opamp": "semiconductor",
+        "pump": "semiconductor",
         "inductor": "inductor",
         "led": "led",
         "pot": "pot",
+        "trimmer": "trimmer",
+        "switch": "switch",
     }
 )
 

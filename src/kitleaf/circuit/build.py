@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 
 from kitleaf.circuit.chain import (
     DEFAULT_LOAD,
@@ -11,13 +12,18 @@ from kitleaf.circuit.chain import (
     KitCircuit,
     KnobRef,
     SignalSource,
+    SwitchRef,
     input_meter,
 )
+from kitleaf.circuit.devices import read_devices
 from kitleaf.circuit.harness import build_harness
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import check_rails
 from kitleaf.circuit.resolve import resolve_stage
 from kitleaf.circuit.stages import KINDS
+from kitleaf.circuit.switches import form_of
+from kitleaf.circuit.trim import read_trims, trim_positions
 from kitleaf.engine.elements import Capacitor, terminals
 from kitleaf.engine.topology import check_topology
 from kitleaf.errors import CircuitError, KitleafError
@@ -29,21 +35,31 @@ from kitleaf.values import format_value, parse_value
 SUPPLY_RANGE = (1.0, 60.0)
 
 
-def build_circuit(guide: Guide) -> KitCircuit:
-    """Resolve every stage of ``guide`` and check the kit holds together as one circuit."""
-    stages = _in_order(guide, [resolve_stage(b) for b in guide.stages])
+def build_circuit(guide: Guide, set_trimmers: bool = True) -> KitCircuit:
+    """Resolve every stage of ``guide`` and check the kit holds together as one circuit.
+
+    With ``set_trimmers``, each trimmer is set where its ``trim:`` line says (a DC solve per
+    try); without, the kit is good for what does not depend on positions (the parts list).
+    """
+    devices = read_devices(guide)
+    stages = _in_order(guide, [resolve_stage(b, devices) for b in guide.stages])
     hardware = tuple(Part(h.designator, "hardware", h.description, h.span)
                      for h in guide.kit.hardware)
     _check_designators(stages, hardware)
     _check_power(stages)
+    check_rails(stages)
     kit = KitCircuit(
         stages=tuple(stages), hardware=hardware, knobs=_knobs(guide, stages),
         source=_source(guide.kit.source), load=_load(guide.kit.load),
         supply_v=_volts(guide.kit.supply, guide.kit.supply_span or guide.kit.span),
+        switches=_switches(guide, stages), warnings=devices.warnings,
     )
     _check_dc_paths(kit)
     build_harness(guide, kit)  # read now, so a wiring mistake is named by every command
-    return kit
+    targets = read_trims(kit)
+    if not targets or not set_trimmers:
+        return kit
+    return replace(kit, trims=targets, presets=tuple(trim_positions(kit, targets).items()))
 
 
 def _in_order(guide: Guide, stages: list[Stage]) -> list[Stage]:
@@ -86,7 +102,7 @@ def _check_designators(stages: list[Stage], hardware: tuple[Part, ...]) -> None:
 def _check_power(stages: list[Stage]) -> None:
     has_reference = any(KINDS[s.kind].provides_power for s in stages)
     for stage in stages:
-        if KINDS[stage.kind].needs_reference and not has_reference:
+        if KINDS[stage.kind].needs_reference_for(stage) and not has_reference:
             raise CircuitError(
                 f"stage '{stage.id}' ({stage.kind}) needs the mid-rail reference; add a power "
                 "stage with a reference divider",
@@ -102,6 +118,7 @@ def _check_dc_paths(kit: KitCircuit) -> None:
         chain = kit.signal_stages
         for left, right in zip(chain, chain[1:], strict=False):
             _check_joint(kit, circuit, left, right)
+        _check_direct_outputs(chain, circuit)
         check_topology(circuit.elements)
     except CircuitError:
         raise
@@ -128,6 +145,30 @@ def _check_joint(kit: KitCircuit, circuit, left: Stage, right: Stage) -> None:
     )
 
 
+def _check_direct_outputs(chain: tuple[Stage, ...], circuit) -> None:
+    """A stage with ``output-coupling: direct`` drives the next stage's input cap, and only
+    that: anything else at the next stage's input would take the stage's DC."""
+    for i, stage in enumerate(chain):
+        if stage.options.get("output-coupling") != "direct":
+            continue
+        if i + 1 == len(chain):
+            raise CircuitError(
+                f"stage '{stage.id}' has 'output-coupling: direct' but is the last stage: its "
+                "DC would reach the output jack and the amplifier; couple it through an "
+                "output cap", stage.span)
+        after = chain[i + 1]
+        node = f"{after.id}.in"  # the next stage's side of its input meter
+        touching = [e for e in circuit.elements
+                    if node in terminals(e) and e.name != input_meter(after.id)]
+        dc = [e.name for e in touching if not isinstance(e, Capacitor)]
+        if dc or not touching:
+            raise CircuitError(
+                f"stage '{stage.id}' has 'output-coupling: direct', but stage '{after.id}' "
+                f"({after.kind}) takes DC at its input ({', '.join(dc) or 'nothing'} there, no "
+                "input cap); give it an input cap or couple stage "
+                f"'{stage.id}' through an output cap", stage.span)
+
+
 def _named(part: Part) -> str:
     return f"{part.designator} ({part.role} of stage '{part.stage_id}')"
 
@@ -151,6 +192,45 @@ def _knobs(guide: Guide, stages: list[Stage]) -> tuple[KnobRef, ...]:
             )
         knobs.append(KnobRef(knob.name, knob.designator, pots[knob.designator].stage_id))
     return tuple(knobs)
+
+
+def _switches(guide: Guide, stages: list[Stage]) -> tuple[SwitchRef, ...]:
+    """Each ``switch:`` line against its part: one name per position of the part's form, and
+    every switch on the board named by a line (its positions are states of the kit)."""
+    parts = {p.designator: p for s in stages for p in s.all_parts() if p.type == "switch"}
+    found = []
+    for switch in guide.kit.switches:
+        part = parts.get(switch.designator)
+        if part is None:
+            raise CircuitError(
+                f"switch '{switch.name}' is {switch.designator}, but no stage has a switch "
+                f"{switch.designator}; switches: {', '.join(sorted(parts)) or 'none'}",
+                switch.span)
+        count = form_of(part).positions
+        if len(switch.positions) != count:
+            raise CircuitError(
+                f"switch '{switch.name}' names {len(switch.positions)} positions, but "
+                f"{part.designator} ({_form_words(part)}, line {part.span.line}) has {count}; "
+                "name each position once, in the switch's order", switch.span)
+        found.append(SwitchRef(switch.name, part.designator, part.stage_id, switch.positions,
+                               switch.rest))
+    named = {s.designator for s in found}
+    for part in parts.values():
+        if part.designator not in named:
+            raise CircuitError(
+                f"{part.designator} is a switch no 'switch:' line of the kit block names; add "
+                f"one naming its {form_of(part).positions} positions, like 'switch: Clip = "
+                f"{part.designator}: {', '.join(_SAMPLE_NAMES[:form_of(part).positions])}'",
+                part.span)
+    return tuple(found)
+
+
+_SAMPLE_NAMES = ("first", "second", "third", "fourth", "fifth", "sixth", "seventh", "eighth",
+                 "ninth", "tenth", "eleventh", "twelfth", "thirteenth")
+
+
+def _form_words(part: Part) -> str:
+    return " ".join(filter(None, (part.attrs["form"], part.attrs.get("function"))))
 
 
 def _source(entry: Entry | None) -> SignalSource:

@@ -5,15 +5,18 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import cached_property
 from types import MappingProxyType
 
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.packages import unused_halves
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import DOUBLED_NODE, NEGATIVE_NODE, rail_nodes
 from kitleaf.circuit.stages import KINDS
+from kitleaf.circuit.switches import contacts, form_of, wired_poles
 from kitleaf.engine import Circuit, get_model
-from kitleaf.engine.elements import terminals
-from kitleaf.errors import KitleafError
+from kitleaf.engine.elements import POT_END_RESISTANCE, taper_fraction, terminals
+from kitleaf.errors import CircuitError, KitleafError
 
 GROUND = "0"
 SUPPLY = "supply"  # the battery or adapter terminal, before any protection
@@ -48,6 +51,10 @@ LOW_Z = SignalSource("low-impedance source", 100.0)
 DEFAULT_LOAD = 1e6  # an amplifier input (common practice, no source)
 
 
+# Where each knob is set when the kit is solved across its travel (0..1 of rotation).
+KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
+
+
 @dataclass(frozen=True)
 class KnobRef:
     """A knob of the kit: its name, its pot and the stage the pot sits in."""
@@ -55,6 +62,38 @@ class KnobRef:
     name: str
     designator: str
     stage_id: str
+
+    @property
+    def steps(self) -> tuple[tuple[float, float], ...]:
+        """(position the netlist takes, position as shown) at each step of the sweep."""
+        return tuple((p, p) for p in KNOB_STEPS)
+
+    @property
+    def nominal(self) -> float:
+        """Where the knob sits while the others are swept: half way."""
+        return 0.5
+
+
+@dataclass(frozen=True)
+class SwitchRef:
+    """A switch of the kit: its name, its part, the stage it sits in and the maker's name
+    for each of its positions, in the switch's order, and the one it rests at while the
+    knobs and other switches are swept."""
+
+    name: str
+    designator: str
+    stage_id: str
+    positions: tuple[str, ...]
+    rest: int = 0  # the position it rests at while the rest of the kit is swept
+
+    @property
+    def steps(self) -> tuple[tuple[float, str], ...]:
+        """(position the netlist takes, its name) for each position."""
+        return tuple((float(i), name) for i, name in enumerate(self.positions))
+
+    @property
+    def nominal(self) -> float:
+        return float(self.rest)
 
 
 class Wiring:
@@ -72,12 +111,24 @@ class Wiring:
         return self._nodes.get(local) or f"{self.stage.id}.{local}"
 
     def position(self, designator: str) -> float:
+        """A pot's position (0..1 of rotation; half way unless set), or a switch's position
+        (0-based, in the order the kit block names them; the first unless set)."""
         return self._positions.get(designator, 0.5)
 
-    def place(self, part: Part | None, *nodes: str) -> None:
-        """Add ``part`` between the local ``nodes`` (in the part type's pin order)."""
+    def place(self, part: Part | None, *nodes: str | None) -> None:
+        """Add ``part`` between the local ``nodes`` (in the part type's pin order).
+
+        A switch's pins are pole by pole, the common then each throw; a throw wired to
+        nothing is None. Its contacts are two-terminal elements named ``S1:p1t2`` (pole 1,
+        throw 2), closed or open by the switch's position in this state.
+        """
         if part is None:
             return
+        if part.type == "switch":
+            self._switch(part, nodes)
+            return
+        if part.type == "opamp" and nodes[4:] == ("0",) and "vee" in self._nodes:
+            nodes = (*nodes[:4], "vee")  # the negative supply pin: ground, or the - rail
         names = [self.node(n) for n in nodes]
         c, d = self.circuit, part.designator
         tol = part.tolerance or 0.0
@@ -87,11 +138,42 @@ class Wiring:
             c.capacitor(d, *names, part.value, tol=tol)
         elif part.type == "inductor":
             c.inductor(d, *names, part.value, tol=tol)
-        elif part.type == "pot":
+        elif part.type == "pot" or part.type == "trimmer" and len(names) == 3:
             c.pot(d, *names, part.value, position=self.position(d),
                   taper=part.attrs["taper"], tol=tol)
+        elif part.type == "trimmer":  # in a resistor's place: the track it is set to
+            track = taper_fraction(part.attrs["taper"], self.position(d))
+            c.resistor(d, *names, max(part.value * track, POT_END_RESISTANCE), tol=tol)
         else:
-            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.model)
+            getattr(c, _DEVICE_METHOD[part.type])(d, *names, part.device or part.model)
+
+    def pump(self, part: Part, inp: str, out: str, ratio: float, flying: Part) -> None:
+        """A charge-pump chip wired as a doubler (``ratio`` 2) or inverter (-1), averaged:
+        its switches' resistance plus the flying capacitor's 1 / (f C), and its own draw.
+
+        The flying capacitor charges to the input's voltage on every cycle; it stands from
+        the input to a node held at ground by a gigaohm, so its rating and polarity are
+        checked at that voltage while it loads nothing."""
+        model = part.device
+        rout = model.get("ROUT") + 1.0 / (model.get("FOSC") * flying.value)
+        self.circuit.pump(part.designator, self.node(inp), self.node(out), GROUND, ratio, rout)
+        self.circuit.isource(f"{part.designator}.quiescent", self.node(inp), GROUND,
+                             dc=model.get("IQ"))
+        held = f"{part.designator}.flying"
+        self.place(flying, inp, held)
+        self.internal("resistor", f"{held}-hold", held, "0", value=1e9)
+
+    def _switch(self, part: Part, nodes: tuple[str | None, ...]) -> None:
+        form = form_of(part)
+        if not wired_poles(form, nodes):
+            raise CircuitError(
+                f"stage '{self.stage.id}': {part.designator} is a {part.attrs['form']} "
+                f"({1 + form.throw_count} pins a pole), but the stage wires {len(nodes)} pins; "
+                "fit the switch the stage's kind describes", part.span)
+        position = int(self._positions.get(part.designator, 0))
+        wired = tuple(None if n is None else self.node(n) for n in nodes)
+        for suffix, common, throw, ohms in contacts(form, position, wired):
+            self.circuit.resistor(f"{part.designator}:{suffix}", common, throw, ohms)
 
     def internal(self, method: str, name: str, *nodes: str, **kwargs) -> None:
         """Add an element that is not a part (an ideal source, say), named within the stage."""
@@ -111,6 +193,29 @@ class KitCircuit:
     source: SignalSource
     load: float
     supply_v: float
+    switches: tuple[SwitchRef, ...] = ()
+    # Trimmers: their set-up targets and the positions that reach them (circuit/trim.py);
+    # every netlist takes these positions unless told otherwise.
+    trims: tuple = ()
+    presets: tuple[tuple[str, float], ...] = ()  # (trimmer, position 0..1)
+    # Located warning lines from reading the guide's own device models.
+    warnings: tuple[str, ...] = ()
+
+    @cached_property
+    def cache(self) -> dict:
+        """What upper layers derive once per kit object (each trimmer's position in every
+        tolerance build, say); a changed kit (``dataclasses.replace``) starts empty."""
+        return {}
+
+    def rest_positions(self) -> dict[str, float]:
+        """Every knob half way and every switch where it rests: where the voltage
+        table and the headline figures are read."""
+        return {control.designator: control.nominal for control in self.controls}
+
+    @property
+    def controls(self) -> tuple[KnobRef | SwitchRef, ...]:
+        """What the player sets, each solved at its steps: the knobs, then the switches."""
+        return self.knobs + self.switches
 
     def kind(self, stage: Stage) -> StageKind:
         return KINDS[stage.kind]
@@ -159,7 +264,8 @@ class KitCircuit:
     def netlist(self, positions: Mapping[str, float] | None = None,
                 supply_v: float | None = None) -> Circuit:
         """A fresh engine circuit of the whole kit at the given knob positions and supply."""
-        positions = MappingProxyType(dict(positions or {}))
+        rests = {s.designator: s.nominal for s in self.switches}
+        positions = MappingProxyType({**rests, **dict(self.presets), **(positions or {})})
         circuit = Circuit()
         volts = self.supply_v if supply_v is None else supply_v
         circuit.vsource("VSUPPLY", SUPPLY, GROUND, dc=volts)
@@ -181,10 +287,11 @@ class KitCircuit:
     def _unused_halves(self, circuit: Circuit) -> None:
         """The half of a dual op-amp no stage uses still draws its quiescent current (the
         design rule unused-half asks for a stage that ties its inputs)."""
-        rail = "vcc" if self.has_power_stage else SUPPLY
+        stages = {s.id: s for s in self.stages}
         for missing, used in unused_halves(self.parts()):
+            rail = self._nodes(stages[used.stage_id])["vcc"]
             circuit.isource(f"{missing}.quiescent", rail, GROUND,
-                            dc=get_model(used.model).get("IQ"))
+                            dc=get_model(used.device or used.model).get("IQ"))
 
     def rails_used(self, stage: Stage) -> tuple[str, ...]:
         """Which of the power section's rails, ``vcc`` and ``vref``, the stage's parts join."""
@@ -203,8 +310,10 @@ class KitCircuit:
         return self._nodes(stage).get(local) or f"{stage.id}.{local}"
 
     def _nodes(self, stage: Stage) -> dict[str, str]:
-        rails = {"0": GROUND, "vcc": "vcc" if self.has_power_stage else SUPPLY,
-                 "vref": "vref", "supply": SUPPLY}
+        main = "vcc" if self.has_power_stage else SUPPLY
+        rails = {"0": GROUND, **rail_nodes(stage.rails, main), "supply": SUPPLY}
+        if KINDS[stage.kind].provides_power:
+            rails.update(v2=DOUBLED_NODE, vee=NEGATIVE_NODE)
         if KINDS[stage.kind].signal:
             rails["in"], rails["out"] = self.stage_nodes(stage.id)
         return rails

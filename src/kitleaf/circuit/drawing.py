@@ -40,6 +40,12 @@ class Sheet(Protocol):
         """A pot used as a variable resistor, its wiper tied to the ``b`` end: ccw at ``a``
         when its resistance ``grows`` clockwise, else at ``b`` (as the kind wires it)."""
 
+    def switch(self, part: Part, pole: int, common: Point,
+               throws: Sequence[Point | None]) -> None:
+        """Pole ``pole`` (1, 2...) of a switch: open contacts at its common and at each throw
+        (None: a throw wired to nothing), the lever resting where the switch's first position
+        puts it; the first pole carries the label."""
+
     def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
                    ) -> dict[str, Point]:
         """A BJT (npn/pnp) or JFET (njf/pjf) with its base or gate at ``base``; its pins by
@@ -52,6 +58,11 @@ class Sheet(Protocol):
 
     def block(self, lower_left: Point, width: float, height: float, lines: Sequence[str]) -> None:
         """A labelled rectangle, ``lines`` centred in it."""
+
+    def chip(self, part: Part, lower_left: Point, width: float, height: float,
+             pins: Mapping[str, Point], role: str) -> None:
+        """A chip drawn as a rectangle with its designator, value and ``role`` in it, its
+        pins by name at the given points on its edges (a charge pump: inp, out, ref)."""
 
     # -- connections ---------------------------------------------------------------------------
     def wire(self, *points: Point) -> None:
@@ -74,6 +85,10 @@ class Sheet(Protocol):
 
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the previous or next stage ("IN", "OUT")."""
+
+    def probe(self, at: Point, node: str) -> None:
+        """Where a builder may probe the stage's own ``node`` (a custom stage's test point);
+        nothing is drawn."""
 
     # -- words ---------------------------------------------------------------------------------
     def part_label(self, part: Part) -> str:

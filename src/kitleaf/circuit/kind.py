@@ -10,6 +10,7 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.parts import Part
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Entry
+from kitleaf.guide.slug import slug_for
 
 if TYPE_CHECKING:  # the wiring context lives in chain.py, which imports this module
     from kitleaf.circuit.chain import Wiring
@@ -36,6 +37,12 @@ class Option:
     choices: tuple[str, ...]
     default: str
     help: str = ""
+    # (choice, roles it leaves no place for): a stage making that choice gives none of them.
+    excludes: tuple[tuple[str, tuple[str, ...]], ...] = ()
+
+    def excluded(self, choice: str) -> tuple[str, ...]:
+        """The roles ``choice`` leaves no place for."""
+        return dict(self.excludes).get(choice, ())
 
 
 @dataclass(frozen=True)
@@ -48,6 +55,15 @@ class TestPoint:
     node: str
     device: str = ""
     pin: str = ""
+
+
+def point_name(device: str, pin: str, node: str) -> str:
+    """A test point's name in claims, prose and ``trim:`` lines (after its stage id):
+    ``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
+    if not device:
+        return slug_for(node)
+    pin = f"pin{pin}" if pin.isdigit() else slug_for(pin)
+    return f"{device.lower()}.{pin}"
 
 
 @dataclass(frozen=True)
@@ -65,6 +81,11 @@ class Stage:
     # ``claim:`` and ``allow:`` lines, which every kind takes (kitleaf.specs.claims and .rules).
     claims: tuple[Entry, ...] = ()
     allows: tuple[Entry, ...] = ()
+    # The supply rails the stage runs on (kitleaf.circuit.rails.RAILS), and the line saying so.
+    rails: str = "main"
+    rails_entry: Entry | None = None
+    # ``trim:`` lines: a trimmer and the test-point voltage it is set to (circuit/trim.py).
+    trims: tuple[Entry, ...] = ()
 
     def part(self, role: str) -> Part | None:
         """The single part playing ``role``, or None if the optional role is empty."""
@@ -91,9 +112,24 @@ class StageKind:
     extra_keys: ClassVar[tuple[str, ...]] = ()
     # False for stages off the signal path, such as the power section.
     signal: ClassVar[bool] = True
+    # True for a passive tone control, whose corners move with its knob by design: the rules
+    # on a stage's corners (coupling-corner, treble-corner) leave it alone.
+    shapes_response: ClassVar[bool] = False
     # True for the stage that provides the supply rail and the mid-rail reference.
     provides_power: ClassVar[bool] = False
     needs_reference: ClassVar[bool] = False
+    # True for a stage that clips by design (diodes in or after it, a fuzz pair): its gain is
+    # a small-signal figure, true only below the clipping knee, and is shown as such.
+    clips: ClassVar[bool] = False
+    # A kind built in variants: the role whose part picks the variant, and for each part type
+    # that role takes, the roles only that variant has (a stage fills only its own variant's).
+    variant_role: ClassVar[str] = ""
+    variant_roles: ClassVar[Mapping[str, tuple[str, ...]]] = {}
+
+    def needs_reference_for(self, stage: Stage) -> bool:
+        """Whether this stage joins the mid-rail reference (a kind whose variants differ
+        answers per stage)."""
+        return self.needs_reference
 
     def build(self, stage: Stage, wiring: Wiring) -> None:
         """Add the stage's elements to the engine circuit through ``wiring``."""

@@ -108,7 +108,7 @@ def _dc_jack(part: Part, role: str) -> Piece:
             f"{part.designator} does not say its polarity; write 'centre negative' (common "
             "practice for pedals) or 'centre positive' in its hardware line, as the adapter "
             "is marked", part.span)
-    return Piece(part.designator, role, ("centre pin", "sleeve", "switched lug"), part.span,
+    return Piece(part.designator, role, ("centre pin", "switched lug", "sleeve"), part.span,
                  part.text,
                  centre=found[1])
 

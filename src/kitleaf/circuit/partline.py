@@ -7,21 +7,25 @@ import shlex
 from dataclasses import replace
 from types import MappingProxyType
 
+from kitleaf.circuit.devices import NO_DEVICES, GuideDevices
 from kitleaf.circuit.parts import PART_QUANTITY, Part
+from kitleaf.circuit.switches import is_function, read_form
 from kitleaf.errors import CircuitError, KitleafError, SourceSpan
 from kitleaf.guide.model import DESIGNATOR, Entry
 from kitleaf.values import parse_rating, parse_tolerance, parse_value
 
 # Designator prefixes of the trade (common practice, no source), longest first.
 PREFIX_TYPES = (
-    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp",)),
+    ("LED", ("led",)), ("VR", ("pot",)), ("RV", ("pot",)), ("IC", ("opamp", "pump")),
     ("R", ("resistor",)), ("C", ("capacitor",)), ("L", ("inductor",)), ("P", ("pot",)),
-    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp",)),
+    ("D", ("diode", "led")), ("Q", ("bjt", "jfet")), ("U", ("opamp", "pump")),
+    ("SW", ("switch",)), ("S", ("switch",)), ("TR", ("trimmer",)),
 )
 EXAMPLES = {
     "resistor": "R3 10k", "capacitor": "C2 100n film", "inductor": "L1 100mH",
     "pot": "VR1 100k log", "diode": "D1 1N4148", "led": "LED1 red", "bjt": "Q1 2N3904",
-    "jfet": "Q1 J201", "opamp": "U1 TL072",
+    "jfet": "Q1 J201", "opamp": "U1 TL072", "pump": "U3 7660", "switch": "S1 SPDT on-off-on",
+    "trimmer": "TR1 50k",
 }
 DIELECTRICS = {
     "film", "polyester", "polypropylene", "ceramic", "c0g", "np0", "x7r", "mica",
@@ -36,13 +40,15 @@ ATTRIBUTE_KEYS = ("package", "colour", "size", "shaft", "mount")
 TAPER_LETTERS = {"A": "log", "B": "lin", "C": "rlog"}
 # Default tolerances where the line states none (common practice, no source).
 DEFAULT_TOLERANCE = {
-    "resistor": 0.05, "pot": 0.20, "inductor": 0.10,
+    "resistor": 0.05, "pot": 0.20, "trimmer": 0.20, "inductor": 0.10,
     "film": 0.05, "polyester": 0.05, "polypropylene": 0.05, "c0g": 0.05, "np0": 0.05,
     "mica": 0.05, "ceramic": 0.10, "x7r": 0.10, "tantalum": 0.10, "electrolytic": 0.20,
     "capacitor": 0.10,
 }
 # What a rating on a part line means: a capacitor's voltage or a resistor's power.
-RATING_QUANTITY = {"capacitor": "voltage", "resistor": "power", "pot": "power"}
+RATING_QUANTITY = {"capacitor": "voltage", "resistor": "power", "pot": "power",
+                   "trimmer": "power"}
+PINNED = ("pot", "trimmer")  # three-pin resistive parts: a track and a wiper
 _KEYVALUE = re.compile(r"^([a-z][a-z0-9-]*)=(.+)$")
 
 
@@ -53,8 +59,10 @@ def types_for_designator(designator: str) -> tuple[str, ...]:
     return ()
 
 
-def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
-    """The part written on ``entry`` for a role accepting ``accepted`` part types."""
+def read_part(entry: Entry, accepted: tuple[str, ...], where: str,
+              devices: GuideDevices = NO_DEVICES) -> Part:
+    """The part written on ``entry`` for a role accepting ``accepted`` part types; a
+    semiconductor's model is the guide's own (``devices``) or else the library's."""
     try:
         words = shlex.split(entry.value)
     except ValueError:
@@ -67,9 +75,9 @@ def read_part(entry: Entry, accepted: tuple[str, ...], where: str) -> Part:
             entry.span,
         )
     designator, value_text, rest = words[0], words[1], words[2:]
-    part_type = _choose_type(designator, accepted, entry.span, where, value_text)
+    part_type = _choose_type(designator, accepted, entry.span, where, value_text, devices)
     try:
-        part = _make_part(designator, part_type, value_text, rest, entry.span)
+        part = _make_part(designator, part_type, value_text, rest, entry.span, devices)
     except KitleafError as exc:
         raise CircuitError(f"{where}, {designator}: {exc.message}", entry.span) from None
     if nodes is None:
@@ -85,34 +93,52 @@ def split_nodes(words: list[str]) -> tuple[list[str], list[str] | None]:
     return words[:at], words[at + 1:]
 
 
-def device_model(part_type: str, value_text: str) -> str:
-    """The engine model a semiconductor's value names; an LED is written by its colour."""
-    if part_type == "led" and not value_text.upper().startswith("LED"):
+def device_model(part_type: str, value_text: str, devices: GuideDevices = NO_DEVICES) -> str:
+    """The model a semiconductor's value names; an LED is written by its colour, or by the
+    name of a model of the guide's own."""
+    if part_type == "led" and not value_text.upper().startswith("LED") \
+            and devices.find(value_text) is None:
         return f"LED-{value_text.upper()}"
     return value_text
 
 
-def _by_model(matching: list[str], value_text: str) -> str:
-    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+def find_device(name: str, devices: GuideDevices = NO_DEVICES):
+    """The guide's own model called ``name``, else the library's; an error naming both."""
     from kitleaf.engine.models import get_model  # the model library loads on first use
 
+    own = devices.find(name)
+    if own is not None:
+        return own
     try:
-        kind = get_model(value_text).kind
+        return get_model(name)
+    except KitleafError as exc:
+        own = ", ".join(m.name for m in devices.models.values())
+        raise CircuitError(f"{exc.message}{'; the guide defines ' + own if own else ''}; or "
+                           f"define {name} in a block ```device {name}") from None
+
+
+def _by_model(matching: list[str], value_text: str, devices: GuideDevices) -> str:
+    """Between a BJT and a JFET (both 'Q'), the type the engine's model says."""
+    try:
+        kind = find_device(value_text, devices).kind
     except KitleafError:
         return matching[0]
     found = _MODEL_TYPES.get(kind)
     return found if found in matching else matching[0]
 
 
-_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet"}
+_MODEL_TYPES = {"npn": "bjt", "pnp": "bjt", "njf": "jfet", "pjf": "jfet", "opamp": "opamp",
+                "pump": "pump"}
 
 
 def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, where: str,
-                 value_text: str = "") -> str:
+                 value_text: str = "", devices: GuideDevices = NO_DEVICES) -> str:
     by_prefix = types_for_designator(designator)
-    matching = [t for t in accepted if t in by_prefix]
+    # Set once on the bench, a trimmer stands wherever a resistor does.
+    allowed = (*accepted, "trimmer") if "resistor" in accepted else accepted
+    matching = [t for t in allowed if t in by_prefix]
     if len(matching) > 1:
-        return _by_model(matching, value_text)
+        return _by_model(matching, value_text, devices)
     if matching:
         return matching[0]
     wanted = " or ".join(accepted)
@@ -124,27 +150,49 @@ def _choose_type(designator: str, accepted: tuple[str, ...], span: SourceSpan, w
     )
 
 
-def _make_part(designator: str, part_type: str, value_text: str, rest, span) -> Part:
+def _make_part(designator: str, part_type: str, value_text: str, rest, span,
+               devices: GuideDevices = NO_DEVICES) -> Part:
+    if part_type == "switch":
+        return _switch(designator, value_text, rest, span)
     attrs: dict[str, str] = {}
     tolerance = rating = None
     for word in rest:
         tolerance, rating = _read_attribute(word, part_type, attrs, tolerance, rating)
     quantity = PART_QUANTITY[part_type]
-    value = model = None
-    if part_type == "pot" and value_text[:1] in TAPER_LETTERS and len(value_text) > 1:
+    value = model = device = None
+    if part_type in PINNED and value_text[:1] in TAPER_LETTERS and len(value_text) > 1:
         _set_once(attrs, "taper", TAPER_LETTERS[value_text[0]], value_text)
         value_text = value_text[1:]
     if quantity is None:
-        model = device_model(part_type, value_text)
+        model = device_model(part_type, value_text, devices)
+        device = find_device(model, devices)
     else:
         value = parse_value(value_text, quantity)
+    if part_type == "trimmer":
+        attrs.setdefault("taper", "lin")  # trimmers are linear (common practice, no source)
     if part_type == "pot" and "taper" not in attrs:
         raise CircuitError(
             "a pot needs a taper: add 'lin', 'log' or 'rlog', or write A100k / B100k")
-    if tolerance is None and part_type in ("resistor", "pot", "inductor", "capacitor"):
+    if tolerance is None and part_type in ("resistor", "inductor", "capacitor", *PINNED):
         tolerance = DEFAULT_TOLERANCE.get(attrs.get("dielectric", part_type), 0.10)
     return Part(designator, part_type, value_text, span, value=value, model=model,
-                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs))
+                tolerance=tolerance, rating=rating, attrs=MappingProxyType(attrs),
+                device=device)
+
+
+def _switch(designator: str, form: str, rest: list[str], span) -> Part:
+    """A switch: its form (SPDT...), an optional toggle function (on-off-on) and key=value."""
+    attrs = {"form": form.upper()}
+    for word in rest:
+        if is_function(word) and "function" not in attrs:
+            attrs["function"] = word.lower()
+        elif (match := _KEYVALUE.match(word)) is not None:
+            _key_value(match[1], match[2], attrs)
+        else:
+            raise CircuitError(f"unknown attribute {word!r}; a switch takes its positions "
+                               "(on-off-on) and key=value (mount=panel)")
+    read_form(attrs["form"], attrs.get("function"))
+    return Part(designator, "switch", form, span, attrs=MappingProxyType(attrs))
 
 
 def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):
@@ -155,7 +203,7 @@ def _read_attribute(word: str, part_type: str, attrs: dict, tolerance, rating):
         return tolerance, parse_rating(word, RATING_QUANTITY.get(part_type))
     if low in DIELECTRICS and part_type == "capacitor":
         _set_once(attrs, "dielectric", low, word)
-    elif low in TAPERS and part_type == "pot":
+    elif low in TAPERS and part_type in PINNED:
         _set_once(attrs, "taper", TAPERS[low], word)
     elif (match := _KEYVALUE.match(word)) is not None:
         _key_value(match[1], match[2], attrs)

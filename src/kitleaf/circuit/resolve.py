@@ -6,15 +6,18 @@ import difflib
 from dataclasses import replace
 from types import MappingProxyType
 
+from kitleaf.circuit.devices import NO_DEVICES, GuideDevices
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.partline import read_part
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import read_rails
 from kitleaf.circuit.stages import KINDS
 from kitleaf.errors import CircuitError
 from kitleaf.guide.model import Entry, StageBlock
 
-# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules.
-GENERIC_KEYS = ("claim", "allow")
+# Keys every stage takes whatever its kind: claims about its numbers, silenced design rules,
+# the supply rails it runs on, the set-up targets of its trimmers.
+GENERIC_KEYS = ("claim", "allow", "rails", "trim")
 
 
 def kind_of(block: StageBlock) -> StageKind:
@@ -33,8 +36,9 @@ def did_you_mean(word: str, choices) -> str:
     return f" (did you mean '{close[0]}'?)" if close else ""
 
 
-def resolve_stage(block: StageBlock) -> Stage:
-    """The :class:`Stage` for ``block``: every entry is a role, an option or a kind's own key."""
+def resolve_stage(block: StageBlock, devices: GuideDevices = NO_DEVICES) -> Stage:
+    """The :class:`Stage` for ``block``: every entry is a role, an option or a kind's own key;
+    semiconductors take the guide's own ``devices`` before the library's models."""
     kind = kind_of(block)
     roles = {r.name: r for r in kind.roles}
     options = {o.name: o for o in kind.options}
@@ -47,7 +51,7 @@ def resolve_stage(block: StageBlock) -> Stage:
             role = roles[entry.key]
             if parts.get(role.name) and not role.many:
                 raise CircuitError(f"{where} takes one part; it is given twice", entry.span)
-            part = read_part(entry, role.part_types, where)
+            part = read_part(entry, role.part_types, where, devices)
             _check_nodes(part, role, where)
             parts.setdefault(role.name, []).append(
                 _placed(part, role.name, block.id))
@@ -72,7 +76,9 @@ def resolve_stage(block: StageBlock) -> Stage:
                   MappingProxyType(chosen), block.span,
                   MappingProxyType({k: tuple(v) for k, v in extra.items()
                                     if k not in GENERIC_KEYS}),
-                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())))
+                  claims=tuple(extra.get("claim", ())), allows=tuple(extra.get("allow", ())),
+                  trims=tuple(extra.get("trim", ())),
+                  **read_rails(block.id, kind, extra.get("rails", [])))
     kind.check(stage)
     return stage
 

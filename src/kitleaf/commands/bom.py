@@ -31,7 +31,7 @@ def add_options(p: argparse.ArgumentParser) -> None:
 
 
 def lines_for(path):
-    return bom_lines(build_circuit(parse_guide(path)).parts())
+    return bom_lines(build_circuit(parse_guide(path), set_trimmers=False).parts())
 
 
 def spares_of(args) -> float:

@@ -19,7 +19,7 @@ from kitleaf.render.prose import render_prose
 from kitleaf.site.discover import find_guides
 from kitleaf.site.unique import reused_codes
 from kitleaf.specs.claims import Checks, verify
-from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.derive import derive_specs, solve_kit
 
 
 def add_options(p: argparse.ArgumentParser) -> None:
@@ -31,8 +31,9 @@ def check_guide(path) -> tuple[Checks, tuple[str, ...]]:
     """The guide's verified checks and the specs' notes (located warning lines)."""
     guide = parse_guide(path)
     kit = build_circuit(guide)
-    specs = derive_specs(guide, kit)
-    checks = verify(guide, kit, specs)
+    solved = solve_kit(guide, kit)  # one solve for the specs and the design rules
+    specs = derive_specs(guide, kit, solved)
+    checks = verify(guide, kit, specs, solved)
     render_prose(guide.text, prose_env(guide.path, checks.values))  # names in the prose
     return checks, specs.notes
 

@@ -9,7 +9,7 @@ complex responses at chosen frequencies, in pole-residue form or by direct solve
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 
 import numpy as np
@@ -22,7 +22,7 @@ from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
 from kitleaf.engine.ports import PoleResidue, modal, port_form
-from kitleaf.engine.reduce import partition, solve_reduced
+from kitleaf.engine.reduce import Reduced, partition, reduce_problem, solve_reduced
 from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
 from kitleaf.errors import SolveError
 
@@ -39,15 +39,25 @@ class BatchResult:
     params: dict = field(repr=False)  # device name -> {parameter: (samples,) array}
     factors: np.ndarray | None = field(repr=False)  # (samples, parts) or None (nominal)
     system: System = field(repr=False, compare=False)
-    problem: Problem = field(repr=False, compare=False)
+    # the DC problem; a large batch keeps it without G (see ``problem``)
+    stored: Problem = field(repr=False, compare=False)
     # each bank's junction voltages Newton ended at, per sample (a nominal start uses them)
     vstar: list | None = field(default=None, repr=False, compare=False)
     # a nominal batch's reduced Jacobian, for the first step of samples started from it
     chord: np.ndarray | None = field(default=None, repr=False, compare=False)
+    # the DC reduction of ``problem`` when Newton made one (the AC response reuses it)
+    reduced: Reduced | None = field(default=None, repr=False, compare=False)
 
     @property
     def size(self) -> int:
         return self.x.shape[0]
+
+    @property
+    def problem(self) -> Problem:
+        """The DC problem, G rebuilt from the parts when the batch did not keep it."""
+        if self.stored.g is not None:
+            return self.stored
+        return replace(self.stored, g=self.system.conductances(self.factors))
 
     def row(self, node: str) -> int | None:
         """The unknown's index of ``node``; None for ground."""
@@ -72,7 +82,7 @@ class BatchResult:
         """Device ``name``'s operating-point figures (region, currents, voltages) in each
         sample, as :func:`~kitleaf.engine.solve_dc` reports them."""
         xe = extend(self.x)
-        for bank in self.problem.devices.banks:
+        for bank in self.stored.devices.banks:
             if name in bank.names:
                 d, v = bank.names.index(name), bank.junctions(xe)
                 return tuple(_one_sample(bank, k).report(v[k:k + 1], xe[k:k + 1], d)
@@ -97,7 +107,7 @@ class BatchResult:
     @cached_property
     def matrices(self) -> tuple[np.ndarray, np.ndarray]:
         """Small-signal G and C per sample, (samples, n, n) each."""
-        g, c, _, _ = small_signal(self.system, self.problem.devices, self.x, self.factors)
+        g, c, _, _ = small_signal(self.system, self.stored.devices, self.x, self.factors)
         shape = (self.size, *g.shape[1:])
         return np.broadcast_to(g, shape).copy(), np.broadcast_to(c, shape).copy()
 
@@ -142,7 +152,7 @@ class BatchResult:
 
     @cached_property
     def _sparse(self) -> SparseAc:
-        return SparseAc(self.system, self.problem.devices, self.x, self.factors)
+        return SparseAc(self.system, self.stored.devices, self.x, self.factors)
 
     def impedance(self, node: str, freqs, opened: str | None = None) -> np.ndarray:
         """Driving-point impedance (samples, F) from ``node`` to ground, sources at rest."""
@@ -156,8 +166,20 @@ class BatchResult:
         pole-residue form, checked per sample at ``check_hz``; call it with frequencies."""
         rows = list(range(len(self.layout.nodes))) if rows is None else rows
         ports = port_form(self.system, partition(self.system), self.problem, self.x,
-                          self.factors, rhs[None, :], rows)
+                          self.factors, rhs[None, :], rows, self._reduction)
         return modal(ports, check_hz)
+
+    @cached_property
+    def _reduction(self) -> Reduced | None:
+        """The DC reduction (G_LL eliminated once), from Newton or made here: the response
+        then works on the device rows and never forms an n x n matrix per sample."""
+        part = partition(self.system)
+        if self.reduced is not None or part is None or not self.stored.devices.banks:
+            return self.reduced
+        try:
+            return reduce_problem(self.problem, part)
+        except SolveError:
+            return None
 
 
 def solve_batch(circuit, samples: int | None = None, seed: int = 1,
@@ -177,7 +199,7 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
     system = compile_circuit(circuit)
     if samples is None:
         problem, factors = _nominal(system)
-        state = nominal_state(system, problem, 1)
+        state, reduced = nominal_state(system, problem, 1), None
     else:
         if distribution not in DISTRIBUTIONS or samples < 1:
             raise SolveError(f"a batch needs samples >= 1 and a distribution in "
@@ -187,10 +209,11 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
                              f"{len(system.elements)}), got {scale.shape}")
         problem, factors, _ = draw_problem(system, samples, seed, distribution, scale, spread)
         state = _started(system, problem, samples, start, nominal)
-        solve_reduced(problem, state, partition(system))
+        reduced = solve_reduced(problem, state, partition(system))
     return BatchResult(system.layout, state.x, _device_params(problem, state.x.shape[0]),
-                       factors, system, problem, state.vstar,
-                       state.chord if samples is None else None)
+                       factors, system, _kept(system, problem), state.vstar,
+                       state.chord if samples is None else None,
+                       None if samples is None else reduced)
 
 
 def share_operating_point(result: BatchResult, circuit) -> BatchResult:
@@ -203,10 +226,19 @@ def share_operating_point(result: BatchResult, circuit) -> BatchResult:
     system = compile_circuit(circuit)
     if system.layout != result.layout:
         raise SolveError("the circuits' unknowns differ; their operating points cannot be shared")
-    banks = None if result.factors is None else result.problem.devices.banks
-    problem = problem_for(system, result.factors, banks)
+    banks = None if result.factors is None else result.stored.devices.banks
+    problem = _kept(system, problem_for(system, result.factors, banks))
     return BatchResult(system.layout, result.x, result.params, result.factors, system,
                        problem, result.vstar)
+
+
+def _kept(system: System, problem: Problem) -> Problem:
+    """What a batch keeps of its DC problem: a large circuit's tolerance samples leave G
+    out, since (samples, n, n) is quadratic in the circuit (a forty-stage kit's took 260 MB
+    per solved state) and the answers read it once at most (it is rebuilt then)."""
+    if system.layout.size < SPARSE_SIZE or problem.g.shape[0] == 1:
+        return problem
+    return replace(problem, g=None)
 
 
 def _nominal(system: System):

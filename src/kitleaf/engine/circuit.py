@@ -64,6 +64,13 @@ class Circuit:
     def isource(self, name: str, p: str, n: str, dc: float = 0.0, ac: float = 0.0) -> Circuit:
         return self._add(el.ISource(name, p, n, _number(name, dc), _number(name, ac)))
 
+    def pump(self, name: str, inp: str, out: str, ref: str, ratio: float, rout: float
+             ) -> Circuit:
+        """A charge pump, averaged: ``out`` = ``ratio`` x ``inp`` - ``rout`` x its current."""
+        if _number(name, ratio) == 0.0:
+            raise ModelError(f"{name}: a pump's ratio must not be zero")
+        return self._add(el.Pump(name, inp, out, ref, float(ratio), _positive(name, rout)))
+
     def diode(self, name: str, a: str, k: str, model: str | DeviceModel) -> Circuit:
         return self._add(el.Diode(name, a, k, _model(name, model, "diode")))
 
@@ -111,7 +118,7 @@ class Circuit:
 _ADDERS = {
     el.Resistor: "resistor", el.Capacitor: "capacitor", el.Inductor: "inductor", el.Pot: "pot",
     el.VSource: "vsource", el.ISource: "isource", el.Diode: "diode", el.Bjt: "bjt",
-    el.Jfet: "jfet", el.OpAmp: "opamp",
+    el.Jfet: "jfet", el.OpAmp: "opamp", el.Pump: "pump",
 }
 
 

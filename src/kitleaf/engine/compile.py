@@ -186,8 +186,12 @@ def _compile(circuit, elements: tuple) -> System:
 def _layout(circuit, elements: tuple[el.Element, ...]) -> Layout:
     internal = [n for e in elements for fam in FAMILIES if isinstance(e, fam.element_type)
                 for n in fam.internal_nodes(e)]
-    branches = tuple(e.name for e in elements if isinstance(e, el.VSource | el.Inductor))
+    branches = tuple(e.name for e in elements if isinstance(e, BRANCHES))
     return Layout(circuit.nodes() + tuple(internal), branches)
+
+
+# Elements whose current is an unknown of its own (a row of the MNA system).
+BRANCHES = (el.VSource, el.Inductor, el.Pump)
 
 
 def _skip(stamper: Stamper, element: el.Element) -> None:
@@ -221,6 +225,17 @@ def _vsource(st: Stamper, e: el.VSource) -> None:
     st.source(e.name, ((k, 1.0),), e.dc)
 
 
+def _pump(st: Stamper, e: el.Pump) -> None:
+    """Branch k (current into ``out``): KCL draws ratio x the delivered current from ``inp``
+    and the balance from ``ref``; the row is v_out - v_ref - ratio (v_inp - v_ref) - rout i."""
+    k, row = st.layout.branch(e.name), st.layout.row
+    out, inp, ref = row(e.out), row(e.inp), row(e.ref)
+    entries = ((out, k, 1.0), (inp, k, -e.ratio), (ref, k, e.ratio - 1.0), (k, out, 1.0),
+               (k, ref, e.ratio - 1.0), (k, inp, -e.ratio), (k, k, -e.rout))
+    for i, j, value in entries:
+        st.g_pat.entry(st.g_cols.add(value), i, j)
+
+
 def _isource(st: Stamper, e: el.ISource) -> None:
     rows = ((st.layout.row(e.p), -1.0), (st.layout.row(e.n), 1.0))
     st.source(e.name, rows, e.dc)
@@ -228,5 +243,5 @@ def _isource(st: Stamper, e: el.ISource) -> None:
 
 _LINEAR = {
     el.Resistor: _resistor, el.Pot: _pot, el.Capacitor: _capacitor, el.Inductor: _inductor,
-    el.VSource: _vsource, el.ISource: _isource,
+    el.VSource: _vsource, el.ISource: _isource, el.Pump: _pump,
 }

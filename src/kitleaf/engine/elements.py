@@ -109,6 +109,23 @@ class ISource(_Source):
 
 
 @dataclass(frozen=True)
+class Pump:
+    """A switched-capacitor converter, averaged over its switching: the output ``out`` sits at
+    ``ratio`` times the input ``inp`` (both to ``ref``) less ``rout`` times the current it
+    delivers, and the input draws ``ratio`` times that current (no loss but ``rout``; the
+    chip's own quiescent current is a separate source). A doubler is ratio 2, an inverter
+    ratio -1. Its branch current flows into ``out``, through it, out of ``ref`` (SPICE's
+    sign for a voltage source), so a pump delivering current reads negative."""
+
+    name: str
+    inp: str
+    out: str
+    ref: str
+    ratio: float
+    rout: float
+
+
+@dataclass(frozen=True)
 class Diode:
     name: str
     a: str
@@ -146,7 +163,7 @@ class OpAmp:
 
 
 Element = (
-    Resistor | Capacitor | Inductor | Pot | VSource | ISource | Diode | Bjt | Jfet | OpAmp
+    Resistor | Capacitor | Inductor | Pot | VSource | ISource | Pump | Diode | Bjt | Jfet | OpAmp
 )
 
 
@@ -163,6 +180,7 @@ _TERMINALS: dict[type, tuple[str, ...]] = {
     Pot: ("ccw", "w", "cw"),
     VSource: ("p", "n"),
     ISource: ("p", "n"),
+    Pump: ("inp", "out", "ref"),
     Diode: ("a", "k"),
     Bjt: ("c", "b", "e"),
     Jfet: ("d", "g", "s"),

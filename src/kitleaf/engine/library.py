@@ -135,7 +135,15 @@ OPAMPS = (
        "bias current in"),
 )
 
-LIBRARY: tuple[DeviceModel, ...] = DIODES + BJTS + JFETS + OPAMPS
+PUMPS = (
+    # The common 8-pin charge-pump converter of pedal power sections: about 45 ohms of switch
+    # resistance (its datasheet's 55 ohms of output resistance includes the 10 uF flying
+    # capacitor's 1 / (f C) at 10 kHz), a 10 kHz oscillator, about 100 uA of its own
+    DeviceModel("7660", "pump", {"ROUT": 45.0, "FOSC": 10e3, "IQ": 100e-6}, {}, _MEMORY,
+                "charge-pump voltage converter, 10 kHz; doubles or inverts its supply"),
+)
+
+LIBRARY: tuple[DeviceModel, ...] = DIODES + BJTS + JFETS + OPAMPS + PUMPS
 
 for _model in LIBRARY:
     register_model(_model.name, _model)

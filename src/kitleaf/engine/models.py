@@ -39,8 +39,14 @@ _OPAMP = {
     "CM_HI": 0.0, "CM_LO": 3.0, "IQ": 1e-3, "IB": 0.0, "SR": 0.5e6, "ILIM": 20e-3,
 }
 
+# A charge-pump chip (kitleaf's own, see docs/engine.md): the switches' output resistance
+# ROUT, the oscillator frequency FOSC and the quiescent current IQ. How it is wired (doubler
+# or inverter) is the circuit's, and its flying capacitor adds 1 / (FOSC C) to ROUT.
+_PUMP = {"ROUT": 45.0, "FOSC": 10e3, "IQ": 100e-6}
+
 DEFAULTS: dict[str, dict[str, float]] = {
     "diode": _DIODE, "npn": _BJT, "pnp": _BJT, "njf": _JFET, "pjf": _JFET, "opamp": _OPAMP,
+    "pump": _PUMP,
 }
 # Parameters that may be zero, and those of either sign; every other one must be positive.
 _NON_NEGATIVE = {"ISE", "ISC", "RS", "RB", "RE", "RC", "RD", "CJO", "CJE", "CJC", "CGS", "CGD",
@@ -69,7 +75,8 @@ PROVENANCES = ("datasheet typical", "textbook", "from memory", "user")
 
 @dataclass(frozen=True)
 class DeviceModel:
-    """A device type: ``kind`` (diode, npn, pnp, njf, pjf, opamp) and SPICE-named parameters.
+    """A device type: ``kind`` (diode, npn, pnp, njf, pjf, opamp, pump) and its parameters,
+    SPICE-named where SPICE has them.
 
     ``spread`` maps a parameter to its (low, high) range across production, drawn uniformly by
     Monte Carlo; ``provenance`` says where the numbers come from.

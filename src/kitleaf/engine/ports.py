@@ -69,13 +69,23 @@ class PortForm:
 @dataclass(frozen=True)
 class PoleResidue:
     """x(f) = alpha + s sum_k residues[..., k] / (1 + s lambdas[k]) per sample, with the
-    samples whose diagonalisation failed the check answered by the port solve."""
+    samples whose diagonalisation failed the check answered by the port solve.
+
+    The residues -(W V) diag(weights) cost rows x m^2 per sample, so they are formed on first
+    use, and :meth:`take` forms only the rows it keeps: a large kit reads a few of its nodes
+    at many frequencies, and all of them only at one (:meth:`through_modes`)."""
 
     alpha: np.ndarray  # (s, r)
-    residues: np.ndarray  # (s, r, m)
     lambdas: np.ndarray  # (s, m)
+    vecs: np.ndarray  # the eigenvectors V (s, m, m)
+    weights: np.ndarray  # V^-1 z (s, m)
     ports: PortForm
     bad: np.ndarray  # sample indices answered directly
+
+    @cached_property
+    def residues(self) -> np.ndarray:
+        """(s, r, m)."""
+        return -(self.ports.w @ self.vecs) * self.weights[:, None, :]
 
     def __call__(self, freqs: np.ndarray) -> np.ndarray:
         """Responses (samples, F, r) at ``freqs`` (F,) or per sample (samples, F)."""
@@ -85,8 +95,23 @@ class PoleResidue:
         """|responses| (samples, F, r), as __call__ without the complex values."""
         return self._at(freqs, magnitude=True)
 
+    def through_modes(self, freqs: np.ndarray) -> np.ndarray:
+        """Responses (samples, F, r) at a few ``freqs`` (F,) as alpha - s W V (weights /
+        (1 + s lambda)), without the residues: rows x m per frequency instead of rows x m^2
+        once (the same sums in another order, so equal to rounding)."""
+        f = np.asarray(freqs, float)
+        s = 2j * np.pi * f
+        modes = self.weights[:, :, None] / (1.0 + s[None, None, :] * self.lambdas[:, :, None])
+        y = self.vecs @ modes
+        out = self.alpha[:, None, :] - s[None, :, None] * _complex_product(
+            self.ports.w, y).transpose(0, 2, 1)
+        return self._direct_for_bad(out, f, magnitude=False)
+
     def _at(self, freqs: np.ndarray, magnitude: bool) -> np.ndarray:
         out = evaluate(self.alpha, self.residues, self.lambdas, freqs, magnitude, self._terms)
+        return self._direct_for_bad(out, freqs, magnitude)
+
+    def _direct_for_bad(self, out: np.ndarray, freqs, magnitude: bool) -> np.ndarray:
         if self.bad.size:
             f = np.asarray(freqs, float)
             direct = self.ports.direct(f if f.ndim == 1 else f[self.bad], self.bad)
@@ -102,9 +127,12 @@ class PoleResidue:
 
     def take(self, rows: list[int]) -> PoleResidue:
         """The same form for some of its rows (positions in this form)."""
-        return PoleResidue(self.alpha[:, rows], self.residues[:, rows], self.lambdas,
+        form = PoleResidue(self.alpha[:, rows], self.lambdas, self.vecs, self.weights,
                            PortForm(self.ports.x0[:, rows], self.ports.w[:, rows],
                                     self.ports.dm, self.ports.z), self.bad)
+        if "residues" in self.__dict__:  # formed already: the rows are a slice
+            form.__dict__["residues"] = self.residues[:, rows]
+        return form
 
 
 def port_form(system: System, part: Partition, problem: Problem, x: np.ndarray,
@@ -203,11 +231,10 @@ def modal(ports: PortForm, check_hz) -> PoleResidue:
     lambdas, vecs, inv = eig_split(ports.dm)
     # real when every pole is (numpy keeps the eigenvectors real then), which halves the work
     weights = (inv @ ports.z[..., None].astype(vecs.dtype))[..., 0]
-    residues = -(ports.w @ vecs) * weights[:, None, :]
     s = 2j * np.pi * np.atleast_1d(np.asarray(check_hz, float))
     modes = weights[:, :, None] / (1.0 + s[None, None, :] * lambdas[:, :, None])
     ok = backward_error(ports.dm, ports.z, vecs, modes, s) <= BACKWARD
-    return PoleResidue(ports.x0, residues, lambdas, ports, np.flatnonzero(~ok))
+    return PoleResidue(ports.x0, lambdas, vecs, weights, ports, np.flatnonzero(~ok))
 
 
 def backward_error(dm: np.ndarray, z: np.ndarray, vecs: np.ndarray, modes: np.ndarray,

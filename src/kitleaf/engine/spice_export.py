@@ -164,6 +164,19 @@ def _bjt(w: _Writer, e: el.Bjt) -> None:
         w.line("d", e.name + ":ebo", pins, w.model_text(f"D({card})"))
 
 
+def _pump(w: _Writer, e: el.Pump) -> None:
+    """The averaged pump as SPICE's linear controlled sources: E makes ratio x the input, a
+    0 V source senses the delivered current through rout, F draws ratio x it from the input."""
+    inside, sensed = f"{e.name}:e", f"{e.name}:s"
+    w.nodes.setdefault(inside, f"n{len(w.nodes) + 1}")
+    w.nodes.setdefault(sensed, f"n{len(w.nodes) + 1}")
+    w.line("e", e.name + ":gain", (inside, e.ref, e.inp, e.ref), _num(e.ratio))
+    # sensed backwards, so its branch current has the engine's sign (negative delivering)
+    sense = w.line("v", e.name, (sensed, inside), "dc 0")
+    w.line("r", e.name + ":rout", (sensed, e.out), _num(e.rout))
+    w.line("f", e.name + ":draw", (e.inp, e.ref), f"{sense} {_num(-e.ratio)}")
+
+
 def _opamp(w: _Writer, e: el.OpAmp) -> None:
     pins = (e.inp, e.inn, e.out, e.vpos, e.vneg)
     w.line("x", e.name, pins, w.model(e.model, _opamp_card))
@@ -173,5 +186,5 @@ _WRITERS = {
     el.Resistor: _passive("r"), el.Capacitor: _passive("c"), el.Inductor: _passive("l"),
     el.Pot: _pot, el.VSource: _source("v"), el.ISource: _source("i"),
     el.Diode: _device("d", ("a", "k")), el.Bjt: _bjt,
-    el.Jfet: _device("j", ("d", "g", "s")), el.OpAmp: _opamp,
+    el.Jfet: _device("j", ("d", "g", "s")), el.OpAmp: _opamp, el.Pump: _pump,
 }

@@ -18,6 +18,7 @@ _DC_PAIRS = {
     el.OpAmp: (("inp", "inn"), ("out", None), ("vneg", None)),
     el.Capacitor: (),
     el.ISource: (),
+    el.Pump: (("out", "ref"),),
 }
 _SHORTS = (el.VSource, el.Inductor)  # zero-impedance branches at DC
 

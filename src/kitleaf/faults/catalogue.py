@@ -6,6 +6,7 @@ from collections.abc import Callable
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.parts import Part
+from kitleaf.engine.elements import POT_END_RESISTANCE, Resistor
 from kitleaf.faults.board import R_OPEN, Board
 from kitleaf.faults.misreads import capacitor_misreads, resistor_misreads
 from kitleaf.faults.model import Bridge, Fault, Leak, Pins, Supply, Value, Wire
@@ -41,6 +42,23 @@ def _capacitor(part: Part, board: Board) -> list[Fault]:
         out.append(Fault(f"{d}:as:{wrong}", d, "misread", f"{d} is {wrong} instead of {shown} "
                          f"({how}); no DC reading shows it", (Value(d, value / part.value),),
                          dc_visible=False))
+    return out
+
+
+def _trimmer(part: Part, board: Board) -> list[Fault]:
+    """A trimmer in a resistor's place: its wiper off the track (open), or never set up, left
+    at either end of its travel. One wired as a divider (a custom stage's) has none listed."""
+    d = part.designator
+    element = board.circuit.element(d)
+    if not isinstance(element, Resistor):
+        return []
+    set_to = element.value
+    out = [Fault(f"{d}:open", d, "open", f"{d} (trimmer) open: a dry joint, or its wiper off "
+                 "the track", (Value(d, R_OPEN / set_to),))]
+    for end, ohms, words in (("ccw", POT_END_RESISTANCE, "anticlockwise"),
+                             ("cw", part.value, "clockwise")):
+        out.append(Fault(f"{d}:at:{end}", d, "unset", f"{d} not set up: left fully {words} "
+                         f"({format_value(ohms, 'resistance')})", (Value(d, ohms / set_to),)))
     return out
 
 
@@ -92,7 +110,7 @@ def _blocks_reversal(kit: KitCircuit) -> bool:
 
 
 _BY_TYPE: dict[str, Callable[[Part, Board], list[Fault]]] = {
-    "resistor": _resistor, "capacitor": _capacitor,
+    "resistor": _resistor, "capacitor": _capacitor, "trimmer": _trimmer,
 }
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import GROUND, KitCircuit
-from kitleaf.specs.lookup import point_name
+from kitleaf.circuit.kind import point_name
 
 METER_OHMS = 10e6  # a digital multimeter's input resistance on its volts ranges (common
 # practice, no source)

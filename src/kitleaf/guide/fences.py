@@ -8,7 +8,7 @@ from markdown_it.token import Token
 
 from kitleaf.errors import GuideError, SourceSpan
 
-BLOCK_NAMES = ("kit", "stage")
+BLOCK_NAMES = ("kit", "stage", "device")
 
 
 def block_header(info: str) -> tuple[str, str]:
@@ -19,7 +19,7 @@ def block_header(info: str) -> tuple[str, str]:
 
 
 def is_ours(token: Token, lines: list[str], path: str) -> bool:
-    """Whether ``token`` is a kit or stage block; an error for one that almost is.
+    """Whether ``token`` is a kit, stage or device block; an error for one that almost is.
 
     A misspelt or capitalised name (```Stage, ```stgae) or a fence indented into a code block
     would turn a stage into a code sample without a word, a block inside a quote or a list

@@ -1,15 +1,22 @@
-"""The kit block's lines with a grammar of their own: knobs and the battery's capacity and life."""
+"""The kit block's lines with a grammar of their own: knobs, switches, the battery's capacity
+and life, and the adapter's ripple."""
 
 from __future__ import annotations
 
 import re
 
-from kitleaf.errors import GuideError
-from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob
+from kitleaf.errors import GuideError, KitleafError
+from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob, Switch
 from kitleaf.guide.slug import slug_for
+from kitleaf.values import parse_value
 
 _CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
 _HOURS = re.compile(r"^(\d+(?:\.\d*)?)\s*(?:h|hours?)$")
+_RIPPLE = re.compile(r"^(.+?)\s*(?:p-?p\s*)?at\s+(.+)$")
+# What an adapter's ripple may be: up to 2 V peak to peak, at twice a mains frequency of
+# 50 or 60 Hz or a harmonic of it up to 1 kHz (common practice, no source)
+RIPPLE_VOLTS = (1e-6, 2.0)
+RIPPLE_HZ = (50.0, 1000.0)
 
 
 def read_knobs(entries: tuple[Entry, ...]) -> tuple[Knob, ...]:
@@ -38,14 +45,68 @@ def read_knob(entry: Entry) -> Knob:
     return Knob(name, designator, entry.span)
 
 
-def _refuse_twice(knob: Knob, other: Knob) -> None:
+REST_MARK = "*"  # after a switch position's name: the position it rests at
+
+
+def read_switches(entries: tuple[Entry, ...], knobs: tuple[Knob, ...]) -> tuple[Switch, ...]:
+    """The ``switch:`` lines; a switch has its own name (apart from every knob's too), its own
+    part and at least two positions, each named apart from the others."""
+    switches: list[Switch] = []
+    for entry in entries:
+        switch = read_switch(entry)
+        for other in (*knobs, *switches):
+            _refuse_twice(switch, other)
+        switches.append(switch)
+    return tuple(switches)
+
+
+def read_switch(entry: Entry) -> Switch:
+    name, sep, rest = entry.value.partition("=")
+    designator, colon, listed = rest.partition(":")
+    name, designator = name.strip(), designator.strip()
+    marked = [p.strip() for p in listed.split(",")]
+    rests = [i for i, p in enumerate(marked) if p.endswith(REST_MARK)]
+    positions = tuple(p.removesuffix(REST_MARK).strip() for p in marked)
+    if len(rests) > 1:
+        raise GuideError(f"switch '{name.strip()}' marks {len(rests)} positions with "
+                         f"'{REST_MARK}'; mark the one it rests at, or none (the first)",
+                         entry.span)
+    if not sep or not colon or not name or not DESIGNATOR.match(designator) or len(
+            positions) < 2 or not all(positions):
+        raise GuideError(
+            f"cannot read switch {entry.value!r}; write the switch's name, its part and a name "
+            "for each position in order, like 'Clip = S1: diodes, off*, LEDs' (the '*' marks "
+            "where it rests; the first if none)", entry.span)
+    if not slug_for(name):
+        raise GuideError(f"switch {name!r} needs a letter a-z or a digit in its name (claims "
+                         "and prose name it by them)", entry.span)
+    seen: dict[str, str] = {}
+    for position in positions:
+        slug = slug_for(position)
+        if not slug or slug in seen:
+            why = (f"is written like '{seen[slug]}'" if slug else
+                   "needs a letter a-z or a digit")
+            raise GuideError(f"switch '{name}': position {position!r} {why}; claims name a "
+                             "position by its letters and digits, so give each its own name",
+                             entry.span)
+        seen[slug] = position
+    return Switch(name, designator, positions, entry.span, rests[0] if rests else 0)
+
+
+def _refuse_twice(knob: Knob | Switch, other: Knob | Switch) -> None:
     first = f"first at line {other.span.line}"
     if knob.designator == other.designator:
-        raise GuideError(f"{knob.designator} is turned by two knobs ('{other.name}', {first}); "
-                         "a pot has one knob, so keep one line", knob.span)
+        raise GuideError(f"{knob.designator} is turned by two {_what(knob, other)} "
+                         f"('{other.name}', {first}); a part has one, so keep one line",
+                         knob.span)
     if slug_for(knob.name) == slug_for(other.name):
-        raise GuideError(f"two knobs are named {knob.name!r} ({first}, '{other.name}'); give "
-                         "each knob its own name", knob.span)
+        raise GuideError(f"two {_what(knob, other)} are named {knob.name!r} ({first}, "
+                         f"'{other.name}'); give each its own name", knob.span)
+
+
+def _what(one: Knob | Switch, other: Knob | Switch) -> str:
+    kinds = {type(one), type(other)}
+    return "knobs" if kinds == {Knob} else "switches" if kinds == {Switch} else "controls"
 
 
 def battery_capacity_ah(entry: Entry) -> float:
@@ -61,11 +122,35 @@ def battery_life_hours(entry: Entry) -> float:
 
 
 def check_battery(block: Block) -> None:
-    """Both battery lines read now, so a mistake is named even where no rule reads them."""
+    """Both battery lines and the ripple read now, so a mistake is named even where nothing
+    reads them."""
     for entry in block.all("battery"):
         battery_capacity_ah(entry)
     for entry in block.all("battery-life"):
         battery_life_hours(entry)
+    for entry in block.all("adapter-ripple"):
+        adapter_ripple(entry)
+
+
+def adapter_ripple(entry: Entry) -> tuple[float, float]:
+    """An ``adapter-ripple:`` line as (volts peak to peak, hertz): "20 mV at 120 Hz"."""
+    example = "'adapter-ripple: 20 mV at 120 Hz' (peak to peak, at twice the mains frequency)"
+    match = _RIPPLE.match(entry.value.strip())
+    try:
+        if match is None:
+            raise GuideError("")
+        volts = parse_value(match[1].removesuffix("pp").strip(), "voltage")
+        hz = parse_value(match[2], "frequency")
+    except KitleafError as exc:
+        why = f" ({exc.message})" if exc.message else ""
+        raise GuideError(f"cannot read 'adapter-ripple: {entry.value}'{why}; write it like "
+                         f"{example}", entry.span) from None
+    for value, (low, high), what in ((volts, RIPPLE_VOLTS, "V"), (hz, RIPPLE_HZ, "Hz")):
+        if not low <= value <= high:
+            raise GuideError(f"'adapter-ripple: {entry.value}' is outside what an adapter "
+                             f"gives ({low:g} to {high:g} {what}); write it like {example}",
+                             entry.span)
+    return volts, hz
 
 
 def _read(entry: Entry, pattern: re.Pattern, example: str, hint: str = "") -> re.Match:

@@ -68,6 +68,19 @@ class Knob:
 
 
 @dataclass(frozen=True)
+class Switch:
+    """A switch on the enclosure, named for the builder: its part and the maker's name for
+    each of its positions, in the switch's own order; ``rest`` is the one it rests at while
+    the rest of the kit is swept (the first unless the guide marks another)."""
+
+    name: str
+    designator: str
+    positions: tuple[str, ...]
+    span: SourceSpan
+    rest: int = 0
+
+
+@dataclass(frozen=True)
 class KitBlock:
     """The kit block: what the kit is and what hangs off the board."""
 
@@ -86,19 +99,22 @@ class KitBlock:
     span: SourceSpan
     supply_span: SourceSpan | None = None  # the 'supply:' line
     code_span: SourceSpan | None = None  # the 'code:' line
+    switches: tuple[Switch, ...] = ()
     bypass: Entry | None = None  # how the footswitch wires the kit in and out of the signal
     sound_previews: bool = True  # whether the page plays the kit's sound previews
 
 
 @dataclass(frozen=True)
 class Guide:
-    """One kit's guide: its source text, kit block and stage blocks in document order."""
+    """One kit's guide: its source text, kit block, stage blocks in document order and its
+    own device models (``device NAME`` blocks, read by :mod:`kitleaf.circuit.devices`)."""
 
     path: str
     slug: str
     text: str
     kit: KitBlock
     stages: tuple[StageBlock, ...]
+    devices: tuple[Block, ...] = ()
 
     def stage(self, stage_id: str) -> StageBlock:
         return next(s for s in self.stages if s.id == stage_id)

@@ -9,22 +9,23 @@ from markdown_it import MarkdownIt
 
 from kitleaf.errors import GuideError, SourceSpan
 from kitleaf.guide.blocks import at_most_once, make_block, require_single
+from kitleaf.guide.device_blocks import read_devices
 from kitleaf.guide.fences import is_ours
-from kitleaf.guide.kit_lines import check_battery, read_knobs
+from kitleaf.guide.kit_lines import check_battery, read_knobs, read_switches
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Guide, HardwareLine, KitBlock, StageBlock
 from kitleaf.guide.slug import guide_slug
 from kitleaf.guide.source import checked_text, read_text
 
 KIT_KEYS = {
-    "title", "code", "revision", "supply", "summary", "knob", "hardware", "caution",
+    "title", "code", "revision", "supply", "summary", "knob", "switch", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
-    "sound-previews",
+    "large-signal", "adapter-ripple", "sound-previews",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
 SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
-               "bypass", "sound-previews")
+               "bypass", "large-signal", "adapter-ripple", "sound-previews")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
-EXTRA_KEYS = ("battery", "battery-life", "claim", "allow")
+EXTRA_KEYS = ("battery", "battery-life", "claim", "allow", "large-signal", "adapter-ripple")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
 # Stage ids name files of the site: short, plain names.
 _ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")
@@ -53,11 +54,13 @@ def parse_guide(path: str | Path, text: str | None = None) -> Guide:
                          kits[1].span)
     stages = tuple(read_stage(b) for b in blocks if b.name == "stage")
     check_unique_ids(stages)
-    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages)
+    devices = read_devices([b for b in blocks if b.name == "device"])
+    return Guide(shown, guide_slug(path), text, read_kit(kits[0]), stages, devices)
 
 
 def find_blocks(text: str, path: str):
-    """Our fenced blocks (info string ``kit`` or ``stage ...``) in document order."""
+    """Our fenced blocks (info string ``kit``, ``stage ...`` or ``device ...``) in document
+    order."""
     lines = text.splitlines()
     for token in markdown_parser().parse(text):
         if is_ours(token, lines, path):
@@ -95,6 +98,22 @@ def check_unique_ids(stages: tuple[StageBlock, ...]) -> None:
         seen[stage.id] = stage
 
 
+LARGE_SIGNAL = ("yes", "no")
+
+
+def check_large_signal(entry: Entry | None) -> None:
+    """``large-signal: yes`` asks for the large-signal figures (they cost a few seconds)."""
+    if entry is not None and entry.value.strip().lower() not in LARGE_SIGNAL:
+        raise GuideError(f"'large-signal: {entry.value}' is neither yes nor no; write "
+                         "'large-signal: yes' for the figures under a pickup's drive, or drop "
+                         "the line", entry.span)
+
+
+def wants_large_signal(kit: KitBlock) -> bool:
+    """Whether the kit block asks for the large-signal figures."""
+    return any(e.key == "large-signal" and e.value.strip().lower() == "yes" for e in kit.extra)
+
+
 def read_kit(block: Block) -> KitBlock:
     for entry in block.entries:
         if entry.key not in KIT_KEYS:
@@ -110,11 +129,13 @@ def read_kit(block: Block) -> KitBlock:
             raise GuideError("'caution:' is empty; write the caution after it or drop the line",
                              caution.span)
     check_battery(block)
+    check_large_signal(once["large-signal"])
+    knobs = read_knobs(block.all("knob"))
     return KitBlock(
         title=value["title"].value, code=value["code"].value, supply=value["supply"].value,
         revision=once["revision"].value if once["revision"] else "A",
         summary=once["summary"].value if once["summary"] else "",
-        knobs=read_knobs(block.all("knob")),
+        knobs=knobs, switches=read_switches(block.all("switch"), knobs),
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
         source=once["source"], load=once["load"], order=once["order"], bypass=once["bypass"],

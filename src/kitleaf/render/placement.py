@@ -3,9 +3,10 @@
 A paragraph that is only ``{@name}`` places the computed section ``name`` there (the names are
 :data:`SECTIONS`); a plain Markdown viewer shows the marker as written. Unplaced sections take
 their default places: the maker's introduction (the prose before its first heading or block)
-comes first, then the kit at a glance, its sound previews, the checks and the cautions, then the rest of the guide,
-then the off-board wiring, the voltage table and the fault finder. A stage or section right
-after a maker's heading takes that heading as its own, so no two headings stand in a row.
+comes first, then the kit at a glance, its sound previews, the checks and the cautions, then
+the rest of the guide, then the off-board wiring, the voltage table and the fault finder. A
+stage or section right after a maker's heading takes that heading as its own, so no two
+headings stand in a row.
 """
 
 from __future__ import annotations
@@ -21,12 +22,14 @@ from kitleaf.errors import RenderError, SourceSpan
 from kitleaf.render.inline import PATH_KEY
 from kitleaf.render.prose import Piece, register_plugin
 
-# Section name -> its template, in default order; the first three stand before the guide's
+# Section name -> its template, in default order; the first four stand before the guide's
 # body, the others after it.
 SECTIONS = {"glance": "_kit_specs.html", "previews": "_previews.html", "checks": "_claims.html",
             "cautions": "_cautions.html", "wiring": "_wiring.html", "voltages": "_voltages.html",
             "faults": "_symptoms.html"}
 BEFORE_BODY = ("glance", "previews", "checks", "cautions")
+# The prose env's key for sections this guide has nothing to show in: name -> what to add.
+ABSENT_KEY = "absent_sections"
 TOKEN = "section_place"
 _MARKER = re.compile(r"\{@\s*([A-Za-z0-9_-]*)\s*\}")
 _ENDS_WITH_HEADING = re.compile(r"</h[1-6]>\s*$")
@@ -57,6 +60,10 @@ def _place(state: StateCore) -> None:
         if name not in SECTIONS:
             raise RenderError(f"'{{@{name}}}' places no section; the sections are "
                               f"{', '.join(SECTIONS)}", span)
+        absent = state.env.get(ABSENT_KEY, {})
+        if name in absent:
+            raise RenderError(f"'{{@{name}}}' places a section this guide has nothing for; "
+                              f"{absent[name]}", span)
         if name in placed:
             raise RenderError(f"'{{@{name}}}' is placed twice (first at line {placed[name]}); "
                               "keep one", span)

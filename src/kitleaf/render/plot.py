@@ -71,6 +71,7 @@ class Panel:
     band_low: tuple[float, ...] = ()
     band_high: tuple[float, ...] = ()
     corners: tuple[tuple[float, str], ...] = ()  # (Hz, label)
+    solid: int | None = None  # the curve drawn solid, if not the usual middle one
 
 
 @dataclass(frozen=True)
@@ -112,7 +113,7 @@ def _draw(sheet: SvgDocument, name: str, placed: Placed, log_f: np.ndarray, last
     band = draw.band_outline(frame, log_f, panel.band_low, panel.band_high) \
         if panel.band_low else ""
     draw.background(sheet, frame, band, placed.y_ticks, _corners(frame, panel.corners), clip)
-    draw.curves(sheet, frame, log_f, [c.gain_db for c in panel.curves], clip)
+    draw.curves(sheet, frame, log_f, [c.gain_db for c in panel.curves], clip, panel.solid)
     draw.x_axis(sheet, frame, last)
     texts = _number_labels(placed.y_ticks)
     draw.y_axis(sheet, frame, placed.y_ticks, texts, max(map(_width, texts), default=0.0))
@@ -198,7 +199,7 @@ def _legend_entries(panel: Panel, floor: float) -> tuple:
     for i, curve in enumerate(panel.curves):
         gains = _finite(curve.gain_db)
         below = " (below the plot)" if not gains.size or gains.max() < floor else ""
-        entries.append((draw.style_of(i, len(panel.curves)), curve.label + below))
+        entries.append((draw.style_of(i, len(panel.curves), panel.solid), curve.label + below))
     return tuple((style, _wrap(text, LEGEND_PT, LEGEND_WRAP_PT) or ("",))
                  for style, text in entries)
 

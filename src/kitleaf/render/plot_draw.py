@@ -75,9 +75,14 @@ class Label:
     va: str = "top"
 
 
-def style_of(i: int, count: int) -> tuple:
-    """Five positions take the five styles in order; a single curve is the solid one."""
-    return STYLES[2 if count == 1 else i % len(STYLES)]
+def style_of(i: int, count: int, solid: int | None = None) -> tuple:
+    """Five positions take the five styles in order; a single curve is the solid one. With
+    ``solid`` (a switch's resting position, the band's curve) that curve is the solid one
+    and the others take the other styles in order."""
+    if solid is None:
+        return STYLES[2 if count == 1 else i % len(STYLES)]
+    others = [s for k, s in enumerate(STYLES) if k != 2]
+    return STYLES[2] if i == solid else others[(i - (i > solid)) % len(others)]
 
 
 def stroke(colour: str, dashes, width: float) -> str:
@@ -133,11 +138,12 @@ def band_outline(frame: Frame, log_f: np.ndarray, low, high) -> str:
     return "".join(outlines)
 
 
-def curves(sheet: SvgDocument, frame: Frame, log_f, gains, clip: str) -> None:
+def curves(sheet: SvgDocument, frame: Frame, log_f, gains, clip: str,
+           solid: int | None = None) -> None:
     """The curves in their styles, in order."""
     for i, gain_db in enumerate(gains):
-        sheet.path(polyline(frame.x(log_f), frame.y(gain_db)), line(*style_of(i, len(gains))),
-                   clip)
+        style = style_of(i, len(gains), solid)
+        sheet.path(polyline(frame.x(log_f), frame.y(gain_db)), line(*style), clip)
 
 
 def rules(sheet: SvgDocument, frame: Frame, style: str, clip: str, x=(), y=()) -> None:

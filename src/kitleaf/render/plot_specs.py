@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent
+from kitleaf.circuit.stages import KINDS
+from kitleaf.display import figure, percent, thd_text
 from kitleaf.render.plot import Panel, ResponsePlot, Trace
-from kitleaf.specs.model import Curve, KitSpecs, Range
+from kitleaf.render.plot_drive import CurvePanel, DrivePicture, WavePanel
+from kitleaf.specs.model import Curve, Drive, KitSpecs, Range, Scoop
 from kitleaf.values import format_value
 
 
@@ -12,7 +14,10 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
     stage = specs.stage(stage_id)
     if not stage.signal or not stage.curves:
         return None
-    corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
+    if KINDS[stage.kind].shapes_response:  # its corners follow its knobs: mark the scoop
+        corners = _scoop(stage.scoop)
+    else:
+        corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
     return ResponsePlot(f"{stage.title}: gain from its input to its output", specs.freqs,
                         _panels(stage.curves, stage.band_low, stage.band_high, corners))
 
@@ -26,30 +31,40 @@ def kit_plot(specs: KitSpecs) -> ResponsePlot:
 
 def _panels(curves: tuple[Curve, ...], low, high, corners
             ) -> tuple[Panel, ...]:
-    """One panel per knob, in the kit block's order; one unnamed panel when no knob acts."""
+    """One panel per knob or switch, in the kit block's order; one unnamed panel when no
+    knob acts."""
     knobs = list(dict.fromkeys(c.knob for c in curves))
+    rests = {c.knob: c.position for c in curves if c.at_rest}
     panels = []
     for knob in knobs:
         mine = tuple(Trace(_label(c), c.gain_db) for c in curves if c.knob == knob)
-        panels.append(Panel(_title(knob, knobs), mine, low, high, corners))
+        resting = [c.at_rest for c in curves if c.knob == knob]
+        # a switch's resting position is the band's curve, drawn solid
+        solid = resting.index(True) if isinstance(rests.get(knob), str) else None
+        panels.append(Panel(_title(knob, knobs, rests), mine, low, high, corners, solid))
     return tuple(panels)
 
 
 def _label(curve: Curve) -> str:
     if not curve.knob:
         return "nominal parts"
+    if isinstance(curve.position, str):
+        return f"{curve.knob}: {curve.position}"
     return f"{curve.knob} {percent(curve.position)}"
 
 
-def _title(knob: str, knobs: list[str]) -> str:
-    """The panel's title; it names only the knobs of the plotted curves (a stage's plot is
-    not moved by another stage's knob, so naming that knob would mislead)."""
-    others = [name for name in knobs if name != knob]
+def _title(knob: str, knobs: list[str], rests: dict | None = None) -> str:
+    """The panel's title; it names only the knobs and switches of the plotted curves (a
+    stage's plot is not moved by another stage's knob, so naming that knob would mislead).
+    ``rests`` gives the position each rests at by its name (a switch's by its name)."""
     if not knob:
         return ""
-    if not others:
-        return f"{knob} knob turned"
-    return f"{knob} knob turned, {_listed(others)} at 50 %"
+    switches = {name: rest for name, rest in (rests or {}).items() if isinstance(rest, str)}
+    turned = f"{knob} switch set" if knob in switches else f"{knob} knob turned"
+    others = [name for name in knobs if name != knob and name not in switches]
+    held = ([f"{_listed(others)} at 50 %"] if others else []) + [
+        f"{name} set to {switches[name]}" for name in knobs if name != knob and name in switches]
+    return ", ".join([turned, *held])
 
 
 def _listed(names: list[str]) -> str:
@@ -57,7 +72,56 @@ def _listed(names: list[str]) -> str:
     return names[0] if len(names) == 1 else f"{', '.join(names[:-1])} and {names[-1]}"
 
 
+def _scoop(scoop: Scoop | None) -> tuple[tuple[float, str], ...]:
+    """The deepest dip with the knobs at half way, marked where it lies; none without one."""
+    if scoop is None:
+        return ()
+    where = format_value(scoop.hz.nominal, "frequency")
+    return ((scoop.hz.nominal, f"scoop {figure(scoop.depth_db.nominal, 'db')} at {where}"),)
+
+
 def _corners(low: Range | None, high: Range | None) -> tuple[tuple[float, str], ...]:
     """The nominal -3 dB corners with their labels, knobs at half way."""
     return tuple((r.nominal, f"−3 dB {format_value(r.nominal, 'frequency')}")
                  for r in (low, high) if r is not None)
+
+
+def wave_picture(specs: KitSpecs) -> DrivePicture | None:
+    """The kit's output over two cycles at each playing level, knobs at half way; None
+    when the large-signal figures were not computed."""
+    drive = specs.drive
+    if drive is None or drive.base.error:
+        return None
+    panels = tuple(WavePanel(p.level, f"{format_value(p.level, 'voltage')} pickup peak: "
+                                      f"THD {thd_text(p.thd)}, output "
+                                      f"{format_value(p.peak, 'voltage')} peak", p.wave)
+                   for p in drive.base.points)
+    return DrivePicture(f"{specs.title}: output beside the pickup, knobs at half way", panels)
+
+
+def drive_picture(specs: KitSpecs) -> DrivePicture | None:
+    """THD and output peak against the pickup level, one line per position of each knob
+    (a panel pair per knob; one pair, knobs at half way, for a kit without knobs)."""
+    drive = specs.drive
+    if drive is None or drive.base.error:
+        return None
+    panels = []
+    for knob in [name for name, _ in specs.knobs] or [""]:
+        settings = _knob_settings(drive, knob)
+        title = _title(knob, [name for name, _ in specs.knobs]) or "Knobs fixed"
+        band = drive.band if knob == (specs.knobs[0][0] if specs.knobs else "") else ()
+        panels.append(CurvePanel(f"THD, {title}", "thd",
+                                 tuple((lb, s.thd) for lb, s in settings), band))
+        panels.append(CurvePanel(f"Output peak, {title}", "volts",
+                                 tuple((lb, s.peak) for lb, s in settings)))
+    return DrivePicture(f"{specs.title}: distortion and output against the pickup level",
+                        tuple(panels), drive.levels)
+
+
+def _knob_settings(drive: Drive, knob: str) -> list:
+    """(label, setting) for each computed position of ``knob``, in order of position."""
+    if not knob:
+        return [("nominal parts", drive.base)]
+    found = [(dict(s.positions)[knob], s) for s in drive.settings
+             if s.positions and s.positions[0][0] == knob and not s.error]
+    return [(f"{knob} {percent(pos)}", s) for pos, s in sorted(found, key=lambda f: f[0])]

@@ -19,6 +19,8 @@ from schemdraw.segments import Segment
 
 from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
+from kitleaf.circuit.rails import rail_labels
+from kitleaf.circuit.switches import form_of
 from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
 from kitleaf.render.schematic_geometry import junctions
@@ -59,7 +61,8 @@ ANCHORS: Mapping[str, Mapping[str, str]] = {
     "pot": {"ccw": "start", "cw": "end", "wiper": "tap"},
 }
 _TWO_TERMINAL = {"resistor": elm.Resistor, "capacitor": elm.Capacitor, "inductor": elm.Inductor,
-                 "diode": elm.Diode, "led": elm.LED}
+                 "diode": elm.Diode, "led": elm.LED,
+                 "trimmer": elm.ResistorVar}  # in a resistor's place: a variable resistor
 
 
 class JfetSymbol(elm.JFet):
@@ -97,8 +100,12 @@ class SchematicSheet:
     It is the :class:`kitleaf.circuit.drawing.Sheet` a stage kind draws on, plus what the
     test-point markers and the overview need (text, rings, devices, what is occupied)."""
 
-    def __init__(self, title: str = "", nets: Mapping[str, str] | None = None) -> None:
+    def __init__(self, title: str = "", nets: Mapping[str, str] | None = None,
+                 plus_pins: Mapping[str, int] | None = None) -> None:
         self.title = title
+        # Each polarised capacitor's + pin from the computed DC (0: its first node, as its
+        # kind places it); a part not named here takes the kind's ``plus`` hint.
+        self.plus_pins = dict(plus_pins or {})
         self.nets = {"vcc": "VCC", "vref": "VREF", "supply": "+V IN", **(nets or {})}
         # Where a builder could probe: (device, pin) for device pins, ("", net) for nets.
         self.spots: dict[tuple[str, str], Point] = {}
@@ -112,10 +119,11 @@ class SchematicSheet:
     # -- parts ---------------------------------------------------------------------------------
     def part(self, part: Part | None, a: Point, b: Point, side: str | None = None,
              plus: Point | None = None) -> None:
-        """A two-terminal part from ``a`` to ``b`` (a diode's anode at ``a``), labelled.
+        """A two-terminal part from ``a`` (its first node) to ``b`` (a diode's anode at
+        ``a``), labelled.
 
-        An electrolytic's + lead is at ``a`` unless ``plus`` names ``b``, the end that sits at
-        the higher DC voltage.
+        An electrolytic's + lead is at the end the computed DC puts higher (``plus_pins``),
+        else at ``a`` unless the kind's ``plus`` hint names ``b``.
         """
         if part is None:
             return
@@ -126,11 +134,12 @@ class SchematicSheet:
         self.record.body(part.designator, a, b)
         polar = part.type == "capacitor" and part.polarised
         if polar:
-            self.record.plus[part.designator] = 1 if plus == b else 0
-        if polar and plus == b:
-            a, b = b, a
+            pin = self.plus_pins.get(part.designator, 1 if plus == b else 0)
+            self.record.plus[part.designator] = pin
+            a, b = (b, a) if pin == 1 else (a, b)
         kwargs = {"polar": True} if polar else {}
         self._add(_TWO_TERMINAL[part.type](**kwargs).endpoints(a, b))
+        self.record.shape(part.designator, self._element_boxes[-1], a, b)
         self.label(part_label(part), label_point(a, b, side, LABEL_GAP[part.type]),
                    side or default_side(a, b))
 
@@ -142,6 +151,7 @@ class SchematicSheet:
         """
         drawn = elm.Potentiometer().endpoints(ccw, cw)
         drawn = self._add(drawn.flip() if wiper_right else drawn)
+        self.record.shape(part.designator, self._element_boxes[-1], ccw, cw)
         side = side or default_side(ccw, cw)
         self.label(part_label(part), label_point(ccw, cw, side, LABEL_GAP["pot"]), side)
         wiper = self.pin(drawn, "pot", "wiper")
@@ -158,6 +168,29 @@ class SchematicSheet:
         wiper = self.pot(part, ccw, cw, side, wiper_right=wiper_side(ccw, cw) == side)
         bend = (b[0], wiper[1]) if abs(a[1] - b[1]) < 1e-9 else (wiper[0], b[1])
         self.wire(wiper, bend, b)
+
+    def switch(self, part: Part, pole: int, common: Point,
+               throws: Sequence[Point | None]) -> None:
+        """Pole ``pole`` of a switch: open contacts at the common and each wired throw, the
+        lever from the common towards the throw of the switch's first position (half way
+        between the throws where that position joins nothing); the first pole is labelled."""
+        wired = [t for t in throws if t is not None]
+        for at in (common, *wired):
+            self._add(elm.Dot(radius=0.09, open=True).at(at))
+        pins = [common, *wired]  # the pole as the drawing checker reads it (S1:p1)
+        self.record.part(f"{part.designator}:p{pole}", "pole",
+                         {str(i): at for i, at in enumerate(pins)})
+        rest = form_of(part).throws[0]
+        aim = throws[rest] if rest is not None and rest < len(throws) else None
+        if aim is None:
+            aim = (sum(t[0] for t in wired) / len(wired), sum(t[1] for t in wired) / len(wired))
+        reach = 0.85  # the lever stops short of the contact, as switches are drawn
+        tip = (common[0] + reach * (aim[0] - common[0]), common[1] + reach * (aim[1] - common[1]))
+        self._add(elm.Line().endpoints(common, tip))
+        if pole == 1:
+            side = "below" if all(t[1] >= common[1] for t in wired) else "above"
+            self.label(part_label(part), (common[0], common[1] + (-0.3 if side == "below"
+                                                                    else 0.3)), side)
 
     def transistor(self, part: Part, family: str, base: Point, mirror: bool = False
                    ) -> dict[str, Point]:
@@ -194,6 +227,16 @@ class SchematicSheet:
         self._add(elm.Rect(corner1=(0, 0), corner2=(width, height)).at((x, y)))
         self.record.blocks.append((x, y, x + width, y + height))
         self.label("\n".join(lines), (x + width / 2, y + height / 2), "centre")
+
+    def chip(self, part: Part, lower_left: Point, width: float, height: float,
+             pins: Mapping[str, Point], role: str) -> None:
+        """A chip as a labelled rectangle, its pins by name on its edges (a part, unlike a
+        block of text)."""
+        x, y = lower_left
+        self._add(elm.Rect(corner1=(0, 0), corner2=(width, height)).at((x, y)))
+        self.label("\n".join([part.designator, part.text, role]),
+                   (x + width / 2, y + height / 2), "centre")
+        self.record.part(part.designator, part.type, dict(pins))
 
     # -- connections ---------------------------------------------------------------------------
     def wire(self, *points: Point) -> None:
@@ -239,6 +282,10 @@ class SchematicSheet:
         self.record.name(at, PORT_NETS.get(name, name.lower()))
         self.spots.setdefault(("", name.lower()), at)
         self.label(name, nudge(at, side, 0.3), side)
+
+    def probe(self, at: Point, node: str) -> None:
+        """Where a builder may probe the stage's own ``node``; nothing is drawn."""
+        self.spots.setdefault(("", node), at)
 
     def ring(self, centre: Point, radius: float) -> None:
         """An open circle (a test point's marker)."""
@@ -314,14 +361,23 @@ class SchematicSheet:
         return placed.element
 
 
-def render_stage_svg(kit_circuit, stage) -> str:
-    """The schematic of one stage, drawn by its kind."""
-    return draw_stage(kit_circuit, stage).svg()
+def render_stage_svg(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None) -> str:
+    """The schematic of one stage, drawn by its kind; ``plus_pins`` gives each polarised
+    capacitor's + pin from the computed DC (:func:`plus_pins_of`)."""
+    return draw_stage(kit_circuit, stage, plus_pins).svg()
 
 
-def draw_stage(kit_circuit, stage) -> SchematicSheet:
+def plus_pins_of(stage, orientations: Mapping) -> dict[str, int]:
+    """The + pin of each of the stage's polarised capacitors, from the specs' orientations."""
+    return {p.designator: orientations[p.designator].plus_pin for p in stage.all_parts()
+            if p.designator in orientations}
+
+
+def draw_stage(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None
+               ) -> SchematicSheet:
     """The sheet of one stage, drawn by its kind, with its test points marked."""
-    sheet = SchematicSheet(stage.title, nets={"supply": kit_circuit.supply_label})
+    nets = {"supply": kit_circuit.supply_label, **rail_labels(stage.rails)}
+    sheet = SchematicSheet(stage.title, nets=nets, plus_pins=plus_pins)
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 

@@ -21,6 +21,7 @@ from kitleaf.circuit.stages import KINDS
 from kitleaf.engine import Circuit
 from kitleaf.engine.elements import VSource, terminals
 from kitleaf.render.schematic_geometry import (
+    TEXT_AIR,
     arms,
     box_meets,
     boxes_meet,
@@ -36,7 +37,7 @@ from kitleaf.render.schematic_geometry import (
 from kitleaf.render.schematic_record import Point, SheetRecord
 
 CHAIN = ("in", "out", "vcc", "vref", "0", "supply")  # a stage's connections, named as such
-UNORDERED = ("resistor", "inductor")  # a builder may fit these either way round
+UNORDERED = ("resistor", "inductor", "trimmer")  # a builder may fit these either way round
 
 
 @dataclass(frozen=True)
@@ -68,8 +69,23 @@ def stage_netlist(stage: Stage) -> StageNetlist:
 
     named = {p.designator for p in stage.all_parts()}
     parts = {e.name: tuple(map(local, terminals(e))) for e in circuit.elements if e.name in named}
+    parts.update(_poles(circuit, named, local))
     alias = {n.removeprefix(prefix): local(n) for n in links.parent if local(n) != n}
     return StageNetlist(parts, alias)
+
+
+def _poles(circuit, named: set[str], local) -> dict[str, tuple[str, ...]]:
+    """Each switch pole (``S1:p1``) as one part: its common, then each wired throw in
+    position order, from its contacts (``S1:p1t2`` joins the common to throw 2)."""
+    contacts: dict[str, list[tuple[int, str, str]]] = {}
+    for e in circuit.elements:
+        designator, _, contact = e.name.partition(":")
+        pole, _, throw = contact.partition("t")
+        if designator in named and pole.startswith("p") and throw.isdigit():
+            common, to = terminals(e)
+            contacts.setdefault(f"{designator}:{pole}", []).append((int(throw), common, to))
+    return {name: (local(found[0][1]), *(local(to) for _, _, to in sorted(found)))
+            for name, found in contacts.items()}
 
 
 class Joins:
@@ -220,7 +236,13 @@ def text_problems(record: SheetRecord) -> list[str]:
     lines = list(record.wires) + [(a, b) for _, a, b in record.bodies]
     problems += [f"a line runs through the words {t!r}" for t, box in words
                  if any(box_meets(box, a, b) for a, b in lines)]
+    problems += [f"the words {t!r} lie over the symbol of {designator}" for t, box in words
+                 for designator, shape in record.shapes if boxes_meet(_shrunk(box), shape)]
     return problems
+
+
+def _shrunk(box, air: float = TEXT_AIR):
+    return (box[0] + air, box[1] + air, box[2] - air, box[3] - air)
 
 
 def leader_problems(record: SheetRecord, netlist: StageNetlist, node_of: Mapping[Point, str]
@@ -244,10 +266,19 @@ def check_record(record: SheetRecord, netlist: StageNetlist) -> list[str]:
             + leader_problems(record, netlist, node_of))
 
 
-def check_stage(kit, stage: Stage) -> list[str]:
-    """Every problem of the stage's drawing, as :func:`render_stage_svg` draws it."""
+def plus_problems(record: SheetRecord, plus_pins: Mapping[str, int]) -> list[str]:
+    """A polarised capacitor whose + is drawn at the end the computed DC puts lower."""
+    return [f"{designator}: its + is drawn at pin {record.plus[designator] + 1}, but pin "
+            f"{pin + 1} sits higher" for designator, pin in sorted(plus_pins.items())
+            if designator in record.plus and record.plus[designator] != pin]
+
+
+def check_stage(kit, stage: Stage, plus_pins: Mapping[str, int] | None = None) -> list[str]:
+    """Every problem of the stage's drawing, as :func:`render_stage_svg` draws it with the
+    polarised capacitors' + pins ``plus_pins``."""
     from kitleaf.render.schematic import draw_stage
 
-    sheet = draw_stage(kit, stage)
+    sheet = draw_stage(kit, stage, plus_pins)
     sheet.mark_junctions()  # as writing it would
-    return check_record(sheet.record, stage_netlist(stage))
+    return (check_record(sheet.record, stage_netlist(stage))
+            + plus_problems(sheet.record, plus_pins or {}))

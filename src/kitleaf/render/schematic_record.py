@@ -13,14 +13,19 @@ from kitleaf.circuit.drawing import Point
 
 Box = tuple[float, float, float, float]  # x0, y0, x1, y1
 PLACES = 3  # points are compared rounded to a thousandth of a grid unit
+BODY_HALF = 0.5  # half a symbol's length along its axis (its leads stretch beyond)
 
 # Which pins a part type's drawing has, in the engine's pin order (kitleaf.engine.elements).
 PIN_ORDER = {
     "resistor": ("a", "b"), "capacitor": ("a", "b"), "inductor": ("a", "b"),
     "diode": ("anode", "cathode"), "led": ("anode", "cathode"), "pot": ("ccw", "wiper", "cw"),
+    "trimmer": ("a", "b"),  # in a resistor's place: a variable resistor
+    # a switch pole: its common, then each throw wired to something, in position order
+    "pole": tuple(str(i) for i in range(16)),
     "npn": ("collector", "base", "emitter"), "pnp": ("collector", "base", "emitter"),
     "njf": ("drain", "gate", "source"), "pjf": ("drain", "gate", "source"),
     "opamp": ("non_inv", "inv", "out", "vpos", "vneg"),
+    "pump": ("inp", "out", "ref"),
 }
 # Ports name the stage's own connections.
 PORT_NETS = {"IN": "in", "OUT": "out"}
@@ -46,6 +51,7 @@ class SheetRecord:
     pins: dict[tuple[str, int], Point] = field(default_factory=dict)
     part_types: dict[str, str] = field(default_factory=dict)
     bodies: list[tuple[str, Point, Point]] = field(default_factory=list)  # two-terminal spans
+    shapes: list[tuple[str, Box]] = field(default_factory=list)  # each symbol's box, no words
     wires: list[tuple[Point, Point]] = field(default_factory=list)
     dots: list[Point] = field(default_factory=list)
     names: list[tuple[Point, str]] = field(default_factory=list)  # ground, rails, labels, ports
@@ -60,6 +66,18 @@ class SheetRecord:
         for index, name in enumerate(PIN_ORDER[kind]):
             if name in pins:
                 self.pins[(designator, index)] = snap(pins[name])
+
+    def shape(self, designator: str, box: Box, a: Point, b: Point) -> None:
+        """A two-terminal part's or pot's symbol: its drawn ``box`` cut to the body's length
+        about the middle of ``a``-``b`` (the leads beyond are lines, checked as such)."""
+        mid = ((a[0] + b[0]) / 2, (a[1] + b[1]) / 2)
+        if abs(a[1] - b[1]) < abs(a[0] - b[0]):  # level: cut along x
+            box = (max(box[0], mid[0] - BODY_HALF), box[1], min(box[2], mid[0] + BODY_HALF),
+                   box[3])
+        else:
+            box = (box[0], max(box[1], mid[1] - BODY_HALF), box[2],
+                   min(box[3], mid[1] + BODY_HALF))
+        self.shapes.append((designator, box))
 
     def body(self, designator: str, a: Point, b: Point) -> None:
         self.bodies.append((designator, snap(a), snap(b)))

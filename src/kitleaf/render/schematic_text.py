@@ -19,7 +19,9 @@ POINTS_PER_UNIT = 36.0  # one grid unit is half an inch: 36 pt in the SVG
 CHAR_WIDTH = 0.62  # a sans-serif character's average advance, in font sizes (common practice)
 # How far a label sits from the axis of a two-terminal part (half the body's width plus air).
 LABEL_GAP = {"resistor": 0.45, "capacitor": 0.55, "inductor": 0.5, "diode": 0.5, "led": 1.0,
-             "pot": 0.5, "block": 0.3}
+             "pot": 0.5, "block": 0.3, "switch": 0.3,
+             "trimmer": 0.8,  # clear of the arrow through it
+             "bjt": 0.5, "jfet": 0.5, "opamp": 0.0}  # beside a device: from its pins
 LABEL_NUDGE = 0.1  # schemdraw writes a label this far right of and above its point
 # The side a label lies on from its point -> schemdraw's (halign, valign) for it.
 ALIGN = {"right": ("left", "center"), "left": ("right", "center"),

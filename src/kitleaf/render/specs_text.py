@@ -2,26 +2,50 @@
 
 from __future__ import annotations
 
-from kitleaf.display import percent, range_text
-from kitleaf.specs.model import Headroom, KitSpecs, KnobPoint
+from kitleaf.display import (
+    hum_text,
+    level_text,
+    range_text,
+    settings,
+    si,
+    thd_text,
+    trim_instruction,
+    trim_travel,
+)
+from kitleaf.specs.model import Drive, Headroom, KitSpecs, KnobPoint
 
 
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
+    width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
-             f"  gain at 1 kHz      {range_text(specs.gain_db, 'db')}",
-             *(f"    {_knobs(p):<15}{range_text(p.gain_db, 'db')}" for p in specs.knob_sweep),
+             f"  {_gain_words(specs.clips) + ' ':<19}{range_text(specs.gain_db, 'db')}",
+             *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
+               for p in specs.knob_sweep),
              f"  band gain          {range_text(specs.band_gain_db, 'db')}",
              f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
              f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
              f"  input impedance    {range_text(specs.input_impedance, 'resistance')}",
              f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
-             f"  output headroom    {_swing(specs.headroom)}"]
+             *(_drive_lines(specs.drive) if specs.drive else
+               [f"  output headroom    {_swing(specs.headroom)}"])]
+    if specs.hum is not None:
+        lines.append(f"  hum at the output  {hum_text(specs.hum)}")
+        lines.extend(f"    {_knobs(p):<{width}}{hum_text(p.hum)}" for p in specs.knob_sweep)
+    for trim in specs.trims:
+        lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines.append(f"    gain at 1 kHz    {range_text(s.gain_db, 'db')}")
+            lines += [f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}",
+                      f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
+                      f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
+                      f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
+                      f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
+        if s.scoop is not None:
+            lines.append(f"    mid scoop        {range_text(s.scoop.depth_db, 'db')} at "
+                         f"{range_text(s.scoop.hz, 'frequency')}")
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
@@ -29,9 +53,33 @@ def specs_to_text(specs: KitSpecs) -> str:
     return "\n".join(lines)
 
 
+def _gain_words(clips: bool) -> str:
+    """A clipping stage's gain holds for small signals only, and says so."""
+    return "small-signal gain" if clips else "gain at 1 kHz"
+
+
 def _knobs(point: KnobPoint) -> str:
-    return ", ".join(f"{name} {percent(pos)}" for name, pos in point.positions)
+    return settings(point.positions)
 
 
 def _swing(h: Headroom | None) -> str:
     return "–" if h is None else f"{range_text(h.volts, 'voltage')} peak ({h.limit})"
+
+
+def _drive_lines(drive: Drive | None) -> list[str]:
+    """The large-signal figures with every knob at half (a 1 kHz sine from the pickup)."""
+    if drive is None:
+        return []
+    d = drive.base
+    if d.error:
+        return [f"  large signal       not computed: {d.error}"]
+    lines = [f"  clean up to        {level_text(d.clean_limit, drive.levels)} pickup peak "
+             "(THD 1 %)",
+             f"  driven from        {level_text(d.driven_limit, drive.levels)} pickup peak "
+             "(THD 10 %)"]
+    lines += [f"    at {si(p.level, 'voltage'):<12}THD {thd_text(p.thd)}, output "
+              f"{si(p.peak, 'voltage')} peak" for p in d.points]
+    if d.swing_up is None or d.swing_down is None:
+        return lines + [f"  output swing       not reached at {si(drive.levels[-1], 'voltage')}"]
+    return lines + [f"  output swing       +{si(d.swing_up[0], 'voltage')} ({d.swing_up[1]}), "
+                    f"-{si(d.swing_down[0], 'voltage')} ({d.swing_down[1]})"]

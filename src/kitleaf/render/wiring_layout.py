@@ -15,7 +15,7 @@ from kitleaf.circuit.offboard import Lug, Piece
 
 Point = tuple[float, float]
 
-WIDTH, HEIGHT = 760.0, 610.0
+WIDTH, HEIGHT = 760.0, 586.0
 # The box of each piece by role: left, top, width, height.
 BOXES = {
     "input-jack": (20.0, 60.0, 120.0, 120.0),
@@ -24,7 +24,7 @@ BOXES = {
     "dc-jack": (620.0, 330.0, 120.0, 120.0),
     "battery": (20.0, 300.0, 120.0, 100.0),
     "led": (525.0, 220.0, 50.0, 80.0),
-    BOARD: (60.0, 490.0, 640.0, 90.0),
+    BOARD: (60.0, 490.0, 640.0, 66.0),
 }
 LUG_STEP = 34.0
 
@@ -35,8 +35,12 @@ class LugSpot:
 
     lug: Lug
     at: Point
-    exit: Point | None  # a unit vector, or None: straight towards the wire's other end
+    # A unit vector, or None: straight towards the wire's other end (also the way for a wire
+    # to a lug level with this one).
+    exit: Point | None
     label: str
+    label_at: Point  # where the lug's name starts, ends or is centred (``anchor``)
+    anchor: str
 
 
 @dataclass(frozen=True)
@@ -78,8 +82,10 @@ def _title(piece: Piece) -> tuple[str, ...]:
 def _column(piece: Piece, x: float, top: float, exit: Point, words: dict[str, str]
             ) -> dict[Lug, LugSpot]:
     """The lugs of a piece in a column at ``x``, one step apart from ``top`` down."""
+    anchor = "end" if exit[0] > 0 else "start"  # the name inside the piece
     return {piece.lug(name): LugSpot(piece.lug(name), (x, top + LUG_STEP * i), exit,
-                                     words.get(name, name))
+                                     words.get(name, name),
+                                     (x - exit[0] * 10.0, top + LUG_STEP * i + 4.0), anchor)
             for i, name in enumerate(piece.lugs)}
 
 
@@ -103,15 +109,18 @@ def _battery_spots(piece: Piece, box) -> dict[Lug, LugSpot]:
 
 def _switch_spots(piece: Piece, box) -> dict[Lug, LugSpot]:
     """Lugs by pole in columns, the effect-on row at the bottom (towards the board), the
-    commons in the middle and the bypass row on top, whose wires leave upwards."""
+    commons in the middle and the bypass row on top, whose wires leave sideways, clear of
+    the lugs below them."""
     left, top, width, height = box
     spots = {}
     for i, name in enumerate(piece.lugs):
         row, column = divmod(i, piece.poles)
         x = left + width * (column + 0.5) / piece.poles
         y = top + height - 20.0 - row * (height - 66.0) / 2
-        exit = (0.0, -1.0) if row == 2 else None
-        spots[piece.lug(name)] = LugSpot(piece.lug(name), (x, y), exit, name)
+        outward = (-1.0, 0.0) if column < (piece.poles - 1) / 2 else (1.0, 0.0)
+        exit = outward if row == 2 else None
+        spots[piece.lug(name)] = LugSpot(piece.lug(name), (x, y), exit, name,
+                                         (x + 8.0, y + 15.0), "start")
     return spots
 
 
@@ -120,23 +129,30 @@ def _led_spots(designator: str, box) -> dict[Lug, LugSpot]:
     left, top, width, height = box
     x = left + width / 2
     cathode, anode = Lug(designator, "cathode"), Lug(designator, "anode")
-    return {cathode: LugSpot(cathode, (x, top), (0.0, -1.0), "cathode (-)"),
-            anode: LugSpot(anode, (x, top + height), (0.0, 1.0), "anode (+)")}
+    return {cathode: LugSpot(cathode, (x, top), None, "cathode (-)", (x + 8.0, top + 4.0),
+                             "start"),
+            anode: LugSpot(anode, (x, top + height), None, "anode (+)",
+                           (x + 8.0, top + height + 4.0), "start")}
 
 
 def _pad_spots(harness: Harness, box) -> dict[Lug, LugSpot]:
     left, top, width, _ = box
     pads = sorted(harness.pads, key=_pad_rank)
     step = width / len(pads)
-    return {Lug(BOARD, p): LugSpot(Lug(BOARD, p), (left + step * (i + 0.5), top), (0.0, -1.0), p)
-            for i, p in enumerate(pads)}
+    spots = {}
+    for i, pad in enumerate(pads):
+        x = left + step * (i + 0.5)
+        spots[Lug(BOARD, pad)] = LugSpot(Lug(BOARD, pad), (x, top), (0.0, -1.0), pad,
+                                         (x, top + 20.0), "middle")
+    return spots
 
 
 def _pad_rank(pad: str) -> int:
-    """Along the board's edge: the signal pads, ground, the supply, the LED's."""
+    """Along the board's edge: the signal pads, ground, the LED's, the supply (nearest the DC
+    jack)."""
     if pad in ("IN", "OUT"):
         return ("IN", "OUT").index(pad)
-    return 2 if pad.endswith(" OUT") else 3 if pad == "GND" else 4 if pad.startswith("+") else 5
+    return 2 if pad.endswith(" OUT") else 3 if pad == "GND" else 5 if pad.startswith("+") else 4
 
 
 _PLACERS = {"input-jack": _jack_spots, "output-jack": _jack_spots, "dc-jack": _dc_spots,

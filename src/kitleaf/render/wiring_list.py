@@ -38,3 +38,14 @@ def wiring_rows(harness: Harness) -> tuple[WiringRow, ...]:
     return tuple(WiringRow(n, lug_words(w.a, harness), lug_words(w.b, harness),
                            CARRIES[w.carries], w.note)
                  for n, w in enumerate(harness.wires, start=1))
+
+
+def wires_by_part(harness: Harness | None) -> dict[str, tuple[int, ...]]:
+    """The numbers of the wires soldered to each off-board piece (and the LED), by designator,
+    so its parts-list line can point at them."""
+    found: dict[str, list[int]] = {}
+    for number, wire in enumerate(harness.wires if harness else (), start=1):
+        for owner in dict.fromkeys((wire.a.owner, wire.b.owner)):
+            if owner != BOARD:
+                found.setdefault(owner, []).append(number)
+    return {owner: tuple(numbers) for owner, numbers in sorted(found.items())}

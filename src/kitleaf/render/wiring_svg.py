@@ -65,16 +65,16 @@ def _piece(box: PieceBox, harness: Harness, spots: dict) -> str:
 
 
 def _resistor(harness: Harness, pad: Point) -> str:
-    """The LED's resistor on the board, from its pad (the last on the edge) down to VCC."""
+    """The LED's resistor on the board, from its pad down to VCC."""
     x, top = pad[0] + 40.0, pad[1]
     resistor = harness.led_resistor
     return "\n".join([
         f'<path d="M {pad[0]:.1f} {top:.1f} V {top + 8:.1f} H {x:.1f} V {top + 18:.1f} '
-        f'M {x:.1f} {top + 46:.1f} V {top + 58:.1f}" stroke="#555555" fill="none"/>',
+        f'M {x:.1f} {top + 46:.1f} V {top + 54:.1f}" stroke="#555555" fill="none"/>',
         f'<rect x="{x - 5:.1f}" y="{top + 18:.1f}" width="10" height="28" fill="#ffffff" '
         'stroke="#555555"/>',
-        _text(f"{resistor.designator} {resistor.text}", (x - 9.0, top + 40.0), "end"),
-        _text("to VCC", (x, top + 72.0), "middle"),
+        _text(f"{resistor.designator} {resistor.text}", (x - 9.0, top + 36.0), "end"),
+        _text("to VCC", (x - 9.0, top + 52.0), "end"),
     ])
 
 
@@ -96,23 +96,12 @@ def _led(box: PieceBox) -> str:
     ])
 
 
-def _label_place(spot: LugSpot) -> tuple[Point, str]:
-    """Where a lug's name goes: inside its piece, away from the wire."""
-    x, y = spot.at
-    if spot.lug.owner == BOARD:
-        return (x, y + 20.0), "middle"
-    if spot.exit is None or spot.exit[1] != 0:  # a footswitch lug or an LED lead
-        return (x + 8.0, y + 15.0 if spot.exit is None else y - spot.exit[1] * 6.0 + 4.0), "start"
-    return (x - spot.exit[0] * 10.0, y + 4.0), "end" if spot.exit[0] > 0 else "start"
-
-
 def _lug(spot: LugSpot) -> str:
     x, y = spot.at
-    label_at, anchor = _label_place(spot)
     return "\n".join([
         f'<circle class="lug" data-lug={quoteattr(str(spot.lug))} cx="{x:.1f}" cy="{y:.1f}" '
         'r="4.5" fill="#ffffff" stroke="#333333" stroke-width="1.5"/>',
-        _text(spot.label, label_at, anchor),
+        _text(spot.label, spot.label_at, spot.anchor),
     ])
 
 
@@ -126,7 +115,7 @@ def _curve(wire: Wire, spots: dict) -> tuple[Point, Point, Point, Point]:
 def _ahead(spot: LugSpot, other: Point, reach: float) -> Point:
     """The point ``reach`` out of a lug the way its wire leaves (towards ``other`` if free)."""
     x, y = spot.at
-    if spot.exit is None:
+    if spot.exit is None or abs(other[1] - y) < 1.0:
         return (x + (other[0] - x) / 3, y + (other[1] - y) / 3)
     return (x + spot.exit[0] * reach, y + spot.exit[1] * reach)
 

@@ -14,6 +14,7 @@ from dataclasses import asdict, dataclass
 from typing import Any
 
 from kitleaf.circuit.parts import PART_QUANTITY
+from kitleaf.display import settings
 from kitleaf.values import format_db, format_value
 
 # Specs JSON keys the report follows: (key, label, display quantity, scale to SI).
@@ -151,8 +152,7 @@ def _values(specs: dict, prefix: str) -> dict[str, tuple[str, float | None]]:
 def _knob_values(specs: dict, prefix: str) -> dict[str, tuple[str, float | None]]:
     values = {}
     for point in specs.get("gain_db_1khz_by_knob", []):
-        knobs = ", ".join(f"{name} at {round(pos * 100)} %"
-                          for name, pos in sorted(point["knobs"].items()))
+        knobs = settings(sorted(point["knobs"].items()))
         values[f"{prefix}gain with {knobs}"] = ("db", _nominal(point["gain_db"], 1.0))
     return values
 

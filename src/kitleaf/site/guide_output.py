@@ -8,10 +8,11 @@ draws. Pages are cheap and always rendered; publishing writes them only if their
 from __future__ import annotations
 
 import functools
+from collections.abc import Mapping
 from pathlib import Path
 from urllib.parse import quote
 
-from kitleaf.bom import BUILD_ORDER, bom_lines, rating_warnings
+from kitleaf.bom import BUILD_ORDER, bom_lines, fitting_notes, rating_warnings
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.harness import build_harness
@@ -22,21 +23,23 @@ from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
-from kitleaf.render.placement import SECTIONS, arrange
+from kitleaf.render.placement import ABSENT_KEY, SECTIONS, arrange
 from kitleaf.render.plot import ResponsePlot, render_response_svg
-from kitleaf.render.plot_specs import kit_plot, stage_plot
+from kitleaf.render.plot_drive import render_drive_svg
+from kitleaf.render.plot_specs import drive_picture, kit_plot, stage_plot, wave_picture
 from kitleaf.render.prose import render_prose
-from kitleaf.render.schematic import render_overview_svg, render_stage_svg
+from kitleaf.render.schematic import plus_pins_of, render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
-from kitleaf.render.wiring_list import wiring_rows
+from kitleaf.render.wiring_list import wires_by_part, wiring_rows
 from kitleaf.render.wiring_svg import render_wiring_svg
 from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
 from kitleaf.site.output import GuideOutput
 from kitleaf.specs.claims import verify
-from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.derive import SolvedKit, derive_specs, solve_kit
 from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.polarity import Orientation
 
 
 def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None) -> GuideOutput:
@@ -44,28 +47,34 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     cache = cache or NoCache()
     guide = parse_guide(path)
     kit = build_circuit(guide)
-    specs = cached_specs(cache, guide, kit)
+    solved = solve_kit(guide, kit)  # the design rules read it even when the specs are cached
+    specs = cached_specs(cache, guide, kit, solved)
     slug = guide.slug
-    files, assets = stage_files(cache, kit, specs, slug)
+    checks = verify(guide, kit, specs, solved)  # a broken claim stops the guide here
+    files, assets = stage_files(cache, kit, specs, slug, checks.orientations)
     overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
                           lambda: render_overview_svg(kit, headline_by_stage(specs)))
     files[f"{slug}/overview.svg"] = overview
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
+    drive_files = drive_pictures(cache, specs, slug, files)
     harness = build_harness(guide, kit)
     if harness is not None:
         files[f"{slug}/wiring.svg"] = render_wiring_svg(
             harness, f"Off-board wiring of {guide.kit.title}").encode()
-    checks = verify(guide, kit, specs)  # a broken claim stops the guide here
     env = theme_environment(tuple(themes))
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
-        "pieces": arrange(render_prose(guide.text, prose_env(guide.path, checks.values))),
+        "drive_pictures": drive_files,
+        "pieces": arrange(render_prose(guide.text, page_env(guide.path, checks, harness))),
         "sections": SECTIONS,
         "checks": checks,
-        "bom": rating_warnings(bom_lines(kit.parts()), checks.stresses),
+        "bom": fitting_notes(rating_warnings(bom_lines(kit.parts()), checks.stresses),
+                             checks.orientations),
         "bom_headings": dict(BUILD_ORDER),
         "symptoms": cached_symptoms(cache, kit),
         "harness": harness, "wiring_rows": wiring_rows(harness) if harness else (),
+        "wired_by": wires_by_part(harness),
+        "previews": None,  # the rendered clips join once the kit's rendering path is in
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
@@ -76,14 +85,27 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
                        guide.kit.code_span or guide.kit.span)
 
 
-def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
+def page_env(path: str, checks, harness) -> dict:
+    """The prose env of the guide page: its computed values, and the sections it cannot show."""
+    env = prose_env(path, checks.values)
+    if harness is None:
+        env[ABSENT_KEY] = {"wiring": "add 'bypass: true' (or buffered, none) to the kit block "
+                                     "to draw the off-board wiring"}
+    return env
+
+
+def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,
+                orientations: Mapping[str, Orientation]):
     """Each stage's schematic and, for a signal stage, its response plot."""
     files: dict[str, bytes] = {}
     assets = {}
     for stage in kit.stages:
-        # A stage's drawing depends on its own parts and the supply label, nothing else.
+        # A stage's drawing depends on its own parts, the supply label and which way its
+        # polarised capacitors go, nothing else.
+        plus = plus_pins_of(stage, orientations)
         files[f"{slug}/{stage.id}-schematic.svg"] = cached_svg(
-            cache, "schematic", (stage, kit.supply_v), lambda s=stage: render_stage_svg(kit, s))
+            cache, "schematic", (stage, kit.supply_label, sorted(plus.items())),
+            lambda s=stage, p=plus: render_stage_svg(kit, s, p))
         entry = {"schematic": f"{stage.id}-schematic.svg", "plot": None}
         plot = stage_plot(specs, stage.id)
         if plot is not None:
@@ -91,6 +113,19 @@ def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str):
             entry["plot"] = f"{stage.id}-response.svg"
         assets[stage.id] = entry
     return files, assets
+
+
+def drive_pictures(cache: Cache, specs: KitSpecs, slug: str, files: dict) -> dict[str, str]:
+    """The large-signal pictures (none where the figures were not computed) into ``files``;
+    their names by picture."""
+    found = {}
+    for name, picture in (("drive-waves", wave_picture(specs)),
+                          ("drive-curve", drive_picture(specs))):
+        if picture is not None:
+            files[f"{slug}/{name}.svg"] = cached_svg(cache, "drive", picture,
+                                                     lambda p=picture: render_drive_svg(p))
+            found[name] = f"{name}.svg"
+    return found
 
 
 def cached_svg(cache: Cache, kind: str, inputs: object, draw) -> bytes:
@@ -120,7 +155,8 @@ def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
     return symptoms
 
 
-def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
+def cached_specs(cache: Cache, guide, kit: KitCircuit,
+                 solved: SolvedKit | None = None) -> KitSpecs:
     """The solved specs, re-solved only when a block of the guide or the kit's circuit changed.
 
     Prose is not part of the key, nor are line numbers; specs that carry a location are stored
@@ -132,7 +168,7 @@ def cached_specs(cache: Cache, guide, kit: KitCircuit) -> KitSpecs:
         found = cache.load("specs", key)
         if isinstance(found, KitSpecs):
             return found
-    specs = derive_specs(guide, kit)
+    specs = derive_specs(guide, kit, solved)
     cache.store("specs", located if contains_span(specs) else plain, specs)
     return specs
 

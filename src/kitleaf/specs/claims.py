@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
@@ -24,6 +24,7 @@ from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
+from kitleaf.specs.polarity import Orientation
 from kitleaf.specs.ratings import Stress
 from kitleaf.specs.rules import Finding, RuleContext, check_rules
 from kitleaf.values import parse_value
@@ -31,6 +32,7 @@ from kitleaf.values import parse_value
 _CLAIM = re.compile(r"^(?P<name>[A-Za-z0-9][A-Za-z0-9._-]*)\s+(?:(?P<op>below|above)\s+"
                     r"(?P<limit>.+)|between\s+(?P<low>.+?)\s+and\s+(?P<high>.+))$")
 _DB = re.compile(r"^([-+−]?\d+(?:\.\d*)?)\s*dB$")
+_PERCENT = re.compile(r"^(\d+(?:\.\d*)?|\.\d+)\s*%$")
 
 
 @dataclass(frozen=True)
@@ -98,6 +100,12 @@ def _reader(quantity: str, entry: Entry):
                 raise SpecError(f"claim {entry.value!r}: cannot read {text!r}; a gain is "
                                 "written in decibels, like '24 dB' or '-3 dB'", entry.span)
             return float(match[1].replace("−", "-"))
+        if quantity == "thd":
+            match = _PERCENT.match(text)
+            if match is None:
+                raise SpecError(f"claim {entry.value!r}: cannot read {text!r}; distortion is "
+                                "written as a percentage, like '1 %' or '0.5%'", entry.span)
+            return float(match[1]) / 100.0
         try:
             return parse_value(text, quantity)
         except KitleafError as exc:
@@ -162,6 +170,8 @@ class Checks:
     findings: tuple[Finding, ...]
     # Each rated part's worst DC stress, for the BOM's rating warnings (specs/ratings.py).
     stresses: Mapping[str, Stress]
+    # Which way each polarised capacitor goes, for the drawing and the BOM (specs/polarity.py).
+    orientations: Mapping[str, Orientation] = field(default_factory=dict)
 
     def claims_for(self, scope: str) -> tuple[Verified, ...]:
         return tuple(c for c in self.claims if c.scope == scope)
@@ -175,10 +185,12 @@ class Checks:
         return tuple(f for f in self.findings if not f.allowed)
 
 
-def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs) -> Checks:
-    """Claims checked (a broken one raises SpecError) and every design rule run."""
+def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs, solved=None) -> Checks:
+    """Claims checked (a broken one raises SpecError) and every design rule run; the rules
+    read ``solved`` (the kit's :func:`~kitleaf.specs.derive.solve_kit`, shared with the
+    specs) or solve the states they need themselves."""
     values = computed_values(specs, kit)
     claims = check_claims(guide, kit, values)
-    ctx = RuleContext(guide, kit, specs)
+    ctx = RuleContext(guide, kit, specs, solved)
     return Checks(MappingProxyType(values), claims, check_rules(ctx),
-                  MappingProxyType(ctx.stresses))
+                  MappingProxyType(ctx.stresses), MappingProxyType(ctx.orientations))

@@ -1,4 +1,5 @@
-"""derive_specs: the kit solved at every knob position, measured into :class:`KitSpecs`.
+"""derive_specs: the kit solved at every knob and switch position, measured into
+:class:`KitSpecs`.
 
 Every figure comes with its 5th-95th percentile spread over seeded tolerance samples, solved
 as one batch per kit state (knob positions and supply), never as a loop of single solves.
@@ -7,18 +8,26 @@ as one batch per kit state (knob positions and supply), never as a loop of singl
 from __future__ import annotations
 
 import warnings
+from contextlib import contextmanager
+from dataclasses import replace
 
 from kitleaf.circuit.chain import INPUT, OUTPUT, KitCircuit, input_meter, supply_meter
 from kitleaf.circuit.kind import Stage
+from kitleaf.display import setting
+from kitleaf.engine.elements import OpAmp
 from kitleaf.errors import KitleafError, SolveError
+from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
+from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
+from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
 from kitleaf.specs.model import (
     SAMPLES,
     SEED,
+    Drive,
     Headroom,
     KitSpecs,
     KnobPoint,
@@ -28,34 +37,38 @@ from kitleaf.specs.model import (
 )
 from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
+from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
-from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
+from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.trim import trims
 
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
 FRESH_BATTERY_V = 9.6
 
 
 class SolvedKit:
-    """The kit's solved states: nominal knobs, each knob's sweep, and the battery supply."""
+    """The kit's solved states: nominal settings, each knob's and switch's sweep, and the
+    battery supply."""
 
     def __init__(self, kit: KitCircuit) -> None:
         self.kit = kit
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
         check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
-        self.sweeps = {k.designator: tuple(self._state(k.designator, p) for p in KNOB_STEPS)
-                       for k in kit.knobs}
+        self.sweeps = {c.designator: tuple(self._state(c.designator, p) for p, _ in c.steps)
+                       for c in kit.controls}
         self._check_sweeps()
         self.supplies = supplies(kit.supply_v)
         self.by_supply = (self.base, *(KitState(kit, self.nominal, s.volts, self.base)
                                        for s in self.supplies[1:]))
 
     def _check_sweeps(self) -> None:
-        """No knob setting shorts the supply (a pot's end leg is about 1 ohm)."""
-        for knob in self.kit.knobs:
-            for position, state in zip(KNOB_STEPS, self.sweeps[knob.designator], strict=True):
+        """No knob or switch setting shorts the supply (a pot's end leg is about 1 ohm)."""
+        for control in self.kit.controls:
+            for (_, shown), state in zip(control.steps, self.sweeps[control.designator],
+                                         strict=True):
                 check_supply(self.kit, state.nominal.batch.system,
-                             f" with {knob.name} at {position * 100:.0f} %")
+                             f" with {setting(control.name, shown)}")
 
     def _state(self, designator: str, position: float) -> KitState:
         if position == self.nominal[designator]:
@@ -70,17 +83,31 @@ def supplies(rated_v: float) -> tuple[Supply, ...]:
     return (Supply("adapter", rated_v),)
 
 
-def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    """Every spec of the kit and its stages, computed from the parts.
+def derive_specs(guide: Guide, kit: KitCircuit, solved: SolvedKit | None = None) -> KitSpecs:
+    """Every spec of the kit and its stages, computed from the parts; ``solved``, the kit's
+    :func:`solve_kit`, when the caller shares it with the design rules (see verify).
 
     An engine error (a solve that did not converge, say) is placed at the guide line of the
     part or stage it names, so the maker sees where to look, or else at the kit block. A numeric
     warning (an overflow, a NaN) stops the solve too: figures past it would be silently wrong.
     """
+    with _located(guide, kit):
+        return _derive(guide, kit, solved or SolvedKit(kit))
+
+
+def solve_kit(guide: Guide, kit: KitCircuit) -> SolvedKit:
+    """The kit's solved states (knobs at half way, each knob's sweep, the supplies), solved
+    once for the specs and the design rules alike; errors placed as derive_specs places them."""
+    with _located(guide, kit):
+        return SolvedKit(kit)
+
+
+@contextmanager
+def _located(guide: Guide, kit: KitCircuit):
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("error", RuntimeWarning)
-            return _derive(guide, kit)
+            yield
     except RuntimeWarning as warning:
         raise SolveError(f"the numbers ran out of range while solving ({warning}); look for a "
                          "part value or device far from the usual", guide.kit.span) from None
@@ -88,18 +115,23 @@ def derive_specs(guide: Guide, kit: KitCircuit) -> KitSpecs:
         raise kit.locate(exc).located(guide.kit.span) from None
 
 
-def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
-    solved = SolvedKit(kit)
+def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
-    stages = tuple(stage_specs(solved, s) for s in kit.stages)
+    # the large-signal sweep costs seconds: only for a kit that asks for it
+    driven = Driven(solved) if wants_large_signal(guide.kit) else None
+    stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
+                   if driven and kit.kind(s).signal else stage_specs(solved, s)
+                   for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
+    ripple = stated_ripple(guide)
+    hum = None if ripple is None else m.hum(OUTPUT, *ripple)
     return KitSpecs(
         title=guide.kit.title, code=guide.kit.code, revision=guide.kit.revision,
         supply_v=kit.supply_v, stages=stages,
-        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.knobs,
+        knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.controls,
                               impedances(kit, first, kit.stage_nodes(first)[0],
-                                         last, kit.stage_nodes(last)[1])),
+                                         last, kit.stage_nodes(last)[1]), hum=hum),
         knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
@@ -108,16 +140,69 @@ def _derive(guide: Guide, kit: KitCircuit) -> KitSpecs:
         output_impedance=stage(stages, last).output_impedance,
         supply_current=base.range(m.supply_current(None)),
         freqs=tuple(float(f) for f in FREQS),
-        curves=curves(solved, INPUT, OUTPUT, kit.knobs),
+        curves=curves(solved, INPUT, OUTPUT, kit.controls),
         notes=notes(stages, kit),
         band_gain_db=base.range(m.band_gain_db(INPUT, OUTPUT)),
         headroom=kit_headroom(solved),
         band_low=band(base, INPUT, OUTPUT, 5.0), band_high=band(base, INPUT, OUTPUT, 95.0),
         supplies=solved.supplies,
         knobs=tuple((k.name, k.designator) for k in kit.knobs),
+        switches=tuple((s.name, s.designator, s.positions, s.positions[s.rest])
+                       for s in kit.switches),
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
+        drive=driven.kit() if driven else None,
+        trims=trims(kit),
+        ripple=ripple, hum=None if hum is None else base.range(hum),
+        clips=any(s.clips for s in stages),
     )
+
+
+class Driven:
+    """The kit's large-signal sweep: every knob setting the specs show, solved at once."""
+
+    def __init__(self, solved: SolvedKit) -> None:
+        self.solved = solved
+        self.states = [solved.base]
+        for knob in solved.kit.knobs:
+            sweep = solved.sweeps[knob.designator]
+            self.states += [s for s in sweep if all(s is not t for t in self.states)]
+        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+
+    def _settings(self, knobs) -> list[tuple[int, tuple]]:
+        found = [(0, ())]
+        for k in knobs:
+            for (_, pos), state in zip(k.steps, self.solved.sweeps[k.designator], strict=True):
+                index = next(i for i, s in enumerate(self.states) if s is state)
+                found.append((index, ((k.name, pos),)))
+        return found
+
+    def _devices(self, stages) -> tuple:
+        names = [p.designator for s in stages for p in s.all_parts()]
+        by_name = {e.name: e for e in self.solved.base.circuit.elements if type(e) in LIMITS}
+        return tuple(by_name[n] for n in names if n in by_name)
+
+    def stage(self, stage: Stage) -> Drive:
+        kit = self.solved.kit
+        knobs = [k for k in kit.knobs if k.stage_id == stage.id]
+        return stage_drive(self.result, self.why, self._settings(knobs),
+                           kit.stage_nodes(stage.id)[1], self._devices([stage]),
+                           self.solved.base.circuit)
+
+    def kit(self) -> Drive:
+        kit = self.solved.kit
+        settings = self._settings(kit.knobs)
+        devices = self._devices(reversed(kit.signal_stages))
+        drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
+                            self.solved.base.circuit)
+        opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps))
+
+
+def stated_ripple(guide: Guide) -> tuple[float, float] | None:
+    """The adapter's ripple the kit block states (volts peak to peak, hertz), if it does."""
+    entry = next((e for e in guide.kit.extra if e.key == "adapter-ripple"), None)
+    return None if entry is None else adapter_ripple(entry)
 
 
 def stage(stages: tuple[StageSpecs, ...], stage_id: str) -> StageSpecs:
@@ -136,11 +221,12 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         return StageSpecs(stage.id, stage.kind, stage.title, False, voltages, (), None, None,
                           None, None, None, base.range(current))
     node_in, node_out = kit.stage_nodes(stage.id)
-    knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
+    knobs = tuple(k for k in kit.controls if k.stage_id == stage.id)
     z = impedances(kit, stage.id, node_in, stage.id, node_out)
+    scoops = kit.kind(stage).shapes_response
     return StageSpecs(
         stage.id, stage.kind, stage.title, True, voltages,
-        knob_sweep(solved, node_in, node_out, knobs, z),
+        knob_sweep(solved, node_in, node_out, knobs, z, scoops),
         base.range(m.gain_db(node_in, node_out)),
         base.range(m.corner(node_in, node_out, 0)), base.range(m.corner(node_in, node_out, 1)),
         base.range(z[0]), base.range(z[1]),
@@ -150,6 +236,8 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         headroom=stage_headroom(solved, (stage,), node_out),
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
+        scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
+        clips=kit.kind(stage).clips,
     )
 
 
@@ -168,13 +256,21 @@ def impedances(kit: KitCircuit, first: str, node_in: str, last: str,
     return m.input_impedance(first, node_in), output_measure(kit, last, node_out)
 
 
-def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, knobs,
-               z: tuple[m.Measure, m.Measure]) -> tuple[KnobPoint, ...]:
-    """Gain and impedances at 1 kHz at each step of each knob, the other knobs at half way."""
-    return tuple(KnobPoint(((k.name, pos),), state.range(m.gain_db(node_in, node_out)),
-                           state.range(z[0]), state.range(z[1]))
-                 for k in knobs
-                 for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
+def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
+               z: tuple[m.Measure, m.Measure], scoops: bool = False,
+               hum: m.Measure | None = None) -> tuple[KnobPoint, ...]:
+    """Gain and impedances at 1 kHz at each step of each knob and switch in ``controls``,
+    the others at their nominal settings (and the deepest dip, nominal parts, where
+    ``scoops`` asks for it; the hum at the output where the kit states its adapter's
+    ripple)."""
+    return tuple(KnobPoint(((c.name, shown),), state.range(m.gain_db(node_in, node_out)),
+                           state.range(z[0]), state.range(z[1]),
+                           scoop=scoop(state, node_in, node_out, spread=False) if scoops
+                           else None,
+                           hum=None if hum is None else state.range(hum))
+                 for c in controls
+                 for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
+                                              strict=True))
 
 
 def stage_voltages(solved: SolvedKit, stage: Stage) -> tuple[Voltage, ...]:
@@ -209,10 +305,12 @@ def kit_headroom(solved: SolvedKit) -> Headroom | None:
 
 
 def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
-    """Findings a builder should hear about, each a ``path:line: warning:`` line at its stage's
-    block: a device with no room to swing at its bias."""
+    """Findings a builder should hear about, each a ``path:line: warning:`` line: what reading
+    the guide's device models raised, then a device with no room to swing at its bias (at its
+    stage's block)."""
     spans = {s.id: s.span for s in kit.stages}
-    return tuple(f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room "
-                 "to swing at this bias"
-                 for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
+    return kit.warnings + tuple(
+        f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room to swing "
+        "at this bias"
+        for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)
 

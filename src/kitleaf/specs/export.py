@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+from kitleaf.display import dbv
 from kitleaf.specs.model import (
     SAMPLES,
     Curve,
+    Drive,
+    DriveSetting,
     Headroom,
     KitSpecs,
     KnobPoint,
     Range,
+    Scoop,
     StageSpecs,
     Voltage,
 )
@@ -32,12 +36,54 @@ def _range(r: Range | None, scale: float = 1.0) -> dict | None:
 def _sweep(points: tuple[KnobPoint, ...]) -> list[dict]:
     return [{"knobs": {name: pos for name, pos in p.positions}, "gain_db": _range(p.gain_db),
              "input_impedance_ohm_1khz": _range(p.input_impedance),
-             "output_impedance_ohm_1khz": _range(p.output_impedance)}
+             "output_impedance_ohm_1khz": _range(p.output_impedance),
+             "scoop": _scoop(p.scoop),
+             "hum_mv_rms": _range(p.hum, 1e3), "hum_dbv": _dbv(p.hum)}
             for p in points]
+
+
+def _swing(swing: tuple[float, str] | None) -> dict | None:
+    return None if swing is None else {"volts": _num(swing[0]), "limit": swing[1]}
+
+
+def _setting(s: DriveSetting) -> dict:
+    return {"knobs": {name: pos for name, pos in s.positions}, "computed": not s.error,
+            "reason": s.error or None,
+            "clean_limit_v_peak": _num(s.clean_limit), "driven_limit_v_peak": _num(s.driven_limit),
+            "thd_percent": [_num(x * 100, 4) for x in s.thd],
+            "output_peak_v": [_num(x, 4) for x in s.peak],
+            "at_levels": [{"level_v_peak": _num(p.level), "thd_percent": _num(p.thd * 100, 4),
+                           "output_peak_v": _num(p.peak, 4),
+                           "harmonics_v_peak": [_num(a, 4) for a in p.harmonics]}
+                          for p in s.points],
+            "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down)}
+
+
+def _dbv(r: Range | None) -> dict | None:
+    """RMS volts as dB relative to 1 V RMS (the higher the hum, the higher the figure)."""
+    if r is None:
+        return None
+    levels = (None if x is None else max(dbv(x), -300.0) for x in (r.nominal, r.low, r.high))
+    return _range(Range(*levels))
+
+
+def _ripple(ripple: tuple[float, float] | None) -> dict | None:
+    return None if ripple is None else {"mv_pp": _num(ripple[0] * 1e3), "hz": _num(ripple[1])}
 
 
 def _headroom(h: Headroom | None) -> dict | None:
     return None if h is None else {**_range(h.volts), "limit": h.limit}
+
+
+def _drive(d: Drive | None) -> dict | None:
+    if d is None:
+        return None
+    return {"freq_hz": _num(d.freq), "levels_v_peak": [_num(x) for x in d.levels],
+            "settings": [_setting(s) for s in d.settings]}
+
+
+def _scoop(s: Scoop | None) -> dict | None:
+    return None if s is None else {"depth_db": _range(s.depth_db), "freq_hz": _range(s.hz)}
 
 
 def _voltage(v: Voltage, specs: KitSpecs) -> dict:
@@ -68,6 +114,8 @@ def _stage(s: StageSpecs, specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _range(s.output_impedance),
         "supply_current_ma": _range(s.supply_current, 1e3),
         "headroom_v_peak": _headroom(s.headroom),
+        "drive": _drive(s.drive),
+        "scoop": _scoop(s.scoop),
         "response": _response(specs.freqs, s.curves, s.band_low, s.band_high)
         if s.signal else None,
     }
@@ -79,7 +127,9 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "schema": SCHEMA,
         "kit": {"title": specs.title, "code": specs.code, "revision": specs.revision,
                 "supply_v": _num(specs.supply_v),
-                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs]},
+                "knobs": [{"name": n, "pot": d} for n, d in specs.knobs],
+                "switches": [{"name": n, "switch": d, "positions": list(p), "rest": r}
+                             for n, d, p, r in specs.switches]},
         "tolerance": {"samples": specs.samples or SAMPLES, "seed": specs.seed,
                       "distribution": "uniform", "percentiles": [5, 95]},
         "supplies": [{"name": s.name, "volts": _num(s.volts)} for s in specs.supplies],
@@ -94,6 +144,14 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _range(specs.output_impedance),
         "supply_current_ma": _range(specs.supply_current, 1e3),
         "headroom_v_peak": _headroom(specs.headroom),
+        "drive": _drive(specs.drive),
+        "adapter_ripple": _ripple(specs.ripple),
+        "hum_mv_rms": _range(specs.hum, 1e3),
+        "hum_dbv": _dbv(specs.hum),
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
+        "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,
+                   "point_number": t.number, "volts": _num(t.volts),
+                   "position": _range(t.position), "out_of_reach": _num(t.out_of_reach)}
+                  for t in specs.trims],
     }

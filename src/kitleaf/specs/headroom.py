@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from kitleaf.circuit.rails import DOUBLED_NODE, NEGATIVE_NODE
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices.bjt import SATURATION_VCE
 from kitleaf.specs.sampled import Batch
@@ -79,7 +80,7 @@ MARGINS = {el.Bjt: _bjt, el.Jfet: _jfet, el.OpAmp: _opamp}
 
 def margins(batch: Batch, devices: tuple, vcc: str) -> list[Margin]:
     """Every margin of ``devices`` (engine elements), for a stage fed from node ``vcc``."""
-    rails = {GROUND, vcc, "vcc", "supply", "vref"}
+    rails = {GROUND, vcc, "vcc", "supply", "vref", DOUBLED_NODE, NEGATIVE_NODE}
     found: list[Margin] = []
     for device in devices:
         found.extend(MARGINS[type(device)](batch, device, vcc, rails))

@@ -77,7 +77,9 @@ def alone(kit: KitCircuit, stage: Stage) -> KitCircuit:
     """The kit cut down to its power stages and ``stage``, between a low-Z source and 1 MΩ."""
     power = tuple(s for s in kit.stages if not kit.kind(s).signal)
     knobs = tuple(k for k in kit.knobs if k.stage_id == stage.id)
-    return replace(kit, stages=(*power, stage), knobs=knobs, source=LOW_Z, load=DEFAULT_LOAD)
+    switches = tuple(k for k in kit.switches if k.stage_id == stage.id)
+    return replace(kit, stages=(*power, stage), knobs=knobs, switches=switches, source=LOW_Z,
+                   load=DEFAULT_LOAD)
 
 
 def stage_loading(kit: KitCircuit, stage: Stage, base: KitState) -> Comparison:

@@ -1,7 +1,8 @@
 """Names for every computed value of a kit, so prose and claims can refer to them.
 
 A name is dotted and lower-case: ``kit.gain``, ``boost.low-corner``, ``boost.gain.level-100``
-(the gain with the Level knob fully clockwise), ``boost.q1.collector`` (a test point),
+(the gain with the Level knob fully clockwise), ``drive.gain.clip-leds`` (with the Clip
+switch set to its position "LEDs"), ``boost.q1.collector`` (a test point),
 ``power.vref``, ``r3`` (a part's value). docs/claims-and-rules.md lists them all.
 """
 
@@ -12,10 +13,13 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import point_name
 from kitleaf.circuit.parts import PART_QUANTITY
+from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
 from kitleaf.guide.slug import slug_for as slug
-from kitleaf.specs.model import KitSpecs, KnobPoint, Range, StageSpecs
+from kitleaf.specs.model import DriveSetting, KitSpecs, KnobPoint, Range, Scoop, StageSpecs
+from kitleaf.values import format_value
 
 KIT = "kit"
 # Spec field -> (name, quantity, what it is); the same for the kit and each stage.
@@ -26,11 +30,12 @@ FIELDS = (
     ("input_impedance", "input-impedance", "resistance", "input impedance at 1 kHz"),
     ("output_impedance", "output-impedance", "resistance", "output impedance at 1 kHz"),
     ("supply_current", "current", "current", "current draw"),
+    ("hum", "hum", "voltage", "hum at the output from the adapter's ripple (RMS)"),
 )
 
 # KnobPoint field -> the same, for the figures given at every knob position.
 KNOB_FIELDS = tuple(f for f in FIELDS if f[0] in ("gain_db", "input_impedance",
-                                                    "output_impedance"))
+                                                    "output_impedance", "hum"))
 
 
 @dataclass(frozen=True)
@@ -78,6 +83,7 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
         if value is not None:
             full = f"{prefix}.{name}"
             found[full] = Computed(full, value, quantity, f"{label}, {title}")
+    _add_scoop(found, prefix, "", getattr(specs, "scoop", None), title)
     for point in specs.knob_sweep:
         for field, name, quantity, label in KNOB_FIELDS:
             value = getattr(point, field)
@@ -85,22 +91,68 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
                 full = f"{prefix}.{name}.{_knob_suffix(point)}"
                 found[full] = Computed(full, value, quantity,
                                        f"{label}, {title}, {_knob_words(point)}")
+        _add_scoop(found, prefix, f".{_knob_suffix(point)}", point.scoop,
+                   f"{title}, {_knob_words(point)}")
+    if specs.drive is not None:
+        for setting in specs.drive.settings:
+            _add_drive(found, prefix, setting, title)
+
+
+# Large-signal figure -> (name, quantity, what it is); "thd.300mv" and "peak.300mv" per
+# playing level besides.
+DRIVE_FIELDS = (
+    ("clean_limit", "clean-limit", "voltage", "pickup peak where THD reaches 1 %"),
+    ("driven_limit", "drive-limit", "voltage", "pickup peak where THD reaches 10 %"),
+)
+
+
+def level_name(level: float) -> str:
+    """A playing level in a name: 0.3 -> "300mv", 1.0 -> "1v"."""
+    return f"{level:g}v" if level >= 1.0 else f"{round(level * 1000)}mv"
+
+
+def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> None:
+    """A setting's figures (none when not computed), named with its knob positions."""
+    point = KnobPoint(setting.positions, Range(0.0))
+    suffix = f".{_knob_suffix(point)}" if setting.positions else ""
+    where = f"{title}, {_knob_words(point)}" if setting.positions else f"{title}, knobs at half way"
+
+    def add(name: str, value: float | None, quantity: str, label: str) -> None:
+        if value is not None:
+            full = f"{prefix}.{name}{suffix}"
+            found[full] = Computed(full, Range(value), quantity, f"{label}, {where}")
+
+    for field, name, quantity, label in DRIVE_FIELDS:
+        add(name, getattr(setting, field), quantity, label)
+    for p in setting.points:
+        level, words = level_name(p.level), format_value(p.level, "voltage")
+        add(f"thd.{level}", p.thd, "thd", f"THD at {words} pickup peak")
+        add(f"peak.{level}", p.peak, "voltage", f"output peak at {words} pickup peak")
+    for name, swing, side in (("swing-up", setting.swing_up, "above"),
+                              ("swing-down", setting.swing_down, "below")):
+        add(name, None if swing is None else swing[0], "voltage",
+            f"output swing limit {side} its mean")
+
+
+def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title: str) -> None:
+    """A passive tone control's mid scoop: its depth and where it lies (see specs/scoop.py)."""
+    if scoop is None:
+        return
+    for name, value, quantity, label in (("scoop-depth", scoop.depth_db, "db", "mid scoop depth"),
+                                         ("scoop-frequency", scoop.hz, "frequency",
+                                          "mid scoop frequency")):
+        full = f"{prefix}.{name}{suffix}"
+        found[full] = Computed(full, value, quantity, f"{label}, {title}")
 
 
 def _knob_suffix(point: KnobPoint) -> str:
-    return ".".join(f"{slug(name)}-{round(pos * 100)}" for name, pos in point.positions)
+    """``level-100`` for a knob at 100 %, ``clip-leds`` for a switch set to "LEDs"."""
+    return ".".join(f"{slug(name)}-{slug(pos) if isinstance(pos, str) else round(pos * 100)}"
+                    for name, pos in point.positions)
 
 
 def _knob_words(point: KnobPoint) -> str:
-    return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in point.positions)
-
-
-def point_name(device: str, pin: str, node: str) -> str:
-    """``DEVICE.PIN`` for a device's pin, else the stage's own name for the node."""
-    if not device:
-        return slug(node)
-    pin = f"pin{pin}" if pin.isdigit() else slug(pin)
-    return f"{device.lower()}.{pin}"
+    return settings(point.positions)
 
 
 def candidates(name: str, scope: str | None) -> tuple[str, ...]:

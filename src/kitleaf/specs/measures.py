@@ -12,11 +12,12 @@ import numpy as np
 
 from kitleaf.circuit.chain import input_meter
 from kitleaf.specs.headroom import Margin, headroom
-from kitleaf.specs.response import REFERENCE_HZ, band_peak, corners, to_db
+from kitleaf.specs.response import REFERENCE_HZ, band_peak, corners, deepest_dip, to_db
 from kitleaf.specs.solve import View
 
 Measure = Callable[[View], np.ndarray]
 LOAD = "RLOAD"  # the chain's load resistor on the kit output
+SUPPLY = "VSUPPLY"  # the supply: the battery or adapter
 
 
 def gain_db(node_in: str, node_out: str) -> Measure:
@@ -34,6 +35,15 @@ def corner(node_in: str, node_out: str, side: int) -> Measure:
     def measure(v: View) -> np.ndarray:
         return v.once(("corners", node_in, node_out),
                       lambda: corners(v.sweep, node_in, node_out))[side]
+    return measure
+
+
+def scoop(node_in: str, node_out: str, side: int) -> Measure:
+    """The deepest dip of the response over the plotted band: its depth in dB (side 0) or its
+    frequency (side 1)."""
+    def measure(v: View) -> np.ndarray:
+        return v.once(("scoop", node_in, node_out),
+                      lambda: deepest_dip(v.sweep.ratio(node_in, node_out)))[side]
     return measure
 
 
@@ -68,6 +78,20 @@ def supply_current(branch: str | None, minus: tuple[str, ...] = ()) -> Measure:
         b = v.batch
         total = -b.current("VSUPPLY") if branch is None else b.current(branch)
         return total - sum((b.current(m) for m in minus), np.zeros(b.size))
+    return measure
+
+
+def hum(node: str, volts_pp: float, hz: float) -> Measure:
+    """RMS volts at ``node`` from the supply's ripple, taken as a sine of ``volts_pp`` peak to
+    peak at ``hz`` (its fundamental: an adapter's ripple is rather a sawtooth, whose
+    fundamental is smaller than the sine's, so this errs on the side of more hum)."""
+    freqs = np.array([hz])
+
+    def measure(v: View) -> np.ndarray:
+        x = v.once(("hum", hz), lambda: v.batch.solve(freqs, v.batch.excitation(SUPPLY))[:, 0])
+        row = v.batch.row(node)
+        per_volt = np.zeros(v.batch.size) if row is None else np.abs(x[:, row])
+        return per_volt * volts_pp / (2.0 * np.sqrt(2.0))
     return measure
 
 

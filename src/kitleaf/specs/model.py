@@ -30,14 +30,26 @@ class Range:
 
 
 @dataclass(frozen=True)
-class KnobPoint:
-    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation), and the
-    impedances there (None where not measured: the knob ends, the power section)."""
+class Scoop:
+    """The deepest dip of a tone stage's response, 10 Hz to 40 kHz: how far it falls below the
+    lower of the highest gains on either side of it, and where."""
 
-    positions: tuple[tuple[str, float], ...]
+    depth_db: Range
+    hz: Range
+
+
+@dataclass(frozen=True)
+class KnobPoint:
+    """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation) or its
+    switches at given positions (by name), and the impedances there (None where not
+    measured: the knob ends, the power section)."""
+
+    positions: tuple[tuple[str, float | str], ...]
     gain_db: Range
     input_impedance: Range | None = None
     output_impedance: Range | None = None
+    scoop: Scoop | None = None  # nominal parts; for passive tone controls only
+    hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
 
 
 @dataclass(frozen=True)
@@ -66,12 +78,31 @@ class Voltage:
 
 @dataclass(frozen=True)
 class Curve:
-    """Gain in dB over ``KitSpecs.freqs`` with one knob at one position (others at half way);
-    ``knob`` is empty for the single curve of a stage no knob acts on."""
+    """Gain in dB over ``KitSpecs.freqs`` with one knob or switch at one position (a
+    fraction of rotation, or a switch position's name), the others at their nominal
+    settings; ``knob`` is empty for the single curve of a stage no control acts on."""
 
     knob: str
-    position: float | None
+    position: float | str | None
     gain_db: tuple[float, ...]
+    at_rest: bool = False  # the position the control rests at (a knob's half way)
+
+
+@dataclass(frozen=True)
+class Trim:
+    """A trimmer's set-up: the test point (its label, its number in its stage's voltage table)
+    the builder watches, the voltage to turn it to, and the position (0..1 of its travel,
+    clockwise) that reaches it, nominal and over the tolerance builds (each build needs its
+    own); ``out_of_reach`` is the share of builds whose trimmer cannot get there."""
+
+    designator: str
+    stage_id: str
+    stage_title: str
+    label: str
+    number: int
+    volts: float
+    position: Range
+    out_of_reach: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -80,6 +111,58 @@ class Headroom:
 
     volts: Range
     limit: str
+
+
+@dataclass(frozen=True)
+class DrivePoint:
+    """The output at one pickup peak level: THD (a fraction, never capped), the output's
+    peak (volts, the larger side) and harmonics 1..5 (volts peak)."""
+
+    level: float
+    thd: float
+    peak: float
+    harmonics: tuple[float, ...]
+    # the output over one period from the sine's zero crossing going up (not in the JSON)
+    wave: tuple[float, ...] = field(default=(), repr=False)
+
+
+@dataclass(frozen=True)
+class DriveSetting:
+    """Large-signal figures at one knob setting (``positions`` empty: every knob at half).
+
+    ``clean_limit`` and ``driven_limit`` are the pickup peak levels where THD first reaches
+    1 % and 10 % going up (None: not within the sweep); ``thd`` and ``peak`` follow
+    ``Drive.levels``; ``swing_up`` and ``swing_down`` are (volts, the part that sets them)
+    above and below the output's mean at the top level, None while the output is still
+    clean there. ``error`` says why the figures were not computed (then all are empty)."""
+
+    positions: tuple[tuple[str, float], ...]
+    clean_limit: float | None = None
+    driven_limit: float | None = None
+    points: tuple[DrivePoint, ...] = ()
+    thd: tuple[float, ...] = ()
+    peak: tuple[float, ...] = ()
+    swing_up: tuple[float, str] | None = None
+    swing_down: tuple[float, str] | None = None
+    error: str = ""
+
+
+@dataclass(frozen=True)
+class Drive:
+    """A stage's (or the kit's) output under a 1 kHz sine from the pickup, per knob setting."""
+
+    levels: tuple[float, ...]
+    settings: tuple[DriveSetting, ...]
+    freq: float = 1000.0
+    # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
+    rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
+    # THD's 5th and 95th percentiles at each level over part-tolerance samples, knobs at
+    # half way (empty when not run)
+    band: tuple = ()
+
+    @property
+    def base(self) -> DriveSetting:
+        return self.settings[0]
 
 
 @dataclass(frozen=True)
@@ -107,6 +190,13 @@ class StageSpecs:
     band_high: tuple[float, ...] = ()
     # The stage alone (low-Z source, 1 MΩ load) against in its place: see specs/loading.py.
     loading: Comparison | None = None
+    drive: Drive | None = None
+    # The deepest dip, knobs at half way, for a passive tone control (None: not one, or its
+    # response does not dip by MIN_SCOOP_DB); each knob step's is on its knob_sweep point.
+    scoop: Scoop | None = None
+    hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
+    # The stage clips by design: its gain figures hold for small signals only.
+    clips: bool = False
 
 
 @dataclass(frozen=True)
@@ -136,11 +226,21 @@ class KitSpecs:
     band_high: tuple[float, ...] = ()
     supplies: tuple[Supply, ...] = ()
     knobs: tuple[tuple[str, str], ...] = ()  # (knob name, pot designator), as the kit block says
+    # (switch name, designator, position names, the one it rests at), as the kit block says
+    switches: tuple[tuple[str, str, tuple[str, ...], str], ...] = ()
+    clips: bool = False  # a stage clips by design: the gain figures hold for small signals
     samples: int = 0
     seed: int = 0
+    drive: Drive | None = None
     # The gain (nominal parts) with the knobs together at the ends of their travel:
     # specs/knob_ends.py says which combinations.
     knob_ends: tuple[KnobPoint, ...] = ()
+    # Each trimmer's set-up instruction, in the guide's order (specs/trim.py).
+    trims: tuple[Trim, ...] = ()
+    # The adapter's ripple as the kit block states it (volts peak to peak, hertz), and the
+    # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
+    ripple: tuple[float, float] | None = None
+    hum: Range | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

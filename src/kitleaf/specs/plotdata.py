@@ -1,4 +1,5 @@
-"""The data a response plot draws: nominal curves per knob position and the tolerance band."""
+"""The data a response plot draws: nominal curves per knob or switch position and the
+tolerance band."""
 
 from __future__ import annotations
 
@@ -6,16 +7,18 @@ import numpy as np
 
 from kitleaf.specs.model import Curve
 from kitleaf.specs.response import to_db
-from kitleaf.specs.solve import KNOB_STEPS, KitState
+from kitleaf.specs.solve import KitState
 
 
-def curves(solved, node_in: str, node_out: str, knobs) -> tuple[Curve, ...]:
-    """One nominal curve per position of each knob in ``knobs``; one curve if there is none."""
-    if not knobs:
+def curves(solved, node_in: str, node_out: str, controls) -> tuple[Curve, ...]:
+    """One nominal curve per position of each knob or switch in ``controls``; one curve if
+    there is none."""
+    if not controls:
         return (Curve("", None, _db(solved.base, node_in, node_out)),)
-    return tuple(Curve(k.name, pos, _db(state, node_in, node_out))
-                 for k in knobs
-                 for pos, state in zip(KNOB_STEPS, solved.sweeps[k.designator], strict=True))
+    return tuple(Curve(c.name, shown, _db(state, node_in, node_out), pos == c.nominal)
+                 for c in controls
+                 for (pos, shown), state in zip(c.steps, solved.sweeps[c.designator],
+                                                strict=True))
 
 
 def _db(state: KitState, node_in: str, node_out: str) -> tuple[float, ...]:

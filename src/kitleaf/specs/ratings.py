@@ -3,7 +3,8 @@
 The one home of the rating limits, read by the design rules and by the bill of materials. A
 capacitor should see at most 80 % of its voltage rating, a resistor or pot dissipate at most
 50 % of its power rating (common practice, no source). A resistor with no stated rating is
-checked against 1/4 W and a pot against 1/8 W, the usual sizes in kits; a polarised capacitor
+checked against 1/4 W, a pot against 1/8 W and a trimmer against 0.1 W, the usual sizes in
+kits; a polarised capacitor
 with no stated rating is flagged, since it cannot be bought without one; an unpolarised one is
 not checked (common practice, no source). The stress is the worst over the knob settings the
 rules solve (knobs at half way, then each knob alone at every swept position) and over the
@@ -40,6 +41,7 @@ LIMITS: Mapping[str, RatingLimit] = MappingProxyType(
                                  (6.3, 10, 16, 25, 35, 50, 63, 100, 160, 250, 400, 450), None),
         "resistor": RatingLimit("power", 0.5, (0.125, 0.25, 0.5, 1, 2, 3, 5), 0.25),
         "pot": RatingLimit("power", 0.5, (0.125, 0.25, 0.5, 1, 2), 0.125),
+        "trimmer": RatingLimit("power", 0.5, (0.1, 0.125, 0.25, 0.5, 1), 0.1),
     }
 )
 
@@ -69,6 +71,10 @@ _STRESS: Mapping[str, Callable] = MappingProxyType({
     "capacitor": lambda op, e: abs(_across(op, e.a, e.b)),
     "resistor": lambda op, e: _across(op, e.a, e.b) ** 2 / e.value,
     "pot": _pot_watts,
+    # in a resistor's place a trimmer is the resistance it is set to; in a custom stage's
+    # divider, a pot
+    "trimmer": lambda op, e: (_pot_watts(op, e) if hasattr(e, "legs")
+                              else _across(op, e.a, e.b) ** 2 / e.value),
 })
 
 

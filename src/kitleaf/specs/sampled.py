@@ -71,9 +71,9 @@ class Batch:
         return self.system.solve_ac(freqs, rhs, opened, samples=self.index)
 
     def modal(self, rhs: np.ndarray) -> Modal:
-        """The response to ``rhs`` in pole-residue form, for cheap evaluation anywhere."""
-        return Modal(self.system.response(rhs, list(range(self.system.layout.size))),
-                     self.index)
+        """Every node's response to ``rhs`` in pole-residue form, for cheap evaluation
+        anywhere (nodes come first among the unknowns, so a row is its node's unknown)."""
+        return Modal(self.system.response(rhs), self.index)
 
     def impedance(self, node: str, freqs: np.ndarray, opened: str | None = None) -> np.ndarray:
         """Driving-point impedance (samples, F) from ``node`` to ground, every source at rest."""
@@ -87,16 +87,26 @@ class Batch:
 
 @dataclass(frozen=True)
 class Modal:
-    """Every unknown's response to one excitation, as the engine's pole-residue form."""
+    """Every node's response to one excitation, as the engine's pole-residue form."""
 
     form: PoleResidue
     index: np.ndarray | None = None
+    # the forms of the row sets read so far: a corner search reads the same two nodes at
+    # dozens of frequencies, and their residues are formed once
+    taken: dict = field(default_factory=dict, repr=False, compare=False)
 
     def __call__(self, freqs: np.ndarray, rows: list[int]) -> np.ndarray:
         """Unknowns ``rows`` (samples, F, len(rows)); ``freqs`` is (F,) or (samples, F)."""
         if self.index is not None:
             raise ValueError("a pole-residue form is evaluated on its whole batch")
-        return self.form.take(rows)(freqs)
+        key = tuple(rows)
+        if key not in self.taken:
+            self.taken[key] = self.form.take(rows)
+        return self.taken[key](freqs)
+
+    def every_node(self, freqs: np.ndarray) -> np.ndarray:
+        """Every node (samples, F, nodes) at a few ``freqs`` (F,), through the modes."""
+        return self.form.through_modes(freqs)
 
 
 def solve_nominal(circuit) -> Batch:
@@ -105,15 +115,19 @@ def solve_nominal(circuit) -> Batch:
 
 
 def solve_samples(circuit, samples: int = SAMPLES, seed: int = SEED,
-                  start: np.ndarray | None = None, nominal: Batch | None = None) -> Batch:
-    """``samples`` seeded variants within part tolerances and device spreads (uniform).
+                  start: np.ndarray | None = None, nominal: Batch | None = None,
+                  scale: np.ndarray | None = None) -> Batch:
+    """``samples`` seeded variants within part tolerances and device spreads (uniform);
+    ``scale`` (samples, elements) multiplies each sample's drawn part values (a trimmer
+    turned where that build needs it).
 
     Newton starts every sample at the nominal operating point (``nominal``, this circuit's
     :func:`solve_nominal`, saves solving it again), or at ``start`` (samples, n): the same
     samples solved in a nearby state, such as another knob position.
     """
     known = None if nominal is None else nominal.system
-    return Batch(solve_batch(circuit, samples, seed, "uniform", start, nominal=known))
+    return Batch(solve_batch(circuit, samples, seed, "uniform", start, nominal=known,
+                             scale=scale))
 
 
 def solve_alike(circuit, like: Batch) -> Batch:

@@ -7,8 +7,9 @@ from functools import cached_property
 
 import numpy as np
 
+from kitleaf.circuit.chain import KNOB_STEPS as KNOB_STEPS  # where the specs read it
 from kitleaf.circuit.chain import SOURCE, KitCircuit
-from kitleaf.engine.elements import Pot
+from kitleaf.engine.elements import Pot, taper_fraction
 from kitleaf.specs.model import Range
 from kitleaf.specs.response import REFERENCE_HZ, Sweep
 from kitleaf.specs.sampled import Batch, solve_alike, solve_nominal, solve_samples
@@ -43,10 +44,17 @@ class View:
 
 
 class KitState:
-    """The kit at given knob positions and supply: a nominal view and a samples view."""
+    """The kit at given knob positions and supply: a nominal view and a samples view.
+
+    In the samples, each trimmer is turned where that build needs it to meet its set-up
+    target (``trims``: per-sample positions by trimmer; by default the kit's own, from
+    :func:`kitleaf.specs.trim.trimmed_positions`), as a builder sets each kit on the bench.
+    """
 
     def __init__(self, kit: KitCircuit, positions: Mapping[str, float],
-                 supply_v: float | None = None, near: KitState | None = None) -> None:
+                 supply_v: float | None = None, near: KitState | None = None,
+                 trims: Mapping[str, np.ndarray] | None = None) -> None:
+        self.kit, self._trims = kit, trims
         self.circuit = kit.netlist(positions, supply_v)
         self.near = near
         # Same supply, and every moved pot idle at DC: the nearby state's operating point holds.
@@ -63,8 +71,24 @@ class KitState:
         if self.same_dc:
             return View(solve_alike(self.circuit, self.near.samples.batch))
         if self.near is None:
-            return View(solve_samples(self.circuit, nominal=self.nominal.batch))
-        return View(solve_samples(self.circuit, start=self.near.samples.batch.x))
+            return View(solve_samples(self.circuit, nominal=self.nominal.batch,
+                                      scale=self.scale))
+        return View(solve_samples(self.circuit, start=self.near.samples.batch.x,
+                                  scale=self.scale))
+
+    @cached_property
+    def scale(self) -> np.ndarray | None:
+        """The samples' part multipliers that turn each trimmer where its build needs it."""
+        trims = self._trims
+        if trims is None and self.kit.trims:
+            from kitleaf.specs.trim import trimmed_positions  # it solves states of its own
+
+            trims = trimmed_positions(self.kit)
+        if not trims:
+            return None
+        set_at = {**dict(self.kit.presets), **self.positions}
+        tapers = {p.designator: p.attrs["taper"] for p in self.kit.parts() if p.designator in trims}
+        return trim_scale(self.circuit, trims, set_at, tapers)
 
     def range(self, measure: Callable[[View], np.ndarray]) -> Range | None:
         """``measure`` nominally and its 5th-95th percentiles over the samples; None when the
@@ -78,6 +102,27 @@ class KitState:
             return Range(nominal)
         low, high = np.percentile(finite, [5.0, 95.0])
         return Range(nominal, float(low), float(high))
+
+
+def trim_scale(circuit, trims: Mapping[str, np.ndarray], set_at: Mapping[str, float],
+               tapers: Mapping[str, str]) -> np.ndarray:
+    """Multipliers (samples, elements): 1, but for each trimmer in a resistor's place (a
+    resistor element of its name, set at ``set_at``) the ratio of the track its build's
+    position gives to the one the netlist's does. A trimmer wired as a divider (a pot
+    element, in a custom stage) keeps the netlist's position."""
+    size = len(next(iter(trims.values())))
+    scale = np.ones((size, len(circuit.elements)))
+    for k, e in enumerate(circuit.elements):
+        if e.name in trims and not isinstance(e, Pot):
+            taper = tapers[e.name]
+            scale[:, k] = _track(taper, trims[e.name]) / _track(taper, [set_at[e.name]])[0]
+    return scale
+
+
+def _track(taper: str, positions) -> np.ndarray:
+    """The share of the track below the wiper, floored as the engine floors a leg."""
+    shares = np.vectorize(lambda p: taper_fraction(taper, float(p)))(positions)
+    return np.maximum(shares, 1e-6)
 
 
 def moved_pots(before: Mapping[str, float], after: Mapping[str, float]) -> set[str]:
@@ -98,10 +143,7 @@ def idle_at_dc(state: KitState, pots: set[str]) -> bool:
     return True
 
 
-# Where each knob is set when the kit is solved across its travel (0..1 of rotation).
-KNOB_STEPS = (0.0, 0.25, 0.5, 0.75, 1.0)
-
-
 def nominal_positions(kit: KitCircuit) -> dict[str, float]:
-    """Every knob at half its rotation: the state the voltage table and headline assume."""
-    return {knob.designator: 0.5 for knob in kit.knobs}
+    """Every knob at half its rotation and every switch where it rests: the state
+    the voltage table and headline figures assume."""
+    return kit.rest_positions()

@@ -14,14 +14,21 @@ MODULES = (
     "common_emitter",
     "custom",
     "diode_clipper",
+    "direct_coupled_fuzz",
     "emitter_follower",
     "passive_filters",  # high-pass, low-pass
     "jfet_common_source",
+    "jfet_source_follower",
     "opamp_inverting",
     "opamp_non_inverting",
+    "opamp_soft_clip",
     "opamp_spare",
+    "output_buffer",
     "power",
+    "tone_active",
+    "tone_blend",
     "tone_cut",
+    "tone_stack",
     "volume",
 )
 

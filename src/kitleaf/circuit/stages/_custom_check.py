@@ -8,11 +8,13 @@ from kitleaf.circuit.stages.custom import (
     ALIASES,
     CHAIN_NODES,
     PIN_NAMES,
+    UNWIRED,
     aliases,
     own_nodes,
     part_nodes,
     test_point_lines,
 )
+from kitleaf.circuit.switches import form_of, pole_pins
 from kitleaf.errors import CircuitError
 
 TWO_TERMINALS = ("resistor", "capacitor", "inductor", "diode", "led")
@@ -60,8 +62,13 @@ def _check_aliases(stage: Stage, known: set[str]) -> None:
 
 def _check_part(stage: Stage, part, known: set[str]) -> None:
     nodes = part_nodes(part)
+    if part.type == "switch":
+        _check_switch(stage, part, nodes, known)
+        return
     pins = PIN_NAMES[part.type]
-    counts = (3, 5) if part.type == "opamp" else (len(pins),)
+    # an op-amp may leave its supply pins to VCC and ground; a trimmer may be a variable
+    # resistor between two nodes
+    counts = {"opamp": (3, 5), "trimmer": (2, 3)}.get(part.type, (len(pins),))
     if len(nodes) not in counts:
         shown = " ".join(pins[:3]) + (" [v+ v-]" if part.type == "opamp" else "") \
             if part.type == "opamp" else " ".join(pins)
@@ -76,6 +83,25 @@ def _check_part(stage: Stage, part, known: set[str]) -> None:
             part.span)
     for node in nodes:
         if node not in known:
+            raise CircuitError(_unknown(stage, f"part {part.designator}", node, known), part.span)
+
+
+def _check_switch(stage: Stage, part, nodes: tuple[str, ...], known: set[str]) -> None:
+    """A switch joins its common and throws, pole by pole; a throw may be '-' (unwired)."""
+    form = form_of(part)
+    if len(nodes) != form.pins:
+        per = " ".join(["common"] + [f"t{t + 1}" for t in range(form.throw_count)])
+        raise CircuitError(
+            f"stage '{stage.id}', part {part.designator}: a {part.attrs['form']} switch joins "
+            f"{form.pins} nodes ({per}{', per pole' if form.poles > 1 else ''}; '-' for a throw "
+            f"wired to nothing); {len(nodes)} given", part.span)
+    for common, throws in pole_pins(form, nodes):
+        if common == UNWIRED or all(t == UNWIRED for t in throws):
+            raise CircuitError(
+                f"stage '{stage.id}', part {part.designator}: a pole needs its common and at "
+                "least one throw wired; drop the pole's '-'", part.span)
+    for node in nodes:
+        if node != UNWIRED and node not in known:
             raise CircuitError(_unknown(stage, f"part {part.designator}", node, known), part.span)
 
 

@@ -18,6 +18,8 @@ BASE_X = 3.4  # the bias node
 DEVICE_X = 4.6  # where the base or gate lead ends
 UPPER_Y = 7.4  # collector (drain) node, before mirroring
 LOWER_Y = 2.6  # emitter (source) node, before mirroring
+DIVIDER_Y = 3.0  # a gate divider's node, before mirroring
+DIVIDER_SIDE_X = 1.0  # where the divider's side resistor ends
 
 
 @dataclass(frozen=True)
@@ -36,6 +38,9 @@ class TransistorDrawing:
     output_cap: Part
     volume: Part | None
     pulldown: Part | None = None
+    # (gate resistor, top, bottom): the gate resistor returns to a divider's node, not a rail
+    divider: tuple[Part, Part, Part] | None = None
+    output_resistor: Part | None = None  # in series with the OUT port
 
     @property
     def mirrored(self) -> bool:
@@ -73,6 +78,10 @@ def _draw_input(sheet: Sheet, d: TransistorDrawing) -> None:
     sheet.part(d.input_cap, (0.0, SIGNAL_Y), (2.2, SIGNAL_Y), plus=(2.2, SIGNAL_Y))  # biased side
     node = (BASE_X, SIGNAL_Y)
     sheet.wire((2.2, SIGNAL_Y), node, (DEVICE_X, SIGNAL_Y))
+    if d.divider is not None:
+        sheet.dot(node)
+        _draw_divider(sheet, d, node)
+        return
     if d.bias_top is not None:
         sheet.part(d.bias_top, node, (BASE_X, RAIL_Y), side="left")
         sheet.terminal((BASE_X, RAIL_Y))
@@ -81,6 +90,25 @@ def _draw_input(sheet: Sheet, d: TransistorDrawing) -> None:
         sheet.terminal((BASE_X, GROUND_Y))
     if d.bias_top is not None or d.bias_bottom is not None:
         sheet.dot(node)
+
+
+def _draw_divider(sheet: Sheet, d: TransistorDrawing, node: Point) -> None:
+    """The gate resistor down to the divider's node (up, mirrored); from there the divider's
+    lower resistor on to ground and its upper one off to the side, to a VCC arrow (mirrored:
+    the upper one on to VCC and the lower one to the side, to ground)."""
+    gate, top, bottom = d.divider
+    x = node[0]
+    joint = (x, d.y(DIVIDER_Y))
+    sheet.part(gate, node, joint, side="left")
+    sheet.dot(joint)
+    column, aside = (top, bottom) if d.mirrored else (bottom, top)
+    _to_end(sheet, column, joint, (x, d.y(GROUND_Y)), "left")
+    end = (DIVIDER_SIDE_X, joint[1])
+    sheet.part(aside, joint, end, side="above" if d.mirrored else "below")
+    if d.mirrored:
+        sheet.ground(end)
+    else:
+        sheet.rail(end)
 
 
 def _to_end(sheet: Sheet, part: Part | None, start: Point, end: Point, side: str) -> None:
@@ -124,16 +152,20 @@ def _draw_output(sheet: Sheet, d: TransistorDrawing, node: Point) -> None:
     start = x + 1.0
     sheet.dot(node)
     sheet.wire(node, (start, y))
+    if d.output_cap is None:  # a direct output
+        sheet.wire((start, y), (start + 2.2, y))
     sheet.part(d.output_cap, (start, y), (start + 2.2, y))
     # the pulldown runs down to ground, so it stands clear of the bypass network, not across it
     draw_volume_out(sheet, d.volume, (start + 2.2, y), max(start + 4.2, bypass_right + 1.4),
-                    d.pulldown, pulldown_from=bypass_right + 0.4 if d.bypass else 0.0)
+                    d.pulldown, pulldown_from=bypass_right + 0.4 if d.bypass else 0.0,
+                    series=d.output_resistor)
 
 
 def draw_volume_out(sheet: Sheet, volume: Part | None, at: Point, x: float,
-                    pulldown: Part | None = None, pulldown_from: float = 0.0) -> None:
+                    pulldown: Part | None = None, pulldown_from: float = 0.0,
+                    series: Part | None = None) -> None:
     """From ``at``, the optional pulldown (at ``pulldown_from`` or right of it), the volume pot
-    at column ``x`` and the OUT port."""
+    at column ``x`` or a ``series`` resistor, and the OUT port."""
     if pulldown is not None:
         column = (max(at[0] + 0.8, pulldown_from), at[1])
         sheet.wire(at, column)
@@ -143,6 +175,10 @@ def draw_volume_out(sheet: Sheet, volume: Part | None, at: Point, x: float,
         # the volume pot's label (left of it) clear of the pulldown's (right of it)
         room = sheet.label_room(pulldown) + (sheet.label_room(volume) if volume else 0.0)
         at, x = column, max(x, column[0] + 2.4, column[0] + room + 0.4)
+    if series is not None:
+        sheet.wire(at, (at[0] + 0.4, at[1]))
+        sheet.part(series, (at[0] + 0.4, at[1]), (at[0] + 2.6, at[1]))
+        at, x = (at[0] + 2.6, at[1]), max(x, at[0] + 3.4)
     if volume is None:
         sheet.wire(at, (x, at[1]))
         sheet.port((x, at[1]), "OUT", "right")

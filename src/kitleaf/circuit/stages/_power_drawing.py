@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from kitleaf.circuit.drawing import GROUND_Y, Sheet
 from kitleaf.circuit.kind import Stage
+from kitleaf.circuit.stages._pump import draw_pumps
 
 RAIL = 8.0
 STEP = 2.4  # between the branches hanging off the rail, at least
@@ -26,10 +27,15 @@ def draw_power(stage: Stage, sheet: Sheet) -> None:
     for cap in (part("bulk-cap"), part("filter-cap")):
         if cap is not None:
             rail_end, free_x = _branch(sheet, rail_end, free_x, [cap])
-    if part("vref-top"):
+    rail_end, free_x = draw_pumps(stage, sheet, RAIL, rail_end, free_x, _next_column)
+    # a divider across the doubled rail comes last, so the VCC rail runs on past nothing
+    across_v2 = part("doubler") is not None
+    if part("vref-top") and not across_v2:
         rail_end, free_x = _draw_reference(stage, sheet, rail_end, free_x)
     if part("led"):
-        _branch(sheet, rail_end, free_x, [part("led-resistor"), part("led")])
+        rail_end, free_x = _branch(sheet, rail_end, free_x, [part("led-resistor"), part("led")])
+    if part("vref-top") and across_v2:
+        _draw_reference(stage, sheet, rail_end, free_x)
 
 
 def _next_column(sheet: Sheet, x: float, parts) -> float:
@@ -67,8 +73,13 @@ def _draw_reference(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tu
     """The divider down column ``x``, VREF taken from its middle, its cap beside it.
 
     Returns where the rail now ends and the next free column."""
-    sheet.wire((rail_end, RAIL), (x, RAIL))
-    sheet.dot((x, RAIL))
+    if stage.part("doubler"):  # the divider sits across the doubled rail
+        sheet.net_label((x, RAIL), "v2", "above")
+        x_rail = rail_end
+    else:
+        sheet.wire((rail_end, RAIL), (x, RAIL))
+        sheet.dot((x, RAIL))
+        x_rail = x
     middle = (x, (RAIL + GROUND_Y) / 2)
     sheet.part(stage.part("vref-top"), (x, RAIL), middle, side="right")
     sheet.part(stage.part("vref-bottom"), middle, (x, GROUND_Y), side="right")
@@ -84,4 +95,4 @@ def _draw_reference(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tu
     end = (_next_column(sheet, tap[0], [cap]) - 1.0 if cap is not None else tap[0] + 1.2, middle[1])
     sheet.wire(tap, end)
     sheet.net_label(end, "vref", "right")
-    return x, end[0] + STEP
+    return x_rail, end[0] + STEP

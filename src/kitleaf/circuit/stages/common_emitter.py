@@ -11,8 +11,10 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
+    OUTPUT_COUPLING,
     capacitor_role,
     check_family,
+    check_output,
     is_flipped,
     output_roles,
     place_output,
@@ -48,6 +50,7 @@ class CommonEmitter(StageKind):
     name = "common-emitter"
     summary = "BJT gain stage: divider bias, emitter degeneration, optional bypass and volume"
     roles = ROLES
+    options = (OUTPUT_COUPLING,)
 
     def build(self, stage: Stage, wiring) -> None:
         collector_rail, emitter_rail = transistor_rails(is_flipped(stage, "transistor"))
@@ -70,6 +73,7 @@ class CommonEmitter(StageKind):
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "transistor", ("npn", "pnp"))
+        check_output(stage, self.name)
         require_together(stage, "bypass-resistor", "bypass-cap")
         require_together(stage, "gain", "bypass-cap")
 

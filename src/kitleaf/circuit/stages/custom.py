@@ -5,6 +5,7 @@ Syntax (one entry per line)::
     nodes: b c e                  # the stage's own node names
     part: R1 470k @ vcc b         # a part, '@', then the nodes it joins in pin order
     part: Q1 2N5089 @ c b e       # BJT c b e; JFET d g s; pot ccw wiper cw; diode anode cathode
+    part: S1 SPDT @ out d1 d2     # a switch: per pole the common, then each throw ('-': none)
     input: b                      # optional: which own node is the stage input (else 'in')
     test-point: Q1 collector = c  # a labelled node for the builder's meter
 
@@ -24,10 +25,13 @@ CHAIN_NODES = ("in", "out", "vcc", "vref", "0")
 ALIASES = {"input": "in", "output": "out", "supply": "vcc", "reference": "vref"}
 PIN_NAMES = {
     "resistor": ("a", "b"), "capacitor": ("a", "b"), "inductor": ("a", "b"),
-    "pot": ("ccw", "wiper", "cw"), "diode": ("anode", "cathode"), "led": ("anode", "cathode"),
+    "pot": ("ccw", "wiper", "cw"), "trimmer": ("ccw", "wiper", "cw"),
+    "diode": ("anode", "cathode"), "led": ("anode", "cathode"),
     "bjt": ("collector", "base", "emitter"), "jfet": ("drain", "gate", "source"),
     "opamp": ("+in", "-in", "out", "v+", "v-"),
+    "switch": ("common", "throws..."),  # pole by pole; the count comes from the form
 }
+UNWIRED = "-"  # a switch throw wired to nothing
 PART_TYPES = tuple(t for t in PART_QUANTITY if t != "hardware")
 
 
@@ -60,7 +64,7 @@ def test_point_lines(stage: Stage) -> list[tuple[str, str, object]]:
 @register
 class Custom(StageKind):
     name = "custom"
-    summary = "a netlist written in the guide, drawn as a labelled block"
+    summary = "a netlist written in the guide, drawn by automatic placement"
     roles = (Role("part", PART_TYPES, many=True, nodes=True,
                   help="a part and the nodes it joins: 'R1 470k @ vcc b'"),)
     extra_keys = ("nodes", "input", "output", "supply", "reference", "test-point")
@@ -69,7 +73,9 @@ class Custom(StageKind):
         alias = aliases(stage)
         for part in stage.parts["part"]:
             nodes = [alias.get(n, n) for n in part_nodes(part)]
-            if part.type in ("bjt", "jfet") or part.type == "opamp" and len(nodes) == 5:
+            if part.type == "switch":
+                wiring.place(part, *(None if n == UNWIRED else n for n in nodes))
+            elif part.type in ("bjt", "jfet") or part.type == "opamp" and len(nodes) == 5:
                 wiring.place(part, *nodes)
             elif part.type == "opamp":
                 wiring.place(part, *nodes, "vcc", "0")
@@ -88,5 +94,10 @@ class Custom(StageKind):
 
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._custom_check import draw_custom
+        from kitleaf.circuit.stages._custom_layout import draw_netlist
+        from kitleaf.circuit.stages._custom_plan import layout_problem
 
-        draw_custom(stage, sheet)
+        if layout_problem(stage) is None:
+            draw_netlist(stage, sheet)
+        else:  # the design rule custom-drawing says why
+            draw_custom(stage, sheet)

@@ -10,8 +10,12 @@ from __future__ import annotations
 from kitleaf.circuit.drawing import GROUND_Y, SIGNAL_Y, Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
-from kitleaf.circuit.stages._shared import capacitor_role, check_part_family, resistor_role
-from kitleaf.errors import CircuitError
+from kitleaf.circuit.stages._shared import (
+    capacitor_role,
+    check_diodes,
+    diode_stack,
+    resistor_role,
+)
 
 ROLES = (
     capacitor_role("input-cap", "blocks DC from the previous stage", required=False),
@@ -23,37 +27,22 @@ ROLES = (
 )
 
 
-def stack(wiring, parts, prefix: str, anode_up: bool) -> None:
-    """Diodes in series from ``out`` to ground, conducting for one polarity of the output
-    (none: both roles are optional, a clipper may clip one polarity only)."""
-    if not parts:
-        return
-    nodes = ["out"] + [f"{prefix}{i}" for i in range(1, len(parts))] + ["0"]
-    for part, top, bottom in zip(parts, nodes[:-1], nodes[1:], strict=True):
-        wiring.place(part, *((top, bottom) if anode_up else (bottom, top)))
-
-
 @register
 class DiodeClipper(StageKind):
     name = "diode-clipper"
     summary = "hard clipping: series resistor, diode stacks from the output to ground"
     roles = ROLES
+    clips = True
 
     def build(self, stage: Stage, wiring) -> None:
         cap = stage.part("input-cap")
         wiring.place(cap, "in", "a")
         wiring.place(stage.part("series"), "a" if cap else "in", "out")
-        stack(wiring, stage.parts.get("clip-positive", ()), "pos", anode_up=True)
-        stack(wiring, stage.parts.get("clip-negative", ()), "neg", anode_up=False)
+        diode_stack(wiring, stage.parts.get("clip-positive", ()), "out", "0", "pos", True)
+        diode_stack(wiring, stage.parts.get("clip-negative", ()), "out", "0", "neg", False)
 
     def check(self, stage: Stage) -> None:
-        if not stage.parts.get("clip-positive") and not stage.parts.get("clip-negative"):
-            raise CircuitError(
-                f"stage '{stage.id}' (diode-clipper) has no diodes; add 'clip-positive: D1 "
-                "1N4148' and/or 'clip-negative: D2 1N4148'", stage.span)
-        for role in ("clip-positive", "clip-negative"):
-            for part in stage.parts.get(role, ()):
-                check_part_family(stage, role, part, ("diode",))
+        check_diodes(stage, ("clip-positive", "clip-negative"))
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return (TestPoint("clipper output (0 V DC)", "out"),)

@@ -10,8 +10,10 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
+    OUTPUT_COUPLING,
     capacitor_role,
     check_family,
+    check_output,
     is_flipped,
     output_roles,
     place_output,
@@ -36,6 +38,7 @@ class EmitterFollower(StageKind):
     name = "emitter-follower"
     summary = "BJT buffer: gain just under one, low output impedance"
     roles = ROLES
+    options = (OUTPUT_COUPLING,)
 
     def build(self, stage: Stage, wiring) -> None:
         collector_rail, emitter_rail = transistor_rails(is_flipped(stage, "transistor"))
@@ -51,6 +54,7 @@ class EmitterFollower(StageKind):
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "transistor", ("npn", "pnp"))
+        check_output(stage, self.name)
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         flipped = is_flipped(stage, "transistor")

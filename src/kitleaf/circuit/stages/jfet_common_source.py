@@ -10,8 +10,10 @@ from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
 from kitleaf.circuit.stages._shared import (
+    OUTPUT_COUPLING,
     capacitor_role,
     check_family,
+    check_output,
     is_flipped,
     output_roles,
     place_output,
@@ -37,6 +39,7 @@ class JfetCommonSource(StageKind):
     name = "jfet-common-source"
     summary = "JFET gain stage: self-biased, optional source bypass and volume"
     roles = ROLES
+    options = (OUTPUT_COUPLING,)
 
     def build(self, stage: Stage, wiring) -> None:
         drain_rail, source_rail = transistor_rails(is_flipped(stage, "transistor"))
@@ -51,6 +54,7 @@ class JfetCommonSource(StageKind):
 
     def check(self, stage: Stage) -> None:
         check_family(stage, "transistor", ("njf", "pjf"))
+        check_output(stage, self.name)
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return transistor_test_points(stage.part("transistor"),

@@ -3,6 +3,9 @@ and the power-on LED. It joins the supply terminal to the rail VCC the other sta
 
 Protection is a series diode (its drop is lost from VCC) or a shunt diode across the supply
 that conducts, and blows the adapter's fuse or current limit, only when the plug is reversed.
+
+Charge pumps fed from VCC make more rails (``_pump.py``): a doubler the doubled rail (the
+reference divider then sits across it), an inverter the negative rail.
 """
 
 from __future__ import annotations
@@ -10,6 +13,7 @@ from __future__ import annotations
 from kitleaf.circuit.drawing import Sheet
 from kitleaf.circuit.kind import Option, Role, Stage, StageKind, TestPoint
 from kitleaf.circuit.stages import register
+from kitleaf.circuit.stages._pump import check_pumps, place_pumps, pump_roles
 from kitleaf.circuit.stages._shared import (
     capacitor_role,
     check_part_family,
@@ -30,6 +34,7 @@ ROLES = (
     capacitor_role("vref-cap", "smoothing capacitor on the reference", required=False),
     Role("led", ("led",), required=False, help="power-on indicator, e.g. LED1 red"),
     resistor_role("led-resistor", "series resistor setting the LED current", required=False),
+    *pump_roles(),
 )
 OPTIONS = (
     Option("reverse-protection", ("series", "shunt"), "series",
@@ -56,7 +61,9 @@ class Power(StageKind):
             wiring.internal("vsource", "link", after, "vcc", dc=0.0)  # a plain wire
         wiring.place(part("bulk-cap"), "vcc", "0")
         wiring.place(part("filter-cap"), "vcc", "0")
-        wiring.place(part("vref-top"), "vcc", "vref")
+        place_pumps(stage, wiring)
+        top = "v2" if part("doubler") else "vcc"
+        wiring.place(part("vref-top"), top, "vref")
         wiring.place(part("vref-bottom"), "vref", "0")
         wiring.place(part("vref-cap"), "vref", "0")
         wiring.place(part("led-resistor"), "vcc", "led")
@@ -82,11 +89,16 @@ class Power(StageKind):
         if stage.options["reverse-protection"] == "shunt" and not stage.part("reverse-diode"):
             raise CircuitError(f"stage '{stage.id}': 'reverse-protection: shunt' needs a "
                                "'reverse-diode: ...' part", stage.span)
+        check_pumps(stage)
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         points = [TestPoint("VCC (supply after protection)", "vcc")]
         if stage.part("vref-top"):
             points.append(TestPoint("VREF (mid-rail reference)", "vref"))
+        if stage.part("doubler"):
+            points.append(TestPoint("V2 (doubled rail)", "v2"))
+        if stage.part("inverter"):
+            points.append(TestPoint("VEE (negative rail)", "vee"))
         if stage.part("led"):
             points.append(TestPoint(f"{stage.part('led').designator} anode", "led",
                                     stage.part("led").designator, "anode"))

@@ -22,6 +22,7 @@ class ToneCut(StageKind):
         Role("tone", ("pot",), help="the tone pot, wired as a variable resistor to the cap"),
         capacitor_role("cap", "the treble-cut capacitor, from the pot to ground"),
     )
+    shapes_response = True
 
     def build(self, stage: Stage, wiring) -> None:
         wiring.place(stage.part("series"), "in", "out")

@@ -65,9 +65,10 @@ def _window(vpos, vneg, p) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarr
     return (vpos + vneg) / 2.0 + skew * rho, h, skew * d_rho, d_h
 
 
-def swing(x, vpos, vneg, p) -> tuple[np.ndarray, ...]:
-    """(f, df/dx, df/dvpos, df/dvneg, u): the soft-limited output and its partials."""
-    vmid, h, d_mid, d_h = _window(vpos, vneg, p)
+def swing(x, vpos, vneg, p, window=None) -> tuple[np.ndarray, ...]:
+    """(f, df/dx, df/dvpos, df/dvneg, u): the soft-limited output and its partials
+    (``window``: ``_window``'s answer for these rails, when the caller has it)."""
+    vmid, h, d_mid, d_h = _window(vpos, vneg, p) if window is None else window
     u = (x - vmid) / h
     t = np.tanh(u)
     s = 1.0 - t * t
@@ -105,10 +106,10 @@ def softplus(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return np.maximum(z, 0.0) + np.log1p(e), np.where(z >= 0, 1.0, e) / (1.0 + e)
 
 
-def clamp(x, vpos, vneg, p) -> tuple[np.ndarray, ...]:
+def clamp(x, vpos, vneg, p, window=None) -> tuple[np.ndarray, ...]:
     """The clamp's current from x to vneg, holding x within vmid +- CLAMP_U h, and its
-    partials by x, vpos and vneg."""
-    vmid, h, d_mid, d_h = _window(vpos, vneg, p)
+    partials by x, vpos and vneg (``window`` as for ``swing``)."""
+    vmid, h, d_mid, d_h = _window(vpos, vneg, p) if window is None else window
     g = slew_current(p) / CLAMP_OVERDRIVE
     over, s_over = softplus((x - vmid - CLAMP_U * h) / CLAMP_WIDTH)
     under, s_under = softplus((vmid - CLAMP_U * h - x) / CLAMP_WIDTH)
@@ -169,7 +170,8 @@ class OpAmpBank(Bank):
 
     def evaluate(self, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         x, vpos, vneg, out, vd = (v[:, i] for i in range(_JUNCTIONS))
-        f, d_x, d_pos, d_neg, _ = swing(x, vpos, vneg, self.p)
+        window = _window(vpos, vneg, self.p)
+        f, d_x, d_pos, d_neg, _ = swing(x, vpos, vneg, self.p, window)
         rout, ilim = self.p("ROUT"), self.p("ILIM")
         drive = np.tanh((f - out) / (rout * ilim))
         g_out = (1.0 - drive * drive + LIMIT_FLOOR) / rout
@@ -177,7 +179,7 @@ class OpAmpBank(Bank):
         isr = slew_current(self.p)
         stage = np.tanh(self.p("AOL") / R1 * vd / isr)
         g_in = self.p("AOL") / R1 * (1.0 - stage * stage)
-        i_clamp, c_x, c_pos, c_neg = clamp(x, vpos, vneg, self.p)
+        i_clamp, c_x, c_pos, c_neg = clamp(x, vpos, vneg, self.p, window)
         zero = np.zeros_like(g_s)
         slope = np.stack([
             np.stack([g_out * d_x, g_out * d_pos, g_out * d_neg, -g_out, zero], axis=1),

@@ -46,9 +46,18 @@ MODULES = (
     "led_current",
     "pot_taper",
     "input_impedance",
+    "tone_drive",
+    "tone_load",
     "e_series",
     "battery_life",
     "unused_half",
+    "custom_drawing",
+    "trim_reach",
+    "large_signal",
+    "clips_when_clean",
+    "asymmetric_clip",
+    "opamp_rail",
+    "hum",
 )
 
 

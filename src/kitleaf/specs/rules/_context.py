@@ -10,15 +10,18 @@ from functools import cached_property
 import numpy as np
 
 from kitleaf.circuit.chain import KitCircuit
+from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
+from kitleaf.display import setting
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
 from kitleaf.specs.finding import Finding
 from kitleaf.specs.lookup import KIT
 from kitleaf.specs.model import KitSpecs, Range
+from kitleaf.specs.polarity import Orientation, orientations
 from kitleaf.specs.ratings import LIMITS, Stress, derated_limit, part_stress
 from kitleaf.specs.rules._settings import DcSetting, Reading
-from kitleaf.specs.solve import KNOB_STEPS, KitState, nominal_positions
+from kitleaf.specs.solve import KitState, nominal_positions
 from kitleaf.values import format_value
 
 # A rule finds a knob setting where the nominal build fails, or where at least this share of
@@ -29,6 +32,13 @@ KNOB_FREE = 1e-3
 EVERY_SETTING = "at every knob setting"
 
 
+
+
+def drive_words(positions: tuple[tuple[str, float], ...]) -> str:
+    """A knob setting of the large-signal figures in words."""
+    if not positions:
+        return "knobs at half way"
+    return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in positions)
 
 
 @dataclass(frozen=True)
@@ -84,21 +94,36 @@ class RuleContext:
     guide: Guide
     kit: KitCircuit
     specs: KitSpecs
+    solved: object | None = None  # the specs' SolvedKit, whose states the rules share
 
     @cached_property
     def states(self) -> tuple[DcSetting, ...]:
-        """Knobs at half way, then each knob alone at every swept position (DC only)."""
+        """Knobs at half way (switches where they rest), then each knob or switch
+        alone at every swept position (DC only)."""
         nominal = nominal_positions(self.kit)
-        settings = [("knobs at half way", nominal)]
-        for knob in self.kit.knobs:
-            for pos in KNOB_STEPS:
-                if pos != nominal[knob.designator]:
-                    words = f"{knob.name} at {round(pos * 100)} %"
-                    settings.append((words, {**nominal, knob.designator: pos}))
-        base = KitState(self.kit, nominal)
+        settings = [("knobs at half way", None, 0)]
+        for control in self.kit.controls:
+            for k, (pos, shown) in enumerate(control.steps):
+                if pos != nominal[control.designator]:
+                    settings.append((setting(control.name, shown), control, k))
         memo: dict = {}
-        return tuple(DcSetting(words, base if i == 0 else KitState(self.kit, positions, near=base),
-                               memo) for i, (words, positions) in enumerate(settings))
+        return tuple(DcSetting(words, self._state(control, k), memo)
+                     for words, control, k in settings)
+
+    def _state(self, control, k: int) -> KitState:
+        """The kit with ``control`` at its step ``k`` and the others at their nominal
+        settings (None: all nominal), from the shared solved states when there are some."""
+        if self.solved is not None:
+            return self.solved.base if control is None else self.solved.sweeps[
+                control.designator][k]
+        if control is None:
+            return self._base
+        positions = {**nominal_positions(self.kit), control.designator: control.steps[k][0]}
+        return KitState(self.kit, positions, near=self._base)
+
+    @cached_property
+    def _base(self) -> KitState:
+        return KitState(self.kit, nominal_positions(self.kit))
 
     def worst(self, fails: Callable[[Reading], Sequence[bool]]) -> Verdict | None:
         """The state where ``fails`` (a reading -> whether each build fails) finds the most:
@@ -113,7 +138,7 @@ class RuleContext:
                     found is None or (nominal, share) > (found.nominal, found.share)):
                 found = Verdict(state, nominal, share, False)
         return None if found is None else replace(found, everywhere=len(outcomes) == 1,
-                                                  knobs=bool(self.kit.knobs))
+                                                  knobs=bool(self.kit.controls))
 
     @staticmethod
     def shown(verdict: Verdict, measure: Callable[[Reading], np.ndarray],
@@ -132,7 +157,7 @@ class RuleContext:
         """`` with KNOB at P %`` for ``state``, or `` at every knob setting`` when ``value``
         (nominal) does not depend on the knobs, since naming a knob position would send the
         maker to turn it; nothing for a kit without knobs. With its leading space."""
-        if not self.kit.knobs:
+        if not self.kit.controls:
             return ""
         seen = [value(s.nominal) for s in self.states]
         scale = max(abs(v) for v in seen)
@@ -165,6 +190,16 @@ class RuleContext:
         value, bound = self.shown(verdict, stress)
         where = self.setting(verdict.state, nominal).strip()
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
+
+    def corner_stages(self) -> tuple[Stage, ...]:
+        """The signal stages whose corners the rules judge: all but passive tone controls."""
+        return tuple(s for s in self.kit.signal_stages
+                     if not self.kit.kind(s).shapes_response)
+
+    @cached_property
+    def orientations(self) -> dict[str, Orientation]:
+        """Each polarised capacitor's + end over the knob states (see specs/polarity.py)."""
+        return orientations(self)
 
     @cached_property
     def parts(self) -> tuple[Part, ...]:

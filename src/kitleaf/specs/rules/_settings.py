@@ -46,6 +46,7 @@ class DcSetting:
         self.words, self.circuit = words, state.circuit
         self._state, self._memo = state, memo
         self.nominal = Reading(state.nominal.batch, memo)
+        self.view = state.nominal  # the nominal build's AC solutions, shared with the specs
 
     @cached_property
     def samples(self) -> Reading:

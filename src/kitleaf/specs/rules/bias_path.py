@@ -25,7 +25,7 @@ _DC_PAIRS = {
     el.Resistor: (("a", "b"),), el.Inductor: (("a", "b"),), el.VSource: (("p", "n"),),
     el.Pot: (("ccw", "w"), ("w", "cw")), el.Diode: (("a", "k"),),
     el.Bjt: (("b", "e"), ("c", "e")), el.Jfet: (("g", "s"), ("d", "s")),
-    el.OpAmp: (("out", None),), el.Capacitor: (), el.ISource: (),
+    el.OpAmp: (("out", None),), el.Capacitor: (), el.ISource: (), el.Pump: (("out", "ref"),),
 }
 
 

@@ -2,9 +2,10 @@
 nominal build or in 5 % of the builds within part tolerances.
 
 The audio band runs from 20 Hz to 20 kHz (common practice, no source); a coupling or bypass
-capacitor that cuts inside it thins the low strings unless that is the stage's purpose. The
-finding names the stage's capacitor that sets the corner: the one whose tenfold value lowers
-the nominal corner most (a capacitor far from the corner barely moves it).
+capacitor that cuts inside it thins the low strings unless that is the stage's purpose (a
+passive tone control, whose corners move with its knob, is left alone). The finding names the
+stage's capacitor that sets the corner: the one whose tenfold value lowers the nominal corner
+most (a capacitor far from the corner barely moves it).
 """
 
 from __future__ import annotations
@@ -16,7 +17,7 @@ from kitleaf.circuit.parts import Part
 from kitleaf.specs import measures as m
 from kitleaf.specs.rules import register
 from kitleaf.specs.rules._context import RuleContext, past_limit
-from kitleaf.specs.sampled import solve_nominal
+from kitleaf.specs.sampled import solve_alike
 from kitleaf.specs.solve import View
 from kitleaf.values import format_value
 
@@ -29,7 +30,7 @@ SETS = 0.2
 
 @register(RULE, "a signal stage's low corner above 20 Hz")
 def check(ctx: RuleContext):
-    for stage in ctx.kit.signal_stages:
+    for stage in ctx.corner_stages():
         corner = ctx.specs.stage(stage.id).low_corner_hz
         words = past_limit(corner, LIMIT_HZ, True, "frequency")
         if words is None:
@@ -53,13 +54,14 @@ def _advice(ctx: RuleContext, stage: Stage) -> str:
 def setting_capacitor(ctx: RuleContext, stage: Stage) -> tuple[Part, float] | None:
     """The stage's capacitor whose tenfold value lowers the nominal low corner most, with the
     corner it then gives (NaN: below the band searched); None when none moves it by SETS."""
-    circuit = ctx.states[0].circuit  # the knobs at half way, as the stage's specs are
-    measure = m.corner(*ctx.kit.stage_nodes(stage.id), 0)
+    base = ctx.states[0]  # the knobs at half way, as the stage's specs are
+    circuit, measure = base.circuit, m.corner(*ctx.kit.stage_nodes(stage.id), 0)
 
     def corner(changed) -> float:
-        return float(measure(View(solve_nominal(changed)))[0])
+        # a capacitor carries no DC current: the changed kit keeps the operating point
+        return float(measure(View(solve_alike(changed, base.nominal.batch)))[0])
 
-    start = corner(circuit)
+    start = float(measure(base.view)[0])
     best = None
     for part in (p for p in stage.all_parts() if p.type == "capacitor"):
         value = circuit.element(part.designator).value

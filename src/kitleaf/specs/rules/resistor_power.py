@@ -16,7 +16,7 @@ RULE = "resistor-power"
 
 @register(RULE, "a resistor or pot dissipating over half its power rating")
 def check(ctx: RuleContext):
-    for part in ctx.of_type("resistor", "pot"):
+    for part in ctx.of_type("resistor", "pot", "trimmer"):
         message = rating_problem(part.designator, part.type, part.rating, None,
                                  ctx.stresses[part.designator])
         if message is not None:

@@ -2,7 +2,8 @@
 nominal build or in 5 % of the builds within part tolerances.
 
 A guitar signal carries useful treble to about 10 kHz (common practice, no source); a stage
-that cuts below it darkens the sound unless that is its purpose (a tone stage).
+that cuts below it darkens the sound unless that is its purpose: a passive tone control, whose
+corners move with its knob, is left alone.
 """
 
 from __future__ import annotations
@@ -17,7 +18,7 @@ LIMIT_HZ = 10e3  # common practice, no source
 
 @register(RULE, "a signal stage's high corner below 10 kHz")
 def check(ctx: RuleContext):
-    for stage in ctx.kit.signal_stages:
+    for stage in ctx.corner_stages():
         corner = ctx.specs.stage(stage.id).high_corner_hz
         words = past_limit(corner, LIMIT_HZ, False, "frequency")
         if words is not None:

@@ -21,7 +21,7 @@ RULE = "unused-half"
 @register(RULE, "a dual op-amp's unused half with its inputs left floating")
 def check(ctx: RuleContext):
     for missing, used in unused_halves(ctx.parts):
-        iq = format_value(get_model(used.model).get("IQ"), "current")
+        iq = format_value(get_model(used.device or used.model).get("IQ"), "current")
         yield ctx.finding(RULE, used, (
             f"{used.designator} ({used.model}) is half of a dual op-amp whose other half, "
             f"{missing}, no stage uses: its inputs float, so it may oscillate or latch; tie "

@@ -1,0 +1,221 @@
+"""Large-signal pictures as byte-reproducible SVG, narrow enough for a phone without scrolling.
+
+Two pictures per kit: the output over two cycles at each playing level beside the pickup's
+own sine (one panel per level), and the drive curve: THD and output peak against the pickup
+level, one line per position of each knob (others at half way), the part-tolerance band
+shaded behind the knobs-at-half line. The sheet is 262 pt (349 CSS px) wide with 9 pt text
+and more, so every label stays 9 px or larger on a 390 px phone, where the figure keeps its
+drawn size.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from kitleaf.render import plot_draw as draw
+from kitleaf.render.plot_draw import FONT_PT, LEGEND_PT, LINE_EM, Frame
+from kitleaf.render.plot_svg import SvgDocument, num, polyline
+from kitleaf.values import format_value
+
+WIDTH_PT = 262.0
+LEFT_PT, RIGHT_PT = 46.0, 16.0
+PANEL_HEIGHT_PT = 110.0
+TITLE_PT = 10.0
+GAP_PT = 10.0
+INPUT_STYLE = ("#7f8c8d", (0, (4, 2)), 1.1)
+OUTPUT_STYLE = ("#111111", "-", 1.8)
+
+
+@dataclass(frozen=True)
+class WavePanel:
+    """One playing level: the pickup's peak, the title's words and the output's samples over
+    one period (repeated to two cycles when drawn)."""
+
+    level: float
+    title: str
+    output: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class CurvePanel:
+    """One knob's lines against the pickup levels: (label, values) per position; the band
+    (low, high) per level may be empty. ``log_y``: THD on decades, else volts."""
+
+    title: str
+    axis: str
+    lines: tuple[tuple[str, tuple[float, ...]], ...]
+    band: tuple[tuple[float, ...], tuple[float, ...]] | tuple = ()
+
+
+@dataclass(frozen=True)
+class DrivePicture:
+    """A picture's title and panels; ``levels`` are the curves' pickup levels (volts peak)."""
+
+    title: str
+    panels: tuple
+    levels: tuple[float, ...] = ()
+
+
+def render_drive_svg(picture: DrivePicture) -> str:
+    """The picture as SVG text; the same picture always gives the same bytes."""
+    title_lines = _wrap(picture.title, 40)
+    y = 8.0 + len(title_lines) * LINE_EM * TITLE_PT + 6.0
+    frames = []
+    for panel in picture.panels:
+        y += LINE_EM * FONT_PT * len(_wrap(panel.title, 48)) + 3.0
+        frames.append(y)
+        y += PANEL_HEIGHT_PT + 3.5 + 3.5 + 2 * LINE_EM * FONT_PT + GAP_PT
+    sheet = SvgDocument(WIDTH_PT, y, title=picture.title)
+    sheet.rect(0, 0, WIDTH_PT, y, "fill: #ffffff")
+    for k, text in enumerate(title_lines):
+        sheet.text(8.0, 8.0 + k * LINE_EM * TITLE_PT, text, TITLE_PT, extra="; font-weight: 700")
+    prefix = "d" + hashlib.sha256(picture.title.encode()).hexdigest()[:8]
+    for i, (panel, top) in enumerate(zip(picture.panels, frames, strict=True)):
+        lines = _wrap(panel.title, 48)
+        for k, text in enumerate(lines):
+            sheet.text(LEFT_PT, top - 3.0 - (len(lines) - k) * LINE_EM * FONT_PT, text, FONT_PT)
+        name = f"{prefix}-{i + 1}"
+        if isinstance(panel, WavePanel):
+            _waves(sheet, name, panel, top)
+        else:
+            _curves(sheet, name, panel, picture.levels, top)
+    return sheet.svg()
+
+
+def _frame(top: float, x_range, y_range) -> Frame:
+    return Frame(LEFT_PT, top, WIDTH_PT - LEFT_PT - RIGHT_PT, PANEL_HEIGHT_PT, x_range, y_range)
+
+
+def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float) -> None:
+    """Two cycles of the pickup's sine and of the output, time in milliseconds at 1 kHz."""
+    out = np.asarray(panel.output, float)
+    points = out.size
+    t = np.arange(2 * points + 1) / points  # periods
+    output = np.concatenate([out, out, out[:1]])
+    source = panel.level * np.sin(2 * math.pi * t)
+    top_v = max(float(np.max(np.abs(output))), panel.level) * 1.15
+    frame = _frame(top, (0.0, 2.0), (-top_v, top_v))
+    ticks = _volt_ticks(top_v)
+    clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
+    _grid(sheet, frame, [0.5, 1.0, 1.5], ticks, "", clip)
+    sheet.path(polyline(frame.x(t), frame.y(source)), draw.line(*INPUT_STYLE), clip)
+    sheet.path(polyline(frame.x(t), frame.y(output)), draw.line(*OUTPUT_STYLE), clip)
+    _x_labels(sheet, frame, [0.0, 0.5, 1.0, 1.5, 2.0], ["0", "0.5", "1", "1.5", "2 ms"])
+    _y_labels(sheet, frame, ticks, [_volts(v) for v in ticks], "Volts")
+    _legend(sheet, frame, [(INPUT_STYLE, "pickup"), (OUTPUT_STYLE, "output")])
+
+
+def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, levels, top: float) -> None:
+    """One line per knob position on log scales: THD in % or output peak in volts."""
+    x = np.log10(np.asarray(levels, float))
+    values = [np.asarray(v, float) for _, v in panel.lines]
+    shown = np.concatenate(values + [np.asarray(b, float) for b in panel.band])
+    shown = shown[np.isfinite(shown) & (shown > 0)]
+    low = math.floor(math.log10(max(shown.min(), 1e-6))) if shown.size else -3
+    high = math.ceil(math.log10(shown.max())) if shown.size else 0
+    high = max(high, low + 1)
+    frame = _frame(top, (float(x[0]), float(x[-1])), (float(low), float(high)))
+    clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
+    band = ""
+    if panel.band:
+        band = draw.band_outline(frame, x, _log(panel.band[0]), _log(panel.band[1]))
+    decades = [float(d) for d in range(low, high + 1)]
+    _grid(sheet, frame, [], decades, band, clip)
+    for i, v in enumerate(values):
+        sheet.path(polyline(frame.x(x), frame.y(_log(v))),
+                   draw.line(*draw.style_of(i, len(values))), clip)
+    _x_labels(sheet, frame, x.tolist(), [_volts(v) for v in levels], every=_every(levels))
+    text = [_percent(10 ** d) if panel.axis == "thd" else _volts(10 ** d) for d in decades]
+    _y_labels(sheet, frame, decades, text, "THD" if panel.axis == "thd" else "Output peak")
+    entries = [(draw.style_of(i, len(values)), label) for i, (label, _) in enumerate(panel.lines)]
+    if panel.band:
+        entries.append((None, "part tolerances"))
+    _legend(sheet, frame, entries)
+
+
+def _grid(sheet: SvgDocument, frame: Frame, x, y, band: str, clip: str) -> None:
+    """Behind the lines: the band, the grid and the frame."""
+    if band:
+        sheet.path(band, f"fill: {draw.BAND_COLOUR}", clip)
+    draw.rules(sheet, frame, x=x, y=y, style=f"stroke: {draw.GRID_COLOUR}; stroke-width: 0.6",
+               clip=clip)
+    sheet.rect(frame.left, frame.top, frame.width, frame.height,
+               f"fill: none; stroke: {draw.FRAME_COLOUR}; stroke-width: 0.8")
+
+
+def _log(values) -> np.ndarray:
+    v = np.asarray(values, float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(v > 0, np.log10(np.where(v > 0, v, 1.0)), np.nan)
+
+
+def _every(levels) -> list[bool]:
+    """Which level labels to print: the playing levels and the ends (the rest would crowd)."""
+    return [i in (0, len(levels) - 1) or round(v, 3) in (0.1, 0.3, 1.0)
+            for i, v in enumerate(levels)]
+
+
+def _x_labels(sheet: SvgDocument, frame: Frame, at, texts, every=None) -> None:
+    xs = frame.x(at).tolist()
+    sheet.path("".join(f"M{num(x)} {num(frame.bottom)}v3.5" for x in xs),
+               "fill: none; stroke: #000000; stroke-width: 0.8")
+    for k, (x, text) in enumerate(zip(xs, texts, strict=True)):
+        if every is None or every[k]:
+            sheet.text(x, frame.bottom + 7.0, text, FONT_PT, ha="center", va="top")
+
+
+def _y_labels(sheet: SvgDocument, frame: Frame, at, texts, axis: str) -> None:
+    ys = frame.y(at).tolist()
+    sheet.path("".join(f"M{num(frame.left)} {num(y)}h-3.5" for y in ys),
+               "fill: none; stroke: #000000; stroke-width: 0.8")
+    for y, text in zip(ys, texts, strict=True):
+        sheet.text(frame.left - 6.0, y, text, FONT_PT, ha="right", va="center_baseline")
+    sheet.upright_text(9.0, frame.top + frame.height / 2, axis, FONT_PT)
+
+
+def _legend(sheet: SvgDocument, frame: Frame, entries) -> None:
+    """Handles and labels along the panel's top edge, inside it, on a white ground."""
+    x, y = frame.left + 4.0, frame.top + 4.0 + LEGEND_PT / 2
+    for style, text in entries:
+        width = 16.0 + 4.0 + len(text) * LEGEND_PT * 0.62
+        if x + width > frame.right - 4.0:
+            x, y = frame.left + 4.0, y + LINE_EM * LEGEND_PT
+        sheet.rect(x - 1.0, y - LEGEND_PT * 0.6, width + 2.0, LEGEND_PT * 1.2,
+                   "fill: #ffffff; fill-opacity: 0.85")
+        if style is None:
+            sheet.rect(x, y - 0.35 * LEGEND_PT, 16.0, 0.7 * LEGEND_PT,
+                       f"fill: {draw.BAND_COLOUR}")
+        else:
+            sheet.path(f"M{num(x)} {num(y)}H{num(x + 16.0)}", draw.line(*style))
+        sheet.text(x + 20.0, y, text, LEGEND_PT, va="center")
+        x += width + 6.0
+
+
+def _volt_ticks(top: float) -> list[float]:
+    step = 10 ** math.floor(math.log10(top))
+    step = next(s * step for s in (0.25, 0.5, 1.0, 2.0, 5.0) if top / (s * step) <= 3)
+    count = int(top // step)
+    return [k * step for k in range(-count, count + 1)]
+
+
+def _volts(v: float) -> str:
+    return "0" if v == 0 else format_value(v, "voltage").replace("-", "\u2212")
+
+
+def _percent(fraction: float) -> str:
+    return f"{fraction * 100:g} %"
+
+
+def _wrap(text: str, chars: int) -> tuple[str, ...]:
+    """Lines of at most about ``chars`` characters, broken between words."""
+    lines: list[str] = []
+    for word in text.split():
+        if lines and len(lines[-1]) + 1 + len(word) <= chars:
+            lines[-1] += f" {word}"
+        else:
+            lines.append(word)
+    return tuple(lines)

@@ -1,0 +1,198 @@
+"""Large-signal figures: the kit driven by a sine from its pickup model, at every knob setting.
+
+The whole kit is solved at once (one periodic steady state per level and knob setting, see
+``kitleaf.engine.periodic``); each stage's figures are read at its output node in the chain,
+so a stage is driven by what the stages before it really deliver and loaded by the next.
+Levels are the pickup's own peak voltage (before its source impedance).
+"""
+
+from __future__ import annotations
+
+import math
+from collections import OrderedDict
+
+import numpy as np
+
+from kitleaf.circuit.chain import OUTPUT, SOURCE
+from kitleaf.engine import elements as el
+from kitleaf.engine.devices.base import VT
+from kitleaf.engine.periodic import PeriodicResult, periodic_steady_state
+from kitleaf.errors import KitleafError
+from kitleaf.specs.model import Drive, DrivePoint, DriveSetting
+
+# Pickup peak levels of the sweep (volts); the three playing levels are among them: 100 mV,
+# 300 mV and 1 V peak span a single-coil's soft picking to a hot humbucker's hard strum
+# (common practice, no source).
+LEVELS = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
+PLAYING = (0.1, 0.3, 1.0)
+DRIVE_HZ = 1000.0
+POINTS = 96  # per period: harmonics up to the 47th, the first five shown
+CLEAN_THD = 0.01  # 1 %: the clean limit
+DRIVEN_THD = 0.10  # 10 %: where a stage is driven
+CLIPPED_THD = 0.01  # below this at the top level a stage has not met its swing limits
+
+
+# The last few sweeps by their circuits' text: a kit solved again in one process (a rebuild,
+# the checks after the specs) reuses its sweep, which costs seconds.
+_SWEEPS: OrderedDict[str, tuple[PeriodicResult | None, str]] = OrderedDict()
+SWEEPS_KEPT = 8
+
+
+def drive_sweep(states, nodes: list[str]) -> tuple[PeriodicResult | None, str]:
+    """One periodic solve of every state (knob setting) at every level, keeping the kit's
+    nodes; (None, the reason) when the engine cannot run it at all."""
+    key = repr([s.circuit.elements for s in states]) + repr(nodes)
+    if key not in _SWEEPS:
+        _SWEEPS[key] = _sweep(states, nodes)
+        while len(_SWEEPS) > SWEEPS_KEPT:
+            _SWEEPS.popitem(last=False)
+    return _SWEEPS[key]
+
+
+def _sweep(states, nodes: list[str]) -> tuple[PeriodicResult | None, str]:
+    batches = [s.nominal.batch.system for s in states]
+    try:
+        return periodic_steady_state(batches, SOURCE, LEVELS, DRIVE_HZ, nodes=nodes,
+                                     points=POINTS), ""
+    except KitleafError as exc:
+        return None, exc.message
+
+
+def crossing(levels: np.ndarray, thd: np.ndarray, threshold: float) -> float | None:
+    """The first level going up where THD reaches ``threshold``, interpolated on log scales
+    between the grid's levels; the lowest level when it is already there, None when never."""
+    above = np.flatnonzero(thd >= threshold)
+    if above.size == 0:
+        return None
+    i = int(above[0])
+    if i == 0:
+        return float(levels[0])
+    lo, hi = math.log(thd[i - 1]) if thd[i - 1] > 0 else -50.0, math.log(thd[i])
+    share = (math.log(threshold) - lo) / (hi - lo) if hi > lo else 1.0
+    return float(math.exp(math.log(levels[i - 1]) + share * math.log(levels[i] / levels[i - 1])))
+
+
+def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
+            devices: tuple, circuit) -> DriveSetting:
+    """The figures at ``node`` of knob setting ``index`` of ``result``."""
+    ok = result.converged[index, :, 0]
+    if not ok.all():
+        level = float(result.levels[int(np.flatnonzero(~ok)[0])])
+        reason = str(result.reasons[index, int(np.flatnonzero(~ok)[0]), 0])
+        return DriveSetting(positions, error=f"{reason} at {level * 1000:g} mV pickup peak")
+    d = result.distortion(node)
+    thd, peak = d.thd[index, :, 0], d.peak[index, :, 0]
+    levels = result.levels
+    wave = result.wave(node)
+    points = tuple(_point(d, wave, index, int(np.flatnonzero(levels == lv)[0]), lv)
+                   for lv in PLAYING)
+    up, down = _swing(result, d, index, node, devices, circuit)
+    return DriveSetting(positions, crossing(levels, thd, CLEAN_THD),
+                        crossing(levels, thd, DRIVEN_THD), points,
+                        tuple(float(x) for x in thd), tuple(float(x) for x in peak), up, down)
+
+
+def _point(d, wave: np.ndarray, index: int, i: int, level: float) -> DrivePoint:
+    return DrivePoint(level, float(d.thd[index, i, 0]), float(d.peak[index, i, 0]),
+                      tuple(float(a) for a in d.amplitudes[index, i, 0]),
+                      tuple(round(float(v), 6) for v in wave[index, i, 0]))
+
+
+def _swing(result: PeriodicResult, d, index: int, node: str, devices: tuple, circuit):
+    """(volts, what sets it) above and below the mean at the top level; None when the output
+    is still clean there (its swing limits are not reached in the sweep)."""
+    top = len(result.levels) - 1
+    if d.thd[index, top, 0] < CLIPPED_THD:
+        return None, None
+    wave = result.wave(node)[index, top, 0]
+    found = []
+    for volts, at in ((d.peak_pos[index, top, 0], int(np.argmax(wave))),
+                      (d.peak_neg[index, top, 0], int(np.argmin(wave)))):
+        found.append((float(volts), limiting_part(result, index, top, at, devices, circuit)))
+    return found[0], found[1]
+
+
+def limiting_part(result: PeriodicResult, index: int, level: int, at: int, devices: tuple,
+                  circuit) -> str:
+    """Which of ``devices`` is at a limit at sample ``at`` of the period: the first found."""
+    def volts(node: str) -> float:
+        return 0.0 if node == el.GROUND else float(result.wave(node)[index, level, 0, at])
+
+    for device in devices:
+        text = LIMITS[type(device)](device, volts)
+        if text:
+            return text
+    return "no part at a limit (the stage's own transfer curve)"
+
+
+def _bjt(q: el.Bjt, v) -> str:
+    pol = -1.0 if q.model.kind == "pnp" else 1.0
+    vce, vbe = pol * (v(q.c) - v(q.e)), pol * (v(q.b) - v(q.e))
+    if vce < 0.3:
+        return f"{q.name} saturates"
+    return f"{q.name} cuts off" if vbe < 0.45 else ""
+
+
+def _jfet(j: el.Jfet, v) -> str:
+    pol = -1.0 if j.model.kind == "pjf" else 1.0
+    vgs, vds, vto = pol * (v(j.g) - v(j.s)), pol * (v(j.d) - v(j.s)), j.model.get("VTO")
+    if vgs <= vto:
+        return f"{j.name} pinches off"
+    return f"{j.name} leaves saturation (drain too low)" if vds < vgs - vto else ""
+
+
+def _opamp(u: el.OpAmp, v) -> str:
+    m = u.model.get
+    if v(u.out) >= v(u.vpos) - m("SWING_HI") - 0.2:
+        return f"{u.name} output at its upper limit"
+    return f"{u.name} output at its lower limit" if v(u.out) <= v(u.vneg) + m(
+        "SWING_LO") + 0.2 else ""
+
+
+def _diode(dio: el.Diode, v) -> str:
+    vd = v(dio.a) - v(dio.k)
+    current = dio.model.get("IS") * math.expm1(min(vd / (dio.model.get("N") * VT), 80.0))
+    if abs(current) > 20e-6:
+        return f"{dio.name} conducts" if current > 0 else f"{dio.name} breaks down"
+    return ""
+
+
+LIMITS = {el.Bjt: _bjt, el.Jfet: _jfet, el.OpAmp: _opamp, el.Diode: _diode}
+
+
+def stage_drive(result: PeriodicResult | None, why: str, indices: list[tuple[int, tuple]],
+                node: str, devices: tuple, circuit) -> Drive:
+    """A stage's (or the kit's, at OUTPUT) figures at each of its knob settings."""
+    if result is None:
+        return Drive(LEVELS, tuple(DriveSetting(p, error=why) for _, p in indices), DRIVE_HZ)
+    return Drive(LEVELS, tuple(setting(result, i, p, node, devices, circuit)
+                               for i, p in indices), DRIVE_HZ)
+
+
+RAIL_MARGIN_V = 0.1  # an output this close to its swing limit has reached it
+RAIL_LEVEL = 1.0  # volts pickup peak: a hot pickup's hard strum (common practice, no source)
+
+
+def rail_touches(result: PeriodicResult | None, indices: list[tuple[int, tuple]],
+                 opamps: tuple) -> tuple:
+    """(op-amp, knob setting) for each op-amp output at its swing limit at RAIL_LEVEL."""
+    if result is None:
+        return ()
+    level = int(np.flatnonzero(result.levels == RAIL_LEVEL)[0])
+    found = []
+    for u in opamps:
+        m = u.model.get
+        for index, positions in indices:
+            if not result.converged[index, level, 0]:
+                continue
+            out = result.wave(u.out)[index, level, 0]
+            top = result.wave(u.vpos)[index, level, 0] - m("SWING_HI") - RAIL_MARGIN_V
+            bottom = result.wave(u.vneg)[index, level, 0] + m("SWING_LO") + RAIL_MARGIN_V
+            if np.any(out >= top) or np.any(out <= bottom):
+                found.append((u.name, positions))
+    return tuple(found)
+
+
+def kit_nodes(kit) -> list[str]:
+    """Every node of the kit's netlist (waveforms kept for the limit search)."""
+    return [n for n in kit.netlist().nodes() if n != el.GROUND] or [OUTPUT]

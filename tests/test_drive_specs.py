@@ -1,0 +1,133 @@
+"""Large-signal figures in the specs: the Alder Drive demo kit (a diode clipper by design),
+its JSON, claim names and the design rules that read the figures."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from kitleaf.circuit.build import build_circuit
+from kitleaf.engine import reduced_steps, stepper
+from kitleaf.errors import GuideError, SpecError
+from kitleaf.guide.parse import parse_guide
+from kitleaf.specs.claims import verify
+from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.export import specs_to_json
+from rules_kits import GUIDE
+
+ALDER = Path(__file__).resolve().parents[1] / "guides" / "alder-drive.md"
+ASKING = GUIDE.replace("supply: 9 V\n", "supply: 9 V\nlarge-signal: yes\n", 1)
+
+
+def solved(text: str, path: str = "alder.md"):
+    guide = parse_guide(path, text)
+    kit = build_circuit(guide)
+    return guide, kit, derive_specs(guide, kit)
+
+
+def verify_claim(alder, line: str):
+    """The Alder Drive's own claim line replaced by ``line``, checked on its solved specs
+    (a claim does not change the circuit)."""
+    _, _, specs = alder
+    guide = parse_guide("alder.md", ALDER.read_text().replace("claim: thd.300mv above 10 %",
+                                                               line))
+    return verify(guide, build_circuit(guide), specs)
+
+
+@pytest.fixture(scope="module")
+def alder():
+    return solved(ALDER.read_text())
+
+
+class TestAlderDrive:
+    def test_every_knob_setting_is_computed(self, alder):
+        _, kit, specs = alder
+        settings = specs.drive.settings
+        assert len(settings) == 1 + 5 * len(kit.knobs)  # knobs at half, then each knob swept
+        assert all(not s.error for s in settings)
+
+    def test_the_diodes_hold_the_output_within_a_forward_drop(self, alder):
+        # two silicon diodes to ground clip each half of the wave near their forward drop,
+        # 0.55 to 0.8 V at these currents (common practice, no source)
+        _, _, specs = alder
+        base = specs.stage("clipper").drive.base
+        (up, up_part), (down, down_part) = base.swing_up, base.swing_down
+        assert 0.45 <= up <= 0.8 and 0.45 <= down <= 0.8
+        assert "conducts" in up_part and "conducts" in down_part
+
+    def test_a_drive_is_clean_only_below_a_playing_level(self, alder):
+        # the guide claims above 10 % THD at 300 mV; the 1 % limit must then lie below it
+        _, _, specs = alder
+        base = specs.drive.base
+        assert base.clean_limit < base.driven_limit <= 0.3
+        thd = {p.level: p.thd for p in base.points}
+        assert thd[0.1] < thd[0.3] < thd[1.0]
+
+    def test_the_json_carries_the_drive_object(self, alder):
+        guide, kit, specs = alder
+        data = specs_to_json(specs)
+        assert data["schema"] == "kitleaf-specs/1"  # keys only added: drive beside the headroom
+        drive = data["drive"]
+        assert drive["freq_hz"] == 1000.0 and len(drive["settings"]) == len(specs.drive.settings)
+        first = drive["settings"][0]
+        assert first["computed"] and first["knobs"] == {}
+        assert [p["level_v_peak"] for p in first["at_levels"]] == [0.1, 0.3, 1.0]
+        assert len(first["at_levels"][0]["harmonics_v_peak"]) == 5
+
+
+class TestClaims:
+    def test_a_thd_claim_is_read_as_a_percentage(self, alder):
+        guide, kit, specs = alder
+        checks = verify(guide, kit, specs)
+        assert "kit.thd.300mv" in checks.values
+        assert "kit.thd.300mv.drive-100" in checks.values
+        assert checks.claims[0].claim.name == "kit.thd.300mv"
+
+    def test_a_clean_claim_on_a_drive_is_broken(self, alder):
+        with pytest.raises(SpecError, match="thd.300mv"):
+            verify_claim(alder, "claim: thd.300mv below 1 %")
+
+    def test_a_percentage_must_be_written_as_one(self, alder):
+        with pytest.raises(SpecError, match="percentage") as caught:
+            verify_claim(alder, "claim: thd.300mv above 10 percent")
+        assert caught.value.span.line == ALDER.read_text().splitlines().index(
+            "claim: thd.300mv above 10 %") + 1
+
+
+class TestRules:
+    def test_a_drive_called_clean_is_found(self, alder):
+        _, _, specs = alder
+        text = ALDER.read_text().replace("title: Alder Drive", "title: Alder Clean Drive")
+        guide = parse_guide("alder.md", text)
+        kit = build_circuit(guide)
+        found = [f for f in verify(guide, kit, specs).findings if f.rule == "clips-when-clean"]
+        assert found and "300 mV" in found[0].message
+
+    def test_a_kit_whose_periodic_solve_fails_says_where(self, monkeypatch):
+        # Newton allowed a single iteration settles no clipping step: the figures are not
+        # computed, and one finding names the stage, the knob setting and the level
+        for module, name in ((stepper, "MAX_NEWTON"), (reduced_steps, "MAX_NEWTON"),
+                             (reduced_steps, "RETRY_NEWTON")):
+            monkeypatch.setattr(module, name, 1)
+        guide, kit, specs = solved(ASKING, "boost.md")
+        assert specs.drive.base.error
+        found = [f for f in verify(guide, kit, specs).findings if f.rule == "large-signal"]
+        assert len(found) == 1
+        message = found[0].message
+        assert "stage 'boost'" in message and "mV pickup peak" in message
+        assert "knobs at half way" in message or "Level at" in message
+
+
+class TestAsking:
+    def test_a_kit_that_does_not_ask_keeps_its_dc_headroom(self):
+        _, _, specs = solved(GUIDE, "boost.md")
+        assert specs.drive is None and specs.headroom is not None
+        data = specs_to_json(specs)
+        assert data["drive"] is None and data["headroom_v_peak"] is not None
+
+    def test_a_value_other_than_yes_or_no_is_located(self):
+        text = ASKING.replace("large-signal: yes", "large-signal: maybe")
+        with pytest.raises(GuideError, match="neither yes nor no") as caught:
+            parse_guide("boost.md", text)
+        assert caught.value.span.line == text.splitlines().index("large-signal: maybe") + 1
