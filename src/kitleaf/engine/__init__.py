@@ -22,6 +22,7 @@ _HOMES = {
     "registered_models": "models",
     "McResult": "montecarlo", "Spread": "montecarlo", "monte_carlo": "montecarlo",
     "PoleResidue": "ports",
+    "TransientResult": "transient", "transient_response": "transient",
 }
 
 __all__ = sorted(_HOMES)

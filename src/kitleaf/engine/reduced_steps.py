@@ -88,7 +88,8 @@ class Members:
                        devices=self.devices.with_banks(banks))
 
     def drive(self, t: float) -> np.ndarray:
-        """The sine's value at ``t`` per member (B,)."""
+        """The source's value at ``t`` per member (B,): here a sine (a sampled signal's
+        members override it)."""
         return self.amplitude * math.sin(self.omega * t)
 
     def extended(self, x_t: np.ndarray, t: float) -> np.ndarray:
@@ -183,7 +184,7 @@ def step(mem: Members, st: StepState, t: float, h: float,
     lin = mem.linear
     u = lin.d * (c1 * st.q[0] + c2 * st.q[1])
     du = lin.d[:, :, None] * (c1 * st.sens[0] + c2 * st.sens[1])
-    a = math.sin(mem.omega * t) * mem.amplitude
+    a = mem.drive(t)
     rhs_lin = lin.z[:, 0] + a[:, None] * lin.z[:, 1] - _mv(lin.h_mat, u)
     predicted = _predict(st.x_t)
     # a member without a guess of its own (NaN) takes the extrapolation
@@ -218,7 +219,7 @@ def step(mem: Members, st: StepState, t: float, h: float,
 def outputs(mem: Members, x_t: np.ndarray, u: np.ndarray, t: float) -> np.ndarray:
     """The kept waveforms' values (B, o) at a solved point."""
     lin = mem.linear
-    a = math.sin(mem.omega * t) * mem.amplitude
+    a = mem.drive(t)
     return (_mv(lin.out_t, x_t) + lin.out[:, 0] + a[:, None] * lin.out[:, 1]
             - _mv(lin.out_u, u))
 
