@@ -52,6 +52,14 @@ class TestBlocks:
         lines = {e.key: (e.value, e.span.line) for e in stage.entries}
         assert lines == {"collector": ("R3 10k", 19), "emitter": ("R4 390 1%", 20)}
 
+    def test_sound_previews_are_asked_for_on_or_off_and_off_by_default(self):
+        assert parse(GUIDE).kit.sound_previews is False
+        on = GUIDE.replace("supply: 9 V\n", "supply: 9 V\nsound-previews: on\n")
+        assert parse(on).kit.sound_previews is True
+        with pytest.raises(GuideError, match="neither on nor off") as raised:
+            parse(on.replace("sound-previews: on", "sound-previews: maybe"))
+        assert raised.value.span.line == 9
+
     def test_other_code_blocks_are_prose(self):
         guide = parse(GUIDE + "\n```text\nkind: nothing\n```\n")
         assert len(guide.stages) == 1

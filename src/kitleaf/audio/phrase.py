@@ -76,9 +76,11 @@ def dry_phrase(rate: float, peak: float = PHRASE_PEAK_V) -> np.ndarray:
     out = np.zeros(length)
     for note in PHRASE:
         start = int(round(note.start * rate))
+        if start >= length:  # a phrase cut short (the quick checks) drops the later notes
+            continue
         out[start:] += note.level * pluck(pitch_hz(note.midi), note.ring, rate,
                                           length - start, rng)
     # A short fade at the end so the clip stops without a click.
-    fade = int(0.05 * rate)
+    fade = min(int(0.05 * rate), length // 4)
     out[-fade:] *= np.linspace(1.0, 0.0, fade)
     return out * (peak / np.max(np.abs(out)))

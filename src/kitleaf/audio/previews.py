@@ -18,6 +18,7 @@ from kitleaf.audio.encode import RATE, encode_clip
 from kitleaf.audio.phrase import PHRASE_PEAK_V
 from kitleaf.values import format_value
 
+BYPASS = ClipSetting("bypass", "Bypass (level-matched)", ())
 HEADROOM_DBFS = -1.0  # the loudest clip's peak, below full scale so no decoder clips it
 # Silence at the output: below this RMS a clip has no level to match the bypass to.
 SILENT_V = 1e-6
@@ -30,6 +31,7 @@ class Rendered:
     setting: ClipSetting
     volts: np.ndarray | None
     reason: str = ""
+    stage: str = ""  # the stage whose solve failed, '' when none (or none could be named)
 
 
 @dataclass(frozen=True)
@@ -42,6 +44,7 @@ class ClipView:
     peak_v: float | None
     rms_v: float | None
     reason: str = ""
+    stage: str = ""
 
     @property
     def level_text(self) -> str:
@@ -75,14 +78,14 @@ def make_previews(plan: ClipPlan, dry: np.ndarray, render: Renderer, folder: str
     loudest = max([np.max(np.abs(r.volts)) for r in made] + [np.max(np.abs(bypass))])
     gain = 10.0 ** (HEADROOM_DBFS / 20.0) / loudest if loudest > 0 else 1.0
     views, files = [], []
-    for name, label, volts, reason in [("bypass", "Bypass (level-matched)", bypass, "")] + [
-            (r.setting.name, r.setting.label, r.volts, r.reason) for r in rendered]:
-        if volts is None:
-            views.append(ClipView(name, label, None, None, None, reason))
+    for r in [Rendered(BYPASS, bypass), *rendered]:
+        name, label = r.setting.name, r.setting.label
+        if r.volts is None:
+            views.append(ClipView(name, label, None, None, None, r.reason, r.stage))
             continue
         file = f"{folder}/{name}.ogg"
-        files.append((file, encode_clip(volts * gain, RATE)))
-        views.append(ClipView(name, label, file, float(np.max(np.abs(volts))), _rms(volts)))
+        files.append((file, encode_clip(r.volts * gain, RATE)))
+        views.append(ClipView(name, label, file, float(np.max(np.abs(r.volts))), _rms(r.volts)))
     return Previews(tuple(views), tuple(files), plan.left_out)
 
 

@@ -70,13 +70,15 @@ class TransientResult:
 def transient_response(batches: Sequence[BatchResult], source: str, signal: np.ndarray,
                        rate: float, oversample: int, nodes: Sequence[str]) -> TransientResult:
     """The response of each batch's nominal circuit (variants sharing one circuit's unknowns)
-    to ``source`` playing ``signal`` (volts at ``rate``, on top of its DC value), stepped at
-    ``oversample`` times ``rate``; the kept ``nodes`` come back at ``rate``."""
+    to ``source`` playing ``signal`` (volts at ``rate``, on top of its DC value; one for all
+    variants, or one row each), stepped at ``oversample`` times ``rate``; the kept ``nodes``
+    come back at ``rate``."""
     if not batches or any(b.layout != batches[0].layout for b in batches):
         raise SolveError("the variants of a rendered signal must share one circuit's unknowns")
+    signal = np.asarray(signal, float)
     if oversample < 1 or not np.all(np.isfinite(signal)):
         raise SolveError("a rendered signal must be finite and stepped at its rate or above")
-    fine = resample_poly(np.asarray(signal, float), oversample, 1)
+    fine = resample_poly(signal, oversample, 1, axis=-1)
     h = 1.0 / (rate * oversample)
     rows = [batches[0].row(n) for n in nodes]
     built = members(list(batches), source, np.ones(1), 2.0 * math.pi / h, rows, 1)
@@ -86,10 +88,10 @@ def transient_response(batches: Sequence[BatchResult], source: str, signal: np.n
     mem, _ = built
     x_dc = np.concatenate([b.x[:1] for b in batches])
     mem = SampledMembers(**{f: getattr(mem, f) for f in Members.__dataclass_fields__},
-                         signal=np.broadcast_to(fine, (len(batches), fine.size)), h=h)
+                         signal=np.broadcast_to(fine, (len(batches), fine.shape[-1])), h=h)
     waves, failed_at, where = _run(mem, _start(mem, batches[0], x_dc), x_dc, batches[0], h,
                                    rows)
-    at_rate = resample_poly(waves, 1, oversample, axis=-1)[..., :len(signal)]
+    at_rate = resample_poly(waves, 1, oversample, axis=-1)[..., :signal.shape[-1]]
     return TransientResult(rate, {n: at_rate[:, i] for i, n in enumerate(nodes)},
                            failed_at, tuple(where))
 

@@ -101,7 +101,7 @@ class KitBlock:
     code_span: SourceSpan | None = None  # the 'code:' line
     switches: tuple[Switch, ...] = ()
     bypass: Entry | None = None  # how the footswitch wires the kit in and out of the signal
-    sound_previews: bool = True  # whether the page plays the kit's sound previews
+    sound_previews: bool = False  # whether the page plays the kit's sound previews
 
 
 @dataclass(frozen=True)

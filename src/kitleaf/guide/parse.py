@@ -139,7 +139,7 @@ def read_kit(block: Block) -> KitBlock:
         hardware=tuple(read_hardware(e) for e in block.all("hardware")),
         cautions=tuple(e.value for e in block.all("caution")),
         source=once["source"], load=once["load"], order=once["order"], bypass=once["bypass"],
-        sound_previews=_switch(once["sound-previews"], default=True),
+        sound_previews=_switch(once["sound-previews"], default=False),
         extra=tuple(e for e in block.entries if e.key in EXTRA_KEYS),
         span=block.span, supply_span=value["supply"].span, code_span=value["code"].span,
     )

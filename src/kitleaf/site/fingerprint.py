@@ -18,7 +18,8 @@ import kitleaf
 from kitleaf.errors import SourceSpan
 
 # Libraries whose output ends up in the site's bytes: a new version may draw differently.
-RENDERING_LIBRARIES = ("jinja2", "markdown-it-py", "matplotlib", "numpy", "schemdraw", "scipy")
+RENDERING_LIBRARIES = ("jinja2", "markdown-it-py", "matplotlib", "numpy", "schemdraw", "scipy",
+                       "soundfile")
 
 
 def canonical(value: object, spans: bool = False) -> str:

@@ -36,6 +36,7 @@ from kitleaf.site.cache import Cache, NoCache
 from kitleaf.site.fingerprint import canonical, canonical_pair, contains_span
 from kitleaf.site.manifest import guide_record
 from kitleaf.site.output import GuideOutput
+from kitleaf.site.sound_previews import cached_previews, preview_notes
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import SolvedKit, derive_specs, solve_kit
 from kitleaf.specs.model import KitSpecs
@@ -58,6 +59,8 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
     drive_files = drive_pictures(cache, specs, slug, files)
     harness = build_harness(guide, kit)
+    previews = cached_previews(cache, kit, solved) if guide.kit.sound_previews else None
+    files.update((f"{slug}/{name}", data) for name, data in (previews.files if previews else ()))
     if harness is not None:
         files[f"{slug}/wiring.svg"] = render_wiring_svg(
             harness, f"Off-board wiring of {guide.kit.title}").encode()
@@ -65,7 +68,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "drive_pictures": drive_files,
-        "pieces": arrange(render_prose(guide.text, page_env(guide.path, checks, harness))),
+        "pieces": arrange(render_prose(guide.text, page_env(guide, checks, harness))),
         "sections": SECTIONS,
         "checks": checks,
         "bom": fitting_notes(rating_warnings(bom_lines(kit.parts()), checks.stresses),
@@ -74,23 +77,29 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         "symptoms": cached_symptoms(cache, kit),
         "harness": harness, "wiring_rows": wiring_rows(harness) if harness else (),
         "wired_by": wires_by_part(harness),
-        "previews": None,  # the rendered clips join once the kit's rendering path is in
+        "previews": previews,
     }
     files[f"{slug}/index.html"] = render_page(env, "guide.html", context, guide.path)
     files[f"{slug}/bom.html"] = render_page(env, "bom.html", context, guide.path)
     card = Card(slug, guide.kit.title, guide.kit.code, guide.kit.revision, guide.kit.summary,
                 headline(specs), quote(f"{slug}/index.html"))  # a relative URL, encoded
     record = guide_record(Path(path).name, kit.parts(), specs)
-    return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
+    notes = specs.notes + preview_notes(previews, kit, guide.kit.span)
+    return GuideOutput(card, tuple(sorted(files.items())), record, notes, checks.warnings,
                        guide.kit.code_span or guide.kit.span)
 
 
-def page_env(path: str, checks, harness) -> dict:
+def page_env(guide, checks, harness) -> dict:
     """The prose env of the guide page: its computed values, and the sections it cannot show."""
-    env = prose_env(path, checks.values)
+    env = prose_env(guide.path, checks.values)
+    absent = {}
     if harness is None:
-        env[ABSENT_KEY] = {"wiring": "add 'bypass: true' (or buffered, none) to the kit block "
-                                     "to draw the off-board wiring"}
+        absent["wiring"] = ("add 'bypass: true' (or buffered, none) to the kit block to draw "
+                            "the off-board wiring")
+    if not guide.kit.sound_previews:
+        absent["previews"] = "add 'sound-previews: on' to the kit block to render the clips"
+    if absent:
+        env[ABSENT_KEY] = absent
     return env
 
 

@@ -1,0 +1,84 @@
+"""Each clip of a kit's sound previews played through the kit's circuit, in time.
+
+The dry phrase drives the kit's signal source (the pickup model, so the kit's input loads
+the pickup as a real one is loaded) and the clip is the voltage at the output jack, across
+the kit's load. Every knob setting of a kit is one variant of one time-domain solve; the
+settings the specs already solved (every knob at half way, each knob at its ends) are
+reused, not solved again.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+
+import numpy as np
+
+from kitleaf.audio.clips import ClipSetting
+from kitleaf.audio.encode import RATE
+from kitleaf.audio.previews import Rendered, Renderer
+from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE, KitCircuit
+from kitleaf.engine.transient import transient_response
+from kitleaf.errors import KitleafError
+from kitleaf.specs.derive import SolvedKit
+from kitleaf.specs.solve import KitState
+
+# Steps per output sample: the harmonics a hard-clipping kit makes fall about 20 dB a decade,
+# so at 192 kHz what would fold back into the band sits below -60 dB of the fundamental
+# (checked on the demo kits in tests/audio/test_render.py)
+OVERSAMPLE = 4
+
+
+def kit_renderer(solved: SolvedKit) -> Renderer:
+    """The renderer of ``solved``'s clips (see previews.make_previews)."""
+    def render(settings: Sequence[ClipSetting], dry: np.ndarray) -> list[Rendered]:
+        return render_clips(solved, settings, dry)
+    return render
+
+
+def render_clips(solved: SolvedKit, settings: Sequence[ClipSetting],
+                 dry: np.ndarray) -> list[Rendered]:
+    """Every setting's output (volts at RATE, less its DC value) for the pickup playing
+    ``dry``; a setting whose solve fails has no output and says why, naming the stage."""
+    states = [state_at(solved, s.position_map) for s in settings]
+    try:
+        result = transient_response([s.nominal.batch.system for s in states], SOURCE, dry,
+                                    RATE, OVERSAMPLE, [OUTPUT])
+    except KitleafError as exc:
+        return [Rendered(s, None, exc.message) for s in settings]
+    rendered = []
+    for i, setting in enumerate(settings):
+        if result.converged[i]:
+            rendered.append(Rendered(setting, result.wave(OUTPUT)[i]))
+            continue
+        stage = stage_of(solved.kit, result.where[i])
+        whose = f"stage '{stage}'" if stage else "the kit"
+        rendered.append(Rendered(setting, None, (
+            f"the time-domain solve of {whose} did not settle {result.failed_at[i]:.2f} s "
+            f"into the phrase (at node {result.where[i]})"), stage))
+    return rendered
+
+
+def state_at(solved: SolvedKit, positions: Mapping[str, float]) -> KitState:
+    """The kit solved at ``positions`` (the others where the specs rest them): one of the
+    specs' own states when it is there, else solved here."""
+    wanted = {**solved.nominal, **positions}
+    for state in (solved.base, *(s for sweep in solved.sweeps.values() for s in sweep)):
+        if state.positions == wanted:
+            return state
+    return KitState(solved.kit, wanted, near=solved.base)
+
+
+def stage_of(kit: KitCircuit, node: str) -> str:
+    """The stage a node belongs to: the stage its name starts with ('boost.c'), the stage of
+    the part whose inside it is ('Q1:c'), the first signal stage for the input jack and the
+    last for the output jack; '' for a node of no one stage (the source's, a supply rail)."""
+    chain = kit.signal_stages
+    ends = {INPUT: chain[0].id, OUTPUT: chain[-1].id}
+    if node in ends:
+        return ends[node]
+    if ":" in node:
+        designator = node.split(":", 1)[0]
+        return next((s.id for s in kit.stages
+                     if any(p.designator == designator for p in s.all_parts())), "")
+    prefix = node.split(".", 1)[0]
+    return prefix if any(s.id == prefix for s in kit.stages) else ""
