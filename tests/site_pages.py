@@ -101,10 +101,18 @@ def local_target(page_path: Path, url: str) -> tuple[Path, str] | None:
     return target.resolve(), unquote(parts.fragment)
 
 
-def build_demo_site(root: Path, extra: dict[str, str] | None = None) -> Path:
-    """The demo guides (plus ``extra`` guides, name -> text) built into ``root/site``."""
+def build_demo_site(root: Path, extra: dict[str, str] | None = None,
+                    previews: bool = False) -> Path:
+    """The demo guides (plus ``extra`` guides, name -> text) built into ``root/site``;
+    without ``previews`` the guides' sound previews are turned off, their lines kept (they
+    cost seconds of solving a clip, and only their own tests read them)."""
     guides = root / "guides"
     shutil.copytree(DEMO_GUIDES, guides)
+    if not previews:
+        for path in guides.glob("*.md"):
+            text = path.read_text(encoding="utf-8")
+            path.write_text(text.replace("\nsound-previews: on\n", "\nsound-previews: off\n"),
+                            encoding="utf-8")
     for name, text in (extra or {}).items():
         (guides / name).write_text(text, encoding="utf-8")
     site = root / "published"

@@ -13,6 +13,7 @@ import pytest
 from kitleaf.audio import render
 from kitleaf.audio.clips import clip_plan
 from kitleaf.audio.encode import RATE
+from kitleaf.audio.phrase import PHRASE_PEAK_V
 from kitleaf.audio.render import render_clips, stage_of, state_at
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import OUTPUT, SOURCE
@@ -111,3 +112,31 @@ def test_a_sine_through_the_kit_has_the_large_signal_thd():
         harmonics = spectrum[4:4 * 24:4]
         thd = math.sqrt(np.sum(harmonics[1:] ** 2)) / harmonics[0]
         assert thd == pytest.approx(point.thd, rel=0.05), point.level
+
+
+@pytest.mark.slow
+def test_clipping_folds_back_less_than_60_db_at_the_phrases_level():
+    # the limit: what the steps fold back into the band stays 60 dB below the
+    # output. A 997 Hz sine at the phrase's peak (its harmonics and their folds fall on
+    # different frequencies) through the hardest-clipping demo setting; everything in the
+    # band that is not a harmonic, summed, against the fundamental (Blackman-Harris window,
+    # its side lobes at -92 dB: Harris, Proc. IEEE 66(1), 1978)
+    from scipy.signal.windows import blackmanharris
+
+    _, kit, kit_solved = solved("alder-drive")
+    state = state_at(kit_solved, {kit.knobs[0].designator: 1.0})
+    freq, seconds = 997.0, 0.5
+    result = transient.transient_response([state.nominal.batch.system], SOURCE,
+                                          tone(PHRASE_PEAK_V, seconds, freq), RATE,
+                                          render.OVERSAMPLE, [OUTPUT])
+    settled = result.wave(OUTPUT)[0, int(RATE * seconds / 2):]
+    spectrum = np.abs(np.fft.rfft(settled * blackmanharris(settled.size)))
+    freqs = np.fft.rfftfreq(settled.size, 1.0 / RATE)
+    harmonic = np.zeros(freqs.size, bool)
+    for k in range(1, int(RATE / 2 / freq) + 1):
+        harmonic |= np.abs(freqs - k * freq) < 25.0
+    band = (freqs > 20.0) & (freqs < 20_000.0)
+    fundamental = spectrum[np.argmin(np.abs(freqs - freq))]
+    folded = math.sqrt(np.sum(spectrum[band & ~harmonic] ** 2))
+    assert spectrum[np.argmin(np.abs(freqs - 3 * freq))] > 0.1 * fundamental  # clipping hard
+    assert 20 * math.log10(folded / fundamental) < -60.0

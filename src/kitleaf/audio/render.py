@@ -22,10 +22,11 @@ from kitleaf.errors import KitleafError
 from kitleaf.specs.derive import SolvedKit
 from kitleaf.specs.solve import KitState
 
-# Steps per output sample: the harmonics a hard-clipping kit makes fall about 20 dB a decade,
-# so at 192 kHz what would fold back into the band sits below -60 dB of the fundamental
-# (checked on the demo kits in tests/audio/test_render.py)
-OVERSAMPLE = 4
+# Steps per output sample. A 1 kHz sine at the phrase's peak through the hardest-clipping demo
+# setting (the Alder Drive's Drive at 100 %) folds back, in total, -54 dB of its level into
+# the band at four (-67 dB in the largest single tone), -68 dB at eight: eight keeps the
+# folded harmonics below -60 dB (tests/audio/test_render.py)
+OVERSAMPLE = 8
 
 
 def kit_renderer(solved: SolvedKit) -> Renderer:
