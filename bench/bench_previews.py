@@ -24,9 +24,10 @@ from bench_engine import one_transistor
 
 from kitleaf.audio.clips import clip_plan
 from kitleaf.audio.encode import RATE
+from kitleaf.audio.oversampling import oversampling
 from kitleaf.audio.phrase import dry_phrase
 from kitleaf.audio.previews import make_previews
-from kitleaf.audio.render import OVERSAMPLE, kit_renderer
+from kitleaf.audio.render import kit_renderer
 from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import solve_batch, transient_response
 from kitleaf.engine.spice_export import to_spice
@@ -65,10 +66,12 @@ def one_stage_against_ngspice() -> None:
     c = one_transistor()
     dry = dry_phrase(RATE)
     start = self_cpu()
-    ours = transient_response([solve_batch(c)], "VIN", dry, RATE, OVERSAMPLE, ["out"])
+    batch = solve_batch(c)
+    [factor] = oversampling([batch], "VIN", "out")
+    ours = transient_response([batch], "VIN", dry, RATE, factor, ["out"])
     mine = self_cpu() - start
-    print(f"  kitleaf: {mine:.2f} s CPU (target 1 s) at {OVERSAMPLE * RATE / 1000:g} kHz "
-          f"steps, converged: {bool(ours.converged[0])}")
+    print(f"  kitleaf: {mine:.2f} s CPU (target 1 s) with its probe, stepped at "
+          f"{factor * RATE / 1000:g} kHz, converged: {bool(ours.converged[0])}")
     with tempfile.TemporaryDirectory() as tmp:
         theirs, wave = ngspice_clip(c, dry, Path(tmp))
     ref = wave - wave[0]
@@ -85,12 +88,12 @@ def ngspice_clip(c, dry: np.ndarray, folder: Path) -> tuple[float, np.ndarray]:
     netlist = to_spice(c)
     source, out = netlist.parts["VIN"], netlist.node("out")
     times = np.arange(dry.size) / RATE
-    pairs = [f"{t!r} {v!r}" for t, v in zip(times, dry, strict=True)]
+    pairs = [f"{t:.10g} {v:.10g}" for t, v in zip(times, dry, strict=True)]
     pwl = "\n".join("+ " + " ".join(pairs[i:i + 8]) for i in range(0, len(pairs), 8))
     lines = [f"{source} {line.split()[1]} {line.split()[2]} PWL(\n{pwl}\n+ )"
              if line.startswith(source + " ") else line for line in netlist.text.splitlines()]
-    stop = times[-1]
-    control = [f"tran {1 / RATE!r} {stop!r}", f"linearize v({out})",
+    stop = float(times[-1])
+    control = [f"tran {1 / RATE:.10g} {stop:.10g}", f"linearize v({out})",
                f"wrdata {folder}/out.dat v({out})"]
     deck, empty = folder / "clip.cir", folder / "empty.cir"
     deck.write_text("\n".join(lines) + f"\n{OPTIONS}\n.control\n" + "\n".join(control)

@@ -13,6 +13,7 @@ import pytest
 from kitleaf.audio import render
 from kitleaf.audio.clips import clip_plan
 from kitleaf.audio.encode import RATE
+from kitleaf.audio.oversampling import PROBE_HZ, folded_db, oversampling
 from kitleaf.audio.phrase import PHRASE_PEAK_V
 from kitleaf.audio.render import render_clips, stage_of, state_at
 from kitleaf.circuit.build import build_circuit
@@ -82,6 +83,19 @@ def test_an_engine_error_gives_every_setting_the_reason(monkeypatch):
     assert {r.reason for r in rendered} == {"the circuit cannot be rendered"}
 
 
+def test_what_is_not_a_harmonic_is_summed_against_the_fundamental():
+    # a pure tone has nothing else (the window's side lobes sit at -92 dB: Harris, Proc.
+    # IEEE 66(1), 1978); a tone 50 dB down between two harmonics is found at -50 dB, and a
+    # harmonic of any size is not counted
+    t = np.arange(int(0.1 * RATE)) / RATE
+    pure = np.sin(2 * np.pi * PROBE_HZ * t)
+    assert folded_db(pure, PROBE_HZ) < -85.0
+    between = pure + 10 ** (-50 / 20) * np.sin(2 * np.pi * 2.5 * PROBE_HZ * t)
+    assert folded_db(between, PROBE_HZ) == pytest.approx(-50.0, abs=0.2)
+    harmonic = pure + 0.3 * np.sin(2 * np.pi * 3 * PROBE_HZ * t)
+    assert folded_db(harmonic, PROBE_HZ) < -85.0
+
+
 def test_a_node_belongs_to_the_stage_its_name_starts_with():
     _, kit, _ = solved("alder-drive")
     signal = [s.id for s in kit.signal_stages]
@@ -104,8 +118,9 @@ def test_a_sine_through_the_kit_has_the_large_signal_thd():
     points = derive_specs(guide, kit, kit_solved).drive.settings[0].points
     batch = kit_solved.base.nominal.batch.system
     signals = np.stack([tone(p.level, 0.25) for p in points])
+    [factor] = oversampling([batch], SOURCE, OUTPUT)
     result = transient.transient_response([batch] * len(points), SOURCE, signals, RATE,
-                                          render.OVERSAMPLE, [OUTPUT])
+                                          factor, [OUTPUT])
     assert result.converged.all()
     for point, wave in zip(points, result.wave(OUTPUT), strict=True):
         spectrum = np.abs(np.fft.rfft(wave[-48 * 4:]))  # four periods of 48 samples
@@ -115,28 +130,16 @@ def test_a_sine_through_the_kit_has_the_large_signal_thd():
 
 
 @pytest.mark.slow
-def test_clipping_folds_back_less_than_60_db_at_the_phrases_level():
+def test_each_setting_is_stepped_finely_enough_to_fold_back_less_than_60_db():
     # the limit: what the steps fold back into the band stays 60 dB below the
-    # output. A 997 Hz sine at the phrase's peak (its harmonics and their folds fall on
-    # different frequencies) through the hardest-clipping demo setting; everything in the
-    # band that is not a harmonic, summed, against the fundamental (Blackman-Harris window,
-    # its side lobes at -92 dB: Harris, Proc. IEEE 66(1), 1978)
-    from scipy.signal.windows import blackmanharris
-
+    # output. The hardest-clipping demo setting, at the factor the probe chose for it, played
+    # a 997 Hz sine at the phrase's peak five times as long as the probe (finer bins)
     _, kit, kit_solved = solved("alder-drive")
-    state = state_at(kit_solved, {kit.knobs[0].designator: 1.0})
-    freq, seconds = 997.0, 0.5
-    result = transient.transient_response([state.nominal.batch.system], SOURCE,
-                                          tone(PHRASE_PEAK_V, seconds, freq), RATE,
-                                          render.OVERSAMPLE, [OUTPUT])
-    settled = result.wave(OUTPUT)[0, int(RATE * seconds / 2):]
-    spectrum = np.abs(np.fft.rfft(settled * blackmanharris(settled.size)))
-    freqs = np.fft.rfftfreq(settled.size, 1.0 / RATE)
-    harmonic = np.zeros(freqs.size, bool)
-    for k in range(1, int(RATE / 2 / freq) + 1):
-        harmonic |= np.abs(freqs - k * freq) < 25.0
-    band = (freqs > 20.0) & (freqs < 20_000.0)
-    fundamental = spectrum[np.argmin(np.abs(freqs - freq))]
-    folded = math.sqrt(np.sum(spectrum[band & ~harmonic] ** 2))
-    assert spectrum[np.argmin(np.abs(freqs - 3 * freq))] > 0.1 * fundamental  # clipping hard
-    assert 20 * math.log10(folded / fundamental) < -60.0
+    batch = state_at(kit_solved, {kit.knobs[0].designator: 1.0}).nominal.batch.system
+    [factor] = oversampling([batch], SOURCE, OUTPUT)
+    assert factor == 8  # a hard diode clipper; the boosts pass at two (below)
+    wave = transient.transient_response([batch], SOURCE, tone(PHRASE_PEAK_V, 0.5, PROBE_HZ),
+                                        RATE, factor, [OUTPUT]).wave(OUTPUT)[0]
+    assert folded_db(wave, PROBE_HZ) < -60.0
+    _, boost, boost_solved = solved("brookside-boost")
+    assert oversampling([boost_solved.base.nominal.batch.system], SOURCE, OUTPUT) == [2]

@@ -2,9 +2,10 @@
 
 The dry phrase drives the kit's signal source (the pickup model, so the kit's input loads
 the pickup as a real one is loaded) and the clip is the voltage at the output jack, across
-the kit's load. Every knob setting of a kit is one variant of one time-domain solve; the
-settings the specs already solved (every knob at half way, each knob at its ends) are
-reused, not solved again.
+the kit's load, each setting stepped as finely as its clipping needs (oversampling.py).
+The settings stepped alike are the variants of one time-domain solve; the settings the
+specs already solved (every knob at half way, each knob at its ends) are reused, not solved
+again.
 """
 
 from __future__ import annotations
@@ -15,18 +16,13 @@ import numpy as np
 
 from kitleaf.audio.clips import ClipSetting
 from kitleaf.audio.encode import RATE
+from kitleaf.audio.oversampling import oversampling
 from kitleaf.audio.previews import Rendered, Renderer
 from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE, KitCircuit
-from kitleaf.engine.transient import transient_response
+from kitleaf.engine.transient import TransientResult, transient_response
 from kitleaf.errors import KitleafError
 from kitleaf.specs.derive import SolvedKit
 from kitleaf.specs.solve import KitState
-
-# Steps per output sample. A 1 kHz sine at the phrase's peak through the hardest-clipping demo
-# setting (the Alder Drive's Drive at 100 %) folds back, in total, -54 dB of its level into
-# the band at four (-67 dB in the largest single tone), -68 dB at eight: eight keeps the
-# folded harmonics below -60 dB (tests/audio/test_render.py)
-OVERSAMPLE = 8
 
 
 def kit_renderer(solved: SolvedKit) -> Renderer:
@@ -40,23 +36,28 @@ def render_clips(solved: SolvedKit, settings: Sequence[ClipSetting],
                  dry: np.ndarray) -> list[Rendered]:
     """Every setting's output (volts at RATE, less its DC value) for the pickup playing
     ``dry``; a setting whose solve fails has no output and says why, naming the stage."""
-    states = [state_at(solved, s.position_map) for s in settings]
+    batches = [state_at(solved, s.position_map).nominal.batch.system for s in settings]
     try:
-        result = transient_response([s.nominal.batch.system for s in states], SOURCE, dry,
-                                    RATE, OVERSAMPLE, [OUTPUT])
+        factors = oversampling(batches, SOURCE, OUTPUT)
+        results = {f: transient_response([b for b, g in zip(batches, factors, strict=True)
+                                          if g == f], SOURCE, dry, RATE, f, [OUTPUT])
+                   for f in sorted(set(factors))}
     except KitleafError as exc:
         return [Rendered(s, None, exc.message) for s in settings]
-    rendered = []
-    for i, setting in enumerate(settings):
-        if result.converged[i]:
-            rendered.append(Rendered(setting, result.wave(OUTPUT)[i]))
-            continue
-        stage = stage_of(solved.kit, result.where[i])
-        whose = f"stage '{stage}'" if stage else "the kit"
-        rendered.append(Rendered(setting, None, (
-            f"the time-domain solve of {whose} did not settle {result.failed_at[i]:.2f} s "
-            f"into the phrase (at node {result.where[i]})"), stage))
-    return rendered
+    return [_rendered(solved.kit, setting, results[factor], factors[:i].count(factor))
+            for i, (setting, factor) in enumerate(zip(settings, factors, strict=True))]
+
+
+def _rendered(kit: KitCircuit, setting: ClipSetting, result: TransientResult,
+              i: int) -> Rendered:
+    """Variant ``i`` of ``result`` as ``setting``'s clip, or why it has none."""
+    if result.converged[i]:
+        return Rendered(setting, result.wave(OUTPUT)[i])
+    stage = stage_of(kit, result.where[i])
+    whose = f"stage '{stage}'" if stage else "the kit"
+    return Rendered(setting, None, (
+        f"the time-domain solve of {whose} did not settle {result.failed_at[i]:.2f} s "
+        f"into the phrase (at node {result.where[i]})"), stage)
 
 
 def state_at(solved: SolvedKit, positions: Mapping[str, float]) -> KitState:
