@@ -139,10 +139,6 @@ class StageKind:
         """The nodes a builder measures, pin by pin."""
         return ()
 
-    def knob_roles(self) -> tuple[str, ...]:
-        """Roles whose pot is turned by the player (a knob), not set once on the bench."""
-        return ()
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         """Draw the stage on ``sheet`` (the drawing protocol of :mod:`kitleaf.circuit.drawing`)."""
         raise NotImplementedError

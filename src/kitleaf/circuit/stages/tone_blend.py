@@ -44,9 +44,6 @@ class ToneBlend(StageKind):
         wiring.place(part("high-resistor"), "hi", "0")
         wiring.place(part("tone"), "lo", "out", "hi")  # ccw, wiper, cw
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("tone",)
-
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return (TestPoint("tone output (0 V DC)", "out"),)
 
