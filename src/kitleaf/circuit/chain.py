@@ -198,8 +198,8 @@ class KitCircuit:
     # every netlist takes these positions unless told otherwise.
     trims: tuple = ()
     presets: tuple[tuple[str, float], ...] = ()  # (trimmer, position 0..1)
-    # Located warning lines from reading the guide's own device models.
-    warnings: tuple[str, ...] = ()
+    # What reading the guide's own device models warned of (circuit.devices.DeviceWarning).
+    warnings: tuple = ()
 
     @cached_property
     def cache(self) -> dict:
