@@ -237,7 +237,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
-        clips=kit.kind(stage).clips,
+        clips=kit.kind(stage).clips, passband=kit.kind(stage).passband,
     )
 
 

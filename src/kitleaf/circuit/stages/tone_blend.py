@@ -35,6 +35,7 @@ class ToneBlend(StageKind):
     summary = "one-knob tone: the pot fades from a low-pass path to a high-pass path"
     roles = ROLES
     shapes_response = True
+    passband = False
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part

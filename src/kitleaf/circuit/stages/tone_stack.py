@@ -44,6 +44,7 @@ class ToneStack(StageKind):
     summary = "passive three-knob tone stack: treble, mid and bass"
     roles = ROLES
     shapes_response = True
+    passband = False
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
