@@ -6,14 +6,17 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from tests.stages.kits import POWER, guide_text, stage_block
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import reduced_steps, stepper
 from kitleaf.errors import GuideError, SpecError
 from kitleaf.guide.parse import parse_guide
+from kitleaf.render.plot_specs import drive_picture
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json
+from kitleaf.specs.lookup import computed_values
 from rules_kits import GUIDE
 
 ALDER = Path(__file__).resolve().parents[1] / "guides" / "alder-drive.md"
@@ -74,6 +77,61 @@ class TestAlderDrive:
         assert first["computed"] and first["knobs"] == {}
         assert [p["level_v_peak"] for p in first["at_levels"]] == [0.1, 0.3, 1.0]
         assert len(first["at_levels"][0]["harmonics_v_peak"]) == 5
+
+
+# An op-amp drive whose Clip switch picks silicon diodes, nothing (the op-amp's own rails)
+# or red LEDs across its feedback; invented for these tests.
+SWITCHED = guide_text(POWER, stage_block(
+    "drive", "opamp-soft-clip", "input-cap: C1 100n film", "bias: R1 1M", "opamp: U1A TL072",
+    "feedback: R2 4k7", "gain: VR1 A500k", "clip-positive: D1 1N4148",
+    "clip-negative: D2 1N4148", "clip-switch: S1 SPDT on-off-on", "alt-positive: LED1 red",
+    "alt-negative: LED2 red", "gain-resistor: R3 4k7", "gain-cap: C2 4u7 electrolytic 25V",
+    "output-cap: C3 1u film", "pulldown: R4 1M"), source="pickup",
+    lines=("large-signal: yes", "knob: Gain = VR1", "switch: Clip = S1: silicon, open, LEDs"))
+
+
+@pytest.fixture(scope="module")
+def switched():
+    return solved(SWITCHED, "switched.md")
+
+
+class TestSwitches:
+    def test_every_switch_position_is_swept(self, switched):
+        _, _, specs = switched
+        settings = {s.positions: s for s in specs.drive.settings}
+        assert len(settings) == 1 + 5 + 3  # at rest, the knob's five steps, each position
+        for position in ("silicon", "open", "LEDs"):
+            assert not settings[(("Clip", position),)].error
+
+    def test_each_position_clips_on_its_own_parts(self, switched):
+        # a red LED drops well over twice a silicon diode's forward voltage (about 1.6-1.8 V
+        # against 0.6-0.7 V; common practice, no source): the LEDs let more through before
+        # THD reaches 1 %; with nothing across the feedback the op-amp clips at its rails
+        _, _, specs = switched
+        at = {s.positions: s for s in specs.drive.settings}
+        silicon, open_, leds = (at[(("Clip", p),)] for p in ("silicon", "open", "LEDs"))
+        assert leds.clean_limit > 1.5 * silicon.clean_limit
+        assert "conducts" in silicon.swing_up[1]
+        assert "U1A output" in open_.swing_up[1] and "U1A output" in open_.swing_down[1]
+
+    def test_the_json_names_and_picture_carry_the_positions(self, switched):
+        guide, kit, specs = switched
+        settings = specs_to_json(specs)["drive"]["settings"]
+        assert [s["knobs"] for s in settings[-3:]] == [
+            {"Clip": "silicon"}, {"Clip": "open"}, {"Clip": "LEDs"}]
+        values = computed_values(specs, kit)
+        assert {"kit.thd.300mv.clip-leds", "drive.clean-limit.clip-open"} <= set(values)
+        panels = drive_picture(specs).panels
+        clip = [p for p in panels if p.title.startswith("THD, Clip switch set")]
+        assert [label for label, _ in clip[0].lines] == ["Clip: silicon", "Clip: open",
+                                                         "Clip: LEDs"]
+
+    def test_a_rule_names_the_switch_setting(self, switched):
+        # with nothing across its feedback the op-amp's output meets its rails at a 1 V
+        # pickup peak (gain about 50: far past a 9 V supply's swing)
+        guide, kit, specs = switched
+        found = [f.message for f in verify(guide, kit, specs).findings if f.rule == "opamp-rail"]
+        assert len(found) == 1 and "with Clip set to open" in found[0]
 
 
 class TestClaims:

@@ -159,22 +159,26 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
 
 
 class Driven:
-    """The kit's large-signal sweep: every knob setting the specs show, solved at once."""
+    """The kit's large-signal sweep: every knob and switch setting the specs show, solved at
+    once."""
 
     def __init__(self, solved: SolvedKit) -> None:
         self.solved = solved
         self.states = [solved.base]
-        for knob in solved.kit.knobs:
-            sweep = solved.sweeps[knob.designator]
+        for control in solved.kit.controls:
+            sweep = solved.sweeps[control.designator]
             self.states += [s for s in sweep if all(s is not t for t in self.states)]
         self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
 
-    def _settings(self, knobs) -> list[tuple[int, tuple]]:
+    def _settings(self, controls) -> list[tuple[int, tuple]]:
+        """(state index, positions) of the knobs and switches at rest, then of each of
+        ``controls`` at each of its steps (a switch's position by its name)."""
         found = [(0, ())]
-        for k in knobs:
-            for (_, pos), state in zip(k.steps, self.solved.sweeps[k.designator], strict=True):
+        for c in controls:
+            for (_, shown), state in zip(c.steps, self.solved.sweeps[c.designator],
+                                         strict=True):
                 index = next(i for i, s in enumerate(self.states) if s is state)
-                found.append((index, ((k.name, pos),)))
+                found.append((index, ((c.name, shown),)))
         return found
 
     def _devices(self, stages) -> tuple:
@@ -184,14 +188,14 @@ class Driven:
 
     def stage(self, stage: Stage) -> Drive:
         kit = self.solved.kit
-        knobs = [k for k in kit.knobs if k.stage_id == stage.id]
-        return stage_drive(self.result, self.why, self._settings(knobs),
+        controls = [c for c in kit.controls if c.stage_id == stage.id]
+        return stage_drive(self.result, self.why, self._settings(controls),
                            kit.stage_nodes(stage.id)[1], self._devices([stage]),
                            self.solved.base.circuit)
 
     def kit(self) -> Drive:
         kit = self.solved.kit
-        settings = self._settings(kit.knobs)
+        settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
                             self.solved.base.circuit)
