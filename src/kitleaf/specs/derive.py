@@ -20,7 +20,14 @@ from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
-from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
+from kitleaf.specs.drive import (
+    LIMITS,
+    drive_limits,
+    drive_sweep,
+    kit_nodes,
+    rail_touches,
+    stage_drive,
+)
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
@@ -169,6 +176,18 @@ class Driven:
             sweep = solved.sweeps[control.designator]
             self.states += [s for s in sweep if all(s is not t for t in self.states)]
         self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+        self.found = {} if self.result is None else drive_limits(
+            self.states, self.result, self._wanted())
+
+    def _wanted(self) -> set[tuple[int, str]]:
+        """(state index, node) of every setting the stages and the kit show."""
+        kit = self.solved.kit
+        wanted = {(i, OUTPUT) for i, _ in self._settings(kit.controls)}
+        for stage in kit.signal_stages:
+            controls = [c for c in kit.controls if c.stage_id == stage.id]
+            node = kit.stage_nodes(stage.id)[1]
+            wanted |= {(i, node) for i, _ in self._settings(controls)}
+        return wanted
 
     def _settings(self, controls) -> list[tuple[int, tuple]]:
         """(state index, positions) of the knobs and switches at rest, then of each of
@@ -191,14 +210,14 @@ class Driven:
         controls = [c for c in kit.controls if c.stage_id == stage.id]
         return stage_drive(self.result, self.why, self._settings(controls),
                            kit.stage_nodes(stage.id)[1], self._devices([stage]),
-                           self.solved.base.circuit)
+                           self.solved.base.circuit, self.found)
 
     def kit(self) -> Drive:
         kit = self.solved.kit
         settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
-                            self.solved.base.circuit)
+                            self.solved.base.circuit, self.found)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
         return replace(drive, rails=rail_touches(self.result, settings, opamps))
 
