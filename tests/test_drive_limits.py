@@ -1,5 +1,6 @@
-"""The 1 % and 10 % THD levels: bracketed on the sweep's grid, then solved for, against a
-textbook hard clipper's closed form and a dense sweep of a diode clipper."""
+"""The 1 % and 10 % THD levels (bracketed on the sweep's grid, then solved for) against a
+textbook hard clipper's closed form and a dense sweep of a diode clipper, and the tolerance
+band of the large-signal figures."""
 
 from __future__ import annotations
 
@@ -14,10 +15,13 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import OUTPUT, SOURCE
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.guide.parse import parse_guide
+from kitleaf.render.plot_specs import drive_picture
 from kitleaf.specs import drive_limits
 from kitleaf.specs.derive import SolvedKit, derive_specs
 from kitleaf.specs.drive import LEVELS
+from kitleaf.specs.drive_band import BAND_SAMPLES
 from kitleaf.specs.drive_limits import first_bracket, refine
+from kitleaf.specs.export import specs_to_json
 
 
 def hard_clip_thd(level: float, limit: float) -> float:
@@ -98,13 +102,19 @@ CLIPPER = guide_text(stage_block("clip", "diode-clipper", "series: R1 4k7",
                      source="low-z", lines=("large-signal: yes",))
 
 
+@pytest.fixture(scope="module")
+def clipper():
+    guide = parse_guide("clipper.md", CLIPPER)
+    kit = build_circuit(guide)
+    return kit, derive_specs(guide, kit)
+
+
 class TestDiodeClipper:
-    def test_the_levels_match_a_dense_sweep(self):
+    def test_the_levels_match_a_dense_sweep(self, clipper):
         # the reference: the same periodic solve on 80 levels a decade from 100 mV to 1 V,
         # the first crossing going up read between its neighbours on log scales
-        guide = parse_guide("clipper.md", CLIPPER)
-        kit = build_circuit(guide)
-        base = derive_specs(guide, kit).drive.base
+        kit, specs = clipper
+        base = specs.drive.base
         batch = SolvedKit(kit).base.nominal.batch.system
         dense = np.geomspace(0.1, 1.0, 81)
         thd = periodic_steady_state([batch], SOURCE, dense, 1000.0,
@@ -114,3 +124,31 @@ class TestDiodeClipper:
             share = math.log(threshold / thd[i - 1]) / math.log(thd[i] / thd[i - 1])
             reference = dense[i - 1] * (dense[i] / dense[i - 1]) ** share
             assert level == pytest.approx(reference, rel=0.005)
+
+    def test_the_tolerance_band_holds_the_nominal_build(self, clipper):
+        # parts drawn evenly either side of their nominal values: where the diodes clip,
+        # the nominal build's THD and peak lie inside the 5-95 % spread, and the peak
+        # spreads as the diodes' forward drop does (their saturation currents spread,
+        # docs/engine.md). Below clipping THD is convex in the spread parts, so the
+        # nominal build may sit under most samples there.
+        _, specs = clipper
+        band, base = specs.drive.band, specs.drive.base
+        assert band.samples == BAND_SAMPLES
+        clipping = [i for i, thd in enumerate(base.thd) if thd >= 0.01]
+        assert clipping == [4, 5]
+        for low, high, nominal in ((band.thd_low, band.thd_high, base.thd),
+                                   (band.peak_low, band.peak_high, base.peak)):
+            assert len(low) == len(high) == len(LEVELS)
+            for i in clipping:
+                assert low[i] <= nominal[i] <= high[i]
+        assert band.peak_high[-1] > 1.02 * band.peak_low[-1]
+
+    def test_the_band_is_in_the_json_and_the_picture(self, clipper):
+        _, specs = clipper
+        tolerance = specs_to_json(specs)["drive"]["tolerance"]
+        assert tolerance["samples"] == BAND_SAMPLES
+        assert tolerance["thd_percent"]["low"][-1] == pytest.approx(
+            specs.drive.band.thd_low[-1] * 100, rel=1e-3)
+        thd, peak = drive_picture(specs).panels
+        assert thd.band == (specs.drive.band.thd_low, specs.drive.band.thd_high)
+        assert peak.band == (specs.drive.band.peak_low, specs.drive.band.peak_high)

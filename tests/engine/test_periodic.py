@@ -104,6 +104,15 @@ class TestSmallSignalLimit:
         with pytest.raises(SolveError, match="levels per variant"):
             periodic_steady_state([batch, batch], "VIN", [[0.2, 0.1]], 1000.0)
 
+    def test_some_samples_alone_take_the_same_periods(self):
+        # a batch narrowed to some of its samples is those samples' own equations
+        batch = solve_batch(rc.boost(), samples=6)
+        whole = periodic_steady_state([batch], "VIN", [0.2], 1000.0, nodes=["out"])
+        some = periodic_steady_state([batch.take(np.array([4, 1]))], "VIN", [0.2], 1000.0,
+                                     nodes=["out"])
+        assert some.wave("out")[0, 0] == pytest.approx(whole.wave("out")[0, 0, [4, 1]],
+                                                       abs=1e-6)
+
 
 class TestOpAmpLargeSignal:
     @staticmethod

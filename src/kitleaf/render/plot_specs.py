@@ -111,11 +111,13 @@ def drive_picture(specs: KitSpecs) -> DrivePicture | None:
     for name in names or [""]:
         settings = _control_settings(drive, name)
         title = _title(name, names, rests) or "Knobs fixed"
-        band = drive.band if name == (names[0] if names else "") else ()
+        band = drive.band  # around the line of the knobs at half way, in every panel
         panels.append(CurvePanel(f"THD, {title}", "thd",
-                                 tuple((lb, s.thd) for lb, s in settings), band))
+                                 tuple((lb, s.thd) for lb, s in settings),
+                                 (band.thd_low, band.thd_high) if band else ()))
         panels.append(CurvePanel(f"Output peak, {title}", "volts",
-                                 tuple((lb, s.peak) for lb, s in settings)))
+                                 tuple((lb, s.peak) for lb, s in settings),
+                                 (band.peak_low, band.peak_high) if band else ()))
     return DrivePicture(f"{specs.title}: distortion and output against the pickup level",
                         tuple(panels), drive.levels)
 

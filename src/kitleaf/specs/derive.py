@@ -28,6 +28,7 @@ from kitleaf.specs.drive import (
     rail_touches,
     stage_drive,
 )
+from kitleaf.specs.drive_band import drive_bands
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
@@ -176,8 +177,11 @@ class Driven:
             sweep = solved.sweeps[control.designator]
             self.states += [s for s in sweep if all(s is not t for t in self.states)]
         self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+        wanted = self._wanted()
         self.found = {} if self.result is None else drive_limits(
-            self.states, self.result, self._wanted())
+            self.states, self.result, wanted)
+        self.bands = {} if self.result is None else drive_bands(
+            solved.base, sorted({node for _, node in wanted}))
 
     def _wanted(self) -> set[tuple[int, str]]:
         """(state index, node) of every setting the stages and the kit show."""
@@ -208,9 +212,10 @@ class Driven:
     def stage(self, stage: Stage) -> Drive:
         kit = self.solved.kit
         controls = [c for c in kit.controls if c.stage_id == stage.id]
-        return stage_drive(self.result, self.why, self._settings(controls),
-                           kit.stage_nodes(stage.id)[1], self._devices([stage]),
-                           self.solved.base.circuit, self.found)
+        node = kit.stage_nodes(stage.id)[1]
+        drive = stage_drive(self.result, self.why, self._settings(controls), node,
+                            self._devices([stage]), self.solved.base.circuit, self.found)
+        return replace(drive, band=self.bands.get(node))
 
     def kit(self) -> Drive:
         kit = self.solved.kit
@@ -219,7 +224,8 @@ class Driven:
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
                             self.solved.base.circuit, self.found)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
-        return replace(drive, rails=rail_touches(self.result, settings, opamps))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps),
+                       band=self.bands.get(OUTPUT))
 
 
 def stated_ripple(guide: Guide) -> tuple[float, float] | None:

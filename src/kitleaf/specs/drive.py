@@ -39,7 +39,8 @@ _SWEEPS: OrderedDict[str, object] = OrderedDict()
 SWEEPS_KEPT = 16
 
 
-def _kept(key: str, compute):
+def kept(key: str, compute):
+    """``compute()``, kept under ``key`` among the last SWEEPS_KEPT."""
     if key not in _SWEEPS:
         _SWEEPS[key] = compute()
         while len(_SWEEPS) > SWEEPS_KEPT:
@@ -51,13 +52,13 @@ def drive_sweep(states, nodes: list[str]) -> tuple[PeriodicResult | None, str]:
     """One periodic solve of every state (knob setting) at every level, keeping the kit's
     nodes; (None, the reason) when the engine cannot run it at all."""
     key = repr([s.circuit.elements for s in states]) + repr(nodes)
-    return _kept(key, lambda: _sweep(states, nodes))
+    return kept(key, lambda: _sweep(states, nodes))
 
 
 def drive_limits(states, result: PeriodicResult, wanted) -> dict[tuple, float | None]:
     """:func:`limits`, kept as the sweep is."""
     key = repr([s.circuit.elements for s in states]) + repr(sorted(wanted)) + "limits"
-    return _kept(key, lambda: limits(states, result, wanted))
+    return kept(key, lambda: limits(states, result, wanted))
 
 
 def _sweep(states, nodes: list[str]) -> tuple[PeriodicResult | None, str]:
