@@ -18,7 +18,7 @@ from kitleaf.guide.parse import parse_guide
 from kitleaf.render.plot_specs import drive_picture
 from kitleaf.specs import drive_limits
 from kitleaf.specs.derive import SolvedKit, derive_specs
-from kitleaf.specs.drive import LEVELS
+from kitleaf.specs.drive import GRID as LEVELS
 from kitleaf.specs.drive_band import BAND_SAMPLES
 from kitleaf.specs.drive_limits import first_bracket, refine
 from kitleaf.specs.export import specs_to_json

@@ -6,13 +6,15 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from tests.stages.kits import POWER, guide_text, stage_block
+from tests.stages.kits import POWER, gain_at, guide_text, stage_block
 
 from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.chain import OUTPUT
 from kitleaf.engine import reduced_steps, stepper
 from kitleaf.errors import GuideError, SpecError
 from kitleaf.guide.parse import parse_guide
-from kitleaf.render.plot_specs import drive_picture
+from kitleaf.render.plot_drive import render_drive_svg
+from kitleaf.render.plot_specs import drive_picture, wave_picture
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json
@@ -175,6 +177,46 @@ class TestRules:
         message = found[0].message
         assert "stage 'boost'" in message and "mV pickup peak" in message
         assert "knobs at half way" in message or "Level at" in message
+
+
+# The test boost with a small input capacitor, played softly at a tone near the high-pass
+# corner it sets
+PLAYED = ASKING.replace("large-signal: yes\n", "large-signal: yes\nplaying-levels: 10 mV, 50 mV"
+                        "\ntest-tone: 40 Hz\n", 1).replace("input-cap: C1 1u film",
+                                                           "input-cap: C1 22n film", 1)
+
+
+@pytest.fixture(scope="module")
+def played():
+    return solved(PLAYED, "played.md")
+
+
+class TestPlayingLevels:
+    def test_the_kit_is_played_at_its_own_levels_and_tone(self, played):
+        _, kit, specs = played
+        drive = specs.drive
+        assert drive.freq == 40.0 and [p.level for p in drive.base.points] == [0.01, 0.05]
+        assert {0.01, 0.05, 0.3, 1.0} <= set(drive.levels)  # the rules' own levels stay
+        # at a small level the fundamental's gain is the AC gain at that tone (the
+        # definition of small-signal analysis), the coupling corners' fall included
+        ac = abs(gain_at(kit, 40.0, OUTPUT))
+        assert abs(gain_at(kit, 1000.0, OUTPUT)) > 1.2 * ac
+        assert drive.base.points[0].harmonics[0] / 0.01 == pytest.approx(ac, rel=0.01)
+
+    def test_names_pictures_and_json_follow(self, played):
+        guide, kit, specs = played
+        values = computed_values(specs, kit)
+        assert {"kit.thd.10mv", "kit.peak.50mv"} <= set(values)
+        assert specs_to_json(specs)["drive"]["freq_hz"] == 40.0
+        svg = render_drive_svg(wave_picture(specs))
+        assert "50 ms" in svg and "10 mV pickup peak" in svg  # two periods of 40 Hz
+
+    def test_a_claim_at_a_level_not_played_says_so(self, played):
+        guide, kit, specs = played
+        text = PLAYED.replace("large-signal: yes", "large-signal: yes\nclaim: thd.300mv below "
+                              "1 %", 1)
+        with pytest.raises(SpecError, match="300mv is not one of the kit's playing levels"):
+            verify(parse_guide("played.md", text), kit, specs)
 
 
 class TestAsking:

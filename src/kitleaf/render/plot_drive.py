@@ -53,11 +53,14 @@ class CurvePanel:
 
 @dataclass(frozen=True)
 class DrivePicture:
-    """A picture's title and panels; ``levels`` are the curves' pickup levels (volts peak)."""
+    """A picture's title and panels; ``levels`` are the curves' pickup levels (volts peak),
+    of which the ``playing`` ones are labelled; ``freq`` is the pickup's tone (hertz)."""
 
     title: str
     panels: tuple
     levels: tuple[float, ...] = ()
+    playing: tuple[float, ...] = (0.1, 0.3, 1.0)
+    freq: float = 1000.0
 
 
 def render_drive_svg(picture: DrivePicture) -> str:
@@ -80,9 +83,9 @@ def render_drive_svg(picture: DrivePicture) -> str:
             sheet.text(LEFT_PT, top - 3.0 - (len(lines) - k) * LINE_EM * FONT_PT, text, FONT_PT)
         name = f"{prefix}-{i + 1}"
         if isinstance(panel, WavePanel):
-            _waves(sheet, name, panel, top)
+            _waves(sheet, name, panel, top, picture.freq)
         else:
-            _curves(sheet, name, panel, picture.levels, top)
+            _curves(sheet, name, panel, picture, top)
     return sheet.svg()
 
 
@@ -90,8 +93,8 @@ def _frame(top: float, x_range, y_range) -> Frame:
     return Frame(LEFT_PT, top, WIDTH_PT - LEFT_PT - RIGHT_PT, PANEL_HEIGHT_PT, x_range, y_range)
 
 
-def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float) -> None:
-    """Two cycles of the pickup's sine and of the output, time in milliseconds at 1 kHz."""
+def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float, freq: float) -> None:
+    """Two cycles of the pickup's sine and of the output, time in milliseconds."""
     out = np.asarray(panel.output, float)
     points = out.size
     t = np.arange(2 * points + 1) / points  # periods
@@ -104,13 +107,17 @@ def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float) -> None:
     _grid(sheet, frame, [0.5, 1.0, 1.5], ticks, "", clip)
     sheet.path(polyline(frame.x(t), frame.y(source)), draw.line(*INPUT_STYLE), clip)
     sheet.path(polyline(frame.x(t), frame.y(output)), draw.line(*OUTPUT_STYLE), clip)
-    _x_labels(sheet, frame, [0.0, 0.5, 1.0, 1.5, 2.0], ["0", "0.5", "1", "1.5", "2 ms"])
+    ticks_x = [0.0, 0.5, 1.0, 1.5, 2.0]  # periods
+    texts = [f"{t * 1000 / freq:.3g}" if t else "0" for t in ticks_x]
+    _x_labels(sheet, frame, ticks_x, [*texts[:-1], f"{texts[-1]} ms"])
     _y_labels(sheet, frame, ticks, [_volts(v) for v in ticks], "Volts")
     _legend(sheet, frame, [(INPUT_STYLE, "pickup"), (OUTPUT_STYLE, "output")])
 
 
-def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, levels, top: float) -> None:
+def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, picture: DrivePicture,
+            top: float) -> None:
     """One line per knob position on log scales: THD in % or output peak in volts."""
+    levels = picture.levels
     x = np.log10(np.asarray(levels, float))
     values = [np.asarray(v, float) for _, v in panel.lines]
     shown = np.concatenate(values + [np.asarray(b, float) for b in panel.band])
@@ -128,7 +135,8 @@ def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, levels, top: float
     for i, v in enumerate(values):
         sheet.path(polyline(frame.x(x), frame.y(_log(v))),
                    draw.line(*draw.style_of(i, len(values))), clip)
-    _x_labels(sheet, frame, x.tolist(), [_volts(v) for v in levels], every=_every(levels))
+    _x_labels(sheet, frame, x.tolist(), [_volts(v) for v in levels],
+              every=_every(levels, picture.playing))
     text = [_percent(10 ** d) if panel.axis == "thd" else _volts(10 ** d) for d in decades]
     _y_labels(sheet, frame, decades, text, "THD" if panel.axis == "thd" else "Output peak")
     entries = [(draw.style_of(i, len(values)), label) for i, (label, _) in enumerate(panel.lines)]
@@ -153,10 +161,9 @@ def _log(values) -> np.ndarray:
         return np.where(v > 0, np.log10(np.where(v > 0, v, 1.0)), np.nan)
 
 
-def _every(levels) -> list[bool]:
+def _every(levels, playing) -> list[bool]:
     """Which level labels to print: the playing levels and the ends (the rest would crowd)."""
-    return [i in (0, len(levels) - 1) or round(v, 3) in (0.1, 0.3, 1.0)
-            for i, v in enumerate(levels)]
+    return [i in (0, len(levels) - 1) or v in playing for i, v in enumerate(levels)]
 
 
 def _x_labels(sheet: SvgDocument, frame: Frame, at, texts, every=None) -> None:

@@ -96,7 +96,8 @@ def wave_picture(specs: KitSpecs) -> DrivePicture | None:
                                       f"THD {thd_text(p.thd)}, output "
                                       f"{format_value(p.peak, 'voltage')} peak", p.wave)
                    for p in drive.base.points)
-    return DrivePicture(f"{specs.title}: output beside the pickup, knobs at half way", panels)
+    return DrivePicture(f"{specs.title}: output beside the pickup, knobs at half way", panels,
+                        freq=drive.freq)
 
 
 def drive_picture(specs: KitSpecs) -> DrivePicture | None:
@@ -119,7 +120,8 @@ def drive_picture(specs: KitSpecs) -> DrivePicture | None:
                                  tuple((lb, s.peak) for lb, s in settings),
                                  (band.peak_low, band.peak_high) if band else ()))
     return DrivePicture(f"{specs.title}: distortion and output against the pickup level",
-                        tuple(panels), drive.levels)
+                        tuple(panels), drive.levels, tuple(p.level for p in drive.base.points),
+                        drive.freq)
 
 
 def _control_settings(drive: Drive, name: str) -> list:

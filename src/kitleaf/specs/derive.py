@@ -22,7 +22,9 @@ from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
 from kitleaf.specs.drive import (
     LIMITS,
+    DrivePlan,
     drive_limits,
+    drive_plan,
     drive_sweep,
     kit_nodes,
     rail_touches,
@@ -126,7 +128,7 @@ def _located(guide: Guide, kit: KitCircuit):
 def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
     # the large-signal sweep costs seconds: only for a kit that asks for it
-    driven = Driven(solved) if wants_large_signal(guide.kit) else None
+    driven = Driven(solved, drive_plan(guide.kit)) if wants_large_signal(guide.kit) else None
     stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
                    if driven and kit.kind(s).signal else stage_specs(solved, s)
                    for s in kit.stages)
@@ -170,18 +172,18 @@ class Driven:
     """The kit's large-signal sweep: every knob and switch setting the specs show, solved at
     once."""
 
-    def __init__(self, solved: SolvedKit) -> None:
-        self.solved = solved
+    def __init__(self, solved: SolvedKit, plan: DrivePlan) -> None:
+        self.solved, self.plan = solved, plan
         self.states = [solved.base]
         for control in solved.kit.controls:
             sweep = solved.sweeps[control.designator]
             self.states += [s for s in sweep if all(s is not t for t in self.states)]
-        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit), plan)
         wanted = self._wanted()
         self.found = {} if self.result is None else drive_limits(
-            self.states, self.result, wanted)
+            self.states, self.result, wanted, plan)
         self.bands = {} if self.result is None else drive_bands(
-            solved.base, sorted({node for _, node in wanted}))
+            solved.base, sorted({node for _, node in wanted}), plan)
 
     def _wanted(self) -> set[tuple[int, str]]:
         """(state index, node) of every setting the stages and the kit show."""
@@ -214,7 +216,8 @@ class Driven:
         controls = [c for c in kit.controls if c.stage_id == stage.id]
         node = kit.stage_nodes(stage.id)[1]
         drive = stage_drive(self.result, self.why, self._settings(controls), node,
-                            self._devices([stage]), self.solved.base.circuit, self.found)
+                            self._devices([stage]), self.solved.base.circuit, self.found,
+                            self.plan)
         return replace(drive, band=self.bands.get(node))
 
     def kit(self) -> Drive:
@@ -222,7 +225,7 @@ class Driven:
         settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
-                            self.solved.base.circuit, self.found)
+                            self.solved.base.circuit, self.found, self.plan)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
         return replace(drive, rails=rail_touches(self.result, settings, opamps),
                        band=self.bands.get(OUTPUT))

@@ -14,7 +14,7 @@ import numpy as np
 from kitleaf.circuit.chain import SOURCE
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.errors import KitleafError
-from kitleaf.specs.drive import DRIVE_HZ, LEVELS, POINTS, kept
+from kitleaf.specs.drive import POINTS, DrivePlan, kept
 from kitleaf.specs.model import DriveBand
 
 # Samples in the band: enough for its 5th and 95th percentiles to settle within a few
@@ -23,19 +23,19 @@ BAND_SAMPLES = 32
 PERCENTILES = (5.0, 95.0)
 
 
-def drive_bands(state, nodes: list[str]) -> dict[str, DriveBand]:
+def drive_bands(state, nodes: list[str], plan: DrivePlan) -> dict[str, DriveBand]:
     """The band at each of ``nodes`` (none where it could not be computed), the kit at
     ``state`` (a KitState: knobs at half way)."""
-    key = repr(state.circuit.elements) + repr(nodes) + "band"
-    return kept(key, lambda: _bands(state, nodes))
+    key = repr(state.circuit.elements) + repr(nodes) + repr(plan) + "band"
+    return kept(key, lambda: _bands(state, nodes, plan))
 
 
-def _bands(state, nodes: list[str]) -> dict[str, DriveBand]:
+def _bands(state, nodes: list[str], plan: DrivePlan) -> dict[str, DriveBand]:
     batch = state.samples.batch
     every = np.arange(batch.size) if batch.index is None else batch.index
     try:
         result = periodic_steady_state([batch.system.take(every[:BAND_SAMPLES])], SOURCE,
-                                       LEVELS, DRIVE_HZ, nodes=nodes, points=POINTS)
+                                       plan.levels, plan.freq, nodes=nodes, points=POINTS)
     except KitleafError:
         return {}
     settled = result.converged[0].all(axis=0)
