@@ -78,6 +78,41 @@ def _below_meter(value) -> bool:
     return all(abs(x) < SMALLEST_CURRENT for x in ends)
 
 
+def instability_words(unstable) -> str:
+    """What an unstable setting does (a specs ``Unstable``): "the circuit oscillates near
+    1.08 kHz (a pole pair in the right half plane)"."""
+    hz = format_value(unstable.hz, "frequency")
+    if unstable.oscillates:
+        return f"the circuit oscillates near {hz} (a pole pair in the right half plane)"
+    return f"the circuit runs to a rail (a growing real pole at {hz})"
+
+
+def unstable_text(unstable) -> str:
+    """What stands in place of a small-signal figure at an unstable setting."""
+    return f"not meaningful: {instability_words(unstable)}"
+
+
+def small_signal_text(value, quantity: str, unstable=None) -> str:
+    """:func:`range_text`, or :func:`unstable_text` where the setting is unstable."""
+    return unstable_text(unstable) if unstable is not None else range_text(value, quantity)
+
+
+def setting_rows(specs, field: str, quantity: str, switches) -> list[tuple[bool, str, str]]:
+    """A figure of a specs table (``field`` of a kit's or stage's specs) at rest and per knob
+    or switch setting, as rows (a sub-row?, the words after the label or the setting, the
+    text); one row when every setting shows the same text, none without the figure."""
+    rest = getattr(specs, field)
+    if rest is None:
+        return []
+    text = small_signal_text(rest, quantity, specs.unstable)
+    rows = [(True, settings(p.positions), small_signal_text(getattr(p, field), quantity,
+                                                             p.unstable))
+            for p in specs.knob_sweep if getattr(p, field) is not None]
+    if all(shown == text for _, _, shown in rows):
+        return [(False, "at every knob position" if rows else "", text)]
+    return [(False, at_rest(switches), text), *rows]
+
+
 def dbv(volts: float) -> float:
     """RMS volts in decibels relative to 1 V RMS (dBV)."""
     return 20.0 * math.log10(volts) if volts > 0 else -math.inf
@@ -160,6 +195,9 @@ def trim_travel(trim) -> str:
 FORMATTERS: dict[str, Callable[..., str]] = {
     "si": si,
     "range_text": range_text,
+    "small_signal_text": small_signal_text,
+    "setting_rows": setting_rows,
+    "unstable_text": unstable_text,
     "percent": percent,
     "figure": figure,
     "thd_text": thd_text,

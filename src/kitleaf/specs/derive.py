@@ -40,6 +40,7 @@ from kitleaf.specs.response import FREQS
 from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
 from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.stability import unstable_at
 from kitleaf.specs.trim import trims
 
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
@@ -155,6 +156,7 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         trims=trims(kit),
         ripple=ripple, hum=None if hum is None else base.range(hum),
         clips=any(s.clips for s in stages),
+        unstable=unstable_at(base),
     )
 
 
@@ -238,6 +240,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
         clips=kit.kind(stage).clips,
+        unstable=unstable_at(base),
     )
 
 
@@ -267,7 +270,8 @@ def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
                            state.range(z[0]), state.range(z[1]),
                            scoop=scoop(state, node_in, node_out, spread=False) if scoops
                            else None,
-                           hum=None if hum is None else state.range(hum))
+                           hum=None if hum is None else state.range(hum),
+                           unstable=unstable_at(state))
                  for c in controls
                  for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                               strict=True))
