@@ -39,6 +39,7 @@ from kitleaf.specs.plotdata import band, curves
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
+from kitleaf.specs.signal_path import check_signal_path
 from kitleaf.specs.solve import KitState, nominal_positions
 from kitleaf.specs.stability import unstable_at
 from kitleaf.specs.trim import trims
@@ -56,6 +57,7 @@ class SolvedKit:
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
         check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
+        check_signal_path(kit, self.base.nominal)
         self.sweeps = {c.designator: tuple(self._state(c.designator, p) for p, _ in c.steps)
                        for c in kit.controls}
         self._check_sweeps()
