@@ -13,12 +13,16 @@ from tests.stages.kits import POWER, guide_text, make_kit, stage_block
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.engine import growing
+from kitleaf.errors import SpecError
 from kitleaf.guide.parse import parse_guide
 from kitleaf.render.environment import make_environment, packaged_theme
+from kitleaf.render.inline import prose_env
+from kitleaf.render.prose import render_prose
 from kitleaf.render.specs_text import specs_to_text
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs, solve_kit
 from kitleaf.specs.export import specs_to_json
+from kitleaf.specs.lookup import computed_values
 from kitleaf.specs.solve import KitState
 from kitleaf.specs.stability import unstable_at
 
@@ -152,3 +156,26 @@ def test_no_demo_guide_setting_is_unstable(path):
     solved = solve_kit(guide, build_circuit(guide))
     states = [solved.base, *(s for sweep in solved.sweeps.values() for s in sweep)]
     assert [unstable_at(s) for s in states] == [None] * len(states)
+
+
+def test_a_claim_on_an_unstable_figure_cannot_hold(pnp_fuzz):
+    _, _, specs = pnp_fuzz
+    claim = "claim: gain.fuzz-100 above 60 dB"
+    text = fuzz_text("2N3906").replace("kind: direct-coupled-fuzz",
+                                       f"kind: direct-coupled-fuzz\n{claim}")
+    guide = parse_guide("fuzz.md", text)
+    kit = build_circuit(guide)
+    with pytest.raises(SpecError, match="cannot hold: the figure is not meaningful: the circuit "
+                                        "oscillates near 1.08 kHz") as caught:
+        verify(guide, kit, specs)
+    assert caught.value.span.line == text.splitlines().index(claim) + 1
+
+
+def test_prose_shows_no_figure_there(pnp_fuzz):
+    guide, kit, specs = pnp_fuzz
+    values = computed_values(specs, kit)
+    pieces = render_prose("At full gain it gives {=fuzz.gain.fuzz-100}.\n",
+                          prose_env("fuzz.md", values))
+    html = "".join(p.content for p in pieces if p.kind == "html")
+    assert "not meaningful: the circuit oscillates near 1.08 kHz" in html and " dB" not in html
+    assert values["fuzz.gain.fuzz-75"].unstable is None
