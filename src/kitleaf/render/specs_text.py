@@ -47,8 +47,8 @@ def specs_to_text(specs: KitSpecs) -> str:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
             lines += [f"    {_gain_words(s.clips) + ' ':<17}{small(s.gain_db, 'db')}",
-                      f"    low corner       {small(s.low_corner_hz, 'frequency')}",
-                      f"    high corner      {small(s.high_corner_hz, 'frequency')}",
+                      *(_corner_lines(s, unstable) if s.passband else
+                        ["    corners          none given (no flat band: see the mid scoop)"]),
                       f"    input impedance  {small(s.input_impedance, 'resistance')}",
                       f"    output impedance {small(s.output_impedance, 'resistance')}"]
         if s.scoop is not None and unstable is not None:
@@ -61,6 +61,11 @@ def specs_to_text(specs: KitSpecs) -> str:
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
             lines.append(f"    {v.label:<16} {readings}")
     return "\n".join(lines)
+
+
+def _corner_lines(s, unstable=None) -> list[str]:
+    return [f"    low corner       {small_signal_text(s.low_corner_hz, 'frequency', unstable)}",
+            f"    high corner      {small_signal_text(s.high_corner_hz, 'frequency', unstable)}"]
 
 
 def _gain_words(clips: bool) -> str:

@@ -215,6 +215,8 @@ class StageSpecs:
     hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
     # The stage clips by design: its gain figures hold for small signals only.
     clips: bool = False
+    # Its −3 dB corners describe it (not for a tone stack or blend: StageKind.passband).
+    passband: bool = True
     # The kit is unstable with the knobs at half way: every small-signal figure means nothing.
     unstable: Unstable | None = None
 
