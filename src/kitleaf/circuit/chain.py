@@ -266,7 +266,7 @@ class KitCircuit:
         """The nodes where the stages meet: the chain's nodes between them and the power
         section's rails (a large kit's AC response is solved stage by stage, joined here)."""
         chain = [INPUT] + [self.stage_nodes(s.id)[1] for s in self.signal_stages]
-        rails = ["vcc", "vref", DOUBLED_NODE, NEGATIVE_NODE] if self.has_power_stage else []
+        rails = list(POWER_RAILS) if self.has_power_stage else []
         return tuple(dict.fromkeys(chain + [OUTPUT] + rails))
 
     @cached_property
