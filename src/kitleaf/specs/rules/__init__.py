@@ -58,6 +58,7 @@ MODULES = (
     "asymmetric_clip",
     "opamp_rail",
     "hum",
+    "pump_ripple",
 )
 
 
