@@ -76,7 +76,7 @@ def _swing(h: Headroom | None) -> str:
 
 
 def _drive_lines(drive: Drive | None) -> list[str]:
-    """The large-signal figures with every knob at half (a 1 kHz sine from the pickup)."""
+    """The large-signal figures with every knob at half (a sine from the pickup)."""
     if drive is None:
         return []
     d = drive.base

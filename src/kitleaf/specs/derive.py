@@ -20,7 +20,17 @@ from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
-from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
+from kitleaf.specs.drive import (
+    LIMITS,
+    DrivePlan,
+    drive_limits,
+    drive_plan,
+    drive_sweep,
+    kit_nodes,
+    rail_touches,
+    stage_drive,
+)
+from kitleaf.specs.drive_band import drive_bands
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
@@ -119,7 +129,7 @@ def _located(guide: Guide, kit: KitCircuit):
 def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
     # the large-signal sweep costs seconds: only for a kit that asks for it
-    driven = Driven(solved) if wants_large_signal(guide.kit) else None
+    driven = Driven(solved, drive_plan(guide.kit)) if wants_large_signal(guide.kit) else None
     stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
                    if driven and kit.kind(s).signal else stage_specs(solved, s)
                    for s in kit.stages)
@@ -161,22 +171,41 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
 
 
 class Driven:
-    """The kit's large-signal sweep: every knob setting the specs show, solved at once."""
+    """The kit's large-signal sweep: every knob and switch setting the specs show, solved at
+    once."""
 
-    def __init__(self, solved: SolvedKit) -> None:
-        self.solved = solved
+    def __init__(self, solved: SolvedKit, plan: DrivePlan) -> None:
+        self.solved, self.plan = solved, plan
         self.states = [solved.base]
-        for knob in solved.kit.knobs:
-            sweep = solved.sweeps[knob.designator]
+        for control in solved.kit.controls:
+            sweep = solved.sweeps[control.designator]
             self.states += [s for s in sweep if all(s is not t for t in self.states)]
-        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit), plan)
+        wanted = self._wanted()
+        self.found = {} if self.result is None else drive_limits(
+            self.states, self.result, wanted, plan)
+        self.bands = {} if self.result is None else drive_bands(
+            solved.base, sorted({node for _, node in wanted}), plan)
 
-    def _settings(self, knobs) -> list[tuple[int, tuple]]:
+    def _wanted(self) -> set[tuple[int, str]]:
+        """(state index, node) of every setting the stages and the kit show."""
+        kit = self.solved.kit
+        wanted = {(i, OUTPUT) for i, _ in self._settings(kit.controls)}
+        for stage in kit.signal_stages:
+            controls = [c for c in kit.controls if c.stage_id == stage.id]
+            node = kit.stage_nodes(stage.id)[1]
+            wanted |= {(i, node) for i, _ in self._settings(controls)}
+        return wanted
+
+    def _settings(self, controls) -> list[tuple[int, tuple]]:
+        """(state index, positions) of the knobs and switches at rest, then of each of
+        ``controls`` at each of its steps (a switch's position by its name)."""
         found = [(0, ())]
-        for k in knobs:
-            for (_, pos), state in zip(k.steps, self.solved.sweeps[k.designator], strict=True):
+        for c in controls:
+            for (_, shown), state in zip(c.steps, self.solved.sweeps[c.designator],
+                                         strict=True):
                 index = next(i for i, s in enumerate(self.states) if s is state)
-                found.append((index, ((k.name, pos),)))
+                found.append((index, ((c.name, shown),)))
         return found
 
     def _devices(self, stages) -> tuple:
@@ -186,19 +215,22 @@ class Driven:
 
     def stage(self, stage: Stage) -> Drive:
         kit = self.solved.kit
-        knobs = [k for k in kit.knobs if k.stage_id == stage.id]
-        return stage_drive(self.result, self.why, self._settings(knobs),
-                           kit.stage_nodes(stage.id)[1], self._devices([stage]),
-                           self.solved.base.circuit)
+        controls = [c for c in kit.controls if c.stage_id == stage.id]
+        node = kit.stage_nodes(stage.id)[1]
+        drive = stage_drive(self.result, self.why, self._settings(controls), node,
+                            self._devices([stage]), self.solved.base.circuit, self.found,
+                            self.plan)
+        return replace(drive, band=self.bands.get(node))
 
     def kit(self) -> Drive:
         kit = self.solved.kit
-        settings = self._settings(kit.knobs)
+        settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
-                            self.solved.base.circuit)
+                            self.solved.base.circuit, self.found, self.plan)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
-        return replace(drive, rails=rail_touches(self.result, settings, opamps))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps),
+                       band=self.bands.get(OUTPUT))
 
 
 def stated_ripple(guide: Guide) -> tuple[float, float] | None:

@@ -7,6 +7,7 @@ from kitleaf.specs.model import (
     SAMPLES,
     Curve,
     Drive,
+    DriveBand,
     DriveSetting,
     Headroom,
     KitSpecs,
@@ -87,7 +88,17 @@ def _drive(d: Drive | None) -> dict | None:
     if d is None:
         return None
     return {"freq_hz": _num(d.freq), "levels_v_peak": [_num(x) for x in d.levels],
-            "settings": [_setting(s) for s in d.settings]}
+            "settings": [_setting(s) for s in d.settings], "tolerance": _drive_band(d.band)}
+
+
+def _drive_band(b: DriveBand | None) -> dict | None:
+    if b is None:
+        return None
+    return {"samples": b.samples,
+            "thd_percent": {"low": [_num(x * 100, 4) for x in b.thd_low],
+                            "high": [_num(x * 100, 4) for x in b.thd_high]},
+            "output_peak_v": {"low": [_num(x, 4) for x in b.peak_low],
+                              "high": [_num(x, 4) for x in b.peak_high]}}
 
 
 def _scoop(s: Scoop | None) -> dict | None:

@@ -9,6 +9,7 @@ switch set to its position "LEDs"), ``boost.q1.collector`` (a test point),
 from __future__ import annotations
 
 import difflib
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
@@ -17,6 +18,7 @@ from kitleaf.circuit.kind import point_name
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
+from kitleaf.guide.kit_lines import PLAYING_VOLTS, level_word
 from kitleaf.guide.slug import slug_for as slug
 from kitleaf.specs.model import (
     DriveSetting,
@@ -126,11 +128,6 @@ DRIVE_FIELDS = (
 )
 
 
-def level_name(level: float) -> str:
-    """A playing level in a name: 0.3 -> "300mv", 1.0 -> "1v"."""
-    return f"{level:g}v" if level >= 1.0 else f"{round(level * 1000)}mv"
-
-
 def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> None:
     """A setting's figures (none when not computed), named with its knob positions."""
     point = KnobPoint(setting.positions, Range(0.0))
@@ -145,7 +142,7 @@ def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> N
     for field, name, quantity, label in DRIVE_FIELDS:
         add(name, getattr(setting, field), quantity, label)
     for p in setting.points:
-        level, words = level_name(p.level), format_value(p.level, "voltage")
+        level, words = level_word(p.level), format_value(p.level, "voltage")
         add(f"thd.{level}", p.thd, "thd", f"THD at {words} pickup peak")
         add(f"peak.{level}", p.peak, "voltage", f"output peak at {words} pickup peak")
     for name, swing, side in (("swing-up", setting.swing_up, "above"),
@@ -188,8 +185,32 @@ def lookup(values: Mapping[str, Computed], name: str, span: SourceSpan | None,
     for candidate in candidates(name, scope):
         if candidate in values:
             return values[candidate]
-    raise SpecError(f"there is no computed value '{name}'{_nearest(values, name, scope)}; "
+    why = _level_problem(values, name) or _nearest(values, name, scope)
+    raise SpecError(f"there is no computed value '{name}'{why}; "
                     "docs/claims-and-rules.md lists the names", span)
+
+
+_LEVEL_NAME = re.compile(r"(?:^|\.)(?:thd|peak)\.([^.]*)")
+_LEVEL_WORD = re.compile(r"^([-+]?\d+(?:\.\d*)?(?:e[-+]?\d+)?)(mv|v)$")
+
+
+def _level_problem(values: Mapping[str, Computed], name: str) -> str:
+    """Why a THD or peak name at a pickup level has no value: the level cannot be
+    simulated, the kit does not play it, or it has no large-signal figures."""
+    found = _LEVEL_NAME.search(name.strip().lower())
+    word = _LEVEL_WORD.match(found[1]) if found else None
+    if word is None:
+        return ""
+    volts = float(word[1]) * (1e-3 if word[2] == "mv" else 1.0)
+    low, high = PLAYING_VOLTS
+    if not low <= volts <= high:
+        return (f": {found[1]} is no pickup level that can be simulated (levels run from "
+                f"{format_value(low, 'voltage')} to {format_value(high, 'voltage')} peak)")
+    if not any(".thd." in n for n in values):
+        return (": large-signal figures are computed only for a kit whose kit block says "
+                "'large-signal: yes'")
+    return (f": {found[1]} is not one of the kit's playing levels; list it in the kit "
+            "block's 'playing-levels:' line")
 
 
 def _nearest(values: Mapping[str, Computed], name: str, scope: str | None) -> str:

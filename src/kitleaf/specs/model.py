@@ -163,6 +163,19 @@ class DriveSetting:
 
 
 @dataclass(frozen=True)
+class DriveBand:
+    """The spread of the large-signal figures over part-tolerance samples, knobs at half
+    way: 5th and 95th percentiles of THD and of the output's peak at each sweep level, over
+    the ``samples`` builds whose periodic solve settled."""
+
+    samples: int
+    thd_low: tuple[float, ...]
+    thd_high: tuple[float, ...]
+    peak_low: tuple[float, ...]
+    peak_high: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class Drive:
     """A stage's (or the kit's) output under a 1 kHz sine from the pickup, per knob setting."""
 
@@ -171,9 +184,8 @@ class Drive:
     freq: float = 1000.0
     # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
     rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
-    # THD's 5th and 95th percentiles at each level over part-tolerance samples, knobs at
-    # half way (empty when not run)
-    band: tuple = ()
+    # the tolerance spread, knobs at half way (None when it could not be computed)
+    band: DriveBand | None = None
 
     @property
     def base(self) -> DriveSetting:
