@@ -14,7 +14,9 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
     stage = specs.stage(stage_id)
     if not stage.signal or not stage.curves:
         return None
-    if KINDS[stage.kind].shapes_response:  # its corners follow its knobs: mark the scoop
+    if stage.unstable is not None:  # no corner to mark where the circuit oscillates
+        corners = ()
+    elif KINDS[stage.kind].shapes_response:  # its corners follow its knobs: mark the scoop
         corners = _scoop(stage.scoop)
     else:
         corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
@@ -23,7 +25,7 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
 
 
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
-    corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
+    corners = () if specs.unstable else _corners(specs.low_corner_hz, specs.high_corner_hz)
     return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
                         specs.freqs,
                         _panels(specs.curves, specs.band_low, specs.band_high, corners))
@@ -46,6 +48,12 @@ def _panels(curves: tuple[Curve, ...], low, high, corners
 
 
 def _label(curve: Curve) -> str:
+    """The legend's words; an unstable setting's curve says that it is no response."""
+    words = _setting_label(curve)
+    return words if curve.unstable is None else f"{words} (unstable: not a response)"
+
+
+def _setting_label(curve: Curve) -> str:
     if not curve.knob:
         return "nominal parts"
     if isinstance(curve.position, str):

@@ -50,7 +50,9 @@ from kitleaf.specs.pump_ripple import pump_ripples
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
+from kitleaf.specs.signal_path import check_signal_path
 from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.stability import unstable_at
 from kitleaf.specs.trim import trims
 
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
@@ -66,6 +68,7 @@ class SolvedKit:
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
         check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
+        check_signal_path(kit, self.base.nominal)
         self.sweeps = {c.designator: tuple(self._state(c.designator, p) for p, _ in c.steps)
                        for c in kit.controls}
         self._check_sweeps()
@@ -167,6 +170,7 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         ripple=ripple, hum=None if hum is None else base.range(hum),
         pump_ripples=pump_ripples(solved),
         clips=any(s.clips for s in stages),
+        unstable=unstable_at(base),
     )
 
 
@@ -272,6 +276,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
         clips=kit.kind(stage).clips, passband=kit.kind(stage).passband,
+        unstable=unstable_at(base),
     )
 
 
@@ -301,7 +306,8 @@ def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
                            state.range(z[0]), state.range(z[1]),
                            scoop=scoop(state, node_in, node_out, spread=False) if scoops
                            else None,
-                           hum=None if hum is None else state.range(hum))
+                           hum=None if hum is None else state.range(hum),
+                           unstable=unstable_at(state))
                  for c in controls
                  for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                               strict=True))

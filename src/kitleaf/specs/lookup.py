@@ -28,6 +28,7 @@ from kitleaf.specs.model import (
     Range,
     Scoop,
     StageSpecs,
+    Unstable,
 )
 from kitleaf.values import format_value
 
@@ -43,6 +44,8 @@ FIELDS = (
     ("hum", "hum", "voltage", "hum at the output from the adapter's ripple (RMS)"),
 )
 
+# The fields read at DC, which an unstable small-signal circuit leaves as they are.
+DC_FIELDS = ("supply_current",)
 # KnobPoint field -> the same, for the figures given at every knob position.
 KNOB_FIELDS = tuple(f for f in FIELDS if f[0] in ("gain_db", "input_impedance",
                                                     "output_impedance", "hum"))
@@ -59,6 +62,8 @@ class Computed:
     # Another way a maker may spell it, offered by the did-you-mean only: a custom test
     # point labelled "Q2 source" is ``buffer.s``, but a maker may try ``buffer.q2.source``.
     spelling: str = ""
+    # A small-signal figure of an unstable setting: it means nothing (specs/stability.py).
+    unstable: Unstable | None = None
 
 
 def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
@@ -104,17 +109,19 @@ def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: st
         value = getattr(specs, field)
         if value is not None:
             full = f"{prefix}.{name}"
-            found[full] = Computed(full, value, quantity, f"{label}, {title}")
-    _add_scoop(found, prefix, "", getattr(specs, "scoop", None), title)
+            found[full] = Computed(full, value, quantity, f"{label}, {title}",
+                                   unstable=None if field in DC_FIELDS else specs.unstable)
+    _add_scoop(found, prefix, "", getattr(specs, "scoop", None), title, specs.unstable)
     for point in specs.knob_sweep:
         for field, name, quantity, label in KNOB_FIELDS:
             value = getattr(point, field)
             if value is not None:
                 full = f"{prefix}.{name}.{_knob_suffix(point)}"
                 found[full] = Computed(full, value, quantity,
-                                       f"{label}, {title}, {_knob_words(point)}")
+                                       f"{label}, {title}, {_knob_words(point)}",
+                                       unstable=point.unstable)
         _add_scoop(found, prefix, f".{_knob_suffix(point)}", point.scoop,
-                   f"{title}, {_knob_words(point)}")
+                   f"{title}, {_knob_words(point)}", point.unstable)
     if specs.drive is not None:
         for setting in specs.drive.settings:
             _add_drive(found, prefix, setting, title)
@@ -151,7 +158,8 @@ def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> N
             f"output swing limit {side} its mean")
 
 
-def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title: str) -> None:
+def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title: str,
+               unstable: Unstable | None) -> None:
     """A passive tone control's mid scoop: its depth and where it lies (see specs/scoop.py)."""
     if scoop is None:
         return
@@ -159,7 +167,7 @@ def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title
                                          ("scoop-frequency", scoop.hz, "frequency",
                                           "mid scoop frequency")):
         full = f"{prefix}.{name}{suffix}"
-        found[full] = Computed(full, value, quantity, f"{label}, {title}")
+        found[full] = Computed(full, value, quantity, f"{label}, {title}", unstable=unstable)
 
 
 def _knob_suffix(point: KnobPoint) -> str:

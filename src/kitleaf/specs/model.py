@@ -30,6 +30,22 @@ class Range:
 
 
 @dataclass(frozen=True)
+class Unstable:
+    """A setting whose small-signal circuit has a pole in the right half plane, nominal parts
+    (specs/stability.py): the circuit oscillates there (a pole pair) or runs to a rail (a
+    real pole) instead of amplifying, so its gain, corners and impedances mean nothing.
+
+    ``hz`` is the fastest-growing pole's frequency |s| / 2 pi, ``growth`` its real part (1/s:
+    the growth rate of the mode), ``stage`` the stage whose nodes swing most in that mode
+    ("" when no stage's do)."""
+
+    hz: float
+    growth: float
+    oscillates: bool
+    stage: str = ""
+
+
+@dataclass(frozen=True)
 class Scoop:
     """The deepest dip of a tone stage's response, 10 Hz to 40 kHz: how far it falls below the
     lower of the highest gains on either side of it, and where."""
@@ -65,6 +81,7 @@ class KnobPoint:
     output_impedance: Range | None = None
     scoop: Scoop | None = None  # nominal parts; for passive tone controls only
     hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
+    unstable: Unstable | None = None  # the figures above mean nothing at this setting
 
 
 @dataclass(frozen=True)
@@ -101,6 +118,7 @@ class Curve:
     position: float | str | None
     gain_db: tuple[float, ...]
     at_rest: bool = False  # the position the control rests at (a knob's half way)
+    unstable: Unstable | None = None  # the curve is no response at this setting
 
 
 @dataclass(frozen=True)
@@ -226,6 +244,8 @@ class StageSpecs:
     clips: bool = False
     # Its −3 dB corners describe it (not for a tone stack or blend: StageKind.passband).
     passband: bool = True
+    # The kit is unstable with the knobs at half way: every small-signal figure means nothing.
+    unstable: Unstable | None = None
 
 
 @dataclass(frozen=True)
@@ -271,6 +291,8 @@ class KitSpecs:
     ripple: tuple[float, float] | None = None
     hum: Range | None = None
     pump_ripples: tuple[PumpRipple, ...] = ()  # each charge pump's own switching ripple
+    # Unstable with the knobs at half way (each other setting's is on its knob_sweep point).
+    unstable: Unstable | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)
