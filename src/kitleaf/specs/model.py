@@ -30,6 +30,22 @@ class Range:
 
 
 @dataclass(frozen=True)
+class Unstable:
+    """A setting whose small-signal circuit has a pole in the right half plane, nominal parts
+    (specs/stability.py): the circuit oscillates there (a pole pair) or runs to a rail (a
+    real pole) instead of amplifying, so its gain, corners and impedances mean nothing.
+
+    ``hz`` is the fastest-growing pole's frequency |s| / 2 pi, ``growth`` its real part (1/s:
+    the growth rate of the mode), ``stage`` the stage whose nodes swing most in that mode
+    ("" when no stage's do)."""
+
+    hz: float
+    growth: float
+    oscillates: bool
+    stage: str = ""
+
+
+@dataclass(frozen=True)
 class Scoop:
     """The deepest dip of a tone stage's response, 10 Hz to 40 kHz: how far it falls below the
     lower of the highest gains on either side of it, and where."""
@@ -50,6 +66,7 @@ class KnobPoint:
     output_impedance: Range | None = None
     scoop: Scoop | None = None  # nominal parts; for passive tone controls only
     hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
+    unstable: Unstable | None = None  # the figures above mean nothing at this setting
 
 
 @dataclass(frozen=True)
@@ -86,6 +103,7 @@ class Curve:
     position: float | str | None
     gain_db: tuple[float, ...]
     at_rest: bool = False  # the position the control rests at (a knob's half way)
+    unstable: Unstable | None = None  # the curve is no response at this setting
 
 
 @dataclass(frozen=True)
@@ -148,6 +166,19 @@ class DriveSetting:
 
 
 @dataclass(frozen=True)
+class DriveBand:
+    """The spread of the large-signal figures over part-tolerance samples, knobs at half
+    way: 5th and 95th percentiles of THD and of the output's peak at each sweep level, over
+    the ``samples`` builds whose periodic solve settled."""
+
+    samples: int
+    thd_low: tuple[float, ...]
+    thd_high: tuple[float, ...]
+    peak_low: tuple[float, ...]
+    peak_high: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class Drive:
     """A stage's (or the kit's) output under a 1 kHz sine from the pickup, per knob setting."""
 
@@ -156,9 +187,8 @@ class Drive:
     freq: float = 1000.0
     # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
     rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
-    # THD's 5th and 95th percentiles at each level over part-tolerance samples, knobs at
-    # half way (empty when not run)
-    band: tuple = ()
+    # the tolerance spread, knobs at half way (None when it could not be computed)
+    band: DriveBand | None = None
 
     @property
     def base(self) -> DriveSetting:
@@ -199,6 +229,8 @@ class StageSpecs:
     clips: bool = False
     # Its −3 dB corners describe it (not for a tone stack or blend: StageKind.passband).
     passband: bool = True
+    # The kit is unstable with the knobs at half way: every small-signal figure means nothing.
+    unstable: Unstable | None = None
 
 
 @dataclass(frozen=True)
@@ -243,6 +275,8 @@ class KitSpecs:
     # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
     ripple: tuple[float, float] | None = None
     hum: Range | None = None
+    # Unstable with the knobs at half way (each other setting's is on its knob_sweep point).
+    unstable: Unstable | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

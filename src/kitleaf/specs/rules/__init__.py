@@ -40,6 +40,7 @@ MODULES = (
     "resistor_power",
     "coupling_corner",
     "treble_corner",
+    "stable",
     "transistor_region",
     "opamp_headroom",
     "bias_path",
