@@ -41,6 +41,10 @@ def specs_to_text(specs: KitSpecs) -> str:
         lines.append(f"  hum at the output  {_hum(specs.hum, unstable)}")
         lines.extend(f"    {_knobs(p):<{width}}{_hum(p.hum, p.unstable)}"
                      for p in specs.knob_sweep)
+    for r in specs.pump_ripples:
+        lines.append(f"  {r.pump} switching ripple {range_text(r.volts_pp, 'voltage')} p-p on "
+                     f"{r.rail.upper()} at {si(r.hz, 'frequency')}; at the output "
+                     f"{hum_text(r.output)}")
     for trim in specs.trims:
         lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:

@@ -46,6 +46,7 @@ from kitleaf.specs.model import (
     Voltage,
 )
 from kitleaf.specs.plotdata import band, curves
+from kitleaf.specs.pump_ripple import pump_ripples
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
@@ -167,6 +168,7 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         drive=driven.kit() if driven else None,
         trims=trims(kit),
         ripple=ripple, hum=None if hum is None else base.range(hum),
+        pump_ripples=pump_ripples(solved),
         clips=any(s.clips for s in stages),
         unstable=unstable_at(base),
     )

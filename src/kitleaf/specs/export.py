@@ -12,6 +12,7 @@ from kitleaf.specs.model import (
     Headroom,
     KitSpecs,
     KnobPoint,
+    PumpRipple,
     Range,
     Scoop,
     StageSpecs,
@@ -83,6 +84,13 @@ def _dbv(r: Range | None) -> dict | None:
         return None
     levels = (None if x is None else max(dbv(x), -300.0) for x in (r.nominal, r.low, r.high))
     return _range(Range(*levels))
+
+
+def _pump_ripple(r: PumpRipple) -> dict:
+    return {"pump": r.pump, "rail": r.rail, "hz": _num(r.hz), "mv_pp": _range(r.volts_pp, 1e3),
+            "output_mv_rms": _range(r.output, 1e3), "output_dbv": _dbv(r.output),
+            "loudest_mv_rms": _num(r.loudest * 1e3),
+            "loudest_knobs": {name: pos for name, pos in r.loudest_at}}
 
 
 def _ripple(ripple: tuple[float, float] | None) -> dict | None:
@@ -179,6 +187,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "adapter_ripple": _ripple(specs.ripple),
         "hum_mv_rms": _small(specs.hum, specs.unstable, 1e3),
         "hum_dbv": None if specs.unstable else _dbv(specs.hum),
+        "pump_ripple": [_pump_ripple(r) for r in specs.pump_ripples],
         "response": _response(specs.freqs, specs.curves, specs.band_low, specs.band_high),
         "stages": [_stage(s, specs) for s in specs.stages],
         "trims": [{"trimmer": t.designator, "stage": t.stage_id, "point": t.label,

@@ -24,6 +24,7 @@ from kitleaf.specs.model import (
     DriveSetting,
     KitSpecs,
     KnobPoint,
+    PumpRipple,
     Range,
     Scoop,
     StageSpecs,
@@ -75,6 +76,8 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
             "gain at 1 kHz from the source's own voltage, the kit")
     found[f"{KIT}.supply"] = Computed(f"{KIT}.supply", Range(specs.supply_v), "voltage",
                                       "supply voltage")
+    for ripple in specs.pump_ripples:
+        _add_pump_ripple(found, ripple)
     local = {s.id: [tp.node for tp in kit.kind(s).test_points(s)] for s in kit.stages}
     for stage in specs.stages:
         _add_specs(found, stage.id, stage, stage.title)
@@ -89,6 +92,16 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
             name = part.designator.lower()
             found[name] = Computed(name, Range(part.value), quantity, f"value of {part.designator}")
     return found
+
+
+def _add_pump_ripple(found: dict, ripple: PumpRipple) -> None:
+    """A charge pump's ripple on its rail (peak to peak) and at the output (RMS)."""
+    name = f"{KIT}.pump-ripple.{ripple.pump.lower()}"
+    found[name] = Computed(name, ripple.volts_pp, "voltage",
+                           f"{ripple.pump}'s switching ripple on its rail (peak to peak)")
+    found[f"{name}.output"] = Computed(
+        f"{name}.output", ripple.output, "voltage",
+        f"{ripple.pump}'s switching ripple at the output (RMS), knobs at half way")
 
 
 def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: str) -> None:

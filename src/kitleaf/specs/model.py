@@ -55,6 +55,21 @@ class Scoop:
 
 
 @dataclass(frozen=True)
+class PumpRipple:
+    """A charge pump's switching ripple (specs/pump_ripple.py): peak-to-peak volts on the rail
+    it makes, at ``hz``, and the RMS volts of it at the kit's output, knobs at half way; and
+    the loudest at the output over the knob and switch settings (nominal parts), where."""
+
+    pump: str  # the chip's designator
+    rail: str  # the rail's node: v2 (doubled) or vee (negative)
+    hz: float
+    volts_pp: Range
+    output: Range
+    loudest_at: tuple[tuple[str, float | str], ...]  # () with the knobs at half way
+    loudest: float
+
+
+@dataclass(frozen=True)
 class KnobPoint:
     """The gain at 1 kHz with the kit's knobs at given positions (0..1 of rotation) or its
     switches at given positions (by name), and the impedances there (None where not
@@ -275,6 +290,7 @@ class KitSpecs:
     # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
     ripple: tuple[float, float] | None = None
     hum: Range | None = None
+    pump_ripples: tuple[PumpRipple, ...] = ()  # each charge pump's own switching ripple
     # Unstable with the knobs at half way (each other setting's is on its knob_sweep point).
     unstable: Unstable | None = None
 

@@ -59,6 +59,7 @@ MODULES = (
     "asymmetric_clip",
     "opamp_rail",
     "hum",
+    "pump_ripple",
 )
 
 
