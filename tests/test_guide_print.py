@@ -89,7 +89,10 @@ def test_first_page_carries_the_title_and_the_kit_at_a_glance(printed, name, pap
     slug = HEADED if name == "headed" else name
     guide = parse_guide(DEMO_GUIDES / f"{slug}.md")
     assert body_of(first)[0] == guide.kit.title
-    assert "The kit at a glance" in first and "Gain at 1 kHz" in first
+    # A kit that clips by design says "Small-signal gain at 1 kHz"; poppler may break the label
+    # around its table cell's neighbours, so "kHz" is looked for on its own.
+    assert "The kit at a glance" in first
+    assert re.search(r"gain at 1\b", first, re.IGNORECASE) and "kHz" in first, first
 
 
 @pytest.mark.parametrize(("name", "paper"), CASES)
