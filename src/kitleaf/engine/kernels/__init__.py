@@ -38,3 +38,6 @@ import numba  # noqa: E402 (its cache folder is read at import)
 # Compiled once and cached on disk; no fast-math, so every result rounds as the plain
 # arithmetic it spells (the same bytes on every run)
 kernel = numba.njit(cache=True, nogil=True, error_model="numpy")
+# A kernel handed the device tuples (dozens of arrays): inlined into its caller, since every
+# call would count each array's references in and out again
+inlined = numba.njit(cache=True, nogil=True, error_model="numpy", inline="always")

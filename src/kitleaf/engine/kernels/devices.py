@@ -9,12 +9,12 @@ past the kept count (ground, the fixed nodes) take no stamp, as in nonlinear.Dev
 
 from __future__ import annotations
 
-from kitleaf.engine.kernels import bjt, diode, jfet, kernel, opamp
+from kitleaf.engine.kernels import bjt, diode, inlined, jfet, opamp
 
 SLOTS = (diode, bjt, jfet, opamp)  # the family of each slot, in this order
 
 
-@kernel
+@inlined
 def evaluate(slot, v, p, current, slope):
     if slot == 0:
         diode.evaluate(v, p, current, slope)
@@ -26,7 +26,7 @@ def evaluate(slot, v, p, current, slope):
         opamp.evaluate(v, p, current, slope)
 
 
-@kernel
+@inlined
 def limit(slot, vnew, vold, p, out):
     if slot == 0:
         diode.limit(vnew, vold, p, out)
@@ -38,7 +38,7 @@ def limit(slot, vnew, vold, p, out):
         opamp.limit(vnew, vold, p, out)
 
 
-@kernel
+@inlined
 def capacitances(slot, v, p, out):
     if slot == 0:
         diode.capacitances(v, p, out)
@@ -48,7 +48,7 @@ def capacitances(slot, v, p, out):
         jfet.capacitances(v, p, out)
 
 
-@kernel
+@inlined
 def junctions(xe, jp, jn, polarity, out):
     """Device-frame junction voltages (k, D) from the extended rows ``xe``."""
     for j in range(jp.shape[0]):
@@ -56,37 +56,59 @@ def junctions(xe, jp, jn, polarity, out):
             out[j, d] = (xe[jp[j, d]] - xe[jn[j, d]]) * polarity[d]
 
 
-@kernel
+@inlined
 def params_of(params, member):
     """A member's parameters (keys, D): shared ones are stored once."""
     return params[member] if params.shape[0] > 1 else params[0]
 
 
-@kernel
+@inlined
 def linearise(fam, member, xe, vstar, residual, jac):
     """Adds every device's tangent current at its limited junction voltages to
     ``residual`` and its slopes to ``jac``; ``vstar`` (per slot, (k, D) of this member)
-    takes the limited voltages. True when a junction was limited."""
-    jp, jn, src, dst, polarity, params, vraw, vlim, current, slope, _, _ = fam
-    kept = residual.shape[0]
+    takes the limited voltages. True when a junction was limited. (Each slot by a constant
+    index: a tuple read at a varying index costs more than the device's equations.)"""
     limited = False
-    for f in range(len(jp)):
-        if jp[f].shape[1] == 0:
-            continue
-        p = params_of(params[f], member)
-        junctions(xe, jp[f], jn[f], polarity[f], vraw[f])
-        limit(f, vraw[f], vstar[f], p, vlim[f])
-        evaluate(f, vlim[f], p, current[f], slope[f])
-        for j in range(jp[f].shape[0]):
-            for d in range(jp[f].shape[1]):
-                limited |= vraw[f][j, d] != vlim[f][j, d]
-                vstar[f][j, d] = vlim[f][j, d]
-        _stamp(jp[f], jn[f], src[f], dst[f], polarity[f], vraw[f], vlim[f], current[f],
-               slope[f], kept, residual, jac)
+    if fam[0][0].shape[1]:  # an empty slot costs nothing
+        limited |= _slot(0, member, fam[0][0], fam[1][0], fam[2][0], fam[3][0],
+                         fam[4][0], fam[5][0], (fam[6][0], fam[7][0], fam[8][0], fam[9][0]),
+                         vstar[0], xe, residual, jac)
+    if fam[0][1].shape[1]:  # an empty slot costs nothing
+        limited |= _slot(1, member, fam[0][1], fam[1][1], fam[2][1], fam[3][1],
+                         fam[4][1], fam[5][1], (fam[6][1], fam[7][1], fam[8][1], fam[9][1]),
+                         vstar[1], xe, residual, jac)
+    if fam[0][2].shape[1]:  # an empty slot costs nothing
+        limited |= _slot(2, member, fam[0][2], fam[1][2], fam[2][2], fam[3][2],
+                         fam[4][2], fam[5][2], (fam[6][2], fam[7][2], fam[8][2], fam[9][2]),
+                         vstar[2], xe, residual, jac)
+    if fam[0][3].shape[1]:  # an empty slot costs nothing
+        limited |= _slot(3, member, fam[0][3], fam[1][3], fam[2][3], fam[3][3],
+                         fam[4][3], fam[5][3], (fam[6][3], fam[7][3], fam[8][3], fam[9][3]),
+                         vstar[3], xe, residual, jac)
     return limited
 
 
-@kernel
+@inlined
+def _slot(f, member, jp, jn, src, dst, polarity, params, scratch, vstar, xe, residual, jac):
+    """``linearise`` for the devices of slot ``f``."""
+    if jp.shape[1] == 0:
+        return False
+    vraw, vlim, current, slope = scratch
+    p = params_of(params, member)
+    junctions(xe, jp, jn, polarity, vraw)
+    limit(f, vraw, vstar, p, vlim)
+    evaluate(f, vlim, p, current, slope)
+    limited = False
+    for j in range(jp.shape[0]):
+        for d in range(jp.shape[1]):
+            limited |= vraw[j, d] != vlim[j, d]
+            vstar[j, d] = vlim[j, d]
+    _stamp(jp, jn, src, dst, polarity, vraw, vlim, current, slope, residual.shape[0],
+           residual, jac)
+    return limited
+
+
+@inlined
 def _stamp(jp, jn, src, dst, polarity, vraw, vlim, current, slope, kept, residual, jac):
     for t in range(src.shape[0]):
         for d in range(src.shape[1]):
@@ -110,19 +132,30 @@ def _stamp(jp, jn, src, dst, polarity, vraw, vlim, current, slope, kept, residua
                     jac[b, cn] += g
 
 
-@kernel
+@inlined
 def cap_values(fam, member, xe, out):
     """Every junction capacitance (caps,) at the extended rows ``xe``, in the columns of
     the banks' order (each slot's first column and count); the current scratch (at least
     as many rows as capacitances) holds them on the way."""
-    jp, jn, _, _, polarity, params, vraw, _, current, _, offsets, caps_of = fam
-    for f in range(len(jp)):
-        if jp[f].shape[1] == 0 or caps_of[f] == 0:
-            continue
-        p = params_of(params[f], member)
-        junctions(xe, jp[f], jn[f], polarity[f], vraw[f])
-        capacitances(f, vraw[f], p, current[f])
-        n_dev = jp[f].shape[1]
-        for c in range(caps_of[f]):
-            for d in range(n_dev):
-                out[offsets[f] + c * n_dev + d] = current[f][c, d]
+    if fam[0][0].shape[1] and fam[11][0]:
+        _slot_caps(0, member, fam[0][0], fam[1][0], fam[4][0], fam[5][0], fam[6][0],
+                   fam[8][0], fam[10][0], fam[11][0], xe, out)
+    if fam[0][1].shape[1] and fam[11][1]:
+        _slot_caps(1, member, fam[0][1], fam[1][1], fam[4][1], fam[5][1], fam[6][1],
+                   fam[8][1], fam[10][1], fam[11][1], xe, out)
+    if fam[0][2].shape[1] and fam[11][2]:
+        _slot_caps(2, member, fam[0][2], fam[1][2], fam[4][2], fam[5][2], fam[6][2],
+                   fam[8][2], fam[10][2], fam[11][2], xe, out)
+
+
+@inlined
+def _slot_caps(f, member, jp, jn, polarity, params, vraw, scratch, offset, count, xe, out):
+    """``cap_values`` for the devices of slot ``f`` (the op-amp's slot has none)."""
+    devices = jp.shape[1]
+    if devices == 0 or count == 0:
+        return
+    junctions(xe, jp, jn, polarity, vraw)
+    capacitances(f, vraw, params_of(params, member), scratch)
+    for c in range(count):
+        for d in range(devices):
+            out[offset + c * devices + d] = scratch[c, d]

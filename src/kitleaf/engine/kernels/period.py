@@ -113,7 +113,8 @@ def run(lin, drive, weights, vf, pairs, nodes, fam, st, trail, waves, solved, mo
             jac_base[:, :] = a_red[b]
             _cap_stamps(caps, pairs, c0, jac_base)
             eq = (jac_base, rhs, caps, cap_hist, c0, a, vf, pairs, nodes)
-            x, settled = step_newton(a_red[b], eq, fam, b, mine, guess, x_t[0, b], xe[0, b],
+            x = guess
+            settled = step_newton(a_red[b], eq, fam, b, mine, x, x_t[0, b], xe[0, b],
                                      work, failed[b], newton_set)
             _sensitivities(h_mat[b], du, caps, pairs, c1, c2, sens_x, b, work[2], work[3],
                            work[5][0], sx)
@@ -124,7 +125,7 @@ def run(lin, drive, weights, vf, pairs, nodes, fam, st, trail, waves, solved, mo
             xe[1, b] = xe[0, b]
             extend(x, a, vf, xe[0, b])
             q[1, b], q[0, b] = q[0, b], q_new
-            sens[1, b], sens[0, b] = sens[0, b], sq.copy()
+            sens[1, b], sens[0, b] = sens[0, b], sq
             sens_x[1, b], sens_x[0, b] = sens_x[0, b], sx.T
             _linear_form(out_t[b], out[b], out_u[b], x, u, a, wave)
             waves[b, :, s] = wave

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from kitleaf.engine.kernels import kernel
+from kitleaf.engine.kernels import inlined, kernel
 from kitleaf.engine.kernels.devices import cap_values, junctions, linearise
 from kitleaf.engine.kernels.linalg import lu_factor, lu_solve, matvec
 
@@ -65,7 +65,7 @@ def _cap_stamps(caps, pairs, scale, jac):
                 jac[cb, ca] -= g
 
 
-@kernel
+@inlined
 def newton(a_red, eq, fam, member, vstar, x, work, damp_after, limit, failed, tolerances):
     """Newton from ``x`` (in place); ``eq`` the step's (jacobian base, right-hand side,
     capacitances, their history term, c0, drive, fixed rows, cap pairs, node count);
@@ -105,13 +105,13 @@ def newton(a_red, eq, fam, member, vstar, x, work, damp_after, limit, failed, to
     return settled
 
 
-@kernel
+@inlined
 def step_newton(a_red, eq, fam, member, vstar, guess, last, xe_last, work, failed, newton_set):
     """A step's Newton for one member: from ``guess``, then (unsettled) from the last
     point ``last`` damped at once, then damped late (``newton_set``: ``settings()``).
-    Returns the point and settled flag."""
+    ``guess`` becomes the point; True when it settled."""
     tolerances, (limit, retry_limit, damp_after, first, second) = newton_set
-    x = guess.copy()
+    x = guess
     settled = newton(a_red, eq, fam, member, vstar, x, work, damp_after, limit, failed,
                      tolerances)
     for retry_damp in (first, second):
@@ -121,18 +121,20 @@ def step_newton(a_red, eq, fam, member, vstar, guess, last, xe_last, work, faile
         x[:] = last
         settled = newton(a_red, eq, fam, member, vstar, x, work, retry_damp, retry_limit,
                          failed, tolerances)
-    return x, settled
+    return settled
 
 
-@kernel
+@inlined
 def _reset(fam, xe, vstar):
-    """Each device's junction voltages at the extended rows ``xe``."""
-    jp, jn, polarity = fam[0], fam[1], fam[4]
-    for f in range(len(jp)):
-        junctions(xe, jp[f], jn[f], polarity[f], vstar[f])
+    """Each device's junction voltages at the extended rows ``xe`` (slots by constant
+    index, as in devices.linearise)."""
+    junctions(xe, fam[0][0], fam[1][0], fam[4][0], vstar[0])
+    junctions(xe, fam[0][1], fam[1][1], fam[4][1], vstar[1])
+    junctions(xe, fam[0][2], fam[1][2], fam[4][2], vstar[2])
+    junctions(xe, fam[0][3], fam[1][3], fam[4][3], vstar[3])
 
 
-@kernel
+@inlined
 def step_caps(fam, member, xe0, xe1, pairs, c1, c2, caps, cap_hist):
     """The step's junction capacitances at its start and their history term."""
     if caps.shape[0] == 0:
