@@ -67,9 +67,7 @@ def has_word(text: str, word: str) -> bool:
 
 @pytest.mark.parametrize("paper", sorted(PAGE_POINTS))
 @pytest.mark.parametrize("slug", SLUGS)
-def test_bom_prints_on_at_most_two_pages_of_the_paper(pdfs, slug, paper, request):
-    if slug == "kestrel-drive":  # known gap: the five-stage kit's checklist needs a third page
-        request.applymarker(pytest.mark.xfail(strict=True, reason="Kestrel's BOM takes 3 pages"))
+def test_bom_prints_on_at_most_two_pages_of_the_paper(pdfs, slug, paper):
     pages, size = page_count_and_size(pdfs[slug, paper])
     assert 1 <= pages <= MAX_PAGES
     assert size == pytest.approx(PAGE_POINTS[paper], abs=1.0)

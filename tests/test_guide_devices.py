@@ -76,17 +76,37 @@ class TestWarnings:
     def test_unmodelled_parameters_in_one_located_warning(self):
         kit, text = kit_with("FB-Q1", device("FB-Q1", "type: npn", "bf: 200", "xti: 3",
                                              "eg: 1.11", "kf: 1e-15"))
-        (warning,) = kit.warnings
+        (warning,) = (w.line() for w in kit.warnings)
         assert warning.startswith(f"fb.md:{line_of(text, 'xti: 3')}: warning: ")
         assert "XTI, EG, KF are not modelled" in warning and "VAF, VAR, IKF" in warning
 
     def test_overriding_a_library_model(self):
         kit, text = kit_with("2N3904", device("2N3904", "type: npn", "bf: 120"))
-        (warning,) = kit.warnings
+        (warning,) = (w.line() for w in kit.warnings)
         assert warning.startswith(f"fb.md:{line_of(text, '```device 2N3904')}: warning: ")
         assert "replaces the library's 2N3904" in warning
         assert kit.stages[0].part("transistor").device.get("BF") == 120.0
         assert get_model("2N3904").get("BF") != 120.0  # the library itself is untouched
+
+    def test_the_page_shows_both_warnings_at_their_lines(self, tmp_path):
+        from tests.site_pages import parse_page
+
+        from kitleaf.site.build import build_site
+
+        text = guide_text(device("2N3904", "type: npn", "bf: 120"),
+                          device("FB-Q1", "type: npn", "bf: 200", "xti: 3"),
+                          BOOST.format(model="FB-Q1"))
+        guides = tmp_path / "guides"
+        guides.mkdir()
+        (guides / "fb.md").write_text(text, encoding="utf-8")
+        build_site(guides, tmp_path / "published", jobs=1, use_cache=False)
+        page = parse_page(tmp_path / "published" / "fb" / "index.html")
+        shown = [p.all_text() for p in page.find_all("p", "model-warning")]
+        assert len(shown) == 2
+        assert "replaces the library's 2N3904" in shown[0]
+        assert f"(guide line {line_of(text, '```device 2N3904')})" in shown[0]
+        assert "XTI is not modelled" in shown[1]
+        assert f"(guide line {line_of(text, 'xti: 3')})" in shown[1]
 
 
 class TestErrors:

@@ -114,6 +114,33 @@ class TestRails:
             _, kit = kit_of(power(pump), gain(rails), spare(rails))
             assert shown in render_stage_svg(kit, kit.stages[1])
 
+    @pytest.mark.parametrize("pump, rails", [("doubler", "doubled"), ("inverter", "bipolar")])
+    def test_the_drawing_checker_passes_on_every_rail(self, pump, rails):
+        from kitleaf.render.schematic_check import check_stage
+
+        _, kit = kit_of(power(pump), gain(rails), spare(rails))
+        for stage in kit.stages:
+            assert check_stage(kit, stage) == [], stage.id
+
+    def test_on_bipolar_rails_the_negative_supply_pin_is_drawn_to_the_negative_rail(self):
+        from kitleaf.render.schematic import draw_stage
+
+        _, kit = kit_of(power("inverter"), gain("bipolar"), spare("bipolar"))
+        record = draw_stage(kit, kit.stages[1]).record
+        vneg = record.pins[("U1A", 4)]  # the op-amp's pins: +, -, out, V+, V-
+        names = {at: net for at, net in record.names}
+        below = [net for at, net in names.items() if at[0] == vneg[0] and at[1] < vneg[1]]
+        assert below == ["vee"]
+
+    @pytest.mark.parametrize("pump, rails, label", [("none", None, "VCC, VREF"),
+                                                    ("doubler", "doubled", "V2, VREF"),
+                                                    ("inverter", "bipolar", "VCC, VEE")])
+    def test_the_overview_names_the_rails_the_stages_use(self, pump, rails, label):
+        from kitleaf.render.schematic import render_overview_svg
+
+        _, kit = kit_of(power(pump), gain(rails), spare(rails))
+        assert f">{label}<" in render_overview_svg(kit, {})
+
 
 class TestRailErrors:
     def test_a_rail_no_power_stage_makes(self):

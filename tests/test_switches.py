@@ -3,6 +3,8 @@ position."""
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 from tests.engine.ngspice_run import ac_sweep, operating_point
@@ -105,6 +107,9 @@ def kit_of(*blocks: str, **kwargs):
     return parsed, build_circuit(parsed)
 
 
+KESTREL = Path(__file__).parents[1] / "guides" / "kestrel-drive.md"
+
+
 class TestKit:
     def test_positions_are_states_of_the_netlist(self):
         _, kit = kit_of()
@@ -154,6 +159,25 @@ class TestKit:
         level, bypass = kit_plot(specs).panels
         assert (level.solid, bypass.solid) == (None, 1)  # the band's curve is drawn solid
         assert level.title == "Level knob turned, Bypass set to none"
+
+    @pytest.mark.parametrize("marked, throw", [("silicon, open, LEDs*", 2),
+                                                ("silicon*, open, LEDs", 1)])
+    def test_the_lever_is_drawn_where_the_switch_rests(self, marked, throw):
+        from kitleaf.render.schematic import draw_stage
+
+        source = KESTREL.read_text(encoding="utf-8").replace(
+            "S1: silicon, open, LEDs", f"S1: {marked}")
+        kit = build_circuit(parse_guide("kestrel.md", source))
+        record = draw_stage(kit, next(s for s in kit.stages if s.id == "drive")).record
+        common, tip = record.levers["S1:p1"]
+        # the pole's pins: its common, then the silicon pair's throw, then the LEDs'
+        aim = record.pins[("S1:p1", throw)]
+        # the tip lies on the line from the common to the throw of the rest position
+        cross = (tip[0] - common[0]) * (aim[1] - common[1]) - (tip[1] - common[1]) * (
+            aim[0] - common[0])
+        assert cross == pytest.approx(0.0, abs=1e-6)
+        assert (tip[0] - common[0]) * (aim[0] - common[0]) + (tip[1] - common[1]) * (
+            aim[1] - common[1]) > 0
 
     @pytest.mark.parametrize("line", ["switch: Bypass = S1: partial*, none*, full"])
     def test_one_rest_at_most(self, line):

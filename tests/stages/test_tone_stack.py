@@ -168,3 +168,24 @@ def test_corners_agree_with_ngspice():
 def test_the_mid_scoop_at_every_knob_step_agrees_with_ngspice():
     kit, specs = specs_of(POWER, FERN_STACK, knobs=FERN_KNOBS, source="4k7")
     check_scoops(kit, specs.stage("tone"))
+
+
+def test_its_table_gives_the_mid_scoop_in_place_of_corners():
+    # a stack has no flat band: its -3 dB points only mark where the bass or treble hump
+    # falls off, no corner a reader can use; its scoop is what it is chosen for (common
+    # practice, no source)
+    from kitleaf.render.environment import make_environment, theme_dirs
+    from kitleaf.render.specs_text import specs_to_text
+
+    boost = stage_block("boost", "common-emitter", "input-cap: C1 100n film",
+                        "bias-top: R1 470k", "bias-bottom: R2 100k", "transistor: Q1 2N5089",
+                        "collector: R3 4k7", "emitter: R4 470", "output-cap: C2 1u film",
+                        "pulldown: R5 1M")
+    _, specs = specs_of(POWER, boost, FERN_STACK, knobs=FERN_KNOBS, source="4k7")
+    rows = make_environment(theme_dirs(None)).get_template("_spec_rows.html")
+    tone = rows.render(sp=specs.stage("tone"), specs=specs)
+    assert "Mid scoop" in tone and "Corners (−3 dB)" in tone
+    assert "Low corner" not in tone and "High corner" not in tone
+    assert "Low corner (−3 dB)" in rows.render(sp=specs.stage("boost"), specs=specs)
+    text = specs_to_text(specs).split("stage tone")[1]
+    assert "mid scoop" in text and "low corner" not in text and "corners          none" in text

@@ -23,7 +23,3 @@ def test_audio_taper_is_about_a_tenth_at_half_travel():
     kit = make_kit(stage_block("vol", "volume", "volume: VR1 A100k"), load="100M")
     assert 0.08 < abs(gain_at(kit, 1e3, positions={"VR1": 0.5})) < 0.16
 
-
-def test_volume_is_a_knob():
-    kit = make_kit(stage_block("vol", "volume", "volume: VR1 A100k"))
-    assert kit.kind(kit.stages[0]).knob_roles() == ("volume",)

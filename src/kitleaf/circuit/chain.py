@@ -11,7 +11,7 @@ from types import MappingProxyType
 from kitleaf.circuit.kind import Stage, StageKind
 from kitleaf.circuit.packages import unused_halves
 from kitleaf.circuit.parts import Part
-from kitleaf.circuit.rails import DOUBLED_NODE, NEGATIVE_NODE, rail_nodes
+from kitleaf.circuit.rails import DOUBLED_NODE, NEGATIVE_NODE, POWER_RAILS, rail_nodes
 from kitleaf.circuit.stages import KINDS
 from kitleaf.circuit.switches import contacts, form_of, wired_poles
 from kitleaf.engine import Circuit, get_model
@@ -198,8 +198,8 @@ class KitCircuit:
     # every netlist takes these positions unless told otherwise.
     trims: tuple = ()
     presets: tuple[tuple[str, float], ...] = ()  # (trimmer, position 0..1)
-    # Located warning lines from reading the guide's own device models.
-    warnings: tuple[str, ...] = ()
+    # What reading the guide's own device models warned of (circuit.devices.DeviceWarning).
+    warnings: tuple = ()
 
     @cached_property
     def cache(self) -> dict:
@@ -294,12 +294,12 @@ class KitCircuit:
                             dc=get_model(used.device or used.model).get("IQ"))
 
     def rails_used(self, stage: Stage) -> tuple[str, ...]:
-        """Which of the power section's rails, ``vcc`` and ``vref``, the stage's parts join."""
+        """Which of the power section's rails the stage's parts join, by what they are:
+        ``vcc``, the doubled rail ``v2``, ``vref`` and the negative rail ``vee``."""
         circuit = Circuit()
-        KINDS[stage.kind].build(stage, Wiring(circuit, stage, {**self._nodes(stage),
-                                                               "vcc": "vcc", "vref": "vref"}, {}))
+        KINDS[stage.kind].build(stage, Wiring(circuit, stage, self._nodes(stage), {}))
         joined = {n for e in circuit.elements for n in terminals(e)}
-        return tuple(r for r in ("vcc", "vref") if r in joined)
+        return tuple(r for r in POWER_RAILS if r in joined)
 
     def node_of(self, stage: Stage, local: str) -> str:
         """The circuit node a stage's local node name stands for (``vcc``, ``in``, ``c``...).

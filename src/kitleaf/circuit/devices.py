@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from kitleaf.engine.models import DEFAULTS, DeviceModel, get_model, registered_models
-from kitleaf.errors import CircuitError, KitleafError
+from kitleaf.errors import CircuitError, KitleafError, SourceSpan
 from kitleaf.guide.model import Block, Entry, Guide
 from kitleaf.values import parse_number
 
@@ -49,11 +49,23 @@ _SPREAD = re.compile(r"^([A-Za-z]+)\s+(\S+?)\s*\.\.\s*(\S+)$")
 
 
 @dataclass(frozen=True)
+class DeviceWarning:
+    """What reading a device block raised and did not stop: its place and its words."""
+
+    span: SourceSpan
+    text: str
+
+    def line(self) -> str:
+        """As the terminal prints it: ``path:line: warning: ...``."""
+        return f"{self.span}: warning: {self.text}"
+
+
+@dataclass(frozen=True)
 class GuideDevices:
     """The guide's own models by upper-case name, and the warnings reading them raised."""
 
     models: Mapping[str, DeviceModel] = field(default_factory=dict)
-    warnings: tuple[str, ...] = ()
+    warnings: tuple[DeviceWarning, ...] = ()
 
     def find(self, name: str) -> DeviceModel | None:
         return self.models.get(name.upper())
@@ -72,13 +84,13 @@ def read_devices(guide: Guide) -> GuideDevices:
         models[model.name.upper()] = model
         warnings.extend(unmodelled)
         if model.name.upper() in library:
-            warnings.append(f"{block.span}: warning: device '{model.name}' replaces the "
-                            f"library's {model.name} for this guide's parts; rename it to "
-                            "keep both")
+            warnings.append(DeviceWarning(
+                block.span, f"device '{model.name}' replaces the library's {model.name} for "
+                "this guide's parts; rename it to keep both"))
     return GuideDevices(MappingProxyType(models), tuple(warnings))
 
 
-def read_device(block: Block) -> tuple[DeviceModel, tuple[str, ...]]:
+def read_device(block: Block) -> tuple[DeviceModel, tuple[DeviceWarning, ...]]:
     """One block's model, and its warning for parameters left out (none or one)."""
     name = block.argument
     base = _base(block)
@@ -196,11 +208,11 @@ def _model(block: Block, kind: str, params: dict, spread: dict, note: str) -> De
         raise CircuitError(f"device '{block.argument}': {exc.message}", block.span) from None
 
 
-def _left_out(name: str, kind: str, entries: list[Entry]) -> tuple[str, ...]:
+def _left_out(name: str, kind: str, entries: list[Entry]) -> tuple[DeviceWarning, ...]:
     if not entries:
         return ()
     keys = ", ".join(e.key.upper() for e in entries)
-    return (f"{entries[0].span}: warning: device '{name}': {keys} "
-            f"{'is' if len(entries) == 1 else 'are'} not modelled by kitleaf and left out "
-            f"(it works at 27 degC, without noise); the {kind} parameters it models are "
-            f"{', '.join(DEFAULTS[kind])}",)
+    return (DeviceWarning(entries[0].span, (
+        f"device '{name}': {keys} {'is' if len(entries) == 1 else 'are'} not modelled by "
+        "kitleaf and left out (it works at 27 degC, without noise); the "
+        f"{kind} parameters it models are {', '.join(DEFAULTS[kind])}")),)

@@ -115,6 +115,10 @@ class StageKind:
     # True for a passive tone control, whose corners move with its knob by design: the rules
     # on a stage's corners (coupling-corner, treble-corner) leave it alone.
     shapes_response: ClassVar[bool] = False
+    # False for a tone control with no flat band (a tone stack, a blend): its −3 dB points
+    # only mark where a hump falls off, so the page and the terminal show its mid scoop, not
+    # corners.
+    passband: ClassVar[bool] = True
     # True for the stage that provides the supply rail and the mid-rail reference.
     provides_power: ClassVar[bool] = False
     needs_reference: ClassVar[bool] = False
@@ -137,10 +141,6 @@ class StageKind:
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         """The nodes a builder measures, pin by pin."""
-        return ()
-
-    def knob_roles(self) -> tuple[str, ...]:
-        """Roles whose pot is turned by the player (a knob), not set once on the bench."""
         return ()
 
     def draw(self, stage: Stage, sheet: Sheet) -> None:

@@ -21,6 +21,8 @@ RAILS = (MAIN, DOUBLED, BIPOLAR)
 # Circuit nodes of the rails a charge pump makes.
 DOUBLED_NODE = "v2"
 NEGATIVE_NODE = "vee"
+# The power section's rails as circuit nodes, in the order they are named together.
+POWER_RAILS = ("vcc", DOUBLED_NODE, "vref", NEGATIVE_NODE)
 # Which role of a power stage (the pump chip) makes which rail.
 MADE_BY: Mapping[str, str] = MappingProxyType({DOUBLED: "doubler", BIPOLAR: "inverter"})
 
@@ -59,6 +61,12 @@ def check_rails(stages) -> None:
 def rail_labels(rails: str) -> dict[str, str]:
     """How a stage's drawing names its rails when they are not the main ones."""
     return {DOUBLED: {"vcc": "V2"}, BIPOLAR: {"vref": "0 V"}}.get(rails, {})
+
+
+def negative_supply(rails: str) -> str:
+    """The local net an op-amp's negative supply pin joins: the negative rail ``vee`` on
+    ``bipolar``, else ground."""
+    return "vee" if rails == BIPOLAR else "0"
 
 
 def rail_nodes(rails: str, main: str) -> dict[str, str]:

@@ -19,7 +19,7 @@ from schemdraw.segments import Segment
 
 from kitleaf.circuit.drawing import GROUND_Y, RAIL_Y, SIGNAL_Y, Point
 from kitleaf.circuit.parts import Part
-from kitleaf.circuit.rails import rail_labels
+from kitleaf.circuit.rails import negative_supply, rail_labels
 from kitleaf.circuit.switches import form_of
 from kitleaf.render import schemdraw_adapter as adapter
 from kitleaf.render.schematic_devices import draw_opamp, draw_transistor
@@ -101,8 +101,13 @@ class SchematicSheet:
     test-point markers and the overview need (text, rings, devices, what is occupied)."""
 
     def __init__(self, title: str = "", nets: Mapping[str, str] | None = None,
-                 plus_pins: Mapping[str, int] | None = None) -> None:
+                 plus_pins: Mapping[str, int] | None = None,
+                 rests: Mapping[str, int] | None = None, vneg: str = "0") -> None:
         self.title = title
+        # The net an op-amp's negative supply pin is drawn to: ground, or the negative rail.
+        self.vneg = vneg
+        # The position each switch rests at (the kit block's ``*``), where its lever is drawn.
+        self.rests = dict(rests or {})
         # Each polarised capacitor's + pin from the computed DC (0: its first node, as its
         # kind places it); a part not named here takes the kind's ``plus`` hint.
         self.plus_pins = dict(plus_pins or {})
@@ -172,21 +177,23 @@ class SchematicSheet:
     def switch(self, part: Part, pole: int, common: Point,
                throws: Sequence[Point | None]) -> None:
         """Pole ``pole`` of a switch: open contacts at the common and each wired throw, the
-        lever from the common towards the throw of the switch's first position (half way
-        between the throws where that position joins nothing); the first pole is labelled."""
+        lever from the common towards the throw of the position the switch rests at (half
+        way between the throws where that position joins nothing); the first pole is
+        labelled."""
         wired = [t for t in throws if t is not None]
         for at in (common, *wired):
             self._add(elm.Dot(radius=0.09, open=True).at(at))
         pins = [common, *wired]  # the pole as the drawing checker reads it (S1:p1)
         self.record.part(f"{part.designator}:p{pole}", "pole",
                          {str(i): at for i, at in enumerate(pins)})
-        rest = form_of(part).throws[0]
+        rest = form_of(part).throws[self.rests.get(part.designator, 0)]
         aim = throws[rest] if rest is not None and rest < len(throws) else None
         if aim is None:
             aim = (sum(t[0] for t in wired) / len(wired), sum(t[1] for t in wired) / len(wired))
         reach = 0.85  # the lever stops short of the contact, as switches are drawn
         tip = (common[0] + reach * (aim[0] - common[0]), common[1] + reach * (aim[1] - common[1]))
         self._add(elm.Line().endpoints(common, tip))
+        self.record.levers[f"{part.designator}:p{pole}"] = (common, tip)
         if pole == 1:
             side = "below" if all(t[1] >= common[1] for t in wired) else "above"
             self.label(part_label(part), (common[0], common[1] + (-0.3 if side == "below"
@@ -205,7 +212,8 @@ class SchematicSheet:
               ) -> dict[str, Point]:
         """An op-amp with its + input at ``non_inv``, the - input below; pins by name.
 
-        Its supply pins are drawn to VCC and ground; ``pin_numbers`` gives the package pin
+        Its supply pins are drawn to VCC and to ground (or the negative rail, on bipolar
+        rails); ``pin_numbers`` gives the package pin
         shown beside each named pin.
         """
         return draw_opamp(self, part, non_inv, pin_numbers)
@@ -267,14 +275,26 @@ class SchematicSheet:
         self._add(elm.Vdd(lead=False).at(at))
         self.record.name(at, net)
         self.spots.setdefault(("", net), at)
-        self.label(self.nets.get(net, net.upper()), (at[0], at[1] + 0.35), "above")
+        self.label(self.net_name(net), (at[0], at[1] + 0.35), "above")
+
+    def negative_rail(self, at: Point, net: str = "vee") -> None:
+        """A negative supply connection pointing down, labelled with the net's name on its
+        right (below it may run a feedback loop's wire)."""
+        self._add(elm.Vss(lead=False).at(at))
+        self.record.name(at, net)
+        self.spots.setdefault(("", net), at)
+        self.label(self.net_name(net), (at[0] + 0.3, at[1] - 0.15), "right")
 
     def net_label(self, at: Point, net: str, side: str = "below") -> None:
         """A net named at a wire's end without a symbol (a reference fed from elsewhere)."""
         self._add(elm.Dot(radius=0.09).at(at))
         self.record.name(at, net)
         self.spots.setdefault(("", net), at)
-        self.label(self.nets.get(net, net.upper()), nudge(at, side, 0.25), side)
+        self.label(self.net_name(net), nudge(at, side, 0.25), side)
+
+    def net_name(self, net: str) -> str:
+        """How the sheet names a net: its rail label (VCC, V2, 0 V...), else its name."""
+        return self.nets.get(net, net.upper())
 
     def port(self, at: Point, name: str, side: str = "left") -> None:
         """A connection to the next or previous stage: an open circle with its name."""
@@ -377,7 +397,9 @@ def draw_stage(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None
                ) -> SchematicSheet:
     """The sheet of one stage, drawn by its kind, with its test points marked."""
     nets = {"supply": kit_circuit.supply_label, **rail_labels(stage.rails)}
-    sheet = SchematicSheet(stage.title, nets=nets, plus_pins=plus_pins)
+    rests = {s.designator: s.rest for s in kit_circuit.switches}
+    sheet = SchematicSheet(stage.title, nets=nets, plus_pins=plus_pins, rests=rests,
+                           vneg=negative_supply(stage.rails))
     kit_circuit.kind(stage).draw(stage, sheet)
     from kitleaf.render.schematic_probes import mark_test_points  # it draws on a SchematicSheet
 

@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 from kitleaf.circuit.chain import Wiring
 from kitleaf.circuit.kind import Stage
+from kitleaf.circuit.rails import negative_supply
 from kitleaf.circuit.stages import KINDS
 from kitleaf.engine import Circuit
 from kitleaf.engine.elements import VSource, terminals
@@ -52,7 +53,10 @@ class StageNetlist:
 def stage_netlist(stage: Stage) -> StageNetlist:
     """The stage's parts as its kind wires them for the engine."""
     circuit = Circuit()
-    KINDS[stage.kind].build(stage, Wiring(circuit, stage, {n: n for n in CHAIN}, {}))
+    nodes = {n: n for n in CHAIN}
+    if negative_supply(stage.rails) != "0":  # op-amps' negative pins on the negative rail
+        nodes["vee"] = "vee"
+    KINDS[stage.kind].build(stage, Wiring(circuit, stage, nodes, {}))
     prefix = f"{stage.id}."
     links = Joins()
     for e in circuit.elements:

@@ -36,15 +36,19 @@ def draw_transistor(sheet: SchematicSheet, part: Part, family: str, base: Point,
 
 def draw_opamp(sheet: SchematicSheet, part: Part, non_inv: Point, pin_numbers: Mapping[str, str]
                ) -> dict[str, Point]:
-    """An op-amp with its + input at ``non_inv``, its supply pins led to VCC and ground, and the
-    package pin number from ``pin_numbers`` beside each named pin (each a probe spot)."""
+    """An op-amp with its + input at ``non_inv``, its supply pins led to VCC and to ground (or
+    the negative rail the sheet names), and the package pin number from ``pin_numbers`` beside
+    each named pin (each a probe spot)."""
     pins, _ = sheet.device("opamp", non_inv, pin="non_inv")
     sheet.record.part(part.designator, "opamp", pins)
     top, bottom = pins["vpos"], pins["vneg"]
     sheet.wire(top, (top[0], top[1] + SUPPLY_LEAD))
     sheet.rail((top[0], top[1] + SUPPLY_LEAD))
     sheet.wire(bottom, (bottom[0], bottom[1] - SUPPLY_LEAD))
-    sheet.ground((bottom[0], bottom[1] - SUPPLY_LEAD))
+    if sheet.vneg == "0":
+        sheet.ground((bottom[0], bottom[1] - SUPPLY_LEAD))
+    else:
+        sheet.negative_rail((bottom[0], bottom[1] - SUPPLY_LEAD), sheet.vneg)
     sheet.label(part_label(part), (pins["out"][0] - 0.3, top[1] + 0.2), "right")
     for name, number in pin_numbers.items():
         point, side = pin_number_place(pins[name], name)

@@ -1,9 +1,9 @@
 """The kit at a glance: signal stages as blocks in chain order, the power section feeding them.
 
 Blocks run left to right, :data:`PER_ROW` to a row, the signal going up and over to the next
-row. Below each row a supply bus (VCC, and VREF where a stage uses it) drops a stub into every
-stage that draws on the power section; the buses join on a trunk at the far left and come down
-into the power block under the last row. Drawn on a
+row. Below each row a supply bus (the rails the stages use: VCC, V2, VREF, VEE) drops a stub
+into every stage that draws on the power section; the buses join on a trunk at the far left
+and come down into the power block under the last row. Drawn on a
 :class:`~kitleaf.render.schematic.SchematicSheet`.
 """
 
@@ -12,6 +12,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
+from kitleaf.circuit.rails import POWER_RAILS
 from kitleaf.render.schematic import FONT_SIZE, Point, SchematicSheet, text_width
 
 PER_ROW = 4  # blocks per row, so a long chain still fits a printed page
@@ -115,8 +116,8 @@ def _draw_power(sheet: SchematicSheet, kit, power, headline, blocks: Sequence[_B
     feed_x = LEFT + fed[0].width / 2
     top = (feed_x, corner[1] + POWER_HEIGHT)
     sheet.wire(top, (feed_x, last_bus))
-    rails = sorted({r for b in fed for r in kit.rails_used(b.stage)}, key=("vcc", "vref").index)
-    sheet.text(", ".join(sheet.nets[r] for r in rails), (feed_x + 0.2, top[1] + FEED / 2),
+    rails = sorted({r for b in fed for r in kit.rails_used(b.stage)}, key=POWER_RAILS.index)
+    sheet.text(", ".join(sheet.net_name(r) for r in rails), (feed_x + 0.2, top[1] + FEED / 2),
                size=FONT_SIZE * 0.9, side="right")
     upper = sorted({b.corner[1] - BUS_DROP for b in fed} - {last_bus}, reverse=True)
     trunk = [upper[0]] if upper else []

@@ -59,6 +59,7 @@ class SheetRecord:
     texts: list[tuple[str, Box]] = field(default_factory=list)
     blocks: list[Box] = field(default_factory=list)
     plus: dict[str, int] = field(default_factory=dict)  # a polarised cap's + pin
+    levers: dict[str, tuple[Point, Point]] = field(default_factory=dict)  # pole: common, tip
 
     def part(self, designator: str, kind: str, pins: dict[str, Point]) -> None:
         """A part's pins by name (see :data:`PIN_ORDER`), kept by their index."""

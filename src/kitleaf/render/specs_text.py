@@ -39,8 +39,8 @@ def specs_to_text(specs: KitSpecs) -> str:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
             lines += [f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}",
-                      f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
-                      f"    high corner      {range_text(s.high_corner_hz, 'frequency')}",
+                      *(_corner_lines(s) if s.passband else
+                        ["    corners          none given (no flat band: see the mid scoop)"]),
                       f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
                       f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
         if s.scoop is not None:
@@ -51,6 +51,11 @@ def specs_to_text(specs: KitSpecs) -> str:
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
             lines.append(f"    {v.label:<16} {readings}")
     return "\n".join(lines)
+
+
+def _corner_lines(s) -> list[str]:
+    return [f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
+            f"    high corner      {range_text(s.high_corner_hz, 'frequency')}"]
 
 
 def _gain_words(clips: bool) -> str:

@@ -237,7 +237,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         band_low=band(base, node_in, node_out, 5.0), band_high=band(base, node_in, node_out, 95.0),
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
-        clips=kit.kind(stage).clips,
+        clips=kit.kind(stage).clips, passband=kit.kind(stage).passband,
     )
 
 
@@ -309,7 +309,7 @@ def notes(stages: tuple[StageSpecs, ...], kit: KitCircuit) -> tuple[str, ...]:
     the guide's device models raised, then a device with no room to swing at its bias (at its
     stage's block)."""
     spans = {s.id: s.span for s in kit.stages}
-    return kit.warnings + tuple(
+    return tuple(w.line() for w in kit.warnings) + tuple(
         f"{spans[s.id]}: warning: stage '{s.id}': {s.headroom.limit} leaves no room to swing "
         "at this bias"
         for s in stages if s.headroom is not None and s.headroom.volts.nominal <= 0.0)

@@ -197,6 +197,8 @@ class StageSpecs:
     hum: Range | None = None  # the kit's alone (KitSpecs.hum); a stage has none
     # The stage clips by design: its gain figures hold for small signals only.
     clips: bool = False
+    # Its −3 dB corners describe it (not for a tone stack or blend: StageKind.passband).
+    passband: bool = True
 
 
 @dataclass(frozen=True)

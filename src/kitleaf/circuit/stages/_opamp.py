@@ -29,9 +29,6 @@ class OpampKind(StageKind):
         check_family(stage, "opamp", ("opamp",))
         check_output(stage, self.name)
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("gain", "volume")
-
 
 # The + input biased to the reference: what every non-inverting op-amp kind starts with.
 BIASED_INPUT_ROLES = (

@@ -77,8 +77,7 @@ def _draw_reference(stage: Stage, sheet: Sheet, rail_end: float, x: float) -> tu
         sheet.net_label((x, RAIL), "v2", "above")
         x_rail = rail_end
     else:
-        sheet.wire((rail_end, RAIL), (x, RAIL))
-        sheet.dot((x, RAIL))
+        sheet.wire((rail_end, RAIL), (x, RAIL))  # dotted by the sheet if the rail runs on
         x_rail = x
     middle = (x, (RAIL + GROUND_Y) / 2)
     sheet.part(stage.part("vref-top"), (x, RAIL), middle, side="right")

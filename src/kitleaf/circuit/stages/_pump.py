@@ -73,8 +73,8 @@ def draw_pumps(stage: Stage, sheet: Sheet, rail_y: float, rail_end: float, x: fl
             continue
         x += 2.6  # room for the flying cap and its label on the chip's left
         top, out_y = 6.0, 4.5
+        # no dot of its own: where the rail runs on past it, the sheet dots the junction
         sheet.wire((rail_end, rail_y), (x, rail_y), (x, top))
-        sheet.dot((x, rail_y))
         sheet.chip(chip, (x - 0.9, 3.0), 1.8, 3.0,
                    {"inp": (x, top), "out": (x + 0.9, out_y), "ref": (x, 3.0)}, pump)
         sheet.wire((x, 3.0), (x, GROUND_Y))

@@ -81,9 +81,6 @@ class CommonEmitter(StageKind):
         return transistor_test_points(stage.part("transistor"),
                                       {"base": "b", "collector": "c", "emitter": "e"})
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("gain", "volume")
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
 

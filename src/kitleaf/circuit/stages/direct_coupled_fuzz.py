@@ -96,9 +96,6 @@ class DirectCoupledFuzz(StageKind):
                 + transistor_test_points(stage.part("output-transistor"),
                                          {"base": "c1", "collector": "c2", "emitter": "e2"}))
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("gain", "volume")
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         FuzzDrawing(stage, sheet, is_flipped(stage, "input-transistor")).draw()
 

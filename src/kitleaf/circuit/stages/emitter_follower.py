@@ -62,9 +62,6 @@ class EmitterFollower(StageKind):
         return transistor_test_points(stage.part("transistor"),
                                       {"base": "b", "collector": collector, "emitter": "e"})
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("volume",)
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
 

@@ -60,9 +60,6 @@ class JfetCommonSource(StageKind):
         return transistor_test_points(stage.part("transistor"),
                                       {"gate": "g", "drain": "d", "source": "s"})
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("volume",)
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
 

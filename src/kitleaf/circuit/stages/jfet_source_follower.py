@@ -74,9 +74,6 @@ class JfetSourceFollower(StageKind):
         return transistor_test_points(stage.part("transistor"),
                                       {"gate": "g", "drain": drain, "source": "s"})
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("volume",)
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import TransistorDrawing, draw_transistor_stage
 

@@ -72,9 +72,6 @@ class ToneActive(OpampKind):
         wiring.place(part("opamp"), "vref", "m", "o", "vcc", "0")
         place_output(stage, wiring, "o")
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("bass", "treble", "volume")
-
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return opamp_test_points(stage.part("opamp"), "vref", "m", "o")
 

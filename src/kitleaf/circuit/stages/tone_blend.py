@@ -35,6 +35,7 @@ class ToneBlend(StageKind):
     summary = "one-knob tone: the pot fades from a low-pass path to a high-pass path"
     roles = ROLES
     shapes_response = True
+    passband = False
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
@@ -43,9 +44,6 @@ class ToneBlend(StageKind):
         wiring.place(part("high-cap"), "in", "hi")
         wiring.place(part("high-resistor"), "hi", "0")
         wiring.place(part("tone"), "lo", "out", "hi")  # ccw, wiper, cw
-
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("tone",)
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return (TestPoint("tone output (0 V DC)", "out"),)

@@ -29,9 +29,6 @@ class ToneCut(StageKind):
         rheostat(wiring, stage.part("tone"), "out", "t")  # more resistance clockwise
         wiring.place(stage.part("cap"), "t", "0")
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("tone",)
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         sheet.port((0.0, SIGNAL_Y), "IN", "left")
         sheet.part(stage.part("series"), (0.0, SIGNAL_Y), (2.4, SIGNAL_Y))

@@ -44,6 +44,7 @@ class ToneStack(StageKind):
     summary = "passive three-knob tone stack: treble, mid and bass"
     roles = ROLES
     shapes_response = True
+    passband = False
 
     def build(self, stage: Stage, wiring) -> None:
         part = stage.part
@@ -67,9 +68,6 @@ class ToneStack(StageKind):
             raise CircuitError(
                 f"stage '{stage.id}' (tone-stack) has no mid control; add a pot "
                 "'mid: VR3 B25k' or a fixed resistor 'mid-resistor: R5 10k'", stage.span)
-
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("treble", "mid", "bass")
 
     def test_points(self, stage: Stage) -> tuple[TestPoint, ...]:
         return (TestPoint("stack output (0 V DC)", "out"),)

@@ -16,9 +16,6 @@ class Volume(StageKind):
     def build(self, stage: Stage, wiring) -> None:
         wiring.place(stage.part("volume"), "0", "out", "in")
 
-    def knob_roles(self) -> tuple[str, ...]:
-        return ("volume",)
-
     def draw(self, stage: Stage, sheet: Sheet) -> None:
         from kitleaf.circuit.stages._drawing import draw_volume_out
         sheet.port((0.0, SIGNAL_Y), "IN", "left")
