@@ -50,6 +50,9 @@ BOXES = """JSON.stringify([...document.querySelectorAll(
           transform: s.textTransform};
 }))"""
 PAGE_WIDTH = "JSON.stringify([document.documentElement.scrollWidth, window.innerWidth])"
+# Where the cells of the symptom table's first row start, left to right.
+SYMPTOM_LEFTS = """JSON.stringify([...document.querySelector('.symptom-table tbody tr').children]
+    .map(c => Math.round(c.getBoundingClientRect().left)))"""
 
 
 @pytest.fixture(scope="module")
@@ -80,6 +83,7 @@ def pages(site):
             found[width] = {"rows": json.loads(page.evaluate(ROWS)),
                             "boxes": json.loads(page.evaluate(BOXES)),
                             "width": json.loads(page.evaluate(PAGE_WIDTH)),
+                            "symptom_lefts": json.loads(page.evaluate(SYMPTOM_LEFTS)),
                             "shot": shot, "errors": page.errors()}
     return found
 
@@ -145,6 +149,9 @@ def test_on_a_phone_each_row_stacks_and_the_page_never_scrolls_sideways(pages):
         assert row["lefts"][0] < row["lefts"][1] < row["lefts"][2]  # three columns
     for row in rows_of(narrow, "checks"):
         assert len(set(row["lefts"])) == 1  # one under another
+    lefts = wide["symptom_lefts"]
+    assert len(lefts) == 4 and lefts == sorted(set(lefts))  # point, good, reading, causes
+    assert len(set(narrow["symptom_lefts"])) == 1  # a card: one under another
 
 
 @pytest.mark.parametrize("width", WIDTHS)
@@ -167,11 +174,9 @@ def test_no_page_of_the_site_scrolls_sideways_on_a_phone(site):
     assert {name: w for name, w in widths.items() if w[0] > w[1]} == {}
 
 
-# Each designator cell of the voltage tables and the parts lists, and each reading and
-# 'Measured' cell: its text, and whether all of its box lies inside the viewport and inside
-# every ancestor that clips what overflows it.
-DESIGNATORS = """JSON.stringify([...document.querySelectorAll(
-    '.voltage-table th[scope=row], .voltage-table td, article.bom .bom-line .refs')].map(e => {
+# Each element a selector names: its text, and whether all of its box lies inside the
+# viewport and inside every ancestor that clips what overflows it.
+IN_VIEW = """JSON.stringify([...document.querySelectorAll(SELECTOR)].map(e => {
   const r = e.getBoundingClientRect();
   let shown = r.width > 0 && r.height > 0 && r.left >= 0 && r.right <= window.innerWidth;
   for (let a = e.parentElement; a; a = a.parentElement) {
@@ -181,6 +186,17 @@ DESIGNATORS = """JSON.stringify([...document.querySelectorAll(
   }
   return {text: e.innerText.trim(), shown: shown && e.scrollWidth <= e.clientWidth + 1};
 }))"""
+
+
+def in_view(selector: str) -> str:
+    return IN_VIEW.replace("SELECTOR", json.dumps(selector))
+
+
+# Each designator cell of the voltage tables and the parts lists, and each reading and
+# 'Measured' cell; each cell of the symptom table.
+DESIGNATORS = in_view(".voltage-table th[scope=row], .voltage-table td, "
+                      "article.bom .bom-line .refs")
+SYMPTOMS = in_view(".symptom-table th[scope=row], .symptom-table td")
 # Each figure's picture and the width it is drawn at, in CSS px.
 FIGURES = """JSON.stringify([...document.querySelectorAll('.guide figure img')].map(
     i => [i.getAttribute('src'), i.getBoundingClientRect().width]))"""
@@ -202,7 +218,8 @@ def phone_pages(site):
         for name in names:
             page = Page(browser, (site / name).as_uri(), width=390)
             found[name] = {"designators": json.loads(page.evaluate(DESIGNATORS)),
-                           "figures": json.loads(page.evaluate(FIGURES))}
+                           "figures": json.loads(page.evaluate(FIGURES)),
+                           "symptoms": json.loads(page.evaluate(SYMPTOMS))}
     return found
 
 
@@ -219,6 +236,17 @@ def test_on_a_phone_every_designator_of_the_voltages_and_parts_is_in_view(site, 
     voltages = phone_pages["brookside-boost/index.html"]["designators"]
     assert {"Q1", "LED1"} <= {d["text"] for d in voltages}
     assert any(d["text"].startswith("4.31 V") for d in voltages)  # Q1 collector, adapter
+
+
+def test_on_a_phone_every_cell_of_the_symptom_table_is_in_view(phone_pages):
+    """The symptom table reflows into a card per test point, so no test point, reading or
+    cause hides in a box scrolled sideways."""
+    for name, page in phone_pages.items():
+        if not name.endswith("index.html"):
+            continue
+        assert len(page["symptoms"]) > 10, name
+        hidden = [d["text"][:40] for d in page["symptoms"] if not d["shown"]]
+        assert hidden == [], name
 
 
 def test_on_a_phone_the_text_of_every_figure_is_at_least_9_px(site, phone_pages):

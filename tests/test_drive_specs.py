@@ -6,14 +6,19 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from tests.stages.kits import POWER, gain_at, guide_text, stage_block
 
 from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.chain import OUTPUT
 from kitleaf.engine import reduced_steps, stepper
 from kitleaf.errors import GuideError, SpecError
 from kitleaf.guide.parse import parse_guide
+from kitleaf.render.plot_drive import render_drive_svg
+from kitleaf.render.plot_specs import drive_picture, wave_picture
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json
+from kitleaf.specs.lookup import computed_values
 from rules_kits import GUIDE
 
 ALDER = Path(__file__).resolve().parents[1] / "guides" / "alder-drive.md"
@@ -76,6 +81,61 @@ class TestAlderDrive:
         assert len(first["at_levels"][0]["harmonics_v_peak"]) == 5
 
 
+# An op-amp drive whose Clip switch picks silicon diodes, nothing (the op-amp's own rails)
+# or red LEDs across its feedback; invented for these tests.
+SWITCHED = guide_text(POWER, stage_block(
+    "drive", "opamp-soft-clip", "input-cap: C1 100n film", "bias: R1 1M", "opamp: U1A TL072",
+    "feedback: R2 4k7", "gain: VR1 A500k", "clip-positive: D1 1N4148",
+    "clip-negative: D2 1N4148", "clip-switch: S1 SPDT on-off-on", "alt-positive: LED1 red",
+    "alt-negative: LED2 red", "gain-resistor: R3 4k7", "gain-cap: C2 4u7 electrolytic 25V",
+    "output-cap: C3 1u film", "pulldown: R4 1M"), source="pickup",
+    lines=("large-signal: yes", "knob: Gain = VR1", "switch: Clip = S1: silicon, open, LEDs"))
+
+
+@pytest.fixture(scope="module")
+def switched():
+    return solved(SWITCHED, "switched.md")
+
+
+class TestSwitches:
+    def test_every_switch_position_is_swept(self, switched):
+        _, _, specs = switched
+        settings = {s.positions: s for s in specs.drive.settings}
+        assert len(settings) == 1 + 5 + 3  # at rest, the knob's five steps, each position
+        for position in ("silicon", "open", "LEDs"):
+            assert not settings[(("Clip", position),)].error
+
+    def test_each_position_clips_on_its_own_parts(self, switched):
+        # a red LED drops well over twice a silicon diode's forward voltage (about 1.6-1.8 V
+        # against 0.6-0.7 V; common practice, no source): the LEDs let more through before
+        # THD reaches 1 %; with nothing across the feedback the op-amp clips at its rails
+        _, _, specs = switched
+        at = {s.positions: s for s in specs.drive.settings}
+        silicon, open_, leds = (at[(("Clip", p),)] for p in ("silicon", "open", "LEDs"))
+        assert leds.clean_limit > 1.5 * silicon.clean_limit
+        assert "conducts" in silicon.swing_up[1]
+        assert "U1A output" in open_.swing_up[1] and "U1A output" in open_.swing_down[1]
+
+    def test_the_json_names_and_picture_carry_the_positions(self, switched):
+        guide, kit, specs = switched
+        settings = specs_to_json(specs)["drive"]["settings"]
+        assert [s["knobs"] for s in settings[-3:]] == [
+            {"Clip": "silicon"}, {"Clip": "open"}, {"Clip": "LEDs"}]
+        values = computed_values(specs, kit)
+        assert {"kit.thd.300mv.clip-leds", "drive.clean-limit.clip-open"} <= set(values)
+        panels = drive_picture(specs).panels
+        clip = [p for p in panels if p.title.startswith("THD, Clip switch set")]
+        assert [label for label, _ in clip[0].lines] == ["Clip: silicon", "Clip: open",
+                                                         "Clip: LEDs"]
+
+    def test_a_rule_names_the_switch_setting(self, switched):
+        # with nothing across its feedback the op-amp's output meets its rails at a 1 V
+        # pickup peak (gain about 50: far past a 9 V supply's swing)
+        guide, kit, specs = switched
+        found = [f.message for f in verify(guide, kit, specs).findings if f.rule == "opamp-rail"]
+        assert len(found) == 1 and "with Clip set to open" in found[0]
+
+
 class TestClaims:
     def test_a_thd_claim_is_read_as_a_percentage(self, alder):
         guide, kit, specs = alder
@@ -117,6 +177,46 @@ class TestRules:
         message = found[0].message
         assert "stage 'boost'" in message and "mV pickup peak" in message
         assert "knobs at half way" in message or "Level at" in message
+
+
+# The test boost with a small input capacitor, played softly at a tone near the high-pass
+# corner it sets
+PLAYED = ASKING.replace("large-signal: yes\n", "large-signal: yes\nplaying-levels: 10 mV, 50 mV"
+                        "\ntest-tone: 40 Hz\n", 1).replace("input-cap: C1 1u film",
+                                                           "input-cap: C1 22n film", 1)
+
+
+@pytest.fixture(scope="module")
+def played():
+    return solved(PLAYED, "played.md")
+
+
+class TestPlayingLevels:
+    def test_the_kit_is_played_at_its_own_levels_and_tone(self, played):
+        _, kit, specs = played
+        drive = specs.drive
+        assert drive.freq == 40.0 and [p.level for p in drive.base.points] == [0.01, 0.05]
+        assert {0.01, 0.05, 0.3, 1.0} <= set(drive.levels)  # the rules' own levels stay
+        # at a small level the fundamental's gain is the AC gain at that tone (the
+        # definition of small-signal analysis), the coupling corners' fall included
+        ac = abs(gain_at(kit, 40.0, OUTPUT))
+        assert abs(gain_at(kit, 1000.0, OUTPUT)) > 1.2 * ac
+        assert drive.base.points[0].harmonics[0] / 0.01 == pytest.approx(ac, rel=0.01)
+
+    def test_names_pictures_and_json_follow(self, played):
+        guide, kit, specs = played
+        values = computed_values(specs, kit)
+        assert {"kit.thd.10mv", "kit.peak.50mv"} <= set(values)
+        assert specs_to_json(specs)["drive"]["freq_hz"] == 40.0
+        svg = render_drive_svg(wave_picture(specs))
+        assert "50 ms" in svg and "10 mV pickup peak" in svg  # two periods of 40 Hz
+
+    def test_a_claim_at_a_level_not_played_says_so(self, played):
+        guide, kit, specs = played
+        text = PLAYED.replace("large-signal: yes", "large-signal: yes\nclaim: thd.300mv below "
+                              "1 %", 1)
+        with pytest.raises(SpecError, match="300mv is not one of the kit's playing levels"):
+            verify(parse_guide("played.md", text), kit, specs)
 
 
 class TestAsking:

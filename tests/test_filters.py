@@ -1,7 +1,7 @@
 """Display filters: every number on a page goes through these (units and rounding of the trade)."""
 
-from kitleaf.display import percent, range_text
-from kitleaf.specs.model import Range
+from kitleaf.display import hum_text, percent, range_text, setting_rows
+from kitleaf.specs.model import KnobPoint, Range, StageSpecs
 
 
 class TestRangeText:
@@ -35,3 +35,53 @@ class TestMeterVolts:
 
     def test_no_negative_zero(self):
         assert range_text(Range(-1e-4), "meter") == "0.00 V"
+
+
+class TestTinyVoltages:
+    # SI prefixes n (1e-9) and p (1e-12) (BIPM, The International System of Units, 9th ed.,
+    # table 7); dBV is 20 log10 of volts RMS over 1 V (common practice, no source).
+    def test_hum_near_minus_200_dbv_takes_the_pico_prefix(self):
+        assert hum_text(Range(7.11e-11, 6.0e-11, 8.0e-11)) == "71.1 pV (60–80) RMS, -203.0 dBV"
+
+    def test_nanovolts(self):
+        assert range_text(Range(4.7e-9), "voltage") == "4.7 nV"
+
+    def test_below_a_picovolt_is_a_bound(self):
+        assert hum_text(Range(1e-16, 1e-17, 1e-16)) == "under 1 pV RMS, below -240 dBV"
+
+    def test_a_spread_reaching_above_it_says_how_far(self):
+        assert range_text(Range(1e-16, 1e-17, 2e-12), "voltage") == "under 1 pV (up to 2 pV)"
+
+    def test_no_hum_at_all(self):
+        assert hum_text(Range(0.0)) == "0 V RMS, below -240 dBV"
+
+
+class TestSettingRows:
+    """A per-setting table lists only the settings whose figure reads otherwise than at rest
+    (an output impedance after a Level pot moves with Level alone)."""
+
+    @staticmethod
+    def stage(*ohms: float) -> StageSpecs:
+        points = tuple(KnobPoint(((knob, pos),), Range(0.0), output_impedance=Range(z))
+                       for (knob, pos), z in zip(SETTINGS, ohms, strict=True))
+        return StageSpecs("level", "volume", "Level", True, (), points, Range(0.0), None, None,
+                          None, Range(9000.0), None)
+
+    def test_rows_that_read_as_at_rest_are_folded_into_one(self):
+        rows = setting_rows(self.stage(9000.0, 9000.0, 1.0, 9000.0), "output_impedance",
+                            "resistance", ())
+        assert rows == [(False, "knobs at half way", "9 kΩ"), (True, "Level at 0 %", "1 Ω"),
+                        (True, "every other setting", "unchanged")]
+
+    def test_every_row_kept_when_each_differs(self):
+        rows = setting_rows(self.stage(1.0, 2.0, 3.0, 4.0), "output_impedance", "resistance",
+                            ())
+        assert [r[1] for r in rows] == ["knobs at half way", "Gain at 0 %", "Tone at 0 %",
+                                        "Level at 0 %", "Tone at 100 %"]
+
+    def test_one_row_when_nothing_moves(self):
+        assert setting_rows(self.stage(9000.0, 9000.0, 9000.0, 9000.0), "output_impedance",
+                            "resistance", ()) == [(False, "at every knob position", "9 kΩ")]
+
+
+SETTINGS = (("Gain", 0.0), ("Tone", 0.0), ("Level", 0.0), ("Tone", 1.0))

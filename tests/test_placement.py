@@ -71,6 +71,37 @@ def test_a_wrong_marker_is_a_located_error(marker, message):
         2 if "twice" in message else 0)
 
 
+@pytest.mark.parametrize(("marker", "message"), [
+    ("- {@voltages}", "cannot stand inside a quote or a list"),
+    ("> {@voltages}", "cannot stand inside a quote or a list"),
+    ("1. Measure:\n\n   {@voltages}", "cannot stand inside a quote or a list"),
+    ("## {@voltages}", "stands in a heading or a table"),
+    ("| a |\n| --- |\n| {@voltages} |", "stands in a heading or a table"),
+    ("Measure them\nin the table {@voltages} first.", "stands among other text"),
+    ("## Readings {@voltages}", "stands among other text"),
+])
+def test_a_marker_where_it_places_nothing_is_a_located_error(marker, message):
+    """Markdown keeps a marker in a list, a quote or a sentence as text there (a list item
+    cannot hold a section, as it cannot hold a stage block): an error at the marker's line."""
+    text = GUIDE.replace("{@voltages}", marker)
+    with pytest.raises(RenderError, match=re.escape(message)) as raised:
+        order(text)
+    lines = text.splitlines()
+    assert raised.value.span.line == next(n for n, line in enumerate(lines, start=1)
+                                          if "{@voltages}" in line)
+
+
+@pytest.mark.parametrize("shown", ["Write `{@voltages}` alone on a line.",
+                                   "Write \\{@voltages} alone on a line."])
+def test_a_marker_in_a_code_span_or_escaped_shows_as_written(shown):
+    text = GUIDE.replace("{@voltages}", shown)
+    html = "".join(p.content for p in render_prose(text, prose_env("order.md", {}))
+                   if p.kind == "html")
+    assert "{@voltages}" in html
+    sections = [c for k, c, _ in order(text) if k == "section"]
+    assert sections[-3:] == ["wiring", "voltages", "faults"]  # placed by default
+
+
 def test_every_section_has_a_template():
     assert set(SECTIONS) == {"glance", "checks", "cautions", "wiring", "voltages", "faults"}
 

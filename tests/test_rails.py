@@ -231,6 +231,91 @@ class TestHum:
         assert caught.value.span.line == 6
 
 
+# The 7660's oscillator runs at 10 kHz and its pump at half that; its ripple is
+# I_out / (2 f_pump C_reservoir) peak to peak (the 7660's data sheet, from memory), so
+# I_out / (f_osc C_reservoir): here C13, 47 uF, unless a test fits another.
+FOSC = 10e3
+
+
+def probed(circuit, node: str):
+    """``circuit`` with 1 V of AC driven into ``node`` through 1 MOhm (a current into it):
+    every node's voltage then stands to the node's as to a ripple on it (substitution)."""
+    return circuit.vsource("VRIP", "rip", "0", ac=1.0).resistor("RRIP", "rip", node, 1e6)
+
+
+class TestPumpRipple:
+    @pytest.mark.parametrize("pump, rails, node", [("doubler", "doubled", "v2"),
+                                                   ("inverter", "bipolar", "vee")])
+    def test_on_its_rail_the_load_over_fosc_c(self, pump, rails, node):
+        guide, kit = kit_of(power(pump), gain(rails), spare(rails))
+        (ripple,) = derive_specs(guide, kit).pump_ripples
+        load = abs(solve_dc(kit.netlist()).current("U2"))  # what the pump delivers
+        assert (ripple.pump, ripple.rail, ripple.hz) == ("U2", node, FOSC / 2)
+        assert ripple.volts_pp.nominal == pytest.approx(load / (FOSC * 47e-6), rel=1e-9)
+        # the reservoir's +-20 % (an electrolytic's usual tolerance, common practice, no
+        # source) spreads it about as much
+        assert ripple.volts_pp.low < ripple.volts_pp.nominal < ripple.volts_pp.high
+
+    def test_at_the_output_the_rail_share_of_it(self):
+        guide, kit = kit_of(power("inverter"), gain("bipolar"), spare("bipolar"))
+        (ripple,) = derive_specs(guide, kit).pump_ripples
+        circuit = probed(kit.netlist(), "vee")
+        ac = solve_ac(circuit, solve_dc(circuit), [FOSC / 2], "VRIP")
+        share = abs(ac.voltage(OUTPUT)[0] / ac.voltage("vee")[0])
+        # a sine of the ripple's peak to peak: its RMS is pp / (2 sqrt 2)
+        expected = share * ripple.volts_pp.nominal / (2 * math.sqrt(2))
+        assert ripple.output.nominal == pytest.approx(expected, rel=1e-3)
+
+    def test_figures_names_json_page_and_terminal(self):
+        from kitleaf.render.environment import make_environment, theme_dirs
+        from kitleaf.render.specs_text import specs_to_text
+
+        guide, kit = kit_of(power("doubler"), gain("doubled"), spare("doubled"))
+        specs = derive_specs(guide, kit)
+        (ripple,) = specs.pump_ripples
+        names = computed_values(specs, kit)
+        assert names["kit.pump-ripple.u2"].value == ripple.volts_pp
+        assert names["kit.pump-ripple.u2.output"].value == ripple.output
+        (shown,) = specs_to_json(specs)["pump_ripple"]
+        assert (shown["pump"], shown["rail"], shown["hz"]) == ("U2", "v2", 5000.0)
+        assert shown["mv_pp"]["nominal"] == pytest.approx(ripple.volts_pp.nominal * 1e3,
+                                                          rel=1e-5)
+        rows = make_environment(theme_dirs(None)).get_template("_spec_rows.html")
+        page = rows.render(sp=specs, specs=specs)
+        assert "Switching ripple of U2 on V2 (peak to peak, at 5 kHz)" in page
+        assert "U2 switching ripple" in specs_to_text(specs)
+
+    @pytest.mark.parametrize("reservoir, found", [("47u", False), ("1u", True)])
+    def test_rule_when_it_is_heard(self, reservoir, found):
+        blocks = (power("inverter").replace("C13 47u", f"C13 {reservoir}"), gain("bipolar"),
+                  spare("bipolar"))
+        guide, kit = kit_of(*blocks)
+        specs = derive_specs(guide, kit)
+        findings = [f for f in verify(guide, kit, specs).findings if f.rule == "pump-ripple"]
+        assert bool(findings) == found
+        if found:
+            assert findings[0].subject == "U2"
+            assert findings[0].span.line == line_of(text(*blocks), "inverter: U2 7660")
+            assert "switches at 5 kHz, in the audio band" in findings[0].message
+
+
+@pytest.mark.slow
+def test_pump_ripple_share_against_ngspice():
+    """The rail-to-output share of the ripple, the negative rail driven through 1 MOhm,
+    solved by Debian's ngspice."""
+    require_ngspice()
+    guide, kit = kit_of(power("inverter"), gain("bipolar"), spare("bipolar"))
+    (ripple,) = derive_specs(guide, kit).pump_ripples
+    circuit = probed(kit.netlist(), "vee")
+    freqs, spice = ac_sweep(circuit.replaced(SOURCE, ac=0.0).replaced(SUPPLY, ac=0.0), "VRIP",
+                            [OUTPUT, "vee"], FOSC / 2, FOSC * 5, per_decade=10)
+    assert freqs[0] == pytest.approx(FOSC / 2)
+    share = abs(spice[OUTPUT][0] / spice["vee"][0])
+    expected = share * ripple.volts_pp.nominal / (2 * math.sqrt(2))
+    # ngspice oracle: within 0.1 dB, as the hum
+    assert 20 * abs(math.log10(ripple.output.nominal / expected)) < 0.1
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("pump, rails", [("doubler", "doubled"), ("inverter", "bipolar")])
 def test_rails_gain_and_hum_against_ngspice(pump, rails):

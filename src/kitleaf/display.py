@@ -28,6 +28,8 @@ def figure(value: float | None, quantity: str) -> str:
 
 
 def _one(value: float, quantity: str) -> str:
+    if quantity == "voltage" and 0.0 < abs(value) < SMALLEST_VOLTAGE:
+        return BELOW_VOLTAGE
     if quantity == "db":
         return format_db(value)
     if quantity == "thd":
@@ -35,6 +37,12 @@ def _one(value: float, quantity: str) -> str:
     if quantity == "meter":
         return meter_volts(value)
     return format_value(value, quantity)
+
+
+# Below a picovolt a figure is the solver's rounding, not a signal (a 10 kΩ resistor's own
+# noise over the audio band is about 2 µV; Johnson-Nyquist, from memory): shown as a bound.
+SMALLEST_VOLTAGE = 1e-12
+BELOW_VOLTAGE = "under 1 pV"
 
 
 def meter_volts(volts: float) -> str:
@@ -57,6 +65,8 @@ def range_text(value, quantity: str) -> str:
     if value.low is None or value.high is None:
         return nominal
     low, high = _one(value.low, quantity), _one(value.high, quantity)
+    if BELOW_VOLTAGE in (nominal, low, high):
+        return _bounded(nominal, high)
     if low == high == nominal:  # no spread at this precision
         return nominal
     unit = nominal.partition(" ")[2]
@@ -65,6 +75,11 @@ def range_text(value, quantity: str) -> str:
     # A dash between negative numbers reads as a minus sign: "-9.1 to -6.9".
     joiner = " to " if high.startswith("-") or low.startswith("-") else "–"
     return f"{nominal} ({low}{joiner}{high})"
+
+
+def _bounded(nominal: str, high: str) -> str:
+    """A range reaching under the smallest shown voltage: the nominal and how high it goes."""
+    return nominal if high == nominal else f"{nominal} (up to {high})"
 
 
 # A current below what a multimeter's lowest range resolves (about 0.1 µA; common practice,
@@ -78,6 +93,54 @@ def _below_meter(value) -> bool:
     return all(abs(x) < SMALLEST_CURRENT for x in ends)
 
 
+def instability_words(unstable) -> str:
+    """What an unstable setting does (a specs ``Unstable``): "the circuit oscillates near
+    1.08 kHz (a pole pair in the right half plane)"."""
+    hz = format_value(unstable.hz, "frequency")
+    if unstable.oscillates:
+        return f"the circuit oscillates near {hz} (a pole pair in the right half plane)"
+    return f"the circuit runs to a rail (a growing real pole at {hz})"
+
+
+def unstable_text(unstable) -> str:
+    """What stands in place of a small-signal figure at an unstable setting."""
+    return f"not meaningful: {instability_words(unstable)}"
+
+
+def small_signal_text(value, quantity: str, unstable=None) -> str:
+    """:func:`range_text`, or :func:`unstable_text` where the setting is unstable."""
+    return unstable_text(unstable) if unstable is not None else range_text(value, quantity)
+
+
+def setting_rows(specs, field: str, quantity: str, switches) -> list[tuple[bool, str, str]]:
+    """A figure of a specs table (``field`` of a kit's or stage's specs) at rest and per knob
+    or switch setting, as rows (a sub-row?, the words after the label or the setting, the
+    text): the settings that show another text than at rest, then one row for all the others;
+    one row when every setting shows the same text, none without the figure."""
+    rest = getattr(specs, field)
+    if rest is None:
+        return []
+    text = _row_text(rest, quantity, specs.unstable)
+    rows = [(True, settings(p.positions), _row_text(getattr(p, field), quantity, p.unstable))
+            for p in specs.knob_sweep if getattr(p, field) is not None]
+    if all(shown == text for _, _, shown in rows):
+        return [(False, "at every knob position" if rows else "", text)]
+    moved = [row for row in rows if row[2] != text]
+    alike = [(True, ALIKE_SETTINGS, ALIKE_TEXT)] if len(moved) < len(rows) else []
+    return [(False, at_rest(switches), text), *moved, *alike]
+
+
+def _row_text(value, quantity: str, unstable) -> str:
+    """A table row's figure; ``quantity`` "hum" is RMS volts with its dBV."""
+    if quantity == "hum" and unstable is None:
+        return hum_text(value)
+    return small_signal_text(value, quantity, unstable)
+
+
+# The row that stands for every setting showing the same text as at rest.
+ALIKE_SETTINGS, ALIKE_TEXT = "every other setting", "unchanged"
+
+
 def dbv(volts: float) -> float:
     """RMS volts in decibels relative to 1 V RMS (dBV)."""
     return 20.0 * math.log10(volts) if volts > 0 else -math.inf
@@ -89,7 +152,7 @@ def hum_text(value) -> str:
     if value is None:
         return DASH
     level = dbv(value.nominal)
-    shown = f"{level:.1f}" if math.isfinite(level) else "below -300"
+    shown = f"{level:.1f}" if abs(value.nominal) >= SMALLEST_VOLTAGE else "below -240"
     return f"{range_text(value, 'voltage')} RMS, {shown} dBV"
 
 
@@ -160,6 +223,9 @@ def trim_travel(trim) -> str:
 FORMATTERS: dict[str, Callable[..., str]] = {
     "si": si,
     "range_text": range_text,
+    "small_signal_text": small_signal_text,
+    "setting_rows": setting_rows,
+    "unstable_text": unstable_text,
     "percent": percent,
     "figure": figure,
     "thd_text": thd_text,

@@ -7,7 +7,8 @@ Display rule (``format_value``): engineering SI prefix, ``digits`` significant f
 Trailing zeros mean rounding happened: a value that is exact at ``digits`` figures shows only
 its own digits (4700 -> "4.7 kΩ", 1e6 -> "1 MΩ", 9 -> "9 V"); a value that had to be rounded
 keeps all of them (1199.7 -> "1.20 kHz", 0.0023004 -> "2.30 mA"). Capacitance never goes above
-µ (2200 µF, as printed on the can); resistance never goes below the plain ohm (0.47 Ω).
+µ (2200 µF, as printed on the can); resistance never goes below the plain ohm (0.47 Ω); voltage
+goes down to p (hum of "71.1 pV"; display.py shows anything smaller as a bound).
 Symbols: Ω is U+03A9, µ is U+00B5 MICRO SIGN; the range dash is U+2013.
 """
 
@@ -71,7 +72,7 @@ _DISPLAY_RANGE: Mapping[str, tuple[int, int]] = MappingProxyType(
         "resistance": (0, 9),
         "capacitance": (-12, -6),
         "inductance": (-9, 0),
-        "voltage": (-6, 3),
+        "voltage": (-12, 3),  # down to pV: hum and leakage at -200 dBV and below
         "current": (-12, 0),
         "power": (-6, 3),
         "frequency": (0, 9),

@@ -92,6 +92,29 @@ class TestSmallSignalLimit:
         assert amp[0, 1] == pytest.approx(2 * amp[0, 0], rel=0.02)
 
 
+    def test_each_variant_takes_its_own_levels(self):
+        # a variant repeated at its own levels gives what one shared sweep of it gives
+        # (the same equations, member for member)
+        batch = solve_batch(rc.boost())
+        shared = periodic_steady_state([batch], "VIN", [0.02, 0.05, 0.2], 1000.0,
+                                       nodes=["out"]).wave("out")[0, :, 0]
+        own = periodic_steady_state([batch, batch], "VIN", [[0.2], [0.05]], 1000.0,
+                                    nodes=["out"])
+        assert own.levels.shape == (2, 1)
+        assert own.wave("out")[:, 0, 0] == pytest.approx(shared[[2, 1]], abs=1e-6)
+        with pytest.raises(SolveError, match="levels per variant"):
+            periodic_steady_state([batch, batch], "VIN", [[0.2, 0.1]], 1000.0)
+
+    def test_some_samples_alone_take_the_same_periods(self):
+        # a batch narrowed to some of its samples is those samples' own equations
+        batch = solve_batch(rc.boost(), samples=6)
+        whole = periodic_steady_state([batch], "VIN", [0.2], 1000.0, nodes=["out"])
+        some = periodic_steady_state([batch.take(np.array([4, 1]))], "VIN", [0.2], 1000.0,
+                                     nodes=["out"])
+        assert some.wave("out")[0, 0] == pytest.approx(whole.wave("out")[0, 0, [4, 1]],
+                                                       abs=1e-6)
+
+
 class TestOpAmpLargeSignal:
     @staticmethod
     def follower(model: str, load: float = 1e6) -> Circuit:

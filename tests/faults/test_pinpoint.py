@@ -94,3 +94,11 @@ def test_readings_in_other_forms(capsys):
     data = json.loads(capsys.readouterr().out)
     assert data["readings"] == {"boost.q1.emitter": pytest.approx(0.85),
                                 "boost.q1.base": -0.1}
+
+
+def test_the_report_says_where_the_switches_rest(capsys):
+    # the fault board is the kit with its knobs half way and each switch where the kit block's
+    # '*' rests it (Clip at off here), so the readings only hold there
+    guide = GUIDES.parent / "tests" / "fixtures" / "pages" / "switch-and-trimmer.md"
+    assert main(["pinpoint", str(guide), "power.vcc=9.0"]) == 0
+    assert "knobs at half way, Clip set to off." in capsys.readouterr().out

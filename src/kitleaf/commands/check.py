@@ -10,11 +10,12 @@ import argparse
 import sys
 
 from kitleaf.circuit.build import build_circuit
+from kitleaf.circuit.harness import build_harness
 from kitleaf.commands import command
 from kitleaf.commands.options import add_fail_on_findings, add_guides
 from kitleaf.errors import KitleafError, printable_line
 from kitleaf.guide import parse_guide
-from kitleaf.render.inline import prose_env
+from kitleaf.render.placement import page_env
 from kitleaf.render.prose import render_prose
 from kitleaf.site.discover import find_guides
 from kitleaf.site.unique import reused_codes
@@ -34,7 +35,8 @@ def check_guide(path) -> tuple[Checks, tuple[str, ...]]:
     solved = solve_kit(guide, kit)  # one solve for the specs and the design rules
     specs = derive_specs(guide, kit, solved)
     checks = verify(guide, kit, specs, solved)
-    render_prose(guide.text, prose_env(guide.path, checks.values))  # names in the prose
+    # Names and section markers in the prose, read as the build reads them.
+    render_prose(guide.text, page_env(guide.path, checks.values, build_harness(guide, kit)))
     return checks, specs.notes
 
 

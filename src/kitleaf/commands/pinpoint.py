@@ -10,6 +10,7 @@ from pathlib import Path
 from kitleaf.circuit.build import build_circuit
 from kitleaf.commands import command
 from kitleaf.commands.options import whole_at_least_one
+from kitleaf.display import at_rest
 from kitleaf.faults.probes import probes
 from kitleaf.faults.rank import rank
 from kitleaf.faults.readings import ReadingError, parse_readings
@@ -51,5 +52,7 @@ def run(args) -> int:
         print(json.dumps(ranking_json(str(args.file), readings, ranking, measured), indent=2,
                          ensure_ascii=False))
     else:
-        print(ranking_text(guide.kit.title, readings, ranking, measured))
+        rest = at_rest(tuple((s.name, s.designator, s.positions, s.positions[s.rest])
+                             for s in kit.switches))
+        print(ranking_text(guide.kit.title, readings, ranking, measured, rest))
     return 0

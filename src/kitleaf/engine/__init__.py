@@ -21,7 +21,7 @@ _HOMES = {
     "DeviceModel": "models", "get_model": "models", "register_model": "models",
     "registered_models": "models",
     "McResult": "montecarlo", "Spread": "montecarlo", "monte_carlo": "montecarlo",
-    "PoleResidue": "ports",
+    "PoleResidue": "ports", "growing": "poles",
 }
 
 __all__ = sorted(_HOMES)

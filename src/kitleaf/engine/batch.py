@@ -104,6 +104,13 @@ class BatchResult:
             raise SolveError(f"{source!r} is not a source of the circuit")
         return self.system.rhs(only=source, amplitude=amplitude)[0]
 
+    def take(self, idx: np.ndarray) -> BatchResult:
+        """The samples at ``idx`` alone, at the operating points solved for them here."""
+        return BatchResult(self.layout, self.x[idx],
+                           {n: {k: v[idx] for k, v in p.items()} for n, p in self.params.items()},
+                           None if self.factors is None else self.factors[idx], self.system,
+                           self.stored.take(idx))
+
     @cached_property
     def matrices(self) -> tuple[np.ndarray, np.ndarray]:
         """Small-signal G and C per sample, (samples, n, n) each."""

@@ -48,7 +48,8 @@ class Problem:
         banks = [bank.with_params(**{k: _rows(v, idx) for k, v in bank.params.items()})
                  for bank in self.devices.banks]
         devices = self.devices.with_banks(banks)
-        return replace(self, g=_rows(self.g, idx), b=_rows(self.b, idx), devices=devices)
+        g = None if self.g is None else _rows(self.g, idx)  # a large batch keeps no G
+        return replace(self, g=g, b=_rows(self.b, idx), devices=devices)
 
 
 def _rows(a: np.ndarray, idx: np.ndarray) -> np.ndarray:

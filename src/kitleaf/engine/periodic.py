@@ -22,7 +22,7 @@ from kitleaf.engine.batch import BatchResult
 from kitleaf.engine.harmonics import Distortion, distortion
 from kitleaf.engine.newton import extend
 from kitleaf.engine.reduce import partition
-from kitleaf.engine.reduced_shooting import members, shoot, start_at
+from kitleaf.engine.reduced_shooting import member_levels, members, shoot, start_at
 from kitleaf.engine.stepper import Drive, History, advance
 from kitleaf.errors import SolveError
 
@@ -96,13 +96,19 @@ def _merged(coarse: np.ndarray, sharp: np.ndarray, members: np.ndarray) -> np.nd
     return flat.reshape(coarse.shape)
 
 
-def check_drive(levels: Sequence[float], freq: float) -> np.ndarray:
-    """The levels as an array; SolveError for a level or frequency that cannot be simulated."""
+def check_drive(levels, freq: float, variants: int = 1) -> np.ndarray:
+    """The levels as an array, (count,) or (variants, count); SolveError for a level or
+    frequency that cannot be simulated."""
     if not (math.isfinite(freq) and 0.0 < freq <= MAX_FREQ):
         raise SolveError(f"a drive frequency of {freq!r} Hz cannot be simulated "
                          f"(it must be above 0 and at most {MAX_FREQ:g} Hz)")
-    arr = np.asarray(levels, dtype=float).reshape(-1)
-    bad = [v for v in arr if not (math.isfinite(v) and 0.0 < v <= MAX_LEVEL)]
+    arr = np.asarray(levels, dtype=float)
+    if arr.ndim != 2:
+        arr = arr.reshape(-1)
+    elif arr.shape[0] != variants:
+        raise SolveError(f"levels per variant must be (variants, count) = ({variants}, ...), "
+                         f"got {arr.shape}")
+    bad = [v for v in arr.reshape(-1) if not (math.isfinite(v) and 0.0 < v <= MAX_LEVEL)]
     if bad or arr.size == 0:
         raise SolveError(f"a drive level of {bad[0] if bad else 'none'!r} V cannot be simulated "
                          f"(levels must be above 0 and at most {MAX_LEVEL:g} V peak)")
@@ -114,12 +120,14 @@ def periodic_steady_state(batches: Sequence[BatchResult], source: str, levels: S
                           points: int = POINTS) -> PeriodicResult:
     """The periodic response of each batch (variants of one circuit sharing its unknowns,
     such as knob positions) to ``source`` driven at each peak level of ``levels`` at
-    ``freq``, on top of its DC value. ``nodes`` are the waveforms kept."""
-    levels_arr = check_drive(levels, freq)
+    ``freq``, on top of its DC value. ``nodes`` are the waveforms kept. ``levels`` may be
+    (variants, count) instead: each variant driven at its own levels (a variant may repeat
+    a batch); the result's ``levels`` then keeps that shape."""
+    levels_arr = check_drive(levels, freq, len(batches))
     if not batches or any(b.layout != batches[0].layout for b in batches):
         raise SolveError("the variants of a drive sweep must share one circuit's unknowns")
     rows = [batches[0].row(n) for n in nodes]
-    shape = (len(batches), levels_arr.size, batches[0].size)
+    shape = (len(batches), levels_arr.shape[-1], batches[0].size)
     waves, ok, reasons, passes, (refined, fine) = _solve(batches, source, levels_arr, freq,
                                                          rows, points)
     out = {n: waves[:, i].reshape(*shape, points) for i, n in enumerate(nodes)}
@@ -195,7 +203,7 @@ def _solve_full(batches, source, levels, freq, rows, points, only: np.ndarray | 
 def _drive(batches: Sequence[BatchResult], source: str, levels: np.ndarray,
            freq: float) -> tuple[Drive, np.ndarray]:
     """The stacked equations of every (variant, level, sample) member and their DC start."""
-    first, count, samples = batches[0], levels.size, batches[0].size
+    first, count, samples = batches[0], levels.shape[-1], batches[0].size
     if any(b.size != samples for b in batches):
         raise SolveError("the variants of a drive sweep must have the same number of samples")
 
@@ -214,7 +222,7 @@ def _drive(batches: Sequence[BatchResult], source: str, levels: np.ndarray,
         params = {k: np.concatenate([tiled(b.problem.devices.banks[i].params[k])
                                      for b in batches]) for k in bank.params}
         banks.append(bank.with_params(**params))
-    amplitude = np.tile(np.repeat(levels, samples), len(batches))
+    amplitude = member_levels(levels, len(batches), samples)
     own = {n for e in first.system.elements for n in el.terminals(e)}
     judged = np.array([i for i, n in enumerate(first.layout.nodes) if n in own])
     drive = Drive(np.concatenate(g), np.concatenate(c), first.problem.devices.with_banks(banks),

@@ -43,6 +43,26 @@ def evaluate(alpha: np.ndarray, residues: np.ndarray, lambdas: np.ndarray,
     return out
 
 
+# A pole s = -1 / lambda grows (the circuit oscillates, or runs to a rail) when its real part
+# exceeds this share of its magnitude: a mode that needs a million radians to grow by e is
+# rounding on the imaginary axis, not a circuit.
+GROWTH = 1e-6
+# Poles above this frequency are left out: the models have no lead inductance or package
+# parasitics, so they say nothing there, and a time constant that is zero but for rounding (a
+# capacitor whose both ends a source holds) gives a pole near 1e15 Hz on either side of the axis.
+CEILING_HZ = 1e9
+
+
+def growing(lambdas: np.ndarray) -> np.ndarray:
+    """Which modes 1 / (1 + s lambda) grow instead of decaying, (samples, m): poles
+    s = -1 / lambda in the right half plane (Re s > GROWTH |s|) below CEILING_HZ."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        poles = -1.0 / np.asarray(lambdas)
+        size = np.abs(poles)
+        return (np.isfinite(size) & (poles.real > GROWTH * size)
+                & (size < 2.0 * np.pi * CEILING_HZ))
+
+
 CHUNK = 1 << 16  # complex terms per block
 CHUNK_REAL = 1 << 16  # real terms per block
 

@@ -87,6 +87,11 @@ class PoleResidue:
         """(s, r, m)."""
         return -(self.ports.w @ self.vecs) * self.weights[:, None, :]
 
+    def mode_shape(self, sample: int, k: int) -> np.ndarray:
+        """How mode ``k`` of sample ``sample`` spreads over the rows: column k of W V (r,),
+        the rows' voltages as the mode starts alone."""
+        return self.ports.w[sample] @ self.vecs[sample][:, k]
+
     def __call__(self, freqs: np.ndarray) -> np.ndarray:
         """Responses (samples, F, r) at ``freqs`` (F,) or per sample (samples, F)."""
         return self._at(freqs, magnitude=False)

@@ -38,7 +38,8 @@ SHOT_DRIVE = 3e-4  # and of the member's drive level
 def members(batches: Sequence[BatchResult], source: str, levels: np.ndarray, omega: float,
             rows: list[int | None], steps: int) -> tuple[Members, np.ndarray] | None:
     """The reduced equations of every (variant, level, sample) member and their DC start
-    (B, n); None when the circuit cannot be reduced (then the full stepper runs)."""
+    (B, n); None when the circuit cannot be reduced (then the full stepper runs).
+    ``levels`` is (count,), or (variants, count) for each variant's own levels."""
     first = batches[0]
     part = partition(first.system)
     banks0 = first.problem.devices.banks
@@ -47,7 +48,7 @@ def members(batches: Sequence[BatchResult], source: str, levels: np.ndarray, ome
     moved = part.remap(banks0)
     if any(a < 0 or b < 0 for a, b in moved.cap_pairs()):
         return None  # a junction capacitance on an eliminated row
-    samples, count = first.size, levels.size
+    samples, count = first.size, levels.shape[-1]
     h = 2.0 * np.pi / omega / steps
     b_dc, e = first.system.rhs()[0], first.excitation(source)
     linears = []
@@ -68,10 +69,16 @@ def members(batches: Sequence[BatchResult], source: str, levels: np.ndarray, ome
         params_banks.append(bank.with_params(**params))
     devices = part.remap(params_banks)
     vf = part.fixed_sign[None, :] * np.stack([b_dc, e])[:, part.fixed_branch]
-    amplitude = np.tile(np.repeat(levels, samples), len(batches))
+    amplitude = member_levels(levels, len(batches), samples)
     mem = Members(joined, devices, vf, amplitude, omega, part.node_count,
                   cap_incidence(devices, part.keep.size + 1 + part.fixed.size))
     return mem, linear_start(batches, e, amplitude, h, omega, order, len(first.layout.nodes))
+
+
+def member_levels(levels: np.ndarray, variants: int, samples: int) -> np.ndarray:
+    """Each (variant, level, sample) member's drive level, flat; ``levels`` is (count,)
+    shared by the variants or (variants, count), each variant's own."""
+    return np.repeat(np.broadcast_to(levels, (variants, levels.shape[-1])).reshape(-1), samples)
 
 
 def linear_start(batches: Sequence[BatchResult], excitation: np.ndarray, amplitude: np.ndarray,

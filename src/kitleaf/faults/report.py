@@ -14,8 +14,9 @@ ALIKE_SHOWN = 4
 
 
 def ranking_text(title: str, readings: Readings, ranking: Ranking,
-                 measured: dict[str, float]) -> str:
-    """What the readings point to, most likely first, with the good build beside them."""
+                 measured: dict[str, float], rest: str = "knobs at half way") -> str:
+    """What the readings point to, most likely first, with the good build beside them;
+    ``rest`` says where the controls are (:func:`kitleaf.display.at_rest`)."""
     b = black(ranking.black)
     lines = [f"{title}: {len(measured)} reading{'s' * (len(measured) != 1)} at "
              f"{readings.supply_v:g} V, {b.text}.", ""]
@@ -41,7 +42,7 @@ def ranking_text(title: str, readings: Readings, ranking: Ranking,
             alike = ", ".join("a good build" if k == GOOD.key else k
                               for k in c.alike[:ALIKE_SHOWN])
             lines.append(f"           reads the same as: {alike}{more}")
-    lines += ["", "Readings assume a 10 Mohm meter on its 20 V range and the knobs half way. "
+    lines += ["", f"Readings assume a 10 Mohm meter on its 20 V range, {rest}. "
               "Disconnect the supply before you resolder anything."]
     return "\n".join(lines)
 

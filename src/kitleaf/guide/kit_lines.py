@@ -1,5 +1,6 @@
 """The kit block's lines with a grammar of their own: knobs, switches, the battery's capacity
-and life, and the adapter's ripple."""
+and life, the adapter's ripple, and the playing levels and test tone of the large-signal
+figures."""
 
 from __future__ import annotations
 
@@ -8,7 +9,7 @@ import re
 from kitleaf.errors import GuideError, KitleafError
 from kitleaf.guide.model import DESIGNATOR, Block, Entry, Knob, Switch
 from kitleaf.guide.slug import slug_for
-from kitleaf.values import parse_value
+from kitleaf.values import format_value, parse_value
 
 _CAPACITY = re.compile(r"^(\d+(?:\.\d*)?)\s*(m?)Ah$")
 _HOURS = re.compile(r"^(\d+(?:\.\d*)?)\s*(?:h|hours?)$")
@@ -122,14 +123,82 @@ def battery_life_hours(entry: Entry) -> float:
 
 
 def check_battery(block: Block) -> None:
-    """Both battery lines and the ripple read now, so a mistake is named even where nothing
-    reads them."""
+    """Both battery lines, the ripple and the large-signal drive read now, so a mistake is
+    named even where nothing reads them."""
     for entry in block.all("battery"):
         battery_capacity_ah(entry)
     for entry in block.all("battery-life"):
         battery_life_hours(entry)
     for entry in block.all("adapter-ripple"):
         adapter_ripple(entry)
+    for entry in block.all("playing-levels"):
+        playing_levels(entry)
+    for entry in block.all("test-tone"):
+        test_tone(entry)
+
+
+# What the large-signal figures may be asked for: pickup peaks from 1 mV (a weak single
+# coil's softest note) to 10 V (far past the hottest active pickup), at most five of them,
+# and a tone within the audio band, 20 Hz to 20 kHz (common practice, no source).
+PLAYING_VOLTS = (1e-3, 10.0)
+MAX_PLAYING = 5
+TONE_HZ = (20.0, 20e3)
+_PLAYING_EXAMPLE = "'playing-levels: 100 mV, 300 mV, 1 V' (pickup peaks, soft to hard)"
+
+
+def playing_levels(entry: Entry) -> tuple[float, ...]:
+    """A ``playing-levels:`` line as pickup peak volts, lowest first: "50 mV, 1 V"."""
+    levels = []
+    for word in entry.value.split(","):
+        volts = _drive_value(entry, word, "voltage", _PLAYING_EXAMPLE)
+        _within(entry, word, volts, PLAYING_VOLTS, "voltage", "a pickup's peak",
+                _PLAYING_EXAMPLE)
+        levels.append(volts)
+    named = {level_word(v) for v in levels}
+    if len(levels) > MAX_PLAYING or len(named) < len(levels):
+        raise GuideError(f"'playing-levels: {entry.value}' needs one to {MAX_PLAYING} levels, "
+                         f"each apart from the others; write it like {_PLAYING_EXAMPLE}",
+                         entry.span)
+    return tuple(sorted(levels))
+
+
+def test_tone(entry: Entry) -> float:
+    """A ``test-tone:`` line as hertz: "440 Hz"."""
+    example = "'test-tone: 1 kHz' (the sine the pickup plays, 20 Hz to 20 kHz)"
+    hz = _drive_value(entry, entry.value, "frequency", example)
+    _within(entry, entry.value, hz, TONE_HZ, "frequency", "the tone (the audio band)",
+            example)
+    return hz
+
+
+def level_word(volts: float) -> str:
+    """A playing level as names spell it: 0.3 -> "300mv", 1.0 -> "1v"."""
+    return f"{volts:g}v" if volts >= 1.0 else f"{round(volts * 1000, 3):g}mv"
+
+
+_NUMBER = re.compile(r"^\s*([-+−]?(?:\d+\.?\d*|\.\d+)(?:e[-+]?\d+)?)", re.IGNORECASE)
+
+
+def _drive_value(entry: Entry, word: str, quantity: str, example: str) -> float:
+    number = _NUMBER.match(word)
+    if number and float(number[1].replace("−", "-")) <= 0.0:
+        raise GuideError(f"'{word.strip()}' in '{entry.key}: {entry.value}' cannot be "
+                         "simulated: a drive needs a level and a tone above zero; write it "
+                         f"like {example}", entry.span)
+    try:
+        return parse_value(word.strip(), quantity)
+    except KitleafError as exc:
+        raise GuideError(f"cannot read '{word.strip()}' in '{entry.key}: {entry.value}' "
+                         f"({exc.message}); write it like {example}", entry.span) from None
+
+
+def _within(entry: Entry, word: str, value: float, limits: tuple[float, float],
+            quantity: str, what: str, example: str) -> None:
+    low, high = (format_value(v, quantity) for v in limits)
+    if not limits[0] <= value <= limits[1]:
+        raise GuideError(f"'{word.strip()}' in '{entry.key}: {entry.value}' cannot be "
+                         f"simulated: {what} must be from {low} to {high}; write it like "
+                         f"{example}", entry.span)
 
 
 def adapter_ripple(entry: Entry) -> tuple[float, float]:

@@ -19,13 +19,14 @@ from kitleaf.guide.source import checked_text, read_text
 KIT_KEYS = {
     "title", "code", "revision", "supply", "summary", "knob", "switch", "hardware", "caution",
     "source", "load", "order", "battery", "battery-life", "claim", "allow", "bypass",
-    "large-signal", "adapter-ripple",
+    "large-signal", "adapter-ripple", "playing-levels", "test-tone",
 }
 # Optional kit keys that may be given once (a second line would be silently ignored).
 SINGLE_KEYS = ("revision", "summary", "source", "load", "order", "battery", "battery-life",
-               "bypass", "large-signal", "adapter-ripple")
+               "bypass", "large-signal", "adapter-ripple", "playing-levels", "test-tone")
 # Kit keys kept whole in KitBlock.extra, read by the specs checks (claims, rules, battery).
-EXTRA_KEYS = ("battery", "battery-life", "claim", "allow", "large-signal", "adapter-ripple")
+EXTRA_KEYS = ("battery", "battery-life", "claim", "allow", "large-signal", "adapter-ripple",
+              "playing-levels", "test-tone")
 _EXAMPLES = {"title": "Fernbrook Clean Boost", "code": "FB-101", "supply": "9 V"}
 # Stage ids name files of the site: short, plain names.
 _ID = re.compile(r"^[a-z][a-z0-9-]{0,39}$")

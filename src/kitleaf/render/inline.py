@@ -17,7 +17,7 @@ from markdown_it.common.utils import escapeHtml
 from markdown_it.rules_core import StateCore
 from markdown_it.rules_inline import StateInline
 
-from kitleaf.display import range_text
+from kitleaf.display import small_signal_text
 from kitleaf.errors import SourceSpan
 from kitleaf.render.prose import register_plugin
 from kitleaf.specs.lookup import Computed, lookup
@@ -76,7 +76,7 @@ def _render(renderer, tokens, idx, options, env) -> str:
     if computed is None:
         return escapeHtml(token.content)
     title = escapeHtml(f"{computed.label} ({computed.name}), computed from the parts")
-    shown = escapeHtml(range_text(computed.value, computed.quantity))
+    shown = escapeHtml(small_signal_text(computed.value, computed.quantity, computed.unstable))
     return f'<span class="computed" title="{title}">{shown}</span>'
 
 

@@ -116,7 +116,7 @@ def _draw(sheet: SvgDocument, name: str, placed: Placed, log_f: np.ndarray, last
     draw.curves(sheet, frame, log_f, [c.gain_db for c in panel.curves], clip, panel.solid)
     draw.x_axis(sheet, frame, last)
     texts = _number_labels(placed.y_ticks)
-    draw.y_axis(sheet, frame, placed.y_ticks, texts, max(map(_width, texts), default=0.0))
+    draw.y_axis(sheet, frame, placed.y_ticks, texts, max(map(label_width, texts), default=0.0))
     draw.labels(sheet, placed.title)
     draw.legend(sheet, frame, frame.right + LEGEND_SPACE_PT, placed.legend)
 
@@ -128,17 +128,17 @@ def layout(plot: ResponsePlot) -> tuple[float, float, tuple[Label, ...], list[Pl
                                                                            strict=True)]
     heights = [max(PANEL_HEIGHT_PT, draw.legend_height(entries)) for entries in legends]
     ticks = [_y_ticks(y_range, h) for (y_range, _), h in zip(scales, heights, strict=True)]
-    widest_tick = max((_width(t) for values in ticks for t in _number_labels(values)),
+    widest_tick = max((label_width(t) for values in ticks for t in _number_labels(values)),
                       default=0.0)
     left = max(LEFT_PT, MARGIN_PT + FONT_PT + LABEL_PAD_PT + widest_tick + PAD_PT + TICK_PT)
-    widest_legend = max((_width(text, LEGEND_PT) for entries in legends
+    widest_legend = max((label_width(text, LEGEND_PT) for entries in legends
                          for _, lines in entries for text in lines), default=0.0)
     width = max(WIDTH_PT, left + PANEL_WIDTH_PT + LEGEND_SPACE_PT + LEGEND_HANDLE_PT
                 + LEGEND_GAP_PT + widest_legend + MARGIN_PT)
-    title = _wrap(plot.title, TITLE_PT, width - 2 * MARGIN_PT, "bold")
-    panel_titles = [_wrap(p.title, FONT_PT, width - left - MARGIN_PT) for p in plot.panels]
-    width = max([width, *(2 * MARGIN_PT + _width(t, TITLE_PT, "bold") for t in title),
-                 *(left + MARGIN_PT + _width(t) for lines in panel_titles for t in lines)])
+    title = wrap_label(plot.title, TITLE_PT, width - 2 * MARGIN_PT, "bold")
+    panel_titles = [wrap_label(p.title, FONT_PT, width - left - MARGIN_PT) for p in plot.panels]
+    width = max([width, *(2 * MARGIN_PT + label_width(t, TITLE_PT, "bold") for t in title),
+                 *(left + MARGIN_PT + label_width(t) for lines in panel_titles for t in lines)])
     y = MARGIN_PT + len(title) * LINE_EM * TITLE_PT + TITLE_GAP_PT
     placed = []
     for k, panel in enumerate(plot.panels):
@@ -158,12 +158,12 @@ def _lines(x: float, top: float, lines: tuple[str, ...], size: float) -> tuple[L
     return tuple(Label(x, top + k * LINE_EM * size, text, size) for k, text in enumerate(lines))
 
 
-def _wrap(text: str, size: float, limit: float, weight: str = "normal") -> tuple[str, ...]:
+def wrap_label(text: str, size: float, limit: float, weight: str = "normal") -> tuple[str, ...]:
     """``text`` in lines no wider than ``limit`` points, broken between words (a single word
     wider than that keeps a line of its own, and the sheet widens for it)."""
     lines: list[str] = []
     for word in text.split():
-        if lines and _width(f"{lines[-1]} {word}", size, weight) <= limit:
+        if lines and label_width(f"{lines[-1]} {word}", size, weight) <= limit:
             lines[-1] += f" {word}"
         else:
             lines.append(word)
@@ -171,7 +171,7 @@ def _wrap(text: str, size: float, limit: float, weight: str = "normal") -> tuple
 
 
 @functools.lru_cache(maxsize=2048)
-def _width(text: str, size: float = FONT_PT, weight: str = "normal") -> float:
+def label_width(text: str, size: float = FONT_PT, weight: str = "normal") -> float:
     """A label's width in points, with the slack for a stand-in font (font metrics only, so
     the same in every figure)."""
     measured = text_to_path.get_text_width_height_descent(text, FONTS[weight], ismath=False)[0]
@@ -200,7 +200,7 @@ def _legend_entries(panel: Panel, floor: float) -> tuple:
         gains = _finite(curve.gain_db)
         below = " (below the plot)" if not gains.size or gains.max() < floor else ""
         entries.append((draw.style_of(i, len(panel.curves), panel.solid), curve.label + below))
-    return tuple((style, _wrap(text, LEGEND_PT, LEGEND_WRAP_PT) or ("",))
+    return tuple((style, wrap_label(text, LEGEND_PT, LEGEND_WRAP_PT) or ("",))
                  for style, text in entries)
 
 
@@ -212,7 +212,7 @@ def _corners(frame: Frame, corners) -> list[tuple[float, Label]]:
         at = float(np.log10(hz))
         if not frame.x_range[0] <= at <= frame.x_range[1]:
             continue
-        x, wide = float(frame.x(at)), _width(text, LEGEND_PT)
+        x, wide = float(frame.x(at)), label_width(text, LEGEND_PT)
         ha = "left" if x + 3 + wide <= frame.right - 2 else "right"
         left = x + 3 if ha == "left" else x - 3 - wide
         row = next(r for r in range(len(taken) + 1) if not any(

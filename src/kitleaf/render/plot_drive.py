@@ -3,9 +3,10 @@
 Two pictures per kit: the output over two cycles at each playing level beside the pickup's
 own sine (one panel per level), and the drive curve: THD and output peak against the pickup
 level, one line per position of each knob (others at half way), the part-tolerance band
-shaded behind the knobs-at-half line. The sheet is 262 pt (349 CSS px) wide with 9 pt text
-and more, so every label stays 9 px or larger on a 390 px phone, where the figure keeps its
-drawn size.
+shaded behind the knobs-at-half line. The sheet is 262 pt (349 CSS px) wide with 7.5 pt
+text and more, so every label stays 10 px or larger on a 390 px phone, where the figure
+keeps its drawn size. Each panel's legend sits under its axis labels, in as many columns as
+the sheet holds, so it never covers a line.
 """
 
 from __future__ import annotations
@@ -17,15 +18,19 @@ from dataclasses import dataclass
 import numpy as np
 
 from kitleaf.render import plot_draw as draw
+from kitleaf.render.plot import label_width, wrap_label
 from kitleaf.render.plot_draw import FONT_PT, LEGEND_PT, LINE_EM, Frame
 from kitleaf.render.plot_svg import SvgDocument, num, polyline
 from kitleaf.values import format_value
 
 WIDTH_PT = 262.0
-LEFT_PT, RIGHT_PT = 46.0, 16.0
+LEFT_PT, RIGHT_PT = 64.0, 16.0  # room for '−100 mV' and the axis's name beside it
 PANEL_HEIGHT_PT = 110.0
 TITLE_PT = 10.0
-GAP_PT = 10.0
+GAP_PT = 14.0
+EDGE_PT = 8.0  # the sheet's margin left and right of a legend
+HANDLE_PT, HANDLE_GAP_PT, COLUMN_GAP_PT = 16.0, 4.0, 8.0  # a legend entry's parts
+X_LABELS_PT = 3.5 + 3.5 + LINE_EM * FONT_PT  # ticks, their gap and the labels under a frame
 INPUT_STYLE = ("#7f8c8d", (0, (4, 2)), 1.1)
 OUTPUT_STYLE = ("#111111", "-", 1.8)
 
@@ -53,45 +58,52 @@ class CurvePanel:
 
 @dataclass(frozen=True)
 class DrivePicture:
-    """A picture's title and panels; ``levels`` are the curves' pickup levels (volts peak)."""
+    """A picture's title and panels; ``levels`` are the curves' pickup levels (volts peak),
+    of which the ``playing`` ones are labelled; ``freq`` is the pickup's tone (hertz)."""
 
     title: str
     panels: tuple
     levels: tuple[float, ...] = ()
+    playing: tuple[float, ...] = (0.1, 0.3, 1.0)
+    freq: float = 1000.0
 
 
 def render_drive_svg(picture: DrivePicture) -> str:
     """The picture as SVG text; the same picture always gives the same bytes."""
-    title_lines = _wrap(picture.title, 40)
+    title_lines = wrap_label(picture.title, TITLE_PT, WIDTH_PT - 2 * EDGE_PT, "bold")
     y = 8.0 + len(title_lines) * LINE_EM * TITLE_PT + 6.0
     frames = []
     for panel in picture.panels:
-        y += LINE_EM * FONT_PT * len(_wrap(panel.title, 48)) + 3.0
+        y += LINE_EM * FONT_PT * len(_panel_title(panel)) + 3.0
         frames.append(y)
-        y += PANEL_HEIGHT_PT + 3.5 + 3.5 + 2 * LINE_EM * FONT_PT + GAP_PT
+        y += PANEL_HEIGHT_PT + X_LABELS_PT + _legend_height(_entries(panel)) + GAP_PT
     sheet = SvgDocument(WIDTH_PT, y, title=picture.title)
     sheet.rect(0, 0, WIDTH_PT, y, "fill: #ffffff")
     for k, text in enumerate(title_lines):
         sheet.text(8.0, 8.0 + k * LINE_EM * TITLE_PT, text, TITLE_PT, extra="; font-weight: 700")
     prefix = "d" + hashlib.sha256(picture.title.encode()).hexdigest()[:8]
     for i, (panel, top) in enumerate(zip(picture.panels, frames, strict=True)):
-        lines = _wrap(panel.title, 48)
+        lines = _panel_title(panel)
         for k, text in enumerate(lines):
-            sheet.text(LEFT_PT, top - 3.0 - (len(lines) - k) * LINE_EM * FONT_PT, text, FONT_PT)
+            sheet.text(EDGE_PT, top - 3.0 - (len(lines) - k) * LINE_EM * FONT_PT, text, FONT_PT)
         name = f"{prefix}-{i + 1}"
         if isinstance(panel, WavePanel):
-            _waves(sheet, name, panel, top)
+            _waves(sheet, name, panel, top, picture.freq)
         else:
-            _curves(sheet, name, panel, picture.levels, top)
+            _curves(sheet, name, panel, picture, top)
     return sheet.svg()
+
+
+def _panel_title(panel) -> tuple[str, ...]:
+    return wrap_label(panel.title, FONT_PT, WIDTH_PT - 2 * EDGE_PT)
 
 
 def _frame(top: float, x_range, y_range) -> Frame:
     return Frame(LEFT_PT, top, WIDTH_PT - LEFT_PT - RIGHT_PT, PANEL_HEIGHT_PT, x_range, y_range)
 
 
-def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float) -> None:
-    """Two cycles of the pickup's sine and of the output, time in milliseconds at 1 kHz."""
+def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float, freq: float) -> None:
+    """Two cycles of the pickup's sine and of the output, time in milliseconds."""
     out = np.asarray(panel.output, float)
     points = out.size
     t = np.arange(2 * points + 1) / points  # periods
@@ -104,13 +116,17 @@ def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float) -> None:
     _grid(sheet, frame, [0.5, 1.0, 1.5], ticks, "", clip)
     sheet.path(polyline(frame.x(t), frame.y(source)), draw.line(*INPUT_STYLE), clip)
     sheet.path(polyline(frame.x(t), frame.y(output)), draw.line(*OUTPUT_STYLE), clip)
-    _x_labels(sheet, frame, [0.0, 0.5, 1.0, 1.5, 2.0], ["0", "0.5", "1", "1.5", "2 ms"])
+    ticks_x = [0.0, 0.5, 1.0, 1.5, 2.0]  # periods
+    texts = [f"{t * 1000 / freq:.3g}" if t else "0" for t in ticks_x]
+    _x_labels(sheet, frame, ticks_x, [*texts[:-1], f"{texts[-1]} ms"])
     _y_labels(sheet, frame, ticks, [_volts(v) for v in ticks], "Volts")
-    _legend(sheet, frame, [(INPUT_STYLE, "pickup"), (OUTPUT_STYLE, "output")])
+    _legend(sheet, frame, _entries(panel))
 
 
-def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, levels, top: float) -> None:
+def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, picture: DrivePicture,
+            top: float) -> None:
     """One line per knob position on log scales: THD in % or output peak in volts."""
+    levels = picture.levels
     x = np.log10(np.asarray(levels, float))
     values = [np.asarray(v, float) for _, v in panel.lines]
     shown = np.concatenate(values + [np.asarray(b, float) for b in panel.band])
@@ -128,13 +144,11 @@ def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, levels, top: float
     for i, v in enumerate(values):
         sheet.path(polyline(frame.x(x), frame.y(_log(v))),
                    draw.line(*draw.style_of(i, len(values))), clip)
-    _x_labels(sheet, frame, x.tolist(), [_volts(v) for v in levels], every=_every(levels))
+    _x_labels(sheet, frame, x.tolist(), [_volts(v) for v in levels],
+              every=_every(levels, picture.playing))
     text = [_percent(10 ** d) if panel.axis == "thd" else _volts(10 ** d) for d in decades]
     _y_labels(sheet, frame, decades, text, "THD" if panel.axis == "thd" else "Output peak")
-    entries = [(draw.style_of(i, len(values)), label) for i, (label, _) in enumerate(panel.lines)]
-    if panel.band:
-        entries.append((None, "part tolerances"))
-    _legend(sheet, frame, entries)
+    _legend(sheet, frame, _entries(panel))
 
 
 def _grid(sheet: SvgDocument, frame: Frame, x, y, band: str, clip: str) -> None:
@@ -153,10 +167,9 @@ def _log(values) -> np.ndarray:
         return np.where(v > 0, np.log10(np.where(v > 0, v, 1.0)), np.nan)
 
 
-def _every(levels) -> list[bool]:
+def _every(levels, playing) -> list[bool]:
     """Which level labels to print: the playing levels and the ends (the rest would crowd)."""
-    return [i in (0, len(levels) - 1) or round(v, 3) in (0.1, 0.3, 1.0)
-            for i, v in enumerate(levels)]
+    return [i in (0, len(levels) - 1) or v in playing for i, v in enumerate(levels)]
 
 
 def _x_labels(sheet: SvgDocument, frame: Frame, at, texts, every=None) -> None:
@@ -174,25 +187,44 @@ def _y_labels(sheet: SvgDocument, frame: Frame, at, texts, axis: str) -> None:
                "fill: none; stroke: #000000; stroke-width: 0.8")
     for y, text in zip(ys, texts, strict=True):
         sheet.text(frame.left - 6.0, y, text, FONT_PT, ha="right", va="center_baseline")
-    sheet.upright_text(9.0, frame.top + frame.height / 2, axis, FONT_PT)
+    sheet.upright_text(11.0, frame.top + frame.height / 2, axis, FONT_PT)
+
+
+def _entries(panel) -> list[tuple]:
+    """A panel's legend: (line style, or None for the band; label) per entry."""
+    if isinstance(panel, WavePanel):
+        return [(INPUT_STYLE, "pickup"), (OUTPUT_STYLE, "output")]
+    entries = [(draw.style_of(i, len(panel.lines)), label)
+               for i, (label, _) in enumerate(panel.lines)]
+    return entries + ([(None, "part tolerances")] if panel.band else [])
+
+
+def _columns(entries) -> tuple[int, float]:
+    """How many legend columns the sheet holds, and each column's width."""
+    widest = max(label_width(text, LEGEND_PT) for _, text in entries)
+    cell = HANDLE_PT + HANDLE_GAP_PT + widest + COLUMN_GAP_PT
+    return max(1, min(len(entries), int((WIDTH_PT - 2 * EDGE_PT + COLUMN_GAP_PT) // cell))), cell
+
+
+def _legend_height(entries) -> float:
+    columns, _ = _columns(entries)
+    return math.ceil(len(entries) / columns) * LINE_EM * LEGEND_PT + 2.0
 
 
 def _legend(sheet: SvgDocument, frame: Frame, entries) -> None:
-    """Handles and labels along the panel's top edge, inside it, on a white ground."""
-    x, y = frame.left + 4.0, frame.top + 4.0 + LEGEND_PT / 2
-    for style, text in entries:
-        width = 16.0 + 4.0 + len(text) * LEGEND_PT * 0.62
-        if x + width > frame.right - 4.0:
-            x, y = frame.left + 4.0, y + LINE_EM * LEGEND_PT
-        sheet.rect(x - 1.0, y - LEGEND_PT * 0.6, width + 2.0, LEGEND_PT * 1.2,
-                   "fill: #ffffff; fill-opacity: 0.85")
+    """Handles and labels under the panel's axis labels, row by row in columns, so that no
+    entry covers a line or another entry."""
+    columns, cell = _columns(entries)
+    row = LINE_EM * LEGEND_PT
+    for k, (style, text) in enumerate(entries):
+        x = EDGE_PT + (k % columns) * cell
+        y = frame.bottom + X_LABELS_PT + 2.0 + (k // columns + 0.5) * row
         if style is None:
-            sheet.rect(x, y - 0.35 * LEGEND_PT, 16.0, 0.7 * LEGEND_PT,
+            sheet.rect(x, y - 0.35 * LEGEND_PT, HANDLE_PT, 0.7 * LEGEND_PT,
                        f"fill: {draw.BAND_COLOUR}")
         else:
-            sheet.path(f"M{num(x)} {num(y)}H{num(x + 16.0)}", draw.line(*style))
-        sheet.text(x + 20.0, y, text, LEGEND_PT, va="center")
-        x += width + 6.0
+            sheet.path(f"M{num(x)} {num(y)}H{num(x + HANDLE_PT)}", draw.line(*style))
+        sheet.text(x + HANDLE_PT + HANDLE_GAP_PT, y, text, LEGEND_PT, va="center")
 
 
 def _volt_ticks(top: float) -> list[float]:
@@ -208,14 +240,3 @@ def _volts(v: float) -> str:
 
 def _percent(fraction: float) -> str:
     return f"{fraction * 100:g} %"
-
-
-def _wrap(text: str, chars: int) -> tuple[str, ...]:
-    """Lines of at most about ``chars`` characters, broken between words."""
-    lines: list[str] = []
-    for word in text.split():
-        if lines and len(lines[-1]) + 1 + len(word) <= chars:
-            lines[-1] += f" {word}"
-        else:
-            lines.append(word)
-    return tuple(lines)

@@ -14,7 +14,9 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
     stage = specs.stage(stage_id)
     if not stage.signal or not stage.curves:
         return None
-    if KINDS[stage.kind].shapes_response:  # its corners follow its knobs: mark the scoop
+    if stage.unstable is not None:  # no corner to mark where the circuit oscillates
+        corners = ()
+    elif KINDS[stage.kind].shapes_response:  # its corners follow its knobs: mark the scoop
         corners = _scoop(stage.scoop)
     else:
         corners = _corners(stage.low_corner_hz, stage.high_corner_hz)
@@ -23,7 +25,7 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
 
 
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
-    corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
+    corners = () if specs.unstable else _corners(specs.low_corner_hz, specs.high_corner_hz)
     return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
                         specs.freqs,
                         _panels(specs.curves, specs.band_low, specs.band_high, corners))
@@ -46,6 +48,12 @@ def _panels(curves: tuple[Curve, ...], low, high, corners
 
 
 def _label(curve: Curve) -> str:
+    """The legend's words; an unstable setting's curve says that it is no response."""
+    words = _setting_label(curve)
+    return words if curve.unstable is None else f"{words} (unstable: not a response)"
+
+
+def _setting_label(curve: Curve) -> str:
     if not curve.knob:
         return "nominal parts"
     if isinstance(curve.position, str):
@@ -96,32 +104,41 @@ def wave_picture(specs: KitSpecs) -> DrivePicture | None:
                                       f"THD {thd_text(p.thd)}, output "
                                       f"{format_value(p.peak, 'voltage')} peak", p.wave)
                    for p in drive.base.points)
-    return DrivePicture(f"{specs.title}: output beside the pickup, knobs at half way", panels)
+    return DrivePicture(f"{specs.title}: output beside the pickup, knobs at half way", panels,
+                        freq=drive.freq)
 
 
 def drive_picture(specs: KitSpecs) -> DrivePicture | None:
-    """THD and output peak against the pickup level, one line per position of each knob
-    (a panel pair per knob; one pair, knobs at half way, for a kit without knobs)."""
+    """THD and output peak against the pickup level, one line per position of each knob and
+    switch (a panel pair each; one pair, knobs at half way, for a kit with neither)."""
     drive = specs.drive
     if drive is None or drive.base.error:
         return None
+    rests = {name: rest for name, _, _, rest in specs.switches}
+    names = [name for name, _ in specs.knobs] + list(rests)
     panels = []
-    for knob in [name for name, _ in specs.knobs] or [""]:
-        settings = _knob_settings(drive, knob)
-        title = _title(knob, [name for name, _ in specs.knobs]) or "Knobs fixed"
-        band = drive.band if knob == (specs.knobs[0][0] if specs.knobs else "") else ()
+    for name in names or [""]:
+        settings = _control_settings(drive, name)
+        title = _title(name, names, rests) or "Knobs fixed"
+        band = drive.band  # around the line of the knobs at half way, in every panel
         panels.append(CurvePanel(f"THD, {title}", "thd",
-                                 tuple((lb, s.thd) for lb, s in settings), band))
+                                 tuple((lb, s.thd) for lb, s in settings),
+                                 (band.thd_low, band.thd_high) if band else ()))
         panels.append(CurvePanel(f"Output peak, {title}", "volts",
-                                 tuple((lb, s.peak) for lb, s in settings)))
+                                 tuple((lb, s.peak) for lb, s in settings),
+                                 (band.peak_low, band.peak_high) if band else ()))
     return DrivePicture(f"{specs.title}: distortion and output against the pickup level",
-                        tuple(panels), drive.levels)
+                        tuple(panels), drive.levels, tuple(p.level for p in drive.base.points),
+                        drive.freq)
 
 
-def _knob_settings(drive: Drive, knob: str) -> list:
-    """(label, setting) for each computed position of ``knob``, in order of position."""
-    if not knob:
+def _control_settings(drive: Drive, name: str) -> list:
+    """(label, setting) for each computed position of knob or switch ``name``: a knob's in
+    order of rotation, a switch's in the kit block's order."""
+    if not name:
         return [("nominal parts", drive.base)]
-    found = [(dict(s.positions)[knob], s) for s in drive.settings
-             if s.positions and s.positions[0][0] == knob and not s.error]
-    return [(f"{knob} {percent(pos)}", s) for pos, s in sorted(found, key=lambda f: f[0])]
+    found = [(dict(s.positions)[name], s) for s in drive.settings
+             if s.positions and s.positions[0][0] == name and not s.error]
+    if found and isinstance(found[0][0], str):
+        return [(f"{name}: {pos}", s) for pos, s in found]
+    return [(f"{name} {percent(pos)}", s) for pos, s in sorted(found, key=lambda f: f[0])]

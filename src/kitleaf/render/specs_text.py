@@ -8,9 +8,11 @@ from kitleaf.display import (
     range_text,
     settings,
     si,
+    small_signal_text,
     thd_text,
     trim_instruction,
     trim_travel,
+    unstable_text,
 )
 from kitleaf.specs.model import Drive, Headroom, KitSpecs, KnobPoint
 
@@ -18,32 +20,44 @@ from kitleaf.specs.model import Drive, Headroom, KitSpecs, KnobPoint
 def specs_to_text(specs: KitSpecs) -> str:
     """A short plain-text summary for the terminal."""
     width = max((len(_knobs(p)) + 1 for p in specs.knob_sweep), default=15)
+    unstable = specs.unstable
+
+    def small(value, quantity: str) -> str:
+        return small_signal_text(value, quantity, unstable)
+
     lines = [f"{specs.title} ({specs.code}, revision {specs.revision})",
-             f"  {_gain_words(specs.clips) + ' ':<19}{range_text(specs.gain_db, 'db')}",
-             *(f"    {_knobs(p):<{width}}{range_text(p.gain_db, 'db')}"
+             f"  {_gain_words(specs.clips) + ' ':<19}{small(specs.gain_db, 'db')}",
+             *(f"    {_knobs(p):<{width}}{small_signal_text(p.gain_db, 'db', p.unstable)}"
                for p in specs.knob_sweep),
-             f"  band gain          {range_text(specs.band_gain_db, 'db')}",
-             f"  low corner         {range_text(specs.low_corner_hz, 'frequency')}",
-             f"  high corner        {range_text(specs.high_corner_hz, 'frequency')}",
-             f"  input impedance    {range_text(specs.input_impedance, 'resistance')}",
-             f"  output impedance   {range_text(specs.output_impedance, 'resistance')}",
+             f"  band gain          {small(specs.band_gain_db, 'db')}",
+             f"  low corner         {small(specs.low_corner_hz, 'frequency')}",
+             f"  high corner        {small(specs.high_corner_hz, 'frequency')}",
+             f"  input impedance    {small(specs.input_impedance, 'resistance')}",
+             f"  output impedance   {small(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
              *(_drive_lines(specs.drive) if specs.drive else
                [f"  output headroom    {_swing(specs.headroom)}"])]
     if specs.hum is not None:
-        lines.append(f"  hum at the output  {hum_text(specs.hum)}")
-        lines.extend(f"    {_knobs(p):<{width}}{hum_text(p.hum)}" for p in specs.knob_sweep)
+        lines.append(f"  hum at the output  {_hum(specs.hum, unstable)}")
+        lines.extend(f"    {_knobs(p):<{width}}{_hum(p.hum, p.unstable)}"
+                     for p in specs.knob_sweep)
+    for r in specs.pump_ripples:
+        lines.append(f"  {r.pump} switching ripple {range_text(r.volts_pp, 'voltage')} p-p on "
+                     f"{r.rail.upper()} at {si(r.hz, 'frequency')}; at the output "
+                     f"{hum_text(r.output)}")
     for trim in specs.trims:
         lines += [f"  set-up: {trim_instruction(trim)}", f"    {trim_travel(trim)}"]
     for s in specs.stages:
         lines.append(f"  stage {s.id} ({s.kind})")
         if s.gain_db is not None:
-            lines += [f"    {_gain_words(s.clips) + ' ':<17}{range_text(s.gain_db, 'db')}",
-                      *(_corner_lines(s) if s.passband else
+            lines += [f"    {_gain_words(s.clips) + ' ':<17}{small(s.gain_db, 'db')}",
+                      *(_corner_lines(s, unstable) if s.passband else
                         ["    corners          none given (no flat band: see the mid scoop)"]),
-                      f"    input impedance  {range_text(s.input_impedance, 'resistance')}",
-                      f"    output impedance {range_text(s.output_impedance, 'resistance')}"]
-        if s.scoop is not None:
+                      f"    input impedance  {small(s.input_impedance, 'resistance')}",
+                      f"    output impedance {small(s.output_impedance, 'resistance')}"]
+        if s.scoop is not None and unstable is not None:
+            lines.append(f"    mid scoop        {unstable_text(unstable)}")
+        elif s.scoop is not None:
             lines.append(f"    mid scoop        {range_text(s.scoop.depth_db, 'db')} at "
                          f"{range_text(s.scoop.hz, 'frequency')}")
         for v in s.voltages:
@@ -53,14 +67,18 @@ def specs_to_text(specs: KitSpecs) -> str:
     return "\n".join(lines)
 
 
-def _corner_lines(s) -> list[str]:
-    return [f"    low corner       {range_text(s.low_corner_hz, 'frequency')}",
-            f"    high corner      {range_text(s.high_corner_hz, 'frequency')}"]
+def _corner_lines(s, unstable=None) -> list[str]:
+    return [f"    low corner       {small_signal_text(s.low_corner_hz, 'frequency', unstable)}",
+            f"    high corner      {small_signal_text(s.high_corner_hz, 'frequency', unstable)}"]
 
 
 def _gain_words(clips: bool) -> str:
     """A clipping stage's gain holds for small signals only, and says so."""
     return "small-signal gain" if clips else "gain at 1 kHz"
+
+
+def _hum(value, unstable) -> str:
+    return hum_text(value) if unstable is None else unstable_text(unstable)
 
 
 def _knobs(point: KnobPoint) -> str:
@@ -72,7 +90,7 @@ def _swing(h: Headroom | None) -> str:
 
 
 def _drive_lines(drive: Drive | None) -> list[str]:
-    """The large-signal figures with every knob at half (a 1 kHz sine from the pickup)."""
+    """The large-signal figures with every knob at half (a sine from the pickup)."""
     if drive is None:
         return []
     d = drive.base

@@ -2,16 +2,18 @@
 
 from __future__ import annotations
 
-from kitleaf.display import range_text
+from kitleaf.display import small_signal_text
 from kitleaf.specs.model import KitSpecs, StageSpecs
 from kitleaf.values import format_db, format_value
 
 
 def headline(specs: KitSpecs) -> tuple[tuple[str, str], ...]:
     """Name-value pairs for the index card."""
-    rows = [("Gain at 1 kHz", range_text(specs.gain_db, "db"))]
-    # each knob alone at every step, and the knobs together at the ends of their travel
-    gains = [p.gain_db.nominal for p in specs.knob_sweep + specs.knob_ends]
+    rows = [("Gain at 1 kHz", small_signal_text(specs.gain_db, "db", specs.unstable))]
+    # each knob alone at every step, and the knobs together at the ends of their travel; an
+    # unstable setting's gain means nothing
+    gains = [p.gain_db.nominal for p in specs.knob_sweep + specs.knob_ends
+             if p.unstable is None]
     if gains:
         rows[0] = ("Gain range", f"{format_db(min(gains))} to {format_db(max(gains))}")
     rows.append(("Input impedance", format_value(specs.input_impedance.nominal, "resistance")))

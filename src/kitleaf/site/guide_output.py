@@ -21,9 +21,8 @@ from kitleaf.faults.solve import solve_faults
 from kitleaf.faults.symptoms import page_data, symptom_rows
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
-from kitleaf.render.inline import prose_env
 from kitleaf.render.pages import Card, render_page
-from kitleaf.render.placement import ABSENT_KEY, SECTIONS, arrange
+from kitleaf.render.placement import SECTIONS, arrange, page_env
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_drive import render_drive_svg
 from kitleaf.render.plot_specs import drive_picture, kit_plot, stage_plot, wave_picture
@@ -65,7 +64,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "drive_pictures": drive_files,
-        "pieces": arrange(render_prose(guide.text, page_env(guide.path, checks, harness))),
+        "pieces": arrange(render_prose(guide.text, page_env(guide.path, checks.values, harness))),
         "sections": SECTIONS,
         "checks": checks,
         "bom": fitting_notes(rating_warnings(bom_lines(kit.parts()), checks.stresses),
@@ -82,15 +81,6 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     record = guide_record(Path(path).name, kit.parts(), specs)
     return GuideOutput(card, tuple(sorted(files.items())), record, specs.notes, checks.warnings,
                        guide.kit.code_span or guide.kit.span)
-
-
-def page_env(path: str, checks, harness) -> dict:
-    """The prose env of the guide page: its computed values, and the sections it cannot show."""
-    env = prose_env(path, checks.values)
-    if harness is None:
-        env[ABSENT_KEY] = {"wiring": "add 'bypass: true' (or buffered, none) to the kit block "
-                                     "to draw the off-board wiring"}
-    return env
 
 
 def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,

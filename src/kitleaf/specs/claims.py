@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
-from kitleaf.display import figure
+from kitleaf.display import figure, unstable_text
 from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
 from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
@@ -142,6 +142,13 @@ def broken(claim: Claim, computed: Computed) -> SpecError:
                      f"{nominal} ({spread}); correct the parts or the claim", claim.entry.span)
 
 
+def meaningless(claim: Claim, computed: Computed) -> SpecError:
+    """A claim on a small-signal figure of an unstable setting: no figure to hold there."""
+    return SpecError(f"claim '{claim.entry.value}' ({computed.label}) cannot hold: the figure "
+                     f"is {unstable_text(computed.unstable)}; correct the parts or drop the "
+                     "claim", claim.entry.span)
+
+
 def check_claims(guide: Guide, kit: KitCircuit,
                  values: Mapping[str, Computed]) -> tuple[Verified, ...]:
     """Every claim of ``guide`` verified; raises every one that does not hold, in one error."""
@@ -153,7 +160,9 @@ def check_claims(guide: Guide, kit: KitCircuit,
             failures.append(exc)
             continue
         computed = values[claim.name]
-        if holds(claim, computed):
+        if computed.unstable is not None:
+            failures.append(meaningless(claim, computed))
+        elif holds(claim, computed):
             verified.append(Verified(claim, computed))
         else:
             failures.append(broken(claim, computed))

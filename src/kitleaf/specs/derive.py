@@ -20,7 +20,17 @@ from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
-from kitleaf.specs.drive import LIMITS, drive_sweep, kit_nodes, rail_touches, stage_drive
+from kitleaf.specs.drive import (
+    LIMITS,
+    DrivePlan,
+    drive_limits,
+    drive_plan,
+    drive_sweep,
+    kit_nodes,
+    rail_touches,
+    stage_drive,
+)
+from kitleaf.specs.drive_band import drive_bands
 from kitleaf.specs.headroom import MARGINS, margins
 from kitleaf.specs.knob_ends import knob_ends
 from kitleaf.specs.loading import source_loading, stage_loading
@@ -36,10 +46,13 @@ from kitleaf.specs.model import (
     Voltage,
 )
 from kitleaf.specs.plotdata import band, curves
+from kitleaf.specs.pump_ripple import pump_ripples
 from kitleaf.specs.response import FREQS
 from kitleaf.specs.scoop import scoop
 from kitleaf.specs.shorts import check_supply
+from kitleaf.specs.signal_path import check_signal_path
 from kitleaf.specs.solve import KitState, nominal_positions
+from kitleaf.specs.stability import unstable_at
 from kitleaf.specs.trim import trims
 
 # A fresh alkaline 9 V battery reads up to about 9.6 V (common practice, no source).
@@ -55,6 +68,7 @@ class SolvedKit:
         self.nominal = nominal_positions(kit)
         self.base = KitState(kit, self.nominal)
         check_supply(kit, self.base.nominal.batch.system)  # before any figure is derived
+        check_signal_path(kit, self.base.nominal)
         self.sweeps = {c.designator: tuple(self._state(c.designator, p) for p, _ in c.steps)
                        for c in kit.controls}
         self._check_sweeps()
@@ -118,7 +132,7 @@ def _located(guide: Guide, kit: KitCircuit):
 def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
     # the large-signal sweep costs seconds: only for a kit that asks for it
-    driven = Driven(solved) if wants_large_signal(guide.kit) else None
+    driven = Driven(solved, drive_plan(guide.kit)) if wants_large_signal(guide.kit) else None
     stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
                    if driven and kit.kind(s).signal else stage_specs(solved, s)
                    for s in kit.stages)
@@ -154,27 +168,48 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         drive=driven.kit() if driven else None,
         trims=trims(kit),
         ripple=ripple, hum=None if hum is None else base.range(hum),
+        pump_ripples=pump_ripples(solved),
         clips=any(s.clips for s in stages),
+        unstable=unstable_at(base),
     )
 
 
 class Driven:
-    """The kit's large-signal sweep: every knob setting the specs show, solved at once."""
+    """The kit's large-signal sweep: every knob and switch setting the specs show, solved at
+    once."""
 
-    def __init__(self, solved: SolvedKit) -> None:
-        self.solved = solved
+    def __init__(self, solved: SolvedKit, plan: DrivePlan) -> None:
+        self.solved, self.plan = solved, plan
         self.states = [solved.base]
-        for knob in solved.kit.knobs:
-            sweep = solved.sweeps[knob.designator]
+        for control in solved.kit.controls:
+            sweep = solved.sweeps[control.designator]
             self.states += [s for s in sweep if all(s is not t for t in self.states)]
-        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit))
+        self.result, self.why = drive_sweep(self.states, kit_nodes(solved.kit), plan)
+        wanted = self._wanted()
+        self.found = {} if self.result is None else drive_limits(
+            self.states, self.result, wanted, plan)
+        self.bands = {} if self.result is None else drive_bands(
+            solved.base, sorted({node for _, node in wanted}), plan)
 
-    def _settings(self, knobs) -> list[tuple[int, tuple]]:
+    def _wanted(self) -> set[tuple[int, str]]:
+        """(state index, node) of every setting the stages and the kit show."""
+        kit = self.solved.kit
+        wanted = {(i, OUTPUT) for i, _ in self._settings(kit.controls)}
+        for stage in kit.signal_stages:
+            controls = [c for c in kit.controls if c.stage_id == stage.id]
+            node = kit.stage_nodes(stage.id)[1]
+            wanted |= {(i, node) for i, _ in self._settings(controls)}
+        return wanted
+
+    def _settings(self, controls) -> list[tuple[int, tuple]]:
+        """(state index, positions) of the knobs and switches at rest, then of each of
+        ``controls`` at each of its steps (a switch's position by its name)."""
         found = [(0, ())]
-        for k in knobs:
-            for (_, pos), state in zip(k.steps, self.solved.sweeps[k.designator], strict=True):
+        for c in controls:
+            for (_, shown), state in zip(c.steps, self.solved.sweeps[c.designator],
+                                         strict=True):
                 index = next(i for i, s in enumerate(self.states) if s is state)
-                found.append((index, ((k.name, pos),)))
+                found.append((index, ((c.name, shown),)))
         return found
 
     def _devices(self, stages) -> tuple:
@@ -184,19 +219,22 @@ class Driven:
 
     def stage(self, stage: Stage) -> Drive:
         kit = self.solved.kit
-        knobs = [k for k in kit.knobs if k.stage_id == stage.id]
-        return stage_drive(self.result, self.why, self._settings(knobs),
-                           kit.stage_nodes(stage.id)[1], self._devices([stage]),
-                           self.solved.base.circuit)
+        controls = [c for c in kit.controls if c.stage_id == stage.id]
+        node = kit.stage_nodes(stage.id)[1]
+        drive = stage_drive(self.result, self.why, self._settings(controls), node,
+                            self._devices([stage]), self.solved.base.circuit, self.found,
+                            self.plan)
+        return replace(drive, band=self.bands.get(node))
 
     def kit(self) -> Drive:
         kit = self.solved.kit
-        settings = self._settings(kit.knobs)
+        settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
-                            self.solved.base.circuit)
+                            self.solved.base.circuit, self.found, self.plan)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
-        return replace(drive, rails=rail_touches(self.result, settings, opamps))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps),
+                       band=self.bands.get(OUTPUT))
 
 
 def stated_ripple(guide: Guide) -> tuple[float, float] | None:
@@ -238,6 +276,7 @@ def stage_specs(solved: SolvedKit, stage: Stage) -> StageSpecs:
         loading=stage_loading(kit, stage, base),
         scoop=scoop(base, node_in, node_out, spread=True) if scoops else None,
         clips=kit.kind(stage).clips, passband=kit.kind(stage).passband,
+        unstable=unstable_at(base),
     )
 
 
@@ -267,7 +306,8 @@ def knob_sweep(solved: SolvedKit, node_in: str, node_out: str, controls,
                            state.range(z[0]), state.range(z[1]),
                            scoop=scoop(state, node_in, node_out, spread=False) if scoops
                            else None,
-                           hum=None if hum is None else state.range(hum))
+                           hum=None if hum is None else state.range(hum),
+                           unstable=unstable_at(state))
                  for c in controls
                  for (_, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                               strict=True))

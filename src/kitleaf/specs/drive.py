@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from collections import OrderedDict
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -18,12 +19,17 @@ from kitleaf.engine import elements as el
 from kitleaf.engine.devices.base import VT
 from kitleaf.engine.periodic import PeriodicResult, periodic_steady_state
 from kitleaf.errors import KitleafError
+from kitleaf.guide.kit_lines import playing_levels, test_tone
+from kitleaf.guide.model import KitBlock
+from kitleaf.specs.drive_limits import first_bracket, refine
 from kitleaf.specs.model import Drive, DrivePoint, DriveSetting
 
-# Pickup peak levels of the sweep (volts); the three playing levels are among them: 100 mV,
+# Pickup peak levels of the sweep (volts), whatever the playing levels: 300 mV and 1 V are
+# the design rules' own (clips-when-clean, opamp-rail). The playing levels by default: 100 mV,
 # 300 mV and 1 V peak span a single-coil's soft picking to a hot humbucker's hard strum
-# (common practice, no source).
-LEVELS = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
+# (common practice, no source); a kit block's ``playing-levels:`` and ``test-tone:`` lines
+# set its own.
+GRID = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
 PLAYING = (0.1, 0.3, 1.0)
 DRIVE_HZ = 1000.0
 POINTS = 96  # per period: harmonics up to the 47th, the first five shown
@@ -32,49 +38,104 @@ DRIVEN_THD = 0.10  # 10 %: where a stage is driven
 CLIPPED_THD = 0.01  # below this at the top level a stage has not met its swing limits
 
 
-# The last few sweeps by their circuits' text: a kit solved again in one process (a rebuild,
-# the checks after the specs) reuses its sweep, which costs seconds.
-_SWEEPS: OrderedDict[str, tuple[PeriodicResult | None, str]] = OrderedDict()
-SWEEPS_KEPT = 8
+@dataclass(frozen=True)
+class DrivePlan:
+    """What the kit is driven with: the playing levels (pickup peak volts) whose figures are
+    shown and named, and the test tone's frequency."""
+
+    playing: tuple[float, ...] = PLAYING
+    freq: float = DRIVE_HZ
+
+    @property
+    def levels(self) -> tuple[float, ...]:
+        """The sweep: the grid and the playing levels, lowest first."""
+        return tuple(sorted(set(GRID) | set(self.playing)))
 
 
-def drive_sweep(states, nodes: list[str]) -> tuple[PeriodicResult | None, str]:
-    """One periodic solve of every state (knob setting) at every level, keeping the kit's
-    nodes; (None, the reason) when the engine cannot run it at all."""
-    key = repr([s.circuit.elements for s in states]) + repr(nodes)
+def drive_plan(kit: KitBlock) -> DrivePlan:
+    """The kit block's playing levels and test tone, each where it states them."""
+    lines = {e.key: e for e in kit.extra}
+    levels, tone = lines.get("playing-levels"), lines.get("test-tone")
+    return DrivePlan(PLAYING if levels is None else playing_levels(levels),
+                     DRIVE_HZ if tone is None else test_tone(tone))
+
+
+# The last few sweeps and their limits by their circuits' text: a kit solved again in one
+# process (a rebuild, the checks after the specs) reuses them, which saves seconds.
+_SWEEPS: OrderedDict[str, object] = OrderedDict()
+SWEEPS_KEPT = 16
+
+
+def kept(key: str, compute):
+    """``compute()``, kept under ``key`` among the last SWEEPS_KEPT."""
     if key not in _SWEEPS:
-        _SWEEPS[key] = _sweep(states, nodes)
+        _SWEEPS[key] = compute()
         while len(_SWEEPS) > SWEEPS_KEPT:
             _SWEEPS.popitem(last=False)
     return _SWEEPS[key]
 
 
-def _sweep(states, nodes: list[str]) -> tuple[PeriodicResult | None, str]:
+def drive_sweep(states, nodes: list[str],
+                plan: DrivePlan) -> tuple[PeriodicResult | None, str]:
+    """One periodic solve of every state (knob setting) at every level, keeping the kit's
+    nodes; (None, the reason) when the engine cannot run it at all."""
+    key = repr([s.circuit.elements for s in states]) + repr(nodes) + repr(plan)
+    return kept(key, lambda: _sweep(states, nodes, plan))
+
+
+def drive_limits(states, result: PeriodicResult, wanted,
+                 plan: DrivePlan) -> dict[tuple, float | None]:
+    """:func:`limits`, kept as the sweep is."""
+    key = repr([s.circuit.elements for s in states]) + repr(sorted(wanted)) + repr(plan)
+    return kept(key + "limits", lambda: limits(states, result, wanted, plan.freq))
+
+
+def _sweep(states, nodes: list[str], plan: DrivePlan) -> tuple[PeriodicResult | None, str]:
     batches = [s.nominal.batch.system for s in states]
     try:
-        return periodic_steady_state(batches, SOURCE, LEVELS, DRIVE_HZ, nodes=nodes,
+        return periodic_steady_state(batches, SOURCE, plan.levels, plan.freq, nodes=nodes,
                                      points=POINTS), ""
     except KitleafError as exc:
         return None, exc.message
 
 
-def crossing(levels: np.ndarray, thd: np.ndarray, threshold: float) -> float | None:
-    """The first level going up where THD reaches ``threshold``, interpolated on log scales
-    between the grid's levels; the lowest level when it is already there, None when never."""
-    above = np.flatnonzero(thd >= threshold)
-    if above.size == 0:
-        return None
-    i = int(above[0])
-    if i == 0:
-        return float(levels[0])
-    lo, hi = math.log(thd[i - 1]) if thd[i - 1] > 0 else -50.0, math.log(thd[i])
-    share = (math.log(threshold) - lo) / (hi - lo) if hi > lo else 1.0
-    return float(math.exp(math.log(levels[i - 1]) + share * math.log(levels[i] / levels[i - 1])))
+def limits(states, result: PeriodicResult, wanted, freq: float) -> dict[tuple, float | None]:
+    """The 1 % and 10 % levels of each (state index, node) of ``wanted``, keyed
+    (index, node, threshold): each bracketed on the sweep's grid and solved for
+    (specs/drive_limits.py); pairs whose sweep did not settle are left out."""
+    found, brackets = {}, {}
+    thd_at = {}
+    for index, node in wanted:
+        if not result.converged[index, :, 0].all():
+            continue
+        if node not in thd_at:
+            thd_at[node] = result.distortion(node).thd[:, :, 0]
+        for threshold in (CLEAN_THD, DRIVEN_THD):
+            first = first_bracket(result.levels, thd_at[node][index], threshold)
+            target = brackets if isinstance(first, tuple) else found
+            target[(index, node, threshold)] = first
+    return {**found, **refine(brackets, lambda requests: _thd_at(states, requests, freq))}
+
+
+def _thd_at(states, requests: list[tuple[tuple, float]], freq: float) -> list[float]:
+    """THD at each request's (state index, node) and level, solved in one batch; NaN where
+    the periodic solve did not settle."""
+    nodes = sorted({node for (_, node, _), _ in requests})
+    try:
+        result = periodic_steady_state(
+            [states[index].nominal.batch.system for (index, _, _), _ in requests], SOURCE,
+            [[level] for _, level in requests], freq, nodes=nodes, points=POINTS)
+    except KitleafError:
+        return [math.nan] * len(requests)
+    thd = {node: result.distortion(node).thd[:, 0, 0] for node in nodes}
+    return [float(thd[node][i]) if result.converged[i, 0, 0] else math.nan
+            for i, ((_, node, _), _) in enumerate(requests)]
 
 
 def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
-            devices: tuple, circuit) -> DriveSetting:
-    """The figures at ``node`` of knob setting ``index`` of ``result``."""
+            devices: tuple, circuit, found: dict, playing: tuple[float, ...]) -> DriveSetting:
+    """The figures at ``node`` of knob setting ``index`` of ``result``; ``found`` holds the
+    1 % and 10 % levels (see :func:`limits`), ``playing`` the levels of its points."""
     ok = result.converged[index, :, 0]
     if not ok.all():
         level = float(result.levels[int(np.flatnonzero(~ok)[0])])
@@ -85,10 +146,10 @@ def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
     levels = result.levels
     wave = result.wave(node)
     points = tuple(_point(d, wave, index, int(np.flatnonzero(levels == lv)[0]), lv)
-                   for lv in PLAYING)
+                   for lv in playing)
     up, down = _swing(result, d, index, node, devices, circuit)
-    return DriveSetting(positions, crossing(levels, thd, CLEAN_THD),
-                        crossing(levels, thd, DRIVEN_THD), points,
+    return DriveSetting(positions, found[(index, node, CLEAN_THD)],
+                        found[(index, node, DRIVEN_THD)], points,
                         tuple(float(x) for x in thd), tuple(float(x) for x in peak), up, down)
 
 
@@ -161,12 +222,15 @@ LIMITS = {el.Bjt: _bjt, el.Jfet: _jfet, el.OpAmp: _opamp, el.Diode: _diode}
 
 
 def stage_drive(result: PeriodicResult | None, why: str, indices: list[tuple[int, tuple]],
-                node: str, devices: tuple, circuit) -> Drive:
-    """A stage's (or the kit's, at OUTPUT) figures at each of its knob settings."""
+                node: str, devices: tuple, circuit, found: dict, plan: DrivePlan) -> Drive:
+    """A stage's (or the kit's, at OUTPUT) figures at each of its knob settings; ``found``
+    holds their 1 % and 10 % levels (see :func:`limits`)."""
     if result is None:
-        return Drive(LEVELS, tuple(DriveSetting(p, error=why) for _, p in indices), DRIVE_HZ)
-    return Drive(LEVELS, tuple(setting(result, i, p, node, devices, circuit)
-                               for i, p in indices), DRIVE_HZ)
+        settings = tuple(DriveSetting(p, error=why) for _, p in indices)
+    else:
+        settings = tuple(setting(result, i, p, node, devices, circuit, found, plan.playing)
+                         for i, p in indices)
+    return Drive(plan.levels, settings, plan.freq)
 
 
 RAIL_MARGIN_V = 0.1  # an output this close to its swing limit has reached it

@@ -14,6 +14,7 @@ from kitleaf.circuit.chain import INPUT, OUTPUT
 from kitleaf.specs import measures as m
 from kitleaf.specs.model import KnobPoint, Range
 from kitleaf.specs.solve import KitState
+from kitleaf.specs.stability import unstable_at
 
 # Up to this many knobs every combination of their ends is solved (2**4 = 16 settings);
 # with more, all at 0 % and all at 100 % only.
@@ -44,7 +45,8 @@ def knob_ends(kit, base: KitState) -> tuple[KnobPoint, ...]:
             state = KitState(kit, {**base.positions, **{c.designator: p for c, p, _ in setting}},
                              near=base)
             found.append(KnobPoint(tuple((c.name, shown) for c, _, shown in setting),
-                                   Range(float(gain(state.nominal)[0]))))
+                                   Range(float(gain(state.nominal)[0])),
+                                   unstable=unstable_at(state)))
     return tuple(found)
 
 

@@ -9,6 +9,7 @@ switch set to its position "LEDs"), ``boost.q1.collector`` (a test point),
 from __future__ import annotations
 
 import difflib
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
@@ -17,8 +18,18 @@ from kitleaf.circuit.kind import point_name
 from kitleaf.circuit.parts import PART_QUANTITY
 from kitleaf.display import settings
 from kitleaf.errors import SourceSpan, SpecError
+from kitleaf.guide.kit_lines import PLAYING_VOLTS, level_word
 from kitleaf.guide.slug import slug_for as slug
-from kitleaf.specs.model import DriveSetting, KitSpecs, KnobPoint, Range, Scoop, StageSpecs
+from kitleaf.specs.model import (
+    DriveSetting,
+    KitSpecs,
+    KnobPoint,
+    PumpRipple,
+    Range,
+    Scoop,
+    StageSpecs,
+    Unstable,
+)
 from kitleaf.values import format_value
 
 KIT = "kit"
@@ -33,6 +44,8 @@ FIELDS = (
     ("hum", "hum", "voltage", "hum at the output from the adapter's ripple (RMS)"),
 )
 
+# The fields read at DC, which an unstable small-signal circuit leaves as they are.
+DC_FIELDS = ("supply_current",)
 # KnobPoint field -> the same, for the figures given at every knob position.
 KNOB_FIELDS = tuple(f for f in FIELDS if f[0] in ("gain_db", "input_impedance",
                                                     "output_impedance", "hum"))
@@ -49,6 +62,8 @@ class Computed:
     # Another way a maker may spell it, offered by the did-you-mean only: a custom test
     # point labelled "Q2 source" is ``buffer.s``, but a maker may try ``buffer.q2.source``.
     spelling: str = ""
+    # A small-signal figure of an unstable setting: it means nothing (specs/stability.py).
+    unstable: Unstable | None = None
 
 
 def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
@@ -61,6 +76,8 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
             "gain at 1 kHz from the source's own voltage, the kit")
     found[f"{KIT}.supply"] = Computed(f"{KIT}.supply", Range(specs.supply_v), "voltage",
                                       "supply voltage")
+    for ripple in specs.pump_ripples:
+        _add_pump_ripple(found, ripple)
     local = {s.id: [tp.node for tp in kit.kind(s).test_points(s)] for s in kit.stages}
     for stage in specs.stages:
         _add_specs(found, stage.id, stage, stage.title)
@@ -77,22 +94,34 @@ def computed_values(specs: KitSpecs, kit: KitCircuit) -> dict[str, Computed]:
     return found
 
 
+def _add_pump_ripple(found: dict, ripple: PumpRipple) -> None:
+    """A charge pump's ripple on its rail (peak to peak) and at the output (RMS)."""
+    name = f"{KIT}.pump-ripple.{ripple.pump.lower()}"
+    found[name] = Computed(name, ripple.volts_pp, "voltage",
+                           f"{ripple.pump}'s switching ripple on its rail (peak to peak)")
+    found[f"{name}.output"] = Computed(
+        f"{name}.output", ripple.output, "voltage",
+        f"{ripple.pump}'s switching ripple at the output (RMS), knobs at half way")
+
+
 def _add_specs(found: dict, prefix: str, specs: KitSpecs | StageSpecs, title: str) -> None:
     for field, name, quantity, label in FIELDS:
         value = getattr(specs, field)
         if value is not None:
             full = f"{prefix}.{name}"
-            found[full] = Computed(full, value, quantity, f"{label}, {title}")
-    _add_scoop(found, prefix, "", getattr(specs, "scoop", None), title)
+            found[full] = Computed(full, value, quantity, f"{label}, {title}",
+                                   unstable=None if field in DC_FIELDS else specs.unstable)
+    _add_scoop(found, prefix, "", getattr(specs, "scoop", None), title, specs.unstable)
     for point in specs.knob_sweep:
         for field, name, quantity, label in KNOB_FIELDS:
             value = getattr(point, field)
             if value is not None:
                 full = f"{prefix}.{name}.{_knob_suffix(point)}"
                 found[full] = Computed(full, value, quantity,
-                                       f"{label}, {title}, {_knob_words(point)}")
+                                       f"{label}, {title}, {_knob_words(point)}",
+                                       unstable=point.unstable)
         _add_scoop(found, prefix, f".{_knob_suffix(point)}", point.scoop,
-                   f"{title}, {_knob_words(point)}")
+                   f"{title}, {_knob_words(point)}", point.unstable)
     if specs.drive is not None:
         for setting in specs.drive.settings:
             _add_drive(found, prefix, setting, title)
@@ -104,11 +133,6 @@ DRIVE_FIELDS = (
     ("clean_limit", "clean-limit", "voltage", "pickup peak where THD reaches 1 %"),
     ("driven_limit", "drive-limit", "voltage", "pickup peak where THD reaches 10 %"),
 )
-
-
-def level_name(level: float) -> str:
-    """A playing level in a name: 0.3 -> "300mv", 1.0 -> "1v"."""
-    return f"{level:g}v" if level >= 1.0 else f"{round(level * 1000)}mv"
 
 
 def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> None:
@@ -125,7 +149,7 @@ def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> N
     for field, name, quantity, label in DRIVE_FIELDS:
         add(name, getattr(setting, field), quantity, label)
     for p in setting.points:
-        level, words = level_name(p.level), format_value(p.level, "voltage")
+        level, words = level_word(p.level), format_value(p.level, "voltage")
         add(f"thd.{level}", p.thd, "thd", f"THD at {words} pickup peak")
         add(f"peak.{level}", p.peak, "voltage", f"output peak at {words} pickup peak")
     for name, swing, side in (("swing-up", setting.swing_up, "above"),
@@ -134,7 +158,8 @@ def _add_drive(found: dict, prefix: str, setting: DriveSetting, title: str) -> N
             f"output swing limit {side} its mean")
 
 
-def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title: str) -> None:
+def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title: str,
+               unstable: Unstable | None) -> None:
     """A passive tone control's mid scoop: its depth and where it lies (see specs/scoop.py)."""
     if scoop is None:
         return
@@ -142,7 +167,7 @@ def _add_scoop(found: dict, prefix: str, suffix: str, scoop: Scoop | None, title
                                          ("scoop-frequency", scoop.hz, "frequency",
                                           "mid scoop frequency")):
         full = f"{prefix}.{name}{suffix}"
-        found[full] = Computed(full, value, quantity, f"{label}, {title}")
+        found[full] = Computed(full, value, quantity, f"{label}, {title}", unstable=unstable)
 
 
 def _knob_suffix(point: KnobPoint) -> str:
@@ -168,8 +193,32 @@ def lookup(values: Mapping[str, Computed], name: str, span: SourceSpan | None,
     for candidate in candidates(name, scope):
         if candidate in values:
             return values[candidate]
-    raise SpecError(f"there is no computed value '{name}'{_nearest(values, name, scope)}; "
+    why = _level_problem(values, name) or _nearest(values, name, scope)
+    raise SpecError(f"there is no computed value '{name}'{why}; "
                     "docs/claims-and-rules.md lists the names", span)
+
+
+_LEVEL_NAME = re.compile(r"(?:^|\.)(?:thd|peak)\.([^.]*)")
+_LEVEL_WORD = re.compile(r"^([-+]?\d+(?:\.\d*)?(?:e[-+]?\d+)?)(mv|v)$")
+
+
+def _level_problem(values: Mapping[str, Computed], name: str) -> str:
+    """Why a THD or peak name at a pickup level has no value: the level cannot be
+    simulated, the kit does not play it, or it has no large-signal figures."""
+    found = _LEVEL_NAME.search(name.strip().lower())
+    word = _LEVEL_WORD.match(found[1]) if found else None
+    if word is None:
+        return ""
+    volts = float(word[1]) * (1e-3 if word[2] == "mv" else 1.0)
+    low, high = PLAYING_VOLTS
+    if not low <= volts <= high:
+        return (f": {found[1]} is no pickup level that can be simulated (levels run from "
+                f"{format_value(low, 'voltage')} to {format_value(high, 'voltage')} peak)")
+    if not any(".thd." in n for n in values):
+        return (": large-signal figures are computed only for a kit whose kit block says "
+                "'large-signal: yes'")
+    return (f": {found[1]} is not one of the kit's playing levels; list it in the kit "
+            "block's 'playing-levels:' line")
 
 
 def _nearest(values: Mapping[str, Computed], name: str, scope: str | None) -> str:

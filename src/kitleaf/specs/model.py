@@ -30,12 +30,43 @@ class Range:
 
 
 @dataclass(frozen=True)
+class Unstable:
+    """A setting whose small-signal circuit has a pole in the right half plane, nominal parts
+    (specs/stability.py): the circuit oscillates there (a pole pair) or runs to a rail (a
+    real pole) instead of amplifying, so its gain, corners and impedances mean nothing.
+
+    ``hz`` is the fastest-growing pole's frequency |s| / 2 pi, ``growth`` its real part (1/s:
+    the growth rate of the mode), ``stage`` the stage whose nodes swing most in that mode
+    ("" when no stage's do)."""
+
+    hz: float
+    growth: float
+    oscillates: bool
+    stage: str = ""
+
+
+@dataclass(frozen=True)
 class Scoop:
     """The deepest dip of a tone stage's response, 10 Hz to 40 kHz: how far it falls below the
     lower of the highest gains on either side of it, and where."""
 
     depth_db: Range
     hz: Range
+
+
+@dataclass(frozen=True)
+class PumpRipple:
+    """A charge pump's switching ripple (specs/pump_ripple.py): peak-to-peak volts on the rail
+    it makes, at ``hz``, and the RMS volts of it at the kit's output, knobs at half way; and
+    the loudest at the output over the knob and switch settings (nominal parts), where."""
+
+    pump: str  # the chip's designator
+    rail: str  # the rail's node: v2 (doubled) or vee (negative)
+    hz: float
+    volts_pp: Range
+    output: Range
+    loudest_at: tuple[tuple[str, float | str], ...]  # () with the knobs at half way
+    loudest: float
 
 
 @dataclass(frozen=True)
@@ -50,6 +81,7 @@ class KnobPoint:
     output_impedance: Range | None = None
     scoop: Scoop | None = None  # nominal parts; for passive tone controls only
     hum: Range | None = None  # RMS volts at the kit output from the adapter's ripple
+    unstable: Unstable | None = None  # the figures above mean nothing at this setting
 
 
 @dataclass(frozen=True)
@@ -86,6 +118,7 @@ class Curve:
     position: float | str | None
     gain_db: tuple[float, ...]
     at_rest: bool = False  # the position the control rests at (a knob's half way)
+    unstable: Unstable | None = None  # the curve is no response at this setting
 
 
 @dataclass(frozen=True)
@@ -148,6 +181,19 @@ class DriveSetting:
 
 
 @dataclass(frozen=True)
+class DriveBand:
+    """The spread of the large-signal figures over part-tolerance samples, knobs at half
+    way: 5th and 95th percentiles of THD and of the output's peak at each sweep level, over
+    the ``samples`` builds whose periodic solve settled."""
+
+    samples: int
+    thd_low: tuple[float, ...]
+    thd_high: tuple[float, ...]
+    peak_low: tuple[float, ...]
+    peak_high: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class Drive:
     """A stage's (or the kit's) output under a 1 kHz sine from the pickup, per knob setting."""
 
@@ -156,9 +202,8 @@ class Drive:
     freq: float = 1000.0
     # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
     rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
-    # THD's 5th and 95th percentiles at each level over part-tolerance samples, knobs at
-    # half way (empty when not run)
-    band: tuple = ()
+    # the tolerance spread, knobs at half way (None when it could not be computed)
+    band: DriveBand | None = None
 
     @property
     def base(self) -> DriveSetting:
@@ -199,6 +244,8 @@ class StageSpecs:
     clips: bool = False
     # Its −3 dB corners describe it (not for a tone stack or blend: StageKind.passband).
     passband: bool = True
+    # The kit is unstable with the knobs at half way: every small-signal figure means nothing.
+    unstable: Unstable | None = None
 
 
 @dataclass(frozen=True)
@@ -243,6 +290,9 @@ class KitSpecs:
     # RMS volts of it at the output, knobs at half way (per knob position: knob_sweep).
     ripple: tuple[float, float] | None = None
     hum: Range | None = None
+    pump_ripples: tuple[PumpRipple, ...] = ()  # each charge pump's own switching ripple
+    # Unstable with the knobs at half way (each other setting's is on its knob_sweep point).
+    unstable: Unstable | None = None
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

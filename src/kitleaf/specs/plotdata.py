@@ -8,14 +8,17 @@ import numpy as np
 from kitleaf.specs.model import Curve
 from kitleaf.specs.response import to_db
 from kitleaf.specs.solve import KitState
+from kitleaf.specs.stability import unstable_at
 
 
 def curves(solved, node_in: str, node_out: str, controls) -> tuple[Curve, ...]:
     """One nominal curve per position of each knob or switch in ``controls``; one curve if
     there is none."""
     if not controls:
-        return (Curve("", None, _db(solved.base, node_in, node_out)),)
-    return tuple(Curve(c.name, shown, _db(state, node_in, node_out), pos == c.nominal)
+        return (Curve("", None, _db(solved.base, node_in, node_out),
+                      unstable=unstable_at(solved.base)),)
+    return tuple(Curve(c.name, shown, _db(state, node_in, node_out), pos == c.nominal,
+                       unstable_at(state))
                  for c in controls
                  for (pos, shown), state in zip(c.steps, solved.sweeps[c.designator],
                                                 strict=True))

@@ -61,6 +61,10 @@ class Batch:
         whole = np.arange(self.system.size) if self.index is None else self.index
         return Batch(self.system, whole[idx])
 
+    def factor(self, name: str) -> np.ndarray:
+        """The multiplier each build drew for part ``name``'s value (ones when nominal)."""
+        return self._pick(self.system.factor(name))
+
     def excitation(self, source: str) -> np.ndarray:
         """The right-hand side with ``source`` alone at an AC amplitude of one."""
         return self.system.excitation(source)

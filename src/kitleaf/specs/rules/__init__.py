@@ -40,6 +40,7 @@ MODULES = (
     "resistor_power",
     "coupling_corner",
     "treble_corner",
+    "stable",
     "transistor_region",
     "opamp_headroom",
     "bias_path",
@@ -58,6 +59,7 @@ MODULES = (
     "asymmetric_clip",
     "opamp_rail",
     "hum",
+    "pump_ripple",
 )
 
 

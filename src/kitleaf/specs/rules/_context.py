@@ -12,7 +12,7 @@ import numpy as np
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.kind import Stage
 from kitleaf.circuit.parts import Part
-from kitleaf.display import setting
+from kitleaf.display import setting, settings
 from kitleaf.errors import SourceSpan
 from kitleaf.guide.model import Guide
 from kitleaf.specs.finding import Finding
@@ -34,11 +34,9 @@ EVERY_SETTING = "at every knob setting"
 
 
 
-def drive_words(positions: tuple[tuple[str, float], ...]) -> str:
-    """A knob setting of the large-signal figures in words."""
-    if not positions:
-        return "knobs at half way"
-    return ", ".join(f"{name} at {round(pos * 100)} %" for name, pos in positions)
+def drive_words(positions: tuple[tuple[str, float | str], ...]) -> str:
+    """A knob or switch setting of the large-signal figures in words."""
+    return settings(positions) if positions else "knobs at half way"
 
 
 @dataclass(frozen=True)
