@@ -6,11 +6,13 @@ one custom stage is a resistor ladder of N resistors. Each size is checked as ``
 does (BLAS on one thread), in a fresh process, and the bench prints its CPU time (the shared
 machine's load moves wall time far more) and peak resident memory, with the ratio to the
 previous size, so growth can be read off: a ratio near the size ratio (2) is linear, near 4
-quadratic. Not a timed test.
+quadratic. Not a timed test. The tree measured is the one the bench file sits in (its
+``src/`` on the path), so a copy of the bench in another checkout measures that checkout.
 
     python bench/bench_scale.py [--stages 10 20 40] [--ladder 100 200 400] [--base SRC]
 
 ``--base`` takes another checkout's ``src/`` and runs the same sizes with it, side by side.
+Sizes the base cannot check in reasonable time can be left out: ``--stages 10 20``.
 """
 
 from __future__ import annotations
@@ -46,7 +48,9 @@ filter-cap: C2 100n ceramic 50V
 ```
 
 """
-KNOB = re.compile(r"^(\w+): (VR\d+) ", re.M)
+# A repeated stage's switch would need its own ``switch:`` line and would multiply the kit's
+# states; the bench measures one fixed circuit, so the switch goes, with the pair only it selects.
+SWITCHED = re.compile(r"^(?:[a-z-]+: S\d+ .*|alt-[a-z]+: .*)\n", re.M)
 # Runs in a fresh interpreter: the check of one guide, then the peak resident memory (kB).
 CHILD = """
 import resource, sys, time
@@ -68,7 +72,7 @@ def stages_guide(count: int) -> str:
     blocks = [renumbered(spares[k % len(spares)][1], spares[k % len(spares)][0], 100 * (k + 1))
               for k in range(count)]
     text = HEAD.format(title=f"{count} Stages", code=count % 100) + power + "\n".join(blocks)
-    return re.sub(r"^claim: .*\n", "", text, flags=re.M)
+    return SWITCHED.sub("", re.sub(r"^claim: .*\n", "", text, flags=re.M))
 
 
 def _signal(block: str) -> bool:
@@ -93,29 +97,33 @@ def _node(k: int, rungs: int) -> str:
     return "in" if k == 0 else "out" if k == rungs else f"n{k}"
 
 
-def measure(src: Path | None, guide: Path) -> tuple[float, float]:
+def measure(src: Path, guide: Path) -> tuple[float, float]:
     """(CPU seconds, peak MB) of checking ``guide`` in a fresh process, ``src`` on the path."""
-    env = dict(os.environ, OMP_NUM_THREADS="1", OPENBLAS_NUM_THREADS="1")
-    if src is not None:
-        env["PYTHONPATH"] = str(src)
+    env = dict(os.environ, OMP_NUM_THREADS="1", OPENBLAS_NUM_THREADS="1", PYTHONPATH=str(src))
     out = subprocess.run([sys.executable, "-c", CHILD, str(guide)], env=env, check=True,
                          capture_output=True, text=True).stdout.split()
     return float(out[0]), float(out[1]) / 1024
 
 
-def table(label: str, sizes: list[int], make, trees: dict[str, Path | None], root: Path) -> None:
-    for name, src in trees.items():
-        print(f"{label} ({name})")
-        print(f"{'size':>6} {'CPU s':>9} {'ratio':>6} {'peak MB':>9} {'ratio':>6}")
-        previous = None
-        for size in sizes:
-            guide = root / f"{label}-{size}.md"
-            guide.write_text(make(size))
+def table(label: str, sizes: list[int], make, trees: dict[str, Path], root: Path) -> None:
+    """One row per size, each tree's CPU time and peak memory side by side, each with its
+    ratio to the previous size."""
+    print(label)
+    print(f"{'size':>6}" + "".join(f" | {name[:30]:>30}" for name in trees))
+    print(f"{'':>6}" + f" | {'CPU s':>7} {'ratio':>5} {'peak MB':>8} {'ratio':>5}" * len(trees))
+    previous: dict[str, tuple[float, float]] = {}
+    for size in sizes:
+        guide = root / f"{label}-{size}.md"
+        guide.write_text(make(size))
+        row = f"{size:>6}"
+        for name, src in trees.items():
             seconds, peak = measure(src, guide)
-            ratios = ("", "") if previous is None else (
-                f"{seconds / previous[0]:.2f}", f"{peak / previous[1]:.2f}")
-            print(f"{size:>6} {seconds:>9.2f} {ratios[0]:>6} {peak:>9.0f} {ratios[1]:>6}")
-            previous = (seconds, peak)
+            last = previous.get(name)
+            ratios = ("", "") if last is None else (f"{seconds / last[0]:.2f}",
+                                                    f"{peak / last[1]:.2f}")
+            row += f" | {seconds:>7.2f} {ratios[0]:>5} {peak:>8.0f} {ratios[1]:>5}"
+            previous[name] = (seconds, peak)
+        print(row, flush=True)
 
 
 def main() -> int:
@@ -124,7 +132,8 @@ def main() -> int:
     p.add_argument("--ladder", type=int, nargs="*", default=[100, 200, 400])
     p.add_argument("--base", type=Path, help="another checkout's src/ to run side by side")
     args = p.parse_args()
-    trees = {"this tree": None} | ({f"base {args.base}": args.base} if args.base else {})
+    here = Path(__file__).resolve().parents[1] / "src"
+    trees = {"this tree": here} | ({f"base {args.base}": args.base} if args.base else {})
     with tempfile.TemporaryDirectory() as tmp:
         table("stages", args.stages, stages_guide, trees, Path(tmp))
         table("ladder", args.ladder, ladder_guide, trees, Path(tmp))

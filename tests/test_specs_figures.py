@@ -4,12 +4,17 @@ knob position and corners outside the plotted band."""
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
+import numpy as np
 import pytest
 from tests.engine.ngspice_run import ac_sweep, half_power_corners
 from tests.stages.kits import POWER, specs_of, stage_block
 
+from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import INPUT, OUTPUT, SOURCE
+from kitleaf.guide import parse_guide
+from kitleaf.specs.derive import derive_specs
 from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.lookup import computed_values
 
@@ -18,6 +23,10 @@ from kitleaf.specs.lookup import computed_values
 INVERTING = stage_block("inv", "opamp-inverting", "input: R3 10k",
                         "input-cap: C3 100u electrolytic",
                         "opamp: U1A TL072", "feedback: R4 10k", "output-cap: C4 10u")
+
+
+# Ten signal stages of the demo guides in a row (the scaling bench's guide, claims dropped).
+LONG_CHAIN = Path(__file__).parent / "fixtures" / "long-chain.md"
 
 
 def divider_db(r_top: float, r_bottom: float) -> float:
@@ -114,3 +123,42 @@ def test_corners_beyond_the_band_agree_with_ngspice():
     assert low < 10.0 and high > 40e3
     assert specs.low_corner_hz.nominal == pytest.approx(low, rel=0.005)
     assert specs.high_corner_hz.nominal == pytest.approx(high, rel=0.005)
+
+
+def _band_corners(freqs: np.ndarray, h: np.ndarray) -> tuple[float | None, float | None]:
+    """-3 dB corners from a dense sweep relative to the highest gain in 10 Hz..40 kHz, as the
+    specs define them, by log-frequency interpolation of the dB response."""
+    db = 20 * np.log10(np.abs(h))
+    band = (freqs >= 10.0) & (freqs <= 40e3)
+    peak = int(np.flatnonzero(band)[np.argmax(db[band])])
+    level = db[peak] - 10 * np.log10(2)
+
+    def cross(i: int, j: int) -> float:
+        lo, hi = (i, j) if db[i] < db[j] else (j, i)
+        return float(np.exp(np.interp(level, [db[lo], db[hi]], np.log(freqs[[lo, hi]]))))
+
+    low = next((cross(i, i + 1) for i in range(peak - 1, -1, -1) if db[i] < level), None)
+    high = next((cross(i - 1, i) for i in range(peak + 1, freqs.size) if db[i] < level), None)
+    return low, high
+
+
+@pytest.mark.slow
+def test_a_long_chains_stage_corners_agree_with_ngspice():
+    """Every stage of a ten-stage kit, its corners far above and below the band included,
+    against Debian's ngspice: a long chain is solved stage by stage, joined at the nodes
+    between them, and each stage's corner must still be the whole kit's."""
+    guide = parse_guide(LONG_CHAIN)
+    kit = build_circuit(guide)
+    specs = derive_specs(guide, kit)
+    nodes = list(dict.fromkeys(n for s in kit.signal_stages for n in kit.stage_nodes(s.id)))
+    freqs, theirs = ac_sweep(kit.netlist(kit.rest_positions()), SOURCE, nodes, 0.1, 10e6,
+                             per_decade=400)
+    signal = {s.id for s in kit.signal_stages}
+    for stage in (s for s in specs.stages if s.id in signal):
+        node_in, node_out = kit.stage_nodes(stage.id)
+        low, high = _band_corners(freqs, theirs[node_out] / theirs[node_in])
+        for ours, expected in ((stage.low_corner_hz, low), (stage.high_corner_hz, high)):
+            if expected is None:
+                assert ours is None or not 0.1 < ours.nominal < 10e6, stage.id
+            else:
+                assert ours.nominal == pytest.approx(expected, rel=0.005), stage.id

@@ -261,6 +261,25 @@ class KitCircuit:
         last = OUTPUT if i == len(ids) - 1 else f"{stage_id}.out"
         return first, last
 
+    @cached_property
+    def joints(self) -> tuple[str, ...]:
+        """The nodes where the stages meet: the chain's nodes between them and the power
+        section's rails (a large kit's AC response is solved stage by stage, joined here)."""
+        chain = [INPUT] + [self.stage_nodes(s.id)[1] for s in self.signal_stages]
+        rails = list(POWER_RAILS) if self.has_power_stage else []
+        return tuple(dict.fromkeys(chain + [OUTPUT] + rails))
+
+    @cached_property
+    def corner_pairs(self) -> tuple[tuple[str, str], ...]:
+        """The (input, output) nodes whose corners the specs read: each signal stage's and
+        the kit's."""
+        return tuple(self.stage_nodes(s.id) for s in self.signal_stages) + ((INPUT, OUTPUT),)
+
+    @property
+    def sweep_nodes(self) -> tuple[tuple[str, ...], tuple[tuple[str, str], ...]]:
+        """(:attr:`joints`, :attr:`corner_pairs`): what a sweep of the kit is told."""
+        return self.joints, self.corner_pairs
+
     def netlist(self, positions: Mapping[str, float] | None = None,
                 supply_v: float | None = None) -> Circuit:
         """A fresh engine circuit of the whole kit at the given knob positions and supply."""

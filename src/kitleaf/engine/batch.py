@@ -17,11 +17,12 @@ import numpy as np
 from kitleaf.engine import elements as el
 from kitleaf.engine.ac import small_signal
 from kitleaf.engine.batch_lu import solve_many
+from kitleaf.engine.blocks import BlockResponse, cap_ends, split
 from kitleaf.engine.compile import Layout, System, compile_circuit
 from kitleaf.engine.dc import problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
-from kitleaf.engine.ports import PoleResidue, modal, port_form
+from kitleaf.engine.ports import PoleResidue, capacitances, modal, port_form
 from kitleaf.engine.reduce import Reduced, partition, reduce_problem, solve_reduced
 from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
 from kitleaf.errors import SolveError
@@ -168,13 +169,35 @@ class BatchResult:
         return self.solve_ac(freqs, rhs, opened)[:, :, self.row(node)]
 
     def response(self, rhs: np.ndarray, rows: list[int] | None = None,
-                 check_hz: float = CHECK_HZ) -> PoleResidue:
+                 check_hz: float = CHECK_HZ, joints: tuple[str, ...] = ()
+                 ) -> PoleResidue | BlockResponse:
         """The response to ``rhs`` (n,) at unknowns ``rows`` (default: every node) in
-        pole-residue form, checked per sample at ``check_hz``; call it with frequencies."""
+        pole-residue form, checked per sample at ``check_hz``; call it with frequencies.
+
+        A large circuit whose ``joints`` (nodes where its parts meet) split it into blocks
+        is answered block by block instead (see :mod:`~kitleaf.engine.blocks`): one
+        eigenproblem of the whole circuit grows with the cube of its size."""
+        if joints and self.layout.size >= SPARSE_SIZE:
+            blocks = self._blocks(rhs, joints)
+            if blocks is not None:
+                return blocks
         rows = list(range(len(self.layout.nodes))) if rows is None else rows
         ports = port_form(self.system, partition(self.system), self.problem, self.x,
                           self.factors, rhs[None, :], rows, self._reduction)
         return modal(ports, check_hz)
+
+    def _blocks(self, rhs: np.ndarray, joints: tuple[str, ...]) -> BlockResponse | None:
+        nodes, fixed = len(self.layout.nodes), partition(self.system)
+        known = {int(r): (int(b), float(sign)) for r, b, sign in
+                 zip(fixed.fixed, fixed.fixed_branch, fixed.fixed_sign, strict=True)}
+        part = split(self._sparse, [self.layout.row(j) for j in joints
+                                    if j in self.layout.nodes], nodes, known)
+        if part is None:
+            return None
+        devices = self.stored.devices
+        v = devices.junctions(extend(self.x)) if devices.banks else None
+        a, d, _ = capacitances(self.system, self.stored, v, self.factors, self.size)
+        return BlockResponse(self._sparse, part, cap_ends(a, d), rhs, nodes)
 
     @cached_property
     def _reduction(self) -> Reduced | None:

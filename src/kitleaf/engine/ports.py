@@ -185,7 +185,7 @@ def _reduced_form(system: System, part: Partition, problem: Problem, reduced: Re
     devices = reduced.problem.devices
     v = devices.junctions(reduced.problem.extend(x[:, keep]))
     _, dev_kk = devices.linearise(v, v)
-    a, d, used = _capacitances(system, problem, v, factors, x.shape[0])
+    a, d, used = capacitances(system, problem, v, factors, x.shape[0])
     vf = part.values(rhs)
     ports = reduced.ports
     z_rhs = np.concatenate([-(ports[:, :, :f] @ vf[0])[:, :, None], ports[:, :, f:][:, :, used]],
@@ -286,10 +286,10 @@ def _linearised(system: System, problem: Problem, x: np.ndarray, factors):
     if problem.devices.banks:
         v = problem.devices.junctions(extend(x))
         g = g + problem.devices.linearise(v, v)[1]
-    return (g, *_capacitances(system, problem, v, factors, samples))
+    return (g, *capacitances(system, problem, v, factors, samples))
 
 
-def _capacitances(system: System, problem: Problem, v, factors, samples: int):
+def capacitances(system: System, problem: Problem, v, factors, samples: int):
     """Incidence A (n, m), values d (s, m) and the used mask of every capacitance: the
     capacitors', then the devices' at junction voltages ``v``."""
     cap_a, cap_d = system.cap_columns(factors)

@@ -12,7 +12,7 @@ import numpy as np
 
 from kitleaf.circuit.chain import input_meter
 from kitleaf.specs.headroom import Margin, headroom
-from kitleaf.specs.response import REFERENCE_HZ, band_peak, corners, deepest_dip, to_db
+from kitleaf.specs.response import REFERENCE_HZ, band_peak, deepest_dip, to_db
 from kitleaf.specs.solve import View
 
 Measure = Callable[[View], np.ndarray]
@@ -32,10 +32,7 @@ def band_gain_db(node_in: str, node_out: str) -> Measure:
 
 def corner(node_in: str, node_out: str, side: int) -> Measure:
     """The low (side 0) or high (side 1) -3 dB corner, relative to the band gain."""
-    def measure(v: View) -> np.ndarray:
-        return v.once(("corners", node_in, node_out),
-                      lambda: corners(v.sweep, node_in, node_out))[side]
-    return measure
+    return lambda v: v.sweep.corners(node_in, node_out)[side]
 
 
 def scoop(node_in: str, node_out: str, side: int) -> Measure:

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from kitleaf.engine.blocks import BlockResponse
 from kitleaf.specs.sampled import Batch
 
 REFERENCE_HZ = 1000.0
@@ -20,7 +21,10 @@ SEARCH_LOW_HZ, SEARCH_HIGH_HZ = 0.1, 10e6
 SEARCH = np.unique(np.concatenate((np.geomspace(SEARCH_LOW_HZ, FREQS[0], 81), FREQS,
                                    np.geomspace(FREQS[-1], SEARCH_HIGH_HZ, 97))))
 AGREEMENT = 1e-6  # pole-residue against direct solve, relative to the largest node voltage
-FALSE_POSITION_STEPS = 8  # solves per crossing: far below the shown three figures
+FALSE_POSITION_STEPS = 8  # solves per crossing at most: far below the shown three figures
+# A crossing within this of the target in log magnitude is taken (a relative error of 1e-10
+# in the gain, far below rounding of a shown figure and of the response itself).
+SETTLED = 1e-10
 
 
 def to_db(h: np.ndarray) -> np.ndarray:
@@ -34,11 +38,17 @@ class Sweep:
     sample against a direct solve at 1 kHz; a sample that disagrees is solved directly.
     """
 
-    def __init__(self, batch: Batch, source: str, direct: np.ndarray | None = None) -> None:
-        """``direct``: the batch's direct solution at 1 kHz, if the caller already has it."""
-        self.batch = batch
+    def __init__(self, batch: Batch, source: str, direct: np.ndarray | None = None,
+                 joints: tuple[str, ...] = (), pairs: tuple[tuple[str, str], ...] = ()
+                 ) -> None:
+        """``direct``: the batch's direct solution at 1 kHz, if the caller already has it;
+        ``joints``: the nodes where the kit's stages meet (a large kit is solved stage by
+        stage, joined there); ``pairs``: the (input, output) nodes whose corners are found
+        together when any one's are asked for (each search step then solves once for all)."""
+        self.batch, self.pairs = batch, tuple(pairs)
+        self.found: dict[tuple[str, str], tuple[np.ndarray, np.ndarray]] = {}
         self.rhs = batch.excitation(source)
-        self.modal = batch.modal(self.rhs)
+        self.modal = batch.modal(self.rhs, joints)
         if direct is None:
             direct = batch.solve(np.array([REFERENCE_HZ]), self.rhs)[:, 0]
         nodes = len(batch.system.layout.nodes)  # the first unknowns; branches are not read
@@ -64,6 +74,33 @@ class Sweep:
         if name not in self.grid:
             self.grid[name] = self.at(FREQS, [name])[:, :, 0]
         return self.grid[name]
+
+    def corners(self, node_in: str, node_out: str) -> tuple[np.ndarray, np.ndarray]:
+        """The low and high corners of ``node_out`` over ``node_in`` (see :func:`corners`),
+        found with every pair of :attr:`pairs` not found yet."""
+        pair = (node_in, node_out)
+        if pair not in self.found:
+            wanted = [pair] + [p for p in dict.fromkeys(self.pairs)
+                               if p not in self.found and p != pair]
+            self.found.update(zip(wanted, corners(self, wanted), strict=True))
+        return self.found[pair]
+
+    def confirm(self, freqs: np.ndarray, nodes: list[str], values: np.ndarray) -> np.ndarray:
+        """The samples whose ``values`` (samples, F, len(nodes)) at per-sample ``freqs``
+        disagree with a direct solve, now answered directly from here on; none for a form
+        checked over the whole band already (a large kit's, block by block)."""
+        if isinstance(self.modal.form, BlockResponse):
+            return np.zeros(0, int)
+        f = np.where(np.isfinite(freqs), freqs, REFERENCE_HZ)
+        rows = [self.batch.row(n) for n in nodes]
+        direct = self.batch.solve(f, self.rhs)[:, :, rows]
+        scale = np.max(np.abs(direct), axis=2, keepdims=True)
+        error = np.max(np.abs(values - direct) / scale, axis=(1, 2))
+        wrong = np.setdiff1d(np.flatnonzero(~(error <= AGREEMENT)), self.bad)
+        if wrong.size:
+            self.bad = np.union1d(self.bad, wrong)
+            self.grid.clear()
+        return wrong
 
     def ratio(self, node_in: str, node_out: str) -> np.ndarray:
         """``node_out`` over ``node_in``, (samples, frequencies)."""
@@ -109,55 +146,94 @@ def _vertex(u0, u2, v0, v2) -> tuple[np.ndarray, np.ndarray]:
     return u, np.where(bends_up, a * u * u + b * u, 0.0)
 
 
-def corners(sweep: Sweep, node_in: str, node_out: str) -> tuple[np.ndarray, np.ndarray]:
-    """Per sample, the low and high -3.01 dB frequencies walking away from the band peak.
+def corners(sweep: Sweep, pairs: list[tuple[str, str]]
+            ) -> list[tuple[np.ndarray, np.ndarray]]:
+    """Per pair (input, output node) and sample, the low and high -3.01 dB frequencies
+    walking away from the band peak.
 
     The peak is the highest gain on the plotted band; the walk goes on over :data:`SEARCH`,
     which brackets each crossing, and regula falsi in log f on the exact response (solved
-    afresh at each trial frequency) pins it down; NaN where the response stays within 3 dB
-    down to :data:`SEARCH_LOW_HZ` or up to :data:`SEARCH_HIGH_HZ`.
+    afresh at each trial frequency, every pair and side at once) pins it down; NaN where the
+    response stays within 3 dB down to :data:`SEARCH_LOW_HZ` or up to :data:`SEARCH_HIGH_HZ`.
+    The corners found are checked by a direct solve there (a pole-residue form is checked at
+    1 kHz alone, and a pole far above it can be wrong): a sample that disagrees is searched
+    again on direct solves.
     """
+    nodes = list(dict.fromkeys(n for pair in pairs for n in pair))
+    ins, outs = ([nodes.index(pair[k]) for pair in pairs] * 2 for k in (0, 1))
+
     def response(freqs: np.ndarray) -> np.ndarray:
-        x = sweep.at(freqs, [node_in, node_out])
-        return x[:, :, 1] / x[:, :, 0]
+        x = sweep.at(freqs, nodes)
+        return x[:, np.arange(freqs.shape[1]), outs] / x[:, np.arange(freqs.shape[1]), ins]
 
-    wide = response(SEARCH)
-    peak_db, start = band_peak(sweep.ratio(node_in, node_out))
-    target = 10.0 ** (peak_db / 20.0) / np.sqrt(2.0)
-    mags = np.abs(wide)
-    return (_crossing(response, mags, target, start, upward=False),
-            _crossing(response, mags, target, start, upward=True))
+    found = _search(sweep, pairs, nodes, response)
+    at = np.where(np.isfinite(found), found, REFERENCE_HZ)
+    if sweep.confirm(at, nodes, sweep.at(at, nodes)).size:
+        found = _search(sweep, pairs, nodes, response)
+    return [(found[:, k], found[:, len(pairs) + k]) for k in range(len(pairs))]
 
 
-def _crossing(response, mags: np.ndarray, target: np.ndarray, start: np.ndarray,
-              upward: bool) -> np.ndarray:
-    """Per sample, the first step of :data:`SEARCH` from ``start`` where |response| drops
-    below ``target``, then the crossing inside it in log f; NaN when there is none.
+def _search(sweep: Sweep, pairs, nodes: list[str], response) -> np.ndarray:
+    """Every pair's low corners, then its high ones (samples, 2 pairs)."""
+    wide = sweep.at(SEARCH, nodes)
+    ins, outs = ([nodes.index(pair[k]) for pair in pairs] for k in (0, 1))
+    mags = np.abs(wide[:, :, outs] / wide[:, :, ins]).transpose(0, 2, 1)  # (s, pairs, F)
+    peaks = [band_peak(sweep.ratio(*pair)) for pair in pairs]
+    target = np.stack([10.0 ** (db / 20.0) / np.sqrt(2.0) for db, _ in peaks], axis=1)
+    start = np.stack([f for _, f in peaks], axis=1)
+    upward = np.repeat([False, True], len(pairs))
+    return _crossings(response, np.concatenate([mags, mags], axis=1),
+                      np.tile(target, 2), np.tile(start, 2), upward)
+
+
+def _crossings(response, mags: np.ndarray, target: np.ndarray, start: np.ndarray,
+               upward: np.ndarray) -> np.ndarray:
+    """Per sample and column (samples, C), the first step of :data:`SEARCH` from ``start``
+    (below it, or above where ``upward``) where |response| (``mags``, (samples, C, F) on
+    the grid) drops below ``target``, then the crossing inside it in log f; NaN when there
+    is none. ``response`` answers per-sample frequencies (samples, C), column by column.
 
     The crossing is found by regula falsi with the Illinois step (Dahlquist and Björck,
     Numerical Methods, 6.2.3): on a smooth response it gains several digits per solve, where
-    bisection gains one bit, and every step keeps the crossing bracketed."""
-    side = SEARCH[None, :] > start[:, None] if upward else SEARCH[None, :] < start[:, None]
-    below = (mags < target[:, None]) & side
-    walk = below if upward else below[:, ::-1]
-    first = np.argmax(walk, axis=1)
-    found = walk[np.arange(first.size), first]
-    outer_i = first if upward else SEARCH.size - 1 - first
-    inner_i = np.clip(outer_i - 1 if upward else outer_i + 1, 0, SEARCH.size - 1)
-    rows = np.arange(first.size)
+    bisection gains one bit, and every step keeps the crossing bracketed. It stops when every
+    crossing is within :data:`SETTLED` in log magnitude (a few solves from the grid's 6 %
+    steps), at most :data:`FALSE_POSITION_STEPS` solves."""
+    found, inner_i, outer_i = _bracket(mags, target, start, upward)
     log_target = np.log(target)
     inner, outer = np.log(SEARCH[inner_i]), np.log(SEARCH[outer_i])
-    g_in = np.log(np.maximum(mags[rows, inner_i], 1e-300)) - log_target  # >= 0: above
-    g_out = np.log(np.maximum(mags[rows, outer_i], 1e-300)) - log_target  # < 0: below
+    at = np.log(np.maximum(mags, 1e-300))
+    g_in = np.take_along_axis(at, inner_i[..., None], 2)[..., 0] - log_target  # >= 0: above
+    g_out = np.take_along_axis(at, outer_i[..., None], 2)[..., 0] - log_target  # < 0: below
+    replaced_outer = None  # which end the last step moved
     for _ in range(FALSE_POSITION_STEPS):
+        if np.all(~found | (np.minimum(np.abs(g_in), np.abs(g_out)) < SETTLED)):
+            break
         span = g_in - g_out
         x = np.where(span > 0, (inner * -g_out + outer * g_in) / np.where(span > 0, span, 1.0),
                      (inner + outer) / 2.0)
-        g = np.log(np.maximum(np.abs(response(np.exp(x)[:, None]))[:, 0], 1e-300)) - log_target
+        g = np.log(np.maximum(np.abs(response(np.exp(x))), 1e-300)) - log_target
         low = g < 0
-        # Illinois: halve the kept end's value so a one-sided approach still closes in.
-        g_in = np.where(low, g_in / 2.0, g)
-        g_out = np.where(low, g, g_out / 2.0)
+        # Illinois: when a step moves the same end as the last one, halve the kept end's
+        # value, so a one-sided approach still closes in.
+        again = np.zeros_like(low) if replaced_outer is None else low == replaced_outer
+        g_in = np.where(low, np.where(again, g_in / 2.0, g_in), g)
+        g_out = np.where(low, g, np.where(again, g_out / 2.0, g_out))
         inner, outer = np.where(low, inner, x), np.where(low, x, outer)
+        replaced_outer = low
     best = np.where(np.abs(g_in) < np.abs(g_out), inner, outer)
     return np.where(found, np.exp(best), np.nan)
+
+
+def _bracket(mags: np.ndarray, target: np.ndarray, start: np.ndarray, upward: np.ndarray):
+    """(found, inner index, outer index), each (samples, C): the first step of
+    :data:`SEARCH` from ``start`` on each column's side where |response| drops below
+    ``target``."""
+    grid = SEARCH[None, None, :]
+    side = np.where(upward[None, :, None], grid > start[..., None], grid < start[..., None])
+    below = (mags < target[..., None]) & side
+    last = SEARCH.size - 1
+    first_up, first_down = np.argmax(below, axis=2), last - np.argmax(below[..., ::-1], axis=2)
+    outer_i = np.where(upward, first_up, first_down)
+    found = np.take_along_axis(below, outer_i[..., None], 2)[..., 0]
+    inner_i = np.clip(np.where(upward, outer_i - 1, outer_i + 1), 0, last)
+    return found, inner_i, outer_i

@@ -16,6 +16,7 @@ import numpy as np
 
 from kitleaf.engine import BatchResult, PoleResidue, solve_batch
 from kitleaf.engine.batch import share_operating_point
+from kitleaf.engine.blocks import BlockResponse
 from kitleaf.specs.model import SAMPLES, SEED
 
 
@@ -74,10 +75,11 @@ class Batch:
         """Complex solutions (samples, frequencies, n); ``freqs`` is (F,) or (samples, F)."""
         return self.system.solve_ac(freqs, rhs, opened, samples=self.index)
 
-    def modal(self, rhs: np.ndarray) -> Modal:
+    def modal(self, rhs: np.ndarray, joints: tuple[str, ...] = ()) -> Modal:
         """Every node's response to ``rhs`` in pole-residue form, for cheap evaluation
-        anywhere (nodes come first among the unknowns, so a row is its node's unknown)."""
-        return Modal(self.system.response(rhs), self.index)
+        anywhere (nodes come first among the unknowns, so a row is its node's unknown);
+        a large circuit split at its ``joints`` block by block (the engine's blocks)."""
+        return Modal(self.system.response(rhs, joints=joints), self.index)
 
     def impedance(self, node: str, freqs: np.ndarray, opened: str | None = None) -> np.ndarray:
         """Driving-point impedance (samples, F) from ``node`` to ground, every source at rest."""
@@ -93,7 +95,7 @@ class Batch:
 class Modal:
     """Every node's response to one excitation, as the engine's pole-residue form."""
 
-    form: PoleResidue
+    form: PoleResidue | BlockResponse
     index: np.ndarray | None = None
     # the forms of the row sets read so far: a corner search reads the same two nodes at
     # dozens of frequencies, and their residues are formed once

@@ -18,14 +18,17 @@ from kitleaf.specs.sampled import Batch, solve_alike, solve_nominal, solve_sampl
 class View:
     """One batch (nominal or samples) with its AC solutions, each solved on first use."""
 
-    def __init__(self, batch: Batch) -> None:
-        self.batch = batch
+    def __init__(self, batch: Batch, joints: tuple[str, ...] = (),
+                 pairs: tuple[tuple[str, str], ...] = ()) -> None:
+        """``joints`` and ``pairs``: the kit's nodes where its stages meet and the pairs whose
+        corners are found together (see :class:`Sweep`)."""
+        self.batch, self.joints, self.pairs = batch, joints, pairs
         self.memo: dict = {}
 
     @cached_property
     def sweep(self) -> Sweep:
         """Node voltages over the plotted band; its 1 kHz check reuses :attr:`ref`."""
-        return Sweep(self.batch, SOURCE, self.ref)
+        return Sweep(self.batch, SOURCE, self.ref, self.joints, self.pairs)
 
     @cached_property
     def ref(self) -> np.ndarray:
@@ -62,19 +65,19 @@ class KitState:
                         and idle_at_dc(near, moved_pots(near.positions, positions)))
         self.positions, self.supply_v = dict(positions), supply_v
         self.nominal = View(solve_alike(self.circuit, near.nominal.batch) if self.same_dc
-                            else solve_nominal(self.circuit))
+                            else solve_nominal(self.circuit), *kit.sweep_nodes)
 
     @cached_property
     def samples(self) -> View:
         """The tolerance samples: the nearby state's operating point when it holds here,
         otherwise solved with Newton started from the nearby state's samples (if any)."""
         if self.same_dc:
-            return View(solve_alike(self.circuit, self.near.samples.batch))
+            return View(solve_alike(self.circuit, self.near.samples.batch), *self.kit.sweep_nodes)
         if self.near is None:
             return View(solve_samples(self.circuit, nominal=self.nominal.batch,
-                                      scale=self.scale))
+                                      scale=self.scale), *self.kit.sweep_nodes)
         return View(solve_samples(self.circuit, start=self.near.samples.batch.x,
-                                  scale=self.scale))
+                                  scale=self.scale), *self.kit.sweep_nodes)
 
     @cached_property
     def scale(self) -> np.ndarray | None:

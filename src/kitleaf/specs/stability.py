@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from kitleaf.engine import growing
+from kitleaf.engine import PoleResidue, growing
 from kitleaf.specs.model import Unstable
 from kitleaf.specs.solve import KitState, View
 
@@ -28,6 +28,8 @@ def instability(view: View, stage_ids: frozenset[str]) -> Unstable | None:
     """The nominal build's fastest-growing mode at this setting, None when every mode decays;
     its stage is the one of ``stage_ids`` whose node swings most in that mode."""
     form = view.sweep.modal.form
+    if not isinstance(form, PoleResidue):  # a large kit's, block by block: not the kit's modes
+        form = view.batch.modal(view.sweep.rhs).form
     lambdas = form.lambdas[0]
     grows = np.flatnonzero(growing(form.lambdas)[0])
     if grows.size == 0:

@@ -59,7 +59,7 @@ def setting_capacitor(ctx: RuleContext, stage: Stage) -> tuple[Part, float] | No
 
     def corner(changed) -> float:
         # a capacitor carries no DC current: the changed kit keeps the operating point
-        return float(measure(View(solve_alike(changed, base.nominal.batch)))[0])
+        return float(measure(View(solve_alike(changed, base.nominal.batch), ctx.kit.joints))[0])
 
     start = float(measure(base.view)[0])
     best = None
