@@ -82,11 +82,12 @@ def _signal(block: str) -> bool:
 
 
 def ladder_guide(resistors: int) -> str:
-    """A guide whose custom stage is a ladder: series 10k steps with 100k shunts to ground."""
+    """A guide whose custom stage is a ladder: series 100R steps with 1M shunts to ground (a
+    ladder that lets the signal through: one that lost it entirely is a located error)."""
     rungs = resistors // 2
     nodes = " ".join(f"n{k}" for k in range(1, rungs))
-    lines = [f"part: R{100 + 2 * k} 10k @ {_node(k, rungs)} {_node(k + 1, rungs)}\n"
-             f"part: R{101 + 2 * k} 100k @ {_node(k + 1, rungs)} 0"
+    lines = [f"part: R{100 + 2 * k} 100R @ {_node(k, rungs)} {_node(k + 1, rungs)}\n"
+             f"part: R{101 + 2 * k} 1M @ {_node(k + 1, rungs)} 0"
              for k in range(rungs)]
     stage = ("```stage ladder\nkind: custom\ntitle: Resistor ladder\n"
              f"nodes: {nodes}\n" + "\n".join(lines) + "\n```\n")

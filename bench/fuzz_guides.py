@@ -178,7 +178,10 @@ def run_case(path: Path, data: bytes, limit: float) -> tuple[str, str]:
     except BaseException:  # noqa: BLE001 - any escape from the command is the finding
         return "traceback", traceback.format_exc()
     finally:
-        signal.setitimer(signal.ITIMER_PROF, 0)
+        try:
+            signal.setitimer(signal.ITIMER_PROF, 0)
+        except Hang:  # the timer ran out as the case finished: the case ended, so no hang
+            pass
     return _judged(code, err.getvalue(), caught)
 
 

@@ -19,7 +19,9 @@ def _fuzzer():
 
 
 def test_mutated_demo_guides_end_in_located_lines():
-    tally = _fuzzer().fuzz(cases=150, seed=20261205, limit=10.0)
+    # The limit is process CPU time, which idle-spinning BLAS threads inflate on a loaded
+    # machine; 30 s still catches a case that never ends (the bench keeps its 10 s).
+    tally = _fuzzer().fuzz(cases=150, seed=20261205, limit=30.0)
     assert tally.cases == 150
     assert tally.failures == [], tally.failures[0][2]
     # The slice is not vacuous: mutants both pass and fail the check.

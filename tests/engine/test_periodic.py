@@ -17,9 +17,10 @@ from kitleaf.engine import (
     stepper,
 )
 from kitleaf.engine.harmonics import distortion
-from kitleaf.engine.periodic import periodic_steady_state
+from kitleaf.engine.periodic import ROUGH, periodic_steady_state, roughness
 from kitleaf.errors import SolveError
 
+from . import large_signal_circuits as ls
 from . import reference_circuits as rc
 
 
@@ -178,3 +179,29 @@ class TestBadDrives:
                                     points=16)
         assert not res.converged.any()
         assert "did not converge" in res.reasons[0, 0, 0]
+
+
+class TestRefinedMembers:
+    def test_a_hard_clipped_member_is_solved_again_on_a_finer_grid(self):
+        # the direct-coupled fuzz squares a 1 V drive: its edges are too sharp for 96 steps,
+        # and its harmonics are read from the 192-step period, whose samples at the 96
+        # instants are the wave; the gentle 3 mV member is solved once
+        res = periodic_steady_state([solve_batch(ls.direct_coupled_fuzz())], "VIN",
+                                    [0.003, 1.0], 1000.0, nodes=["out"], points=96)
+        assert res.converged.all() and res.refined.tolist() == [1]
+        fine = res.fine["out"][0]
+        assert fine.shape == (192,)
+        np.testing.assert_array_equal(res.wave("out")[0, 1, 0], fine[::2])
+        d = res.distortion("out")
+        np.testing.assert_allclose(d.amplitudes[0, 1, 0], distortion(fine).amplitudes)
+        np.testing.assert_allclose(d.amplitudes[0, 0, 0],
+                                   distortion(res.wave("out")[0, 0, 0]).amplitudes)
+
+    def test_roughness_tells_a_sine_from_its_clipped_self(self):
+        # a sine's third difference over 96 steps is (2 pi / 96)^3 of its amplitude; a
+        # square's edge is a jump of its whole swing (finite differences, common practice)
+        t = np.arange(96) / 96
+        sine, square = np.sin(2 * np.pi * t), np.sign(np.sin(2 * np.pi * (t + 0.5 / 96)))
+        rough = roughness(np.stack([sine, square])[:, None])
+        assert rough[0] == pytest.approx((2 * np.pi / 96) ** 3, rel=0.01)
+        assert rough[1] > ROUGH

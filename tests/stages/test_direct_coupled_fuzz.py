@@ -126,9 +126,6 @@ def quick(pair: str):
 
 @pytest.mark.slow
 @pytest.mark.parametrize("pair, top", [("2N5088", 1.0), ("2N3906", 0.9)])
-@pytest.mark.xfail(strict=True, reason="known gap: the fifth harmonic near -30 dBc differs from "
-                   "ngspice by about 2 dB since the large-signal engine's fixed-step solve; "
-                   "the peak and THD agree")
 def test_clipping_agrees_with_ngspice(pair, top):
     # the PNP pair at full gain oscillates (see the test below), so it is driven at 90 %
     for position in (0.0, top):

@@ -17,6 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from kitleaf.engine.batch import BatchResult
+from kitleaf.engine.kernels import pack
 from kitleaf.engine.reduce import partition
 from kitleaf.engine.reduced_steps import (
     Linear,
@@ -149,10 +150,13 @@ class Shot:
 
 def shoot(mem: Members, first: Start, outputs_count: int, steps: int,
           tolerance: tuple[float, float] = (SHOT_RELTOL, SHOT_DRIVE),
-          max_shots: int = MAX_SHOTS) -> Shot:
+          max_shots: int = MAX_SHOTS, compiled: bool = True) -> Shot:
     """Newton on the start's two port values until a period ends where it began (within
     ``tolerance``: a share of each port's value and of the member's drive level). A
-    settled (or failed) member keeps its last period and leaves the batch."""
+    settled (or failed) member keeps its last period and leaves the batch. The periods
+    run compiled (kernels/) unless ``compiled`` is False or a device family has no kernel;
+    the numpy steps are their reference."""
+    period = _period if not compiled or pack.slots(mem.devices) is None else _period_compiled
     count = first.q.shape[0]
     h = 2.0 * np.pi / mem.omega / steps
     xe = [mem.extended(first.x_t[0], 0.0), mem.extended(first.x_t[1], -h)]
@@ -165,7 +169,7 @@ def shoot(mem: Members, first: Start, outputs_count: int, steps: int,
     active, part = np.arange(count), mem
     passes = 0
     for passes in range(1, max_shots + 1):
-        solved, moves = _period(part, st, steps, trail, waves, active)
+        solved, moves = period(part, st, steps, trail, waves, active)
         last.trail[:, active] = solved
         failed[active] = st.failed
         end = np.concatenate(st.q, axis=1)  # (q_N, q_N-1) against (q_0, q_-1)
@@ -201,6 +205,14 @@ def _started(x_t: list, xe: list, start: np.ndarray, vstar: list) -> StepState:
     zero = np.zeros((count, x_t[0].shape[1], m2))
     return StepState(x_t, xe, [start[:, :m], start[:, m:]], vstar,
                      [eye[:, :m], eye[:, m:]], np.zeros(count, bool), [zero, zero])
+
+
+def _period_compiled(mem: Members, st: StepState, steps: int, trail: np.ndarray | None,
+                     waves: np.ndarray, active: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``_period`` in the compiled kernels."""
+    h = 2.0 * np.pi / mem.omega / steps
+    waves[active], solved, moves = pack.run(mem, st, pack.sine_drive(mem, steps), h, trail)
+    return solved, moves
 
 
 def _period(mem: Members, st: StepState, steps: int, trail: np.ndarray | None,
