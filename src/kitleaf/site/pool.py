@@ -72,7 +72,9 @@ def worker_pool(workers: int):
         with signals_stop_pool():
             yield pool
     except Stopped as stopped:  # SIGTERM or SIGHUP: stop the workers, then die of the signal
-        stop_workers(pool)
+        # No shutdown here: the signal may have landed inside submit() while it held the
+        # pool's lock, and shutdown would wait on that lock for ever. The process dies next.
+        _terminate(pool)
         die_of(stopped)
         raise
     except BaseException:  # an error or Ctrl-C: the workers' guides are of no use any more
@@ -92,6 +94,14 @@ def stop_workers(pool: futures.ProcessPoolExecutor) -> None:
     pool.shutdown(wait=False, cancel_futures=True)
     for process in processes:
         process.terminate()
+
+
+def _terminate(pool: futures.ProcessPoolExecutor) -> list:
+    """Terminate the pool's worker processes without taking any of the pool's locks."""
+    processes = list((getattr(pool, "_processes", None) or {}).values())  # shutdown drops them
+    for process in processes:
+        process.terminate()
+    return processes
 
 
 def _serial(path: Path, themes: list[Path], cache_root: Path | None, advance) -> Built:
