@@ -96,12 +96,10 @@ def stop_workers(pool: futures.ProcessPoolExecutor) -> None:
         process.terminate()
 
 
-def _terminate(pool: futures.ProcessPoolExecutor) -> list:
+def _terminate(pool: futures.ProcessPoolExecutor) -> None:
     """Terminate the pool's worker processes without taking any of the pool's locks."""
-    processes = list((getattr(pool, "_processes", None) or {}).values())  # shutdown drops them
-    for process in processes:
+    for process in list((getattr(pool, "_processes", None) or {}).values()):
         process.terminate()
-    return processes
 
 
 def _serial(path: Path, themes: list[Path], cache_root: Path | None, advance) -> Built:
