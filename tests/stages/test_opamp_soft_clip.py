@@ -8,6 +8,7 @@ import pytest
 from tests.engine.ngspice_tran import periodic_wave
 from tests.stages.kits import (
     POWER,
+    QUICK_DRIVE,
     dc_at,
     gain_at,
     guide_text,
@@ -132,11 +133,6 @@ def test_every_figure_agrees_with_ngspice(clip):
     check_stage(kit, specs, "drive")
 
 
-# Quick coupling (a few milliseconds) so that ngspice's transient settles.
-QUICK = stage_block("drive", "opamp-soft-clip", "input-cap: C1 22n film", "bias: R1 100k",
-                    "opamp: U1A TL072", "feedback: R2 10k", "gain: VR1 B100k",
-                    "gain-resistor: R3 1k", "gain-cap: C2 1u film", "output-cap: C3 100n",
-                    "pulldown: R5 100k")
 
 
 @pytest.mark.slow
@@ -146,7 +142,7 @@ QUICK = stage_block("drive", "opamp-soft-clip", "input-cap: C1 22n film", "bias:
      "clip-negative: LED1 red"),
 ], ids=["silicon-pair", "series-resistor-asymmetric"])
 def test_clipping_agrees_with_ngspice(clip):
-    block = QUICK.replace("pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *clip)))
+    block = QUICK_DRIVE.replace("pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *clip)))
     kit = make_kit(POWER, block, load="100k")
     for position in (0.0, 1.0):
         check_large_signal(kit, {"VR1": position}, "drive.o", (0.05, 0.5))
@@ -229,7 +225,7 @@ def test_every_switch_position_agrees_with_ngspice():
     kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"),
                           lines=(SWITCH_LINE["SP3T"],))
     check_stage(kit, specs, "drive")
-    kit = make_kit(POWER, QUICK.replace("pulldown: R5 100k", "\n".join((
+    kit = make_kit(POWER, QUICK_DRIVE.replace("pulldown: R5 100k", "\n".join((
         "pulldown: R5 100k", *DIODES, "clip-switch: S1 SP3T", "alt-positive: LED1 red",
         "alt-negative: LED2 red"))), load="100k", lines=(SWITCH_LINE["SP3T"],))
     # the LEDs' position (the silicon pair is checked above); with no pair the op-amp
@@ -246,7 +242,7 @@ def test_clipping_at_the_rails_is_symmetric_as_ngspice_settles_to():
     kohm = 11 ms. ngspice's transient keeps a leftover of that start, and with it even
     harmonics near -50 dBc, until it has run several such time constants; settled, both
     agree (the 1 uF leg of the other checks would need over a second of transient)."""
-    block = QUICK.replace("gain-cap: C2 1u film", "gain-cap: C2 100n film").replace(
+    block = QUICK_DRIVE.replace("gain-cap: C2 1u film", "gain-cap: C2 100n film").replace(
         "pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *DIODES, "clip-switch: S1 SP3T",
                                         "alt-positive: LED1 red", "alt-negative: LED2 red")))
     kit = make_kit(POWER, block, load="100k", lines=(SWITCH_LINE["SP3T"],))
