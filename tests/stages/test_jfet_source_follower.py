@@ -14,7 +14,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_large_signal, check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.engine import solve_dc
 from kitleaf.errors import CircuitError
@@ -110,8 +110,10 @@ class TestBadInput:
 ], ids=["self-biased", "divider-volume", "p-channel"])
 def test_every_figure_agrees_with_ngspice(transistor, extra):
     knobs = ("Level = VR1",) if any(e.startswith("volume") for e in extra) else ()
-    kit, specs = specs_of(POWER, follower(transistor, *extra), knobs=knobs, source="pickup")
+    kit, specs = specs_of(POWER, follower(transistor, *extra), knobs=knobs, source="pickup",
+                          lines=(RIPPLE,))
     check_stage(kit, specs, "buf")
+    check_hum(kit, specs)
 
 
 @pytest.mark.slow

@@ -17,7 +17,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_large_signal, check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.engine import solve_batch
 from kitleaf.engine.harmonics import distortion
@@ -129,8 +129,9 @@ class TestBadInput:
 ], ids=["series-resistor", "asymmetric-led"])
 def test_every_figure_agrees_with_ngspice(clip):
     block = drive("gain: VR1 A500k", "feedback-cap: C4 100p", "volume: VR2 A100k", clip=clip)
-    kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"))
+    kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"), lines=(RIPPLE,))
     check_stage(kit, specs, "drive")
+    check_hum(kit, specs)
 
 
 
@@ -223,8 +224,9 @@ class TestSwitchedPair:
 def test_every_switch_position_agrees_with_ngspice():
     block = switched("SP3T", "feedback-cap: C4 100p", "volume: VR2 A100k")
     kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"),
-                          lines=(SWITCH_LINE["SP3T"],))
+                          lines=(SWITCH_LINE["SP3T"], RIPPLE))
     check_stage(kit, specs, "drive")
+    check_hum(kit, specs)
     kit = make_kit(POWER, QUICK_DRIVE.replace("pulldown: R5 100k", "\n".join((
         "pulldown: R5 100k", *DIODES, "clip-switch: S1 SP3T", "alt-positive: LED1 red",
         "alt-negative: LED2 red"))), load="100k", lines=(SWITCH_LINE["SP3T"],))

@@ -14,7 +14,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_large_signal, check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.errors import CircuitError
 
@@ -110,8 +110,9 @@ class TestBadInput:
 @pytest.mark.parametrize("lines", [OPAMP, TRANSISTOR, ("follower: Q1 2N3906",) + TRANSISTOR[1:]],
                          ids=["opamp", "npn", "pnp"])
 def test_every_figure_agrees_with_ngspice(lines):
-    kit, specs = specs_of(POWER, buffer(*lines), load="10k")
+    kit, specs = specs_of(POWER, buffer(*lines), load="10k", lines=(RIPPLE,))
     check_stage(kit, specs, "out")
+    check_hum(kit, specs)
 
 
 @pytest.mark.slow

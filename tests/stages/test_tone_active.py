@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from tests.stages.kits import POWER, guide_text, make_kit, response, stage_block
 from tests.stages.spice_check import check_corners, check_knob_steps
-from tests.stages.spice_oracle import check_large_signal
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal
 from tests.test_specs_figures import specs_of
 
 from kitleaf.errors import CircuitError
@@ -92,9 +92,10 @@ KNOBS = ("Bass = VR1", "Treble = VR2")
 
 
 @pytest.mark.slow
-def test_gain_and_impedances_at_every_knob_step_agree_with_ngspice():
-    kit, specs = specs_of(POWER, ACTIVE, knobs=KNOBS, source="10k")
+def test_gain_impedances_and_hum_at_every_knob_step_agree_with_ngspice():
+    kit, specs = specs_of(POWER, ACTIVE, knobs=KNOBS, source="10k", lines=(RIPPLE,))
     check_knob_steps(kit, specs.stage("tone"))
+    check_hum(kit, specs)
 
 
 @pytest.mark.slow

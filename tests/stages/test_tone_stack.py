@@ -15,7 +15,7 @@ from tests.stages.kits import (
     stage_block,
 )
 from tests.stages.spice_check import check_corners, check_knob_steps, check_scoops
-from tests.stages.spice_oracle import check_large_signal
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal
 from tests.test_specs_figures import specs_of
 
 from kitleaf.errors import CircuitError
@@ -164,6 +164,16 @@ FERN_KNOBS = ("Treble = VR3", "Bass = VR4", "Mid = VR5")
 def test_gain_and_impedances_at_every_knob_step_agree_with_ngspice():
     kit, specs = specs_of(POWER, FERN_STACK, knobs=FERN_KNOBS, source="4k7")
     check_knob_steps(kit, specs.stage("tone"))
+
+
+@pytest.mark.slow
+def test_the_hum_behind_a_drive_at_every_knob_step_agrees_with_ngspice():
+    # alone, a passive stack has no path from the supply; behind a drive it shapes the
+    # ripple the drive's reference carries
+    kit, specs = specs_of(POWER, CLIPPED_DRIVE, FERN_STACK, knobs=("Drive = VR1", *FERN_KNOBS),
+                          load="1M", lines=(RIPPLE,))
+    assert specs.hum.nominal > 1e-6
+    check_hum(kit, specs)
 
 
 @pytest.mark.slow
