@@ -290,14 +290,15 @@ def nominal_variants(result: BatchResult, scale: np.ndarray) -> BatchResult:
     system = result.system
     if result.factors is not None or result.size != 1:
         raise SolveError("variants are made of a nominal batch (one sample, nominal parts)")
-    if scale.ndim != 2 or scale.shape[1] != len(system.elements):
+    if scale.ndim != 2 or scale.shape[1] not in (len(system.elements), system.factor_count):
         raise SolveError(f"scale must be (variants, elements) = (k, {len(system.elements)}), "
-                         f"got {scale.shape}")
-    count = scale.shape[0]
-    problem = _kept(system, problem_for(system, scale))
+                         f"or with a column per pot's upper leg ({system.factor_count}), got "
+                         f"{scale.shape}")
+    count, factors = scale.shape[0], system.full_factors(scale)
+    problem = _kept(system, problem_for(system, factors))
     vstar = None if result.vstar is None else [np.repeat(v, count, axis=0) for v in result.vstar]
     return BatchResult(system.layout, np.repeat(result.x, count, axis=0),
-                       _device_params(problem, count), scale, system, problem, vstar)
+                       _device_params(problem, count), factors, system, problem, vstar)
 
 
 def _kept(system: System, problem: Problem) -> Problem:
