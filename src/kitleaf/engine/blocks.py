@@ -38,7 +38,8 @@ from kitleaf.engine.deflate import eig_split
 from kitleaf.engine.joint_lu import JointLu
 from kitleaf.engine.poles import evaluate
 from kitleaf.engine.ports import BACKWARD, backward_error
-from kitleaf.engine.sparse_ac import SparseAc
+from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
+from kitleaf.engine.sparse_stack import block_lu
 
 # Where each block's modal form is checked: the corner search's whole reach, a point a
 # decade (pole-residue forms checked at 1 kHz alone missed poles far above it).
@@ -172,8 +173,8 @@ def block_form(sparse: SparseAc, part: Split, b: int, caps: tuple, rhs: np.ndarr
                   rhs[rows])
     form = _FORMS.get(key)
     if form is None:
-        g_bb, g_bj, g_jb = (_dense(piece) for piece in pieces)
-        form = _block_form(rows, ports, g_bb, g_bj, g_jb, a_b, a_j, d, rhs[rows])
+        form = _block_form(rows, ports, pieces[0], _dense(pieces[1]), _dense(pieces[2]), a_b,
+                           a_j, d, rhs[rows])
         _FORMS[key] = form
     return form
 
@@ -196,12 +197,12 @@ def _digest(*arrays: np.ndarray) -> bytes:
 
 
 def _block_form(rows, ports, g_bb, g_bj, g_jb, a_b, a_j, d, rhs_b) -> BlockForm:
-    """The forms of a block from its G blocks, its capacitances (incidence on its rows and
-    joints, values) and its own excitation ``rhs_b``."""
-    k, samples = ports.size, g_bb.shape[0]
+    """The forms of a block from its G blocks (G_BB as one of :func:`_g_pieces`), its
+    capacitances (incidence on its rows and joints, values) and its own excitation ``rhs_b``."""
+    k, samples = ports.size, g_bj.shape[0]
     inputs = np.concatenate([np.broadcast_to(rhs_b[None, :, None], (samples, rows.size, 1)),
                              -g_bj, np.broadcast_to(a_b, (samples, *a_b.shape))], axis=2)
-    solved = np.linalg.solve(g_bb, inputs)
+    solved = _solve_block(g_bb, inputs)
     x0, w = solved[:, :, :1 + k], solved[:, :, 1 + k:]
     pick = np.concatenate([np.zeros((k, 1)), np.eye(k)], axis=1)
     dm = d[:, :, None] * (a_b.T @ w)
@@ -256,6 +257,20 @@ def _g_pieces(sparse: SparseAc, rows: np.ndarray, joints: np.ndarray) -> list[tu
         hit = np.flatnonzero((r_map[sparse.rows] >= 0) & (c_map[sparse.cols] >= 0))
         out.append((shape, r_map[sparse.rows[hit]], c_map[sparse.cols[hit]], sparse.g[:, hit]))
     return out
+
+
+def _solve_block(piece: tuple, inputs: np.ndarray) -> np.ndarray:
+    """G_BB^-1 ``inputs`` (samples, r, columns), G_BB given as one of :func:`_g_pieces`: a
+    block of SPARSE_SIZE rows or more (a long ladder inside one stage) by SuperLU on its
+    entries, never as r x r per sample, whose size and LU grew with the square and the cube
+    of the block."""
+    size = piece[0][0]
+    if size < SPARSE_SIZE:
+        return np.linalg.solve(_dense(piece), inputs)
+    _, r, c, values = piece
+    samples = inputs.shape[0]
+    lu = block_lu(np.broadcast_to(values, (samples, values.shape[1])), r, c, size)
+    return lu.solve(inputs.reshape(samples * size, -1)).reshape(inputs.shape)
 
 
 def _dense(piece: tuple) -> np.ndarray:
