@@ -69,6 +69,8 @@ def _setting(s: DriveSetting) -> dict:
     return {"knobs": {name: pos for name, pos in s.positions}, "computed": not s.error,
             "reason": s.error or None,
             "clean_limit_v_peak": _num(s.clean_limit), "driven_limit_v_peak": _num(s.driven_limit),
+            "clean_limit_below_v_peak": _num(s.clean_below),
+            "driven_limit_below_v_peak": _num(s.driven_below),
             "thd_percent": [_num(x * 100, 4) for x in s.thd],
             "output_peak_v": [_num(x, 4) for x in s.peak],
             "at_levels": [{"level_v_peak": _num(p.level), "thd_percent": _num(p.thd * 100, 4),

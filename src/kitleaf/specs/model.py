@@ -164,7 +164,9 @@ class DriveSetting:
     """Large-signal figures at one knob setting (``positions`` empty: every knob at half).
 
     ``clean_limit`` and ``driven_limit`` are the pickup peak levels where THD first reaches
-    1 % and 10 % going up (None: not within the sweep); ``thd`` and ``peak`` follow
+    1 % and 10 % going up (None: not within the sweep); where THD is past the mark already
+    at the lowest level solved, that level is ``clean_below`` or ``driven_below`` instead
+    (the limit lies below it); ``thd`` and ``peak`` follow
     ``Drive.levels``; ``swing_up`` and ``swing_down`` are (volts, the part that sets them)
     above and below the output's mean at the top level, None while the output is still
     clean there. ``error`` says why the figures were not computed (then all are empty)."""
@@ -178,6 +180,8 @@ class DriveSetting:
     swing_up: tuple[float, str] | None = None
     swing_down: tuple[float, str] | None = None
     error: str = ""
+    clean_below: float | None = None
+    driven_below: float | None = None
 
 
 @dataclass(frozen=True)
