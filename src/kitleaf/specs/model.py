@@ -215,6 +215,16 @@ class Drive:
 
 
 @dataclass(frozen=True)
+class ToneDrives:
+    """The large-signal figures at a test tone a claim sets (specs/claim_tone.py): the
+    kit's, and each signal stage's by its id; nominal parts, no tolerance band."""
+
+    freq: float
+    kit: Drive
+    stages: tuple[tuple[str, Drive], ...]
+
+
+@dataclass(frozen=True)
 class StageSpecs:
     """What one stage does, measured in the chain it sits in (loaded by the stage after it)."""
 
@@ -285,6 +295,8 @@ class KitSpecs:
     samples: int = 0
     seed: int = 0
     drive: Drive | None = None
+    # The large-signal figures at each test tone the claims set, for those claims alone.
+    claim_tones: tuple[ToneDrives, ...] = ()
     # The gain (nominal parts) with the knobs together at the ends of their travel:
     # specs/knob_ends.py says which combinations.
     knob_ends: tuple[KnobPoint, ...] = ()
