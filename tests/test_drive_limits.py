@@ -159,8 +159,8 @@ class TestDiodeClipper:
         assert tolerance["thd_percent"]["low"][-1] == pytest.approx(
             specs.drive.band.thd_low[-1] * 100, rel=1e-3)
         thd, peak = drive_picture(specs).panels
-        assert thd.band == (specs.drive.band.thd_low, specs.drive.band.thd_high)
-        assert peak.band == (specs.drive.band.peak_low, specs.drive.band.peak_high)
+        assert thd.bands == ((specs.drive.band.thd_low, specs.drive.band.thd_high),)
+        assert peak.bands == ((specs.drive.band.peak_low, specs.drive.band.peak_high),)
 
 
 def early_clipper(gain_resistor: str) -> str:

@@ -205,7 +205,7 @@ class Driven:
         self.found = {} if self.result is None else drive_limits(
             self.states, self.result, wanted, plan)
         self.bands = {} if self.result is None or not bands else drive_bands(
-            solved.base, sorted({node for _, node in wanted}), plan)
+            self.states, sorted({node for _, node in wanted}), plan)
 
     def _wanted(self) -> set[tuple[int, str]]:
         """(state index, node) of every setting the stages and the kit show."""
@@ -237,20 +237,18 @@ class Driven:
         kit = self.solved.kit
         controls = [c for c in kit.controls if c.stage_id == stage.id]
         node = kit.stage_nodes(stage.id)[1]
-        drive = stage_drive(self.result, self.why, self._settings(controls), node,
-                            self._devices([stage]), self.solved.base.circuit, self.found,
-                            self.plan)
-        return replace(drive, band=self.bands.get(node))
+        return stage_drive(self.result, self.why, self._settings(controls), node,
+                           self._devices([stage]), self.solved.base.circuit, self.found,
+                           self.plan, self.bands)
 
     def kit(self) -> Drive:
         kit = self.solved.kit
         settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
-                            self.solved.base.circuit, self.found, self.plan)
+                            self.solved.base.circuit, self.found, self.plan, self.bands)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
-        return replace(drive, rails=rail_touches(self.result, settings, opamps),
-                       band=self.bands.get(OUTPUT))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps))
 
 
 def stated_ripple(guide: Guide) -> tuple[float, float] | None:

@@ -22,7 +22,7 @@ from kitleaf.errors import KitleafError
 from kitleaf.guide.kit_lines import PLAYING_VOLTS, playing_levels, test_tone
 from kitleaf.guide.model import KitBlock
 from kitleaf.specs.drive_limits import first_bracket, refine
-from kitleaf.specs.model import Drive, DrivePoint, DriveSetting
+from kitleaf.specs.model import Drive, DriveBand, DrivePoint, DriveSetting
 
 # Pickup peak levels of the sweep (volts), whatever the playing levels: 300 mV and 1 V are
 # the design rules' own (clips-when-clean, opamp-rail). The playing levels by default: 100 mV,
@@ -173,9 +173,11 @@ def _thd_at(states, requests: list[tuple[tuple, float]], freq: float) -> list[fl
 
 
 def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
-            devices: tuple, circuit, found: dict, playing: tuple[float, ...]) -> DriveSetting:
+            devices: tuple, circuit, found: dict, playing: tuple[float, ...],
+            band: DriveBand | None = None) -> DriveSetting:
     """The figures at ``node`` of knob setting ``index`` of ``result``; ``found`` holds the
-    1 % and 10 % levels (see :func:`limits`), ``playing`` the levels of its points."""
+    1 % and 10 % levels (see :func:`limits`), ``playing`` the levels of its points, ``band``
+    the setting's tolerance spread."""
     ok = result.converged[index, :, 0]
     if not ok.all():
         level = float(result.levels[int(np.flatnonzero(~ok)[0])])
@@ -192,7 +194,7 @@ def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
         _limit(found[(index, node, t)]) for t in (CLEAN_THD, DRIVEN_THD))
     return DriveSetting(positions, clean, driven, points, tuple(float(x) for x in thd),
                         tuple(float(x) for x in peak), up, down, clean_below=clean_below,
-                        driven_below=driven_below)
+                        driven_below=driven_below, band=band)
 
 
 def _limit(found: float | Below | None) -> tuple[float | None, float | None]:
@@ -269,14 +271,17 @@ LIMITS = {el.Bjt: _bjt, el.Jfet: _jfet, el.OpAmp: _opamp, el.Diode: _diode}
 
 
 def stage_drive(result: PeriodicResult | None, why: str, indices: list[tuple[int, tuple]],
-                node: str, devices: tuple, circuit, found: dict, plan: DrivePlan) -> Drive:
+                node: str, devices: tuple, circuit, found: dict, plan: DrivePlan,
+                bands: dict | None = None) -> Drive:
     """A stage's (or the kit's, at OUTPUT) figures at each of its knob settings; ``found``
-    holds their 1 % and 10 % levels (see :func:`limits`)."""
+    holds their 1 % and 10 % levels (see :func:`limits`), ``bands`` their tolerance spreads
+    by (state index, node)."""
+    bands = bands or {}
     if result is None:
         settings = tuple(DriveSetting(p, error=why) for _, p in indices)
     else:
-        settings = tuple(setting(result, i, p, node, devices, circuit, found, plan.playing)
-                         for i, p in indices)
+        settings = tuple(setting(result, i, p, node, devices, circuit, found, plan.playing,
+                                 bands.get((i, node))) for i, p in indices)
     return Drive(plan.levels, settings, plan.freq)
 
 

@@ -77,7 +77,8 @@ def _setting(s: DriveSetting) -> dict:
                            "output_peak_v": _num(p.peak, 4),
                            "harmonics_v_peak": [_num(a, 4) for a in p.harmonics]}
                           for p in s.points],
-            "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down)}
+            "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down),
+            "tolerance": _drive_band(s.band)}
 
 
 def _dbv(r: Range | None) -> dict | None:

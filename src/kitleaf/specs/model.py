@@ -160,6 +160,19 @@ class DrivePoint:
 
 
 @dataclass(frozen=True)
+class DriveBand:
+    """The spread of the large-signal figures over part-tolerance samples at one knob
+    setting: 5th and 95th percentiles of THD and of the output's peak at each sweep level,
+    over the ``samples`` builds whose periodic solve settled (specs/drive_band.py)."""
+
+    samples: int
+    thd_low: tuple[float, ...]
+    thd_high: tuple[float, ...]
+    peak_low: tuple[float, ...]
+    peak_high: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class DriveSetting:
     """Large-signal figures at one knob setting (``positions`` empty: every knob at half).
 
@@ -182,19 +195,7 @@ class DriveSetting:
     error: str = ""
     clean_below: float | None = None
     driven_below: float | None = None
-
-
-@dataclass(frozen=True)
-class DriveBand:
-    """The spread of the large-signal figures over part-tolerance samples, knobs at half
-    way: 5th and 95th percentiles of THD and of the output's peak at each sweep level, over
-    the ``samples`` builds whose periodic solve settled."""
-
-    samples: int
-    thd_low: tuple[float, ...]
-    thd_high: tuple[float, ...]
-    peak_low: tuple[float, ...]
-    peak_high: tuple[float, ...]
+    band: DriveBand | None = None  # the tolerance spread (None: not computed)
 
 
 @dataclass(frozen=True)
@@ -206,12 +207,14 @@ class Drive:
     freq: float = 1000.0
     # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
     rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
-    # the tolerance spread, knobs at half way (None when it could not be computed)
-    band: DriveBand | None = None
-
     @property
     def base(self) -> DriveSetting:
         return self.settings[0]
+
+    @property
+    def band(self) -> DriveBand | None:
+        """The tolerance spread with the knobs at half way (None: not computed)."""
+        return self.base.band
 
 
 @dataclass(frozen=True)
