@@ -52,9 +52,11 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     slug = guide.slug
     checks = verify(guide, kit, specs, solved)  # a broken claim stops the guide here
     files, assets = stage_files(cache, kit, specs, slug, checks.orientations)
-    overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
-                          lambda: render_overview_svg(kit, headline_by_stage(specs)))
-    files[f"{slug}/overview.svg"] = overview
+    headline = headline_by_stage(specs)
+    for name, narrow in (("overview", False), ("overview-narrow", True)):
+        files[f"{slug}/{name}.svg"] = cached_svg(
+            cache, name, (kit, headline),
+            lambda narrow=narrow: render_overview_svg(kit, headline, narrow=narrow))
     files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
     drive_files = drive_pictures(cache, specs, slug, files)
     harness = build_harness(guide, kit)
