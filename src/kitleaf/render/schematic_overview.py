@@ -1,9 +1,10 @@
 """The kit at a glance: signal stages as blocks in chain order, the power section feeding them.
 
-Blocks run left to right, :data:`PER_ROW` to a row (one to a row in the narrow drawing a phone
-shows), the signal going up and over to the next row. Below each row a supply bus (the rails the stages use: VCC, V2, VREF, VEE) drops a stub
-into every stage that draws on the power section; the buses join on a trunk at the far left
-and come down into the power block under the last row. Drawn on a
+Blocks run left to right, :data:`PER_ROW` to a row (one to a row in the narrow drawing a
+phone shows), the signal going up and over to the next row. Below each row a supply bus (the
+rails the stages use: VCC, V2, VREF, VEE) drops a stub into every stage that draws on the power
+section; the buses join on a trunk at the far left and come down into the power block under
+the last row. Drawn on a
 :class:`~kitleaf.render.schematic.SchematicSheet`.
 """
 
