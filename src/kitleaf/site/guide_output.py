@@ -18,7 +18,7 @@ from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.harness import build_harness
 from kitleaf.faults.report import unsolved_text
 from kitleaf.faults.solve import solve_faults
-from kitleaf.faults.symptoms import page_data, symptom_rows
+from kitleaf.faults.symptoms import everywhere_faults, page_data, symptom_rows
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.pages import Card, render_page
@@ -151,7 +151,8 @@ def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
 
     def solve() -> dict:
         readings = solve_faults(kit)
-        return {"rows": symptom_rows(readings), "data": page_data(readings),
+        rows = symptom_rows(readings)
+        return {"rows": rows, "everywhere": everywhere_faults(rows), "data": page_data(readings),
                 "unsolved": unsolved_text(readings) if readings.unsolved else ""}
 
     found = cache.load("symptoms", key)
