@@ -37,7 +37,12 @@ def in_figures(plot: ResponsePlot) -> tuple[ResponsePlot, ...]:
 
 
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
-    corners = () if specs.unstable else _corners(specs.low_corner_hz, specs.high_corner_hz)
+    if specs.unstable:
+        corners = ()
+    elif not specs.passband:  # a tone control in the chain: mark its scoop, as its stage's
+        corners = _scoop(specs.scoop)
+    else:
+        corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
     return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
                         specs.freqs,
                         _panels(specs.curves, specs.band_low, specs.band_high, corners))
