@@ -247,6 +247,21 @@ def test_the_narrow_overview_puts_one_block_to_a_row():
     assert max(b[2] for b in narrow) < max(b[2] for b in wide)
 
 
+def test_the_narrow_overview_puts_the_blocks_off_the_signal_path_under_the_power_block():
+    # the demo op-amp boost's unused op-amp half: beside the power block it widened the phone's
+    # drawing by half
+    from kitleaf.circuit.build import build_circuit
+    from kitleaf.guide import parse_guide
+
+    heron = build_circuit(parse_guide(Path(__file__).parents[1] / "guides"
+                                      / "heron-opamp-boost.md"))
+    blocks = rects(render_overview_svg(heron, {}, narrow=True))
+    assert len(blocks) == len(heron.stages)
+    assert len({round(b[0], 3) for b in blocks}) == 1  # one column, the power block's too
+    assert not any(a[1] < b[3] and b[1] < a[3] for i, a in enumerate(blocks)
+                   for b in blocks[i + 1:])
+
+
 def test_overview_keeps_the_power_block_close():
     svg = render_overview_svg(make_kit(EVERY_KIND[0], EVERY_KIND[1]), {})
     (chain, power) = rects(svg)

@@ -53,21 +53,29 @@ def draw_overview(sheet: SchematicSheet, kit, headline: Mapping[str, str],
     power = next((s for s in kit.stages if kit.kind(s).provides_power), None)
     if power is not None:
         _draw_power(sheet, kit, power, headline, blocks, rows)
-    _draw_off_path(sheet, kit, headline, blocks, power)
+    _draw_off_path(sheet, kit, headline, blocks, power, stacked=per_row == 1)
 
 
 def _draw_off_path(sheet: SchematicSheet, kit, headline, blocks: Sequence[_Block],
-                   power) -> None:
+                   power, stacked: bool) -> None:
     """Stages off the signal path besides the power section (an op-amp's unused half), in a
-    row beside it: they draw current but pass no signal."""
+    row beside it (``stacked``: one under another, below it): they draw current but pass no
+    signal."""
     others = [s for s in kit.stages if not kit.kind(s).signal and s is not power]
     last_bus = blocks[-1].corner[1] - BUS_DROP if blocks else 0.0
-    x = LEFT + (_width([_lines(power, headline)]) + GAP if power is not None else 0.0)
+    x, y = LEFT, last_bus - FEED - POWER_HEIGHT
+    if power is not None and stacked:
+        y -= POWER_HEIGHT + GAP / 2
+    elif power is not None:
+        x += _width([_lines(power, headline)]) + GAP
     for stage in others:
         lines = _lines(stage, headline)
         width = _width([lines])
-        sheet.block((x, last_bus - FEED - POWER_HEIGHT), width, POWER_HEIGHT, lines)
-        x += width + GAP
+        sheet.block((x, y), width, POWER_HEIGHT, lines)
+        if stacked:
+            y -= POWER_HEIGHT + GAP / 2
+        else:
+            x += width + GAP
 
 
 def _lines(stage, headline: Mapping[str, str]) -> tuple[str, ...]:
