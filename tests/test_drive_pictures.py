@@ -25,15 +25,15 @@ from kitleaf.specs.derive import derive_specs
 SVG = "{http://www.w3.org/2000/svg}"
 ALDER = Path(__file__).resolve().parents[1] / "guides" / "alder-drive.md"
 LEVELS = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
-# A crowded drive curve: five knob positions and the band, labels as long as a knob's name
+# A crowded drive curve: five knob positions and their bands, labels as long as a knob's name
 # makes them; the numbers only shape the lines (a layout check, no circuit behind it).
 CROWDED = DrivePicture("Fernbrook Test Drive: distortion and output against the pickup level", (
     CurvePanel("THD, Presence Boost knob turned, Level at 50 %", "thd",
                tuple((f"Presence Boost {p} %", tuple(0.001 * (1 + k) * 10 ** i
                                                        for i in range(len(LEVELS))))
                      for k, p in enumerate((0, 25, 50, 75, 100))),
-               (tuple(0.0009 * 10 ** i for i in range(6)), tuple(0.004 * 10 ** i
-                                                                 for i in range(6)))),
+               tuple((tuple(0.0009 * (1 + k) * 10 ** i for i in range(6)),
+                      tuple(0.004 * (1 + k) * 10 ** i for i in range(6))) for k in range(5))),
     CurvePanel("Output peak, Clip switch set, knobs at half way", "volts",
                tuple((f"Clip: {name}", tuple(0.5 + 0.1 * k for _ in LEVELS))
                      for k, name in enumerate(("silicon", "open", "LEDs"))))), LEVELS)
@@ -58,6 +58,18 @@ def test_every_legend_sits_outside_the_frames(picture):
     assert len(frames) == len(picture.panels) and legends
     for y in legends:
         assert not any(top <= y <= bottom for top, bottom in frames), y
+
+
+def test_a_line_far_below_the_rest_is_named_and_leaves_them_their_room():
+    # a volume turned to 0 % puts its output microvolts low; the axis keeps three decades
+    quiet = DrivePicture("Fernbrook Test Drive: output", (CurvePanel(
+        "Output peak, Level knob turned", "volts",
+        (("Level 0 %", tuple(2e-6 for _ in LEVELS)), ("Level 50 %", tuple(0.2 for _ in LEVELS)),
+         ("Level 100 %", tuple(0.8 for _ in LEVELS)))),), LEVELS)
+    texts = [t.text for t in ElementTree.fromstring(render_drive_svg(quiet).encode()).iter(
+        f"{SVG}text")]
+    assert "Level 0 % (below the plot)" in texts and "Level 50 %" in texts
+    assert {"1 mV", "1 V"} <= set(texts) and not {"1 µV", "100 µV"} & set(texts)
 
 
 # Every text's box and every panel frame, as laid out on the screen.
