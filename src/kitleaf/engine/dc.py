@@ -56,10 +56,11 @@ class OperatingPoint:
 
 
 def problem_for(system: System, factors: np.ndarray | None = None,
-                banks: list | None = None) -> Problem:
+                banks: list | None = None, sparse: bool = True) -> Problem:
     """The DC problem of ``system``, optionally with per-sample part factors and device banks.
-    A large circuit's samples get a sparse G (see :mod:`~kitleaf.engine.sparse_stack`)."""
-    large = factors is not None and system.layout.size >= SPARSE_SIZE
+    A large circuit's samples get a sparse G (see :mod:`~kitleaf.engine.sparse_stack`) unless
+    ``sparse`` is False."""
+    large = sparse and factors is not None and system.layout.size >= SPARSE_SIZE
     g = system.sparse_conductances(factors) if large else system.conductances(factors)
     devices = system.devices if banks is None else system.devices.with_banks(banks)
     return Problem(g, system.rhs(), devices, len(system.layout.nodes))

@@ -197,16 +197,20 @@ def draw_problem(system: System, samples: int | None, seed: int, distribution: s
     the parts stay nominal and only ``scale`` changes them."""
     if samples is None:
         return problem_for(system), None, {}
-    if not spread:
+    if not spread:  # parts changed by ``scale`` alone: the reduced Newton, as below
         factors = system.full_factors(np.ones((samples, len(system.elements)))
                                       if scale is None else scale)
-        return problem_for(system, factors), factors, {}
+        return problem_for(system, factors, sparse=False), factors, {}
     rng = np.random.default_rng(seed)
     factors = system.full_factors(part_factors(system, rng, samples, distribution))
     if scale is not None:
         factors = factors * system.full_factors(scale)
     draws: dict = {}
-    problem = problem_for(system, factors, device_banks(system, rng, samples, draws))
+    # parts changed by ``scale`` (a fault's board: parts opened, shorted, reversed) take the
+    # reduced Newton: the sparse one, on the whole system, left a kit's faults that float a
+    # node behind 10 Mohm or more without an operating point
+    problem = problem_for(system, factors, device_banks(system, rng, samples, draws),
+                          sparse=scale is None)
     return problem, factors, draws
 
 

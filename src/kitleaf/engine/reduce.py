@@ -192,8 +192,11 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     circuits it cannot reduce) take the full solver with its fallbacks. Returns the
     reduction (None when there was none), whose elimination the AC response reuses.
     Without ``currents`` the fixing sources' branch currents are left NaN (see expand)."""
-    if part is None or not problem.devices.banks or isinstance(problem.g, SparseStack):
-        solve_state(problem, state)  # a sparse G is solved whole: its Schur complement fills
+    if part is None or not problem.devices.banks:
+        solve_state(problem, state)
+        return None
+    if isinstance(problem.g, SparseStack):  # solved whole: its Schur complement would fill
+        _retry_unsettled(problem, state, newton(problem, state))
         return None
     try:
         red = reduce_problem(problem, part)
@@ -205,8 +208,15 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     sub = State(state.x[:, part.keep], state.vstar, state.iterations, state.fresh, chord)
     ok = newton(red.problem, sub)
     state.x, state.vstar, state.fresh = red.expand(sub.x, problem, currents), sub.vstar, False
+    _retry_unsettled(problem, state, ok)
+    return red
+
+
+def _retry_unsettled(problem: Problem, state: State, ok: np.ndarray) -> None:
+    """The samples Newton did not settle from the shared start, solved afresh from the
+    devices' own first guesses, with the full solver's fallbacks."""
     if ok.all():
-        return red
+        return
     bad = np.flatnonzero(~ok)
     alone = problem.take(bad)  # the unsettled samples' own parts and device parameters
     retry = initial_state(alone, bad.size)
@@ -214,4 +224,3 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     state.x[bad] = retry.x
     for whole, v in zip(state.vstar, retry.vstar, strict=True):
         whole[bad] = v
-    return red
