@@ -60,6 +60,19 @@ class TestSmallSignalLimit:
         assert full_scale > 0.1  # the loud case really played
 
 
+def test_every_tolerance_sample_is_a_member_stepped_as_if_alone():
+    # a batch's samples are members, in order, each from its own operating point with its own
+    # parts: played together or one by one, the same waves (common practice, no source)
+    batch = solve_batch(ls.common_emitter(), samples=3)
+    signal = tone(0.3, 0.002)
+    together = transient_response([batch], "VIN", signal, RATE, 2, ["out"]).wave("out")
+    assert together.shape == (3, signal.size)
+    for i in range(3):
+        alone = transient_response([batch.take(np.array([i]))], "VIN", signal, RATE, 2, ["out"])
+        np.testing.assert_allclose(together[i], alone.wave("out")[0], rtol=0, atol=1e-12)
+    assert np.ptp(together[:, -1]) > 1e-4  # the samples really differ
+
+
 @pytest.mark.slow
 def test_a_steady_clipped_sine_has_the_periodic_solves_thd():
     # the periodic solve (shooting, checked against ngspice in test_periodic.py) and the

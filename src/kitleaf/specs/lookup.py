@@ -202,22 +202,31 @@ _LEVEL_NAME = re.compile(r"(?:^|\.)(?:thd|peak)\.([^.]*)")
 _LEVEL_WORD = re.compile(r"^([-+]?\d+(?:\.\d*)?(?:e[-+]?\d+)?)(mv|v)$")
 
 
-def _level_problem(values: Mapping[str, Computed], name: str) -> str:
-    """Why a THD or peak name at a pickup level has no value: the level cannot be
-    simulated, the kit does not play it, or it has no large-signal figures."""
+def named_level(name: str) -> tuple[str, float] | None:
+    """The pickup level a THD or peak name is at, as written and in volts:
+    ``kit.thd.300mv`` -> ("300mv", 0.3); None for another name."""
     found = _LEVEL_NAME.search(name.strip().lower())
     word = _LEVEL_WORD.match(found[1]) if found else None
     if word is None:
+        return None
+    return found[1], float(word[1]) * (1e-3 if word[2] == "mv" else 1.0)
+
+
+def _level_problem(values: Mapping[str, Computed], name: str) -> str:
+    """Why a THD or peak name at a pickup level has no value: the level cannot be
+    simulated, the kit does not play it, or it has no large-signal figures."""
+    level = named_level(name)
+    if level is None:
         return ""
-    volts = float(word[1]) * (1e-3 if word[2] == "mv" else 1.0)
+    word, volts = level
     low, high = PLAYING_VOLTS
     if not low <= volts <= high:
-        return (f": {found[1]} is no pickup level that can be simulated (levels run from "
+        return (f": {word} is no pickup level that can be simulated (levels run from "
                 f"{format_value(low, 'voltage')} to {format_value(high, 'voltage')} peak)")
     if not any(".thd." in n for n in values):
         return (": large-signal figures are computed only for a kit whose kit block says "
                 "'large-signal: yes'")
-    return (f": {found[1]} is not one of the kit's playing levels; list it in the kit "
+    return (f": {word} is not one of the kit's playing levels; list it in the kit "
             "block's 'playing-levels:' line")
 
 
