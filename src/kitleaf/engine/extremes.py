@@ -19,15 +19,14 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from kitleaf.engine.reduced_shooting import Start
-from kitleaf.engine.reduced_steps import RELTOL, VNTOL, Members, StepState, bdf2
+from kitleaf.engine.reduced_steps import RELTOL, VNTOL, Members, StepState
 from kitleaf.engine.transient import SampledMembers, run_steps
 
-SHARP = 0.05
+SHARP = 0.1
 BEFORE, AFTER = 3, 2  # coarse steps stepped again before and after an extreme
 FIRST, FINEST = 4, 64  # the finer steps' first and last factor
 PEAK_TOL = 5e-3  # of the wave's half swing: two factors' extremes agree within it
@@ -97,16 +96,17 @@ def _windows(waves: np.ndarray, marked: np.ndarray) -> _Windows:
     return _Windows(starts[0], starts[1])
 
 
-def resolve(mem: Members, last: Start, waves: np.ndarray,
-            finer: Callable[[int], Members]) -> Extremes:
-    """The extremes of the periodic ``waves`` (members, rows, N) at t = 0, h, ..., which
-    the members ``mem`` stepped in their last pass from ``last`` (reduced_shooting.Shot);
-    ``finer(factor)`` builds the same members at ``factor`` times finer steps."""
+def resolve(waves: np.ndarray, history: tuple[np.ndarray, np.ndarray],
+            finer: Callable[[int, np.ndarray], Members]) -> Extremes:
+    """The extremes of the periodic ``waves`` (members, rows, N) at t = 0, h, ...; the
+    last pass's ports and kept unknowns at steps 1 .. N, (N, members, m) and (N, members,
+    t) (``with_ports``, reduced_shooting.Shot's ``last.trail``), are where the stretches
+    start; ``finer(factor, idx)`` builds the members ``idx`` at ``factor`` times finer
+    steps."""
     marked = sharp(waves)
     if not marked.any():
         return sampled(waves)
     windows = _windows(waves, marked)
-    history = _history(mem, last, waves.shape[-1])
     # a move within this is settled: the share of the swing, and Newton's own tolerance
     allowed = PEAK_TOL * np.ptp(waves, axis=-1) / 2.0 + 10.0 * (
         RELTOL * np.abs(waves).max(axis=-1) + VNTOL)
@@ -114,7 +114,8 @@ def resolve(mem: Members, last: Start, waves: np.ndarray,
     going, factor, before = np.ones(windows.member.size, bool), FIRST, None
     while True:
         idx = np.flatnonzero(going)
-        tops[idx], bottoms[idx] = _stepped_again(finer(factor), history, windows.take(idx),
+        here = windows.take(idx)
+        tops[idx], bottoms[idx] = _stepped_again(finer(factor, here.member), history, here,
                                                  factor)
         now = _joined(waves, windows, tops, bottoms)
         if before is not None:
@@ -142,36 +143,26 @@ def _joined(waves: np.ndarray, windows: _Windows, tops: np.ndarray,
     return Extremes(top, bottom, ~np.isfinite(top).all(axis=1))
 
 
-def _history(mem: Members, last: Start, steps: int) -> tuple[np.ndarray, np.ndarray]:
-    """The ports and the kept unknowns at steps 1 .. N of the last pass ((N, B, m) and
-    (N, B, t); the N-th is t = 0 again): the ports rebuilt from the points as each step
-    made them, q = Q x + y(t) - K u with u = d (c1 q_n + c2 q_n-1)."""
+def with_ports(mem: Members) -> Members:
+    """``mem`` with its ports kept after its waves: each step's q = Q x + y(t) - K u is a
+    kept wave's linear form, so the steps give the ports' history the stretches start from."""
     lin = mem.linear
-    h = 2.0 * math.pi / mem.omega / steps
-    _, c1, c2 = bdf2(h)
-    m = lin.d.shape[1]
-    newest, older = last.q[:, :m], last.q[:, m:]
-    ports = []
-    for k in range(1, steps + 1):
-        u = lin.d * (c1 * newest + c2 * older)
-        a = mem.drive(k * h)[:, None]
-        new = (np.einsum("bmt,bt->bm", lin.q_mat, last.trail[k - 1]) + lin.y[:, 0]
-               + a * lin.y[:, 1] - np.einsum("bmj,bj->bm", lin.k_mat, u))
-        ports.append(new)
-        newest, older = new, newest
-    return np.stack(ports), last.trail
+    return replace(mem, linear=replace(
+        lin, out_t=np.concatenate([lin.out_t, lin.q_mat], axis=1),
+        out=np.concatenate([lin.out, lin.y], axis=2),
+        out_u=np.concatenate([lin.out_u, lin.k_mat], axis=1)))
 
 
-def _stepped_again(fine: Members, history: tuple[np.ndarray, np.ndarray], windows: _Windows,
+def _stepped_again(mem: Members, history: tuple[np.ndarray, np.ndarray], windows: _Windows,
                    factor: int) -> tuple[np.ndarray, np.ndarray]:
     """Each stretch's highest and lowest values (stretches, rows) at ``factor`` times finer
-    steps (NaN where they failed). A stretch starts from its first coarse point, the one
-    finer step before it taken along BDF2's slope there (the port values' history)."""
+    steps (NaN where they failed), ``mem`` being their members at those steps. A stretch
+    starts from its first coarse point, the one finer step before it taken along BDF2's
+    slope there (the history the finer formula reads)."""
     ports, points = history
     steps = ports.shape[0]
-    h = 2.0 * math.pi / fine.omega / steps
+    h = 2.0 * math.pi / mem.omega / steps
     fine_h = h / factor
-    mem = fine.take(windows.member)
     q, x = (_start(a, windows, steps, fine_h / h) for a in (ports, points))
     span = (BEFORE + AFTER) * factor
     times = windows.first[:, None] * h + fine_h * np.arange(-1, span + 1)

@@ -19,11 +19,18 @@ import numpy as np
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.batch import BatchResult
-from kitleaf.engine.extremes import Extremes, resolve, sampled
+from kitleaf.engine.extremes import FINEST, Extremes, resolve, sampled, with_ports
 from kitleaf.engine.harmonics import Distortion, distortion
 from kitleaf.engine.newton import extend
 from kitleaf.engine.reduce import partition
-from kitleaf.engine.reduced_shooting import member_levels, members, shoot, start_at
+from kitleaf.engine.reduced_shooting import (
+    linear_at,
+    member_levels,
+    member_order,
+    members,
+    shoot,
+    start_at,
+)
 from kitleaf.engine.reduced_steps import Members
 from kitleaf.engine.stepper import Drive, History, advance
 from kitleaf.errors import SolveError
@@ -168,6 +175,10 @@ def _solve(batches: Sequence[BatchResult], source: str, levels: np.ndarray, freq
         waves[rough], ok[rough], reasons[rough] = fine[..., ::REFINE], ok_fine, why
         passes = max(passes, more)
         found = found.put(rough, fine_extremes(np.arange(rough.size)))
+    # a peak still moving at the finest steps is not given as if it were known
+    ok &= ~found.unresolved
+    reasons[found.unresolved] = (f"the output's peak did not settle with steps {FINEST} "
+                                 f"times finer around it")
     return waves, ok, reasons, passes, (rough, fine), found
 
 
@@ -200,8 +211,10 @@ def _solve_at(batches: Sequence[BatchResult], source: str, levels: np.ndarray, f
     # a member gone to NaN or infinity is flagged unsettled by its steps and solved again
     # below; its numbers must not stop the batch on the way
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-        shot = shoot(mem, start, len(rows), points)
-    waves = np.concatenate([shot.waves[..., -1:], shot.waves[..., :-1]], axis=-1)
+        shot = shoot(with_ports(mem), start, len(rows) + start.q.shape[1] // 2, points)
+    history = np.moveaxis(shot.waves[:, len(rows):], -1, 0), shot.last.trail
+    waves = np.concatenate([shot.waves[:, :len(rows), -1:], shot.waves[:, :len(rows), :-1]],
+                           axis=-1)
     ok = shot.done.copy()
     reasons = np.full(ok.size, "", dtype=object)
     redo = np.flatnonzero(~ok)
@@ -215,12 +228,14 @@ def _solve_at(batches: Sequence[BatchResult], source: str, levels: np.ndarray, f
         if not mine.size:
             return found
         sub = idx[mine]
+        circuits = member_order(len(batches), levels.shape[-1], batches[0].size)[index[sub]]
 
-        def finer(factor: int) -> Members:
-            return members(batches, source, levels, omega, rows, points * factor)[0].take(
-                index[sub])
+        def finer(factor: int, which: np.ndarray) -> Members:
+            h = 2.0 * math.pi / omega / (points * factor)
+            return replace(mem.take(sub[which]),
+                           linear=linear_at(batches, source, rows, h, circuits[which]))
 
-        return found.put(mine, resolve(mem.take(sub), shot.last.take(sub), waves[sub], finer))
+        return found.put(mine, resolve(waves[sub], tuple(a[:, sub] for a in history), finer))
 
     return waves, ok, reasons.astype(str), shot.passes, extremes_of
 
