@@ -108,6 +108,22 @@ class TestFailure:
         assert res.where[0] in {"in", "a", "b", "out"}
         assert np.isnan(res.wave("out")[0, -10:]).all()
 
+    def test_once_every_member_failed_the_steps_stop(self, monkeypatch):
+        # the failed members' waves are cut at their failure: stepping on would waste time
+        monkeypatch.setattr(transient_module, "_compiled", lambda mem: None)
+        monkeypatch.setattr("kitleaf.engine.reduced_steps.MAX_NEWTON", 1)
+        monkeypatch.setattr("kitleaf.engine.reduced_steps.RETRY_NEWTON", 1)
+        steps = []
+        real_step = transient_module.step
+        monkeypatch.setattr(transient_module, "step",
+                            lambda *args, **kwargs: steps.append(1) or real_step(*args, **kwargs))
+        signal = np.concatenate([np.zeros(48), tone(1.0, 1.0)])
+        res = transient_response([solve_batch(ls.diodes_to_ground())], "VIN", signal, RATE,
+                                 OVERSAMPLE, ["out"])
+        assert not res.converged[0] and res.failed_at[0] < 0.002
+        assert np.isnan(res.wave("out")[0, -10:]).all()
+        assert len(steps) < 0.01 * signal.size * OVERSAMPLE  # not the second of signal
+
     def test_a_signal_that_is_not_finite_is_refused(self):
         with pytest.raises(SolveError, match="finite"):
             transient_response([solve_batch(ls.diodes_to_ground())], "VIN",

@@ -26,7 +26,9 @@ from kitleaf.engine.reduced_shooting import members
 from kitleaf.engine.reduced_steps import Members, StepState, outputs, step
 from kitleaf.errors import SolveError
 
-CHUNK_S = 0.05  # seconds of signal per run of steps: a failure is found within one
+# seconds of signal per run of steps: a failure is found within one (by the numpy steps, run
+# again up to it), and each run costs the packing of the members for the compiled steps
+CHUNK_S = 0.25
 MAX_RATE = 10e6  # steps per second; past this no audio question is asked
 
 
@@ -137,6 +139,8 @@ def _run(mem: SampledMembers, st: StepState, x_dc: np.ndarray, first: BatchResul
                                first)
             failed_at[b], where[b] = k * h, node
             waves[b, :, k:] = np.nan
+        if not np.isnan(failed_at).any():
+            break  # every member failed: the rest of their waves is NaN already
     return waves - dc[:, :, None], failed_at, where
 
 
@@ -147,6 +151,9 @@ def run_steps(mem: SampledMembers, st: StepState, begin: int, stop: int, h: floa
         return compiled.run(mem, st, mem.signal[:, begin:stop], h, None, keep=False)[0]
     found = []
     for k in range(begin, stop):
+        if st.failed.all():  # nothing left to step: the failed members' waves are cut anyway
+            found.extend([np.full(mem.linear.out_t.shape[:2], np.nan)] * (stop - k))
+            break
         u = step(mem, st, k * h, h)
         found.append(outputs(mem, st.x_t[0], u, k * h))
     return np.stack(found, axis=2)
