@@ -73,27 +73,29 @@ class _Windows:
     """The stretches stepped again: each one's member and first coarse step."""
 
     member: np.ndarray
+    row: np.ndarray
     first: np.ndarray
 
     def take(self, idx: np.ndarray) -> _Windows:
-        return _Windows(self.member[idx], self.first[idx])
+        return _Windows(self.member[idx], self.row[idx], self.first[idx])
 
-    def covered(self, members: int, points: int) -> np.ndarray:
-        """(members, points): the coarse samples a stretch steps again (its first is its
-        start, not stepped again)."""
-        mask = np.zeros((members, points), bool)
+    def covered(self, shape: tuple) -> np.ndarray:
+        """(members, rows, points): the coarse samples a stretch steps again for its row
+        (its first is its start, not stepped again)."""
+        mask = np.zeros(shape, bool)
         for span in range(1, BEFORE + AFTER + 1):
-            mask[self.member, (self.first + span) % points] = True
+            mask[self.member, self.row, (self.first + span) % shape[-1]] = True
         return mask
 
 
 def _windows(waves: np.ndarray, marked: np.ndarray) -> _Windows:
-    """One stretch around every marked extreme; extremes of several rows at one instant
-    share it."""
+    """One stretch around every marked extreme, each row's its own (a row's extremes do not
+    depend on which other rows are kept)."""
     where = np.stack([np.argmax(waves, axis=-1), np.argmin(waves, axis=-1)], axis=-1)
-    member, _, _ = np.nonzero(marked)
-    starts = np.unique(np.stack([member, (where[marked] - BEFORE) % waves.shape[-1]]), axis=1)
-    return _Windows(starts[0], starts[1])
+    member, row, _ = np.nonzero(marked)
+    starts = np.unique(np.stack([member, row, (where[marked] - BEFORE) % waves.shape[-1]]),
+                       axis=1)
+    return _Windows(*starts)
 
 
 def resolve(waves: np.ndarray, history: tuple[np.ndarray, np.ndarray],
@@ -110,7 +112,7 @@ def resolve(waves: np.ndarray, history: tuple[np.ndarray, np.ndarray],
     # a move within this is settled: the share of the swing, and Newton's own tolerance
     allowed = PEAK_TOL * np.ptp(waves, axis=-1) / 2.0 + 10.0 * (
         RELTOL * np.abs(waves).max(axis=-1) + VNTOL)
-    tops, bottoms = np.zeros((2, windows.member.size, waves.shape[1]))
+    tops, bottoms = np.zeros((2, windows.member.size))
     going, factor, before = np.ones(windows.member.size, bool), FIRST, None
     while True:
         idx = np.flatnonzero(going)
@@ -120,7 +122,7 @@ def resolve(waves: np.ndarray, history: tuple[np.ndarray, np.ndarray],
         now = _joined(waves, windows, tops, bottoms)
         if before is not None:
             moved = np.maximum(np.abs(now.top - before.top), np.abs(now.bottom - before.bottom))
-            going &= np.any(~(moved <= allowed), axis=1)[windows.member]
+            going &= ~(moved <= allowed)[windows.member, windows.row]
         if not going.any() or factor >= FINEST:
             break
         before, factor = now, 2 * factor
@@ -133,13 +135,13 @@ def _joined(waves: np.ndarray, windows: _Windows, tops: np.ndarray,
             bottoms: np.ndarray) -> Extremes:
     """The members' extremes: the stretches' own, and the samples they did not step again
     (a stretch whose finer steps failed keeps its samples)."""
-    stepped = np.isfinite(tops).all(axis=1) & np.isfinite(bottoms).all(axis=1)
+    stepped = np.isfinite(tops) & np.isfinite(bottoms)
     kept = windows.take(np.flatnonzero(stepped))
-    covered = kept.covered(*waves.shape[::2])[:, None, :]
+    covered = kept.covered(waves.shape)
     top = np.where(covered, -np.inf, waves).max(axis=-1)
     bottom = np.where(covered, np.inf, waves).min(axis=-1)
-    np.maximum.at(top, kept.member, tops[stepped])
-    np.minimum.at(bottom, kept.member, bottoms[stepped])
+    np.maximum.at(top, (kept.member, kept.row), tops[stepped])
+    np.minimum.at(bottom, (kept.member, kept.row), bottoms[stepped])
     return Extremes(top, bottom, ~np.isfinite(top).all(axis=1))
 
 
@@ -176,7 +178,8 @@ def _stepped_again(mem: Members, history: tuple[np.ndarray, np.ndarray], windows
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
         waves = run_steps(sampled_mem, st, 2, span + 2, fine_h)
     waves[st.failed] = np.nan
-    return waves.max(axis=-1), waves.min(axis=-1)
+    own = waves[np.arange(windows.row.size), windows.row]
+    return own.max(axis=-1), own.min(axis=-1)
 
 
 def _start(values: np.ndarray, windows: _Windows, steps: int, share: float) -> list:
