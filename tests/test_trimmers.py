@@ -203,6 +203,77 @@ def test_a_custom_stage_takes_a_trimmer_on_two_or_three_nodes():
         assert dc_at(kit, "core.c") == pytest.approx(4.5, abs=2e-3), nodes
 
 
+def divider_kit(trimmer: str = "TR1 B20k"):
+    """A JFET follower biased from a trimmer's wiper: R1 10k from the supply to the track's
+    ccw end, TR1 B20k to ground, the gate fed from the wiper through 1M (invented)."""
+    block = stage_block("core", "custom", "nodes: t w g s", "part: R1 10k @ vcc t",
+                        f"part: {trimmer} @ t w 0", "part: R2 1M @ w g", "part: C1 1u @ in g",
+                        "part: Q1 J201 @ vcc g s", "part: R3 47k @ s 0",
+                        "part: C2 1u @ s out", "test-point: bias = w",
+                        "trim: TR1 sets w to 4.5 V")
+    return kit_of(block, stage_block("level", "volume", "volume: VR1 B100k"))
+
+
+class TestDividerInCustomStage:
+    """A trimmer wired as a divider is re-set in each tolerance build, as one in a
+    resistor's place is."""
+
+    @staticmethod
+    def hand_position(r1: np.ndarray, track: np.ndarray) -> np.ndarray:
+        # Unloaded divider (the gate draws picoamperes): the track's top reads
+        # 9 V * track / (R1 + track), and the wiper 4.5 V with the share 4.5 V / top below
+        # it; a linear track turns clockwise away from the top (divider formula,
+        # Horowitz & Hill, The Art of Electronics, 1.2.3).
+        top = 9.0 * track / (r1 + track)
+        return 1.0 - 4.5 / top
+
+    def test_the_nominal_position_is_the_divider_formula(self):
+        _, kit = divider_kit()
+        # 9 V * 20k / 30k = 6 V at the top; 4.5 / 6 below the wiper: position 0.25
+        assert dict(kit.presets)["TR1"] == pytest.approx(
+            self.hand_position(np.array(10e3), np.array(20e3)), abs=2e-4)
+
+    def test_each_build_is_trimmed_and_the_position_spreads(self):
+        from kitleaf.specs.trim import trimmed_positions
+
+        _, kit = divider_kit()
+        trimmed = KitState(kit, kit.rest_positions())
+        wiper = trimmed.samples.batch.voltage("core.w")
+        # a divider's wiper voltage is linear in a linear track's position, so the builds'
+        # positions read between grid points are exact: the spread collapses to the solver's
+        assert np.max(np.abs(wiper - 4.5)) < 1e-6
+        untrimmed = KitState(kit, kit.rest_positions(), trims={}).samples.batch
+        spread = np.percentile(untrimmed.voltage("core.w"), [5, 95])
+        assert spread[1] - spread[0] > 0.3  # what trimming takes out
+        positions = trimmed_positions(kit)["TR1"]
+        wanted = self.hand_position(10e3 * untrimmed.factor("R1"),
+                                    20e3 * untrimmed.factor("TR1"))
+        assert positions == pytest.approx(wanted, abs=1e-6)
+        assert np.ptp(positions) > 0.05
+
+    def test_the_page_ranges_are_those_of_trimmed_builds(self):
+        parsed, kit = divider_kit()
+        specs = derive_specs(parsed, kit)
+        bias = next(v for v in specs.stage("core").voltages if v.label == "bias")
+        assert (bias.volts.low, bias.volts.high) == pytest.approx((4.5, 4.5), abs=1e-6)
+        trim = specs.trims[0]
+        assert trim.position.low < trim.position.nominal < trim.position.high
+
+    def test_the_trimmers_power_in_the_builds_is_the_whole_tracks(self):
+        # The wiper carries no current, so wherever each build sets it the track dissipates
+        # top**2 / track (Ohm's law); rated 3.7 mW (1.85 mW derated, common practice, no
+        # source) the nominal 1.8 mW passes and the builds' 95th percentile does not.
+        from kitleaf.specs.claims import verify
+
+        parsed, kit = divider_kit("TR1 B20k 3.7mW")
+        stress = verify(parsed, kit, derive_specs(parsed, kit)).stresses["TR1"]
+        drawn = KitState(kit, kit.rest_positions(), trims={}).samples.batch
+        r1, track = 10e3 * drawn.factor("R1"), 20e3 * drawn.factor("TR1")
+        watts = (9.0 * track / (r1 + track)) ** 2 / track
+        assert stress.bound == "up to "
+        assert stress.value == pytest.approx(np.percentile(watts, 95.0), rel=1e-3)
+
+
 def test_a_trimmer_that_runs_out_of_travel_in_some_builds_is_a_finding():
     # A J201's drain current spreads widely (its data sheet's IDSS range, from memory): with
     # a 25k drain trimmer some builds cannot reach 4.5 V at all

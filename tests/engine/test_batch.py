@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 
 from kitleaf.engine import Circuit, monte_carlo, solve_ac, solve_batch, solve_dc
+from kitleaf.engine.elements import upper_leg_columns
 from kitleaf.errors import SolveError
 
 from . import reference_circuits as rc
@@ -197,6 +198,23 @@ class TestScaledSamples:
         ohms = batch.dc_resistance([("m", "0"), ("a", "m")], np.array([0, 1]))
         # 10k || 10k = 5k to ground; across R1 with the source shorted: 10k || 10k (Ohm's law)
         np.testing.assert_allclose(ohms, [[5e3, 5e3], [5e3, 5e3]], rtol=1e-9)
+
+    def test_a_pots_legs_scaled_apart_move_its_wiper(self):
+        # a 20k linear pot at 1/4 (5k below the wiper, 15k above): scaling the lower leg
+        # by 3 and the upper by 1/3 puts 15k below and 5k above, the wiper at 3/4
+        c = Circuit().vsource("V1", "a", "0", dc=8.0)
+        c.pot("P1", "0", "w", "a", 20e3, position=0.25, tol=0.2)
+        upper = upper_leg_columns(c.elements)["P1"]
+        assert upper == len(c.elements)  # one column past the elements per pot
+        scale = np.ones((2, upper + 1))
+        scale[1, 1], scale[1, upper] = 3.0, 1.0 / 3.0
+        batch = solve_batch(c, samples=2, scale=scale, spread=False)
+        # unloaded divider: 8 V x lower / (lower + upper) (textbook)
+        np.testing.assert_allclose(batch.voltage("w"), [2.0, 6.0], rtol=1e-9)
+        drawn = solve_batch(c, samples=50, seed=3)
+        # drawn alike, the legs scale the whole track and the wiper stays
+        np.testing.assert_array_equal(drawn.factors[:, 1], drawn.factors[:, upper])
+        np.testing.assert_allclose(drawn.voltage("w"), 2.0, rtol=1e-9)
 
     def test_a_scale_of_the_wrong_shape_is_refused(self):
         with pytest.raises(SolveError):

@@ -54,6 +54,17 @@ def stage_block(stage_id: str, kind: str, *lines: str) -> str:
     return "\n".join([f"```stage {stage_id}", f"kind: {kind}", *lines, "```", ""])
 
 
+# A soft-clipping drive with quick coupling (a few milliseconds, so that ngspice's transient
+# settles), its clipping parts to be added after the pulldown; with a silicon pair, the
+# clipped wave the tone stages' large-signal checks are fed.
+QUICK_DRIVE = stage_block("drive", "opamp-soft-clip", "input-cap: C1 22n film",
+                          "bias: R1 100k", "opamp: U1A TL072", "feedback: R2 10k",
+                          "gain: VR1 B100k", "gain-resistor: R3 1k", "gain-cap: C2 1u film",
+                          "output-cap: C3 100n", "pulldown: R5 100k")
+CLIPPED_DRIVE = QUICK_DRIVE.replace("pulldown: R5 100k", "pulldown: R5 100k\n"
+                                    "clip-positive: D1 1N4148\nclip-negative: D2 1N4148")
+
+
 def make_kit(*blocks: str, **kit) -> KitCircuit:
     return build_circuit(parse_guide("test.md", guide_text(*blocks, **kit)))
 

@@ -17,15 +17,22 @@ from pathlib import Path
 import numpy as np
 import pytest
 from tests.engine.large_signal_circuits import SETTLE_S
-from tests.engine.ngspice_run import half_power_corners, operating_point, require_ngspice, run
+from tests.engine.ngspice_run import (
+    ac_sweep,
+    half_power_corners,
+    operating_point,
+    require_ngspice,
+    run,
+)
 from tests.engine.ngspice_tran import periodic_wave
 
-from kitleaf.circuit.chain import GROUND, SOURCE, KitCircuit, input_meter
+from kitleaf.circuit.chain import GROUND, OUTPUT, SOURCE, KitCircuit, input_meter
 from kitleaf.engine import solve_batch
 from kitleaf.engine.harmonics import distortion
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.engine.spice_export import to_spice
-from kitleaf.specs.model import KitSpecs, StageSpecs
+from kitleaf.specs.measures import SUPPLY as SUPPLY_SOURCE
+from kitleaf.specs.model import KitSpecs, KnobPoint, StageSpecs
 from kitleaf.specs.solve import nominal_positions
 
 REF_HZ = 1000.0
@@ -53,20 +60,50 @@ def check_voltages(kit: KitCircuit, stage: StageSpecs) -> None:
 def check_knob_points(kit: KitCircuit, stage: StageSpecs) -> None:
     """Gain, input and output impedance at every knob step and switch position (or once,
     with neither)."""
-    # each control's setting as a point names it (a knob's rotation, a switch's position name)
-    settings = {c.name: (c.designator, {shown: value for value, shown in c.steps})
-                for c in kit.controls}
     points = stage.knob_sweep or (None,)
     for point in points:
-        positions = nominal_positions(kit)
-        for name, shown in point.positions if point is not None else ():
-            positions[settings[name][0]] = settings[name][1][shown]
+        positions = point_positions(kit, point)
         gain_db, z_in, z_out = one_khz(kit, stage.id, positions)
         figures = point or stage
         # ngspice oracle: gain within 0.1 dB, impedances within 2 %
         assert figures.gain_db.nominal == pytest.approx(gain_db, abs=0.1), positions
         assert figures.input_impedance.nominal == pytest.approx(z_in, rel=0.02), positions
         assert figures.output_impedance.nominal == pytest.approx(z_out, rel=0.02), positions
+
+
+def point_positions(kit: KitCircuit, point: KnobPoint | None) -> dict[str, float]:
+    """Every knob and switch of ``kit`` at ``point``'s setting (None: where they rest)."""
+    # each control's setting as a point names it (a knob's rotation, a switch's position name)
+    settings = {c.name: (c.designator, {shown: value for value, shown in c.steps})
+                for c in kit.controls}
+    positions = nominal_positions(kit)
+    for name, shown in point.positions if point is not None else ():
+        positions[settings[name][0]] = settings[name][1][shown]
+    return positions
+
+
+# The adapter of the hum checks (a kit block line), an invented figure.
+RIPPLE = "adapter-ripple: 100 mV at 120 Hz"
+
+
+def check_hum(kit: KitCircuit, specs: KitSpecs) -> None:
+    """The hum at the output with the controls where they rest and at every knob step and
+    switch position: ngspice's response at the ripple's frequency from the supply alone,
+    times the ripple taken as a sine (RMS: peak to peak over 2 sqrt 2)."""
+    require_ngspice()
+    volts_pp, hz = specs.ripple
+    for point in (None, *specs.knob_sweep):
+        circuit = kit.netlist(point_positions(kit, point))
+        alone = circuit.replaced(SOURCE, ac=0.0).replaced(SUPPLY_SOURCE, ac=1.0)
+        freqs, found = ac_sweep(alone, SUPPLY_SOURCE, [OUTPUT], hz, 10 * hz, per_decade=1)
+        assert freqs[0] == pytest.approx(hz)
+        expected = abs(found[OUTPUT][0]) * volts_pp / (2 * np.sqrt(2))
+        figure = (specs.hum if point is None else point.hum).nominal
+        # ngspice oracle: within 0.1 dB, as the gain (nothing where no path carries it)
+        if expected < 1e-12:
+            assert figure < 1e-12, (point, figure)
+        else:
+            assert 20 * abs(np.log10(figure / expected)) < 0.1, (point, figure, expected)
 
 
 def one_khz(kit: KitCircuit, stage_id: str, positions: dict[str, float]

@@ -16,7 +16,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_large_signal, check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.engine import solve_batch, solve_dc
 from kitleaf.engine.periodic import periodic_steady_state
@@ -114,8 +114,10 @@ class TestBadInput:
 @pytest.mark.parametrize("pair", ["2N5088", "2N3906"])
 def test_every_figure_agrees_with_ngspice(pair):
     block = fuzz(pair, *BYPASSED, "volume: VR2 A500k")
-    kit, specs = specs_of(POWER, block, knobs=("Fuzz = VR1", "Level = VR2"), source="pickup")
+    kit, specs = specs_of(POWER, block, knobs=("Fuzz = VR1", "Level = VR2"), source="pickup",
+                          lines=(RIPPLE,))
     check_stage(kit, specs, "fuzz")
+    check_hum(kit, specs)
 
 
 def quick(pair: str):

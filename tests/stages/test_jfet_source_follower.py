@@ -14,7 +14,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.engine import solve_dc
 from kitleaf.errors import CircuitError
@@ -110,5 +110,19 @@ class TestBadInput:
 ], ids=["self-biased", "divider-volume", "p-channel"])
 def test_every_figure_agrees_with_ngspice(transistor, extra):
     knobs = ("Level = VR1",) if any(e.startswith("volume") for e in extra) else ()
-    kit, specs = specs_of(POWER, follower(transistor, *extra), knobs=knobs, source="pickup")
+    kit, specs = specs_of(POWER, follower(transistor, *extra), knobs=knobs, source="pickup",
+                          lines=(RIPPLE,))
     check_stage(kit, specs, "buf")
+    check_hum(kit, specs)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("transistor, extra", [
+    ("Q1 J201", ()), ("Q1 2N5457", DIVIDER), ("Q1 2N5460", DIVIDER),
+], ids=["self-biased", "divider", "p-channel"])
+def test_playing_levels_agree_with_ngspice(transistor, extra):
+    # 300 mV and 1 V peak, two of the playing levels; the self-biased J201's source sits
+    # near ground, so 1 V cuts it off on the downswing. The output cap is 100 nF, for
+    # ngspice's transient to settle within its run.
+    block = follower(transistor, *extra).replace("C2 10u", "C2 100n")
+    check_large_signal(make_kit(POWER, block, load="100k"), {}, "output", (0.3, 1.0))

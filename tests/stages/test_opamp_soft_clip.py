@@ -8,6 +8,7 @@ import pytest
 from tests.engine.ngspice_tran import periodic_wave
 from tests.stages.kits import (
     POWER,
+    QUICK_DRIVE,
     dc_at,
     gain_at,
     guide_text,
@@ -16,7 +17,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_large_signal, check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.engine import solve_batch
 from kitleaf.engine.harmonics import distortion
@@ -128,15 +129,11 @@ class TestBadInput:
 ], ids=["series-resistor", "asymmetric-led"])
 def test_every_figure_agrees_with_ngspice(clip):
     block = drive("gain: VR1 A500k", "feedback-cap: C4 100p", "volume: VR2 A100k", clip=clip)
-    kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"))
+    kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"), lines=(RIPPLE,))
     check_stage(kit, specs, "drive")
+    check_hum(kit, specs)
 
 
-# Quick coupling (a few milliseconds) so that ngspice's transient settles.
-QUICK = stage_block("drive", "opamp-soft-clip", "input-cap: C1 22n film", "bias: R1 100k",
-                    "opamp: U1A TL072", "feedback: R2 10k", "gain: VR1 B100k",
-                    "gain-resistor: R3 1k", "gain-cap: C2 1u film", "output-cap: C3 100n",
-                    "pulldown: R5 100k")
 
 
 @pytest.mark.slow
@@ -146,7 +143,7 @@ QUICK = stage_block("drive", "opamp-soft-clip", "input-cap: C1 22n film", "bias:
      "clip-negative: LED1 red"),
 ], ids=["silicon-pair", "series-resistor-asymmetric"])
 def test_clipping_agrees_with_ngspice(clip):
-    block = QUICK.replace("pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *clip)))
+    block = QUICK_DRIVE.replace("pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *clip)))
     kit = make_kit(POWER, block, load="100k")
     for position in (0.0, 1.0):
         check_large_signal(kit, {"VR1": position}, "drive.o", (0.05, 0.5))
@@ -227,9 +224,10 @@ class TestSwitchedPair:
 def test_every_switch_position_agrees_with_ngspice():
     block = switched("SP3T", "feedback-cap: C4 100p", "volume: VR2 A100k")
     kit, specs = specs_of(POWER, block, knobs=("Drive = VR1", "Level = VR2"),
-                          lines=(SWITCH_LINE["SP3T"],))
+                          lines=(SWITCH_LINE["SP3T"], RIPPLE))
     check_stage(kit, specs, "drive")
-    kit = make_kit(POWER, QUICK.replace("pulldown: R5 100k", "\n".join((
+    check_hum(kit, specs)
+    kit = make_kit(POWER, QUICK_DRIVE.replace("pulldown: R5 100k", "\n".join((
         "pulldown: R5 100k", *DIODES, "clip-switch: S1 SP3T", "alt-positive: LED1 red",
         "alt-negative: LED2 red"))), load="100k", lines=(SWITCH_LINE["SP3T"],))
     # the LEDs' position (the silicon pair is checked above); with no pair the op-amp
@@ -246,7 +244,7 @@ def test_clipping_at_the_rails_is_symmetric_as_ngspice_settles_to():
     kohm = 11 ms. ngspice's transient keeps a leftover of that start, and with it even
     harmonics near -50 dBc, until it has run several such time constants; settled, both
     agree (the 1 uF leg of the other checks would need over a second of transient)."""
-    block = QUICK.replace("gain-cap: C2 1u film", "gain-cap: C2 100n film").replace(
+    block = QUICK_DRIVE.replace("gain-cap: C2 1u film", "gain-cap: C2 100n film").replace(
         "pulldown: R5 100k", "\n".join(("pulldown: R5 100k", *DIODES, "clip-switch: S1 SP3T",
                                         "alt-positive: LED1 red", "alt-negative: LED2 red")))
     kit = make_kit(POWER, block, load="100k", lines=(SWITCH_LINE["SP3T"],))

@@ -14,7 +14,7 @@ from tests.stages.kits import (
     specs_of,
     stage_block,
 )
-from tests.stages.spice_oracle import check_stage
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal, check_stage
 
 from kitleaf.errors import CircuitError
 
@@ -110,5 +110,19 @@ class TestBadInput:
 @pytest.mark.parametrize("lines", [OPAMP, TRANSISTOR, ("follower: Q1 2N3906",) + TRANSISTOR[1:]],
                          ids=["opamp", "npn", "pnp"])
 def test_every_figure_agrees_with_ngspice(lines):
-    kit, specs = specs_of(POWER, buffer(*lines), load="10k")
+    kit, specs = specs_of(POWER, buffer(*lines), load="10k", lines=(RIPPLE,))
     check_stage(kit, specs, "out")
+    check_hum(kit, specs)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("lines, levels", [
+    (OPAMP, (0.3, 1.0, 4.0)), (TRANSISTOR, (0.3, 1.0, 2.0)),
+    (("follower: Q1 2N3906",) + TRANSISTOR[1:], (0.3, 1.0, 2.0)),
+], ids=["opamp", "npn", "pnp"])
+def test_playing_levels_agree_with_ngspice(lines, levels):
+    # two playing levels and the top of the sweep; the op-amp follower stays clean there,
+    # so it is also driven to 4 V peak, past the TL072's swing on 9 V. The output cap is
+    # 100 nF, for ngspice's transient to settle within its run.
+    kit = make_kit(POWER, buffer(*lines).replace("C2 10u", "C2 100n"), load="10k")
+    check_large_signal(kit, {}, "output", levels)

@@ -6,8 +6,16 @@ import itertools
 
 import numpy as np
 import pytest
-from tests.stages.kits import POWER, guide_text, make_kit, response, stage_block
+from tests.stages.kits import (
+    CLIPPED_DRIVE,
+    POWER,
+    guide_text,
+    make_kit,
+    response,
+    stage_block,
+)
 from tests.stages.spice_check import check_corners, check_knob_steps, check_scoops
+from tests.stages.spice_oracle import RIPPLE, check_hum, check_large_signal
 from tests.test_specs_figures import specs_of
 
 from kitleaf.errors import CircuitError
@@ -159,6 +167,16 @@ def test_gain_and_impedances_at_every_knob_step_agree_with_ngspice():
 
 
 @pytest.mark.slow
+def test_the_hum_behind_a_drive_at_every_knob_step_agrees_with_ngspice():
+    # alone, a passive stack has no path from the supply; behind a drive it shapes the
+    # ripple the drive's reference carries
+    kit, specs = specs_of(POWER, CLIPPED_DRIVE, FERN_STACK, knobs=("Drive = VR1", *FERN_KNOBS),
+                          load="1M", lines=(RIPPLE,))
+    assert specs.hum.nominal > 1e-6
+    check_hum(kit, specs)
+
+
+@pytest.mark.slow
 def test_corners_agree_with_ngspice():
     kit, specs = specs_of(POWER, FERN_STACK, knobs=FERN_KNOBS, source="4k7")
     check_corners(kit, specs.stage("tone"))
@@ -189,3 +207,21 @@ def test_its_table_gives_the_mid_scoop_in_place_of_corners():
     assert "Low corner (−3 dB)" in rows.render(sp=specs.stage("boost"), specs=specs)
     text = specs_to_text(specs).split("stage tone")[1]
     assert "mid scoop" in text and "low corner" not in text and "corners          none" in text
+
+
+# The engine's fixed steps (96 a period, 192 where a wave turns sharp corners) cannot
+# follow the spike a hard-clipped edge leaves through a treble or high-pass path (some 10 us
+# wide): its harmonics and THD agree with ngspice, but the output peak comes out low. With
+# finer steps it converges on ngspice's (the full-treble stack at 300 mV: 0.5272 V at 96
+# steps, 0.5585 V from ngspice).
+@pytest.mark.slow
+@pytest.mark.parametrize("setting", [0.0, 0.5, pytest.param(1.0, marks=pytest.mark.xfail(
+    strict=True, reason="output peak 0.3756 V against ngspice's 0.4168 V at 100 mV (-9.9 %)"
+                        ", 0.5272 V against 0.5585 V at 300 mV (-5.6 %)"))])
+def test_a_clipped_wave_through_the_stack_agrees_with_ngspice(setting):
+    # A passive stack adds no harmonics of its own: fed by a clipping drive at full gain,
+    # each knob setting weighs the drive's harmonics its own way (treble and mid with the
+    # setting, bass against it). Two of the playing levels, 100 and 300 mV peak.
+    kit = make_kit(POWER, CLIPPED_DRIVE, FERN_STACK, load="100k")
+    positions = {"VR1": 1.0, "VR3": setting, "VR4": 1.0 - setting, "VR5": setting}
+    check_large_signal(kit, positions, "output", (0.1, 0.3))

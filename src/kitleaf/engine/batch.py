@@ -38,7 +38,8 @@ class BatchResult:
     layout: Layout
     x: np.ndarray = field(repr=False)
     params: dict = field(repr=False)  # device name -> {parameter: (samples,) array}
-    factors: np.ndarray | None = field(repr=False)  # (samples, parts) or None (nominal)
+    # (samples, parts and pots' upper legs) or None (nominal); see System.full_factors
+    factors: np.ndarray | None = field(repr=False)
     system: System = field(repr=False, compare=False)
     # the DC problem; a large batch keeps it without G (see ``problem``)
     stored: Problem = field(repr=False, compare=False)
@@ -98,6 +99,16 @@ class BatchResult:
         if self.factors is None:
             return np.ones(self.size)
         return self.factors[:, names.index(name)].copy()
+
+    def leg_factors(self, name: str) -> tuple[np.ndarray, np.ndarray]:
+        """Pot ``name``'s multipliers per sample: its lower leg's (ccw to wiper), which
+        :meth:`factor` gives, and its upper leg's (alike unless its wiper moved)."""
+        uppers = self.system.stamper.upper_legs
+        if name not in uppers:
+            raise SolveError(f"no pot named {name!r} in the circuit")
+        if self.factors is None:
+            return np.ones(self.size), np.ones(self.size)
+        return self.factor(name), self.factors[:, uppers[name]].copy()
 
     def excitation(self, source: str, amplitude: float = 1.0) -> np.ndarray:
         """The right-hand side (n,) with ``source`` alone at ``amplitude``."""
@@ -218,7 +229,9 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
                 spread: bool = True) -> BatchResult:
     """The circuit's nominal operating point (``samples`` None: a batch of one) or
     ``samples`` seeded variants within part tolerances and device spreads; ``scale``
-    (samples, elements) multiplies each sample's drawn part values (1 leaves a part alone),
+    (samples, elements) multiplies each sample's drawn part values (1 leaves a part alone;
+    with a further column per pot, :func:`~kitleaf.engine.elements.upper_leg_columns`,
+    a pot's two legs apart, which moves its wiper),
     and without ``spread`` the samples are the nominal parts changed by ``scale`` alone.
 
     Newton starts every sample at the nominal operating point, or at ``start`` (samples, n):
@@ -234,9 +247,12 @@ def solve_batch(circuit, samples: int | None = None, seed: int = 1,
         if distribution not in DISTRIBUTIONS or samples < 1:
             raise SolveError(f"a batch needs samples >= 1 and a distribution in "
                              f"{DISTRIBUTIONS}")
-        if scale is not None and scale.shape != (samples, len(system.elements)):
+        if scale is not None and (scale.ndim != 2 or scale.shape[0] != samples
+                                  or scale.shape[1] not in (len(system.elements),
+                                                            system.factor_count)):
             raise SolveError(f"scale must be (samples, elements) = ({samples}, "
-                             f"{len(system.elements)}), got {scale.shape}")
+                             f"{len(system.elements)}), or with a column per pot's upper leg "
+                             f"({system.factor_count}), got {scale.shape}")
         problem, factors, _ = draw_problem(system, samples, seed, distribution, scale, spread)
         state = _started(system, problem, samples, start, nominal)
         reduced = solve_reduced(problem, state, partition(system))

@@ -42,8 +42,10 @@ class Layout:
 class Stamper:
     """Collects linear stamps (G, C, source vector) while elements compile."""
 
-    def __init__(self, layout: Layout, owners: dict[str, int]) -> None:
+    def __init__(self, layout: Layout, owners: dict[str, int],
+                 upper_legs: dict[str, int] | None = None) -> None:
         self.layout, self.owners = layout, owners
+        self.upper_legs = upper_legs or {}  # pot -> its upper leg's factor column
         size = layout.size
         self.g_cols, self.g_pat = Columns(), Pattern(size)
         self.c_cols, self.c_pat = Columns(), Pattern(size)
@@ -51,10 +53,13 @@ class Stamper:
         self.b_cols, self.b_pat = Columns(), VectorPattern(size)
         self.source_cols: dict[str, int] = {}
 
-    def conductance(self, owner: str | None, a: int, b: int, siemens: float) -> None:
-        """A resistor; with an owner, its value scales with the owner's tolerance factor."""
+    def conductance(self, owner: str | None, a: int, b: int, siemens: float,
+                    column: int | None = None) -> None:
+        """A resistor; with an owner, its value scales with the owner's tolerance factor (or
+        with factor ``column``, a pot's upper leg)."""
         power = -1 if owner else 0
-        col = self.g_cols.add(siemens, self.owners.get(owner, -1), power)
+        col = self.g_cols.add(siemens, self.owners.get(owner, -1) if column is None else column,
+                              power)
         self.g_pat.conductance(col, a, b)
 
     def transconductance(self, src: int, dst: int, cp: int, cn: int, siemens: float) -> None:
@@ -109,6 +114,22 @@ class System:
     def stamp_maps(self) -> tuple[StampMap, StampMap]:
         """G's and C's stamp maps, from value columns to the flattened n x n matrices."""
         return self._patterns[0], self._patterns[1]
+
+    @property
+    def factor_count(self) -> int:
+        """Columns of a batch's part factors: one per element, then one per pot's upper leg."""
+        return len(self.elements) + len(self.stamper.upper_legs)
+
+    def full_factors(self, factors: np.ndarray) -> np.ndarray:
+        """``factors`` with a column per pot's upper leg: given one per element, each pot's
+        upper leg takes its own column (the whole track scaled alike)."""
+        if factors.shape[1] == self.factor_count:
+            return factors
+        if factors.shape[1] != len(self.elements):
+            raise SolveError(f"part factors need {len(self.elements)} or {self.factor_count} "
+                             f"columns (elements, then pots' upper legs), got {factors.shape[1]}")
+        pots = [self.owners[name] for name in self.stamper.upper_legs]
+        return np.concatenate([factors, factors[:, pots]], axis=1)
 
     def matrices(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """Batched linear G and C, shape (samples, n, n); ``factors`` scales toleranced parts."""
@@ -175,7 +196,7 @@ def _compile(circuit, elements: tuple) -> System:
     check_topology(elements)
     layout = _layout(circuit, elements)
     owners = {e.name: i for i, e in enumerate(elements)}
-    stamper = Stamper(layout, owners)
+    stamper = Stamper(layout, owners, el.upper_leg_columns(elements))
     for element in elements:
         _LINEAR.get(type(element), _skip)(stamper, element)
     families = [fam.build([e for e in elements if isinstance(e, fam.element_type)], stamper)
@@ -206,7 +227,7 @@ def _pot(st: Stamper, e: el.Pot) -> None:
     lower, upper = e.legs()
     row = st.layout.row
     st.conductance(e.name, row(e.ccw), row(e.w), 1.0 / lower)
-    st.conductance(e.name, row(e.w), row(e.cw), 1.0 / upper)
+    st.conductance(e.name, row(e.w), row(e.cw), 1.0 / upper, column=st.upper_legs[e.name])
 
 
 def _capacitor(st: Stamper, e: el.Capacitor) -> None:

@@ -167,6 +167,15 @@ Element = (
 )
 
 
+def upper_leg_columns(elements) -> dict[str, int]:
+    """Each pot's second column of a tolerance batch's part factors: after one column per
+    element, one per pot in the circuit's order. A pot's own column scales its lower leg (ccw
+    to wiper) and this one its upper leg (wiper to cw): drawn alike, they scale the track;
+    apart, they move the wiper (a trimmer each build sets where it needs)."""
+    pots = [e.name for e in elements if isinstance(e, Pot)]
+    return {name: len(elements) + k for k, name in enumerate(pots)}
+
+
 def terminals(element: Element) -> tuple[str, ...]:
     """The element's nodes in declaration order."""
     names = _TERMINALS[type(element)]

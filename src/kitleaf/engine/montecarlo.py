@@ -190,18 +190,20 @@ def monte_carlo(circuit, samples: int = 1000, seed: int = 1, freqs: Sequence[flo
 def draw_problem(system: System, samples: int | None, seed: int, distribution: str,
                  scale: np.ndarray | None = None, spread: bool = True):
     """The DC problem of ``samples`` seeded draws (None: the nominal parts), with the part
-    factors (None when nominal) and the drawn device parameters; ``scale`` (samples,
-    elements) multiplies the drawn factors (a part changed in some samples); without
-    ``spread`` the parts stay nominal and only ``scale`` changes them."""
+    factors (None when nominal; a column per element, then one per pot's upper leg) and the
+    drawn device parameters; ``scale`` (samples, elements), or with the upper legs' columns
+    too, multiplies the drawn factors (a part changed in some samples); without ``spread``
+    the parts stay nominal and only ``scale`` changes them."""
     if samples is None:
         return problem_for(system), None, {}
     if not spread:
-        factors = np.ones((samples, len(system.elements))) if scale is None else scale
+        factors = system.full_factors(np.ones((samples, len(system.elements)))
+                                      if scale is None else scale)
         return problem_for(system, factors), factors, {}
     rng = np.random.default_rng(seed)
-    factors = part_factors(system, rng, samples, distribution)
+    factors = system.full_factors(part_factors(system, rng, samples, distribution))
     if scale is not None:
-        factors = factors * scale
+        factors = factors * system.full_factors(scale)
     draws: dict = {}
     problem = problem_for(system, factors, device_banks(system, rng, samples, draws))
     return problem, factors, draws

@@ -60,10 +60,12 @@ def _across(op, a: str, b: str) -> float:
     return op.voltage(a) - op.voltage(b)
 
 
-def _pot_watts(op, pot) -> float:
-    """Both legs of the track, each at the resistance the wiper leaves it."""
+def _pot_watts(op, pot, legs=(1.0, 1.0)) -> float:
+    """Both legs of the track, each at the resistance the wiper leaves it times its
+    multiplier in ``legs`` (lower, upper)."""
     lower, upper = pot.legs()
-    return _across(op, pot.ccw, pot.w) ** 2 / lower + _across(op, pot.w, pot.cw) ** 2 / upper
+    return (_across(op, pot.ccw, pot.w) ** 2 / (lower * legs[0])
+            + _across(op, pot.w, pot.cw) ** 2 / (upper * legs[1]))
 
 
 # Part type -> its stress at an operating point, from the engine element placed for it.
@@ -78,10 +80,13 @@ _STRESS: Mapping[str, Callable] = MappingProxyType({
 })
 
 
-def part_stress(part_type: str, op, element, factor=1.0):
+def part_stress(part_type: str, op, element, factor=1.0, legs=None):
     """A part's stress at an operating point; per build where ``op`` gives arrays and
-    ``factor`` holds each build's drawn value multiplier (it scales a resistor, or both legs
-    of a pot alike, so the power at the same voltages goes as one over it)."""
+    ``factor`` holds each build's drawn value multiplier (it scales a resistor, so the power
+    at the same voltages goes as one over it). A pot's ``legs`` (lower, upper) are its two
+    legs' multipliers, apart where a trimmer is set per build."""
+    if legs is not None and hasattr(element, "legs"):
+        return _pot_watts(op, element, legs)
     value = _STRESS[part_type](op, element)
     return value / factor if LIMITS[part_type].quantity == "power" else value
 

@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
+from dataclasses import replace
 from functools import cached_property
 
 import numpy as np
 
 from kitleaf.circuit.chain import KNOB_STEPS as KNOB_STEPS  # where the specs read it
 from kitleaf.circuit.chain import SOURCE, KitCircuit
-from kitleaf.engine.elements import Pot, taper_fraction
+from kitleaf.engine.elements import Pot, taper_fraction, upper_leg_columns
 from kitleaf.specs.model import Range
 from kitleaf.specs.response import REFERENCE_HZ, Sweep
 from kitleaf.specs.sampled import Batch, solve_alike, solve_nominal, solve_samples
@@ -109,17 +110,29 @@ class KitState:
 
 def trim_scale(circuit, trims: Mapping[str, np.ndarray], set_at: Mapping[str, float],
                tapers: Mapping[str, str]) -> np.ndarray:
-    """Multipliers (samples, elements): 1, but for each trimmer in a resistor's place (a
-    resistor element of its name, set at ``set_at``) the ratio of the track its build's
-    position gives to the one the netlist's does. A trimmer wired as a divider (a pot
-    element, in a custom stage) keeps the netlist's position."""
+    """Multipliers (samples, elements and pots' upper legs): 1, but for each trimmer the
+    change its build's position makes to the netlist's. In a resistor's place (a resistor
+    element of its name, set at ``set_at``) that is the ratio of the two tracks; wired as a
+    divider (a pot element, in a custom stage) each leg's ratio, which moves the wiper."""
     size = len(next(iter(trims.values())))
-    scale = np.ones((size, len(circuit.elements)))
+    uppers = upper_leg_columns(circuit.elements)
+    scale = np.ones((size, len(circuit.elements) + len(uppers)))
     for k, e in enumerate(circuit.elements):
-        if e.name in trims and not isinstance(e, Pot):
+        if e.name not in trims:
+            continue
+        if isinstance(e, Pot):
+            lower, upper = _legs(e, trims[e.name])
+            scale[:, k], scale[:, uppers[e.name]] = lower / e.legs()[0], upper / e.legs()[1]
+        else:
             taper = tapers[e.name]
             scale[:, k] = _track(taper, trims[e.name]) / _track(taper, [set_at[e.name]])[0]
     return scale
+
+
+def _legs(pot: Pot, positions: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """A pot's two legs with its wiper at each of ``positions``, as :meth:`Pot.legs`."""
+    legs = np.array([replace(pot, position=float(p)).legs() for p in positions])
+    return legs[:, 0], legs[:, 1]
 
 
 def _track(taper: str, positions) -> np.ndarray:

@@ -175,7 +175,9 @@ class RuleContext:
         element = self.states[0].circuit.element(part.designator)
 
         def stress(reading: Reading) -> np.ndarray:
-            return part_stress(part.type, reading, element, reading.factor(part.designator))
+            legs = reading.leg_factors(part.designator) if hasattr(element, "legs") else None
+            return part_stress(part.type, reading, element, reading.factor(part.designator),
+                               legs)
 
         def nominal(reading: Reading) -> float:
             return float(stress(reading)[0])

@@ -29,6 +29,11 @@ class Reading:
         """Each build's multiplier of part ``name``'s value."""
         return self.batch.system.factor(name)
 
+    def leg_factors(self, name: str) -> tuple[np.ndarray, np.ndarray]:
+        """Each build's multipliers of pot ``name``'s lower and upper legs (they differ where
+        a trimmer is set per build)."""
+        return self.batch.system.leg_factors(name)
+
     def _reports(self, name: str) -> tuple[dict, ...]:
         # Settings whose knobs move no DC current share one operating point (the same
         # array), so their device reports are computed once.
