@@ -197,9 +197,14 @@ def in_view(selector: str) -> str:
 DESIGNATORS = in_view(".voltage-table th[scope=row], .voltage-table td, "
                       "article.bom .bom-line .refs")
 SYMPTOMS = in_view(".symptom-table th[scope=row], .symptom-table td")
-# Each figure's picture and the width it is drawn at, in CSS px.
+# Each figure's picture (the one shown: a <picture> may choose a narrower drawing) and the width
+# it is drawn at, in CSS px.
 FIGURES = """JSON.stringify([...document.querySelectorAll('.guide figure img')].map(
-    i => [i.getAttribute('src'), i.getBoundingClientRect().width]))"""
+    i => [decodeURIComponent(new URL(i.currentSrc).pathname.split('/').pop()),
+          i.getBoundingClientRect().width]))"""
+# The overview's figure: its drawn width and the width its box shows without scrolling.
+OVERVIEW = """JSON.stringify((f => f && [f.scrollWidth, f.clientWidth])(
+    document.querySelector('.guide figure.overview')))"""
 FONT_SIZE = re.compile(r'font-size(?:="|:\s*)([0-9.]+)')
 
 
@@ -219,6 +224,7 @@ def phone_pages(site):
             page = Page(browser, (site / name).as_uri(), width=390)
             found[name] = {"designators": json.loads(page.evaluate(DESIGNATORS)),
                            "figures": json.loads(page.evaluate(FIGURES)),
+                           "overview": json.loads(page.evaluate(OVERVIEW)),
                            "symptoms": json.loads(page.evaluate(SYMPTOMS))}
     return found
 
@@ -259,3 +265,14 @@ def test_on_a_phone_the_text_of_every_figure_is_at_least_9_px(site, phone_pages)
         for src, width in page["figures"]:
             svg = (site / name).parent.joinpath(src).read_text(encoding="utf-8")
             assert smallest_text(svg) * width >= 9.0, (name, src, width)
+
+
+def test_on_a_phone_the_kit_overview_is_drawn_one_block_to_a_row_and_fits(phone_pages):
+    """The kit at a glance is the narrow drawing on a phone, whole in the column: a builder
+    sees the chain without scrolling sideways."""
+    for name, page in phone_pages.items():
+        if not name.endswith("index.html"):
+            continue
+        assert "overview-narrow.svg" in [src for src, _ in page["figures"]], name
+        drawn, shown = page["overview"]
+        assert drawn <= shown, name

@@ -60,6 +60,18 @@ def test_every_legend_sits_outside_the_frames(picture):
         assert not any(top <= y <= bottom for top, bottom in frames), y
 
 
+def test_a_line_far_below_the_rest_is_named_and_leaves_them_their_room():
+    # a volume turned to 0 % puts its output microvolts low; the axis keeps three decades
+    quiet = DrivePicture("Fernbrook Test Drive: output", (CurvePanel(
+        "Output peak, Level knob turned", "volts",
+        (("Level 0 %", tuple(2e-6 for _ in LEVELS)), ("Level 50 %", tuple(0.2 for _ in LEVELS)),
+         ("Level 100 %", tuple(0.8 for _ in LEVELS)))),), LEVELS)
+    texts = [t.text for t in ElementTree.fromstring(render_drive_svg(quiet).encode()).iter(
+        f"{SVG}text")]
+    assert "Level 0 % (below the plot)" in texts and "Level 50 %" in texts
+    assert {"1 mV", "1 V"} <= set(texts) and not {"1 µV", "100 µV"} & set(texts)
+
+
 # Every text's box and every panel frame, as laid out on the screen.
 LAYOUT = """JSON.stringify({
   texts: [...document.querySelectorAll('text')].map(t => {

@@ -1,7 +1,7 @@
 """Display filters: every number on a page goes through these (units and rounding of the trade)."""
 
-from kitleaf.display import hum_text, percent, range_text, setting_rows
-from kitleaf.specs.model import KnobPoint, Range, StageSpecs
+from kitleaf.display import hum_text, percent, range_text, scoop_rows, setting_rows
+from kitleaf.specs.model import KnobPoint, Range, Scoop, StageSpecs
 
 
 class TestRangeText:
@@ -85,3 +85,29 @@ class TestSettingRows:
 
 
 SETTINGS = (("Gain", 0.0), ("Tone", 0.0), ("Level", 0.0), ("Tone", 1.0))
+
+
+class TestScoopRows:
+    """The mid scoop per setting folds as the other figures do: a setting's scoop (nominal
+    parts) that reads as the rest's nominal is 'unchanged', whatever the rest's spread."""
+
+    @staticmethod
+    def specs(*depths: float | None) -> StageSpecs:
+        points = tuple(KnobPoint(((knob, pos),), Range(0.0), scoop=None if d is None
+                                 else Scoop(Range(d), Range(970.0)))
+                       for (knob, pos), d in zip(SETTINGS, depths, strict=True))
+        return StageSpecs("tone", "tone-blend", "Tone", True, (), points, Range(0.0), None,
+                          None, None, Range(9000.0), None,
+                          scoop=Scoop(Range(3.9, 3.1, 4.6), Range(970.0, 884.0, 1050.0)))
+
+    def test_the_settings_that_read_as_at_rest_fold_into_one_row(self):
+        rows = scoop_rows(self.specs(3.9, None, 3.9, 5.0), ())
+        assert rows == [
+            (False, "knobs at half way", "3.9 dB (3.1–4.6) deep at 970 Hz (884 Hz–1.05 kHz)"),
+            (True, "Tone at 0 %", "none"), (True, "Tone at 100 %", "5.0 dB deep at 970 Hz"),
+            (True, "every other setting", "unchanged")]
+
+    def test_one_row_when_no_setting_moves_it(self):
+        assert scoop_rows(self.specs(3.9, 3.9, 3.9, 3.9), ()) == [
+            (False, "at every knob position",
+             "3.9 dB (3.1–4.6) deep at 970 Hz (884 Hz–1.05 kHz)")]

@@ -46,6 +46,20 @@ def test_the_prose_renderer_uses_every_listed_plugin():
     assert list(prose.PLUGINS) == ["computed-values", "placement"]
 
 
+def test_each_kind_s_knob_and_switch_roles_are_listed_as_they_are():
+    """The 'Knob roles:' and 'Switch role:' lines name the pot and switch roles, in the role
+    table's order (the custom kind's parts are knobs by the kit block's naming alone)."""
+    text = (DOCS / "stage-kinds.md").read_text(encoding="utf-8")
+    section = text.split("\n## Kinds\n", 1)[1].split("\n## ", 1)[0]
+    chunks = re.split(r"^### `([a-z-]+)`$", section, flags=re.M)
+    for name, body in zip(chunks[1::2], chunks[2::2], strict=True):
+        roles = [r for r in stages.KINDS[name].roles if not r.nodes]
+        for label, part in (("Knob roles", "pot"), ("Switch role", "switch")):
+            line = re.search(label.replace(" ", r"\s+") + r":\s+(.*?)\.", body, flags=re.S)
+            listed = re.findall(r"`([a-z-]+)`", line.group(1)) if line else []
+            assert listed == [r.name for r in roles if part in r.part_types], (name, label)
+
+
 def test_a_name_registered_twice_is_refused():
     family = {"one": 1}
     with pytest.raises(ValueError, match="registered twice"):

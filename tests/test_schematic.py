@@ -170,8 +170,9 @@ def test_opamp_pins_are_numbered_by_section():
     assert {"5", "6", "7", "8", "4"} <= set(inv)
 
 
-def test_overview_lists_stages_in_order_with_headlines():
-    svg = render_overview_svg(KIT, {"boost": "gain 24 dB"})
+@pytest.mark.parametrize("narrow", [False, True])
+def test_overview_lists_stages_in_order_with_headlines(narrow):
+    svg = render_overview_svg(KIT, {"boost": "gain 24 dB"}, narrow=narrow)
     words = [t for t, _ in texts(svg)]
     titles = [s.title for s in KIT.signal_stages]
     positions = [words.index(t) for t in titles]
@@ -223,8 +224,9 @@ PASSIVE_KINDS = {"high-pass", "low-pass", "tone-cut", "diode-clipper", "volume",
                  "tone-blend"}
 
 
-def test_overview_power_feeds_exactly_the_stages_that_use_its_rails():
-    svg = render_overview_svg(KIT, {})
+@pytest.mark.parametrize("narrow", [False, True])
+def test_overview_power_feeds_exactly_the_stages_that_use_its_rails(narrow):
+    svg = render_overview_svg(KIT, {}, narrow=narrow)
     blocks = rects(svg)
     power = blocks[-1]  # drawn last, below the chain
     chain = KIT.signal_stages
@@ -235,6 +237,29 @@ def test_overview_power_feeds_exactly_the_stages_that_use_its_rails():
     assert wired_to(svg, power) == fed | {len(blocks) - 1}
     words = [t for t, _ in texts(svg)]
     assert "VCC, VREF" in words
+
+
+def test_the_narrow_overview_puts_one_block_to_a_row():
+    wide, narrow = (rects(render_overview_svg(KIT, {}, narrow=n))[:-1] for n in (False, True))
+    assert len(narrow) == len(KIT.signal_stages) > 4
+    assert len({round(b[1], 3) for b in narrow}) == len(narrow)  # every block its own row
+    assert len({round(b[0], 3) for b in narrow}) == 1  # all in one column
+    assert max(b[2] for b in narrow) < max(b[2] for b in wide)
+
+
+def test_the_narrow_overview_puts_the_blocks_off_the_signal_path_under_the_power_block():
+    # the demo op-amp boost's unused op-amp half: beside the power block it widened the phone's
+    # drawing by half
+    from kitleaf.circuit.build import build_circuit
+    from kitleaf.guide import parse_guide
+
+    heron = build_circuit(parse_guide(Path(__file__).parents[1] / "guides"
+                                      / "heron-opamp-boost.md"))
+    blocks = rects(render_overview_svg(heron, {}, narrow=True))
+    assert len(blocks) == len(heron.stages)
+    assert len({round(b[0], 3) for b in blocks}) == 1  # one column, the power block's too
+    assert not any(a[1] < b[3] and b[1] < a[3] for i, a in enumerate(blocks)
+                   for b in blocks[i + 1:])
 
 
 def test_overview_keeps_the_power_block_close():

@@ -5,6 +5,7 @@ on the page, in `kitleaf specs` and in the JSON."""
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -23,6 +24,7 @@ from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs, solve_kit
 from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.lookup import computed_values
+from kitleaf.specs.model import Range
 from kitleaf.specs.solve import KitState
 from kitleaf.specs.stability import unstable_at
 
@@ -179,3 +181,17 @@ def test_prose_shows_no_figure_there(pnp_fuzz):
     html = "".join(p.content for p in pieces if p.kind == "html")
     assert "not meaningful: the circuit oscillates near 1.08 kHz" in html and " dB" not in html
     assert values["fuzz.gain.fuzz-75"].unstable is None
+
+
+def test_other_rules_do_not_judge_a_setting_that_oscillates(pnp_fuzz):
+    # an oscillating setting's small-signal gain is whatever the linearisation gives; make it
+    # absurd, and no rule but `stable` may read it (here pot-taper would see the whole change
+    # in the last quarter turn)
+    guide, kit, specs = pnp_fuzz
+    fuzz = specs.stage("fuzz")
+    sweep = tuple(replace(p, gain_db=Range(200.0)) if p.unstable is not None else p
+                  for p in fuzz.knob_sweep)
+    specs = replace(specs, stages=tuple(replace(s, knob_sweep=sweep) if s is fuzz else s
+                                        for s in specs.stages))
+    rules = {f.rule for f in verify(guide, kit, specs).findings}
+    assert "stable" in rules and "pot-taper" not in rules

@@ -123,9 +123,36 @@ def setting_rows(specs, field: str, quantity: str, switches) -> list[tuple[bool,
     text = _row_text(rest, quantity, specs.unstable)
     rows = [(True, settings(p.positions), _row_text(getattr(p, field), quantity, p.unstable))
             for p in specs.knob_sweep if getattr(p, field) is not None]
-    if all(shown == text for _, _, shown in rows):
+    return _folded(text, text, rows, switches)
+
+
+def scoop_rows(specs, switches) -> list[tuple[bool, str, str]]:
+    """The mid scoop's rows, as :func:`setting_rows` gives a figure's: at rest with its
+    spread, then the settings (nominal parts) whose scoop reads otherwise than at rest."""
+    rest = specs.scoop
+    rows = [(True, settings(p.positions), _scoop_text(p.scoop, p.unstable, spread=False))
+            for p in specs.knob_sweep]
+    return _folded(_scoop_text(rest, specs.unstable, spread=True),
+                   _scoop_text(rest, specs.unstable, spread=False), rows, switches)
+
+
+def _scoop_text(scoop, unstable, spread: bool) -> str:
+    if unstable is not None:
+        return unstable_text(unstable)
+    if scoop is None:
+        return "none"
+    depth, hz = scoop.depth_db, scoop.hz
+    if not spread:  # a setting's scoop is nominal only: compare like with like
+        depth, hz = type(depth)(depth.nominal), type(hz)(hz.nominal)
+    return f"{range_text(depth, 'db')} deep at {range_text(hz, 'frequency')}"
+
+
+def _folded(text: str, nominal: str, rows: list, switches) -> list[tuple[bool, str, str]]:
+    """Rows at rest (``text``) and per setting, the settings that read ``nominal`` (the rest's
+    text as a setting's row would read it) folded into one row."""
+    if all(shown == nominal for _, _, shown in rows):
         return [(False, "at every knob position" if rows else "", text)]
-    moved = [row for row in rows if row[2] != text]
+    moved = [row for row in rows if row[2] != nominal]
     alike = [(True, ALIKE_SETTINGS, ALIKE_TEXT)] if len(moved) < len(rows) else []
     return [(False, at_rest(switches), text), *moved, *alike]
 
@@ -225,6 +252,7 @@ FORMATTERS: dict[str, Callable[..., str]] = {
     "range_text": range_text,
     "small_signal_text": small_signal_text,
     "setting_rows": setting_rows,
+    "scoop_rows": scoop_rows,
     "unstable_text": unstable_text,
     "percent": percent,
     "figure": figure,

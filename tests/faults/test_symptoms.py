@@ -3,7 +3,7 @@
 import json
 from functools import cache
 
-from kitleaf.faults.symptoms import SYMPTOMS, page_data, symptom_rows
+from kitleaf.faults.symptoms import SYMPTOMS, everywhere_faults, page_data, symptom_rows
 from kitleaf.site.guide_output import process_guide
 
 from .kits import GUIDES, readings
@@ -36,6 +36,28 @@ class TestSymptomRows:
                 for s in row.symptoms:
                     assert s.high < row.good_low or s.low > row.good_high
 
+    def test_a_missing_supply_or_ground_wire_reads_near_zero_at_every_point(self):
+        # with no supply or no ground nothing on the board is powered (common practice, no
+        # source); the table flags such faults so paper lists them once
+        table = symptom_rows(readings("heron-opamp-boost"))
+        found = everywhere_faults(table)
+        assert {"the ground wire", "the supply wire"} <= {
+            t.split(" from ")[0] for t in found["near 0 V"]}
+        for kind, texts in found.items():  # each is under that reading at every point
+            for row in table:
+                assert all(any(t in s.faults or s.more for s in row.symptoms if s.kind == kind)
+                           for t in texts), (kind, row.name)
+
+    def test_paper_lists_a_point_s_own_likeliest_causes_and_counts_the_rest(self):
+        vcc = rows("heron-opamp-boost")["power.vcc"]
+        near = next(s for s in vcc.symptoms if s.kind == "near 0 V")
+        printed = near.printed(1)
+        assert sum(printed) <= 1
+        for text, shown, wide in zip(near.faults, printed, near.everywhere, strict=True):
+            assert not (shown and wide), text
+        assert near.unprinted(1) == near.own - sum(printed)
+        assert near.own == sum(not w for w in near.everywhere) + near.more
+
     def test_a_good_build_reads_inside_its_own_range(self):
         r = readings("brookside-boost")
         for p, row in enumerate(symptom_rows(r)):
@@ -54,6 +76,17 @@ class TestOnThePage:
         assert '<section class="symptoms" id="symptoms">' in html
         assert html.count('<ol class="causes">') >= 7
         assert '<form class="pinpoint" id="pinpoint" hidden>' in html
+
+    def test_faults_of_every_point_are_listed_once_for_paper(self):
+        html = heron_page()
+        intro = html[html.index('<div class="how print-only everywhere">'):]
+        intro = intro[:intro.index("</div>")]
+        assert "near 0 V everywhere:" in intro and "the ground wire" in intro
+        table = html[html.index('<table class="symptom-table">'):]
+        table = table[:table.index("</table>")]
+        # in the table each wire fault is still there for the screen, hidden on paper
+        assert table.count('<li class="screen-only">the ground wire') == table.count(
+            "the ground wire") > 1
 
     def test_the_embedded_data_is_the_readings_and_nothing_is_fetched(self):
         html = heron_page()

@@ -144,6 +144,10 @@ def test_the_page_and_the_plot_show_the_scoop(tmp_path):
     plot = next(v for k, v in files.items() if k.endswith("tone-response.svg")).decode()
     assert "Mid scoop (deepest dip)" in page and "Tone at 75 %" in page
     assert "scoop " in plot and "−3 dB" not in plot  # the scoop marked instead of corners
+    # the blend leaves the whole kit no flat band either: its plot and caption say the same
+    whole = files[next(k for k in files if k.endswith("/response.svg"))].decode()
+    assert "scoop " in whole and "−3 dB" not in whole
+    assert "the dotted vertical marks the mid scoop" in page and "−3 dB corners" not in page
 
 
 # The engine's fixed steps (96 a period, 192 where a wave turns sharp corners) cannot

@@ -207,6 +207,15 @@ def test_its_table_gives_the_mid_scoop_in_place_of_corners():
     assert "Low corner (−3 dB)" in rows.render(sp=specs.stage("boost"), specs=specs)
     text = specs_to_text(specs).split("stage tone")[1]
     assert "mid scoop" in text and "low corner" not in text and "corners          none" in text
+    # the stack shapes the whole kit's response too: the kit's table and summary say so
+    whole = rows.render(sp=specs, specs=specs)
+    assert "Mid scoop" in whole and "Low corner" not in whole and not specs.passband
+    assert specs.scoop is not None and specs.scoop.depth_db.nominal > 1.0
+    head = specs_to_text(specs).split("stage ")[0]
+    assert "  mid scoop" in head and "low corner" not in head
+    assert "  corners            none" in head
+    assert "Low corner (−3 dB)" in rows.render(sp=specs_of(POWER, boost, source="4k7")[1],
+                                               specs=specs)
 
 
 # The engine's fixed steps (96 a period, 192 where a wave turns sharp corners) cannot

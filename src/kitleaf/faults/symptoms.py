@@ -34,6 +34,23 @@ class Symptom:
     high: float
     faults: tuple[str, ...]  # the faults' sentences, likeliest first
     more: int
+    # per fault: it gives this same kind of reading at every test point (a missing supply or
+    # ground wire, a reversed adapter), so a printed list names it once, above the table
+    everywhere: tuple[bool, ...] = ()
+    own: int = 0  # this point's own faults (not everywhere), those past the shown ones counted
+
+    def printed(self, limit: int) -> tuple[bool, ...]:
+        """Which faults a printed list shows: the likeliest ``limit`` of this point's own."""
+        shown, out = 0, []
+        for wide in self.everywhere or (False,) * len(self.faults):
+            out.append(not wide and shown < limit)
+            shown += out[-1]
+        return tuple(out)
+
+    def unprinted(self, limit: int) -> int:
+        """How many of this point's own faults (the page's 'and N more' included) the printed
+        list leaves to the web page."""
+        return self.own - sum(self.printed(limit))
 
 
 @dataclass(frozen=True)
@@ -48,18 +65,32 @@ class SymptomRow:
 def symptom_rows(readings: Readings, black: str = PAGE_BLACK) -> tuple[SymptomRow, ...]:
     """One row per test point with its symptoms in SYMPTOMS order (empty ones left out)."""
     b = [x.key for x in BLACK].index(black)
+    goods = [_good_range(readings, p, b) for p in range(len(readings.probes))]
+    kind_of = [[_kind(float(readings.centre[f, p, b]), lo, hi, readings.supply_v)
+                for p, (lo, hi) in enumerate(goods)] for f in range(len(readings.faults))]
+    everywhere = {f for f in range(1, len(readings.faults))
+                  if kind_of[f][0] is not None and len(set(kind_of[f])) == 1}
     rows = []
     for p, probe in enumerate(readings.probes):
-        lo, hi = _good_range(readings, p, b)
         kinds: dict[str, list[int]] = {}
         for f in range(1, len(readings.faults)):
-            kind = _kind(float(readings.centre[f, p, b]), lo, hi, readings.supply_v)
-            if kind is not None:
-                kinds.setdefault(kind, []).append(f)
-        symptoms = tuple(_symptom(readings, probe.name, p, b, k, kinds[k])
+            if kind_of[f][p] is not None:
+                kinds.setdefault(kind_of[f][p], []).append(f)
+        symptoms = tuple(_symptom(readings, probe.name, p, b, k, kinds[k], everywhere)
                          for k in SYMPTOMS if k in kinds)
-        rows.append(SymptomRow(probe.name, probe.label, lo, hi, symptoms))
+        rows.append(SymptomRow(probe.name, probe.label, *goods[p], symptoms))
     return tuple(rows)
+
+
+def everywhere_faults(rows: tuple[SymptomRow, ...]) -> dict[str, tuple[str, ...]]:
+    """The faults that read the same at every test point, by that reading's kind."""
+    found: dict[str, dict[str, None]] = {}
+    for row in rows:
+        for s in row.symptoms:
+            for text, wide in zip(s.faults, s.everywhere, strict=True):
+                if wide:
+                    found.setdefault(s.kind, {})[text] = None
+    return {kind: tuple(texts) for kind, texts in found.items()}
 
 
 def _good_range(readings: Readings, p: int, b: int) -> tuple[float, float]:
@@ -81,7 +112,7 @@ def _kind(volts: float, lo: float, hi: float, supply: float) -> str | None:
 
 
 def _symptom(readings: Readings, name: str, p: int, b: int, kind: str,
-             faults: list[int]) -> Symptom:
+             faults: list[int], everywhere: set[int]) -> Symptom:
     """The faults of one symptom, ranked by how well each explains the typical reading."""
     volts = readings.centre[faults, p, b]
     typical = float(np.median(volts))
@@ -89,7 +120,8 @@ def _symptom(readings: Readings, name: str, p: int, b: int, kind: str,
     order = [faults[i] for i in np.argsort(-ll, kind="stable")]
     texts = tuple(readings.faults[f].text for f in order)
     return Symptom(kind, float(volts.min()), float(volts.max()), texts[:SHOWN],
-                   max(0, len(texts) - SHOWN))
+                   max(0, len(texts) - SHOWN), tuple(f in everywhere for f in order[:SHOWN]),
+                   sum(f not in everywhere for f in order))
 
 
 def page_data(readings: Readings) -> dict:

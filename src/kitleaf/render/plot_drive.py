@@ -31,6 +31,7 @@ GAP_PT = 14.0
 EDGE_PT = 8.0  # the sheet's margin left and right of a legend
 HANDLE_PT, HANDLE_GAP_PT, COLUMN_GAP_PT = 16.0, 4.0, 8.0  # a legend entry's parts
 X_LABELS_PT = 3.5 + 3.5 + LINE_EM * FONT_PT  # ticks, their gap and the labels under a frame
+DECADES = 3  # the most a curve panel spans: a far lower line (a volume near zero) is named
 INPUT_STYLE = ("#7f8c8d", (0, (4, 2)), 1.1)
 OUTPUT_STYLE = ("#111111", "-", 1.8)
 
@@ -129,11 +130,7 @@ def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, picture: DrivePict
     levels = picture.levels
     x = np.log10(np.asarray(levels, float))
     values = [np.asarray(v, float) for _, v in panel.lines]
-    shown = np.concatenate(values + [np.asarray(b, float) for b in panel.band])
-    shown = shown[np.isfinite(shown) & (shown > 0)]
-    low = math.floor(math.log10(max(shown.min(), 1e-6))) if shown.size else -3
-    high = math.ceil(math.log10(shown.max())) if shown.size else 0
-    high = max(high, low + 1)
+    low, high = _decades(panel)
     frame = _frame(top, (float(x[0]), float(x[-1])), (float(low), float(high)))
     clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
     band = ""
@@ -190,13 +187,34 @@ def _y_labels(sheet: SvgDocument, frame: Frame, at, texts, axis: str) -> None:
     sheet.upright_text(11.0, frame.top + frame.height / 2, axis, FONT_PT)
 
 
+def _decades(panel: CurvePanel) -> tuple[int, int]:
+    """The decades a curve panel's axis runs between: every line and the band, but at most
+    :data:`DECADES` below the top, so the lines that matter keep their room."""
+    shown = np.concatenate([np.asarray(v, float) for _, v in panel.lines]
+                           + [np.asarray(b, float) for b in panel.band])
+    shown = shown[np.isfinite(shown) & (shown > 0)]
+    low = math.floor(math.log10(max(shown.min(), 1e-6))) if shown.size else -3
+    high = math.ceil(math.log10(shown.max())) if shown.size else 0
+    high = max(high, low + 1)
+    return max(low, high - DECADES), high
+
+
 def _entries(panel) -> list[tuple]:
-    """A panel's legend: (line style, or None for the band; label) per entry."""
+    """A panel's legend: (line style, or None for the band; label) per entry; a line wholly
+    under the axis's bottom says so."""
     if isinstance(panel, WavePanel):
         return [(INPUT_STYLE, "pickup"), (OUTPUT_STYLE, "output")]
-    entries = [(draw.style_of(i, len(panel.lines)), label)
-               for i, (label, _) in enumerate(panel.lines)]
+    floor = 10.0 ** _decades(panel)[0]
+    entries = [(draw.style_of(i, len(panel.lines)),
+                label + (" (below the plot)" if _under(values, floor) else ""))
+               for i, (label, values) in enumerate(panel.lines)]
     return entries + ([(None, "part tolerances")] if panel.band else [])
+
+
+def _under(values, floor: float) -> bool:
+    v = np.asarray(values, float)
+    v = v[np.isfinite(v)]
+    return bool(v.size) and bool(v.max() < floor)
 
 
 def _columns(entries) -> tuple[int, float]:

@@ -24,8 +24,25 @@ def stage_plot(specs: KitSpecs, stage_id: str) -> ResponsePlot | None:
                         _panels(stage.curves, stage.band_low, stage.band_high, corners))
 
 
+PANELS_PER_FIGURE = 3  # a printed page holds three panels at readable type (about 7 pt)
+
+
+def in_figures(plot: ResponsePlot) -> tuple[ResponsePlot, ...]:
+    """The plot cut into figures of at most :data:`PANELS_PER_FIGURE` panels, one above the
+    next on the page, so a figure never needs shrinking to fit a printed page."""
+    parts = [plot.panels[i:i + PANELS_PER_FIGURE]
+             for i in range(0, len(plot.panels), PANELS_PER_FIGURE)] or [()]
+    return tuple(ResponsePlot(plot.title if k == 0 else f"{plot.title} (continued)",
+                              plot.freqs, panels) for k, panels in enumerate(parts))
+
+
 def kit_plot(specs: KitSpecs) -> ResponsePlot:
-    corners = () if specs.unstable else _corners(specs.low_corner_hz, specs.high_corner_hz)
+    if specs.unstable:
+        corners = ()
+    elif not specs.passband:  # a tone control in the chain: mark its scoop, as its stage's
+        corners = _scoop(specs.scoop)
+    else:
+        corners = _corners(specs.low_corner_hz, specs.high_corner_hz)
     return ResponsePlot(f"{specs.title}: gain from the input jack to the output jack",
                         specs.freqs,
                         _panels(specs.curves, specs.band_low, specs.band_high, corners))

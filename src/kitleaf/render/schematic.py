@@ -407,11 +407,12 @@ def draw_stage(kit_circuit, stage, plus_pins: Mapping[str, int] | None = None
     return sheet
 
 
-def render_overview_svg(kit_circuit, headline: Mapping[str, str]) -> str:
+def render_overview_svg(kit_circuit, headline: Mapping[str, str], *, narrow: bool = False) -> str:
     """The kit at a glance: signal stages as blocks with their headline numbers, in chain order,
-    the power section below them feeding every stage that draws on it."""
-    from kitleaf.render.schematic_overview import draw_overview  # it draws on a SchematicSheet
+    the power section below them feeding every stage that draws on it. ``narrow`` puts one
+    block to a row, for a phone's width."""
+    from kitleaf.render.schematic_overview import NARROW_PER_ROW, PER_ROW, draw_overview
 
     sheet = SchematicSheet("Kit overview")
-    draw_overview(sheet, kit_circuit, headline)
+    draw_overview(sheet, kit_circuit, headline, NARROW_PER_ROW if narrow else PER_ROW)
     return sheet.svg()

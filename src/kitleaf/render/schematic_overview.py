@@ -1,9 +1,10 @@
 """The kit at a glance: signal stages as blocks in chain order, the power section feeding them.
 
-Blocks run left to right, :data:`PER_ROW` to a row, the signal going up and over to the next
-row. Below each row a supply bus (the rails the stages use: VCC, V2, VREF, VEE) drops a stub
-into every stage that draws on the power section; the buses join on a trunk at the far left
-and come down into the power block under the last row. Drawn on a
+Blocks run left to right, :data:`PER_ROW` to a row (one to a row in the narrow drawing a
+phone shows), the signal going up and over to the next row. Below each row a supply bus (the
+rails the stages use: VCC, V2, VREF, VEE) drops a stub into every stage that draws on the power
+section; the buses join on a trunk at the far left and come down into the power block under
+the last row. Drawn on a
 :class:`~kitleaf.render.schematic.SchematicSheet`.
 """
 
@@ -16,6 +17,7 @@ from kitleaf.circuit.rails import POWER_RAILS
 from kitleaf.render.schematic import FONT_SIZE, Point, SchematicSheet, text_width
 
 PER_ROW = 4  # blocks per row, so a long chain still fits a printed page
+NARROW_PER_ROW = 1  # a phone's column: the drawing at its own size, its text readable
 MIN_WIDTH, HEIGHT, POWER_HEIGHT, GAP = 4.8, 2.2, 1.6, 1.4
 PADDING = 0.6  # inside a block, around its longest line
 BUS_DROP = 0.7  # from a row's bottom edge down to its bus
@@ -40,31 +42,40 @@ class _Block:
         return (self.corner[0] + self.width / 2, self.corner[1])
 
 
-def draw_overview(sheet: SchematicSheet, kit, headline: Mapping[str, str]) -> None:
+def draw_overview(sheet: SchematicSheet, kit, headline: Mapping[str, str],
+                  per_row: int = PER_ROW) -> None:
     chain = kit.signal_stages
     width = _width([_lines(s, headline) for s in chain])
-    rows = max(1, -(-len(chain) // PER_ROW))
-    blocks = [_Block(s, _lines(s, headline), _corner(i, rows, width), width, HEIGHT)
+    rows = max(1, -(-len(chain) // per_row))
+    blocks = [_Block(s, _lines(s, headline), _corner(i, rows, width, per_row), width, HEIGHT)
               for i, s in enumerate(chain)]
     _draw_chain(sheet, blocks)
     power = next((s for s in kit.stages if kit.kind(s).provides_power), None)
     if power is not None:
         _draw_power(sheet, kit, power, headline, blocks, rows)
-    _draw_off_path(sheet, kit, headline, blocks, power)
+    _draw_off_path(sheet, kit, headline, blocks, power, stacked=per_row == 1)
 
 
 def _draw_off_path(sheet: SchematicSheet, kit, headline, blocks: Sequence[_Block],
-                   power) -> None:
+                   power, stacked: bool) -> None:
     """Stages off the signal path besides the power section (an op-amp's unused half), in a
-    row beside it: they draw current but pass no signal."""
+    row beside it (``stacked``: one under another, below it): they draw current but pass no
+    signal."""
     others = [s for s in kit.stages if not kit.kind(s).signal and s is not power]
     last_bus = blocks[-1].corner[1] - BUS_DROP if blocks else 0.0
-    x = LEFT + (_width([_lines(power, headline)]) + GAP if power is not None else 0.0)
+    x, y = LEFT, last_bus - FEED - POWER_HEIGHT
+    if power is not None and stacked:
+        y -= POWER_HEIGHT + GAP / 2
+    elif power is not None:
+        x += _width([_lines(power, headline)]) + GAP
     for stage in others:
         lines = _lines(stage, headline)
         width = _width([lines])
-        sheet.block((x, last_bus - FEED - POWER_HEIGHT), width, POWER_HEIGHT, lines)
-        x += width + GAP
+        sheet.block((x, y), width, POWER_HEIGHT, lines)
+        if stacked:
+            y -= POWER_HEIGHT + GAP / 2
+        else:
+            x += width + GAP
 
 
 def _lines(stage, headline: Mapping[str, str]) -> tuple[str, ...]:
@@ -77,9 +88,9 @@ def _width(all_lines: Sequence[Sequence[str]]) -> float:
     return max(MIN_WIDTH, round(widest + PADDING, 1))
 
 
-def _corner(i: int, rows: int, width: float) -> Point:
-    row = i // PER_ROW
-    return (LEFT + (width + GAP) * (i % PER_ROW), ROW_STEP * (rows - 1 - row))
+def _corner(i: int, rows: int, width: float, per_row: int) -> Point:
+    row = i // per_row
+    return (LEFT + (width + GAP) * (i % per_row), ROW_STEP * (rows - 1 - row))
 
 
 def _draw_chain(sheet: SchematicSheet, blocks: Sequence[_Block]) -> None:

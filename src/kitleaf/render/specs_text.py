@@ -30,8 +30,11 @@ def specs_to_text(specs: KitSpecs) -> str:
              *(f"    {_knobs(p):<{width}}{small_signal_text(p.gain_db, 'db', p.unstable)}"
                for p in specs.knob_sweep),
              f"  band gain          {small(specs.band_gain_db, 'db')}",
-             f"  low corner         {small(specs.low_corner_hz, 'frequency')}",
-             f"  high corner        {small(specs.high_corner_hz, 'frequency')}",
+             *([f"  low corner         {small(specs.low_corner_hz, 'frequency')}",
+                f"  high corner        {small(specs.high_corner_hz, 'frequency')}"]
+               if specs.passband else
+               ["  corners            none given (no flat band: see the mid scoop)"]),
+             *_scoop_lines(specs, "  ", unstable),
              f"  input impedance    {small(specs.input_impedance, 'resistance')}",
              f"  output impedance   {small(specs.output_impedance, 'resistance')}",
              f"  current draw       {range_text(specs.supply_current, 'current')}",
@@ -55,16 +58,22 @@ def specs_to_text(specs: KitSpecs) -> str:
                         ["    corners          none given (no flat band: see the mid scoop)"]),
                       f"    input impedance  {small(s.input_impedance, 'resistance')}",
                       f"    output impedance {small(s.output_impedance, 'resistance')}"]
-        if s.scoop is not None and unstable is not None:
-            lines.append(f"    mid scoop        {unstable_text(unstable)}")
-        elif s.scoop is not None:
-            lines.append(f"    mid scoop        {range_text(s.scoop.depth_db, 'db')} at "
-                         f"{range_text(s.scoop.hz, 'frequency')}")
+        lines += _scoop_lines(s, "    ", unstable)
         for v in s.voltages:
             readings = ", ".join(f"{sup.name} {range_text(r, 'voltage')}"
                                  for sup, r in zip(specs.supplies, v.readings, strict=True))
             lines.append(f"    {v.label:<16} {readings}")
     return "\n".join(lines)
+
+
+def _scoop_lines(s, indent: str, unstable) -> list[str]:
+    """The mid scoop of a kit or stage that has one, in the column of its other figures."""
+    if s.scoop is None:
+        return []
+    label = f"{indent}{'mid scoop':<{19 - len(indent) + 2}}"
+    if unstable is not None:
+        return [f"{label}{unstable_text(unstable)}"]
+    return [f"{label}{range_text(s.scoop.depth_db, 'db')} at {range_text(s.scoop.hz, 'frequency')}"]
 
 
 def _corner_lines(s, unstable=None) -> list[str]:

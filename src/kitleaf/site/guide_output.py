@@ -18,14 +18,20 @@ from kitleaf.circuit.chain import KitCircuit
 from kitleaf.circuit.harness import build_harness
 from kitleaf.faults.report import unsolved_text
 from kitleaf.faults.solve import solve_faults
-from kitleaf.faults.symptoms import page_data, symptom_rows
+from kitleaf.faults.symptoms import everywhere_faults, page_data, symptom_rows
 from kitleaf.guide import parse_guide
 from kitleaf.render.environment import make_environment
 from kitleaf.render.pages import Card, render_page
 from kitleaf.render.placement import SECTIONS, arrange, page_env
 from kitleaf.render.plot import ResponsePlot, render_response_svg
 from kitleaf.render.plot_drive import render_drive_svg
-from kitleaf.render.plot_specs import drive_picture, kit_plot, stage_plot, wave_picture
+from kitleaf.render.plot_specs import (
+    drive_picture,
+    in_figures,
+    kit_plot,
+    stage_plot,
+    wave_picture,
+)
 from kitleaf.render.prose import render_prose
 from kitleaf.render.schematic import plus_pins_of, render_overview_svg, render_stage_svg
 from kitleaf.render.summary import headline, stage_headline
@@ -52,10 +58,15 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     slug = guide.slug
     checks = verify(guide, kit, specs, solved)  # a broken claim stops the guide here
     files, assets = stage_files(cache, kit, specs, slug, checks.orientations)
-    overview = cached_svg(cache, "overview", (kit, headline_by_stage(specs)),
-                          lambda: render_overview_svg(kit, headline_by_stage(specs)))
-    files[f"{slug}/overview.svg"] = overview
-    files[f"{slug}/response.svg"] = plot_svg(cache, kit_plot(specs))
+    headlines = headline_by_stage(specs)
+    for name, narrow in (("overview", False), ("overview-narrow", True)):
+        files[f"{slug}/{name}.svg"] = cached_svg(
+            cache, name, (kit, headlines),
+            lambda narrow=narrow: render_overview_svg(kit, headlines, narrow=narrow))
+    responses = []
+    for k, part in enumerate(in_figures(kit_plot(specs))):
+        responses.append(f"response-{k + 1}.svg" if k else "response.svg")
+        files[f"{slug}/{responses[-1]}"] = plot_svg(cache, part)
     drive_files = drive_pictures(cache, specs, slug, files)
     harness = build_harness(guide, kit)
     previews = cached_previews(cache, kit, solved) if guide.kit.sound_previews else None
@@ -67,6 +78,7 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
     context = {
         "guide": guide, "kit": kit, "specs": specs, "assets": assets, "root": "../",
         "drive_pictures": drive_files,
+        "responses": responses,
         "pieces": arrange(render_prose(guide.text, page_env(
             guide.path, checks.values, harness, guide.kit.sound_previews))),
         "sections": SECTIONS,
@@ -139,7 +151,8 @@ def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:
 
     def solve() -> dict:
         readings = solve_faults(kit)
-        return {"rows": symptom_rows(readings), "data": page_data(readings),
+        rows = symptom_rows(readings)
+        return {"rows": rows, "everywhere": everywhere_faults(rows), "data": page_data(readings),
                 "unsolved": unsolved_text(readings) if readings.unsolved else ""}
 
     found = cache.load("symptoms", key)

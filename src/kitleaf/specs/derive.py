@@ -138,6 +138,7 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
                    for s in kit.stages)
     chain = kit.signal_stages
     first, last = chain[0].id, chain[-1].id
+    shaped = any(kit.kind(s).shapes_response for s in chain)  # no flat band: see the scoop
     ripple = stated_ripple(guide)
     hum = None if ripple is None else m.hum(OUTPUT, *ripple)
     return KitSpecs(
@@ -145,7 +146,8 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         supply_v=kit.supply_v, stages=stages,
         knob_sweep=knob_sweep(solved, INPUT, OUTPUT, kit.controls,
                               impedances(kit, first, kit.stage_nodes(first)[0],
-                                         last, kit.stage_nodes(last)[1]), hum=hum),
+                                         last, kit.stage_nodes(last)[1]),
+                              scoops=shaped, hum=hum),
         knob_ends=knob_ends(kit, solved.base),
         gain_db=base.range(m.gain_db(INPUT, OUTPUT)),
         low_corner_hz=base.range(m.corner(INPUT, OUTPUT, 0)),
@@ -171,6 +173,8 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         pump_ripples=pump_ripples(solved),
         clips=any(s.clips for s in stages),
         unstable=unstable_at(base),
+        scoop=scoop(base, INPUT, OUTPUT, spread=True) if shaped else None,
+        passband=not shaped,
     )
 
 

@@ -183,6 +183,7 @@ def specs_to_json(specs: KitSpecs) -> dict:
         "output_impedance_ohm_1khz": _small(specs.output_impedance, specs.unstable),
         "supply_current_ma": _range(specs.supply_current, 1e3),
         "headroom_v_peak": _headroom(specs.headroom),
+        "scoop": None if specs.unstable else _scoop(specs.scoop),
         "drive": _drive(specs.drive),
         "adapter_ripple": _ripple(specs.ripple),
         "hum_mv_rms": _small(specs.hum, specs.unstable, 1e3),

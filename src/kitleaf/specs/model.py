@@ -293,6 +293,10 @@ class KitSpecs:
     pump_ripples: tuple[PumpRipple, ...] = ()  # each charge pump's own switching ripple
     # Unstable with the knobs at half way (each other setting's is on its knob_sweep point).
     unstable: Unstable | None = None
+    # A passive tone control in the chain shapes the whole response: no flat band, so the
+    # kit's corners mark only where a hump falls off and its mid scoop says what it does.
+    scoop: Scoop | None = None
+    passband: bool = True
 
     def stage(self, stage_id: str) -> StageSpecs:
         return next(s for s in self.stages if s.id == stage_id)

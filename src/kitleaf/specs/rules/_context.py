@@ -192,9 +192,12 @@ class RuleContext:
         return Stress(value, ", ".join(filter(None, (where, verdict.builds()))), bound)
 
     def corner_stages(self) -> tuple[Stage, ...]:
-        """The signal stages whose corners the rules judge: all but passive tone controls."""
+        """The signal stages whose corners the rules judge: all but passive tone controls, and
+        but a kit that oscillates with its knobs at half way (no corner means anything there:
+        rule stable names it)."""
         return tuple(s for s in self.kit.signal_stages
-                     if not self.kit.kind(s).shapes_response)
+                     if not self.kit.kind(s).shapes_response
+                     and self.specs.stage(s.id).unstable is None)
 
     @cached_property
     def orientations(self) -> dict[str, Orientation]:

@@ -35,7 +35,7 @@ def check(ctx: RuleContext):
     chain = ctx.kit.signal_stages
     for i, stage, specs in tone_controls(ctx):
         lowest = min((p.input_impedance.nominal for p in specs.knob_sweep
-                      if p.input_impedance is not None),
+                      if p.input_impedance is not None and p.unstable is None),
                      default=specs.input_impedance.nominal)
         if i:
             drive, name = ctx.specs.stage(chain[i - 1].id).output_impedance, \

@@ -24,7 +24,8 @@ RULE = "tone-load"
 def check(ctx: RuleContext):
     chain = ctx.kit.signal_stages
     for i, stage, specs in tone_controls(ctx):
-        points = [p for p in specs.knob_sweep if p.output_impedance is not None]
+        points = [p for p in specs.knob_sweep
+                  if p.output_impedance is not None and p.unstable is None]
         worst = max(points, key=lambda p: p.output_impedance.nominal, default=None)
         z_out = worst.output_impedance if worst else specs.output_impedance
         if i + 1 < len(chain):
