@@ -243,6 +243,7 @@ def main() -> int:
 
 def run(root: Path, count: int, jobs: int, large_signal: str | None = None) -> None:
     guides, out = make_site(root, count, large_signal), root / "published"
+    load = os.getloadavg()
     with TreeMemory() as memory:
         cold, report = timed(build_site, guides, out, jobs=jobs)
     same, again = timed(build_site, guides, out, jobs=jobs)
@@ -251,7 +252,10 @@ def run(root: Path, count: int, jobs: int, large_signal: str | None = None) -> N
     cli, cli_summary = cli_run(guides, out)
     print(f"{count} guides of {STAGES} stages, {report.files} files, {jobs} process(es)")
     print(f"{'':24}{'measured':>12}{'target':>12}")
-    print(f"{'cold build':24}{cold:>10.2f} s{'<= 30 s':>12}")
+    # the large-signal sweeps on every guide are given half again the plain build's time
+    target = "<= 45 s" if large_signal == "yes" else "<= 30 s"
+    print(f"{'cold build':24}{cold:>10.2f} s{target:>12}   (load average before: {load[0]:.1f}, "
+          f"after: {os.getloadavg()[0]:.1f})")
     print(f"{'no-change rebuild':24}{same:>10.3f} s{'<= 1 s':>12}"
           f"   ({again.rebuilt} guides rebuilt, {len(again.written)} files written)")
     print(f"{'  same, through the CLI':24}{cli:>10.2f} s{'':>12}   {cli_summary}")
