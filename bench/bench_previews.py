@@ -1,6 +1,6 @@
 """Sound previews: every clip of the demo kits rendered cold, a one-transistor stage's 4 s clip
-and its first half second beside ngspice rendering that slice as a transient, and a bench
-site with previews on and off.
+and its first half second beside ngspice rendering the same samples as a transient, and a
+bench site with previews on and off.
 
 CPU seconds of this process (getrusage), the ngspice children's separately, less an empty
 deck's start-up. The bench site is bench_build.py's (four-stage guides made from the demo
@@ -23,6 +23,7 @@ import numpy as np
 from bench_build import make_site
 from bench_drive import OPTIONS, children_cpu, self_cpu
 from bench_engine import one_transistor
+from scipy.signal import resample_poly
 
 from kitleaf.audio.clips import clip_plan
 from kitleaf.audio.encode import RATE
@@ -64,42 +65,52 @@ def demo_kits() -> None:
 
 
 def one_stage_against_ngspice(seconds: float) -> None:
-    """The bench's one-transistor stage playing the 4 s phrase with our steps; then its first
-    ``seconds`` by ours and by ngspice (whose piecewise-linear source of one point a sample
-    slows it more than in proportion to the length, so it plays a slice)."""
+    """The bench's one-transistor stage playing the 4 s phrase with our steps (the probe that
+    picks its stepping rate included); then its first ``seconds`` by ours and by ngspice,
+    both playing the same samples at the stepping rate (ngspice's piecewise-linear source of
+    one point a sample slows it more than in proportion to the length, so it plays a slice)."""
     c = one_transistor()
     dry = dry_phrase(RATE)
-    for label, played in (("4 s clip", dry), (f"first {seconds:g} s", dry[:int(seconds * RATE)])):
-        start = self_cpu()
-        batch = solve_batch(c)
-        [factor] = oversampling([batch], "VIN", "out")
-        ours = transient_response([batch], "VIN", played, RATE, factor, ["out"])
-        mine = self_cpu() - start
-        print(f"  kitleaf, {label}: {mine:.2f} s CPU with its probe (target 1 s for 4 s), "
-              f"stepped at {factor * RATE / 1000:g} kHz, converged: {bool(ours.converged[0])}",
-              flush=True)
+    start = self_cpu()
+    batch = solve_batch(c)
+    [factor] = oversampling([batch], "VIN", "out")
+    probed = self_cpu() - start
+    clip = transient_response([batch], "VIN", dry, RATE, factor, ["out"])
+    whole = self_cpu() - start
+    print(f"  kitleaf, 4 s clip: {whole:.2f} s CPU (target 1 s), of which the probe "
+          f"{probed:.2f} s; stepped at {factor * RATE / 1000:g} kHz, converged: "
+          f"{bool(clip.converged[0])}", flush=True)
+    played = dry[:int(seconds * RATE)]
+    start = self_cpu()
+    ours = transient_response([batch], "VIN", played, RATE, factor, ["out"])
+    mine = self_cpu() - start
+    # ngspice plays the very samples our steps play: the slice brought up to the stepping
+    # rate by the same resampler, and its output brought down by it again
+    fine = resample_poly(played, factor, 1)
+    fine[0] = 0.0  # our steps start from rest: their first sample is the operating point
     with tempfile.TemporaryDirectory() as tmp:
-        theirs, wave = ngspice_clip(c, played, Path(tmp))
-    ref = wave - wave[0]
+        theirs, wave = ngspice_clip(c, fine, factor * RATE, Path(tmp))
+    ref = resample_poly(wave - wave[0], 1, factor)[:played.size]
     gap = ours.wave("out")[0] - ref
-    print(f"  ngspice, first {seconds:g} s: {theirs:.2f} s CPU (a transient at a 1/{RATE} s "
-          f"print step under its own step control: {OPTIONS})")
+    print(f"  first {seconds:g} s, the same {factor * RATE / 1000:g} kHz samples: kitleaf "
+          f"{mine:.2f} s CPU, ngspice {theirs:.2f} s CPU (a transient printed at each sample, "
+          f"under its own step control: {OPTIONS}); ngspice / kitleaf: {theirs / mine:.1f}")
     gap_db = 10 * np.log10(np.sum(gap ** 2) / np.sum(ref ** 2))
     print(f"  difference over the slice, RMS: {gap_db:.1f} dB of the clip")
 
 
-def ngspice_clip(c, dry: np.ndarray, folder: Path) -> tuple[float, np.ndarray]:
-    """ngspice's transient of ``c`` with VIN playing ``dry`` (a piecewise-linear source),
-    sampled at RATE; CPU seconds less an empty deck's."""
+def ngspice_clip(c, dry: np.ndarray, rate: float, folder: Path) -> tuple[float, np.ndarray]:
+    """ngspice's transient of ``c`` with VIN playing ``dry`` (a piecewise-linear source of one
+    point a sample at ``rate``), sampled at ``rate``; CPU seconds less an empty deck's."""
     netlist = to_spice(c)
     source, out = netlist.parts["VIN"], netlist.node("out")
-    times = np.arange(dry.size) / RATE
+    times = np.arange(dry.size) / rate
     pairs = [f"{t:.10g} {v:.10g}" for t, v in zip(times, dry, strict=True)]
     pwl = "\n".join("+ " + " ".join(pairs[i:i + 8]) for i in range(0, len(pairs), 8))
     lines = [f"{source} {line.split()[1]} {line.split()[2]} PWL(\n{pwl}\n+ )"
              if line.startswith(source + " ") else line for line in netlist.text.splitlines()]
     stop = float(times[-1])
-    control = [f"tran {1 / RATE:.10g} {stop:.10g}", f"linearize v({out})",
+    control = [f"tran {1 / rate:.10g} {stop:.10g}", f"linearize v({out})",
                f"wrdata {folder}/out.dat v({out})"]
     deck, empty = folder / "clip.cir", folder / "empty.cir"
     deck.write_text("\n".join(lines) + f"\n{OPTIONS}\n.control\n" + "\n".join(control)

@@ -1,6 +1,6 @@
 """The 1 % and 10 % THD levels (bracketed on the sweep's grid, then solved for) against a
-textbook hard clipper's closed form and a dense sweep of a diode clipper, and the tolerance
-band of the large-signal figures."""
+textbook hard clipper's closed form and a dense sweep of a diode clipper, below the sweep
+for a drive that clips early, and the tolerance band of the large-signal figures."""
 
 from __future__ import annotations
 
@@ -9,19 +9,26 @@ import math
 import numpy as np
 import pytest
 from scipy.optimize import brentq
-from tests.stages.kits import guide_text, stage_block
+from tests.stages.kits import POWER, guide_text, stage_block
 
 from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import OUTPUT, SOURCE
+from kitleaf.display import level_text
 from kitleaf.engine.periodic import periodic_steady_state
+from kitleaf.errors import SpecError
+from kitleaf.guide.kit_lines import PLAYING_VOLTS
 from kitleaf.guide.parse import parse_guide
+from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.plot_specs import drive_picture
+from kitleaf.render.specs_text import specs_to_text
 from kitleaf.specs import drive_limits
+from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import SolvedKit, derive_specs
 from kitleaf.specs.drive import GRID as LEVELS
 from kitleaf.specs.drive_band import BAND_SAMPLES
 from kitleaf.specs.drive_limits import first_bracket, refine
 from kitleaf.specs.export import specs_to_json
+from kitleaf.values import format_value
 
 
 def hard_clip_thd(level: float, limit: float) -> float:
@@ -102,6 +109,19 @@ CLIPPER = guide_text(stage_block("clip", "diode-clipper", "series: R1 4k7",
                      source="low-z", lines=("large-signal: yes",))
 
 
+def assert_dense_sweep_agrees(kit, base, dense: np.ndarray) -> None:
+    """The setting's 1 % and 10 % levels against the same periodic solve on the ``dense``
+    levels, the first crossing going up read between its neighbours on log scales."""
+    batch = SolvedKit(kit).base.nominal.batch.system
+    thd = periodic_steady_state([batch], SOURCE, dense, 1000.0,
+                                nodes=[OUTPUT]).distortion(OUTPUT).thd[0, :, 0]
+    for threshold, level in ((0.01, base.clean_limit), (0.1, base.driven_limit)):
+        i = int(np.flatnonzero(thd >= threshold)[0])
+        share = math.log(threshold / thd[i - 1]) / math.log(thd[i] / thd[i - 1])
+        reference = dense[i - 1] * (dense[i] / dense[i - 1]) ** share
+        assert level == pytest.approx(reference, rel=0.005)
+
+
 @pytest.fixture(scope="module")
 def clipper():
     guide = parse_guide("clipper.md", CLIPPER)
@@ -114,16 +134,7 @@ class TestDiodeClipper:
         # the reference: the same periodic solve on 80 levels a decade from 100 mV to 1 V,
         # the first crossing going up read between its neighbours on log scales
         kit, specs = clipper
-        base = specs.drive.base
-        batch = SolvedKit(kit).base.nominal.batch.system
-        dense = np.geomspace(0.1, 1.0, 81)
-        thd = periodic_steady_state([batch], SOURCE, dense, 1000.0,
-                                    nodes=[OUTPUT]).distortion(OUTPUT).thd[0, :, 0]
-        for threshold, level in ((0.01, base.clean_limit), (0.1, base.driven_limit)):
-            i = int(np.flatnonzero(thd >= threshold)[0])
-            share = math.log(threshold / thd[i - 1]) / math.log(thd[i] / thd[i - 1])
-            reference = dense[i - 1] * (dense[i] / dense[i - 1]) ** share
-            assert level == pytest.approx(reference, rel=0.005)
+        assert_dense_sweep_agrees(kit, specs.drive.base, np.geomspace(0.1, 1.0, 81))
 
     def test_the_tolerance_band_holds_the_nominal_build(self, clipper):
         # parts drawn evenly either side of their nominal values: where the diodes clip,
@@ -150,5 +161,62 @@ class TestDiodeClipper:
         assert tolerance["thd_percent"]["low"][-1] == pytest.approx(
             specs.drive.band.thd_low[-1] * 100, rel=1e-3)
         thd, peak = drive_picture(specs).panels
-        assert thd.band == (specs.drive.band.thd_low, specs.drive.band.thd_high)
-        assert peak.band == (specs.drive.band.peak_low, specs.drive.band.peak_high)
+        assert thd.bands == ((specs.drive.band.thd_low, specs.drive.band.thd_high),)
+        assert peak.bands == ((specs.drive.band.peak_low, specs.drive.band.peak_high),)
+
+
+def early_clipper(gain_resistor: str) -> str:
+    """An op-amp gain stage of 1 + 100k / ``gain_resistor`` into the diode clipper: a drive
+    that clips at the softest levels; invented for these tests."""
+    return guide_text(POWER, stage_block(
+        "gain", "opamp-non-inverting", "input-cap: C1 100n film", "bias: R1 1M",
+        "opamp: U1A TL072", "feedback: R3 100k", f"gain-resistor: R4 {gain_resistor}",
+        "gain-cap: C4 100u electrolytic 16V", "output-cap: C2 1u film 63V"),
+        stage_block("clip", "diode-clipper", "series: R5 4k7", "clip-positive: D1 1N4148",
+                    "clip-negative: D2 1N4148"), source="low-z", lines=("large-signal: yes",))
+
+
+def solved_specs(text: str):
+    guide = parse_guide("early.md", text)
+    kit = build_circuit(guide)
+    return kit, derive_specs(guide, kit)
+
+
+class TestBelowTheSweep:
+    def test_a_limit_below_the_sweep_is_solved_for(self):
+        # a gain of 101 before the diodes: THD is past 10 % at the sweep's lowest level, so
+        # both marks are searched for below it; the reference is a dense sweep of the same
+        # periodic solve, 60 levels from 1 mV to 30 mV
+        kit, specs = solved_specs(early_clipper("1k"))
+        base = specs.drive.base
+        assert base.thd[0] > 0.1 and base.clean_below is None and base.driven_below is None
+        assert_dense_sweep_agrees(kit, base, np.geomspace(0.001, 0.03, 60))
+        assert level_text(base.clean_limit, specs.drive.levels) == format_value(
+            base.clean_limit, "voltage")  # its own value, not the sweep's lowest level
+
+    def test_a_limit_below_the_softest_level_says_so(self):
+        # a gain of 1001: the diodes clip even at a 1 mV pickup peak, the softest level
+        # a guide may play; both limits lie below it, and page, terminal and JSON say so
+        kit, specs = solved_specs(early_clipper("100R"))
+        base = specs.drive.base
+        assert base.clean_limit is None and base.driven_limit is None
+        assert base.clean_below == base.driven_below == PLAYING_VOLTS[0]
+        batch = SolvedKit(kit).base.nominal.batch.system
+        at_floor = periodic_steady_state([batch], SOURCE, [PLAYING_VOLTS[0]], 1000.0,
+                                         nodes=[OUTPUT]).distortion(OUTPUT).thd[0, 0, 0]
+        assert at_floor >= 0.1
+        setting = specs_to_json(specs)["drive"]["settings"][0]
+        assert setting["clean_limit_v_peak"] is None
+        assert setting["clean_limit_below_v_peak"] == setting[
+            "driven_limit_below_v_peak"] == PLAYING_VOLTS[0]
+        text = specs_to_text(specs)
+        assert "clean up to        below 1 mV pickup peak" in text
+        assert "driven from        below 1 mV pickup peak" in text
+        guide = parse_guide("early.md", early_clipper("100R").replace(
+            "large-signal: yes", "large-signal: yes\nclaim: clean-limit above 1 mV"))
+        with pytest.raises(SpecError, match="does not reach its mark within the levels solved"):
+            verify(guide, kit, specs)
+        rows = make_environment(theme_dirs(None)).get_template("_drive_rows.html")
+        page = rows.render(sp=specs)
+        assert "THD reaches 1 %)</th><td>below 1 mV pickup peak" in page
+        assert "THD reaches 10 %)</th><td>below 1 mV pickup peak" in page

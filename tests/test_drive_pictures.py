@@ -25,15 +25,15 @@ from kitleaf.specs.derive import derive_specs
 SVG = "{http://www.w3.org/2000/svg}"
 ALDER = Path(__file__).resolve().parents[1] / "guides" / "alder-drive.md"
 LEVELS = (0.03, 0.1, 0.2, 0.3, 1.0, 2.0)
-# A crowded drive curve: five knob positions and the band, labels as long as a knob's name
+# A crowded drive curve: five knob positions and their bands, labels as long as a knob's name
 # makes them; the numbers only shape the lines (a layout check, no circuit behind it).
 CROWDED = DrivePicture("Fernbrook Test Drive: distortion and output against the pickup level", (
     CurvePanel("THD, Presence Boost knob turned, Level at 50 %", "thd",
                tuple((f"Presence Boost {p} %", tuple(0.001 * (1 + k) * 10 ** i
                                                        for i in range(len(LEVELS))))
                      for k, p in enumerate((0, 25, 50, 75, 100))),
-               (tuple(0.0009 * 10 ** i for i in range(6)), tuple(0.004 * 10 ** i
-                                                                 for i in range(6)))),
+               tuple((tuple(0.0009 * (1 + k) * 10 ** i for i in range(6)),
+                      tuple(0.004 * (1 + k) * 10 ** i for i in range(6))) for k in range(5))),
     CurvePanel("Output peak, Clip switch set, knobs at half way", "volts",
                tuple((f"Clip: {name}", tuple(0.5 + 0.1 * k for _ in LEVELS))
                      for k, name in enumerate(("silicon", "open", "LEDs"))))), LEVELS)

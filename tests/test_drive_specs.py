@@ -5,18 +5,21 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
 import pytest
 from tests.stages.kits import POWER, gain_at, guide_text, stage_block
 
 from kitleaf.circuit.build import build_circuit
-from kitleaf.circuit.chain import OUTPUT
+from kitleaf.circuit.chain import OUTPUT, SOURCE
 from kitleaf.engine import reduced_steps, stepper
+from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.errors import GuideError, SpecError
 from kitleaf.guide.parse import parse_guide
-from kitleaf.render.plot_drive import render_drive_svg
+from kitleaf.render.plot_drive import BAND_OPACITY, render_drive_svg
 from kitleaf.render.plot_specs import drive_picture, wave_picture
 from kitleaf.specs.claims import verify
-from kitleaf.specs.derive import derive_specs
+from kitleaf.specs.derive import SolvedKit, derive_specs
+from kitleaf.specs.drive_band import BAND_SAMPLES, SETTING_SAMPLES
 from kitleaf.specs.export import specs_to_json
 from kitleaf.specs.lookup import computed_values
 from rules_kits import GUIDE
@@ -95,6 +98,40 @@ SWITCHED = guide_text(POWER, stage_block(
 @pytest.fixture(scope="module")
 def switched():
     return solved(SWITCHED, "switched.md")
+
+
+class TestBands:
+    def test_every_setting_has_the_band_of_its_own_builds(self, alder):
+        # each setting's band is the 5th to 95th percentile of its own first tolerance
+        # builds (numpy's percentile), solved again here one setting at a time
+        guide, kit, specs = alder
+        settings = specs.drive.settings
+        assert settings[0].band.samples == BAND_SAMPLES
+        for s in settings[1:]:  # a knob at half way is the kit at half way
+            at_half = s.positions[0][1] == 0.5
+            assert s.band.samples == (BAND_SAMPLES if at_half else SETTING_SAMPLES)
+        solved = SolvedKit(kit)
+        state = solved.sweeps["VR1"][-1]  # Drive at 100 %, the last of its sweep
+        shown = next(s for s in settings if s.positions == (("Drive", 1.0),))
+        batch = state.samples.batch.system.take(np.arange(SETTING_SAMPLES))
+        d = periodic_steady_state([batch], SOURCE, specs.drive.levels, specs.drive.freq,
+                                  nodes=[OUTPUT]).distortion(OUTPUT)
+        for own, low, high in ((d.thd, shown.band.thd_low, shown.band.thd_high),
+                               (d.peak, shown.band.peak_low, shown.band.peak_high)):
+            edges = np.percentile(own[0], [5.0, 95.0], axis=1)
+            assert np.allclose(edges, [low, high], rtol=1e-6)
+
+    def test_each_line_is_drawn_with_its_band(self, alder):
+        _, _, specs = alder
+        picture = drive_picture(specs)
+        for panel in picture.panels:
+            assert len(panel.bands) == len(panel.lines) and all(panel.bands)
+        svg = render_drive_svg(picture)
+        lines = sum(len(p.lines) for p in picture.panels)
+        assert svg.count(f"fill-opacity: {BAND_OPACITY}") == lines
+        settings = specs_to_json(specs)["drive"]["settings"]
+        assert [s["tolerance"]["samples"] for s in settings] == [
+            s.band.samples for s in specs.drive.settings]
 
 
 class TestSwitches:

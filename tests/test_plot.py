@@ -45,8 +45,8 @@ def test_same_bytes_in_another_process():
 SVG = "{http://www.w3.org/2000/svg}"
 
 
-def svg_tree(plot) -> ET.Element:
-    return ET.fromstring(render_response_svg(plot).encode())
+def svg_tree(plot, narrow: bool = False) -> ET.Element:
+    return ET.fromstring(render_response_svg(plot, narrow).encode())
 
 
 def texts(root: ET.Element) -> dict[str, list[tuple[float, float]]]:
@@ -89,12 +89,13 @@ def test_svg_is_well_formed_with_a_clipped_panel_per_knob_and_distinct_curves():
     assert len(texts(root)["Frequency"]) == 1  # under the last panel only
 
 
-def test_curves_and_corner_sit_where_the_axis_labels_say():
+@pytest.mark.parametrize("narrow", [False, True], ids=["wide", "narrow"])
+def test_curves_and_corner_sit_where_the_axis_labels_say(narrow):
     """Read the drawing back through its own tick labels: x from the decade labels (a log axis
     puts f at log10 f, common practice, no source), y from the dB labels."""
     _, _, specs = solved("brookside-boost")
     plot = kit_plot(specs)
-    root = svg_tree(plot)
+    root = svg_tree(plot, narrow)
     found = texts(root)
     x10, x100 = found["10 Hz"][0][0], found["100 Hz"][0][0]
     ticks = "".join(e.get("d") for e in root.iter(f"{SVG}path") if "#000000" in e.get("style"))
@@ -268,10 +269,11 @@ def overlaps(a, b) -> bool:
     made_up_plot("Fernbrook Extraordinarily Long Named Overdrive With A Very Long Title: gain "
                  "from the input jack to the output jack", ("Presence control",)),
 ], ids=["three knobs", "five knobs", "long title"])
-def test_every_label_is_whole_on_the_sheet_and_clear_of_every_other(plot):
+@pytest.mark.parametrize("narrow", [False, True], ids=["wide", "narrow"])
+def test_every_label_is_whole_on_the_sheet_and_clear_of_every_other(plot, narrow):
     """No label is cut by the sheet's edge ("Volume 0 % (below the plot)" in full) and none
     overlaps another (the figure title clear of the first panel's title)."""
-    root = svg_tree(plot)
+    root = svg_tree(plot, narrow)
     width, height = (float(v) for v in root.get("viewBox").split()[2:])
     boxes = text_boxes(root)
     assert "Volume 0 % (below the plot)" in {b[0] for b in boxes} or len(plot.panels) == 1
@@ -280,6 +282,25 @@ def test_every_label_is_whole_on_the_sheet_and_clear_of_every_other(plot):
     clashes = [(a[0], b[0]) for i, a in enumerate(boxes) for b in boxes[i + 1:]
                if overlaps(a, b)]
     assert clashes == []
+
+
+def test_the_narrow_sheet_fits_a_phone_and_puts_each_legend_under_its_panel():
+    # 262 pt is 350 CSS px: a phone's column at 390 px, where the smallest label (7.5 pt)
+    # still draws at 10 px
+    _, _, specs = solved("heron-opamp-boost")
+    plot = kit_plot(specs)
+    root = svg_tree(plot, narrow=True)
+    assert float(root.get("viewBox").split()[2]) == 262.0
+    frames = sorted(clip_rects(root).values(), key=lambda r: r[1])
+    boxes = text_boxes(root)
+    for panel, frame, below in zip(plot.panels, frames, [*frames[1:], None], strict=True):
+        labels = [b for b in boxes if b[0].removesuffix(" (below the plot)")
+                  in {c.label for c in panel.curves}]
+        assert len(labels) == len(panel.curves)
+        for label in labels:  # under its own panel's axes, above the next panel
+            assert label[2] > frame[1] + frame[3] and (below is None or label[4] < below[1])
+    assert [(a[0], b[0]) for i, a in enumerate(boxes) for b in boxes[i + 1:]
+            if overlaps(a, b)] == []
 
 
 def test_demo_plots_keep_every_label_whole_and_apart():

@@ -18,7 +18,7 @@ from kitleaf.specs import sampled
 from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import derive_specs, solve_kit
 from kitleaf.specs.model import SAMPLES, SEED
-from kitleaf.specs.rules import RuleContext
+from kitleaf.specs.rules import RuleContext, coupling_corner
 from kitleaf.specs.rules.coupling_corner import setting_capacitor
 from kitleaf.specs.sampled import solve_nominal
 from kitleaf.specs.solve import View
@@ -94,6 +94,20 @@ class TestSharedStates:
                                                  value=part.value * 10.0)
         fresh = m.corner(*kit.stage_nodes(stage.id), 0)(View(solve_nominal(changed)))[0]
         assert moved == pytest.approx(fresh, rel=1e-9)
+
+    def test_every_capacitor_trial_is_one_batch(self, monkeypatch):
+        # a whole-kit solve per trial grew with the kit's size times its flagged stages
+        g = parse_guide("test.md", swapped(("C1 1u film 63V", "C1 1n film 63V")))
+        kit = build_circuit(g)
+        solved = solve_kit(g, kit)
+        ctx = RuleContext(g, kit, derive_specs(g, kit, solved), solved)
+        stage = kit.signal_stages[0]
+        views = []
+        monkeypatch.setattr(coupling_corner, "View",
+                            lambda *a, **k: views.append(a) or View(*a, **k))
+        assert setting_capacitor(ctx, stage) is not None
+        assert sum(p.type == "capacitor" for p in stage.all_parts()) >= 2
+        assert len(views) == 1
 
 
 class TestTrebleCorner:

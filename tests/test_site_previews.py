@@ -98,6 +98,12 @@ def test_a_clip_that_could_not_be_made_is_said_on_the_page_and_warned_at_its_sta
     assert len(missing) == 3 and all("No clip: the time-domain solve of stage 'boost'" in m
                                      for m in missing)
     assert [a.attrs["src"] for a in page.find_all("audio")] == ["sounds/bypass.ogg"]
+    # nothing to match the dry phrase to: the page does not call it level-matched
+    names = [e.all_text() for e in page.find_all("span", "clip-name")]
+    assert names[0] == ("Bypass (not level-matched: the clip 'Every knob at half way' could "
+                        "not be made)")
+    how = page.find_all("p", "previews-how")[0].all_text()
+    assert "not level-matched" in how and "level-matched to the kit" not in how
     lines = (guides / GUIDE).read_text(encoding="utf-8").splitlines()
     stage_line = lines.index("```stage boost") + 1
     warned = [w for w in report.warnings if "sound preview" in w]

@@ -205,6 +205,12 @@ def test_the_card_gain_range_takes_the_knobs_together():
     assert ends == {(0.0, 0.0), (0.0, 1.0), (1.0, 0.0), (1.0, 1.0)}
 
 
+def test_the_card_of_a_kit_that_clips_says_its_gain_is_small_signal():
+    # the Alder drive's diodes clamp its output: 30-odd dB holds for the smallest signals only
+    _, _, specs = solved("alder-drive")
+    assert specs.clips and headline(specs)[0][0] == "Small-signal gain range"
+
+
 def test_the_heron_counts_both_halves_of_its_dual_op_amp():
     # TL072: 1.4 mA per amplifier (datasheet typical, from memory); the unused half U1B,
     # tied as a follower, draws it as the used one does

@@ -193,12 +193,14 @@ def thd_text(fraction: float) -> str:
     return f"{fraction * 100:.3g} %"
 
 
-def level_text(level: float | None, levels: tuple[float, ...]) -> str:
-    """A drive level found on a sweep of ``levels``: "140 mV", or past either end of it."""
+def level_text(level: float | None, levels: tuple[float, ...],
+               below: float | None = None) -> str:
+    """A drive level found on a sweep of ``levels``: "140 mV", or past either end of the
+    levels solved: above the sweep's top, or ``below`` the lowest level solved below it."""
+    if below is not None:
+        return f"below {format_value(below, 'voltage')}"
     if level is None:
         return f"above {format_value(levels[-1], 'voltage')}"
-    if level <= levels[0]:
-        return f"{format_value(levels[0], 'voltage')} or below"
     return format_value(level, "voltage")
 
 

@@ -84,3 +84,54 @@ def test_joint_elimination_solves_a_bordered_chain():
     expected = np.linalg.solve(dense, np.stack(rhs, axis=1)[..., None])[..., 0]
     found = np.stack(JointLu(size, pairs).solve(dict(values), rhs), axis=1)
     np.testing.assert_allclose(found, expected, rtol=1e-12)
+
+
+def test_a_block_past_the_sparse_size_equals_the_direct_solve(monkeypatch):
+    # a ladder of 1k series, 10k shunt sections inside one block, after the chain: its
+    # (r, r) matrix per sample would grow with the square of the ladder
+    from kitleaf.engine import blocks
+    from kitleaf.engine.sparse_ac import SPARSE_SIZE
+
+    sections = 80
+    c = boost_chain()
+    c.resistor("RL0", f"out{STAGES}", "l1", 1e3, tol=0.05)
+    for k in range(1, sections):
+        c.resistor(f"RP{k}", f"l{k}", "0", 10e3, tol=0.05)
+        c.resistor(f"RS{k}", f"l{k}", f"l{k + 1}", 1e3, tol=0.05)
+    c.capacitor("CL", f"l{sections}", "end", 1e-7, tol=0.1).resistor("RE", "end", "0", 1e4)
+    batch = solve_batch(c, samples=8, seed=4)
+    formed = []
+    real = blocks._dense
+    monkeypatch.setattr(blocks, "_dense", lambda piece: formed.append(piece[0]) or real(piece))
+    rhs = batch.excitation("VIN")
+    form = batch.response(rhs, joints=JOINTS + ("end",))
+    assert isinstance(form, BlockResponse)
+    assert max(f.rows.size for f in form.forms) >= sections > SPARSE_SIZE
+    assert all(shape[0] < SPARSE_SIZE or shape[1] < SPARSE_SIZE for shape in formed)
+    nodes = list(range(len(batch.layout.nodes)))
+    direct = batch.solve_ac(FREQS, rhs)[:, :, nodes]
+    scale = np.max(np.abs(direct), axis=2, keepdims=True)
+    np.testing.assert_allclose(np.abs(form(FREQS, nodes) - direct) / scale, 0.0, atol=1e-9)
+
+
+def test_blocks_left_alike_share_their_forms():
+    # one capacitor of the third stage made tenfold: every other stage's block has the same
+    # values, so its modal form is the one the first response holds, not solved again
+    from kitleaf.engine.batch import nominal_variants
+
+    c = boost_chain()
+    nominal = solve_batch(c)
+    names = [e.name for e in c.elements]
+    changed = np.ones((1, len(names)))
+    changed[0, names.index("C32")] = 10.0
+    rhs = nominal.excitation("VIN")
+    first = nominal_variants(nominal, np.ones((1, len(names)))).response(rhs, joints=JOINTS)
+    second = nominal_variants(nominal, changed).response(rhs, joints=JOINTS)
+    shared = [a is b for a, b in zip(first.forms, second.forms, strict=True)]
+    assert shared.count(False) == 1 and not shared[2]
+    # and the changed kit's answer is its own: the direct solve of the changed circuit
+    batch = solve_batch(c.replaced("C32", value=10e-6))
+    nodes = list(range(len(batch.layout.nodes)))
+    direct = batch.solve_ac(FREQS, rhs)[:, :, nodes]
+    scale = np.max(np.abs(direct), axis=2, keepdims=True)
+    np.testing.assert_allclose(np.abs(second(FREQS, nodes) - direct) / scale, 0.0, atol=1e-9)

@@ -60,6 +60,19 @@ class TestSmallSignalLimit:
         assert full_scale > 0.1  # the loud case really played
 
 
+def test_every_tolerance_sample_is_a_member_stepped_as_if_alone():
+    # a batch's samples are members, in order, each from its own operating point with its own
+    # parts: played together or one by one, the same waves (common practice, no source)
+    batch = solve_batch(ls.common_emitter(), samples=3)
+    signal = tone(0.3, 0.002)
+    together = transient_response([batch], "VIN", signal, RATE, 2, ["out"]).wave("out")
+    assert together.shape == (3, signal.size)
+    for i in range(3):
+        alone = transient_response([batch.take(np.array([i]))], "VIN", signal, RATE, 2, ["out"])
+        np.testing.assert_allclose(together[i], alone.wave("out")[0], rtol=0, atol=1e-12)
+    assert np.ptp(together[:, -1]) > 1e-4  # the samples really differ
+
+
 @pytest.mark.slow
 def test_a_steady_clipped_sine_has_the_periodic_solves_thd():
     # the periodic solve (shooting, checked against ngspice in test_periodic.py) and the
@@ -94,6 +107,22 @@ class TestFailure:
         assert 0.0005 <= res.failed_at[0] <= 0.0011
         assert res.where[0] in {"in", "a", "b", "out"}
         assert np.isnan(res.wave("out")[0, -10:]).all()
+
+    def test_once_every_member_failed_the_steps_stop(self, monkeypatch):
+        # the failed members' waves are cut at their failure: stepping on would waste time
+        monkeypatch.setattr(transient_module, "_compiled", lambda mem: None)
+        monkeypatch.setattr("kitleaf.engine.reduced_steps.MAX_NEWTON", 1)
+        monkeypatch.setattr("kitleaf.engine.reduced_steps.RETRY_NEWTON", 1)
+        steps = []
+        real_step = transient_module.step
+        monkeypatch.setattr(transient_module, "step",
+                            lambda *args, **kwargs: steps.append(1) or real_step(*args, **kwargs))
+        signal = np.concatenate([np.zeros(48), tone(1.0, 1.0)])
+        res = transient_response([solve_batch(ls.diodes_to_ground())], "VIN", signal, RATE,
+                                 OVERSAMPLE, ["out"])
+        assert not res.converged[0] and res.failed_at[0] < 0.002
+        assert np.isnan(res.wave("out")[0, -10:]).all()
+        assert len(steps) < 0.01 * signal.size * OVERSAMPLE  # not the second of signal
 
     def test_a_signal_that_is_not_finite_is_refused(self):
         with pytest.raises(SolveError, match="finite"):

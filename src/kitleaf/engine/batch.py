@@ -19,12 +19,13 @@ from kitleaf.engine.ac import small_signal
 from kitleaf.engine.batch_lu import solve_many
 from kitleaf.engine.blocks import BlockResponse, cap_ends, split
 from kitleaf.engine.compile import Layout, System, compile_circuit
-from kitleaf.engine.dc import problem_for
+from kitleaf.engine.dc import nominal_jacobian, problem_for
 from kitleaf.engine.montecarlo import DISTRIBUTIONS, draw_problem, nominal_state
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_stack, state_at
 from kitleaf.engine.ports import PoleResidue, capacitances, modal, port_form
 from kitleaf.engine.reduce import Reduced, partition, reduce_problem, solve_reduced
 from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
+from kitleaf.engine.sparse_stack import SparseStack
 from kitleaf.errors import SolveError
 
 FREQ_CHUNK = 24  # frequencies per direct batched solve, to bound memory on large circuits
@@ -278,6 +279,28 @@ def share_operating_point(result: BatchResult, circuit) -> BatchResult:
                        problem, result.vstar)
 
 
+def nominal_variants(result: BatchResult, scale: np.ndarray) -> BatchResult:
+    """``result``, a nominal batch, as ``scale.shape[0]`` variants of its circuit, each with
+    its parts multiplied by its row of ``scale`` (variants, elements), all at ``result``'s
+    operating point.
+
+    Exact only where the scaled parts carry no DC current (capacitors): the same unknowns then
+    satisfy every variant's DC equations, so no Newton solve is needed. The caller checks that.
+    """
+    system = result.system
+    if result.factors is not None or result.size != 1:
+        raise SolveError("variants are made of a nominal batch (one sample, nominal parts)")
+    if scale.ndim != 2 or scale.shape[1] not in (len(system.elements), system.factor_count):
+        raise SolveError(f"scale must be (variants, elements) = (k, {len(system.elements)}), "
+                         f"or with a column per pot's upper leg ({system.factor_count}), got "
+                         f"{scale.shape}")
+    count, factors = scale.shape[0], system.full_factors(scale)
+    problem = _kept(system, problem_for(system, factors))
+    vstar = None if result.vstar is None else [np.repeat(v, count, axis=0) for v in result.vstar]
+    return BatchResult(system.layout, np.repeat(result.x, count, axis=0),
+                       _device_params(problem, count), factors, system, problem, vstar)
+
+
 def _kept(system: System, problem: Problem) -> Problem:
     """What a batch keeps of its DC problem: a large circuit's tolerance samples leave G
     out, since (samples, n, n) is quadratic in the circuit (a forty-stage kit's took 260 MB
@@ -312,7 +335,8 @@ def _from_nominal(system: System, problem: Problem, samples: int,
             or nominal.system.elements != system.elements):
         raise SolveError("the nominal batch was solved for another circuit")
     state = state_at(problem, samples, nominal.x, nominal.vstar)
-    state.chord = nominal.chord
+    sparse = isinstance(problem.g, SparseStack)
+    state.chord = nominal_jacobian(system, nominal.x) if sparse else nominal.chord
     return state
 
 

@@ -25,6 +25,8 @@ solved directly on that block's own ports.
 
 from __future__ import annotations
 
+import hashlib
+import weakref
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,7 +38,8 @@ from kitleaf.engine.deflate import eig_split
 from kitleaf.engine.joint_lu import JointLu
 from kitleaf.engine.poles import evaluate
 from kitleaf.engine.ports import BACKWARD, backward_error
-from kitleaf.engine.sparse_ac import SparseAc
+from kitleaf.engine.sparse_ac import SPARSE_SIZE, SparseAc
+from kitleaf.engine.sparse_stack import block_lu
 
 # Where each block's modal form is checked: the corner search's whole reach, a point a
 # decade (pole-residue forms checked at 1 kHz alone missed poles far above it).
@@ -164,12 +167,42 @@ def block_form(sparse: SparseAc, part: Split, b: int, caps: tuple, rhs: np.ndarr
     ``caps`` = (plus rows, minus rows (n for ground), d (s, m)) and the excitation ``rhs``."""
     rows, ports = part.blocks[b], part.ports[b]
     joints = part.joints[ports]
-    g_bb, g_bj, g_jb = _g_blocks(sparse, rows, joints)
+    pieces = _g_pieces(sparse, rows, joints)
     a_b, a_j, d = _cap_blocks(caps, rows, joints, part.owner, b)
-    k, samples = joints.size, g_bb.shape[0]
-    inputs = np.concatenate([np.broadcast_to(rhs[rows][None, :, None], (samples, rows.size, 1)),
+    key = _digest(rows, ports, *(a for piece in pieces for a in piece[1:]), a_b, a_j, d,
+                  rhs[rows])
+    form = _FORMS.get(key)
+    if form is None:
+        form = _block_form(rows, ports, pieces[0], _dense(pieces[1]), _dense(pieces[2]), a_b,
+                           a_j, d, rhs[rows])
+        _FORMS[key] = form
+    return form
+
+
+# The forms in use, by their inputs: a block that another response holds with the very same
+# values (a knob state sharing its neighbour's operating point, a kit with one part changed
+# elsewhere) takes that form rather than a second eigendecomposition. Weak: a form goes with
+# the last response that holds it.
+_FORMS: weakref.WeakValueDictionary = weakref.WeakValueDictionary()
+
+
+def _digest(*arrays: np.ndarray) -> bytes:
+    """A key for the exact values (and shapes) of ``arrays``."""
+    h = hashlib.blake2b(digest_size=20)
+    for a in arrays:
+        a = np.ascontiguousarray(a)
+        h.update(repr((a.shape, a.dtype.str)).encode())
+        h.update(a.data)
+    return h.digest()
+
+
+def _block_form(rows, ports, g_bb, g_bj, g_jb, a_b, a_j, d, rhs_b) -> BlockForm:
+    """The forms of a block from its G blocks (G_BB as one of :func:`_g_pieces`), its
+    capacitances (incidence on its rows and joints, values) and its own excitation ``rhs_b``."""
+    k, samples = ports.size, g_bj.shape[0]
+    inputs = np.concatenate([np.broadcast_to(rhs_b[None, :, None], (samples, rows.size, 1)),
                              -g_bj, np.broadcast_to(a_b, (samples, *a_b.shape))], axis=2)
-    solved = np.linalg.solve(g_bb, inputs)
+    solved = _solve_block(g_bb, inputs)
     x0, w = solved[:, :, :1 + k], solved[:, :, 1 + k:]
     pick = np.concatenate([np.zeros((k, 1)), np.eye(k)], axis=1)
     dm = d[:, :, None] * (a_b.T @ w)
@@ -210,22 +243,42 @@ def _unchecked(dm, z, vecs, zt, lambdas) -> np.ndarray:
     return np.flatnonzero(~(worst <= BACKWARD))
 
 
-def _g_blocks(sparse: SparseAc, rows: np.ndarray, joints: np.ndarray):
-    """G_BB, G_BJ and G_JB (samples first) from the sparse values."""
+def _g_pieces(sparse: SparseAc, rows: np.ndarray, joints: np.ndarray) -> list[tuple]:
+    """G_BB, G_BJ and G_JB as (shape, row indices, column indices, values (samples, hits))
+    from the sparse values (see :func:`_dense`)."""
     local = np.full(sparse.size, -1)
     local[rows] = np.arange(rows.size)
     port = np.full(sparse.size, -1)
     port[joints] = np.arange(joints.size)
-    g = sparse.g
     out = []
     for r_map, c_map, shape in ((local, local, (rows.size, rows.size)),
                                 (local, port, (rows.size, joints.size)),
                                 (port, local, (joints.size, rows.size))):
         hit = np.flatnonzero((r_map[sparse.rows] >= 0) & (c_map[sparse.cols] >= 0))
-        block = np.zeros((g.shape[0], *shape))
-        block[:, r_map[sparse.rows[hit]], c_map[sparse.cols[hit]]] = g[:, hit]
-        out.append(block)
+        out.append((shape, r_map[sparse.rows[hit]], c_map[sparse.cols[hit]], sparse.g[:, hit]))
     return out
+
+
+def _solve_block(piece: tuple, inputs: np.ndarray) -> np.ndarray:
+    """G_BB^-1 ``inputs`` (samples, r, columns), G_BB given as one of :func:`_g_pieces`: a
+    block of SPARSE_SIZE rows or more (a long ladder inside one stage) by SuperLU on its
+    entries, never as r x r per sample, whose size and LU grew with the square and the cube
+    of the block."""
+    size = piece[0][0]
+    if size < SPARSE_SIZE:
+        return np.linalg.solve(_dense(piece), inputs)
+    _, r, c, values = piece
+    samples = inputs.shape[0]
+    lu = block_lu(np.broadcast_to(values, (samples, values.shape[1])), r, c, size)
+    return lu.solve(inputs.reshape(samples * size, -1)).reshape(inputs.shape)
+
+
+def _dense(piece: tuple) -> np.ndarray:
+    """One of :func:`_g_pieces` as a matrix per sample."""
+    shape, r, c, values = piece
+    block = np.zeros((values.shape[0], *shape))
+    block[:, r, c] = values
+    return block
 
 
 def _cap_blocks(caps: tuple, rows: np.ndarray, joints: np.ndarray, owner: np.ndarray, b: int):

@@ -7,10 +7,12 @@ from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
+import scipy.sparse as sp
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.devices import FAMILIES, Family
 from kitleaf.engine.nonlinear import Devices
+from kitleaf.engine.sparse_stack import SparseStack
 from kitleaf.engine.stamps import Columns, Pattern, StampMap, VectorPattern, apply
 from kitleaf.engine.topology import check_topology
 from kitleaf.errors import SolveError
@@ -141,6 +143,21 @@ class System:
         """Batched linear G alone (the DC problem has no use for C)."""
         n = self.layout.size
         return apply(self.stamper.g_cols.values(factors), self._patterns[0], (n, n))
+
+    def sparse_conductances(self, factors: np.ndarray | None = None) -> SparseStack:
+        """G as :meth:`conductances`, held as values on the entries that G, the devices'
+        Jacobian and the diagonal can fill (a large circuit's DC problem)."""
+        entries, g_onto, slopes = self._sparse_structure
+        n = self.layout.size
+        values = np.asarray(g_onto @ self.stamper.g_cols.values(factors).T).T
+        return SparseStack(entries // n, entries % n, values, n, slopes)
+
+    @cached_property
+    def _sparse_structure(self) -> tuple[np.ndarray, sp.csr_matrix, sp.csr_matrix]:
+        n, g_map = self.layout.size, self._patterns[0]
+        entries = np.union1d(np.union1d(g_map.entries(), self.devices.jacobian_map.entries()),
+                             np.arange(n) * (n + 1))
+        return entries, g_map.onto(entries), self.devices.jacobian_map.onto(entries)
 
     def cap_columns(self, factors: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
         """C as A diag(d) A^T: incidence A (n, m) and values d (samples, m)."""

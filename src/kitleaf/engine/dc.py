@@ -10,6 +10,8 @@ import numpy as np
 from kitleaf.engine import elements as el
 from kitleaf.engine.compile import System, compile_circuit
 from kitleaf.engine.newton import Problem, State, extend, initial_state, solve_state
+from kitleaf.engine.sparse_ac import SPARSE_SIZE
+from kitleaf.engine.sparse_stack import SparseStack
 from kitleaf.errors import SolveError
 
 
@@ -55,10 +57,21 @@ class OperatingPoint:
 
 def problem_for(system: System, factors: np.ndarray | None = None,
                 banks: list | None = None) -> Problem:
-    """The DC problem of ``system``, optionally with per-sample part factors and device banks."""
-    g = system.conductances(factors)
+    """The DC problem of ``system``, optionally with per-sample part factors and device banks.
+    A large circuit's samples get a sparse G (see :mod:`~kitleaf.engine.sparse_stack`)."""
+    large = factors is not None and system.layout.size >= SPARSE_SIZE
+    g = system.sparse_conductances(factors) if large else system.conductances(factors)
     devices = system.devices if banks is None else system.devices.with_banks(banks)
     return Problem(g, system.rhs(), devices, len(system.layout.nodes))
+
+
+def nominal_jacobian(system: System, x: np.ndarray) -> SparseStack:
+    """The nominal circuit's DC Jacobian at unknowns ``x`` (1, n), on the sparse structure:
+    the chord a large circuit's samples take their first Newton step with."""
+    g, devices = system.sparse_conductances(), system.devices
+    if not devices.banks:
+        return g
+    return g.plus_slopes(devices.slopes(devices.junctions(extend(x))))
 
 
 def solve_dc(circuit) -> OperatingPoint:

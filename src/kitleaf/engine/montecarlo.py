@@ -10,11 +10,12 @@ import numpy as np
 from kitleaf.engine import elements as el
 from kitleaf.engine.circuit import Circuit
 from kitleaf.engine.compile import System, compile_circuit
-from kitleaf.engine.dc import problem_for
+from kitleaf.engine.dc import nominal_jacobian, problem_for
 from kitleaf.engine.devices.base import Bank
 from kitleaf.engine.mc_response import McResponse, mc_response
 from kitleaf.engine.newton import State, initial_state, state_at
 from kitleaf.engine.reduce import partition, solve_reduced
+from kitleaf.engine.sparse_stack import SparseStack
 from kitleaf.errors import SolveError
 
 DISTRIBUTIONS = ("uniform", "normal")
@@ -216,7 +217,9 @@ def nominal_state(system: System, problem, samples: int) -> State:
     start = initial_state(nominal, 1)
     reduced = solve_reduced(nominal, start, partition(system))
     state = state_at(problem, samples, start.x, start.vstar)
-    if reduced is not None:
+    if isinstance(problem.g, SparseStack):
+        state.chord = nominal_jacobian(system, start.x)
+    elif reduced is not None:
         state.chord = reduced.jacobian(start.x)
     return state
 

@@ -8,6 +8,7 @@ import numpy as np
 
 from kitleaf.engine.batch_lu import solve_many
 from kitleaf.engine.nonlinear import Devices
+from kitleaf.engine.sparse_stack import SparseStack
 from kitleaf.errors import SolveError
 
 RELTOL = 1e-9
@@ -27,6 +28,7 @@ SHRINK = 0.8
 @dataclass(frozen=True)
 class Problem:
     """A batch of DC problems: G (s, n, n), b (s, n), and the devices (params per sample).
+    A large circuit's G is a :class:`SparseStack` (the same matrices on their entries).
 
     ``fixed`` holds voltages (1, f) the devices may read beyond ground (index n + 1 on): the
     nodes a reduced problem keeps fixed by their sources (see reduce.py)."""
@@ -71,7 +73,7 @@ class State:
     vstar: list[np.ndarray]
     iterations: np.ndarray
     fresh: bool = True
-    chord: np.ndarray | None = None  # (1, n, n)
+    chord: np.ndarray | SparseStack | None = None  # (1, n, n)
 
 
 def extend(x: np.ndarray) -> np.ndarray:
@@ -147,12 +149,15 @@ def _converged(norm: np.ndarray, previous: np.ndarray) -> np.ndarray:
 def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
           ) -> tuple[np.ndarray, np.ndarray]:
     """One Newton step; also reports which samples had a junction voltage limited."""
-    x = state.x
-    residual = np.einsum("sij,sj->si", problem.g, x) - (
-        problem.b if scale == 1.0 else scale * problem.b)
-    jac = problem.g
+    x, g = state.x, problem.g
+    sparse = isinstance(g, SparseStack)
+    product = g.times(x) if sparse else np.einsum("sij,sj->si", g, x)
+    residual = product - (problem.b if scale == 1.0 else scale * problem.b)
+    jac, slopes = g, None
     if shunt.any():  # gmin stepping only: plain Newton skips these products
-        residual, jac = residual + shunt * x, jac + np.diag(shunt)
+        residual = residual + shunt * x
+        if not sparse:
+            jac = jac + np.diag(shunt)
     limited = np.zeros(x.shape[0], dtype=bool)
     if problem.devices.banks:
         vraw = problem.devices.junctions(problem.extend(x))
@@ -162,22 +167,29 @@ def _step(problem: Problem, state: State, shunt: np.ndarray, scale: float
         state.fresh = False
         for vr, vl in zip(vraw, vlim, strict=True):
             limited |= np.any(vr != vl, axis=(1, 2))
-        currents, dev_jac = problem.devices.linearise(vlim, vraw)
+        if sparse:
+            currents, slopes = problem.devices.linearise_slopes(vlim, vraw)
+        else:
+            currents, dev_jac = problem.devices.linearise(vlim, vraw)
+            jac = jac + dev_jac
         residual = residual + currents
-        jac = jac + dev_jac
         state.vstar = vlim
     if state.chord is not None:
-        step = _chord_step(state.chord[0], -residual)
+        step = _chord_step(state.chord, -residual)
         if step is not None:
             return step, limited
+    if sparse:
+        return g.solve(-residual, slopes, shunt), limited
     return solve_stack(jac, -residual), limited
 
 
-def _chord_step(jac: np.ndarray, rhs: np.ndarray) -> np.ndarray | None:
+def _chord_step(chord, rhs: np.ndarray) -> np.ndarray | None:
     """Every sample's step with one shared Jacobian (one factorisation); None when that
     Jacobian is singular, and each sample then steps with its own."""
+    if isinstance(chord, SparseStack):
+        return chord.solve_shared(rhs)
     try:
-        return np.linalg.solve(jac, rhs.T).T
+        return np.linalg.solve(chord[0], rhs.T).T
     except np.linalg.LinAlgError:
         return None
 

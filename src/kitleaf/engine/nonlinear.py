@@ -37,6 +37,21 @@ class Devices:
                   ) -> tuple[np.ndarray, np.ndarray]:
         """Node currents (s, n) of each device's tangent at ``vstar`` evaluated at ``vraw``,
         and the device part of the Jacobian (s, n, n)."""
+        i_cols, d_cols = self._tangents(vstar, vraw)
+        n, samples = self.size, vraw[0].shape[0]
+        both = apply(np.concatenate(i_cols + d_cols, axis=1), self._both, (n + n * n,))
+        return both[:, :n], both[:, n:].reshape(samples, n, n)
+
+    def linearise_slopes(self, vstar: list[np.ndarray], vraw: list[np.ndarray]
+                         ) -> tuple[np.ndarray, np.ndarray]:
+        """As :meth:`linearise`, with the Jacobian as its value columns (s, columns of
+        :attr:`jacobian_map`), never formed n x n (a large circuit's sparse Newton)."""
+        i_cols, d_cols = self._tangents(vstar, vraw)
+        return (apply(np.concatenate(i_cols, axis=1), self.current_map, (self.size,)),
+                np.concatenate(d_cols, axis=1))
+
+    def _tangents(self, vstar: list[np.ndarray], vraw: list[np.ndarray]):
+        """Each bank's tangent currents and slopes, as value columns (s, ...)."""
         samples = vraw[0].shape[0]
         i_cols, d_cols = [], []
         for bank, vs, vr in zip(self.banks, vstar, vraw, strict=True):
@@ -44,9 +59,7 @@ class Devices:
             tangent = current + np.einsum("stkd,skd->std", slope, vr - vs)
             i_cols.append((tangent * bank.polarity).reshape(samples, -1))
             d_cols.append(slope.reshape(samples, -1))
-        n = self.size
-        both = apply(np.concatenate(i_cols + d_cols, axis=1), self._both, (n + n * n,))
-        return both[:, :n], both[:, n:].reshape(samples, n, n)
+        return i_cols, d_cols
 
     def currents(self, v: list[np.ndarray]) -> np.ndarray:
         """Node currents (s, n) of every device at junction voltages ``v``, without the

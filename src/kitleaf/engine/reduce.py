@@ -24,6 +24,7 @@ from kitleaf.engine.batch_lu import block, solve_many
 from kitleaf.engine.compile import incidence
 from kitleaf.engine.newton import Problem, State, initial_state, newton, solve_state
 from kitleaf.engine.nonlinear import Devices
+from kitleaf.engine.sparse_stack import SparseStack
 from kitleaf.errors import SolveError
 
 _INDEX_FIELDS = ("jp", "jn", "src", "dst", "cap_a", "cap_b", "ext")
@@ -191,8 +192,8 @@ def solve_reduced(problem: Problem, state: State, part: Partition | None,
     circuits it cannot reduce) take the full solver with its fallbacks. Returns the
     reduction (None when there was none), whose elimination the AC response reuses.
     Without ``currents`` the fixing sources' branch currents are left NaN (see expand)."""
-    if part is None or not problem.devices.banks:
-        solve_state(problem, state)
+    if part is None or not problem.devices.banks or isinstance(problem.g, SparseStack):
+        solve_state(problem, state)  # a sparse G is solved whole: its Schur complement fills
         return None
     try:
         red = reduce_problem(problem, part)

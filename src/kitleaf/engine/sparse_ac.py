@@ -4,23 +4,22 @@ A batch of small circuits is solved densely (one LAPACK call for all samples). A
 (many stages, a long ladder) would hold (samples, n, n) arrays, quadratic in the circuit, and
 pay n^3 per sample and per solve; its MNA matrix has a few entries per row. Here the matrix is
 kept as the values of its structural entries per sample, the samples are set side by side as
-one block-diagonal matrix and factorised once per frequency by SuperLU, whose fill stays
-inside each block, so memory and time grow with the circuit. The factorisation is kept: the
-1 kHz solutions and every stage's impedance share it. A branch taken out (``opened``: its
-row says its current is zero) is a rank-one change of the matrix, answered from the same
-factorisation by the Sherman-Morrison formula (see :meth:`SparseAc.solve`).
+one block-diagonal matrix and factorised once per frequency by SuperLU
+(:func:`~kitleaf.engine.sparse_stack.block_lu`), whose fill stays inside each block, so
+memory and time grow with the circuit. The factorisation is kept: the 1 kHz solutions and
+every stage's impedance share it. A branch taken out (``opened``: its row says its current is
+zero) is a rank-one change of the matrix, answered from the same factorisation by the
+Sherman-Morrison formula (see :meth:`SparseAc.solve`).
 """
 
 from __future__ import annotations
 
 import numpy as np
-import scipy.sparse as sp
-import scipy.sparse.linalg as spl
 
 from kitleaf.engine.compile import System
 from kitleaf.engine.newton import extend
 from kitleaf.engine.nonlinear import Devices
-from kitleaf.errors import SolveError
+from kitleaf.engine.sparse_stack import block_lu
 
 SPARSE_SIZE = 64  # unknowns from which direct AC solves go sparse (the demo kits have <= 30)
 FACTORS_KEPT = 4  # factorisations kept per batch (the 1 kHz one serves nearly every call)
@@ -79,17 +78,7 @@ class SparseAc:
         if key is not None and key in self._factors:
             return self._factors[key]
         s = 2j * np.pi * f[:, None]
-        values = self.g[pick] + s * self.c[pick]
-        offset = (np.arange(pick.size) * self.size)[:, None]
-        total = pick.size * self.size
-        matrix = sp.csc_matrix((values.ravel(), ((offset + self.rows).ravel(),
-                                                 (offset + self.cols).ravel())),
-                               shape=(total, total))
-        try:
-            lu = spl.splu(matrix)
-        except RuntimeError:  # SuperLU: "Factor is exactly singular"
-            raise SolveError("the circuit matrix is singular (a floating node or a loop of "
-                             "sources); check the connections") from None
+        lu = block_lu(self.g[pick] + s * self.c[pick], self.rows, self.cols, self.size)
         if key is not None:
             if len(self._factors) >= FACTORS_KEPT:
                 self._factors.clear()

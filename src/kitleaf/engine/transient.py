@@ -6,7 +6,8 @@ step (reduced_steps.py, BDF2 at a fixed step on the device rows alone). The sign
 resampled up by an integer factor first and the output back down after (scipy's polyphase
 resampler, whose filter removes what the steps put above the output's band), so the
 harmonics a clipping stage makes above the output's Nyquist frequency are not folded back
-into the band by the steps' own sampling. The compiled steps (``kernels``) run where they
+into the band by the steps' own sampling (at a factor of one the signal is stepped as it
+is, one sample a step). The compiled steps (``kernels``) run where they
 exist and take every family of the circuit's devices; the numpy steps are their reference.
 """
 
@@ -20,13 +21,15 @@ import numpy as np
 from scipy.signal import resample_poly
 
 from kitleaf.engine.batch import BatchResult
-from kitleaf.engine.kernels import pack
 from kitleaf.engine.reduce import partition
 from kitleaf.engine.reduced_shooting import members
 from kitleaf.engine.reduced_steps import Members, StepState, outputs, step
 from kitleaf.errors import SolveError
 
-CHUNK_S = 0.05  # seconds of signal per run of steps: a failure is found within one
+# seconds of signal per run of steps: a failure is found within one (by the numpy steps, run
+# again up to it), and each run costs the packing of the members for the compiled steps
+CHUNK_S = 0.25
+MAX_RATE = 10e6  # steps per second; past this no audio question is asked
 
 
 @dataclass
@@ -47,8 +50,8 @@ class SampledMembers(Members):
 
 @dataclass(frozen=True)
 class TransientResult:
-    """Each variant's waveforms at the kept nodes (variant, samples) at the signal's rate,
-    less their DC operating point; ``failed_at`` is the time (seconds) where a variant's
+    """Each member's waveforms at the kept nodes (members, samples) at the signal's rate,
+    less their DC operating point; ``failed_at`` is the time (seconds) where a member's
     steps did not settle (its waveform is then cut there), NaN where it ran through, and
     ``where`` the node that moved most in that step."""
 
@@ -68,18 +71,23 @@ class TransientResult:
             raise SolveError(f"no waveform was kept for node {node!r}") from None
 
 
+
 def transient_response(batches: Sequence[BatchResult], source: str, signal: np.ndarray,
                        rate: float, oversample: int, nodes: Sequence[str]) -> TransientResult:
-    """The response of each batch's nominal circuit (variants sharing one circuit's unknowns)
-    to ``source`` playing ``signal`` (volts at ``rate``, on top of its DC value; one for all
-    variants, or one row each), stepped at ``oversample`` times ``rate``; the kept ``nodes``
-    come back at ``rate``."""
+    """The response of every member of ``batches`` (variants sharing one circuit's unknowns,
+    each with its samples: member = variant x sample) to ``source`` playing ``signal`` (volts
+    at ``rate``, on top of its DC value; one row for all members, or one each), stepped at
+    ``oversample`` times ``rate`` (1: one step a sample, nothing resampled); the kept
+    ``nodes`` come back at ``rate``."""
     if not batches or any(b.layout != batches[0].layout for b in batches):
         raise SolveError("the variants of a rendered signal must share one circuit's unknowns")
     signal = np.asarray(signal, float)
-    if oversample < 1 or not np.all(np.isfinite(signal)):
-        raise SolveError("a rendered signal must be finite and stepped at its rate or above")
-    fine = resample_poly(signal, oversample, 1, axis=-1)
+    if not np.all(np.isfinite(signal)):
+        raise SolveError("the signal to play holds a value that is not a finite number")
+    if not (oversample >= 1 and math.isfinite(rate) and 0.0 < rate * oversample <= MAX_RATE):
+        raise SolveError(f"a step rate of {rate!r} per second times {oversample!r} cannot be "
+                         f"simulated (it must be above 0 and at most {MAX_RATE:g})")
+    fine = resample_poly(signal, oversample, 1, axis=-1) if oversample > 1 else signal
     h = 1.0 / (rate * oversample)
     rows = [batches[0].row(n) for n in nodes]
     built = members(list(batches), source, np.ones(1), 2.0 * math.pi / h, rows, 1)
@@ -87,13 +95,15 @@ def transient_response(batches: Sequence[BatchResult], source: str, signal: np.n
         raise SolveError("the circuit has no device rows to step (or a junction capacitance "
                          "on an eliminated row), so it cannot be rendered in time")
     mem, _ = built
-    x_dc = np.concatenate([b.x[:1] for b in batches])
+    x_dc = np.concatenate([np.broadcast_to(b.x, (batches[0].size, b.x.shape[1]))
+                           for b in batches])
     mem = SampledMembers(**{f: getattr(mem, f) for f in Members.__dataclass_fields__},
-                         signal=np.broadcast_to(fine, (len(batches), fine.shape[-1])), h=h)
+                         signal=np.broadcast_to(fine, (x_dc.shape[0], fine.shape[-1])), h=h)
     waves, failed_at, where = _run(mem, _start(mem, batches[0], x_dc), x_dc, batches[0], h,
                                    rows)
-    at_rate = resample_poly(waves, 1, oversample, axis=-1)[..., :signal.shape[-1]]
-    return TransientResult(rate, {n: at_rate[:, i] for i, n in enumerate(nodes)},
+    if oversample > 1:
+        waves = resample_poly(waves, 1, oversample, axis=-1)[..., :signal.shape[-1]]
+    return TransientResult(rate, {n: waves[:, i] for i, n in enumerate(nodes)},
                            failed_at, tuple(where))
 
 
@@ -129,6 +139,8 @@ def _run(mem: SampledMembers, st: StepState, x_dc: np.ndarray, first: BatchResul
                                first)
             failed_at[b], where[b] = k * h, node
             waves[b, :, k:] = np.nan
+        if not np.isnan(failed_at).any():
+            break  # every member failed: the rest of their waves is NaN already
     return waves - dc[:, :, None], failed_at, where
 
 
@@ -139,6 +151,9 @@ def _steps(mem: SampledMembers, st: StepState, begin: int, stop: int, h: float) 
         return compiled.run(mem, st, mem.signal[:, begin:stop], h, None, keep=False)[0]
     found = []
     for k in range(begin, stop):
+        if st.failed.all():  # nothing left to step: the failed members' waves are cut anyway
+            found.extend([np.full(mem.linear.out_t.shape[:2], np.nan)] * (stop - k))
+            break
         u = step(mem, st, k * h, h)
         found.append(outputs(mem, st.x_t[0], u, k * h))
     return np.stack(found, axis=2)
@@ -177,59 +192,3 @@ def _copy(st: StepState, member: int | None = None) -> StepState:
                      [pick(x) for x in st.q], [pick(v) for v in st.vstar],
                      [pick(s) for s in st.sens], pick(st.failed),
                      None if st.sens_x is None else [pick(s) for s in st.sens_x])
-
-
-# The compiled steps alone, one signal for a batch's members (tolerance samples) at the
-# stepping rate itself: the plain form of the path above.
-MAX_RATE = 10e6  # steps per second; past this no audio question is asked
-
-
-@dataclass(frozen=True)
-class Transient:
-    """Each kept node's samples per member (members, samples); ``failed`` marks a member
-    whose Newton did not settle at some step (its samples are meaningless from there)."""
-
-    rate: float
-    waves: dict[str, np.ndarray] = field(repr=False)
-    failed: np.ndarray = field(repr=False)
-
-    def wave(self, node: str) -> np.ndarray:
-        try:
-            return self.waves[node]
-        except KeyError:
-            raise SolveError(f"no waveform was kept for node {node!r}") from None
-
-
-def transient(batch: BatchResult, source: str, signal: np.ndarray, rate: float,
-              nodes: Sequence[str]) -> Transient:
-    """The circuit's response at ``nodes`` to ``source`` playing ``signal`` at ``rate``."""
-    signal = np.asarray(signal, dtype=float).reshape(-1)
-    if not (math.isfinite(rate) and 0.0 < rate <= MAX_RATE):
-        raise SolveError(f"a step rate of {rate!r} per second cannot be simulated "
-                         f"(it must be above 0 and at most {MAX_RATE:g})")
-    if not np.all(np.isfinite(signal)):
-        raise SolveError("the signal to play holds a value that is not a number")
-    rows = [batch.row(n) for n in nodes]
-    # one "period" of one step: h = 1 / rate; the unit level makes the drive the signal
-    built = members([batch], source, np.ones(1), 2.0 * math.pi * rate, rows, 1)
-    if built is None:
-        raise SolveError("the circuit has no semiconductor to step in time; its response "
-                         "is its AC response")
-    mem = built[0]
-    st = _at_rest(mem, batch)
-    drive = np.broadcast_to(signal, (st.failed.size, signal.size))
-    waves, _, _ = pack.run(mem, st, drive, 1.0 / rate, keep=False)
-    return Transient(rate, {n: waves[:, i] for i, n in enumerate(nodes)}, st.failed.copy())
-
-
-def _at_rest(mem, batch: BatchResult) -> StepState:
-    """Every member at its operating point, as if it had rested there for ever."""
-    count = mem.amplitude.size
-    x_dc = np.broadcast_to(batch.x, (count, batch.x.shape[1]))
-    keep = partition(batch.system).keep
-    x_t = np.ascontiguousarray(x_dc[:, keep])
-    xe = mem.extended(x_t, 0.0)
-    q = x_dc @ batch.system.cap_columns()[0]
-    none = np.zeros((count, q.shape[1], 0))
-    return StepState([x_t] * 3, [xe, xe], [q, q], mem.devices.junctions(xe), [none, none],
-                     np.zeros(count, bool))

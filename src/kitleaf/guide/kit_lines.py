@@ -164,10 +164,15 @@ def playing_levels(entry: Entry) -> tuple[float, ...]:
 
 def test_tone(entry: Entry) -> float:
     """A ``test-tone:`` line as hertz: "440 Hz"."""
-    example = "'test-tone: 1 kHz' (the sine the pickup plays, 20 Hz to 20 kHz)"
-    hz = _drive_value(entry, entry.value, "frequency", example)
-    _within(entry, entry.value, hz, TONE_HZ, "frequency", "the tone (the audio band)",
-            example)
+    return tone_hz(entry, entry.value,
+                   "'test-tone: 1 kHz' (the sine the pickup plays, 20 Hz to 20 kHz)")
+
+
+def tone_hz(entry: Entry, word: str, example: str) -> float:
+    """``word`` of ``entry`` as the frequency of a test tone, within TONE_HZ; a located
+    error written with ``example`` where it cannot be simulated."""
+    hz = _drive_value(entry, word, "frequency", example)
+    _within(entry, word, hz, TONE_HZ, "frequency", "the tone (the audio band)", example)
     return hz
 
 

@@ -50,6 +50,10 @@ TITLE_GAP_PT = 8.0  # from the plot's title to the first panel's title
 PANEL_GAP_PT = 12.0  # from one panel's tick labels to the next panel's title
 LEGEND_SPACE_PT = 10.0  # from a panel's right edge to its legend
 LEGEND_WRAP_PT = 170.0  # a longer legend label continues on the next line
+# The narrow sheet a phone shows at its own width (350 CSS px, text still at 9 px): the legend
+# goes under each panel, in as many columns as fit.
+NARROW_WIDTH_PT = 262.0
+LEGEND_COLUMN_GAP_PT = 8.0
 SPAN_DB = 60.0  # dB shown below the highest curve; quieter curves leave the bottom edge
 BAND_LABEL = "part tolerances (5–95 %)"
 
@@ -92,11 +96,14 @@ class Placed:
     title: tuple[Label, ...]
     y_ticks: tuple[float, ...]
     legend: tuple[tuple[tuple | None, tuple[str, ...]], ...]  # (curve style or band, lines)
+    # under the panel (the narrow sheet): its top left corner, columns and column width
+    under: tuple[float, float, int, float] | None = None
 
 
-def render_response_svg(plot: ResponsePlot) -> str:
-    """The plot as SVG text; the same plot always gives the same bytes."""
-    width, height, title, placed = layout(plot)
+def render_response_svg(plot: ResponsePlot, narrow: bool = False) -> str:
+    """The plot as SVG text; the same plot always gives the same bytes. ``narrow``: the sheet
+    a phone shows, each legend under its panel."""
+    width, height, title, placed = narrow_layout(plot) if narrow else layout(plot)
     sheet = SvgDocument(width, height, title=plot.title)
     sheet.rect(0, 0, width, height, "fill: #ffffff")
     draw.labels(sheet, title, extra="; font-weight: 700")
@@ -118,7 +125,10 @@ def _draw(sheet: SvgDocument, name: str, placed: Placed, log_f: np.ndarray, last
     texts = _number_labels(placed.y_ticks)
     draw.y_axis(sheet, frame, placed.y_ticks, texts, max(map(label_width, texts), default=0.0))
     draw.labels(sheet, placed.title)
-    draw.legend(sheet, frame, frame.right + LEGEND_SPACE_PT, placed.legend)
+    if placed.under is None:
+        draw.legend(sheet, frame, frame.right + LEGEND_SPACE_PT, placed.legend)
+    else:
+        draw.legend_rows(sheet, *placed.under, placed.legend)
 
 
 def layout(plot: ResponsePlot) -> tuple[float, float, tuple[Label, ...], list[Placed]]:
@@ -151,6 +161,43 @@ def layout(plot: ResponsePlot) -> tuple[float, float, tuple[Label, ...], list[Pl
         y = frame.bottom + TICK_PT + PAD_PT + LINE_EM * FONT_PT + PANEL_GAP_PT
     bottom = y - PANEL_GAP_PT + (LABEL_PAD_PT + LINE_EM * FONT_PT if placed else 0.0)
     return width, bottom + MARGIN_PT, _lines(MARGIN_PT, MARGIN_PT, title, TITLE_PT), placed
+
+
+def narrow_layout(plot: ResponsePlot) -> tuple[float, float, tuple[Label, ...], list[Placed]]:
+    """:func:`layout` for a phone: the sheet :data:`NARROW_WIDTH_PT` wide, each panel the
+    sheet's width and its legend under it, in columns as far as the widest label allows."""
+    scales = [_y_range(panel) for panel in plot.panels]
+    ticks = [_y_ticks(y_range, PANEL_HEIGHT_PT) for y_range, _ in scales]
+    widest_tick = max((label_width(t) for values in ticks for t in _number_labels(values)),
+                      default=0.0)
+    left = max(LEFT_PT, MARGIN_PT + FONT_PT + LABEL_PAD_PT + widest_tick + PAD_PT + TICK_PT)
+    width = NARROW_WIDTH_PT
+    room = width - 2 * MARGIN_PT
+    label_room = room - LEGEND_HANDLE_PT - LEGEND_GAP_PT
+    title = wrap_label(plot.title, TITLE_PT, room, "bold")
+    y = MARGIN_PT + len(title) * LINE_EM * TITLE_PT + TITLE_GAP_PT
+    placed = []
+    for k, panel in enumerate(plot.panels):
+        entries = tuple((style, wrap_label(" ".join(text), LEGEND_PT, label_room) or ("",))
+                        for style, text in _legend_entries(panel, scales[k][1]))
+        widest = max((label_width(t, LEGEND_PT) for _, lines in entries for t in lines),
+                     default=0.0)
+        cell = LEGEND_HANDLE_PT + LEGEND_GAP_PT + widest + LEGEND_COLUMN_GAP_PT
+        columns = max(1, int((room + LEGEND_COLUMN_GAP_PT) // cell))
+        title_labels = _lines(left, y, wrap_label(panel.title, FONT_PT, width - left
+                                                  - MARGIN_PT), FONT_PT)
+        y += len(title_labels) * LINE_EM * FONT_PT + PANEL_TITLE_PAD_PT
+        frame = Frame(left, y, width - left - MARGIN_PT, PANEL_HEIGHT_PT,
+                      x_range=(float(np.log10(plot.freqs[0])), float(np.log10(plot.freqs[-1]))),
+                      y_range=scales[k][0])
+        y = frame.bottom + TICK_PT + PAD_PT + LINE_EM * FONT_PT
+        if k == len(plot.panels) - 1:  # the axis label under the last panel
+            y += LABEL_PAD_PT + LINE_EM * FONT_PT
+        under = (MARGIN_PT, y + PAD_PT, columns, cell)
+        placed.append(Placed(panel, frame, title_labels, ticks[k], entries, under))
+        y += PAD_PT + draw.legend_rows_height(entries, columns) + PANEL_GAP_PT
+    return width, y - PANEL_GAP_PT + MARGIN_PT, _lines(MARGIN_PT, MARGIN_PT, title, TITLE_PT), \
+        placed
 
 
 def _lines(x: float, top: float, lines: tuple[str, ...], size: float) -> tuple[Label, ...]:

@@ -186,18 +186,43 @@ def legend_height(entries) -> float:
     return lines * LINE_EM * LEGEND_PT + LEGEND_ROW_GAP_PT * max(len(entries) - 1, 0)
 
 
+def legend_rows_height(entries, columns: int) -> float:
+    """The height of a legend laid out in rows of ``columns`` entries (each row as tall as
+    its longest label)."""
+    rows = [entries[i:i + columns] for i in range(0, len(entries), columns)]
+    lines = sum(max(len(text) for _, text in row) for row in rows)
+    return lines * LINE_EM * LEGEND_PT + LEGEND_ROW_GAP_PT * max(len(rows) - 1, 0)
+
+
+def legend_rows(sheet: SvgDocument, left: float, top: float, columns: int, cell: float,
+                entries) -> None:
+    """Handles and labels row by row in ``columns`` columns ``cell`` wide, from ``top``."""
+    row_h = LINE_EM * LEGEND_PT
+    y = top + row_h / 2
+    for start in range(0, len(entries), columns):
+        row = entries[start:start + columns]
+        for k, (style, text) in enumerate(row):
+            _entry(sheet, left + k * cell, y, style, text)
+        y += max(len(text) for _, text in row) * row_h + LEGEND_ROW_GAP_PT
+
+
+def _entry(sheet: SvgDocument, x: float, y: float, style, text) -> None:
+    """One legend entry: its handle (a line, or the band's swatch) and its label's lines."""
+    if style is None:
+        sheet.rect(x, y - 0.35 * LEGEND_PT, LEGEND_HANDLE_PT, 0.7 * LEGEND_PT,
+                   f"fill: {BAND_COLOUR}")
+    else:
+        sheet.path(f"M{num(x)} {num(y)}H{num(x + LEGEND_HANDLE_PT)}", line(*style))
+    for k, part in enumerate(text):
+        sheet.text(x + LEGEND_HANDLE_PT + LEGEND_GAP_PT, y + k * LINE_EM * LEGEND_PT, part,
+                   LEGEND_PT, va="center")
+
+
 def legend(sheet: SvgDocument, frame: Frame, left: float, entries) -> None:
     """Handles and labels in a column centred beside the panel, a label on one or more lines;
     each handle sits beside its label's first line."""
     row = LINE_EM * LEGEND_PT
     y = frame.top + frame.height / 2 - legend_height(entries) / 2 + row / 2
     for style, text in entries:
-        if style is None:
-            sheet.rect(left, y - 0.35 * LEGEND_PT, LEGEND_HANDLE_PT, 0.7 * LEGEND_PT,
-                       f"fill: {BAND_COLOUR}")
-        else:
-            sheet.path(f"M{num(left)} {num(y)}H{num(left + LEGEND_HANDLE_PT)}", line(*style))
-        for k, part in enumerate(text):
-            sheet.text(left + LEGEND_HANDLE_PT + LEGEND_GAP_PT, y + k * row, part, LEGEND_PT,
-                       va="center")
+        _entry(sheet, left, y, style, text)
         y += len(text) * row + LEGEND_ROW_GAP_PT

@@ -2,8 +2,8 @@
 
 Two pictures per kit: the output over two cycles at each playing level beside the pickup's
 own sine (one panel per level), and the drive curve: THD and output peak against the pickup
-level, one line per position of each knob (others at half way), the part-tolerance band
-shaded behind the knobs-at-half line. The sheet is 262 pt (349 CSS px) wide with 7.5 pt
+level, one line per position of each knob (others at half way), each line's part-tolerance
+band shaded behind it in its colour. The sheet is 262 pt (349 CSS px) wide with 7.5 pt
 text and more, so every label stays 10 px or larger on a 390 px phone, where the figure
 keeps its drawn size. Each panel's legend sits under its axis labels, in as many columns as
 the sheet holds, so it never covers a line.
@@ -34,6 +34,7 @@ X_LABELS_PT = 3.5 + 3.5 + LINE_EM * FONT_PT  # ticks, their gap and the labels u
 DECADES = 3  # the most a curve panel spans: a far lower line (a volume near zero) is named
 INPUT_STYLE = ("#7f8c8d", (0, (4, 2)), 1.1)
 OUTPUT_STYLE = ("#111111", "-", 1.8)
+BAND_OPACITY = 0.2  # a line's band in its colour
 
 
 @dataclass(frozen=True)
@@ -48,13 +49,14 @@ class WavePanel:
 
 @dataclass(frozen=True)
 class CurvePanel:
-    """One knob's lines against the pickup levels: (label, values) per position; the band
-    (low, high) per level may be empty. ``log_y``: THD on decades, else volts."""
+    """One knob's lines against the pickup levels: (label, values) per position; ``bands``
+    holds each line's tolerance band, (low, high) per level, or None where it has none (or
+    is empty: no bands). ``axis``: "thd" on decades, else volts."""
 
     title: str
     axis: str
     lines: tuple[tuple[str, tuple[float, ...]], ...]
-    band: tuple[tuple[float, ...], tuple[float, ...]] | tuple = ()
+    bands: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -114,7 +116,7 @@ def _waves(sheet: SvgDocument, name: str, panel: WavePanel, top: float, freq: fl
     frame = _frame(top, (0.0, 2.0), (-top_v, top_v))
     ticks = _volt_ticks(top_v)
     clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
-    _grid(sheet, frame, [0.5, 1.0, 1.5], ticks, "", clip)
+    _grid(sheet, frame, [0.5, 1.0, 1.5], ticks, [], clip)
     sheet.path(polyline(frame.x(t), frame.y(source)), draw.line(*INPUT_STYLE), clip)
     sheet.path(polyline(frame.x(t), frame.y(output)), draw.line(*OUTPUT_STYLE), clip)
     ticks_x = [0.0, 0.5, 1.0, 1.5, 2.0]  # periods
@@ -133,11 +135,10 @@ def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, picture: DrivePict
     low, high = _decades(panel)
     frame = _frame(top, (float(x[0]), float(x[-1])), (float(low), float(high)))
     clip = sheet.clip(name, frame.left, frame.top, frame.width, frame.height)
-    band = ""
-    if panel.band:
-        band = draw.band_outline(frame, x, _log(panel.band[0]), _log(panel.band[1]))
+    bands = [(draw.band_outline(frame, x, _log(b[0]), _log(b[1])), _band_fill(i, len(values)))
+             for i, b in enumerate(panel.bands) if b]
     decades = [float(d) for d in range(low, high + 1)]
-    _grid(sheet, frame, [], decades, band, clip)
+    _grid(sheet, frame, [], decades, bands, clip)
     for i, v in enumerate(values):
         sheet.path(polyline(frame.x(x), frame.y(_log(v))),
                    draw.line(*draw.style_of(i, len(values))), clip)
@@ -148,10 +149,18 @@ def _curves(sheet: SvgDocument, name: str, panel: CurvePanel, picture: DrivePict
     _legend(sheet, frame, _entries(panel))
 
 
-def _grid(sheet: SvgDocument, frame: Frame, x, y, band: str, clip: str) -> None:
-    """Behind the lines: the band, the grid and the frame."""
-    if band:
-        sheet.path(band, f"fill: {draw.BAND_COLOUR}", clip)
+def _band_fill(i: int, count: int) -> str:
+    """Line ``i``'s band: grey behind a lone line, else its line's colour, faint enough
+    that overlapping bands and every line stay readable."""
+    if count == 1:
+        return f"fill: {draw.BAND_COLOUR}"
+    return f"fill: {draw.style_of(i, count)[0]}; fill-opacity: {BAND_OPACITY}"
+
+
+def _grid(sheet: SvgDocument, frame: Frame, x, y, bands, clip: str) -> None:
+    """Behind the lines: the bands (outline, fill style), the grid and the frame."""
+    for outline, fill in bands:
+        sheet.path(outline, fill, clip)
     draw.rules(sheet, frame, x=x, y=y, style=f"stroke: {draw.GRID_COLOUR}; stroke-width: 0.6",
                clip=clip)
     sheet.rect(frame.left, frame.top, frame.width, frame.height,
@@ -191,7 +200,8 @@ def _decades(panel: CurvePanel) -> tuple[int, int]:
     """The decades a curve panel's axis runs between: every line and the band, but at most
     :data:`DECADES` below the top, so the lines that matter keep their room."""
     shown = np.concatenate([np.asarray(v, float) for _, v in panel.lines]
-                           + [np.asarray(b, float) for b in panel.band])
+                           + [np.asarray(edge, float) for b in panel.bands if b
+                              for edge in b])
     shown = shown[np.isfinite(shown) & (shown > 0)]
     low = math.floor(math.log10(max(shown.min(), 1e-6))) if shown.size else -3
     high = math.ceil(math.log10(shown.max())) if shown.size else 0
@@ -208,7 +218,7 @@ def _entries(panel) -> list[tuple]:
     entries = [(draw.style_of(i, len(panel.lines)),
                 label + (" (below the plot)" if _under(values, floor) else ""))
                for i, (label, values) in enumerate(panel.lines)]
-    return entries + ([(None, "part tolerances")] if panel.band else [])
+    return entries + ([(None, "part tolerances")] if any(panel.bands) else [])
 
 
 def _under(values, floor: float) -> bool:

@@ -137,13 +137,13 @@ def drive_picture(specs: KitSpecs) -> DrivePicture | None:
     for name in names or [""]:
         settings = _control_settings(drive, name)
         title = _title(name, names, rests) or "Knobs fixed"
-        band = drive.band  # around the line of the knobs at half way, in every panel
+        bands = [s.band for _, s in settings]  # each line's own tolerance spread
         panels.append(CurvePanel(f"THD, {title}", "thd",
                                  tuple((lb, s.thd) for lb, s in settings),
-                                 (band.thd_low, band.thd_high) if band else ()))
+                                 tuple(b and (b.thd_low, b.thd_high) for b in bands)))
         panels.append(CurvePanel(f"Output peak, {title}", "volts",
                                  tuple((lb, s.peak) for lb, s in settings),
-                                 (band.peak_low, band.peak_high) if band else ()))
+                                 tuple(b and (b.peak_low, b.peak_high) for b in bands)))
     return DrivePicture(f"{specs.title}: distortion and output against the pickup level",
                         tuple(panels), drive.levels, tuple(p.level for p in drive.base.points),
                         drive.freq)

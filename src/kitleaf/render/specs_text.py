@@ -105,10 +105,10 @@ def _drive_lines(drive: Drive | None) -> list[str]:
     d = drive.base
     if d.error:
         return [f"  large signal       not computed: {d.error}"]
-    lines = [f"  clean up to        {level_text(d.clean_limit, drive.levels)} pickup peak "
-             "(THD 1 %)",
-             f"  driven from        {level_text(d.driven_limit, drive.levels)} pickup peak "
-             "(THD 10 %)"]
+    clean = level_text(d.clean_limit, drive.levels, d.clean_below)
+    driven = level_text(d.driven_limit, drive.levels, d.driven_below)
+    lines = [f"  clean up to        {clean} pickup peak (THD 1 %)",
+             f"  driven from        {driven} pickup peak (THD 10 %)"]
     lines += [f"    at {si(p.level, 'voltage'):<12}THD {thd_text(p.thd)}, output "
               f"{si(p.peak, 'voltage')} peak" for p in d.points]
     if d.swing_up is None or d.swing_down is None:

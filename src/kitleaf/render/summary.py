@@ -9,13 +9,15 @@ from kitleaf.values import format_db, format_value
 
 def headline(specs: KitSpecs) -> tuple[tuple[str, str], ...]:
     """Name-value pairs for the index card."""
-    rows = [("Gain at 1 kHz", small_signal_text(specs.gain_db, "db", specs.unstable))]
+    # a kit that clips by design reaches its gain only for the smallest signals
+    words = "Small-signal gain" if specs.clips else "Gain"
+    rows = [(f"{words} at 1 kHz", small_signal_text(specs.gain_db, "db", specs.unstable))]
     # each knob alone at every step, and the knobs together at the ends of their travel; an
     # unstable setting's gain means nothing
     gains = [p.gain_db.nominal for p in specs.knob_sweep + specs.knob_ends
              if p.unstable is None]
     if gains:
-        rows[0] = ("Gain range", f"{format_db(min(gains))} to {format_db(max(gains))}")
+        rows[0] = (f"{words} range", f"{format_db(min(gains))} to {format_db(max(gains))}")
     rows.append(("Input impedance", format_value(specs.input_impedance.nominal, "resistance")))
     rows.append(("Current draw", format_value(specs.supply_current.nominal, "current")))
     return tuple(rows)

@@ -63,10 +63,12 @@ def process_guide(path: Path, themes: list[Path], *, cache: Cache | None = None)
         files[f"{slug}/{name}.svg"] = cached_svg(
             cache, name, (kit, headlines),
             lambda narrow=narrow: render_overview_svg(kit, headlines, narrow=narrow))
-    responses = []
+    responses = []  # (wide, narrow) file names of each part
     for k, part in enumerate(in_figures(kit_plot(specs))):
-        responses.append(f"response-{k + 1}.svg" if k else "response.svg")
-        files[f"{slug}/{responses[-1]}"] = plot_svg(cache, part)
+        stem = f"response-{k + 1}" if k else "response"
+        responses.append((f"{stem}.svg", f"{stem}-narrow.svg"))
+        files[f"{slug}/{stem}.svg"] = plot_svg(cache, part)
+        files[f"{slug}/{stem}-narrow.svg"] = plot_svg(cache, part, narrow=True)
     drive_files = drive_pictures(cache, specs, slug, files)
     harness = build_harness(guide, kit)
     previews = cached_previews(cache, kit, solved) if guide.kit.sound_previews else None
@@ -117,7 +119,9 @@ def stage_files(cache: Cache, kit: KitCircuit, specs: KitSpecs, slug: str,
         plot = stage_plot(specs, stage.id)
         if plot is not None:
             files[f"{slug}/{stage.id}-response.svg"] = plot_svg(cache, plot)
+            files[f"{slug}/{stage.id}-response-narrow.svg"] = plot_svg(cache, plot, narrow=True)
             entry["plot"] = f"{stage.id}-response.svg"
+            entry["plot_narrow"] = f"{stage.id}-response-narrow.svg"
         assets[stage.id] = entry
     return files, assets
 
@@ -140,8 +144,10 @@ def cached_svg(cache: Cache, kind: str, inputs: object, draw) -> bytes:
     return cache.bytes_for(kind, key, lambda: draw().encode())
 
 
-def plot_svg(cache: Cache, plot: ResponsePlot) -> bytes:
-    return cached_svg(cache, "plot", plot, lambda: render_response_svg(plot))
+def plot_svg(cache: Cache, plot: ResponsePlot, narrow: bool = False) -> bytes:
+    """A response plot's SVG; ``narrow``: the phone's sheet, legends under the panels."""
+    return cached_svg(cache, "plot-narrow" if narrow else "plot", plot,
+                      lambda: render_response_svg(plot, narrow))
 
 
 def cached_symptoms(cache: Cache, kit: KitCircuit) -> dict:

@@ -15,19 +15,20 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import MappingProxyType
 
 from kitleaf.circuit.chain import KitCircuit
 from kitleaf.display import figure, unstable_text
 from kitleaf.errors import KitleafError, SpecError, raise_all
 from kitleaf.guide.model import Entry, Guide
-from kitleaf.specs.lookup import KIT, Computed, computed_values, lookup
+from kitleaf.specs.claim_tone import ClaimText, claim_entries, split_tone
+from kitleaf.specs.lookup import Computed, computed_values, lookup
 from kitleaf.specs.model import KitSpecs
 from kitleaf.specs.polarity import Orientation
 from kitleaf.specs.ratings import Stress
 from kitleaf.specs.rules import Finding, RuleContext, check_rules
-from kitleaf.values import parse_value
+from kitleaf.values import format_value, parse_value
 
 _CLAIM = re.compile(r"^(?P<name>[A-Za-z0-9][A-Za-z0-9._-]*)\s+(?:(?P<op>below|above)\s+"
                     r"(?P<limit>.+)|between\s+(?P<low>.+?)\s+and\s+(?P<high>.+))$")
@@ -44,6 +45,7 @@ class Claim:
     name: str
     low: float | None
     high: float | None
+    tone: float | None = None  # hertz: the test tone the claim sets (None: the kit's)
 
 
 @dataclass(frozen=True)
@@ -66,15 +68,12 @@ class Verified:
         return self.computed.label
 
 
-def claim_entries(guide: Guide, kit: KitCircuit) -> list[tuple[str, Entry]]:
-    """Every ``claim:`` line with its scope (``kit`` or the stage id), in document order."""
-    found = [(KIT, e) for e in guide.kit.extra if e.key == "claim"]
-    found += [(s.id, e) for s in kit.stages for e in s.claims]
-    return sorted(found, key=lambda pair: pair[1].span.line)
-
-
-def read_claim(entry: Entry, scope: str, values: Mapping[str, Computed]) -> Claim:
-    match = _CLAIM.match(entry.value.strip())
+def read_claim(entry: Entry, scope: str, values: Mapping[str, Computed],
+               text: ClaimText | None = None) -> Claim:
+    """The claim of ``entry`` (``text``: its words apart from the tone it sets, see
+    specs/claim_tone.py), its name looked up in ``values``."""
+    text = text or ClaimText(entry.value.strip())
+    match = _CLAIM.match(text.text)
     if match is None:
         raise SpecError(f"cannot read the claim {entry.value!r}; write a name and a bound, like "
                         "'gain.level-100 between 22 dB and 28 dB' or 'current below 5 mA'",
@@ -88,7 +87,7 @@ def read_claim(entry: Entry, scope: str, values: Mapping[str, Computed]) -> Clai
         low = read(match["limit"])
     if low is not None and high is not None and low > high:
         raise SpecError(f"claim {entry.value!r}: the lower bound is above the upper", entry.span)
-    return Claim(entry, scope, computed.name, low, high)
+    return Claim(entry, scope, computed.name, low, high, text.tone)
 
 
 def _reader(quantity: str, entry: Entry):
@@ -112,6 +111,20 @@ def _reader(quantity: str, entry: Entry):
             raise SpecError(f"claim {entry.value!r}: {exc.message}", entry.span) from None
 
     return read
+
+
+def tone_values(specs: KitSpecs | None, kit: KitCircuit, tone: float) -> dict[str, Computed]:
+    """The names a claim at its own ``tone`` reads: the kit's, with its large-signal figures
+    those at that tone (none where the kit has no large-signal figures)."""
+    drives = next((t for t in specs.claim_tones if t.freq == tone), None) if specs else None
+    if drives is None:  # the lookup then says that the kit has no large-signal figures
+        return computed_values(specs, kit) if specs else {}
+    by_stage = dict(drives.stages)
+    at_tone = replace(specs, drive=drives.kit, stages=tuple(
+        replace(s, drive=by_stage.get(s.id, s.drive)) for s in specs.stages))
+    words = f", at a {format_value(tone, 'frequency')} test tone"
+    return {n: replace(c, label=c.label + words) for n, c in
+            computed_values(at_tone, kit).items()}
 
 
 def judged_span(value) -> tuple[float, float]:
@@ -149,17 +162,20 @@ def meaningless(claim: Claim, computed: Computed) -> SpecError:
                      "claim", claim.entry.span)
 
 
-def check_claims(guide: Guide, kit: KitCircuit,
-                 values: Mapping[str, Computed]) -> tuple[Verified, ...]:
-    """Every claim of ``guide`` verified; raises every one that does not hold, in one error."""
+def check_claims(guide: Guide, kit: KitCircuit, values: Mapping[str, Computed],
+                 specs: KitSpecs | None = None) -> tuple[Verified, ...]:
+    """Every claim of ``guide`` verified; raises every one that does not hold, in one error.
+    A claim that sets its own test tone reads the figures ``specs`` holds at that tone."""
     verified, failures = [], []
     for scope, entry in claim_entries(guide, kit):
         try:
-            claim = read_claim(entry, scope, values)
+            text = split_tone(entry)
+            at = values if text.tone is None else tone_values(specs, kit, text.tone)
+            claim = read_claim(entry, scope, at, text)
         except SpecError as exc:
             failures.append(exc)
             continue
-        computed = values[claim.name]
+        computed = at[claim.name]
         if computed.unstable is not None:
             failures.append(meaningless(claim, computed))
         elif holds(claim, computed):
@@ -199,7 +215,7 @@ def verify(guide: Guide, kit: KitCircuit, specs: KitSpecs, solved=None) -> Check
     read ``solved`` (the kit's :func:`~kitleaf.specs.derive.solve_kit`, shared with the
     specs) or solve the states they need themselves."""
     values = computed_values(specs, kit)
-    claims = check_claims(guide, kit, values)
+    claims = check_claims(guide, kit, values, specs)
     ctx = RuleContext(guide, kit, specs, solved)
     return Checks(MappingProxyType(values), claims, check_rules(ctx),
                   MappingProxyType(ctx.stresses), MappingProxyType(ctx.orientations))

@@ -20,6 +20,7 @@ from kitleaf.guide.kit_lines import adapter_ripple
 from kitleaf.guide.model import Guide
 from kitleaf.guide.parse import wants_large_signal
 from kitleaf.specs import measures as m
+from kitleaf.specs.claim_tone import claim_entries, claimed_tones
 from kitleaf.specs.drive import (
     LIMITS,
     DrivePlan,
@@ -43,6 +44,7 @@ from kitleaf.specs.model import (
     KnobPoint,
     StageSpecs,
     Supply,
+    ToneDrives,
     Voltage,
 )
 from kitleaf.specs.plotdata import band, curves
@@ -132,7 +134,8 @@ def _located(guide: Guide, kit: KitCircuit):
 def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     base = solved.base
     # the large-signal sweep costs seconds: only for a kit that asks for it
-    driven = Driven(solved, drive_plan(guide.kit)) if wants_large_signal(guide.kit) else None
+    plan = drive_plan(guide.kit)
+    driven = Driven(solved, plan) if wants_large_signal(guide.kit) else None
     stages = tuple(replace(stage_specs(solved, s), drive=driven.stage(s))
                    if driven and kit.kind(s).signal else stage_specs(solved, s)
                    for s in kit.stages)
@@ -168,6 +171,7 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
         samples=SAMPLES, seed=SEED,
         source_loading=source_loading(kit, base),
         drive=driven.kit() if driven else None,
+        claim_tones=claim_drives(guide, solved, plan) if driven else (),
         trims=trims(kit),
         ripple=ripple, hum=None if hum is None else base.range(hum),
         pump_ripples=pump_ripples(solved),
@@ -178,11 +182,23 @@ def _derive(guide: Guide, kit: KitCircuit, solved: SolvedKit) -> KitSpecs:
     )
 
 
+def claim_drives(guide: Guide, solved: SolvedKit, plan: DrivePlan) -> tuple[ToneDrives, ...]:
+    """The large-signal figures at each tone the claims set (specs/claim_tone.py), at the
+    levels they name (the kit's playing levels where they name none)."""
+    kit = solved.kit
+    found = []
+    for tone, levels in claimed_tones(e for _, e in claim_entries(guide, kit)).items():
+        driven = Driven(solved, DrivePlan(levels or plan.playing, tone), bands=False)
+        found.append(ToneDrives(tone, driven.kit(), tuple((s.id, driven.stage(s))
+                                                          for s in kit.signal_stages)))
+    return tuple(found)
+
+
 class Driven:
     """The kit's large-signal sweep: every knob and switch setting the specs show, solved at
-    once."""
+    once; ``bands``: with the tolerance band."""
 
-    def __init__(self, solved: SolvedKit, plan: DrivePlan) -> None:
+    def __init__(self, solved: SolvedKit, plan: DrivePlan, bands: bool = True) -> None:
         self.solved, self.plan = solved, plan
         self.states = [solved.base]
         for control in solved.kit.controls:
@@ -192,8 +208,8 @@ class Driven:
         wanted = self._wanted()
         self.found = {} if self.result is None else drive_limits(
             self.states, self.result, wanted, plan)
-        self.bands = {} if self.result is None else drive_bands(
-            solved.base, sorted({node for _, node in wanted}), plan)
+        self.bands = {} if self.result is None or not bands else drive_bands(
+            self.states, sorted({node for _, node in wanted}), plan)
 
     def _wanted(self) -> set[tuple[int, str]]:
         """(state index, node) of every setting the stages and the kit show."""
@@ -225,20 +241,18 @@ class Driven:
         kit = self.solved.kit
         controls = [c for c in kit.controls if c.stage_id == stage.id]
         node = kit.stage_nodes(stage.id)[1]
-        drive = stage_drive(self.result, self.why, self._settings(controls), node,
-                            self._devices([stage]), self.solved.base.circuit, self.found,
-                            self.plan)
-        return replace(drive, band=self.bands.get(node))
+        return stage_drive(self.result, self.why, self._settings(controls), node,
+                           self._devices([stage]), self.solved.base.circuit, self.found,
+                           self.plan, self.bands)
 
     def kit(self) -> Drive:
         kit = self.solved.kit
         settings = self._settings(kit.controls)
         devices = self._devices(reversed(kit.signal_stages))
         drive = stage_drive(self.result, self.why, settings, OUTPUT, devices,
-                            self.solved.base.circuit, self.found, self.plan)
+                            self.solved.base.circuit, self.found, self.plan, self.bands)
         opamps = tuple(d for d in reversed(devices) if isinstance(d, OpAmp))
-        return replace(drive, rails=rail_touches(self.result, settings, opamps),
-                       band=self.bands.get(OUTPUT))
+        return replace(drive, rails=rail_touches(self.result, settings, opamps))
 
 
 def stated_ripple(guide: Guide) -> tuple[float, float] | None:

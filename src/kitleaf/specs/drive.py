@@ -19,10 +19,10 @@ from kitleaf.engine import elements as el
 from kitleaf.engine.devices.base import VT
 from kitleaf.engine.periodic import PeriodicResult, periodic_steady_state
 from kitleaf.errors import KitleafError
-from kitleaf.guide.kit_lines import playing_levels, test_tone
+from kitleaf.guide.kit_lines import PLAYING_VOLTS, playing_levels, test_tone
 from kitleaf.guide.model import KitBlock
 from kitleaf.specs.drive_limits import first_bracket, refine
-from kitleaf.specs.model import Drive, DrivePoint, DriveSetting
+from kitleaf.specs.model import Drive, DriveBand, DrivePoint, DriveSetting
 
 # Pickup peak levels of the sweep (volts), whatever the playing levels: 300 mV and 1 V are
 # the design rules' own (clips-when-clean, opamp-rail). The playing levels by default: 100 mV,
@@ -36,6 +36,17 @@ POINTS = 96  # per period: harmonics up to the 47th, the first five shown
 CLEAN_THD = 0.01  # 1 %: the clean limit
 DRIVEN_THD = 0.10  # 10 %: where a stage is driven
 CLIPPED_THD = 0.01  # below this at the top level a stage has not met its swing limits
+# Where THD is already past a mark at the sweep's lowest level, the kit is solved again at
+# these levels below it, down to the softest playing level (a weak single coil's softest
+# note): the crossing is then bracketed and solved for as within the sweep, or lies below.
+BELOW_SWEEP = (PLAYING_VOLTS[0], 0.003, 0.01)
+
+
+@dataclass(frozen=True)
+class Below:
+    """A limit whose mark THD is past already at ``level``, the lowest level solved."""
+
+    level: float
 
 
 @dataclass(frozen=True)
@@ -99,11 +110,13 @@ def _sweep(states, nodes: list[str], plan: DrivePlan) -> tuple[PeriodicResult | 
         return None, exc.message
 
 
-def limits(states, result: PeriodicResult, wanted, freq: float) -> dict[tuple, float | None]:
+def limits(states, result: PeriodicResult, wanted, freq: float) -> dict[tuple, object]:
     """The 1 % and 10 % levels of each (state index, node) of ``wanted``, keyed
-    (index, node, threshold): each bracketed on the sweep's grid and solved for
-    (specs/drive_limits.py); pairs whose sweep did not settle are left out."""
-    found, brackets = {}, {}
+    (index, node, threshold): each bracketed on the sweep's grid (extended below it where
+    THD is past the mark at its lowest level) and solved for (specs/drive_limits.py); a
+    :class:`Below` where THD is past the mark even at BELOW_SWEEP[0]. Pairs whose sweep did
+    not settle are left out."""
+    found, brackets, low = {}, {}, {}
     thd_at = {}
     for index, node in wanted:
         if not result.converged[index, :, 0].all():
@@ -112,9 +125,36 @@ def limits(states, result: PeriodicResult, wanted, freq: float) -> dict[tuple, f
             thd_at[node] = result.distortion(node).thd[:, :, 0]
         for threshold in (CLEAN_THD, DRIVEN_THD):
             first = first_bracket(result.levels, thd_at[node][index], threshold)
-            target = brackets if isinstance(first, tuple) else found
+            target = brackets if isinstance(first, tuple) else found if first is None else low
             target[(index, node, threshold)] = first
+    found |= _below_sweep(states, low, float(result.levels[0]),
+                          {key: thd_at[key[1]][key[0]][0] for key in low}, brackets, freq)
     return {**found, **refine(brackets, lambda requests: _thd_at(states, requests, freq))}
+
+
+def _below_sweep(states, low: dict, lowest: float, thd_lowest: dict, brackets: dict,
+                 freq: float) -> dict[tuple, object]:
+    """The keys of ``low`` (THD past the mark at the sweep's ``lowest`` level) solved at
+    BELOW_SWEEP: each crossing found there is added to ``brackets``; the rest, returned,
+    are below BELOW_SWEEP[0] (below ``lowest`` where those levels did not settle)."""
+    if not low:
+        return {}
+    pairs = sorted({(index, node) for index, node, _ in low})
+    thd = _thd_at(states, [((i, n, None), lv) for i, n in pairs for lv in BELOW_SWEEP], freq)
+    levels = (*BELOW_SWEEP, lowest)
+    found = {}
+    for key in low:
+        at = pairs.index(key[:2]) * len(BELOW_SWEEP)
+        curve = [*thd[at:at + len(BELOW_SWEEP)], thd_lowest[key]]
+        if not all(math.isfinite(x) for x in curve):
+            found[key] = Below(lowest)
+            continue
+        first = first_bracket(levels, curve, key[2])
+        if isinstance(first, tuple):
+            brackets[key] = first
+        else:
+            found[key] = Below(levels[0])
+    return found
 
 
 def _thd_at(states, requests: list[tuple[tuple, float]], freq: float) -> list[float]:
@@ -133,9 +173,11 @@ def _thd_at(states, requests: list[tuple[tuple, float]], freq: float) -> list[fl
 
 
 def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
-            devices: tuple, circuit, found: dict, playing: tuple[float, ...]) -> DriveSetting:
+            devices: tuple, circuit, found: dict, playing: tuple[float, ...],
+            band: DriveBand | None = None) -> DriveSetting:
     """The figures at ``node`` of knob setting ``index`` of ``result``; ``found`` holds the
-    1 % and 10 % levels (see :func:`limits`), ``playing`` the levels of its points."""
+    1 % and 10 % levels (see :func:`limits`), ``playing`` the levels of its points, ``band``
+    the setting's tolerance spread."""
     ok = result.converged[index, :, 0]
     if not ok.all():
         level = float(result.levels[int(np.flatnonzero(~ok)[0])])
@@ -148,9 +190,16 @@ def setting(result: PeriodicResult, index: int, positions: tuple, node: str,
     points = tuple(_point(d, wave, index, int(np.flatnonzero(levels == lv)[0]), lv)
                    for lv in playing)
     up, down = _swing(result, d, index, node, devices, circuit)
-    return DriveSetting(positions, found[(index, node, CLEAN_THD)],
-                        found[(index, node, DRIVEN_THD)], points,
-                        tuple(float(x) for x in thd), tuple(float(x) for x in peak), up, down)
+    (clean, clean_below), (driven, driven_below) = (
+        _limit(found[(index, node, t)]) for t in (CLEAN_THD, DRIVEN_THD))
+    return DriveSetting(positions, clean, driven, points, tuple(float(x) for x in thd),
+                        tuple(float(x) for x in peak), up, down, clean_below=clean_below,
+                        driven_below=driven_below, band=band)
+
+
+def _limit(found: float | Below | None) -> tuple[float | None, float | None]:
+    """(the level found, the level it lies below): one of them or neither is set."""
+    return (None, found.level) if isinstance(found, Below) else (found, None)
 
 
 def _point(d, wave: np.ndarray, index: int, i: int, level: float) -> DrivePoint:
@@ -222,14 +271,17 @@ LIMITS = {el.Bjt: _bjt, el.Jfet: _jfet, el.OpAmp: _opamp, el.Diode: _diode}
 
 
 def stage_drive(result: PeriodicResult | None, why: str, indices: list[tuple[int, tuple]],
-                node: str, devices: tuple, circuit, found: dict, plan: DrivePlan) -> Drive:
+                node: str, devices: tuple, circuit, found: dict, plan: DrivePlan,
+                bands: dict | None = None) -> Drive:
     """A stage's (or the kit's, at OUTPUT) figures at each of its knob settings; ``found``
-    holds their 1 % and 10 % levels (see :func:`limits`)."""
+    holds their 1 % and 10 % levels (see :func:`limits`), ``bands`` their tolerance spreads
+    by (state index, node)."""
+    bands = bands or {}
     if result is None:
         settings = tuple(DriveSetting(p, error=why) for _, p in indices)
     else:
-        settings = tuple(setting(result, i, p, node, devices, circuit, found, plan.playing)
-                         for i, p in indices)
+        settings = tuple(setting(result, i, p, node, devices, circuit, found, plan.playing,
+                                 bands.get((i, node))) for i, p in indices)
     return Drive(plan.levels, settings, plan.freq)
 
 

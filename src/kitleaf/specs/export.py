@@ -69,13 +69,16 @@ def _setting(s: DriveSetting) -> dict:
     return {"knobs": {name: pos for name, pos in s.positions}, "computed": not s.error,
             "reason": s.error or None,
             "clean_limit_v_peak": _num(s.clean_limit), "driven_limit_v_peak": _num(s.driven_limit),
+            "clean_limit_below_v_peak": _num(s.clean_below),
+            "driven_limit_below_v_peak": _num(s.driven_below),
             "thd_percent": [_num(x * 100, 4) for x in s.thd],
             "output_peak_v": [_num(x, 4) for x in s.peak],
             "at_levels": [{"level_v_peak": _num(p.level), "thd_percent": _num(p.thd * 100, 4),
                            "output_peak_v": _num(p.peak, 4),
                            "harmonics_v_peak": [_num(a, 4) for a in p.harmonics]}
                           for p in s.points],
-            "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down)}
+            "swing_up": _swing(s.swing_up), "swing_down": _swing(s.swing_down),
+            "tolerance": _drive_band(s.band)}
 
 
 def _dbv(r: Range | None) -> dict | None:

@@ -193,7 +193,8 @@ def lookup(values: Mapping[str, Computed], name: str, span: SourceSpan | None,
     for candidate in candidates(name, scope):
         if candidate in values:
             return values[candidate]
-    why = _level_problem(values, name) or _nearest(values, name, scope)
+    why = (_level_problem(values, name) or _limit_problem(values, name, scope)
+           or _nearest(values, name, scope))
     raise SpecError(f"there is no computed value '{name}'{why}; "
                     "docs/claims-and-rules.md lists the names", span)
 
@@ -202,23 +203,50 @@ _LEVEL_NAME = re.compile(r"(?:^|\.)(?:thd|peak)\.([^.]*)")
 _LEVEL_WORD = re.compile(r"^([-+]?\d+(?:\.\d*)?(?:e[-+]?\d+)?)(mv|v)$")
 
 
-def _level_problem(values: Mapping[str, Computed], name: str) -> str:
-    """Why a THD or peak name at a pickup level has no value: the level cannot be
-    simulated, the kit does not play it, or it has no large-signal figures."""
+def named_level(name: str) -> tuple[str, float] | None:
+    """The pickup level a THD or peak name is at, as written and in volts:
+    ``kit.thd.300mv`` -> ("300mv", 0.3); None for another name."""
     found = _LEVEL_NAME.search(name.strip().lower())
     word = _LEVEL_WORD.match(found[1]) if found else None
     if word is None:
+        return None
+    return found[1], float(word[1]) * (1e-3 if word[2] == "mv" else 1.0)
+
+
+def _level_problem(values: Mapping[str, Computed], name: str) -> str:
+    """Why a THD or peak name at a pickup level has no value: the level cannot be
+    simulated, the kit does not play it, or it has no large-signal figures."""
+    level = named_level(name)
+    if level is None:
         return ""
-    volts = float(word[1]) * (1e-3 if word[2] == "mv" else 1.0)
+    word, volts = level
     low, high = PLAYING_VOLTS
     if not low <= volts <= high:
-        return (f": {found[1]} is no pickup level that can be simulated (levels run from "
+        return (f": {word} is no pickup level that can be simulated (levels run from "
                 f"{format_value(low, 'voltage')} to {format_value(high, 'voltage')} peak)")
     if not any(".thd." in n for n in values):
         return (": large-signal figures are computed only for a kit whose kit block says "
                 "'large-signal: yes'")
-    return (f": {found[1]} is not one of the kit's playing levels; list it in the kit "
+    return (f": {word} is not one of the kit's playing levels; list it in the kit "
             "block's 'playing-levels:' line")
+
+
+_LIMIT = re.compile(r"^(.*?)(?:clean|drive)-limit(.*)$")
+
+
+def _limit_problem(values: Mapping[str, Computed], name: str, scope: str | None) -> str:
+    """Why a clean or drive limit of a setting that has large-signal figures has no value:
+    THD does not reach its mark within the levels solved there."""
+    for candidate in candidates(name, scope):
+        found = _LIMIT.match(candidate)
+        if found is None:
+            continue
+        setting = re.compile(re.escape(found[1]) + r"thd\.[^.]+" + re.escape(found[2]) + "$")
+        if any(setting.match(n) for n in values):
+            return (": THD does not reach its mark within the levels solved at that setting "
+                    "(the page says whether the limit lies below the softest level solved or "
+                    "above the loudest)")
+    return ""
 
 
 def _nearest(values: Mapping[str, Computed], name: str, scope: str | None) -> str:

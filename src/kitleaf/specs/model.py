@@ -160,11 +160,26 @@ class DrivePoint:
 
 
 @dataclass(frozen=True)
+class DriveBand:
+    """The spread of the large-signal figures over part-tolerance samples at one knob
+    setting: 5th and 95th percentiles of THD and of the output's peak at each sweep level,
+    over the ``samples`` builds whose periodic solve settled (specs/drive_band.py)."""
+
+    samples: int
+    thd_low: tuple[float, ...]
+    thd_high: tuple[float, ...]
+    peak_low: tuple[float, ...]
+    peak_high: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class DriveSetting:
     """Large-signal figures at one knob setting (``positions`` empty: every knob at half).
 
     ``clean_limit`` and ``driven_limit`` are the pickup peak levels where THD first reaches
-    1 % and 10 % going up (None: not within the sweep); ``thd`` and ``peak`` follow
+    1 % and 10 % going up (None: not within the sweep); where THD is past the mark already
+    at the lowest level solved, that level is ``clean_below`` or ``driven_below`` instead
+    (the limit lies below it); ``thd`` and ``peak`` follow
     ``Drive.levels``; ``swing_up`` and ``swing_down`` are (volts, the part that sets them)
     above and below the output's mean at the top level, None while the output is still
     clean there. ``error`` says why the figures were not computed (then all are empty)."""
@@ -178,19 +193,9 @@ class DriveSetting:
     swing_up: tuple[float, str] | None = None
     swing_down: tuple[float, str] | None = None
     error: str = ""
-
-
-@dataclass(frozen=True)
-class DriveBand:
-    """The spread of the large-signal figures over part-tolerance samples, knobs at half
-    way: 5th and 95th percentiles of THD and of the output's peak at each sweep level, over
-    the ``samples`` builds whose periodic solve settled."""
-
-    samples: int
-    thd_low: tuple[float, ...]
-    thd_high: tuple[float, ...]
-    peak_low: tuple[float, ...]
-    peak_high: tuple[float, ...]
+    clean_below: float | None = None
+    driven_below: float | None = None
+    band: DriveBand | None = None  # the tolerance spread (None: not computed)
 
 
 @dataclass(frozen=True)
@@ -202,12 +207,24 @@ class Drive:
     freq: float = 1000.0
     # (op-amp, knob setting) pairs whose output reaches its swing limit at 1 V pickup peak
     rails: tuple[tuple[str, tuple[tuple[str, float], ...]], ...] = ()
-    # the tolerance spread, knobs at half way (None when it could not be computed)
-    band: DriveBand | None = None
-
     @property
     def base(self) -> DriveSetting:
         return self.settings[0]
+
+    @property
+    def band(self) -> DriveBand | None:
+        """The tolerance spread with the knobs at half way (None: not computed)."""
+        return self.base.band
+
+
+@dataclass(frozen=True)
+class ToneDrives:
+    """The large-signal figures at a test tone a claim sets (specs/claim_tone.py): the
+    kit's, and each signal stage's by its id; nominal parts, no tolerance band."""
+
+    freq: float
+    kit: Drive
+    stages: tuple[tuple[str, Drive], ...]
 
 
 @dataclass(frozen=True)
@@ -281,6 +298,8 @@ class KitSpecs:
     samples: int = 0
     seed: int = 0
     drive: Drive | None = None
+    # The large-signal figures at each test tone the claims set, for those claims alone.
+    claim_tones: tuple[ToneDrives, ...] = ()
     # The gain (nominal parts) with the knobs together at the ends of their travel:
     # specs/knob_ends.py says which combinations.
     knob_ends: tuple[KnobPoint, ...] = ()

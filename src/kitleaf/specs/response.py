@@ -208,7 +208,9 @@ def _crossings(response, mags: np.ndarray, target: np.ndarray, start: np.ndarray
     for _ in range(FALSE_POSITION_STEPS):
         if np.all(~found | (np.minimum(np.abs(g_in), np.abs(g_out)) < SETTLED)):
             break
-        span = g_in - g_out
+        # a column without a crossing is solved at its bracket's middle (its ends' values
+        # there are not a bracket: they could put the step anywhere, past any frequency)
+        span = np.where(found, g_in - g_out, 0.0)
         x = np.where(span > 0, (inner * -g_out + outer * g_in) / np.where(span > 0, span, 1.0),
                      (inner + outer) / 2.0)
         g = np.log(np.maximum(np.abs(response(np.exp(x))), 1e-300)) - log_target

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kitleaf.engine import BatchResult, PoleResidue, solve_batch
-from kitleaf.engine.batch import share_operating_point
+from kitleaf.engine.batch import nominal_variants, share_operating_point
 from kitleaf.engine.blocks import BlockResponse
 from kitleaf.specs.model import SAMPLES, SEED
 
@@ -146,3 +146,14 @@ def solve_alike(circuit, like: Batch) -> Batch:
     if like.index is not None:
         raise ValueError("an operating point is shared by a whole batch only")
     return Batch(share_operating_point(like.system, circuit))
+
+
+def solve_variants(like: Batch, scale: np.ndarray) -> Batch:
+    """``like``, a nominal batch, as variants of its circuit: each with its parts multiplied by
+    its row of ``scale`` (variants, elements), all at ``like``'s operating point.
+
+    Exact only when the scaled parts carry no DC current (capacitors). The caller checks that.
+    """
+    if like.index is not None:
+        raise ValueError("an operating point is shared by a whole batch only")
+    return Batch(nominal_variants(like.system, scale))

@@ -36,8 +36,11 @@ _cache_folder()
 import numba  # noqa: E402 (its cache folder is read at import)
 
 # Compiled once and cached on disk; no fast-math, so every result rounds as the plain
-# arithmetic it spells (the same bytes on every run)
-kernel = numba.njit(cache=True, nogil=True, error_model="numpy")
-# A kernel handed the device tuples (dozens of arrays): inlined into its caller, since every
-# call would count each array's references in and out again
-inlined = numba.njit(cache=True, nogil=True, error_model="numpy", inline="always")
+# arithmetic it spells (the same bytes on every run). Without numba's runtime (_nrt): a
+# kernel allocates nothing (its callers hand it every array), so no array's references are
+# counted either, an atomic add and subtract on every view taken and every array passed,
+# which cost the steps as much as their arithmetic
+kernel = numba.njit(cache=True, nogil=True, error_model="numpy", _nrt=False)
+# A kernel handed the device tuples (dozens of arrays): inlined into its caller
+inlined = numba.njit(cache=True, nogil=True, error_model="numpy", inline="always",
+                     _nrt=False)

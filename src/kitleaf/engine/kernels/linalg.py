@@ -60,3 +60,22 @@ def matvec(a, x, out):
         for j in range(a.shape[1]):
             acc += a[i, j] * x[j]
         out[i] = acc
+
+
+# Array assignments written out: ``a[...] = b`` brings in numba's runtime for the copy it
+# makes when the two overlap, and the kernels run without it
+
+
+@kernel
+def copy_into(src, dst):
+    """dst[:] = src, vectors."""
+    for i in range(src.shape[0]):
+        dst[i] = src[i]
+
+
+@kernel
+def copy_matrix(src, dst):
+    """dst[:, :] = src, matrices."""
+    for i in range(src.shape[0]):
+        for j in range(src.shape[1]):
+            dst[i, j] = src[i, j]

@@ -8,6 +8,7 @@ import math
 from kitleaf.engine.devices import opamp as ref
 from kitleaf.engine.kernels import kernel
 from kitleaf.engine.kernels.junction import THERMAL
+from kitleaf.engine.kernels.linalg import copy_matrix
 
 KEYS = ("SWING_LO", "SWING_HI", "ROUT", "ILIM", "IQ", "AOL", "GBW", "SR")  # the rows of ``p``
 SWING_LO, SWING_HI, ROUT, ILIM, IQ, AOL, GBW, SR = range(len(KEYS))
@@ -118,7 +119,7 @@ def _limit_gain(u_new, u_old):
 def limit(vnew, vold, p, out):
     """The input stage moves at most its linear range per step off it; the gain node keeps
     off the tanh's flat (devices/opamp.OpAmpBank.limit)."""
-    out[:] = vnew
+    copy_matrix(vnew, out)
     for d in range(vnew.shape[1]):
         reach = _slew_current(p, d) * R1 / p[AOL, d]
         step = vnew[4, d] - vold[4, d]

@@ -98,10 +98,12 @@ def run(mem: Members, st: StepState, drive: np.ndarray, h: float,
     solved = np.zeros((steps, count, t) if keep else (0, 1, 1))
     moves = np.zeros((steps, count, t, k) if keep else (0, 1, 1, 1))
     guesses = np.zeros((0, 1, 1)) if trail is None else owned(trail, float)
+    space = period.workspace(count, t, st.q[0].shape[1], k, pairs.shape[1],
+                             st.xe[0].shape[1], waves.shape[1])
     period.run(linear(mem.linear), owned(drive, float), bdf2(h),
                owned(mem.vf, float), pairs, mem.node_count,
                families(mem.devices), state, guesses, waves, solved, moves,
-               settings(reduced_steps))
+               settings(reduced_steps), space)
     _store(mem.devices, st, state)
     return waves, solved, moves
 

@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from kitleaf.engine.kernels import kernel
-from kitleaf.engine.kernels.linalg import lu_solve, matvec
+from kitleaf.engine.kernels.linalg import copy_into, copy_matrix, lu_solve, matvec
 from kitleaf.engine.kernels.steps import _cap_stamps, extend, step_caps, step_newton
 
 
@@ -86,20 +86,24 @@ def _port_sensitivities(q_mat, k_mat, sx, du, sq):
             sq[i, col] = s
 
 
+def workspace(members: int, t: int, m: int, k: int, caps: int, extended: int,
+              outputs: int) -> tuple:
+    """``run``'s scratch arrays (the kernels allocate nothing): per capacitance, per port,
+    per kept row, the Jacobians and Newton's work space (see steps.newton)."""
+    return (np.zeros(caps), np.zeros(caps), np.zeros(m), np.zeros((m, k)), np.zeros(t),
+            np.zeros(t), np.zeros((k, t)), np.zeros((m, k)), np.zeros(m), np.zeros(outputs),
+            np.zeros((t, t)), (np.zeros(extended), np.zeros(t), np.zeros((t, t)),
+                               np.zeros(t, np.int64), np.zeros(t), np.ones(1, np.bool_)))
+
+
 @kernel
 def run(lin, drive, weights, vf, pairs, nodes, fam, st, trail, waves, solved, moves,
-        newton_set):
+        newton_set, space):
     a_red, h_mat, z, q_mat, y, k_mat, d, out_t, out, out_u = lin
     x_t, xe, q, sens, sens_x, vstar, failed = st
     c0, c1, c2 = weights
-    members, t, m, k = x_t.shape[1], x_t.shape[2], q.shape[2], sens.shape[3]
-    caps, cap_hist = np.zeros(pairs.shape[1]), np.zeros(pairs.shape[1])
-    u, du, rhs, guess = np.zeros(m), np.zeros((m, k)), np.zeros(t), np.zeros(t)
-    sx, sq, q_new, wave = np.zeros((k, t)), np.zeros((m, k)), np.zeros(m), np.zeros(
-        waves.shape[1])
-    jac_base = np.zeros((t, t))
-    work = (np.zeros(xe.shape[2]), np.zeros(t), np.zeros((t, t)), np.zeros(t, np.int64),
-            np.zeros(t), np.ones(1, np.bool_))
+    members, t = x_t.shape[1], x_t.shape[2]
+    caps, cap_hist, u, du, rhs, guess, sx, sq, q_new, wave, jac_base, work = space
     for b in range(members):
         mine = (vstar[0][b], vstar[1][b], vstar[2][b], vstar[3][b])
         for s in range(drive.shape[1]):
@@ -110,26 +114,43 @@ def run(lin, drive, weights, vf, pairs, nodes, fam, st, trail, waves, solved, mo
                 rhs[i] = z[b, 0, i] + a * z[b, 1, i] - rhs[i]
             _guess(x_t, trail, s, b, guess)
             step_caps(fam, b, xe[0, b], xe[1, b], pairs, c1, c2, caps, cap_hist)
-            jac_base[:, :] = a_red[b]
+            copy_matrix(a_red[b], jac_base)
             _cap_stamps(caps, pairs, c0, jac_base)
             eq = (jac_base, rhs, caps, cap_hist, c0, a, vf, pairs, nodes)
             x = guess
             settled = step_newton(a_red[b], eq, fam, b, mine, x, x_t[0, b], xe[0, b],
-                                     work, failed[b], newton_set)
+                                  work, failed[b], newton_set)
             _sensitivities(h_mat[b], du, caps, pairs, c1, c2, sens_x, b, work[2], work[3],
                            work[5][0], sx)
             _linear_form(q_mat[b], y[b], k_mat[b], x, u, a, q_new)
             _port_sensitivities(q_mat[b], k_mat[b], sx, du, sq)
             failed[b] |= not settled
-            x_t[2, b], x_t[1, b], x_t[0, b] = x_t[1, b], x_t[0, b], x
-            xe[1, b] = xe[0, b]
+            _push(x_t, b, x)
+            _push(xe, b, xe[0, b])
             extend(x, a, vf, xe[0, b])
-            q[1, b], q[0, b] = q[0, b], q_new
-            sens[1, b], sens[0, b] = sens[0, b], sq
-            sens_x[1, b], sens_x[0, b] = sens_x[0, b], sx.T
+            _push(q, b, q_new)
+            _push_matrix(sens, b, sq)
+            _push_matrix(sens_x, b, sx.T)
             _linear_form(out_t[b], out[b], out_u[b], x, u, a, wave)
-            waves[b, :, s] = wave
+            for o in range(wave.shape[0]):
+                waves[b, o, s] = wave[o]
             if solved.shape[0]:
-                solved[s, b] = x
+                copy_into(x, solved[s, b])
             if moves.shape[0]:
-                moves[s, b] = sx.T
+                copy_matrix(sx.T, moves[s, b])
+
+
+@kernel
+def _push(history, b, newest):
+    """Member ``b``'s history (vectors) one step on (newest first), ``newest`` in front."""
+    for age in range(history.shape[0] - 1, 0, -1):
+        copy_into(history[age - 1, b], history[age, b])
+    copy_into(newest, history[0, b])
+
+
+@kernel
+def _push_matrix(history, b, newest):
+    """``_push`` for a history of matrices."""
+    for age in range(history.shape[0] - 1, 0, -1):
+        copy_matrix(history[age - 1, b], history[age, b])
+    copy_matrix(newest, history[0, b])

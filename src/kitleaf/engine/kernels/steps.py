@@ -16,7 +16,13 @@ import numpy as np
 
 from kitleaf.engine.kernels import inlined, kernel
 from kitleaf.engine.kernels.devices import cap_values, junctions, linearise
-from kitleaf.engine.kernels.linalg import lu_factor, lu_solve, matvec
+from kitleaf.engine.kernels.linalg import (
+    copy_into,
+    copy_matrix,
+    lu_factor,
+    lu_solve,
+    matvec,
+)
 
 
 def settings(steps) -> tuple:
@@ -32,7 +38,7 @@ def settings(steps) -> tuple:
 def extend(x, a, vf, xe):
     """[x_T, ground, v_F] with the drive at ``a``."""
     t = x.shape[0]
-    xe[:t] = x
+    copy_into(x, xe)
     xe[t] = 0.0
     for i in range(vf.shape[1]):
         xe[t + 1 + i] = vf[0, i] + a * vf[1, i]
@@ -82,14 +88,17 @@ def newton(a_red, eq, fam, member, vstar, x, work, damp_after, limit, failed, to
         for i in range(t):
             residual[i] -= rhs[i]
         _cap_currents(caps, pairs, c0, cap_hist, xe, residual)
-        jac[:, :] = jac_base
+        copy_matrix(jac_base, jac)
         limited = linearise(fam, member, xe, vstar, residual, jac)
         factored[0] = lu_factor(jac, piv)
         for i in range(t):
             dx[i] = -residual[i]
         lu_solve(jac, piv, factored[0], dx)
         if iteration >= damp_after:  # a cycle (a saturated stage's Newton): walk out
-            biggest = np.max(np.abs(dx))
+            biggest = 0.0  # np.max(np.abs(dx)), NaN when one is
+            for i in range(t):
+                if abs(dx[i]) > biggest or np.isnan(dx[i]):
+                    biggest = abs(dx[i])
             scale = min(1.0, damp_step / biggest)
             for i in range(t):
                 dx[i] *= scale
@@ -118,7 +127,7 @@ def step_newton(a_red, eq, fam, member, vstar, guess, last, xe_last, work, faile
         if settled or failed:
             break
         _reset(fam, xe_last, vstar)
-        x[:] = last
+        copy_into(last, x)
         settled = newton(a_red, eq, fam, member, vstar, x, work, retry_damp, retry_limit,
                          failed, tolerances)
     return settled
