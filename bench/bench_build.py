@@ -83,14 +83,30 @@ def with_reference(text: str) -> str:
     return FENCE.sub(add, text)
 
 
+SWITCH_PART = re.compile(r"^[a-z-]+: S(\d+) ", re.M)
+SWITCH_LINE = re.compile(r"^switch: (.+?) = S(\d+): (.+)$", re.M)
+
+
+def switch_lines(block: str, donor: str, offset: int) -> str:
+    """The donor kit's ``switch:`` line of each switch in ``block``, renumbered by
+    ``offset`` and its name suffixed (a guide names every switch on its board)."""
+    named = {m[2]: m for m in SWITCH_LINE.finditer(donor)}
+    lines = [f"switch: {named[n][1]} {offset} = S{int(n) + offset}: {named[n][3]}\n"
+             for n in SWITCH_PART.findall(block) if n in named]
+    return "".join(lines)
+
+
 def four_stage_guide(base: str, donors: list[str], number: int, rng: random.Random) -> str:
     """A demo guide grown to four stages from the others' signal stages, values varied."""
     text = with_reference(base)
-    spares = [(sid, block) for d in donors for sid, block in stage_blocks(d) if sid != "power"]
+    spares = [(sid, block, d) for d in donors for sid, block in stage_blocks(d)
+              if sid != "power"]
     k = 1
     while len(stage_blocks(text)) < STAGES:
-        sid, block = spares[(number + k) % len(spares)]
+        sid, block, donor = spares[(number + k) % len(spares)]
         text += "\n" + renumbered(block, sid, 100 * k)
+        extra = switch_lines(block, donor, 100 * k)
+        text = text.replace("\n```\n", f"\n{extra}```\n", 1) if extra else text
         k += 1
     text = re.sub(r"^code: (\S+)", lambda m: f"code: {m[1]}-{number:03d}", text, count=1,
                   flags=re.M)
@@ -227,6 +243,7 @@ def main() -> int:
 
 def run(root: Path, count: int, jobs: int, large_signal: str | None = None) -> None:
     guides, out = make_site(root, count, large_signal), root / "published"
+    load = os.getloadavg()
     with TreeMemory() as memory:
         cold, report = timed(build_site, guides, out, jobs=jobs)
     same, again = timed(build_site, guides, out, jobs=jobs)
@@ -235,7 +252,10 @@ def run(root: Path, count: int, jobs: int, large_signal: str | None = None) -> N
     cli, cli_summary = cli_run(guides, out)
     print(f"{count} guides of {STAGES} stages, {report.files} files, {jobs} process(es)")
     print(f"{'':24}{'measured':>12}{'target':>12}")
-    print(f"{'cold build':24}{cold:>10.2f} s{'<= 30 s':>12}")
+    # the large-signal sweeps on every guide are given half again the plain build's time
+    target = "<= 45 s" if large_signal == "yes" else "<= 30 s"
+    print(f"{'cold build':24}{cold:>10.2f} s{target:>12}   (load average before: {load[0]:.1f}, "
+          f"after: {os.getloadavg()[0]:.1f})")
     print(f"{'no-change rebuild':24}{same:>10.3f} s{'<= 1 s':>12}"
           f"   ({again.rebuilt} guides rebuilt, {len(again.written)} files written)")
     print(f"{'  same, through the CLI':24}{cli:>10.2f} s{'':>12}   {cli_summary}")

@@ -15,12 +15,14 @@ from kitleaf.circuit.build import build_circuit
 from kitleaf.circuit.chain import OUTPUT, SOURCE
 from kitleaf.display import level_text
 from kitleaf.engine.periodic import periodic_steady_state
+from kitleaf.errors import SpecError
 from kitleaf.guide.kit_lines import PLAYING_VOLTS
 from kitleaf.guide.parse import parse_guide
 from kitleaf.render.environment import make_environment, theme_dirs
 from kitleaf.render.plot_specs import drive_picture
 from kitleaf.render.specs_text import specs_to_text
 from kitleaf.specs import drive_limits
+from kitleaf.specs.claims import verify
 from kitleaf.specs.derive import SolvedKit, derive_specs
 from kitleaf.specs.drive import GRID as LEVELS
 from kitleaf.specs.drive_band import BAND_SAMPLES
@@ -210,6 +212,10 @@ class TestBelowTheSweep:
         text = specs_to_text(specs)
         assert "clean up to        below 1 mV pickup peak" in text
         assert "driven from        below 1 mV pickup peak" in text
+        guide = parse_guide("early.md", early_clipper("100R").replace(
+            "large-signal: yes", "large-signal: yes\nclaim: clean-limit above 1 mV"))
+        with pytest.raises(SpecError, match="does not reach its mark within the levels solved"):
+            verify(guide, kit, specs)
         rows = make_environment(theme_dirs(None)).get_template("_drive_rows.html")
         page = rows.render(sp=specs)
         assert "THD reaches 1 %)</th><td>below 1 mV pickup peak" in page

@@ -33,13 +33,25 @@ def diodes_to_ground() -> Circuit:
     return _series_clipper("diodes to ground", 4.7e3, "1N4148")
 
 
-def feedback_diodes() -> Circuit:
-    """An inverting op-amp stage (gain 10) with two diodes across its feedback resistor."""
-    c = _supplied("diodes across feedback")
+def _feedback_clipper(title: str) -> Circuit:
+    """An inverting op-amp stage (gain 10) with two diodes across its feedback resistor,
+    its output at ``o``."""
+    c = _supplied(title)
     c.capacitor("C1", "in", "a", 220e-9).resistor("RIN", "a", "n", 10e3)
     c.opamp("U1", "ref", "n", "o", "vcc", "0", "TL072").resistor("RF", "o", "n", 100e3)
-    c.diode("D1", "o", "n", "1N4148").diode("D2", "n", "o", "1N4148")
+    return c.diode("D1", "o", "n", "1N4148").diode("D2", "n", "o", "1N4148")
+
+
+def feedback_diodes() -> Circuit:
+    c = _feedback_clipper("diodes across feedback")
     return c.capacitor("C2", "o", "out", 22e-9).resistor("RL", "out", "0", 100e3)
+
+
+def clipped_edge_treble() -> Circuit:
+    """The diodes across feedback into a treble path, 220 pF into 47 kohm: each clipped
+    edge leaves a spike some 10 us wide at ``out``, about a 96th of a period at 1 kHz."""
+    c = _feedback_clipper("clipped edge through a treble path")
+    return c.capacitor("C2", "o", "out", 220e-12).resistor("RL", "out", "0", 47e3)
 
 
 def led_clipper() -> Circuit:

@@ -11,12 +11,11 @@ import numpy as np
 import pytest
 
 from kitleaf.engine import solve_batch
-from kitleaf.engine.harmonics import distortion
 from kitleaf.engine.periodic import periodic_steady_state
 
 from .large_signal_circuits import CIRCUITS, SETTLE_S
 from .ngspice_run import require_ngspice
-from .ngspice_tran import periodic_wave
+from .ngspice_tran import settled_figures
 
 FREQ = 1000.0
 
@@ -31,7 +30,7 @@ def test_clipping_waveform_matches_ngspice(name):
     assert ours.converged.all(), ours.reasons
     mine = ours.distortion("out")
     for i, level in enumerate(levels):
-        theirs = distortion(periodic_wave(circuit, "VIN", level, FREQ, "out", SETTLE_S))
+        theirs = settled_figures(circuit, "VIN", level, FREQ, "out", SETTLE_S)
         peak, ref_peak = mine.peak[0, i, 0], float(theirs.peak)
         assert peak == pytest.approx(ref_peak, rel=0.02), (level, "peak")
         thd, ref_thd = mine.thd[0, i, 0], float(theirs.thd)

@@ -24,11 +24,10 @@ from tests.engine.ngspice_run import (
     require_ngspice,
     run,
 )
-from tests.engine.ngspice_tran import periodic_wave
+from tests.engine.ngspice_tran import settled_figures
 
 from kitleaf.circuit.chain import GROUND, OUTPUT, SOURCE, KitCircuit, input_meter
 from kitleaf.engine import solve_batch
-from kitleaf.engine.harmonics import distortion
 from kitleaf.engine.periodic import periodic_steady_state
 from kitleaf.engine.spice_export import to_spice
 from kitleaf.specs.measures import SUPPLY as SUPPLY_SOURCE
@@ -172,8 +171,8 @@ def check_large_signal(kit: KitCircuit, positions: dict[str, float], node: str,
     mine = ours.distortion(node)
     for i, level in enumerate(levels):
         # 500 steps a period: the harmonics agree with 4000 steps to 0.01 dB on these kits
-        wave = periodic_wave(circuit, SOURCE, level, freq, node, settle, steps_per_period=500)
-        theirs = distortion(wave)
+        theirs = settled_figures(circuit, SOURCE, level, freq, node, settle,
+                                 steps_per_period=500)
         assert mine.peak[0, i, 0] == pytest.approx(float(theirs.peak), rel=0.02), level
         if theirs.thd >= 1e-3:
             assert mine.thd[0, i, 0] == pytest.approx(float(theirs.thd), rel=0.05), level

@@ -150,17 +150,11 @@ def test_the_page_and_the_plot_show_the_scoop(tmp_path):
     assert "the dotted vertical marks the mid scoop" in page and "−3 dB corners" not in page
 
 
-# The engine's fixed steps (96 a period, 192 where a wave turns sharp corners) cannot
-# follow the spike a hard-clipped edge leaves through a treble or high-pass path (some 10 us
-# wide): its harmonics and THD agree with ngspice, but the output peak comes out low. With
-# finer steps it converges on ngspice's (the high-pass end at 100 mV: 0.6277 V at 96 steps,
-# 0.6540 V from ngspice).
+# The spike a hard-clipped edge leaves through the high-pass path (some 10 us wide) falls
+# between the period's fixed steps: the engine steps its top again finely
+# (engine/extremes.py).
 @pytest.mark.slow
-@pytest.mark.parametrize("setting", [0.0, pytest.param(0.5, marks=pytest.mark.xfail(
-    strict=True, reason="output peak 0.1762 V against ngspice's 0.1825 V at 100 mV "
-                        "(-3.5 %)")), pytest.param(1.0, marks=pytest.mark.xfail(
-    strict=True, reason="output peak 0.6277 V against ngspice's 0.6540 V at 100 mV (-4.0 %)"
-                        ", 0.8186 V against 0.8298 V at 300 mV (-1.4 %)"))])
+@pytest.mark.parametrize("setting", [0.0, 0.5, 1.0])
 def test_a_clipped_wave_through_the_blend_agrees_with_ngspice(setting):
     # A passive blend adds no harmonics of its own: fed by a clipping drive at full gain,
     # the low-pass end, the scoop and the high-pass end each weigh the drive's harmonics

@@ -218,15 +218,11 @@ def test_its_table_gives_the_mid_scoop_in_place_of_corners():
                                                specs=specs)
 
 
-# The engine's fixed steps (96 a period, 192 where a wave turns sharp corners) cannot
-# follow the spike a hard-clipped edge leaves through a treble or high-pass path (some 10 us
-# wide): its harmonics and THD agree with ngspice, but the output peak comes out low. With
-# finer steps it converges on ngspice's (the full-treble stack at 300 mV: 0.5272 V at 96
-# steps, 0.5585 V from ngspice).
+# The spike a hard-clipped edge leaves through a treble path (some 10 us wide, full treble)
+# falls between the period's fixed steps: the engine steps its top again finely
+# (engine/extremes.py). The full-treble stack at 300 mV peaks at 0.6042 V in ngspice.
 @pytest.mark.slow
-@pytest.mark.parametrize("setting", [0.0, 0.5, pytest.param(1.0, marks=pytest.mark.xfail(
-    strict=True, reason="output peak 0.3756 V against ngspice's 0.4168 V at 100 mV (-9.9 %)"
-                        ", 0.5272 V against 0.5585 V at 300 mV (-5.6 %)"))])
+@pytest.mark.parametrize("setting", [0.0, 0.5, 1.0])
 def test_a_clipped_wave_through_the_stack_agrees_with_ngspice(setting):
     # A passive stack adds no harmonics of its own: fed by a clipping drive at full gain,
     # each knob setting weighs the drive's harmonics its own way (treble and mid with the

@@ -19,10 +19,19 @@ import numpy as np
 
 from kitleaf.engine import elements as el
 from kitleaf.engine.batch import BatchResult
+from kitleaf.engine.extremes import FINEST, Extremes, resolve, sampled, with_ports
 from kitleaf.engine.harmonics import Distortion, distortion
 from kitleaf.engine.newton import extend
 from kitleaf.engine.reduce import partition
-from kitleaf.engine.reduced_shooting import member_levels, members, shoot, start_at
+from kitleaf.engine.reduced_shooting import (
+    linear_at,
+    member_levels,
+    member_order,
+    members,
+    shoot,
+    start_at,
+)
+from kitleaf.engine.reduced_steps import Members
 from kitleaf.engine.stepper import Drive, History, advance
 from kitleaf.errors import SolveError
 
@@ -61,6 +70,8 @@ class PeriodicResult:
     passes: int = 0
     refined: np.ndarray = field(default_factory=lambda: np.zeros(0, int), repr=False)
     fine: dict[str, np.ndarray] = field(default_factory=dict, repr=False)
+    extremes: dict[str, np.ndarray] = field(default_factory=dict, repr=False)
+    unresolved: np.ndarray | None = field(default=None, repr=False)
 
     def wave(self, node: str) -> np.ndarray:
         if node == el.GROUND:
@@ -71,6 +82,14 @@ class PeriodicResult:
             raise SolveError(f"no waveform was kept for node {node!r}") from None
 
     def distortion(self, node: str, harmonics: int = 5) -> Distortion:
+        """The figures of ``node``'s waves, their peaks from its extremes."""
+        found = self._sampled(node, harmonics)
+        if node not in self.extremes:
+            return found
+        top, bottom = np.moveaxis(self.extremes[node], -1, 0)
+        return replace(found, peak_pos=top - found.mean, peak_neg=found.mean - bottom)
+
+    def _sampled(self, node: str, harmonics: int) -> Distortion:
         coarse = distortion(self.wave(node), harmonics)
         if not self.refined.size:
             return coarse
@@ -128,27 +147,39 @@ def periodic_steady_state(batches: Sequence[BatchResult], source: str, levels: S
         raise SolveError("the variants of a drive sweep must share one circuit's unknowns")
     rows = [batches[0].row(n) for n in nodes]
     shape = (len(batches), levels_arr.shape[-1], batches[0].size)
-    waves, ok, reasons, passes, (refined, fine) = _solve(batches, source, levels_arr, freq,
-                                                         rows, points)
+    waves, ok, reasons, passes, (refined, fine), found = _solve(batches, source, levels_arr,
+                                                                freq, rows, points)
     out = {n: waves[:, i].reshape(*shape, points) for i, n in enumerate(nodes)}
+    extremes = {n: np.stack([found.top[:, i], found.bottom[:, i]], axis=-1).reshape(*shape, 2)
+                for i, n in enumerate(nodes)}
     return PeriodicResult(freq, levels_arr, out, ok.reshape(shape), reasons.reshape(shape),
-                          passes, refined, {n: fine[:, i] for i, n in enumerate(nodes)})
+                          passes, refined, {n: fine[:, i] for i, n in enumerate(nodes)},
+                          extremes, found.unresolved.reshape(shape))
 
 
 def _solve(batches: Sequence[BatchResult], source: str, levels: np.ndarray, freq: float,
            rows: list[int | None], points: int):
     """Every member's period at t = 0, T/N, ...; a member whose waves turn corners too sharp
     for N steps (``roughness``) is solved again at REFINE N steps and sampled at the N.
-    Last: the refined members and their fine waves (refined, rows, REFINE N)."""
-    waves, ok, reasons, passes = _solve_at(batches, source, levels, freq, rows, points, None)
+    Last: the refined members and their fine waves (refined, rows, REFINE N), and every
+    member's extremes (from its fine waves where it was refined)."""
+    waves, ok, reasons, passes, extremes_of = _solve_at(batches, source, levels, freq, rows,
+                                                        points, None)
     rough = np.flatnonzero(ok & (roughness(waves) > ROUGH))
+    smooth = np.setdiff1d(np.arange(ok.size), rough)
+    found = sampled(waves).put(smooth, extremes_of(smooth))
     fine = np.zeros((0, len(rows), REFINE * points))
     if rough.size:
-        fine, ok_fine, why, more = _solve_at(batches, source, levels, freq, rows,
-                                             REFINE * points, rough)
+        fine, ok_fine, why, more, fine_extremes = _solve_at(batches, source, levels, freq, rows,
+                                                            REFINE * points, rough)
         waves[rough], ok[rough], reasons[rough] = fine[..., ::REFINE], ok_fine, why
         passes = max(passes, more)
-    return waves, ok, reasons, passes, (rough, fine)
+        found = found.put(rough, fine_extremes(np.arange(rough.size)))
+    # a peak still moving at the finest steps is not given as if it were known
+    ok &= ~found.unresolved
+    reasons[found.unresolved] = (f"the output's peak did not settle with steps {FINEST} "
+                                 f"times finer around it")
+    return waves, ok, reasons, passes, (rough, fine), found
 
 
 def roughness(waves: np.ndarray) -> np.ndarray:
@@ -165,7 +196,8 @@ def _solve_at(batches: Sequence[BatchResult], source: str, levels: np.ndarray, f
               rows: list[int | None], points: int, only: np.ndarray | None):
     """The periods of the members ``only`` (None: all) by the reduced fixed-step shooting;
     members it does not settle (and circuits it cannot reduce) by the full error-controlled
-    one."""
+    one. Last: a function giving the extremes of some of them (indices into ``only``):
+    stepped again finely where the steps are coarse beside them (``extremes.resolve``)."""
     omega = 2.0 * math.pi * freq
     built = members(batches, source, levels, omega, rows, points)
     if built is None:
@@ -179,15 +211,33 @@ def _solve_at(batches: Sequence[BatchResult], source: str, levels: np.ndarray, f
     # a member gone to NaN or infinity is flagged unsettled by its steps and solved again
     # below; its numbers must not stop the batch on the way
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-        shot = shoot(mem, start, len(rows), points)
-    waves = np.concatenate([shot.waves[..., -1:], shot.waves[..., :-1]], axis=-1)
+        shot = shoot(with_ports(mem), start, len(rows) + start.q.shape[1] // 2, points)
+    history = np.moveaxis(shot.waves[:, len(rows):], -1, 0), shot.last.trail
+    waves = np.concatenate([shot.waves[:, :len(rows), -1:], shot.waves[:, :len(rows), :-1]],
+                           axis=-1)
     ok = shot.done.copy()
     reasons = np.full(ok.size, "", dtype=object)
     redo = np.flatnonzero(~ok)
     if redo.size:
-        w, k, why, _ = _solve_full(batches, source, levels, freq, rows, points, index[redo])
+        w, k, why, _, _ = _solve_full(batches, source, levels, freq, rows, points, index[redo])
         waves[redo], ok[redo], reasons[redo] = w, k, why
-    return waves, ok, reasons.astype(str), shot.passes
+
+    def extremes_of(idx: np.ndarray) -> Extremes:
+        found = sampled(waves[idx])
+        mine = np.flatnonzero(shot.done[idx])  # the members the reduced shooting settled
+        if not mine.size:
+            return found
+        sub = idx[mine]
+        circuits = member_order(len(batches), levels.shape[-1], batches[0].size)[index[sub]]
+
+        def finer(factor: int, which: np.ndarray) -> Members:
+            h = 2.0 * math.pi / omega / (points * factor)
+            return replace(mem.take(sub[which]),
+                           linear=linear_at(batches, source, rows, h, circuits[which]))
+
+        return found.put(mine, resolve(waves[sub], tuple(a[:, sub] for a in history), finer))
+
+    return waves, ok, reasons.astype(str), shot.passes, extremes_of
 
 
 def _solve_full(batches, source, levels, freq, rows, points, only: np.ndarray | None):
@@ -197,7 +247,8 @@ def _solve_full(batches, source, levels, freq, rows, points, only: np.ndarray | 
         drive, x0 = drive.take(only), x0[only]
     cap_a = batches[0].system.cap_columns()[0]
     waves, ok, reasons, passes = _shoot(drive, x0, cap_a, rows, points)
-    return _periodic(waves), ok, reasons, passes
+    waves = _periodic(waves)
+    return waves, ok, reasons, passes, lambda idx: sampled(waves[idx])
 
 
 def _drive(batches: Sequence[BatchResult], source: str, levels: np.ndarray,

@@ -51,16 +51,8 @@ def members(batches: Sequence[BatchResult], source: str, levels: np.ndarray, ome
     samples, count = first.size, levels.shape[-1]
     h = 2.0 * np.pi / omega / steps
     b_dc, e = first.system.rhs()[0], first.excitation(source)
-    linears = []
-    for b in batches:
-        g = b.system.conductances(b.factors)
-        ports = b.system.cap_columns(b.factors)
-        lin = reduce_linear(g, ports, part, b_dc, e, h, rows)
-        linears.append(lin.take(np.zeros(samples, int)) if lin.a_red.shape[0] < samples
-                       else lin)
-    order = _member_order(len(batches), count, samples)
-    joined = Linear(*(np.concatenate([getattr(x, f) for x in linears])[order]
-                      for f in Linear.__dataclass_fields__))
+    order = member_order(len(batches), count, samples)
+    joined = linear_at(batches, source, rows, h, order)
     params_banks = []
     for i, bank in enumerate(banks0):
         params = {k: np.concatenate([np.broadcast_to(
@@ -73,6 +65,27 @@ def members(batches: Sequence[BatchResult], source: str, levels: np.ndarray, ome
     mem = Members(joined, devices, vf, amplitude, omega, part.node_count,
                   cap_incidence(devices, part.keep.size + 1 + part.fixed.size))
     return mem, linear_start(batches, e, amplitude, h, omega, order, len(first.layout.nodes))
+
+
+def linear_at(batches: Sequence[BatchResult], source: str, rows: list[int | None], h: float,
+              circuits: np.ndarray) -> Linear:
+    """The reduced linear forms at step ``h`` of each of ``circuits`` (indices variant x
+    samples + sample; a member's is ``member_order``), each circuit reduced once."""
+    first = batches[0]
+    part, samples = partition(first.system), first.size
+    b_dc, e = first.system.rhs()[0], first.excitation(source)
+    wanted = np.unique(circuits)
+    linears = []
+    for variant in np.unique(wanted // samples):
+        b = batches[variant]
+        g, (p, d) = b.system.conductances(b.factors), b.system.cap_columns(b.factors)
+        own = wanted[wanted // samples == variant] % samples
+        g, d = (a[own] if a.shape[0] == samples else a[np.zeros(own.size, int)]
+                for a in (g, d))
+        linears.append(reduce_linear(g, (p, d), part, b_dc, e, h, rows))
+    where = np.searchsorted(wanted, circuits)
+    return Linear(*(np.concatenate([getattr(x, f) for x in linears])[where]
+                    for f in Linear.__dataclass_fields__))
 
 
 def member_levels(levels: np.ndarray, variants: int, samples: int) -> np.ndarray:
@@ -109,7 +122,7 @@ def linear_start(batches: Sequence[BatchResult], excitation: np.ndarray, amplitu
     return x_dc[None] + np.where(inside[None, :, None], swing, 0.0)
 
 
-def _member_order(variants: int, count: int, samples: int) -> np.ndarray:
+def member_order(variants: int, count: int, samples: int) -> np.ndarray:
     """Member (variant, level, sample) -> its circuit's index (variant, sample)."""
     v, _, s = np.meshgrid(np.arange(variants), np.arange(count), np.arange(samples),
                           indexing="ij")

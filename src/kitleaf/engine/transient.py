@@ -133,7 +133,7 @@ def _run(mem: SampledMembers, st: StepState, x_dc: np.ndarray, first: BatchResul
         stop = min(begin + chunk, total)
         before = _copy(st)
         with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-            waves[:, :, begin:stop] = _steps(mem, st, begin, stop, h)
+            waves[:, :, begin:stop] = run_steps(mem, st, begin, stop, h)
         for b in np.flatnonzero(st.failed & np.isnan(failed_at)):
             k, node = _failure(mem.take(np.array([b])), _copy(before, b), begin, stop, h,
                                first)
@@ -144,7 +144,7 @@ def _run(mem: SampledMembers, st: StepState, x_dc: np.ndarray, first: BatchResul
     return waves - dc[:, :, None], failed_at, where
 
 
-def _steps(mem: SampledMembers, st: StepState, begin: int, stop: int, h: float) -> np.ndarray:
+def run_steps(mem: SampledMembers, st: StepState, begin: int, stop: int, h: float) -> np.ndarray:
     """The kept waves (B, o, stop - begin) of steps ``begin`` .. ``stop`` - 1, ``st`` moved on."""
     compiled = _compiled(mem)
     if compiled is not None:

@@ -193,7 +193,8 @@ def lookup(values: Mapping[str, Computed], name: str, span: SourceSpan | None,
     for candidate in candidates(name, scope):
         if candidate in values:
             return values[candidate]
-    why = _level_problem(values, name) or _nearest(values, name, scope)
+    why = (_level_problem(values, name) or _limit_problem(values, name, scope)
+           or _nearest(values, name, scope))
     raise SpecError(f"there is no computed value '{name}'{why}; "
                     "docs/claims-and-rules.md lists the names", span)
 
@@ -228,6 +229,24 @@ def _level_problem(values: Mapping[str, Computed], name: str) -> str:
                 "'large-signal: yes'")
     return (f": {word} is not one of the kit's playing levels; list it in the kit "
             "block's 'playing-levels:' line")
+
+
+_LIMIT = re.compile(r"^(.*?)(?:clean|drive)-limit(.*)$")
+
+
+def _limit_problem(values: Mapping[str, Computed], name: str, scope: str | None) -> str:
+    """Why a clean or drive limit of a setting that has large-signal figures has no value:
+    THD does not reach its mark within the levels solved there."""
+    for candidate in candidates(name, scope):
+        found = _LIMIT.match(candidate)
+        if found is None:
+            continue
+        setting = re.compile(re.escape(found[1]) + r"thd\.[^.]+" + re.escape(found[2]) + "$")
+        if any(setting.match(n) for n in values):
+            return (": THD does not reach its mark within the levels solved at that setting "
+                    "(the page says whether the limit lies below the softest level solved or "
+                    "above the loudest)")
+    return ""
 
 
 def _nearest(values: Mapping[str, Computed], name: str, scope: str | None) -> str:
